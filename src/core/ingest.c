@@ -1,0 +1,114 @@
+/*
+ * ingest.c - sensor frame to world-frame obstacle points (see ingest.h).
+ *
+ * Order of the transforms: sensor -> robot by the mount pose, robot -> world
+ * by the robot pose. Self hits are judged in the robot frame (distance from
+ * the robot centre), so they do not depend on where the robot is.
+ */
+#include "ingest.h"
+
+void lc_ingest_config_default(lc_ingest_config *cfg)
+{
+    cfg->self_radius = 0.0;
+    cfg->z_min = -INFINITY;
+    cfg->z_max = INFINITY;
+    cfg->range_cap = 0.0;
+}
+
+static int reserve(lc_cloud *c, const lc_alloc *alloc, int n)
+{
+    int cw = c->cap, cr = c->cap, cb = c->cap;
+    if (LC_GROW(alloc, c->world, cw, n) < 0 || LC_GROW(alloc, c->range, cr, n) < 0 ||
+        LC_GROW(alloc, c->bearing, cb, n) < 0)
+        return -1;
+    c->cap = cw < cr ? (cw < cb ? cw : cb) : (cr < cb ? cr : cb);
+    return 0;
+}
+
+/* Keeps p_sensor when it is not a self hit; returns 1 when kept. */
+static int keep(lc_cloud *c, const lc_frame *f, const lc_ingest_config *cfg, lc_vec2 p_sensor,
+                double range, double bearing)
+{
+    lc_vec2 p_robot = lc_pose_apply(f->mount, p_sensor);
+    if (lc_len(p_robot) < cfg->self_radius) {
+        c->dropped_self++;
+        return 0;
+    }
+    c->world[c->n] = lc_pose_apply(f->pose, p_robot);
+    c->range[c->n] = range;
+    c->bearing[c->n] = bearing;
+    c->n++;
+    return 1;
+}
+
+static void ingest_scan(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud *c)
+{
+    for (int i = 0; i < f->n_ranges; i++) {
+        double r = f->ranges[i];
+        double b = f->angle_start + f->angle_step * i;
+        if (!isfinite(r) || !isfinite(b)) {
+            c->dropped_invalid++;
+            continue;
+        }
+        if (r < f->range_min || r > f->range_max) {
+            c->dropped_range++;
+            continue;
+        }
+        keep(c, f, cfg, lc_v2(r * cos(b), r * sin(b)), r, b);
+    }
+    double fov = fabs(f->angle_step) * f->n_ranges;
+    c->fov = fov > 2.0 * LC_PI || !isfinite(fov) ? 2.0 * LC_PI : fov;
+    c->fov_mid = lc_wrap_angle(f->mount.yaw + f->angle_start +
+                               0.5 * f->angle_step * (f->n_ranges - 1));
+}
+
+static void ingest_points(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud *c)
+{
+    for (int i = 0; i < f->n_points; i++) {
+        lc_vec2 p = lc_v2(f->xy[2 * i], f->xy[2 * i + 1]);
+        double z = f->z ? f->z[i] : 0.0;
+        if (!lc_vec2_finite(p) || !isfinite(z)) {
+            c->dropped_invalid++;
+            continue;
+        }
+        if (f->z && (z < cfg->z_min || z > cfg->z_max)) {
+            c->dropped_height++;
+            continue;
+        }
+        double r = lc_len(p);
+        if (cfg->range_cap > 0 && r > cfg->range_cap) {
+            c->dropped_range++;
+            continue;
+        }
+        keep(c, f, cfg, p, r, atan2(p.y, p.x));
+    }
+    c->fov = 2.0 * LC_PI;
+    c->fov_mid = f->mount.yaw;
+}
+
+int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud,
+              const lc_alloc *alloc)
+{
+    int total = frame->kind == LC_FRAME_SCAN ? frame->n_ranges : frame->n_points;
+    cloud->n = 0;
+    cloud->dropped_invalid = cloud->dropped_range = 0;
+    cloud->dropped_self = cloud->dropped_height = 0;
+    cloud->ordered = frame->kind == LC_FRAME_SCAN;
+    cloud->sensor_world = lc_pose_apply(frame->pose, lc_v2(frame->mount.x, frame->mount.y));
+    if (total < 0 || reserve(cloud, alloc, total > 0 ? total : 1) < 0)
+        return -1;
+    if (frame->kind == LC_FRAME_SCAN)
+        ingest_scan(frame, cfg, cloud);
+    else
+        ingest_points(frame, cfg, cloud);
+    return cloud->n;
+}
+
+void lc_cloud_free(lc_cloud *cloud, const lc_alloc *alloc)
+{
+    int c1 = cloud->cap, c2 = cloud->cap;
+    LC_RELEASE(alloc, cloud->world, cloud->cap);
+    LC_RELEASE(alloc, cloud->range, c1);
+    LC_RELEASE(alloc, cloud->bearing, c2);
+    cloud->n = 0;
+}

@@ -1,0 +1,95 @@
+/*
+ * motion.h - setpoints that can always brake inside the region.
+ *
+ * Setpoints are in the robot frame (x forward, y left): (vx, vy) for the
+ * point-mass model, (v, w) for the unicycle. Every setpoint says which
+ * constraint bound it (`limit`), so that "why did it slow down?" has an
+ * answer. The braking deceleration assumed is robot->a_max.
+ */
+#ifndef LC_MOTION_H
+#define LC_MOTION_H
+
+#include "geom.h"
+#include "region.h"
+#include "robot.h"
+
+typedef enum lc_limit {
+    LC_LIMIT_NONE = 0,   /* "none": nothing bound it (zero request) */
+    LC_LIMIT_GOAL,       /* "goal": the proportional term toward the target */
+    LC_LIMIT_TOP_SPEED,  /* "top_speed": v_max */
+    LC_LIMIT_BRAKING,    /* "braking": room to stop inside the region */
+    LC_LIMIT_ACCEL,      /* "accel": a_max dt from the last setpoint */
+    LC_LIMIT_TURNING,    /* "turning": heading error large, turning in place */
+    LC_LIMIT_TURN_RATE,  /* "turn_rate": w_max or dw_max dt */
+    LC_LIMIT_TOO_CLOSE,  /* "too_close": centre inside a grown obstacle */
+    LC_LIMIT_STALE,      /* "stale": no valid frame for the watchdog time */
+    LC_LIMIT_BLOCKED,    /* "blocked": no progress toward the waypoint */
+    LC_LIMIT_ARRIVED,    /* "arrived": within tolerance of the waypoint */
+    LC_LIMIT_IDLE,       /* "idle": no route */
+    LC_LIMIT_COUNT
+} lc_limit;
+
+const char *lc_limit_name(lc_limit limit);
+
+typedef struct lc_setpoint {
+    double vx, vy; /* m/s, point model */
+    double v, w;   /* m/s, rad/s, unicycle */
+    lc_limit limit;
+} lc_setpoint;
+
+typedef struct lc_motion_params {
+    double k_p;           /* 1/s, point model proportional gain (default 1.0) */
+    double k_rho;         /* polar law gains, textbook (3, 8, -1.5) */
+    double k_alpha;
+    double k_beta;
+    double turn_in_place; /* rad, heading error above which v = 0 (default 1.0) */
+    double latency;       /* s the setpoint is held before braking starts: added to
+                             the braking distance as in lc_stopping_distance
+                             (default 0; dt / 2 covers a zero-order hold) */
+} lc_motion_params;
+
+void lc_motion_params_default(lc_motion_params *params);
+
+/* The zero setpoint with the given limit. */
+lc_setpoint lc_setpoint_stop(lc_limit why);
+
+/*
+ * One control step. pose is the robot in the world frame, target_world the
+ * point to head for (inside the region), last the previous setpoint (zero
+ * at rest), dt > 0 the control period. Writes *out; returns 0, or -1 when
+ * an argument is unusable (then *out is a stop).
+ */
+int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
+                    const lc_region *region, lc_pose pose, lc_vec2 target_world,
+                    const lc_setpoint *last, double dt, lc_setpoint *out);
+
+int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
+                       const lc_region *region, lc_pose pose, lc_vec2 target_world,
+                       const lc_setpoint *last, double dt, lc_setpoint *out);
+
+/* Braking distance v^2 / (2 a) plus the distance driven during latency t_r. */
+double lc_stopping_distance(double v, double t_r, double a);
+
+/*
+ * The polar point-stabilisation law (Siegwart, Nourbakhsh, Scaramuzza, 3.6):
+ * v = k_rho rho, w = k_alpha alpha + k_beta beta, before any limit.
+ */
+void lc_motion_polar(const lc_motion_params *params, double rho, double alpha,
+                     double beta, double *v, double *w);
+
+/*
+ * The pose reached after a signed path length s (m, negative backwards) on a
+ * circle of curvature kappa (1/m, 0 straight) from pose. Exact, and
+ * well conditioned for kappa near 0.
+ */
+lc_pose lc_motion_arc(lc_pose pose, double kappa, double s);
+
+/*
+ * The least region margin (lc_region_margin) along that arc, exact:
+ * negative when the arc leaves the region. INFINITY for a region without
+ * halfspaces.
+ */
+double lc_motion_arc_margin(const lc_region *region, lc_pose pose, double kappa,
+                            double s);
+
+#endif

@@ -1,0 +1,33 @@
+/* polyset.c - see polyset.h. */
+#include "polyset.h"
+
+#include <string.h>
+
+int lc_polyset_reserve(lc_polyset *s, const lc_alloc *alloc, int extra)
+{
+    return LC_GROW(alloc, s->v, s->cap_v, s->nv + extra);
+}
+
+int lc_polyset_commit(lc_polyset *s, const lc_alloc *alloc, int n, int src)
+{
+    if (LC_GROW(alloc, s->span, s->cap_p, s->np + 1) < 0)
+        return -1;
+    s->span[s->np++] = (lc_span){s->nv, n, src};
+    s->nv += n;
+    return 0;
+}
+
+int lc_polyset_push(lc_polyset *s, const lc_alloc *alloc, const lc_vec2 *v, int n, int src)
+{
+    if (lc_polyset_reserve(s, alloc, n) < 0)
+        return -1;
+    memcpy(s->v + s->nv, v, sizeof *v * (size_t)n);
+    return lc_polyset_commit(s, alloc, n, src);
+}
+
+void lc_polyset_free(lc_polyset *s, const lc_alloc *alloc)
+{
+    LC_RELEASE(alloc, s->v, s->cap_v);
+    LC_RELEASE(alloc, s->span, s->cap_p);
+    s->nv = s->np = 0;
+}

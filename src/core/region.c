@@ -1,0 +1,589 @@
+/*
+ * region.c - iterative region inflation (Deits and Tedrake, "Computing Large
+ * Convex Regions of Obstacle-Free Space through Semidefinite Programming",
+ * WAFR 2014) in the plane, with lacuna's additions (see region.h).
+ *
+ * Invariants:
+ * - every halfspace has |a| = 1 and keeps every seed (the robot centre, and
+ *   the goal seed when there is one) inside;
+ * - every grown obstacle that does not hold the centre lies outside or on
+ *   the boundary of the region, so every obstacle point is at least
+ *   radius + margin from it;
+ * - a round's lines keep the previous round's ellipse inside, so the
+ *   ellipse area does not decrease; a round that would shrink it (possible
+ *   only when a line had to be moved to keep a seed) is discarded and the
+ *   previous round's region returned.
+ */
+#include "region.h"
+
+#include <string.h>
+
+enum { FLAG_SKIP = 1 };          /* obstacle holds the centre or lies off the window */
+#define SEED_EPS 1e-9            /* m, a seed must be this far inside each line */
+#define FALLBACK_DIRS 180        /* directions tried when a line must keep a seed */
+
+void lc_region_config_default(lc_region_config *cfg)
+{
+    cfg->window = 0.0;
+    cfg->window_max = 10.0;
+    cfg->max_rounds = 6;
+    cfg->area_tol = 0.02;
+    cfg->seed_radius = 0.01;
+    cfg->goal_step = 1.0;
+    cfg->blind_line = true;
+    cfg->points_fov = 2.0 * LC_PI;
+}
+
+static lc_halfspace hs_through(lc_vec2 normal, lc_vec2 p)
+{
+    double l = lc_len(normal);
+    lc_vec2 a = lc_scale(normal, 1.0 / l);
+    return (lc_halfspace){a, lc_dot(a, p)};
+}
+
+int lc_region_blind_lines(lc_vec2 centre, double fov, double view_mid, bool has_waypoint,
+                          lc_vec2 waypoint, lc_halfspace out[2])
+{
+    if (!(fov < 2.0 * LC_PI - 1e-9) || !(fov > 0))
+        return 0;
+    double half = 0.5 * fov;
+    if (fov <= LC_PI) {
+        /* The seen cone is convex: the region stays between its edges. */
+        out[0] = hs_through(lc_unit_angle(view_mid + half + 0.5 * LC_PI), centre);
+        out[1] = hs_through(lc_unit_angle(view_mid - half - 0.5 * LC_PI), centre);
+        return 2;
+    }
+    /* Normals n with n . u >= 0 over the blind cone lie within
+     * (half - pi/2) of the blind axis; the region is n . (p - c) <= 0. */
+    double blind_axis = view_mid + LC_PI, spread = half - 0.5 * LC_PI;
+    double nang = blind_axis;
+    if (has_waypoint && lc_dist(waypoint, centre) > 0) {
+        lc_vec2 g = lc_sub(waypoint, centre);
+        double want = atan2(-g.y, -g.x); /* n = -g leaves the most room toward g */
+        double off = lc_wrap_angle(want - blind_axis);
+        nang = blind_axis + (off > spread ? spread : (off < -spread ? -spread : off));
+    }
+    out[0] = hs_through(lc_unit_angle(nang), centre);
+    return 1;
+}
+
+/* 2x2 symmetric inverse of the ellipse's L. */
+static void l_inverse(const lc_ellipse *e, double inv[3])
+{
+    double det = e->l11 * e->l22 - e->l12 * e->l12;
+    inv[0] = e->l22 / det;
+    inv[1] = -e->l12 / det;
+    inv[2] = e->l11 / det;
+}
+
+static lc_vec2 sym_mul(const double m[3], lc_vec2 p)
+{
+    return lc_v2(m[0] * p.x + m[1] * p.y, m[1] * p.x + m[2] * p.y);
+}
+
+static bool seg_seg_touch(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
+{
+    double d1 = lc_cross(lc_sub(b, a), lc_sub(c, a)), d2 = lc_cross(lc_sub(b, a), lc_sub(d, a));
+    double d3 = lc_cross(lc_sub(d, c), lc_sub(a, c)), d4 = lc_cross(lc_sub(d, c), lc_sub(b, c));
+    if (((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0)))
+        return true;
+    return lc_segment_distance(c, a, b, NULL) == 0 || lc_segment_distance(d, a, b, NULL) == 0 ||
+           lc_segment_distance(a, c, d, NULL) == 0 || lc_segment_distance(b, c, d, NULL) == 0;
+}
+
+/* Distance between the segment [a, b] and the convex polygon v[0..n). */
+static double seg_poly_distance(lc_vec2 a, lc_vec2 b, const lc_vec2 *v, int n)
+{
+    if (lc_convex_contains(v, n, a, 0.0) || lc_convex_contains(v, n, b, 0.0))
+        return 0.0;
+    double best = INFINITY;
+    int edges = n >= 3 ? n : 1;
+    for (int i = 0; i < edges; i++) {
+        lc_vec2 p = v[i], q = v[(i + 1) % n];
+        if (seg_seg_touch(a, b, p, q))
+            return 0.0;
+        double d = fmin(fmin(lc_segment_distance(p, a, b, NULL), lc_segment_distance(q, a, b, NULL)),
+                        fmin(lc_segment_distance(a, p, q, NULL), lc_segment_distance(b, p, q, NULL)));
+        if (d < best)
+            best = d;
+    }
+    return best;
+}
+
+static bool inside_all(const lc_halfspace *h, int n, lc_vec2 p, double eps)
+{
+    for (int i = 0; i < n; i++)
+        if (lc_dot(h[i].a, p) > h[i].b - eps)
+            return false;
+    return true;
+}
+
+/* The obstacle lies outside (or on) one of the lines already placed. */
+static bool excluded(const lc_halfspace *h, int nh, const lc_vec2 *v, int n)
+{
+    for (int k = 0; k < nh; k++) {
+        int i = 0;
+        while (i < n && lc_dot(h[k].a, v[i]) >= h[k].b - 1e-12)
+            i++;
+        if (i == n)
+            return true;
+    }
+    return false;
+}
+
+/* Smallest (support of obstacle) - (support of keep set) along n, i.e. the
+ * separation margin of direction n; the line is n . p <= min over obstacle. */
+static double margin_along(lc_vec2 n, const lc_vec2 *obs, int no, const lc_vec2 *keep, int nk,
+                           double *b)
+{
+    double lo = INFINITY, hi = -INFINITY;
+    for (int i = 0; i < no; i++)
+        lo = fmin(lo, lc_dot(n, obs[i]));
+    for (int i = 0; i < nk; i++)
+        hi = fmax(hi, lc_dot(n, keep[i]));
+    *b = lo;
+    return lo - hi;
+}
+
+/*
+ * A line that keeps every point of keep[] strictly inside and touches the
+ * obstacle from outside, chosen among sampled directions (then refined) for
+ * the largest margin. Returns false when no sampled direction separates.
+ */
+static bool separate(const lc_vec2 *obs, int no, const lc_vec2 *keep, int nk, lc_halfspace *out)
+{
+    double best = -INFINITY, best_ang = 0, b;
+    for (int k = 0; k < FALLBACK_DIRS; k++) {
+        double ang = 2.0 * LC_PI * k / FALLBACK_DIRS;
+        double m = margin_along(lc_unit_angle(ang), obs, no, keep, nk, &b);
+        if (m > best) {
+            best = m;
+            best_ang = ang;
+        }
+    }
+    for (double step = LC_PI / FALLBACK_DIRS; step > 1e-7; step *= 0.5) {
+        for (int s = -1; s <= 1; s += 2) {
+            double m = margin_along(lc_unit_angle(best_ang + s * step), obs, no, keep, nk, &b);
+            if (m > best) {
+                best = m;
+                best_ang += s * step;
+            }
+        }
+    }
+    if (!(best > SEED_EPS))
+        return false;
+    lc_vec2 n = lc_unit_angle(best_ang);
+    margin_along(n, obs, no, keep, nk, &b);
+    *out = (lc_halfspace){n, b};
+    return true;
+}
+
+/* Points of the polygon circumscribed about ellipse e (32 sides), plus seeds. */
+static int keep_set(const lc_ellipse *e, const lc_vec2 *seeds, int ns, lc_vec2 *out, bool with_e)
+{
+    int n = 0;
+    if (with_e) {
+        double grow = 1.0 / cos(LC_PI / 32.0);
+        for (int k = 0; k < 32; k++) {
+            lc_vec2 u = lc_scale(lc_unit_angle(2.0 * LC_PI * (k + 0.5) / 32.0), grow);
+            out[n++] = lc_add(e->d, lc_v2(e->l11 * u.x + e->l12 * u.y, e->l12 * u.x + e->l22 * u.y));
+        }
+    }
+    for (int i = 0; i < ns; i++)
+        out[n++] = seeds[i];
+    return n;
+}
+
+/*
+ * The separating line for one obstacle: tangent to the ellipse's level set
+ * through the obstacle's nearest point in the ellipse metric (the method's
+ * line); when that would cut a seed off, the widest line that keeps the
+ * ellipse (circumscribed) and the seeds, or at least the seeds.
+ */
+static bool obstacle_line(const lc_ellipse *e, const double inv[3], const lc_vec2 *v, int n,
+                          lc_vec2 xstar, const lc_vec2 *seeds, int ns, lc_halfspace *out,
+                          int *fallback)
+{
+    double r = lc_len(xstar);
+    if (r > 0) {
+        lc_vec2 a = sym_mul(inv, lc_scale(xstar, 1.0 / r));
+        double la = lc_len(a);
+        lc_halfspace h = {lc_scale(a, 1.0 / la), (r + lc_dot(a, e->d)) / la};
+        /* Touch the obstacle exactly: its support along a. */
+        double lo = INFINITY;
+        for (int i = 0; i < n; i++)
+            lo = fmin(lo, lc_dot(h.a, v[i]));
+        h.b = fmin(h.b, lo);
+        if (inside_all(&h, 1, seeds[0], SEED_EPS) && (ns < 2 || inside_all(&h, 1, seeds[1], SEED_EPS))) {
+            *out = h;
+            return true;
+        }
+    }
+    lc_vec2 keep[34];
+    (*fallback)++;
+    int nk = keep_set(e, seeds, ns, keep, true);
+    if (separate(v, n, keep, nk, out))
+        return true;
+    nk = keep_set(e, seeds, ns, keep, false);
+    return separate(v, n, keep, nk, out);
+}
+
+/* Sutherland-Hodgman step: clip the CCW polygon (v, own) by h (owner k). */
+static int clip(const lc_vec2 *v, const int *own, int n, lc_halfspace h, int k, lc_vec2 *ov, int *oo)
+{
+    int m = 0;
+    for (int i = 0; i < n; i++) {
+        lc_vec2 p = v[i], q = v[(i + 1) % n];
+        double sp = lc_dot(h.a, p) - h.b, sq = lc_dot(h.a, q) - h.b;
+        if (sp <= 0) {
+            if (sq > 0 && sp < 0) {
+                ov[m] = p;
+                oo[m++] = own[i];
+                ov[m] = lc_lerp(p, q, sp / (sp - sq));
+                oo[m++] = k;
+            } else {
+                ov[m] = p;
+                oo[m++] = sq > 0 ? k : own[i];
+            }
+        } else if (sq < 0) {
+            ov[m] = lc_lerp(p, q, sp / (sp - sq));
+            oo[m++] = own[i];
+        }
+    }
+    return m;
+}
+
+static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_hs, int max_v)
+{
+    if (LC_GROW(alloc, ws->order, ws->cap_order, n_obs + 1) < 0 ||
+        LC_GROW(alloc, ws->dist, ws->cap_dist, n_obs + 1) < 0 ||
+        LC_GROW(alloc, ws->flags, ws->cap_flags, n_obs + 1) < 0 ||
+        LC_GROW(alloc, ws->hs, ws->cap_hs, max_hs) < 0 ||
+        LC_GROW(alloc, ws->hs_src, ws->cap_hs_src, max_hs) < 0 ||
+        LC_GROW(alloc, ws->clip_a, ws->cap_ca, max_v) < 0 ||
+        LC_GROW(alloc, ws->clip_b, ws->cap_cb, max_v) < 0 ||
+        LC_GROW(alloc, ws->own_a, ws->cap_oa, max_v) < 0 ||
+        LC_GROW(alloc, ws->own_b, ws->cap_ob, max_v) < 0 ||
+        LC_GROW(alloc, ws->scratch, ws->cap_scratch, LC_ELLIPSE_SCRATCH(max_hs)) < 0 ||
+        LC_GROW(alloc, ws->lambda, ws->cap_lambda, max_hs) < 0)
+        return -1;
+    return 0;
+}
+
+/* Shell sort of order[0..n) by dist[] (no allocation, unlike some qsorts). */
+static void sort_by_dist(int *order, const double *dist, int n)
+{
+    for (int gap = n / 2; gap > 0; gap /= 2)
+        for (int i = gap; i < n; i++) {
+            int t = order[i], j = i;
+            for (; j >= gap && dist[order[j - gap]] > dist[t]; j -= gap)
+                order[j] = order[j - gap];
+            order[j] = t;
+        }
+}
+
+/* The window clipped by hs[0..nh): vertices into r (non-redundant lines kept). */
+static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc *alloc)
+{
+    lc_vec2 *va = ws->clip_a, *vb = ws->clip_b;
+    int *oa = ws->own_a, *ob = ws->own_b;
+    /* hs[0..4) are the window box, E N W S, so its corners are known. */
+    double xe = ws->hs[0].b, yn = ws->hs[1].b, xw = -ws->hs[2].b, ys = -ws->hs[3].b;
+    lc_vec2 box[4] = {{xe, ys}, {xe, yn}, {xw, yn}, {xw, ys}};
+    int bown[4] = {0, 1, 2, 3};
+    memcpy(va, box, sizeof box);
+    memcpy(oa, bown, sizeof bown);
+    int n = 4;
+    for (int k = 4; k < nh && n > 0; k++) {
+        n = clip(va, oa, n, ws->hs[k], k, vb, ob);
+        lc_vec2 *tv = va; va = vb; vb = tv;
+        int *to = oa; oa = ob; ob = to;
+    }
+    /* Drop repeated vertices and the zero-length edges they make. */
+    int m = 0;
+    for (int i = 0; i < n; i++) {
+        lc_vec2 nxt = va[(i + 1) % n];
+        if (n - (i - m) > 3 && lc_dist(va[i], nxt) < 1e-12)
+            continue;
+        va[m] = va[i];
+        oa[m++] = oa[i];
+    }
+    if (m < 3)
+        return LC_REGION_DEGENERATE;
+    int cv = r->cap_v, ch = r->cap_h, cs = r->cap_src;
+    if (LC_GROW(alloc, r->v, cv, m) < 0 || LC_GROW(alloc, r->h, ch, m) < 0 ||
+        LC_GROW(alloc, r->h_src, cs, m) < 0)
+        return LC_REGION_NO_MEMORY;
+    r->cap_v = cv;
+    r->cap_h = ch;
+    r->cap_src = cs;
+    /* Each edge's line once, in the order the edges go round. */
+    r->nh = 0;
+    for (int i = 0; i < m; i++) {
+        int k = oa[i], dup = 0;
+        for (int j = 0; j < r->nh && !dup; j++)
+            dup = r->h_src[j] == ws->hs_src[k] && r->h[j].b == ws->hs[k].b &&
+                  r->h[j].a.x == ws->hs[k].a.x && r->h[j].a.y == ws->hs[k].a.y;
+        if (!dup) {
+            r->h[r->nh] = ws->hs[k];
+            r->h_src[r->nh++] = ws->hs_src[k];
+        }
+    }
+    memcpy(r->v, va, sizeof *va * (size_t)m);
+    r->nv = m;
+    return LC_REGION_OK;
+}
+
+static lc_ellipse seed_ellipse(const lc_vec2 *seeds, int ns, double eps)
+{
+    if (ns < 2)
+        return (lc_ellipse){eps, 0, eps, seeds[0]};
+    lc_vec2 d = lc_sub(seeds[1], seeds[0]);
+    double h = 0.5 * lc_len(d) + eps, c = d.x / lc_len(d), s = d.y / lc_len(d);
+    /* L = R diag(h, eps) R^T */
+    return (lc_ellipse){h * c * c + eps * s * s, (h - eps) * c * s, h * s * s + eps * c * c,
+                        lc_lerp(seeds[0], seeds[1], 0.5)};
+}
+
+static void copy_region(lc_region *dst, const lc_region *src, const lc_alloc *alloc, int *rc)
+{
+    int cv = dst->cap_v, ch = dst->cap_h, cs = dst->cap_src;
+    if (LC_GROW(alloc, dst->v, cv, src->nv) < 0 || LC_GROW(alloc, dst->h, ch, src->nh) < 0 ||
+        LC_GROW(alloc, dst->h_src, cs, src->nh) < 0) {
+        *rc = LC_REGION_NO_MEMORY;
+        return;
+    }
+    dst->cap_v = cv;
+    dst->cap_h = ch;
+    dst->cap_src = cs;
+    memcpy(dst->v, src->v, sizeof *src->v * (size_t)src->nv);
+    memcpy(dst->h, src->h, sizeof *src->h * (size_t)src->nh);
+    memcpy(dst->h_src, src->h_src, sizeof *src->h_src * (size_t)src->nh);
+    dst->nv = src->nv;
+    dst->nh = src->nh;
+    dst->ellipse = src->ellipse;
+}
+
+/* Marks obstacles to leave out; returns how many hold the centre. */
+static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
+{
+    int held = 0;
+    double w = in->window;
+    for (int j = 0; j < in->grown->np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+        double x0 = INFINITY, x1 = -INFINITY, y0 = INFINITY, y1 = -INFINITY;
+        for (int i = 0; i < n; i++) {
+            x0 = fmin(x0, v[i].x); x1 = fmax(x1, v[i].x);
+            y0 = fmin(y0, v[i].y); y1 = fmax(y1, v[i].y);
+        }
+        bool off = x0 > in->centre.x + w || x1 < in->centre.x - w || y0 > in->centre.y + w ||
+                   y1 < in->centre.y - w;
+        bool holds = !off && lc_convex_contains(v, n, in->centre, 0.0);
+        held += holds;
+        ws->flags[j] = (off || holds) ? FLAG_SKIP : 0;
+    }
+    return held;
+}
+
+/* Goal seed: up to goal_step toward the waypoint, halved until the step is free. */
+static int goal_seed(const lc_region_input *in, const lc_region_config *cfg, lc_region_ws *ws,
+                     int nbase, lc_vec2 *seed)
+{
+    if (!in->has_waypoint || !(cfg->goal_step > 0))
+        return 0;
+    lc_vec2 dir = lc_sub(in->waypoint, in->centre);
+    double len = lc_len(dir);
+    if (!(len > 1e-6))
+        return 0;
+    double step = fmin(cfg->goal_step, len);
+    for (int tries = 0; tries < 4; tries++, step *= 0.5) {
+        lc_vec2 g = lc_add(in->centre, lc_scale(dir, step / len));
+        bool free = inside_all(ws->hs, nbase, g, SEED_EPS);
+        for (int j = 0; free && j < in->grown->np; j++) {
+            int n;
+            const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+            free = (ws->flags[j] & FLAG_SKIP) || seg_poly_distance(in->centre, g, v, n) > 2e-6;
+        }
+        if (free) {
+            *seed = g;
+            return 1;
+        }
+    }
+    return 0;
+}
+
+static double seed_clearance(const lc_region_input *in, const lc_region_ws *ws, const lc_vec2 *s,
+                             int ns)
+{
+    double best = INFINITY;
+    for (int j = 0; j < in->grown->np; j++) {
+        if (ws->flags[j] & FLAG_SKIP)
+            continue;
+        int n;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+        best = fmin(best, seg_poly_distance(s[0], s[ns - 1], v, n));
+    }
+    return best;
+}
+
+/* One round: lines for the current ellipse, then the polygon. Returns nh. */
+static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, const lc_ellipse *e,
+                       const lc_vec2 *seeds, int ns, lc_region_info *info,
+                       const lc_alloc *alloc)
+{
+    double inv[3];
+    l_inverse(e, inv);
+    int na = 0;
+    for (int j = 0; j < in->grown->np; j++) {
+        if (ws->flags[j] & FLAG_SKIP)
+            continue;
+        int n;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+        if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
+            return -1;
+        double best = INFINITY;
+        for (int i = 0; i < n; i++)
+            ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
+        lc_vec2 x;
+        best = lc_convex_distance(ws->tv, n, lc_v2(0, 0), &x);
+        ws->dist[j] = best;
+        ws->order[na++] = j;
+    }
+    sort_by_dist(ws->order, ws->dist, na);
+    int nh = nbase;
+    for (int q = 0; q < na; q++) {
+        int j = ws->order[q], n;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+        if (excluded(ws->hs, nh, v, n))
+            continue;
+        for (int i = 0; i < n; i++)
+            ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
+        lc_vec2 x;
+        lc_convex_distance(ws->tv, n, lc_v2(0, 0), &x);
+        lc_halfspace h;
+        if (!obstacle_line(e, inv, v, n, x, seeds, ns, &h, &info->fallback_lines))
+            return -2;
+        ws->hs[nh] = h;
+        ws->hs_src[nh++] = j;
+    }
+    return nh;
+}
+
+static int solve_ellipse(lc_region *r, const lc_ellipse *warm, const lc_ellipse_opts *eopts,
+                         lc_region_ws *ws, lc_region_info *info, const lc_clock *clock)
+{
+    lc_ellipse_info ei = {0};
+    double t0 = lc_clock_now(clock);
+    int st = lc_ellipse_solve(r->h, r->nh, warm, eopts, &r->ellipse, ws->lambda, ws->scratch, &ei);
+    info->ellipse_us += lc_clock_now(clock) - t0;
+    info->ellipse_iterations += ei.iterations;
+    return st;
+}
+
+int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
+                      const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,
+                      lc_region_info *info, const lc_clock *clock, const lc_alloc *alloc)
+{
+    lc_region_info local;
+    if (!info)
+        info = &local;
+    memset(info, 0, sizeof *info);
+    out->nh = out->nv = 0;
+    out->rounds = 0;
+    out->has_goal_seed = false;
+    if (!lc_vec2_finite(in->centre) || !(in->window > 0) || !isfinite(in->window))
+        return LC_REGION_BAD_INPUT;
+    int n_obs = in->grown->np;
+    int max_hs = 4 + in->n_blind + n_obs;
+    int max_v = max_hs + 4; /* each clip adds at most one vertex */
+    if (grow_ws(ws, alloc, n_obs, max_hs, max_v) < 0)
+        return LC_REGION_NO_MEMORY;
+
+    lc_vec2 c = in->centre;
+    double w = in->window;
+    ws->hs[0] = (lc_halfspace){{1, 0}, c.x + w};
+    ws->hs[1] = (lc_halfspace){{0, 1}, c.y + w};
+    ws->hs[2] = (lc_halfspace){{-1, 0}, -(c.x - w)};
+    ws->hs[3] = (lc_halfspace){{0, -1}, -(c.y - w)};
+    for (int k = 0; k < 4; k++)
+        ws->hs_src[k] = LC_REGION_SRC_WINDOW;
+    int nbase = 4;
+    for (int k = 0; k < in->n_blind; k++) {
+        ws->hs[nbase] = in->blind[k];
+        ws->hs_src[nbase++] = LC_REGION_SRC_BLIND;
+    }
+    info->too_close = mark_obstacles(in, ws);
+
+    lc_vec2 seeds[2] = {c, c};
+    int ns = 1 + goal_seed(in, cfg, ws, nbase, &seeds[1]);
+    out->has_goal_seed = ns == 2;
+    out->goal_seed = seeds[1];
+    double clear = seed_clearance(in, ws, seeds, ns);
+    double eps = fmax(fmin(cfg->seed_radius, 0.5 * clear), 1e-7);
+    lc_ellipse e = seed_ellipse(seeds, ns, eps);
+
+    /* Round 1 builds a region from the seed; later rounds keep the best. */
+    lc_region *cand = &ws->cand;
+    int rc = LC_REGION_OK;
+    double best_area = -1;
+    for (int round = 1; round <= cfg->max_rounds && round <= LC_REGION_MAX_ROUNDS; round++) {
+        int nh = place_lines(in, ws, nbase, &e, seeds, ns, info, alloc);
+        if (nh < 0) {
+            rc = nh == -1 ? LC_REGION_NO_MEMORY : LC_REGION_DEGENERATE;
+            break;
+        }
+        int st = build_polygon(ws, nh, round == 1 ? out : cand, alloc);
+        if (st != LC_REGION_OK) {
+            rc = st;
+            break;
+        }
+        lc_region *r = round == 1 ? out : cand;
+        if (solve_ellipse(r, round == 1 ? NULL : &e, eopts, ws, info, clock) < 0) {
+            rc = round == 1 ? LC_REGION_DEGENERATE : LC_REGION_OK;
+            break;
+        }
+        double area = lc_ellipse_area(&r->ellipse);
+        info->area[round] = area;
+        info->rounds = round;
+        if (round > 1 && area < best_area)
+            break; /* a moved line cost area: keep the previous round */
+        if (round > 1)
+            copy_region(out, cand, alloc, &rc);
+        out->rounds = round;
+        bool converged = round > 1 && area <= best_area * (1.0 + cfg->area_tol);
+        best_area = area;
+        e = out->ellipse;
+        if (converged || rc != LC_REGION_OK)
+            break;
+    }
+    info->area[0] = lc_ellipse_area(&(lc_ellipse){eps, 0, eps, c});
+    if (rc == LC_REGION_OK && info->too_close)
+        rc = LC_REGION_TOO_CLOSE;
+    return rc;
+}
+
+void lc_region_free(lc_region *r, const lc_alloc *alloc)
+{
+    LC_RELEASE(alloc, r->h, r->cap_h);
+    LC_RELEASE(alloc, r->h_src, r->cap_src);
+    LC_RELEASE(alloc, r->v, r->cap_v);
+    r->nh = r->nv = 0;
+}
+
+void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc)
+{
+    LC_RELEASE(alloc, ws->order, ws->cap_order);
+    LC_RELEASE(alloc, ws->dist, ws->cap_dist);
+    LC_RELEASE(alloc, ws->flags, ws->cap_flags);
+    LC_RELEASE(alloc, ws->hs, ws->cap_hs);
+    LC_RELEASE(alloc, ws->hs_src, ws->cap_hs_src);
+    LC_RELEASE(alloc, ws->tv, ws->cap_tv);
+    lc_region_free(&ws->cand, alloc);
+    LC_RELEASE(alloc, ws->clip_a, ws->cap_ca);
+    LC_RELEASE(alloc, ws->clip_b, ws->cap_cb);
+    LC_RELEASE(alloc, ws->own_a, ws->cap_oa);
+    LC_RELEASE(alloc, ws->own_b, ws->cap_ob);
+    LC_RELEASE(alloc, ws->scratch, ws->cap_scratch);
+    LC_RELEASE(alloc, ws->lambda, ws->cap_lambda);
+}

@@ -1,0 +1,133 @@
+/*
+ * region.h - the convex free region around the robot.
+ *
+ * The region is {p : a_i . p <= b_i} in the world frame for the robot
+ * CENTRE (obstacles are already grown by radius + margin), with |a_i| = 1,
+ * no redundant halfspace, and its vertices counter-clockwise. It is built by
+ * iterative region inflation (Deits and Tedrake) with three additions: every
+ * line keeps the robot centre inside, a goal seed a step toward the waypoint
+ * is kept inside when that step is free, and a blind sector of the sensor
+ * bounds the region by a line through the robot centre.
+ */
+#ifndef LC_REGION_H
+#define LC_REGION_H
+
+#include <stdbool.h>
+#include "alloc.h"
+#include "ellipse.h"
+#include "geom.h"
+#include "polyset.h"
+#include "clock.h"
+
+typedef struct lc_region {
+    lc_halfspace *h; /* non-redundant, |a| = 1 */
+    int nh, cap_h;
+    int *h_src;      /* per halfspace: grown obstacle index, or LC_REGION_SRC_* */
+    int cap_src;
+    lc_vec2 *v;      /* vertices, CCW */
+    int nv, cap_v;
+    lc_ellipse ellipse;
+    int rounds;
+    bool has_goal_seed;
+    lc_vec2 goal_seed;
+} lc_region;
+
+#define LC_REGION_SRC_WINDOW (-1)
+#define LC_REGION_SRC_BLIND (-2)
+
+typedef struct lc_region_config {
+    double window;        /* m, half side of the local window box (0: frame's range_max) */
+    double window_max;    /* m, cap on the half side, 10 */
+    int max_rounds;       /* inflation rounds, 6 */
+    double area_tol;      /* stop when the area grows by less than this fraction, 0.02 */
+    double seed_radius;   /* m, the first ellipse is a disc of this radius, 0.01 */
+    double goal_step;     /* m, the goal seed this far toward the waypoint, 1.0 */
+    bool blind_line;      /* bound the region by the scanner's blind sector, true */
+    double points_fov;    /* rad, field of view assumed for `points` frames, 2 pi */
+} lc_region_config;
+
+void lc_region_config_default(lc_region_config *cfg);
+
+#define LC_REGION_MAX_ROUNDS 16
+
+/* What the region is built from. Obstacles are grown, convex, CCW. */
+typedef struct lc_region_input {
+    const lc_polyset *grown;
+    lc_vec2 centre;         /* robot centre, world frame */
+    bool has_waypoint;
+    lc_vec2 waypoint;       /* world frame */
+    double window;          /* m, half side of the window box about the centre */
+    int n_blind;            /* lines bounding the blind sector (0..2) */
+    lc_halfspace blind[2];
+} lc_region_input;
+
+typedef enum lc_region_status {
+    LC_REGION_OK = 0,
+    LC_REGION_TOO_CLOSE = 1, /* centre inside a grown obstacle: those were left out */
+    LC_REGION_NO_MEMORY = -1,
+    LC_REGION_BAD_INPUT = -2,
+    LC_REGION_DEGENERATE = -3, /* no region of positive area holds the centre */
+} lc_region_status;
+
+typedef struct lc_region_info {
+    int rounds;
+    double area[LC_REGION_MAX_ROUNDS + 1]; /* ellipse area after each round (m^2) */
+    int ellipse_iterations;                /* all solves of the frame */
+    int fallback_lines;    /* lines that had to be moved to keep a seed inside */
+    int too_close;         /* grown obstacles holding the centre (left out) */
+    double ellipse_us;     /* solver time, when a clock is given */
+} lc_region_info;
+
+/* Scratch reused across frames; zero it before first use. */
+typedef struct lc_region_ws {
+    int *order;  int cap_order;
+    double *dist; int cap_dist;
+    unsigned char *flags; int cap_flags;
+    lc_halfspace *hs; int cap_hs;
+    int *hs_src; int cap_hs_src;
+    lc_vec2 *tv; int cap_tv;     /* transformed vertices */
+    lc_vec2 *clip_a, *clip_b; int cap_ca, cap_cb;
+    int *own_a, *own_b; int cap_oa, cap_ob;
+    double *scratch; int cap_scratch;
+    double *lambda; int cap_lambda;
+    struct lc_region cand;       /* the round being built */
+} lc_region_ws;
+
+void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc);
+
+/*
+ * Lines bounding a scanner's blind sector, through the centre: the view
+ * covers fov radians about the world direction view_mid. fov >= 2 pi: none.
+ * fov > pi: one line, the supporting line of the blind cone that leaves most
+ * room toward the waypoint (or perpendicular to the blind axis without one);
+ * fov <= pi: the two edges of the seen cone. Returns the count (0..2).
+ */
+int lc_region_blind_lines(lc_vec2 centre, double fov, double view_mid, bool has_waypoint,
+                          lc_vec2 waypoint, lc_halfspace out[2]);
+
+/*
+ * Iterative region inflation. Fills out (buffers grown through alloc) and
+ * info (may be NULL). clock may be NULL. Returns an lc_region_status.
+ */
+int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
+                      const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,
+                      lc_region_info *info, const lc_clock *clock, const lc_alloc *alloc);
+
+/* True when p satisfies every halfspace within eps metres. */
+bool lc_region_contains(const lc_region *r, lc_vec2 p, double eps);
+
+/* Signed distance of p to the region boundary: positive inside (min slack). */
+double lc_region_margin(const lc_region *r, lc_vec2 p);
+
+/*
+ * Distance from p (inside) along the unit direction dir until the region is
+ * left; 0 when p is outside or on the boundary moving outward.
+ */
+double lc_region_ray_exit(const lc_region *r, lc_vec2 p, lc_vec2 dir);
+
+/* The closest point of the region to p (p itself when inside). */
+lc_vec2 lc_region_project(const lc_region *r, lc_vec2 p);
+
+void lc_region_free(lc_region *r, const lc_alloc *alloc);
+
+#endif

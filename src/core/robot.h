@@ -1,0 +1,58 @@
+/*
+ * robot.h - what the robot is and where it must go.
+ *
+ * All values SI. The footprint is a disc of `radius` about the robot centre;
+ * `margin` is extra clearance kept on top of it. Waypoints are in the frame
+ * the pose is given in (the "world" frame of a session).
+ */
+#ifndef LC_ROBOT_H
+#define LC_ROBOT_H
+
+#include <stdbool.h>
+#include "geom.h"
+
+typedef enum lc_model {
+    LC_MODEL_POINT = 0,    /* holonomic point mass: setpoint (vx, vy) robot frame */
+    LC_MODEL_UNICYCLE = 1, /* differential drive: setpoint (v, w) */
+} lc_model;
+
+typedef struct lc_robot {
+    lc_model model;
+    double radius;  /* m, footprint disc */
+    double margin;  /* m, clearance kept beyond the footprint */
+    double v_max;   /* m/s */
+    double a_max;   /* m/s^2, also the braking deceleration assumed */
+    double w_max;   /* rad/s */
+    double dw_max;  /* rad/s^2 */
+    bool reverse;   /* unicycle may drive backwards */
+} lc_robot;
+
+/* CONTRACT.md defaults: point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0, no reversing. */
+void lc_robot_default(lc_robot *robot);
+
+/* Radius the obstacles are grown by: radius + margin. */
+static inline double lc_robot_clearance(const lc_robot *robot)
+{
+    return robot->radius + robot->margin;
+}
+
+#define LC_ROUTE_MAX 1024
+
+typedef enum lc_blocked_policy {
+    LC_BLOCKED_WAIT = 0, /* hold with zero setpoints, keep planning */
+    LC_BLOCKED_SKIP = 1, /* give up the waypoint, go on to the next */
+} lc_blocked_policy;
+
+typedef struct lc_route {
+    lc_vec2 waypoints[LC_ROUTE_MAX];
+    int count;
+    bool loop;
+    double tolerance;        /* m, default 0.25 */
+    lc_blocked_policy on_blocked;
+    double blocked_time;     /* s without progress before `blocked`, default 10 */
+    double progress;         /* m the distance must shrink by, default 0.10 */
+} lc_route;
+
+void lc_route_default(lc_route *route);
+
+#endif

@@ -1,0 +1,321 @@
+/*
+ * session.c - the per-frame step (see session.h): ingest, segment, hull,
+ * grow, region, target, patrol, setpoint. One function for every caller.
+ *
+ * Ownership: the session owns every buffer (grown through its lc_alloc) and
+ * the qhull context; a result's pointers point into them and stay valid
+ * until the next step or lc_session_free.
+ */
+#include "session.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "grow.h"
+#include "hull.h"
+
+struct lc_session {
+    lc_alloc alloc;
+    lc_robot robot;
+    lc_plan_config cfg;
+    lc_route route;
+    lc_patrol patrol;
+    lc_setpoint last;
+    lc_clock clock;
+    lc_hull_ctx *hull;
+    lc_cloud cloud;
+    lc_segment_ws seg;
+    lc_polyset obstacles, grown;
+    lc_vec2 *gather;
+    int cap_gather;
+    lc_region region;
+    lc_region_ws rws;
+};
+
+static const char *const stage_names[LC_STAGE_COUNT] = {
+    "ingest", "segment", "hull", "grow", "region", "ellipse", "target", "setpoint",
+};
+
+const char *lc_stage_name(lc_stage stage)
+{
+    return stage >= 0 && stage < LC_STAGE_COUNT ? stage_names[stage] : "unknown";
+}
+
+void lc_plan_config_default(lc_plan_config *cfg)
+{
+    memset(cfg, 0, sizeof *cfg);
+    lc_ingest_config_default(&cfg->ingest);
+    lc_segment_config_default(&cfg->segment);
+    cfg->hull_small_max = -1; /* the hull module's own measured default */
+    cfg->grow_step = LC_GROW_DEFAULT_STEP;
+    lc_region_config_default(&cfg->region);
+    lc_ellipse_opts_default(&cfg->ellipse);
+    lc_motion_params_default(&cfg->motion);
+}
+
+lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
+                           const lc_alloc *alloc)
+{
+    if (!alloc)
+        alloc = lc_alloc_default();
+    lc_session *s = alloc->realloc(alloc->data, NULL, sizeof *s);
+    if (!s)
+        return NULL;
+    memset(s, 0, sizeof *s);
+    s->alloc = *alloc;
+    if (robot)
+        s->robot = *robot;
+    else
+        lc_robot_default(&s->robot);
+    if (cfg)
+        s->cfg = *cfg;
+    else
+        lc_plan_config_default(&s->cfg);
+    lc_route_default(&s->route);
+    lc_patrol_reset(&s->patrol);
+    s->hull = lc_hull_new(&s->alloc);
+    if (!s->hull) {
+        alloc->realloc(alloc->data, s, 0);
+        return NULL;
+    }
+    if (s->cfg.hull_small_max >= 0)
+        lc_hull_set_small_max(s->hull, s->cfg.hull_small_max);
+    return s;
+}
+
+void lc_session_free(lc_session *s)
+{
+    if (!s)
+        return;
+    const lc_alloc *a = &s->alloc;
+    lc_hull_free(s->hull);
+    lc_cloud_free(&s->cloud, a);
+    lc_segment_ws_free(&s->seg, a);
+    lc_polyset_free(&s->obstacles, a);
+    lc_polyset_free(&s->grown, a);
+    LC_RELEASE(a, s->gather, s->cap_gather);
+    lc_region_free(&s->region, a);
+    lc_region_ws_free(&s->rws, a);
+    lc_alloc keep = s->alloc;
+    keep.realloc(keep.data, s, 0);
+}
+
+void lc_session_set_robot(lc_session *s, const lc_robot *robot) { s->robot = *robot; }
+const lc_robot *lc_session_robot(const lc_session *s) { return &s->robot; }
+const lc_route *lc_session_route(const lc_session *s) { return &s->route; }
+const lc_plan_config *lc_session_config(const lc_session *s) { return &s->cfg; }
+
+void lc_session_set_route(lc_session *s, const lc_route *route)
+{
+    s->route = *route;
+    lc_patrol_reset(&s->patrol);
+}
+
+void lc_session_set_clock(lc_session *s, const lc_clock *clock)
+{
+    if (clock)
+        s->clock = *clock;
+    else
+        memset(&s->clock, 0, sizeof s->clock);
+}
+
+void lc_session_set_velocity(lc_session *s, const lc_setpoint *last) { s->last = *last; }
+
+void lc_session_set_goal(lc_session *s, lc_vec2 goal_world)
+{
+    double tol = s->route.tolerance;
+    lc_route_default(&s->route);
+    s->route.tolerance = tol > 0 ? tol : s->route.tolerance;
+    s->route.waypoints[0] = goal_world;
+    s->route.count = 1;
+    lc_patrol_reset(&s->patrol);
+}
+
+/* Hull of every piece into s->obstacles; 0 or -1. */
+static int hull_pieces(lc_session *s)
+{
+    lc_polyset_clear(&s->obstacles);
+    for (int k = 0; k < s->seg.n_pieces; k++) {
+        int start = s->seg.piece_start[k], n = s->seg.piece_count[k];
+        if (LC_GROW(&s->alloc, s->gather, s->cap_gather, n) < 0 ||
+            lc_polyset_reserve(&s->obstacles, &s->alloc, n) < 0)
+            return -1;
+        for (int i = 0; i < n; i++)
+            s->gather[i] = s->cloud.world[s->seg.order[start + i]];
+        int m = lc_hull_compute(s->hull, s->gather, n, s->obstacles.v + s->obstacles.nv);
+        if (m == -1)
+            return -1;
+        if (m <= 0)
+            continue; /* finite input by construction: no other failure is expected */
+        if (lc_polyset_commit(&s->obstacles, &s->alloc, m, k) < 0)
+            return -1;
+    }
+    return 0;
+}
+
+static int grow_obstacles(lc_session *s)
+{
+    double r = lc_robot_clearance(&s->robot), step = s->cfg.grow_step;
+    lc_polyset_clear(&s->grown);
+    for (int j = 0; j < s->obstacles.np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(&s->obstacles, j, &n);
+        int cap = lc_grow_max_vertices(n, step);
+        if (lc_polyset_reserve(&s->grown, &s->alloc, cap) < 0)
+            return -1;
+        int m = lc_grow_polygon(v, n, r, step, s->grown.v + s->grown.nv, cap);
+        if (m > 0 && lc_polyset_commit(&s->grown, &s->alloc, m, j) < 0)
+            return -1;
+    }
+    return 0;
+}
+
+static double window_half_side(const lc_session *s, const lc_frame *f)
+{
+    const lc_region_config *rc = &s->cfg.region;
+    if (rc->window > 0)
+        return rc->window;
+    double range = f->kind == LC_FRAME_SCAN ? f->range_max : s->cfg.ingest.range_cap;
+    return range > 0 && range < rc->window_max ? range : rc->window_max;
+}
+
+static double nearest_clearance(const lc_session *s, lc_vec2 c)
+{
+    double best = INFINITY;
+    for (int i = 0; i < s->cloud.n; i++)
+        best = fmin(best, lc_dist(s->cloud.world[i], c));
+    return best - s->robot.radius;
+}
+
+static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp,
+                       lc_plan_result *out)
+{
+    lc_region_input in = {.grown = &s->grown,
+                          .centre = lc_v2(f->pose.x, f->pose.y),
+                          .has_waypoint = has_wp,
+                          .waypoint = wp,
+                          .window = window_half_side(s, f)};
+    if (s->cfg.region.blind_line) {
+        double fov = f->kind == LC_FRAME_SCAN ? s->cloud.fov : s->cfg.region.points_fov;
+        in.n_blind = lc_region_blind_lines(in.centre, fov, f->pose.yaw + s->cloud.fov_mid, has_wp,
+                                           wp, in.blind);
+    }
+    lc_region_info info;
+    int rc = lc_region_inflate(&in, &s->cfg.region, &s->cfg.ellipse, &s->rws, &s->region, &info,
+                               &s->clock, &s->alloc);
+    out->stage_us[LC_STAGE_ELLIPSE] = info.ellipse_us;
+    out->ellipse_iterations = info.ellipse_iterations;
+    return rc;
+}
+
+static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
+{
+    out->state = state;
+    out->setpoint = lc_setpoint_stop(limit);
+}
+
+static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
+{
+    int rc = s->robot.model == LC_MODEL_UNICYCLE
+                 ? lc_motion_unicycle(&s->robot, &s->cfg.motion, &s->region, f->pose, out->target,
+                                      &s->last, dt, &out->setpoint)
+                 : lc_motion_point(&s->robot, &s->cfg.motion, &s->region, f->pose, out->target,
+                                   &s->last, dt, &out->setpoint);
+    if (rc < 0)
+        out->setpoint = lc_setpoint_stop(LC_LIMIT_NONE);
+}
+
+/* The route-level decision for this frame, and the target it implies. */
+static void decide(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
+{
+    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    lc_state st = lc_patrol_update(&s->patrol, &s->route, c, out->target, f->stamp, out->events,
+                                   &out->n_events);
+    out->has_waypoint = lc_patrol_waypoint(&s->patrol, &s->route, &out->waypoint);
+    out->waypoint_index = s->patrol.current;
+    if (out->has_waypoint) {
+        out->target = lc_region_project(&s->region, out->waypoint);
+        out->has_target = true;
+    }
+    out->state = st;
+    switch (st) {
+    case LC_STATE_IDLE:
+        stop_with(out, st, LC_LIMIT_IDLE);
+        return;
+    case LC_STATE_DONE:
+        stop_with(out, st, LC_LIMIT_ARRIVED);
+        return;
+    case LC_STATE_BLOCKED:
+        stop_with(out, st, LC_LIMIT_BLOCKED);
+        return;
+    default:
+        break;
+    }
+    if (out->has_target)
+        drive(s, f, dt, out);
+    else
+        stop_with(out, st, LC_LIMIT_ARRIVED);
+}
+
+static void stamp_stage(lc_session *s, lc_plan_result *out, lc_stage stage, double *t)
+{
+    double now = lc_clock_now(&s->clock);
+    out->stage_us[stage] += now - *t;
+    *t = now;
+}
+
+int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_result *out)
+{
+    memset(out, 0, sizeof *out);
+    out->cloud = &s->cloud;
+    out->obstacles = &s->obstacles;
+    out->grown = &s->grown;
+    out->state = LC_STATE_IDLE;
+    out->setpoint = lc_setpoint_stop(LC_LIMIT_NONE);
+    double t_start = lc_clock_now(&s->clock), t = t_start;
+
+    lc_ingest_config icfg = s->cfg.ingest;
+    if (!(icfg.self_radius > 0))
+        icfg.self_radius = s->robot.radius;
+    if (lc_ingest(frame, &icfg, &s->cloud, &s->alloc) < 0)
+        return -1;
+    stamp_stage(s, out, LC_STAGE_INGEST, &t);
+    if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg, &s->alloc) < 0)
+        return -1;
+    stamp_stage(s, out, LC_STAGE_SEGMENT, &t);
+    if (hull_pieces(s) < 0)
+        return -1;
+    stamp_stage(s, out, LC_STAGE_HULL, &t);
+    if (grow_obstacles(s) < 0)
+        return -1;
+    stamp_stage(s, out, LC_STAGE_GROW, &t);
+
+    lc_vec2 c = lc_v2(frame->pose.x, frame->pose.y), wp = c;
+    bool has_wp = lc_patrol_waypoint(&s->patrol, &s->route, &wp);
+    int rc = plan_region(s, frame, has_wp, wp, out);
+    stamp_stage(s, out, LC_STAGE_REGION, &t);
+    out->stage_us[LC_STAGE_REGION] -= out->stage_us[LC_STAGE_ELLIPSE];
+    if (rc == LC_REGION_NO_MEMORY)
+        return -1;
+    out->clearance = nearest_clearance(s, c);
+    if (rc == LC_REGION_OK || rc == LC_REGION_TOO_CLOSE) {
+        out->region = &s->region;
+        out->target = has_wp ? lc_region_project(&s->region, wp) : c;
+        out->has_target = has_wp;
+    }
+    stamp_stage(s, out, LC_STAGE_TARGET, &t);
+
+    if (rc != LC_REGION_OK) {
+        /* Centre inside a grown obstacle, or no region holds it: no translation. */
+        out->has_waypoint = has_wp;
+        out->waypoint = wp;
+        out->waypoint_index = s->patrol.current;
+        stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
+    } else {
+        decide(s, frame, dt, out);
+    }
+    s->last = out->setpoint;
+    stamp_stage(s, out, LC_STAGE_SETPOINT, &t);
+    out->total_us = lc_clock_now(&s->clock) - t_start;
+    return 0;
+}

@@ -1,0 +1,103 @@
+/*
+ * session.h - one robot's planning session and the per-frame step.
+ *
+ * Everything that lasts between frames lives here: the robot description,
+ * the route and progress along it, the last setpoint, the warm start of the
+ * ellipse solver, and the workspace whose buffers grow to a high-water mark
+ * and are then reused (no allocation per frame once warm). Replay, sim, bench,
+ * `lacuna plan` and the server all call lc_session_step, so what is replayed
+ * is what ran. The core reads no clock: per-stage timing uses the caller's
+ * clock hook and never changes a result.
+ */
+#ifndef LC_SESSION_H
+#define LC_SESSION_H
+
+#include <stdbool.h>
+#include "alloc.h"
+#include "ellipse.h"
+#include "frame.h"
+#include "ingest.h"
+#include "motion.h"
+#include "patrol.h"
+#include "polyset.h"
+#include "region.h"
+#include "robot.h"
+#include "segment.h"
+#include "clock.h"
+
+
+typedef struct lc_plan_config {
+    lc_ingest_config ingest;
+    lc_segment_config segment;
+    int hull_small_max;   /* pieces up to this size skip qhull */
+    double grow_step;     /* rad, outer arc approximation step */
+    lc_region_config region;
+    lc_ellipse_opts ellipse;
+    lc_motion_params motion;
+} lc_plan_config;
+
+void lc_plan_config_default(lc_plan_config *cfg);
+
+typedef enum lc_stage {
+    LC_STAGE_INGEST = 0,
+    LC_STAGE_SEGMENT,
+    LC_STAGE_HULL,
+    LC_STAGE_GROW,
+    LC_STAGE_REGION,
+    LC_STAGE_ELLIPSE, /* part of REGION: the solver's share */
+    LC_STAGE_TARGET,
+    LC_STAGE_SETPOINT,
+    LC_STAGE_COUNT
+} lc_stage;
+
+const char *lc_stage_name(lc_stage stage);
+
+
+/* What one step produced. Pointers stay valid until the next step. */
+typedef struct lc_plan_result {
+    const lc_cloud *cloud;       /* kept points, world frame */
+    const lc_polyset *obstacles; /* convex pieces as seen, world frame, CCW */
+    const lc_polyset *grown;     /* the same grown by radius + margin */
+    const lc_region *region;     /* NULL when there is none (see state) */
+    bool has_target;
+    lc_vec2 target;              /* world frame */
+    bool has_waypoint;
+    lc_vec2 waypoint;            /* world frame */
+    int waypoint_index;
+    lc_setpoint setpoint;        /* robot frame */
+    lc_state state;
+    lc_event events[LC_PATROL_MAX_EVENTS];
+    int n_events;
+    double clearance;            /* m, robot centre to the nearest point, minus radius */
+    double stage_us[LC_STAGE_COUNT];
+    double total_us;
+    int ellipse_iterations;
+} lc_plan_result;
+
+typedef struct lc_session lc_session;
+
+/* NULL alloc: lc_alloc_default(); NULL cfg: defaults. NULL when out of memory. */
+lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
+                           const lc_alloc *alloc);
+void lc_session_free(lc_session *s);
+
+void lc_session_set_robot(lc_session *s, const lc_robot *robot);
+const lc_robot *lc_session_robot(const lc_session *s);
+void lc_session_set_route(lc_session *s, const lc_route *route);
+const lc_route *lc_session_route(const lc_session *s);
+const lc_plan_config *lc_session_config(const lc_session *s);
+void lc_session_set_clock(lc_session *s, const lc_clock *clock);
+
+/* The last setpoint (the rate limits start from it); zero at rest. */
+void lc_session_set_velocity(lc_session *s, const lc_setpoint *last);
+
+/* A single goal instead of a route (what `lacuna plan` does). */
+void lc_session_set_goal(lc_session *s, lc_vec2 goal_world);
+
+/*
+ * One frame: plan and produce the setpoint for control period dt (s).
+ * Returns 0, or -1 when out of memory (then the result holds a stop).
+ */
+int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_result *out);
+
+#endif

@@ -1,0 +1,42 @@
+/*
+ * cli.h - the `lacuna` command line: subcommand dispatch, help, exit codes.
+ *
+ * Exit codes (CONTRACT.md): 0 success, 1 runtime failure, 2 bad usage or bad
+ * input, with a one-line reason on stderr naming the field at fault.
+ */
+#ifndef LC_CLI_H
+#define LC_CLI_H
+
+#include <stdbool.h>
+#include <stdio.h>
+
+enum { LC_EXIT_OK = 0, LC_EXIT_FAIL = 1, LC_EXIT_USAGE = 2 };
+
+int lc_cli_main(int argc, char **argv);
+
+/* One subcommand: argv[0] is the subcommand's name. */
+typedef struct lc_command {
+    const char *name;
+    const char *summary;
+    const char *usage; /* full --help text */
+    int (*run)(int argc, char **argv);
+} lc_command;
+
+/* Prints "lacuna <cmd>: <reason>" on stderr and returns LC_EXIT_USAGE. */
+int lc_cli_usage_error(const char *cmd, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+
+/* Prints "lacuna <cmd>: <reason>" on stderr and returns LC_EXIT_FAIL. */
+int lc_cli_fail(const char *cmd, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+
+/* True when argv holds -h or --help. */
+bool lc_cli_wants_help(int argc, char **argv);
+
+/* Reads a whole file ("-" is stdin) into a NUL-terminated buffer (free it). */
+char *lc_cli_read_file(const char *path, size_t *len);
+
+/* Subcommands (src/tools/<name>.c). */
+int lc_tool_plan(int argc, char **argv);
+extern const char lc_plan_usage[];
+
+#endif
