@@ -18,7 +18,8 @@
 
 #define LC_GROW_DEFAULT_STEP (LC_PI / 8.0)
 
-/* Most vertices lc_grow_polygon can write for an n-vertex input. */
+/* Most vertices lc_grow_polygon can write for an n-vertex input (0 when n < 1
+ * or max_step is invalid). */
 int lc_grow_max_vertices(int n, double max_step);
 
 /* r * (1 / cos(max_step / 2) - 1): how far the grown polygon may exceed the sum. */
@@ -27,8 +28,10 @@ double lc_grow_excess_bound(double r, double max_step);
 /*
  * poly[0..n) is CCW convex (n >= 3), a segment (n == 2) or a point (n == 1).
  * Writes the grown CCW convex polygon to out (capacity cap) and returns its
- * vertex count, or -1 when n < 1, r <= 0, max_step is not in (0, pi/2], or
- * cap is too small.
+ * vertex count, or -1 when n < 1, r <= 0, max_step is not in (0, pi/2],
+ * cap is too small, a value is not finite, or poly is visibly not convex
+ * counter-clockwise (a vertex dented inward by more than 1e-9 of its extent,
+ * or turning more than once). Repeated and collinear vertices are fine.
  */
 int lc_grow_polygon(const lc_vec2 *poly, int n, double r, double max_step,
                     lc_vec2 *out, int cap);

@@ -27,6 +27,7 @@ typedef struct lc_hull_stats {
     long small_calls;
     long errors;
     int last_error; /* qhull's exit code of the last failed call, 0 if none */
+    int last_message_code; /* qhull's message number of that failure (e.g. 6154) */
 } lc_hull_stats;
 
 /* NULL alloc means lc_alloc_default(). Returns NULL when out of memory. */
@@ -40,14 +41,23 @@ int lc_hull_small_max(const lc_hull_ctx *ctx);
 /*
  * Hull of pts[0..n). Writes at most n vertices to out (CCW) and returns their
  * count (0..n). Returns a negative value on failure: -1 out of memory, -2
- * non-finite input, -3 qhull failed (stats.last_error holds its code).
+ * non-finite input. When qhull fails (counted in the stats, stats.last_error
+ * holds its code) the small path answers instead, so a piece never vanishes.
  */
 int lc_hull_compute(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);
 
-/* The same through one path only, for tests and the bench. */
+/*
+ * The same through one path only, for tests and the bench, without the
+ * degenerate-input filter: the small path handles degenerate input itself
+ * (0, 1 or 2 points); qhull rejects it, and then lc_hull_compute_qhull
+ * returns -3 (stats.last_error holds qhull's code).
+ */
 int lc_hull_compute_qhull(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);
 int lc_hull_compute_small(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);
 
 const lc_hull_stats *lc_hull_get_stats(const lc_hull_ctx *ctx);
+
+/* First line of qhull's message for the last failure ("" if none). */
+const char *lc_hull_last_message(const lc_hull_ctx *ctx);
 
 #endif
