@@ -62,6 +62,42 @@ static void ingest_scan(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud
                                0.5 * f->angle_step * (f->n_ranges - 1));
 }
 
+/*
+ * The view of a points frame, judged from the points themselves: the largest
+ * empty run of 1-degree bearing bins, when at least LC_VIEW_GAP_DEG wide, is
+ * taken as unseen (a depth camera's back), the rest as the field of view.
+ * No points, or no such gap: a full view.
+ */
+#define LC_VIEW_BINS 360
+#define LC_VIEW_GAP_DEG 30
+static void points_view(lc_cloud *c, double mount_yaw)
+{
+    unsigned char bins[LC_VIEW_BINS] = {0};
+    c->fov = 2.0 * LC_PI;
+    c->fov_mid = mount_yaw;
+    if (c->n == 0)
+        return;
+    for (int i = 0; i < c->n; i++) {
+        double a = lc_wrap_angle(c->bearing[i]) + LC_PI; /* [0, 2 pi] */
+        int b = (int)(a * LC_VIEW_BINS / (2.0 * LC_PI));
+        bins[b < LC_VIEW_BINS ? b : LC_VIEW_BINS - 1] = 1;
+    }
+    int best = 0, best_end = 0, run = 0;
+    for (int k = 0; k < 2 * LC_VIEW_BINS; k++) {
+        run = bins[k % LC_VIEW_BINS] ? 0 : run + 1;
+        if (run > best && run <= LC_VIEW_BINS) {
+            best = run;
+            best_end = k;
+        }
+    }
+    if (best < LC_VIEW_GAP_DEG || best >= LC_VIEW_BINS)
+        return;
+    double step = 2.0 * LC_PI / LC_VIEW_BINS;
+    double gap_mid = (best_end - 0.5 * (best - 1)) * step + 0.5 * step - LC_PI;
+    c->fov = 2.0 * LC_PI - best * step;
+    c->fov_mid = lc_wrap_angle(mount_yaw + gap_mid + LC_PI);
+}
+
 static void ingest_points(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud *c)
 {
     for (int i = 0; i < f->n_points; i++) {
@@ -82,8 +118,7 @@ static void ingest_points(const lc_frame *f, const lc_ingest_config *cfg, lc_clo
         }
         keep(c, f, cfg, p, r, atan2(p.y, p.x));
     }
-    c->fov = 2.0 * LC_PI;
-    c->fov_mid = f->mount.yaw;
+    points_view(c, f->mount.yaw);
 }
 
 int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud,

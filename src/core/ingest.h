@@ -30,7 +30,8 @@ typedef struct lc_cloud {
     int n, cap;
     bool ordered;     /* true for scans: consecutive kept points are neighbours */
     lc_vec2 sensor_world; /* sensor origin in the world frame */
-    double fov;       /* rad covered by the frame, 2 pi when unknown or full */
+    double fov;       /* rad covered by the frame, 2 pi when unknown or full;
+                       * points frames: judged from the points' bearings */
     double fov_mid;   /* rad, robot frame direction of the middle of the view */
     int dropped_invalid, dropped_range, dropped_self, dropped_height;
 } lc_cloud;

@@ -45,7 +45,8 @@ typedef struct lc_motion_params {
     double turn_in_place; /* rad, heading error above which v = 0 (default 1.0) */
     double latency;       /* s the setpoint is held before braking starts: added to
                              the braking distance as in lc_stopping_distance
-                             (default 0; dt / 2 covers a zero-order hold) */
+                             (default 0; dt makes the promise hold for a robot
+                             that holds each setpoint for a whole period) */
 } lc_motion_params;
 
 void lc_motion_params_default(lc_motion_params *params);
@@ -87,7 +88,7 @@ lc_pose lc_motion_arc(lc_pose pose, double kappa, double s);
 /*
  * The least region margin (lc_region_margin) along that arc, exact:
  * negative when the arc leaves the region. INFINITY for a region without
- * halfspaces.
+ * halfspaces, NaN when an argument is not finite.
  */
 double lc_motion_arc_margin(const lc_region *region, lc_pose pose, double kappa,
                             double s);

@@ -31,7 +31,7 @@ void lc_region_config_default(lc_region_config *cfg)
     cfg->seed_radius = 0.01;
     cfg->goal_step = 1.0;
     cfg->blind_line = true;
-    cfg->points_fov = 2.0 * LC_PI;
+    cfg->points_fov = 0.0;
 }
 
 static lc_halfspace hs_through(lc_vec2 normal, lc_vec2 p)

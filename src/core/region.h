@@ -43,7 +43,7 @@ typedef struct lc_region_config {
     double seed_radius;   /* m, the first ellipse is a disc of this radius, 0.01 */
     double goal_step;     /* m, the goal seed this far toward the waypoint, 1.0 */
     bool blind_line;      /* bound the region by the scanner's blind sector, true */
-    double points_fov;    /* rad, field of view assumed for `points` frames, 2 pi */
+    double points_fov;    /* rad, field of view of `points` frames (0: judged from the points) */
 } lc_region_config;
 
 void lc_region_config_default(lc_region_config *cfg);

@@ -78,6 +78,8 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
         alloc->realloc(alloc->data, s, 0);
         return NULL;
     }
+    if (!(s->cfg.grow_step > 0 && s->cfg.grow_step <= 0.5 * LC_PI))
+        s->cfg.grow_step = LC_GROW_DEFAULT_STEP;
     if (s->cfg.hull_small_max >= 0)
         lc_hull_set_small_max(s->hull, s->cfg.hull_small_max);
     return s;
@@ -196,7 +198,9 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
                           .waypoint = wp,
                           .window = window_half_side(s, f)};
     if (s->cfg.region.blind_line) {
-        double fov = f->kind == LC_FRAME_SCAN ? s->cloud.fov : s->cfg.region.points_fov;
+        double fov = f->kind == LC_FRAME_POINTS && s->cfg.region.points_fov > 0
+                         ? s->cfg.region.points_fov
+                         : s->cloud.fov;
         in.n_blind = lc_region_blind_lines(in.centre, fov, f->pose.yaw + s->cloud.fov_mid, has_wp,
                                            wp, in.blind);
     }
@@ -214,12 +218,19 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
     out->setpoint = lc_setpoint_stop(limit);
 }
 
+/*
+ * The setpoint is held for a whole control period before the next one can
+ * brake, so braking room is judged with at least dt of latency: then the
+ * promise "can stop inside the region" holds from step to step.
+ */
 static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
 {
+    lc_motion_params mp = s->cfg.motion;
+    mp.latency = fmax(mp.latency, dt);
     int rc = s->robot.model == LC_MODEL_UNICYCLE
-                 ? lc_motion_unicycle(&s->robot, &s->cfg.motion, &s->region, f->pose, out->target,
+                 ? lc_motion_unicycle(&s->robot, &mp, &s->region, f->pose, out->target,
                                       &s->last, dt, &out->setpoint)
-                 : lc_motion_point(&s->robot, &s->cfg.motion, &s->region, f->pose, out->target,
+                 : lc_motion_point(&s->robot, &mp, &s->region, f->pose, out->target,
                                    &s->last, dt, &out->setpoint);
     if (rc < 0)
         out->setpoint = lc_setpoint_stop(LC_LIMIT_NONE);

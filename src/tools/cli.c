@@ -15,6 +15,12 @@
 static const lc_command commands[] = {
     {"plan", "plan one frame: obstacles, region, target and setpoint", lc_plan_usage,
      lc_tool_plan},
+    {"serve", "the daemon: robots over a websocket, the viewer page", lc_serve_usage, lc_serve},
+    {"replay", "replay a scenario file and compare its setpoints", lc_replay_usage,
+     lc_tool_replay},
+    {"sim", "simulate a patrol in a scenario's world", lc_sim_usage, lc_tool_sim},
+    {"check", "stopping-distance advice for a speed, deceleration and sensor range",
+     lc_check_usage, lc_tool_check},
 };
 
 #define N_COMMANDS (int)(sizeof commands / sizeof commands[0])

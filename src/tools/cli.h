@@ -39,4 +39,14 @@ char *lc_cli_read_file(const char *path, size_t *len);
 int lc_tool_plan(int argc, char **argv);
 extern const char lc_plan_usage[];
 
+/* `lacuna serve` (src/server/serve.c); its usage is built from the option table. */
+int lc_serve(int argc, char **argv);
+extern char lc_serve_usage[];
+int lc_tool_replay(int argc, char **argv);
+extern const char lc_replay_usage[];
+int lc_tool_sim(int argc, char **argv);
+extern const char lc_sim_usage[];
+int lc_tool_check(int argc, char **argv);
+extern const char lc_check_usage[];
+
 #endif

@@ -118,6 +118,34 @@ static void test_huge_coordinates(void **state)
     lc_cloud_free(&c, NULL);
 }
 
+/* A depth camera's points span +-40 degrees about a mount turned 90 deg:
+ * the frame's view is judged as that sector, its back unseen. */
+static void test_points_view_from_bearings(void **state)
+{
+    double xy[162];
+    for (int i = 0; i <= 80; i++) {
+        double a = (-40.0 + i) * LC_PI / 180.0;
+        xy[2 * i] = 3 * cos(a);
+        xy[2 * i + 1] = 3 * sin(a);
+    }
+    lc_frame f = {.kind = LC_FRAME_POINTS, .xy = xy, .n_points = 81,
+                  .mount = {0, 0, LC_PI / 2}};
+    lc_cloud c = {0};
+    lc_ingest_config cfg = cfg_default();
+    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 81);
+    assert_near(c.fov, 81.0 * LC_PI / 180.0, 2.0 * LC_PI / 180.0);
+    assert_near(lc_wrap_angle(c.fov_mid - LC_PI / 2), 0.0, 1.5 * LC_PI / 180.0);
+    /* Points all around: a full view. */
+    for (int i = 0; i <= 80; i++) {
+        double a = i * 2 * LC_PI / 81;
+        xy[2 * i] = 3 * cos(a);
+        xy[2 * i + 1] = 3 * sin(a);
+    }
+    lc_ingest(&f, &cfg, &c, NULL);
+    assert_near(c.fov, 2 * LC_PI, 0);
+    lc_cloud_free(&c, NULL);
+}
+
 /* Warm buffers: a second frame of the same size allocates nothing. */
 static void test_no_alloc_when_warm(void **state)
 {
@@ -147,6 +175,7 @@ int main(void)
         cmocka_unit_test(test_self_hits),
         cmocka_unit_test(test_points_height_band),
         cmocka_unit_test(test_huge_coordinates),
+        cmocka_unit_test(test_points_view_from_bearings),
         cmocka_unit_test(test_no_alloc_when_warm),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -1,0 +1,1013 @@
+/*
+ * ellipse.c - the maximum-area ellipse inscribed in a convex polygon
+ * (Boyd and Vandenberghe, Convex Optimization, 8.4.2) by a primal-dual
+ * interior-point Newton method with Mehrotra's predictor-corrector.
+ *
+ * How a solve runs:
+ * 1. The halfspaces are normalised (unit normals).
+ * 2. A start ellipse (T, p0) strictly inside is found: the caller's warm
+ *    ellipse when it fits, otherwise the polygon is built by clipping a huge
+ *    box (this is where EMPTY and UNBOUNDED are decided) and its area centroid
+ *    and area covariance give p0 and T.
+ * 3. The problem is solved in the frame p = p0 + T q, where the start ellipse
+ *    is the unit disc and the polygon is "round": this makes the Newton
+ *    systems well conditioned whatever the polygon's size (1e-4 m or 1e3 m),
+ *    offset (1e6 m) or aspect ratio, and makes the iteration count nearly
+ *    affine invariant.
+ * 4. The result is mapped back: L = sqrtm(T L' L'^T T), d = p0 + T d', and the
+ *    multipliers are rescaled to the caller's (unnormalised) constraints.
+ *
+ * Invariants: lengths in the caller's unit (metres); the returned ellipse is
+ * feasible (shrunk about its centre by the residual infeasibility, at most
+ * gap_tol relative, before it is mapped back); the duality gap is in units
+ * of log det. No allocation, no globals: every array lives in the caller's
+ * scratch of LC_ELLIPSE_SCRATCH(n) doubles.
+ */
+#include "ellipse.h"
+
+#include <assert.h>
+#include <float.h>
+#include <stddef.h>
+#include <math.h>
+
+/* Symmetric 2x2 matrix [[a, b], [b, c]]. */
+typedef struct sym2 {
+    double a, b, c;
+} sym2;
+
+/* The polygon's halfspaces as arrays; rows [n, n + 4) hold the box. */
+typedef struct rows {
+    double *a1, *a2, *b;
+    int n;
+} rows;
+
+/* Convex polygon as a cyclic edge list: vertex k = edge k meets edge k+1. */
+typedef struct clip {
+    rows h;
+    double *edge, *vx, *vy, *sd, *te, *tx, *ty;
+    int m;
+} clip;
+
+/* Interior-point state in the rounded frame; unit normals, origin inside. */
+typedef struct ipm {
+    int n;
+    const double *a1, *a2, *b;
+    double *s, *lam, *u1, *u2, *rp, *is, *il, *inw, *pa, *ds, *dl;
+    double x[5]; /* l11, l12, l22, d1, d2 */
+} ipm;
+
+/* Start ellipse and a record of how it was found. */
+typedef struct start {
+    sym2 t;
+    lc_vec2 p0;
+    int warm;
+} start;
+
+enum {
+    BOX_EDGES = 4,
+    NX = 5,
+};
+
+/* Start ellipse in the rounded frame: theta times the unit disc (the warm
+ * ellipse touches the polygon, the cold one is a rough guess). */
+static const double START_THETA = 0.92;
+static const double START_THETA_WARM = 0.97;
+/* Fraction of the way to the boundary a step may go: 1 - min(TAU_GAP,
+ * mu^0.75), so that the last steps come close to full Newton steps (fast
+ * final convergence) without letting one slack collapse far below the
+ * others (which would wreck the conditioning of the Newton matrix). */
+static const double STEP_TAU_GAP = 0.005;
+/* A Cholesky pivot below this fraction of its diagonal entry is noise. */
+static const double CHOL_LOST = 1e-13;
+static const double CHOL_HUGE = 1e150;
+/* Below this |sin| between two lines the clipper interpolates instead. */
+static const double CLIP_MIN_SIN = 1e-9;
+/* A polygon whose inradius-like slack at its centroid is below this fraction
+ * of its diameter counts as having zero area. */
+static const double ZERO_AREA_REL = 1e-9;
+/* A warm ellipse may poke out by this fraction and still count as touching. */
+static const double WARM_TOUCH_REL = 1e-9;
+/* Growth of the rounded-frame ellipse beyond which a warm solve gives up:
+ * the polygon is unbounded or the warm ellipse was far too small. */
+static const double WARM_GROWTH_MAX = 1e6;
+
+/* fmin/fmax without the libm call (operands are never NaN where used). */
+static double dmin(double p, double q) { return p < q ? p : q; }
+static double dmax(double p, double q) { return p > q ? p : q; }
+
+void lc_ellipse_opts_default(lc_ellipse_opts *opts)
+{
+    opts->gap_tol = 1e-9;
+    opts->max_iter = 60;
+}
+
+static double sym2_det(sym2 m) { return m.a * m.c - m.b * m.b; }
+
+/*
+ * Principal square root of a symmetric PD 2x2 matrix, closed form
+ * (m + s I) / sqrt(tr m + 2 s) with s = sqrt(det m) given: for a thin
+ * ellipse det m from m's entries cancels badly, while the caller can often
+ * get it from factors.
+ */
+static sym2 sym2_sqrt_det(sym2 m, double s)
+{
+    double t = sqrt(m.a + m.c + 2.0 * s);
+    return (sym2){(m.a + s) / t, m.b / t, (m.c + s) / t};
+}
+
+static sym2 sym2_sqrt(sym2 m) { return sym2_sqrt_det(m, sqrt(fmax(sym2_det(m), 0.0))); }
+
+/* p q p for symmetric p, q. */
+static sym2 sym2_sandwich(sym2 p, sym2 q)
+{
+    double m11 = p.a * q.a + p.b * q.b, m12 = p.a * q.b + p.b * q.c;
+    double m21 = p.b * q.a + p.c * q.b, m22 = p.b * q.b + p.c * q.c;
+    return (sym2){m11 * p.a + m12 * p.b, m11 * p.b + m12 * p.c, m21 * p.b + m22 * p.c};
+}
+
+static sym2 sym2_scale(sym2 m, double k) { return (sym2){m.a * k, m.b * k, m.c * k}; }
+
+static bool sym2_pd(sym2 m) { return m.a > 0.0 && m.c > 0.0 && sym2_det(m) > 0.0; }
+
+static lc_vec2 sym2_apply(sym2 m, lc_vec2 v)
+{
+    return lc_v2(m.a * v.x + m.b * v.y, m.b * v.x + m.c * v.y);
+}
+
+/* ---------------------------------------------------------------- input */
+
+/* Unit normals into r; c[i] = |a_i|. False on a non-finite or zero normal. */
+static bool normalise(const lc_halfspace *h, int n, rows r, double *c)
+{
+    for (int i = 0; i < n; i++) {
+        double ax = h[i].a.x, ay = h[i].a.y, len2 = ax * ax + ay * ay;
+        /* hypot only where the squares over- or underflow */
+        double len = len2 > 1e-300 && len2 < 1e300 ? sqrt(len2) : hypot(ax, ay);
+        if (!lc_vec2_finite(h[i].a) || !isfinite(h[i].b) || !(len > 0.0) || !isfinite(len))
+            return false;
+        r.a1[i] = ax / len;
+        r.a2[i] = ay / len;
+        r.b[i] = h[i].b / len;
+        if (!isfinite(r.b[i]))
+            return false;
+        c[i] = len;
+    }
+    return true;
+}
+
+/* ----------------------------------------------------------- cold start */
+
+static int cyc_next(int k, int m) { return k + 1 == m ? 0 : k + 1; }
+static int cyc_prev(int k, int m) { return k == 0 ? m - 1 : k - 1; }
+
+/*
+ * Where lines p and q meet. Nearly parallel lines are met by interpolating
+ * along the edge (x0, y0, s0) -> (x1, y1, s1) that crosses line q, with s
+ * the side values of its ends (s0 <= 0 < s1 or the reverse).
+ */
+static void clip_meet(const clip *c, int p, int q, const double e[6], double *x, double *y)
+{
+    const rows *r = &c->h;
+    double det = r->a1[p] * r->a2[q] - r->a2[p] * r->a1[q];
+    if (fabs(det) > CLIP_MIN_SIN) {
+        *x = (r->b[p] * r->a2[q] - r->b[q] * r->a2[p]) / det;
+        *y = (r->a1[p] * r->b[q] - r->a1[q] * r->b[p]) / det;
+        if (isfinite(*x) && isfinite(*y))
+            return;
+    }
+    double den = e[2] - e[5];
+    double t = den != 0.0 ? e[2] / den : 0.5;
+    t = fmin(fmax(t, 0.0), 1.0);
+    *x = e[0] + t * (e[3] - e[0]);
+    *y = e[1] + t * (e[4] - e[1]);
+}
+
+/* Side values against line h; returns the count of vertices strictly out. */
+static int clip_sides(clip *c, int h, int *kmax)
+{
+    const rows *r = &c->h;
+    double best = 0.0;
+    int nout = 0;
+    for (int k = 0; k < c->m; k++) {
+        double px = r->a1[h] * c->vx[k], py = r->a2[h] * c->vy[k];
+        double sd = px + py - r->b[h];
+        double tol = 8.0 * DBL_EPSILON * (fabs(px) + fabs(py) + fabs(r->b[h]));
+        c->sd[k] = sd > tol ? sd : dmin(sd, 0.0);
+        if (c->sd[k] > 0.0) {
+            nout++;
+            if (c->sd[k] > best) {
+                best = c->sd[k];
+                *kmax = k;
+            }
+        }
+    }
+    return nout;
+}
+
+/* Cuts the polygon by line h. False when nothing is left. */
+static bool clip_by(clip *c, int h)
+{
+    int m = c->m, kmax = 0;
+    int nout = clip_sides(c, h, &kmax);
+    if (nout == 0)
+        return true;
+    if (nout == m)
+        return false;
+    /* The outside run v_j..v_k around the farthest vertex (a second run can
+     * only be rounding noise next to line h; it is treated as inside). */
+    int j = kmax, k = kmax;
+    while (c->sd[cyc_prev(j, m)] > 0.0)
+        j = cyc_prev(j, m);
+    while (c->sd[cyc_next(k, m)] > 0.0)
+        k = cyc_next(k, m);
+    int cnt = 0;
+    for (int t = cyc_next(k, m);; t = cyc_next(t, m)) {
+        c->te[cnt] = c->edge[t];
+        if (t == j) {
+            int pj = cyc_prev(j, m);
+            double e[6] = {c->vx[pj], c->vy[pj], c->sd[pj], c->vx[j], c->vy[j], c->sd[j]};
+            clip_meet(c, (int)c->edge[j], h, e, &c->tx[cnt], &c->ty[cnt]);
+            cnt++;
+            break;
+        }
+        c->tx[cnt] = c->vx[t];
+        c->ty[cnt] = c->vy[t];
+        cnt++;
+    }
+    int nk = cyc_next(k, m);
+    double e[6] = {c->vx[k], c->vy[k], c->sd[k], c->vx[nk], c->vy[nk], c->sd[nk]};
+    c->te[cnt] = h;
+    clip_meet(c, (int)c->edge[nk], h, e, &c->tx[cnt], &c->ty[cnt]);
+    cnt++;
+    for (int t = 0; t < cnt; t++) {
+        c->edge[t] = c->te[t];
+        c->vx[t] = c->tx[t];
+        c->vy[t] = c->ty[t];
+    }
+    c->m = cnt;
+    return true;
+}
+
+/* Box of half-width R about the origin as rows [n, n + 4), CCW edges. */
+static void clip_init_box(clip *c, double R)
+{
+    static const double nx[BOX_EDGES] = {1, 0, -1, 0}, ny[BOX_EDGES] = {0, 1, 0, -1};
+    static const double vx[BOX_EDGES] = {1, -1, -1, 1}, vy[BOX_EDGES] = {1, 1, -1, -1};
+    for (int k = 0; k < BOX_EDGES; k++) {
+        int r = c->h.n + k;
+        c->h.a1[r] = nx[k];
+        c->h.a2[r] = ny[k];
+        c->h.b[r] = R;
+        c->edge[k] = r;
+        c->vx[k] = vx[k] * R;
+        c->vy[k] = vy[k] * R;
+    }
+    c->m = BOX_EDGES;
+}
+
+/* Area, centroid and area covariance of the clipped polygon. */
+static bool clip_moments(const clip *c, lc_vec2 *g, sym2 *cov, double *diam)
+{
+    double ox = c->vx[0], oy = c->vy[0];
+    double A = 0, sx = 0, sy = 0, sxx = 0, sxy = 0, syy = 0;
+    double xmin = ox, xmax = ox, ymin = oy, ymax = oy;
+    for (int k = 1; k + 1 < c->m; k++) {
+        double px = c->vx[k] - ox, py = c->vy[k] - oy;
+        double qx = c->vx[k + 1] - ox, qy = c->vy[k + 1] - oy;
+        double a = 0.5 * (px * qy - py * qx);
+        A += a;
+        sx += a * (px + qx) / 3.0;
+        sy += a * (py + qy) / 3.0;
+        sxx += a / 6.0 * (px * px + qx * qx + px * qx);
+        syy += a / 6.0 * (py * py + qy * qy + py * qy);
+        sxy += a / 12.0 * (2.0 * px * py + 2.0 * qx * qy + px * qy + qx * py);
+    }
+    for (int k = 0; k < c->m; k++) {
+        xmin = fmin(xmin, c->vx[k]);
+        xmax = fmax(xmax, c->vx[k]);
+        ymin = fmin(ymin, c->vy[k]);
+        ymax = fmax(ymax, c->vy[k]);
+    }
+    *diam = hypot(xmax - xmin, ymax - ymin);
+    if (!(A > 0.0) || !isfinite(A))
+        return false;
+    double cx = sx / A, cy = sy / A;
+    *g = lc_v2(ox + cx, oy + cy);
+    *cov = (sym2){sxx / A - cx * cx, sxy / A - cx * cy, syy / A - cy * cy};
+    return true;
+}
+
+/* Smallest slack of the real halfspaces at p, less its rounding error. */
+static double min_slack(rows r, lc_vec2 p)
+{
+    double best = INFINITY;
+    for (int i = 0; i < r.n; i++) {
+        double px = r.a1[i] * p.x, py = r.a2[i] * p.y;
+        double err = 16.0 * DBL_EPSILON * (fabs(px) + fabs(py) + fabs(r.b[i]));
+        best = dmin(best, r.b[i] - px - py - err);
+    }
+    return best;
+}
+
+/*
+ * A point near the polygon: where line 0 meets the line most transversal to
+ * it. Clipping about it keeps the offsets b small, so that vertices of
+ * nearly parallel lines far from the origin (a sliver at 1e6 m) are not lost
+ * to cancellation.
+ */
+static lc_vec2 reference_point(rows r)
+{
+    int best = 0;
+    double sbest = 0.0;
+    for (int i = 1; i < r.n; i++) {
+        double sn = fabs(r.a1[0] * r.a2[i] - r.a2[0] * r.a1[i]);
+        if (sn > sbest) {
+            sbest = sn;
+            best = i;
+        }
+    }
+    if (!(sbest > CLIP_MIN_SIN))
+        return lc_v2(r.a1[0] * r.b[0], r.a2[0] * r.b[0]);
+    double det = r.a1[0] * r.a2[best] - r.a2[0] * r.a1[best];
+    return lc_v2((r.b[0] * r.a2[best] - r.b[best] * r.a2[0]) / det,
+                 (r.a1[0] * r.b[best] - r.a1[best] * r.b[0]) / det);
+}
+
+/* Rows of r about ref (offsets into bl); returns max |offset|. */
+static double local_rows(rows r, lc_vec2 ref, double *bl, rows *loc)
+{
+    double bmax = 0.0;
+    for (int i = 0; i < r.n; i++) {
+        bl[i] = r.b[i] - r.a1[i] * ref.x - r.a2[i] * ref.y;
+        bmax = dmax(bmax, fabs(bl[i]));
+    }
+    *loc = (rows){r.a1, r.a2, bl, r.n};
+    return bmax;
+}
+
+/*
+ * Clips a box far larger than any sensible polygon (1e9 times the largest
+ * offset) by every halfspace. A box edge left over means unbounded.
+ */
+static int clip_all(clip *c, double bmax)
+{
+    clip_init_box(c, 1e9 * (bmax > 0.0 ? bmax : 1.0));
+    for (int i = 0; i < c->h.n; i++)
+        if (!clip_by(c, i))
+            return LC_ELLIPSE_EMPTY;
+    for (int k = 0; k < c->m; k++)
+        if (c->edge[k] >= c->h.n)
+            return LC_ELLIPSE_UNBOUNDED;
+    return LC_ELLIPSE_OK;
+}
+
+/* True when the polygon's edges lie far from the origin of the clip frame. */
+static bool clip_far(const clip *c, double diam)
+{
+    double far = 0.0;
+    for (int k = 0; k < c->m; k++)
+        far = dmax(far, fabs(c->h.b[(int)c->edge[k]]));
+    return far > 1e3 * diam;
+}
+
+/*
+ * Cold start: the polygon by clipping (where EMPTY and UNBOUNDED are
+ * decided), about a reference point near it, redone once about the
+ * centroid when the reference was far; then centroid and covariance.
+ */
+static int cold_start(rows r, double *work, start *st)
+{
+    int m = r.n + BOX_EDGES;
+    lc_vec2 ref = reference_point(r);
+    for (int pass = 0;; pass++) {
+        rows loc;
+        double bmax = local_rows(r, ref, work, &loc);
+        clip c = {loc,          work + m,     work + 2 * m, work + 3 * m, work + 4 * m,
+                  work + 5 * m, work + 6 * m, work + 7 * m, 0};
+        int status = clip_all(&c, bmax);
+        if (status != LC_ELLIPSE_OK)
+            return status;
+        lc_vec2 g;
+        sym2 cov;
+        double diam;
+        if (!clip_moments(&c, &g, &cov, &diam))
+            return LC_ELLIPSE_EMPTY;
+        if (pass == 0 && clip_far(&c, diam)) {
+            ref = lc_add(ref, g);
+            continue;
+        }
+        if (!(min_slack(loc, g) > ZERO_AREA_REL * diam))
+            return LC_ELLIPSE_EMPTY;
+        st->p0 = lc_add(ref, g);
+        st->t = sym2_pd(cov) ? sym2_sqrt(cov) : (sym2){diam, 0.0, diam};
+        st->warm = 0;
+        return LC_ELLIPSE_OK;
+    }
+}
+
+/*
+ * True when the normals are not all in one closed half-plane, i.e. the
+ * polygon (if not empty) is bounded. Each normal gets a pseudo-angle in
+ * (-2, 2] relative to the first one (monotone in the true angle, no trig);
+ * the normals fit in a half-plane exactly when the two extreme ones span at
+ * most 180 degrees, or, with an exact antipode of the first, when all the
+ * others lie on one side of it.
+ */
+static bool normals_surround(rows r)
+{
+    double a0x = r.a1[0], a0y = r.a2[0], pmin = 0.0, pmax = 0.0;
+    int imin = 0, imax = 0;
+    bool antipode = false;
+    for (int i = 1; i < r.n; i++) {
+        double x = a0x * r.a1[i] + a0y * r.a2[i], y = a0x * r.a2[i] - a0y * r.a1[i];
+        if (y == 0.0) {
+            antipode = antipode || x < 0.0;
+            continue;
+        }
+        double p = (1.0 - x / (fabs(x) + fabs(y))) * (y > 0.0 ? 1.0 : -1.0);
+        if (p < pmin) {
+            pmin = p;
+            imin = i;
+        }
+        if (p > pmax) {
+            pmax = p;
+            imax = i;
+        }
+    }
+    if (antipode)
+        return pmin < 0.0 && pmax > 0.0;
+    double span = r.a1[imin] * r.a2[imax] - r.a2[imin] * r.a1[imax];
+    return pmin < 0.0 && pmax > 0.0 && span < 0.0;
+}
+
+/* A warm ellipse is worth trying when finite and positive definite. */
+static bool warm_valid(const lc_ellipse *w)
+{
+    sym2 t = {w->l11, w->l12, w->l22};
+    return isfinite(t.a) && isfinite(t.b) && isfinite(t.c) && lc_vec2_finite(w->d) &&
+           sym2_pd(t);
+}
+
+/* ------------------------------------------------------- rounded frame */
+
+/*
+ * Rewrites r in the frame p = p0 + T q with unit normals, T scaled so that
+ * the unit disc touches the polygon; c[i] *= |T a_i|. Returns the scale
+ * applied: 1 when the start ellipse touched the polygon, < 1 when it poked
+ * out, not > 0 when the centre is outside.
+ */
+static double to_frame(rows r, double *c, start *st)
+{
+    double rmin = INFINITY;
+    for (int i = 0; i < r.n; i++) {
+        lc_vec2 ta = sym2_apply(st->t, lc_v2(r.a1[i], r.a2[i]));
+        double len = sqrt(ta.x * ta.x + ta.y * ta.y), il = 1.0 / len;
+        double room = r.b[i] - r.a1[i] * st->p0.x - r.a2[i] * st->p0.y;
+        r.a1[i] = ta.x * il;
+        r.a2[i] = ta.y * il;
+        r.b[i] = room * il;
+        c[i] *= len;
+        rmin = dmin(rmin, r.b[i]);
+    }
+    if (!(rmin > 0.0) || !isfinite(rmin))
+        return 0.0;
+    double ir = 1.0 / rmin;
+    for (int i = 0; i < r.n; i++) {
+        r.b[i] *= ir;
+        c[i] *= rmin;
+    }
+    st->t = sym2_scale(st->t, rmin);
+    return rmin;
+}
+
+/* --------------------------------------------------------- Newton step */
+
+/*
+ * Notation: x = (l11, l12, l22, d1, d2), g_i(x) = |L a_i| + a_i . d - b_i,
+ * slack s_i (g_i + s_i = 0 at a solution), multiplier lam_i, u_i = L a_i /
+ * |L a_i|. The gradient of g_i is G_i = (a1 u1, a2 u1 + a1 u2, a2 u2, a1, a2)
+ * and its Hessian the rank-one z_i z_i^T / |L a_i| on the L block, with
+ * z_i = J^T u_i^perp. Eliminating ds and dlam from the Newton system of the
+ * perturbed KKT conditions leaves the 5x5 SPD system
+ *   (H_f + sum lam_i/|L a_i| z z^T + sum lam_i/s_i G G^T) dx
+ *     = -r_d - sum G_i (lam_i rp_i - rc_i) / s_i,
+ *   ds_i = -rp_i - G_i . dx,  dlam_i = (-rc_i - lam_i ds_i) / s_i,
+ * with rc_i = s_i lam_i (predictor) or s_i lam_i + ds_i dlam_i - sigma mu
+ * (Mehrotra's corrector).
+ */
+
+/* Packed lower triangle of a symmetric 5x5 matrix. */
+enum { NT = NX * (NX + 1) / 2 };
+static int tri(int r, int c) { return r * (r + 1) / 2 + c; }
+
+/*
+ * In-place Cholesky of a packed SPD 5x5 matrix. Near the optimum the weights
+ * lam/s of active constraints reach 1e10 and more, and a pivot can lose all
+ * its digits to rounding; such a pivot is set huge, which freezes that
+ * direction instead of failing (the usual safeguard of interior-point LP
+ * codes, common practice). False only on a non-finite matrix.
+ */
+static bool chol5(double H[NT])
+{
+    for (int j = 0; j < NX; j++) {
+        double d = H[tri(j, j)], d0 = d;
+        for (int k = 0; k < j; k++)
+            d -= H[tri(j, k)] * H[tri(j, k)];
+        if (!isfinite(d))
+            return false;
+        if (!(d > CHOL_LOST * d0))
+            d = CHOL_HUGE;
+        d = sqrt(d);
+        H[tri(j, j)] = d;
+        for (int i = j + 1; i < NX; i++) {
+            double v = H[tri(i, j)];
+            for (int k = 0; k < j; k++)
+                v -= H[tri(i, k)] * H[tri(j, k)];
+            H[tri(i, j)] = v / d;
+        }
+    }
+    return true;
+}
+
+/* Cholesky factor with the reciprocals of its diagonal. */
+typedef struct chol {
+    double f[NT], id[NX];
+} chol;
+
+static void chol5_solve(const chol *c, const double rhs[NX], double x[NX])
+{
+    double y[NX];
+    for (int i = 0; i < NX; i++) {
+        double v = rhs[i];
+        for (int k = 0; k < i; k++)
+            v -= c->f[tri(i, k)] * y[k];
+        y[i] = v * c->id[i];
+    }
+    for (int i = NX - 1; i >= 0; i--) {
+        double v = y[i];
+        for (int k = i + 1; k < NX; k++)
+            v -= c->f[tri(k, i)] * x[k];
+        x[i] = v * c->id[i];
+    }
+}
+
+/* -log det L: gradient into g, Hessian into H. */
+static void objective_derivs(const double x[NX], double g[NX], double H[NT])
+{
+    double l11 = x[0], l12 = x[1], l22 = x[2];
+    double iD = 1.0 / (l11 * l22 - l12 * l12), iD2 = iD * iD;
+    g[0] = -l22 * iD;
+    g[1] = 2.0 * l12 * iD;
+    g[2] = -l11 * iD;
+    g[3] = g[4] = 0.0;
+    for (int k = 0; k < NT; k++)
+        H[k] = 0.0;
+    H[tri(0, 0)] = l22 * l22 * iD2;
+    H[tri(1, 0)] = -2.0 * l12 * l22 * iD2;
+    H[tri(2, 0)] = l12 * l12 * iD2;
+    H[tri(1, 1)] = 2.0 * iD + 4.0 * l12 * l12 * iD2;
+    H[tri(2, 1)] = -2.0 * l12 * l11 * iD2;
+    H[tri(2, 2)] = l11 * l11 * iD2;
+}
+
+/* What one evaluation pass gathers at the current point. */
+typedef struct kkt {
+    double H[NT];     /* reduced matrix */
+    double rd[NX];    /* dual residual */
+    double rhs[NX];   /* predictor right-hand side */
+    double gs[NX];    /* sum G_i / s_i, for the corrector */
+    double gap, rpmax; /* sum s lam, max |primal residual| */
+} kkt;
+
+static void grad_g(double a1, double a2, double u1, double u2, double G[NX])
+{
+    G[0] = a1 * u1;
+    G[1] = a2 * u1 + a1 * u2;
+    G[2] = a2 * u2;
+    G[3] = a1;
+    G[4] = a2;
+}
+
+/* H += k v v^T on the leading 3x3 block (written out: the hot loop). */
+static void rank1_3(double H[NT], const double v[3], double k)
+{
+    double k0 = k * v[0], k1 = k * v[1], k2 = k * v[2];
+    H[0] += k0 * v[0];
+    H[1] += k1 * v[0];
+    H[2] += k1 * v[1];
+    H[3] += k2 * v[0];
+    H[4] += k2 * v[1];
+    H[5] += k2 * v[2];
+}
+
+/* H += k v v^T on the whole packed 5x5 matrix. */
+static void rank1_5(double H[NT], const double v[NX], double k)
+{
+    rank1_3(H, v, k);
+    double k3 = k * v[3], k4 = k * v[4];
+    H[6] += k3 * v[0];
+    H[7] += k3 * v[1];
+    H[8] += k3 * v[2];
+    H[9] += k3 * v[3];
+    H[10] += k4 * v[0];
+    H[11] += k4 * v[1];
+    H[12] += k4 * v[2];
+    H[13] += k4 * v[3];
+    H[14] += k4 * v[4];
+}
+
+/*
+ * Moves s and lam by alpha along the last direction and evaluates each
+ * constraint (u, primal residual, 1/s, 1/|L a|). Kept apart from the
+ * accumulation so that the square roots and divisions of consecutive
+ * constraints overlap instead of waiting on each other.
+ */
+static void evaluate(ipm *w, double alpha)
+{
+    const double x0 = w->x[0], x1 = w->x[1], x2 = w->x[2], x3 = w->x[3], x4 = w->x[4];
+    for (int i = 0; i < w->n; i++) {
+        double s = w->s[i] + alpha * w->ds[i];
+        double a1 = w->a1[i], a2 = w->a2[i];
+        double w1 = x0 * a1 + x1 * a2, w2 = x1 * a1 + x2 * a2;
+        double nw = sqrt(w1 * w1 + w2 * w2), inw = 1.0 / nw;
+        w->lam[i] += alpha * w->dl[i];
+        w->s[i] = s;
+        w->u1[i] = w1 * inw;
+        w->u2[i] = w2 * inw;
+        w->inw[i] = inw;
+        w->is[i] = 1.0 / s;
+        w->il[i] = 1.0 / w->lam[i];
+        w->rp[i] = nw + a1 * x3 + a2 * x4 - w->b[i] + s;
+    }
+}
+
+/* Residuals and the reduced Newton matrix at the evaluated point. */
+static void assemble(ipm *w, kkt *k)
+{
+    double gf[NX], H[NT], rd[NX], acc[NX] = {0}, gs[NX] = {0}, gap = 0.0, rpmax = 0.0;
+    objective_derivs(w->x, gf, H);
+    for (int p = 0; p < NX; p++)
+        rd[p] = gf[p];
+    for (int i = 0; i < w->n; i++) {
+        double s = w->s[i], lam = w->lam[i], is = w->is[i], rp = w->rp[i];
+        double a1 = w->a1[i], a2 = w->a2[i], u1 = w->u1[i], u2 = w->u2[i];
+        double G[NX], z[3] = {-a1 * u2, a1 * u1 - a2 * u2, a2 * u1};
+        grad_g(a1, a2, u1, u2, G);
+        double kg = lam * is, v = lam * (rp * is - 1.0);
+        rank1_3(H, z, lam * w->inw[i]);
+        rank1_5(H, G, kg);
+        for (int p = 0; p < NX; p++) {
+            rd[p] += lam * G[p];
+            acc[p] += v * G[p];
+            gs[p] += is * G[p];
+        }
+        gap += s * lam;
+        rpmax = dmax(rpmax, fabs(rp));
+    }
+    for (int p = 0; p < NX; p++) {
+        k->rd[p] = rd[p];
+        k->rhs[p] = -rd[p] - acc[p];
+        k->gs[p] = gs[p];
+    }
+    for (int q = 0; q < NT; q++)
+        k->H[q] = H[q];
+    k->gap = gap;
+    k->rpmax = rpmax;
+}
+
+/* Largest step in (0, 1e300] keeping L + alpha dL positive definite. */
+static double step_pd(const double x[NX], const double dx[NX])
+{
+    double c0 = x[0] * x[2] - x[1] * x[1];
+    double c1 = x[0] * dx[2] + x[2] * dx[0] - 2.0 * x[1] * dx[1];
+    double c2 = dx[0] * dx[2] - dx[1] * dx[1];
+    double best = 1e300;
+    /* roots of c0 + c1 t + c2 t^2 with c0 > 0 */
+    if (c2 == 0.0)
+        return c1 < 0.0 ? -c0 / c1 : best;
+    double disc = c1 * c1 - 4.0 * c2 * c0;
+    if (disc < 0.0)
+        return best;
+    double q = -0.5 * (c1 + copysign(sqrt(disc), c1));
+    double r1 = q / c2, r2 = q != 0.0 ? c0 / q : 1e300;
+    if (r1 > 0.0)
+        best = dmin(best, r1);
+    if (r2 > 0.0)
+        best = dmin(best, r2);
+    return best;
+}
+
+/* 1 / (largest step keeping positive): max(0, -dv/v, ...), from 1/v. */
+static double inv_step(double dv, double iv, double acc) { return dmax(acc, -dv * iv); }
+
+/* G_i . dx from the cached u_i. */
+static double g_dot(const ipm *w, int i, const double dx[NX])
+{
+    double a1 = w->a1[i], a2 = w->a2[i];
+    return w->u1[i] * (a1 * dx[0] + a2 * dx[1]) + w->u2[i] * (a1 * dx[1] + a2 * dx[2]) +
+           a1 * dx[3] + a2 * dx[4];
+}
+
+/* What the predictor pass hands to the corrector. */
+typedef struct affine {
+    double alpha, mu;  /* affine step length, complementarity after it */
+    double gp[NX];     /* sum G_i ds_i dlam_i / s_i */
+} affine;
+
+/* Affine-scaling (predictor) direction; stores ds*dlam per constraint. */
+static void predictor(ipm *w, const chol *Hc, const kkt *k, affine *af)
+{
+    double dx[NX], gp[NX] = {0}, s1 = 0.0, s2 = 0.0, ia_s = 0.0, ia_l = 0.0;
+    chol5_solve(Hc, k->rhs, dx);
+    for (int i = 0; i < w->n; i++) {
+        double s = w->s[i], lam = w->lam[i];
+        double ds = -w->rp[i] - g_dot(w, i, dx);
+        double dl = -lam * (s + ds) * w->is[i];
+        ia_s = inv_step(ds, w->is[i], ia_s);
+        ia_l = inv_step(dl, w->il[i], ia_l);
+        s1 += s * dl + lam * ds;
+        s2 += ds * dl;
+        double pa = ds * dl, G[NX];
+        w->pa[i] = pa;
+        grad_g(w->a1[i], w->a2[i], w->u1[i], w->u2[i], G);
+        for (int p = 0; p < NX; p++)
+            gp[p] += pa * w->is[i] * G[p];
+    }
+    af->alpha = dmin(1.0, dmin(step_pd(w->x, dx), 1.0 / dmax(ia_s, ia_l)));
+    af->mu = (k->gap + af->alpha * s1 + af->alpha * af->alpha * s2) / w->n;
+    for (int p = 0; p < NX; p++)
+        af->gp[p] = gp[p];
+}
+
+/* Corrector direction into dx, w->ds, w->dl; returns the largest step. */
+static double corrector(ipm *w, const chol *Hc, const kkt *k, const affine *af,
+                        double sigma_mu, double dx[NX])
+{
+    double rhs[NX];
+    for (int p = 0; p < NX; p++)
+        rhs[p] = k->rhs[p] - sigma_mu * k->gs[p] + af->gp[p];
+    chol5_solve(Hc, rhs, dx);
+    double ia_s = 0.0, ia_l = 0.0;
+    for (int i = 0; i < w->n; i++) {
+        double s = w->s[i], lam = w->lam[i];
+        double ds = -w->rp[i] - g_dot(w, i, dx);
+        double rc = s * lam - sigma_mu + w->pa[i];
+        double dl = (-rc - lam * ds) * w->is[i];
+        w->ds[i] = ds;
+        w->dl[i] = dl;
+        ia_s = inv_step(ds, w->is[i], ia_s);
+        ia_l = inv_step(dl, w->il[i], ia_l);
+    }
+    return dmin(step_pd(w->x, dx), 1.0 / dmax(ia_s, ia_l));
+}
+
+/*
+ * One Mehrotra predictor-corrector step: x moves now, s and lam at the next
+ * evaluate(). Returns the step length, 0 on a numerical breakdown.
+ */
+static double ipm_step(ipm *w, const kkt *k)
+{
+    chol hc;
+    double dx[NX];
+    for (int q = 0; q < NT; q++)
+        hc.f[q] = k->H[q];
+    if (!chol5(hc.f))
+        return 0.0;
+    for (int p = 0; p < NX; p++)
+        hc.id[p] = 1.0 / hc.f[tri(p, p)];
+    double mu = k->gap / w->n;
+    affine af;
+    predictor(w, &hc, k, &af);
+    double ratio = dmin(dmax(af.mu / mu, 0.0), 1.0);
+    double sigma_mu = ratio * ratio * ratio * mu;
+    double rmu = sqrt(mu), tau = 1.0 - dmin(STEP_TAU_GAP, rmu * sqrt(rmu)); /* mu^0.75 */
+    double alpha = dmin(1.0, tau * corrector(w, &hc, k, &af, sigma_mu, dx));
+    if (!(alpha > 0.0) || !isfinite(alpha))
+        return 0.0;
+    for (int p = 0; p < NX; p++)
+        w->x[p] += alpha * dx[p];
+    return alpha;
+}
+
+/* Start: L = theta I, d = 0, exact slacks, lambda centred with sum lambda |L a| = 2. */
+static void ipm_init(ipm *w, double th)
+{
+    w->x[0] = th;
+    w->x[1] = 0.0;
+    w->x[2] = th;
+    w->x[3] = w->x[4] = 0.0;
+    double sum = 0.0;
+    for (int i = 0; i < w->n; i++) {
+        w->s[i] = w->b[i] - th;
+        w->ds[i] = w->dl[i] = 0.0;
+        sum += th / w->s[i];
+    }
+    double mu = 2.0 / sum;
+    for (int i = 0; i < w->n; i++)
+        w->lam[i] = mu / w->s[i];
+}
+
+static double absmax5(const double v[NX])
+{
+    double m = 0.0;
+    for (int p = 0; p < NX; p++)
+        m = dmax(m, fabs(v[p]));
+    return m;
+}
+
+/* Runs the method; returns the status, iterations and gap through info. */
+static int ipm_run(ipm *w, const lc_ellipse_opts *o, bool warm, lc_ellipse_info *info)
+{
+    kkt k;
+    int it = 0, status = LC_ELLIPSE_MAX_ITER;
+    double ptol = o->gap_tol, dtol = sqrt(o->gap_tol) * 1e-2, alpha = 0.0;
+    ipm_init(w, warm ? START_THETA_WARM : START_THETA);
+    for (;;) {
+        evaluate(w, alpha);
+        assemble(w, &k);
+        if (k.gap <= o->gap_tol && k.rpmax <= ptol && absmax5(k.rd) <= dtol) {
+            status = LC_ELLIPSE_OK;
+            break;
+        }
+        if (it >= o->max_iter)
+            break;
+        if (warm && dmax(w->x[0], w->x[2]) > WARM_GROWTH_MAX)
+            return LC_ELLIPSE_UNBOUNDED;
+        alpha = ipm_step(w, &k);
+        if (!(alpha > 0.0))
+            break;
+        it++;
+    }
+    info->iterations = it;
+    info->gap = k.gap;
+    return status;
+}
+
+/*
+ * Shrinks the rounded-frame ellipse about its centre until it is feasible,
+ * from the last evaluation (g_i = rp_i - s_i at the current point).
+ */
+static bool make_feasible(ipm *w)
+{
+    double kappa = 1.0;
+    for (int i = 0; i < w->n; i++) {
+        double g = w->rp[i] - w->s[i];
+        if (g > 0.0)
+            kappa = dmin(kappa, 1.0 - g * w->inw[i]);
+    }
+    if (!(kappa > 0.0))
+        return false;
+    w->x[0] *= kappa;
+    w->x[1] *= kappa;
+    w->x[2] *= kappa;
+    return true;
+}
+
+/* ------------------------------------------------------------- driver */
+
+static void ipm_bind(ipm *w, rows r, double *work)
+{
+    int n = r.n;
+    w->n = n;
+    w->a1 = r.a1;
+    w->a2 = r.a2;
+    w->b = r.b;
+    double **arr[] = {&w->s,  &w->lam, &w->u1, &w->u2, &w->rp, &w->is,
+                      &w->il, &w->inw, &w->pa, &w->ds, &w->dl};
+    for (int j = 0; j < (int)(sizeof arr / sizeof arr[0]); j++)
+        *arr[j] = work + j * n;
+}
+
+/* Maps the rounded-frame result back; lambda_i /= c_i. */
+static void map_back(const ipm *w, const start *st, const double *c, lc_ellipse *out,
+                     double *lambda)
+{
+    sym2 lq = {w->x[0], w->x[1], w->x[2]};
+    double s = sym2_det(st->t) * sym2_det(lq); /* sqrt(det(T L'^2 T)) */
+    sym2 l = sym2_sqrt_det(sym2_sandwich(st->t, sym2_sandwich(lq, (sym2){1, 0, 1})), s);
+    lc_vec2 d = lc_add(st->p0, sym2_apply(st->t, lc_v2(w->x[3], w->x[4])));
+    *out = (lc_ellipse){l.a, l.b, l.c, d};
+    if (lambda)
+        for (int i = 0; i < w->n; i++)
+            lambda[i] = w->lam[i] / c[i];
+}
+
+/*
+ * Rounding in the way back can leave the ellipse out of a halfspace by a few
+ * ulps of the caller's coordinates: shrink L about d so that every
+ * a . d + |L a| <= b holds as evaluated in the caller's own numbers.
+ */
+static void polish(const lc_halfspace *h, int n, lc_ellipse *e)
+{
+    for (int i = 0; i < n; i++) {
+        for (int tries = 0; tries < 4 && !lc_ellipse_inside_halfspace(e, h[i], 0.0); tries++) {
+            sym2 l = {e->l11, e->l12, e->l22};
+            double room = h[i].b - lc_dot(h[i].a, e->d), len = lc_len(sym2_apply(l, h[i].a));
+            if (!(room > 0.0))
+                break;
+            double kappa = room / len * (1.0 - 4.0 * DBL_EPSILON);
+            e->l11 *= kappa;
+            e->l12 *= kappa;
+            e->l22 *= kappa;
+        }
+    }
+}
+
+/* Solves from st in its rounded frame (r already mapped by to_frame). */
+static int solve_in_frame(const lc_halfspace *h, rows r, const double *c, const start *st,
+                          double *work, const lc_ellipse_opts *o, lc_ellipse *out,
+                          double *lambda, lc_ellipse_info *info)
+{
+    ipm w;
+    ipm_bind(&w, r, work);
+    int status = ipm_run(&w, o, st->warm, info);
+    if (status < 0 || !make_feasible(&w))
+        return status < 0 ? status : LC_ELLIPSE_MAX_ITER;
+    info->warm_used = st->warm;
+    map_back(&w, st, c, out, lambda);
+    polish(h, r.n, out);
+    return status;
+}
+
+/*
+ * The warm attempt: used when the warm ellipse lies inside (touching allowed)
+ * and the solve converges; otherwise the caller starts cold.
+ */
+static bool try_warm(const lc_halfspace *h, rows r, double *c, const lc_ellipse *warm,
+                     double *work, const lc_ellipse_opts *o, lc_ellipse *out, double *lambda,
+                     lc_ellipse_info *info)
+{
+    start st = {{warm->l11, warm->l12, warm->l22}, warm->d, 1};
+    if (!(to_frame(r, c, &st) >= 1.0 - WARM_TOUCH_REL))
+        return false;
+    return solve_in_frame(h, r, c, &st, work, o, out, lambda, info) == LC_ELLIPSE_OK;
+}
+
+static lc_ellipse_opts opts_or_default(const lc_ellipse_opts *opts)
+{
+    lc_ellipse_opts o;
+    lc_ellipse_opts_default(&o);
+    if (opts && opts->gap_tol > 0.0 && isfinite(opts->gap_tol))
+        o.gap_tol = opts->gap_tol;
+    if (opts && opts->max_iter >= 0)
+        o.max_iter = opts->max_iter;
+    return o;
+}
+
+int lc_ellipse_solve(const lc_halfspace *h, int n, const lc_ellipse *warm,
+                     const lc_ellipse_opts *opts, lc_ellipse *out, double *lambda,
+                     double *scratch, lc_ellipse_info *info)
+{
+    assert(out && scratch && (h || n <= 0));
+    lc_ellipse_info dummy;
+    lc_ellipse_opts o = opts_or_default(opts);
+    if (!info)
+        info = &dummy;
+    *info = (lc_ellipse_info){0, INFINITY, 0};
+    if (n < 3)
+        return LC_ELLIPSE_BAD_INPUT;
+
+    int m = n + BOX_EDGES;
+    rows r = {scratch, scratch + m, scratch + 2 * m, n};
+    double *c = scratch + 3 * m, *work = c + n;
+    if (!normalise(h, n, r, c))
+        return LC_ELLIPSE_BAD_INPUT;
+    if (warm && warm_valid(warm) && normals_surround(r)) {
+        if (try_warm(h, r, c, warm, work, &o, out, lambda, info))
+            return LC_ELLIPSE_OK;
+        normalise(h, n, r, c); /* the attempt rewrote the rows */
+        *info = (lc_ellipse_info){0, INFINITY, 0};
+    }
+    start st;
+    int status = cold_start(r, work, &st);
+    if (status != LC_ELLIPSE_OK)
+        return status;
+    if (!(to_frame(r, c, &st) > 0.0))
+        return LC_ELLIPSE_EMPTY;
+    return solve_in_frame(h, r, c, &st, work, &o, out, lambda, info);
+}
+
+double lc_ellipse_area(const lc_ellipse *e)
+{
+    return LC_PI * (e->l11 * e->l22 - e->l12 * e->l12);
+}
+
+double lc_ellipse_logdet(const lc_ellipse *e)
+{
+    return log(e->l11 * e->l22 - e->l12 * e->l12);
+}
+
+bool lc_ellipse_inside_halfspace(const lc_ellipse *e, lc_halfspace h, double eps)
+{
+    sym2 l = {e->l11, e->l12, e->l22};
+    return lc_dot(h.a, e->d) + lc_len(sym2_apply(l, h.a)) <= h.b + eps;
+}
+
+double lc_ellipse_norm(const lc_ellipse *e, lc_vec2 p)
+{
+    double det = e->l11 * e->l22 - e->l12 * e->l12;
+    lc_vec2 q = lc_sub(p, e->d);
+    /* L^-1 = adj(L) / det */
+    lc_vec2 u = lc_v2(e->l22 * q.x - e->l12 * q.y, -e->l12 * q.x + e->l11 * q.y);
+    return lc_len(u) / fabs(det);
+}

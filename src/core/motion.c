@@ -1,0 +1,521 @@
+/*
+ * motion.c - one control step for the point-mass and the unicycle model.
+ *
+ * Frames: pose, region and target are in the world frame; setpoints (last
+ * and out) in the robot frame of the current pose (the point model's `last`
+ * is taken as the robot's present velocity in that frame). Units SI. The
+ * other model's fields of a setpoint are left zero.
+ *
+ * The braking promise. A setpoint is "safe" when the robot, starting now at
+ * pose with the setpoint's velocity, holding it for params->latency and then
+ * decelerating at robot->a_max to rest, keeps its centre inside the region:
+ *   point:    along the straight line of the velocity, over
+ *             lc_stopping_distance(|v|, latency, a_max);
+ *   unicycle: when the robot can hold the curvature k = w / v while braking
+ *             (|k| a_max <= dw_max): along that arc, over the same path
+ *             length, checked exactly per halfspace (lc_motion_arc_margin);
+ *             otherwise v and w fall at their full rates, the curvature only
+ *             grows, and the path stays in the disc of radius 1 / |k|
+ *             tangent at the pose (Tait-Kneser), which is checked instead.
+ *   Both with LC_MOTION_EPS of rounding slack.
+ * What the step guarantees:
+ *   - every rate limit holds against `last` (|dv| <= a_max dt as a vector for
+ *     the point model; |dv| <= a_max dt and |dw| <= dw_max dt for the
+ *     unicycle), and so do |v| <= v_max, |w| <= w_max and "no reversing"
+ *     whenever `last` respected them (if it did not, the rate limit wins and
+ *     the step moves toward the limit at the full rate);
+ *   - point: the setpoint is safe whenever the maximal deceleration of `last`
+ *     (same direction, speed |last| - a_max dt, or rest) is safe; in
+ *     particular whenever `last` itself is safe here, since a slower velocity
+ *     in the same direction is always safe when a faster one is;
+ *   - unicycle: the setpoint is safe whenever the speed of the v window
+ *     closest to 0 is safe with one of the w tried with it (the rate-limited
+ *     w, both ways of braking on from `last`, 9 samples of the w window);
+ *     in particular whenever `last` was
+ *     safe and the region has not changed, and always when the robot can
+ *     come to rest within one step (|v_last| <= a_max dt), since turning in
+ *     place does not move the centre;
+ *   - otherwise no setpoint within the rate limits is known to be safe and
+ *     the step brakes as hard as the rate limit allows (speed |last| -
+ *     a_max dt in the direction already travelled; the unicycle also picks
+ *     the candidate w whose braking path leaves the region least), with
+ *     limit "braking".
+ *   Recursion: a robot that holds each setpoint for dt and then gets the
+ *   next one keeps these promises from step to step exactly when
+ *   params->latency >= dt (for a straight or constant-curvature brake,
+ *   holding v for dt instead of braking costs v dt - v^2 / (2 a_max) of
+ *   room, at most a_max dt^2 / 2); with latency 0 the centre can end up to
+ *   a_max dt^2 / 2 beyond the promised stop (0.6 mm at the defaults).
+ * Within those limits the step is the best it finds: the requested
+ * velocity when safe, else the safe point closest to it on a search line
+ * toward the maximal deceleration (bisection; always a verified-safe point,
+ * not necessarily the global optimum of the non-convex safe set).
+ *
+ * Unicycle reference heading: the waypoint's final heading is free, so the
+ * polar law's goal frame is aligned with the bearing from robot to target.
+ * Then beta = 0 and w = k_alpha alpha; the reduced system (rho, alpha) is
+ * locally exponentially stable for k_rho > 0 and k_alpha - k_rho > 0 (the
+ * textbook conditions without the one on beta), and the robot arrives
+ * heading straight at the target. When v_max or w_max saturates, the law's
+ * curvature w / v is kept by lowering v, so the robot never circles a target
+ * inside its turning circle.
+ */
+#include "motion.h"
+
+#define LC_MOTION_EPS 1e-9       /* m, rounding slack of the braking checks */
+#define LC_MOTION_TINY 1e-12     /* m or m/s below which a length or speed is 0 */
+#define LC_SEARCH_COARSE 16      /* samples of the unicycle's v search */
+#define LC_SEARCH_BISECT 40      /* bisection steps of either search */
+#define LC_FALLBACK_W 8          /* w samples when no safe v exists */
+
+const char *lc_limit_name(lc_limit limit)
+{
+    static const char *const names[LC_LIMIT_COUNT] = {
+        "none", "goal", "top_speed", "braking", "accel", "turning",
+        "turn_rate", "too_close", "stale", "blocked", "arrived", "idle",
+    };
+    if ((int)limit < 0 || limit >= LC_LIMIT_COUNT)
+        return "unknown";
+    return names[limit];
+}
+
+void lc_motion_params_default(lc_motion_params *params)
+{
+    *params = (lc_motion_params){
+        .k_p = 1.0,
+        .k_rho = 3.0,   /* textbook gains (Siegwart et al. 3.6), from memory */
+        .k_alpha = 8.0,
+        .k_beta = -1.5,
+        .turn_in_place = 1.0,
+        .latency = 0.0,
+    };
+}
+
+lc_setpoint lc_setpoint_stop(lc_limit why)
+{
+    return (lc_setpoint){0.0, 0.0, 0.0, 0.0, why};
+}
+
+double lc_stopping_distance(double v, double t_r, double a)
+{
+    double speed = fabs(v);
+    if (speed == 0.0)
+        return 0.0;
+    if (!(a > 0.0))
+        return isnan(a) ? NAN : INFINITY;
+    return speed * t_r + speed * speed / (2.0 * a);
+}
+
+/* The largest speed whose stopping distance (latency t_r, deceleration a) is <= s. */
+static double braking_speed(double s, double t_r, double a)
+{
+    if (!(s > 0.0))
+        return 0.0;
+    /* Root of v t_r + v^2 / (2a) = s, written without cancellation. */
+    return 2.0 * s / (t_r + sqrt(t_r * t_r + 2.0 * s / a));
+}
+
+void lc_motion_polar(const lc_motion_params *params, double rho, double alpha,
+                     double beta, double *v, double *w)
+{
+    *v = params->k_rho * rho;
+    *w = params->k_alpha * alpha + params->k_beta * beta;
+}
+
+static double sinc(double x)
+{
+    return fabs(x) < 1e-4 ? 1.0 - x * x / 6.0 : sin(x) / x;
+}
+
+lc_pose lc_motion_arc(lc_pose pose, double kappa, double s)
+{
+    /* Chord of length s sinc(kappa s / 2) along the mean heading. */
+    double half = 0.5 * kappa * s;
+    double chord = s * sinc(half);
+    double mid = pose.yaw + half;
+    return (lc_pose){pose.x + chord * cos(mid), pose.y + chord * sin(mid),
+                     lc_wrap_angle(pose.yaw + kappa * s)};
+}
+
+/* x mod 2 pi into [0, 2 pi). */
+static double mod_2pi(double x)
+{
+    double m = fmod(x, 2.0 * LC_PI);
+    return m < 0 ? m + 2.0 * LC_PI : m;
+}
+
+/*
+ * max a.p over the arc: an end, or the interior point where the heading is
+ * perpendicular to a with a.p turning from rising to falling (heading
+ * psi + pi/2 when turning left, psi - pi/2 when turning right).
+ */
+static double arc_support(lc_vec2 a, lc_pose pose, double kappa, double s, lc_vec2 end)
+{
+    lc_vec2 start = {pose.x, pose.y};
+    double top = fmax(lc_dot(a, start), lc_dot(a, end));
+    double turn = kappa * s;
+    if (kappa == 0.0 || turn == 0.0)
+        return top;
+    double lo = fmin(0.0, turn), hi = fmax(0.0, turn);
+    double crit = atan2(a.y, a.x) + (kappa > 0 ? 0.5 * LC_PI : -0.5 * LC_PI);
+    double d = lo + mod_2pi(crit - pose.yaw - lo);
+    if (d <= hi) {
+        lc_pose q = lc_motion_arc(pose, kappa, d / kappa);
+        top = fmax(top, lc_dot(a, lc_v2(q.x, q.y)));
+    }
+    return top;
+}
+
+double lc_motion_arc_margin(const lc_region *region, lc_pose pose, double kappa,
+                            double s)
+{
+    if (!isfinite(kappa) || !isfinite(s) || !isfinite(pose.x) || !isfinite(pose.y) ||
+        !isfinite(pose.yaw))
+        return NAN;
+    lc_pose e = lc_motion_arc(pose, kappa, s);
+    lc_vec2 end = {e.x, e.y};
+    double m = INFINITY;
+    for (int i = 0; i < region->nh; i++) {
+        double slack = region->h[i].b - arc_support(region->h[i].a, pose, kappa, s, end);
+        if (slack < m)
+            m = slack;
+    }
+    return m;
+}
+
+static double clampd(double x, double lo, double hi)
+{
+    return x < lo ? lo : (x > hi ? hi : x);
+}
+
+/*
+ * The values reachable from c within rate r that respect [lo, hi]; when
+ * none do, the one end of the rate window nearest to [lo, hi].
+ */
+static void rate_window(double c, double r, double lo, double hi, double *wlo, double *whi)
+{
+    double a = c - r, b = c + r;
+    if (a > hi) {
+        *wlo = *whi = a;
+    } else if (b < lo) {
+        *wlo = *whi = b;
+    } else {
+        *wlo = fmax(a, lo);
+        *whi = fmin(b, hi);
+    }
+}
+
+static bool finite_setpoint(const lc_setpoint *sp, bool point)
+{
+    return point ? isfinite(sp->vx) && isfinite(sp->vy) : isfinite(sp->v) && isfinite(sp->w);
+}
+
+static bool args_ok(const lc_robot *robot, const lc_motion_params *params,
+                    const lc_region *region, lc_pose pose, lc_vec2 target,
+                    const lc_setpoint *last, double dt, bool point)
+{
+    if (!robot || !params || !region || region->nh <= 0 || !region->h)
+        return false;
+    if (!(dt > 0.0) || !isfinite(dt) || !isfinite(pose.x) || !isfinite(pose.y) ||
+        !isfinite(pose.yaw) || !lc_vec2_finite(target))
+        return false;
+    if (last && !finite_setpoint(last, point))
+        return false;
+    if (!(robot->a_max > 0.0) || !isfinite(robot->a_max) || !(robot->v_max >= 0.0) ||
+        !isfinite(robot->v_max))
+        return false;
+    if (!point && (!(robot->w_max >= 0.0) || !isfinite(robot->w_max) ||
+                   !(robot->dw_max >= 0.0) || !isfinite(robot->dw_max)))
+        return false;
+    return isfinite(params->k_p) && isfinite(params->k_rho) && isfinite(params->k_alpha) &&
+           isfinite(params->k_beta) && isfinite(params->turn_in_place) &&
+           params->latency >= 0.0 && isfinite(params->latency);
+}
+
+/* Path length from speed to rest, latency included. */
+static double brake_length(const lc_robot *robot, const lc_motion_params *params, double speed)
+{
+    return lc_stopping_distance(speed, params->latency, robot->a_max);
+}
+
+/* ---- point mass ------------------------------------------------------ */
+
+/* Braking along the world-frame velocity v stays inside, and |v| <= v_max. */
+static bool point_safe(const lc_robot *robot, const lc_motion_params *params,
+                       const lc_region *region, lc_vec2 p, lc_vec2 v)
+{
+    double speed = lc_len(v);
+    if (speed > robot->v_max * (1.0 + 1e-12) + LC_MOTION_TINY)
+        return false;
+    if (speed <= LC_MOTION_TINY)
+        return lc_region_margin(region, p) >= -LC_MOTION_EPS;
+    lc_pose ray = {p.x, p.y, atan2(v.y, v.x)};
+    return lc_motion_arc_margin(region, ray, 0.0, brake_length(robot, params, speed)) >=
+           -LC_MOTION_EPS;
+}
+
+/* Toward the target at min(v_max, k_p d, braking speed), world frame. */
+static lc_vec2 point_desired(const lc_robot *robot, const lc_motion_params *params,
+                             const lc_region *region, lc_vec2 p, lc_vec2 target,
+                             lc_limit *limit)
+{
+    lc_vec2 d = lc_sub(target, p);
+    double dist = lc_len(d);
+    if (dist <= LC_MOTION_TINY) {
+        *limit = LC_LIMIT_NONE;
+        return lc_v2(0, 0);
+    }
+    lc_vec2 u = lc_scale(d, 1.0 / dist);
+    double speed = robot->v_max;
+    *limit = LC_LIMIT_TOP_SPEED;
+    double goal = params->k_p * dist;
+    if (goal < speed) {
+        speed = goal;
+        *limit = LC_LIMIT_GOAL;
+    }
+    double room = lc_region_ray_exit(region, p, u);
+    double brake = braking_speed(room, params->latency, robot->a_max);
+    if (brake < speed) {
+        speed = brake;
+        *limit = LC_LIMIT_BRAKING;
+    }
+    return lc_scale(u, fmax(speed, 0.0));
+}
+
+/*
+ * v_c is not safe: the safe point nearest to it on the line from the
+ * maximal deceleration v_m, or v_m itself when even that is not safe.
+ */
+static lc_vec2 point_fallback(const lc_robot *robot, const lc_motion_params *params,
+                              const lc_region *region, lc_vec2 p, lc_vec2 v0,
+                              lc_vec2 v_c, double step)
+{
+    double s0 = lc_len(v0);
+    lc_vec2 v_m = s0 > step ? lc_scale(v0, (s0 - step) / s0) : lc_v2(0, 0);
+    if (!point_safe(robot, params, region, p, v_m))
+        return v_m;
+    double lo = 0.0, hi = 1.0;
+    for (int i = 0; i < LC_SEARCH_BISECT; i++) {
+        double mid = 0.5 * (lo + hi);
+        if (point_safe(robot, params, region, p, lc_lerp(v_m, v_c, mid)))
+            lo = mid;
+        else
+            hi = mid;
+    }
+    return lc_lerp(v_m, v_c, lo);
+}
+
+int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
+                    const lc_region *region, lc_pose pose, lc_vec2 target_world,
+                    const lc_setpoint *last, double dt, lc_setpoint *out)
+{
+    if (!out)
+        return -1;
+    *out = lc_setpoint_stop(LC_LIMIT_NONE);
+    if (!args_ok(robot, params, region, pose, target_world, last, dt, true))
+        return -1;
+    lc_vec2 p = {pose.x, pose.y};
+    lc_vec2 v0 = last ? lc_rotate(lc_v2(last->vx, last->vy), pose.yaw) : lc_v2(0, 0);
+    lc_limit limit;
+    lc_vec2 v_des = point_desired(robot, params, region, p, target_world, &limit);
+    double step = robot->a_max * dt;
+    lc_vec2 dv = lc_sub(v_des, v0);
+    double ldv = lc_len(dv);
+    lc_vec2 v = v_des;
+    if (ldv > step) {
+        v = lc_add(v0, lc_scale(dv, step / ldv));
+        limit = LC_LIMIT_ACCEL;
+    }
+    if (!point_safe(robot, params, region, p, v)) {
+        v = point_fallback(robot, params, region, p, v0, v, step);
+        limit = LC_LIMIT_BRAKING;
+    }
+    lc_vec2 v_robot = lc_rotate(v, -pose.yaw);
+    out->vx = v_robot.x;
+    out->vy = v_robot.y;
+    out->limit = limit;
+    return 0;
+}
+
+/* ---- unicycle -------------------------------------------------------- */
+
+typedef struct uni_ctx {
+    const lc_robot *robot;
+    const lc_motion_params *params;
+    const lc_region *region;
+    lc_pose pose;
+} uni_ctx;
+
+/*
+ * Least margin along the braking path of (v, w). When the robot can hold the
+ * curvature w / v while braking (|w / v| a_max <= dw_max) that path is the
+ * constant-curvature arc. Otherwise the best it can do is v and w both
+ * falling at their full rates; then the curvature only grows, and by the
+ * Tait-Kneser theorem (osculating circles of a curve with monotone
+ * curvature are nested) the path stays in the disc of radius |v / w|
+ * tangent to the heading at the pose: that disc is checked. The latency
+ * part runs on the same circle in both cases.
+ */
+static double uni_margin(const uni_ctx *c, double v, double w)
+{
+    lc_vec2 p = {c->pose.x, c->pose.y};
+    if (fabs(v) <= LC_MOTION_TINY)
+        return lc_region_margin(c->region, p);
+    double kappa = w / v;
+    if (fabs(kappa) * c->robot->a_max > c->robot->dw_max) {
+        double r = 1.0 / kappa; /* signed: centre to the left when positive */
+        lc_vec2 centre = lc_add(p, lc_scale(lc_v2(-sin(c->pose.yaw), cos(c->pose.yaw)), r));
+        return lc_region_margin(c->region, centre) - fabs(r);
+    }
+    double len = brake_length(c->robot, c->params, fabs(v));
+    return lc_motion_arc_margin(c->region, c->pose, kappa, v > 0 ? len : -len);
+}
+
+static bool uni_safe(const uni_ctx *c, double v, double w)
+{
+    return uni_margin(c, v, w) >= -LC_MOTION_EPS;
+}
+
+/* The polar law with the limits on v and w, keeping its curvature. */
+static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double *v_d, double *w_d)
+{
+    const lc_robot *robot = c->robot;
+    lc_vec2 d = lc_sub(target, lc_v2(c->pose.x, c->pose.y));
+    double rho = lc_len(d);
+    *v_d = *w_d = 0.0;
+    if (rho <= LC_MOTION_TINY)
+        return LC_LIMIT_NONE;
+    double bearing = atan2(d.y, d.x);
+    double alpha = lc_wrap_angle(bearing - c->pose.yaw);
+    double dir = 1.0;
+    if (robot->reverse && fabs(alpha) > 0.5 * LC_PI) {
+        dir = -1.0;                         /* drive the rear at the target */
+        alpha = lc_wrap_angle(alpha + LC_PI);
+    }
+    double beta = 0.0; /* goal frame along the bearing: see the file comment */
+    double v_law, w_law;
+    lc_motion_polar(c->params, rho, alpha, beta, &v_law, &w_law);
+    if (fabs(alpha) > c->params->turn_in_place) {
+        *w_d = clampd(w_law, -robot->w_max, robot->w_max);
+        return LC_LIMIT_TURNING;
+    }
+    double speed = robot->v_max;
+    lc_limit limit = LC_LIMIT_TOP_SPEED;
+    if (v_law < speed) {
+        speed = v_law;
+        limit = LC_LIMIT_GOAL;
+    }
+    if (!(speed > 0.0)) {
+        *w_d = clampd(w_law, -robot->w_max, robot->w_max);
+        return limit;
+    }
+    double kappa = w_law / speed;
+    if (fabs(kappa) * speed > robot->w_max) {
+        speed = robot->w_max / fabs(kappa);
+        limit = LC_LIMIT_TURN_RATE;
+    }
+    *v_d = dir * speed;
+    *w_d = clampd(kappa * speed, -robot->w_max, robot->w_max);
+    return limit;
+}
+
+/*
+ * (v_c, w) is not safe: the largest safe v from v_c toward v_stop (coarse
+ * scan, then bisection between the last unsafe and the first safe sample).
+ * Returns false when no sample is safe.
+ */
+static bool uni_slow(const uni_ctx *c, double v_c, double v_stop, double w, double *v)
+{
+    if (v_c == v_stop)
+        return false;
+    double prev = v_c;
+    for (int k = 1; k <= LC_SEARCH_COARSE; k++) {
+        double vk = v_c + (v_stop - v_c) * k / LC_SEARCH_COARSE;
+        if (k == LC_SEARCH_COARSE)
+            vk = v_stop;
+        if (!uni_safe(c, vk, w)) {
+            prev = vk;
+            continue;
+        }
+        double bad = prev, good = vk;
+        for (int i = 0; i < LC_SEARCH_BISECT; i++) {
+            double mid = 0.5 * (bad + good);
+            if (uni_safe(c, mid, w))
+                good = mid;
+            else
+                bad = mid;
+        }
+        *v = good;
+        return true;
+    }
+    return false;
+}
+
+/*
+ * No safe v: the w of the window whose braking path at v leaves the region
+ * least (the safe one nearest to w when there are several). The candidates
+ * include the two ways of braking on from the last setpoint (w0 v / v0, which
+ * keeps its curvature, and the window end nearest 0), so that a last setpoint
+ * that was safe always has a safe successor.
+ */
+static double uni_best_w(const uni_ctx *c, double v, double w, double v0, double w0,
+                         double wlo, double whi)
+{
+    double cand[LC_FALLBACK_W + 3];
+    int n = 0;
+    for (int j = 0; j <= LC_FALLBACK_W; j++)
+        cand[n++] = wlo + (whi - wlo) * j / LC_FALLBACK_W;
+    cand[n++] = clampd(0.0, wlo, whi);
+    if (v0 != 0.0)
+        cand[n++] = clampd(w0 * v / v0, wlo, whi);
+    double best = w, best_m = uni_margin(c, v, w);
+    for (int j = 0; j < n; j++) {
+        double m = uni_margin(c, v, cand[j]);
+        bool best_safe = best_m >= -LC_MOTION_EPS;
+        if (!best_safe ? m > best_m
+                       : (m >= -LC_MOTION_EPS && fabs(cand[j] - w) < fabs(best - w))) {
+            best = cand[j];
+            best_m = m;
+        }
+    }
+    return best;
+}
+
+int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
+                       const lc_region *region, lc_pose pose, lc_vec2 target_world,
+                       const lc_setpoint *last, double dt, lc_setpoint *out)
+{
+    if (!out)
+        return -1;
+    *out = lc_setpoint_stop(LC_LIMIT_NONE);
+    if (!args_ok(robot, params, region, pose, target_world, last, dt, false))
+        return -1;
+    uni_ctx c = {robot, params, region, pose};
+    double v0 = last ? last->v : 0.0, w0 = last ? last->w : 0.0;
+    double v_d, w_d;
+    lc_limit limit = uni_desired(&c, target_world, &v_d, &w_d);
+
+    double vlo, vhi, wlo, whi;
+    rate_window(v0, robot->a_max * dt, robot->reverse ? -robot->v_max : 0.0, robot->v_max,
+                &vlo, &vhi);
+    rate_window(w0, robot->dw_max * dt, -robot->w_max, robot->w_max, &wlo, &whi);
+    double v = clampd(v_d, vlo, vhi), w = clampd(w_d, wlo, whi);
+    if (limit != LC_LIMIT_TURNING) {
+        if (v != v_d)
+            limit = LC_LIMIT_ACCEL;
+        else if (w != w_d)
+            limit = LC_LIMIT_TURN_RATE;
+    }
+    if (!uni_safe(&c, v, w)) {
+        double v_stop = clampd(0.0, vlo, vhi);
+        limit = LC_LIMIT_BRAKING;
+        if (!uni_slow(&c, v, v_stop, w, &v)) {
+            v = v_stop;
+            w = uni_best_w(&c, v, w, v0, w0, wlo, whi);
+        }
+    }
+    out->v = v;
+    out->w = w;
+    out->limit = limit;
+    return 0;
+}

@@ -1,0 +1,165 @@
+/*
+ * patrol.c - which waypoint is current, and the route-level state.
+ *
+ * Time is the frames' stamps (s); distances are metres in the route's frame.
+ * The patrol owns no memory; events go to the caller's array, appended from
+ * *n_events on (the caller sets it, normally to 0), never beyond
+ * LC_PATROL_MAX_EVENTS (further events of that frame are dropped).
+ *
+ * Per frame, in this order:
+ *   - within route->tolerance of the current waypoint: "waypoint_reached",
+ *     state ARRIVED for that frame, then the next waypoint; after the last one
+ *     "route_done" (state DONE from the next frame on) or, looping, "lap" and
+ *     waypoint 0. Arrival also ends a blocked wait ("unblocked" first).
+ *   - blocked (policy WAIT): back to TRACKING with "unblocked" as soon as the
+ *     target is closer to the waypoint than the robot is by more than
+ *     route->progress; else BLOCKED.
+ *   - progress: the distance to the waypoint shrank by route->progress since
+ *     the reference: a new reference (distance, stamp).
+ *   - no progress for route->blocked_time since the reference: "blocked"
+ *     (once) and state BLOCKED; policy SKIP adds "waypoint_skipped" and moves
+ *     on as after an arrival. blocked_time <= 0 (or not finite) disables it.
+ * A stamp earlier than the reference (a restarted clock) moves the reference
+ * there, so it never triggers `blocked` by itself.
+ */
+#include "patrol.h"
+
+const char *lc_state_name(lc_state state)
+{
+    static const char *const names[LC_STATE_COUNT] = {
+        "idle", "tracking", "arrived", "done", "blocked", "stale", "too_close",
+    };
+    if ((int)state < 0 || state >= LC_STATE_COUNT)
+        return "unknown";
+    return names[state];
+}
+
+const char *lc_event_name(lc_event_kind kind)
+{
+    static const char *const names[LC_EVENT_COUNT] = {
+        "waypoint_reached", "route_done", "blocked", "unblocked", "waypoint_skipped", "lap",
+    };
+    if ((int)kind < 0 || kind >= LC_EVENT_COUNT)
+        return "unknown";
+    return names[kind];
+}
+
+void lc_patrol_reset(lc_patrol *patrol)
+{
+    *patrol = (lc_patrol){0};
+}
+
+typedef struct event_sink {
+    lc_event *events;
+    int *n;
+    double stamp;
+} event_sink;
+
+static void emit(const event_sink *sink, lc_event_kind kind, int waypoint)
+{
+    if (!sink->events || !sink->n || *sink->n < 0 || *sink->n >= LC_PATROL_MAX_EVENTS)
+        return;
+    sink->events[(*sink->n)++] = (lc_event){kind, waypoint, sink->stamp};
+}
+
+/* A fresh progress reference: distance from pos to the current waypoint now. */
+static void restart_progress(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
+                             double stamp)
+{
+    patrol->ref_dist = lc_dist(pos, route->waypoints[patrol->current]);
+    patrol->ref_stamp = stamp;
+}
+
+/* On to the next waypoint, wrapping (lap) or finishing (done) at the end. */
+static void advance(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
+                    const event_sink *sink)
+{
+    patrol->blocked = false;
+    if (patrol->current + 1 < route->count) {
+        patrol->current++;
+    } else if (route->loop) {
+        patrol->current = 0;
+        patrol->laps++;
+        emit(sink, LC_EVENT_LAP, 0);
+    } else {
+        patrol->done = true;
+        emit(sink, LC_EVENT_DONE, patrol->current);
+        return;
+    }
+    restart_progress(patrol, route, pos, sink->stamp);
+}
+
+static bool blocked_check_enabled(const lc_route *route)
+{
+    return route->blocked_time > 0.0 && isfinite(route->blocked_time);
+}
+
+/* Policy WAIT: does the target promise progress again? */
+static bool progress_possible(const lc_route *route, lc_vec2 wp, lc_vec2 target, double d)
+{
+    return lc_vec2_finite(target) && lc_dist(target, wp) < d - route->progress;
+}
+
+lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
+                          lc_vec2 target, double stamp, lc_event *events,
+                          int *n_events)
+{
+    if (!route || route->count <= 0)
+        return LC_STATE_IDLE;
+    if (patrol->current < 0 || patrol->current >= route->count)
+        lc_patrol_reset(patrol);
+    if (patrol->done)
+        return LC_STATE_DONE;
+    if (!lc_vec2_finite(pos) || !isfinite(stamp))
+        return patrol->blocked ? LC_STATE_BLOCKED : LC_STATE_TRACKING;
+
+    event_sink sink = {events, n_events, stamp};
+    lc_vec2 wp = route->waypoints[patrol->current];
+    double d = lc_dist(pos, wp);
+    if (!patrol->started) {
+        patrol->started = true;
+        restart_progress(patrol, route, pos, stamp);
+    }
+    if (d <= route->tolerance) {
+        if (patrol->blocked)
+            emit(&sink, LC_EVENT_UNBLOCKED, patrol->current);
+        emit(&sink, LC_EVENT_REACHED, patrol->current);
+        advance(patrol, route, pos, &sink);
+        return LC_STATE_ARRIVED;
+    }
+    if (stamp < patrol->ref_stamp)
+        patrol->ref_stamp = stamp;
+    if (patrol->blocked) {
+        if (!progress_possible(route, wp, target, d))
+            return LC_STATE_BLOCKED;
+        patrol->blocked = false;
+        emit(&sink, LC_EVENT_UNBLOCKED, patrol->current);
+        restart_progress(patrol, route, pos, stamp);
+        return LC_STATE_TRACKING;
+    }
+    if (d <= patrol->ref_dist - route->progress) {
+        patrol->ref_dist = d;
+        patrol->ref_stamp = stamp;
+    }
+    if (blocked_check_enabled(route) && stamp - patrol->ref_stamp >= route->blocked_time) {
+        emit(&sink, LC_EVENT_BLOCKED, patrol->current);
+        if (route->on_blocked == LC_BLOCKED_SKIP) {
+            emit(&sink, LC_EVENT_SKIPPED, patrol->current);
+            advance(patrol, route, pos, &sink);
+        } else {
+            patrol->blocked = true;
+        }
+        return LC_STATE_BLOCKED;
+    }
+    return LC_STATE_TRACKING;
+}
+
+bool lc_patrol_waypoint(const lc_patrol *patrol, const lc_route *route, lc_vec2 *out)
+{
+    if (!route || route->count <= 0 || patrol->done || patrol->current < 0 ||
+        patrol->current >= route->count)
+        return false;
+    if (out)
+        *out = route->waypoints[patrol->current];
+    return true;
+}

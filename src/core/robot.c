@@ -1,0 +1,34 @@
+/*
+ * robot.c - default robot description and route (see robot.h).
+ *
+ * The values are the ones CONTRACT.md promises for a field a client leaves
+ * out; the codec starts from these and overwrites what the message gives.
+ */
+#include "robot.h"
+
+#include <string.h>
+
+void lc_robot_default(lc_robot *robot)
+{
+    *robot = (lc_robot){
+        .model = LC_MODEL_POINT,
+        .radius = 0.30,
+        .margin = 0.05,
+        .v_max = 0.8,
+        .a_max = 0.5,
+        .w_max = 1.0,
+        .dw_max = 2.0,
+        .reverse = false,
+    };
+}
+
+void lc_route_default(lc_route *route)
+{
+    memset(route, 0, sizeof *route);
+    route->count = 0;
+    route->loop = false;
+    route->tolerance = 0.25;
+    route->on_blocked = LC_BLOCKED_WAIT;
+    route->blocked_time = 10.0;
+    route->progress = 0.10;
+}

@@ -1,0 +1,308 @@
+/*
+ * codec.h - the wire format: JSON text <-> core structs (protocol lacuna.v1).
+ *
+ * Decoding is strict and total: every input either yields a fully checked
+ * struct or an lc_wire_error whose code is one of lc_wire_code and whose
+ * message names the field at fault ("ranges[12]: not a number or null").
+ * No input crashes the decoder or leaks; nothing is asserted on input.
+ *
+ * Ownership: the caller owns every struct. A decoded frame's arrays (ranges,
+ * xy, z) point into the caller's lc_wire_buffers and stay valid until the
+ * next decode with the same buffers; the buffers grow through lc_alloc to a
+ * high-water mark and are reused, so a warm decoder allocates nothing for
+ * them (cJSON allocates its own tree per message and frees it before the
+ * call returns). Encoders write into a caller-owned lc_wire_text, also grown
+ * through lc_alloc and reused.
+ *
+ * Units SI, angles in radians (CONTRACT.md). Numbers: frames, robot, route,
+ * setpoints, stamps and the plan result are printed so that they parse back
+ * to the same double bit for bit (%.15g when that round-trips, else
+ * %.17g); view geometry is rounded to LC_WIRE_VIEW_DECIMALS decimals
+ * to keep view messages small. NaN and infinities are never printed: they
+ * become null. Printing assumes the C locale (the decimal point is '.').
+ *
+ * Not thread safe: cJSON keeps its error pointer and hooks in globals.
+ */
+#ifndef LC_CODEC_H
+#define LC_CODEC_H
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "alloc.h"
+#include "frame.h"
+#include "motion.h"
+#include "patrol.h"
+#include "robot.h"
+#include "session.h"
+
+struct cJSON;
+
+#define LC_WIRE_PROTOCOL "lacuna.v1"
+
+/* Robot names: 1..LC_WIRE_NAME_MAX of [A-Za-z0-9_.-], not starting with '.'. */
+#define LC_WIRE_NAME_MAX 64
+/* Tokens: 0..LC_WIRE_TOKEN_MAX printable ASCII characters (0x20..0x7e). */
+#define LC_WIRE_TOKEN_MAX 256
+/* Every number but stamp and seq must have a magnitude of at most this. */
+#define LC_WIRE_MAGNITUDE_MAX 1e9
+/* seq is an integer in [0, 2^53]. */
+#define LC_WIRE_SEQ_MAX 9007199254740992.0
+/* Decimals of the geometry in view messages (0.1 mm for metres). */
+#define LC_WIRE_VIEW_DECIMALS 4
+/* Decimals of timing_us in the plan result (1 ns). */
+#define LC_WIRE_TIMING_DECIMALS 3
+
+/* Error codes; lc_wire_code_name gives the wire string. */
+typedef enum lc_wire_code {
+    LC_WIRE_OK = 0,        /* "ok" (never sent) */
+    LC_WIRE_BAD_JSON,      /* "bad_json": not one JSON value, trailing bytes, too deep */
+    LC_WIRE_BAD_MESSAGE,   /* "bad_message": not an object, no type, duplicate key */
+    LC_WIRE_BAD_FIELD,     /* "bad_field": a field missing, of the wrong type or out of range */
+    LC_WIRE_UNKNOWN_TYPE,  /* "unknown_type" */
+    LC_WIRE_UNAUTHORIZED,  /* "unauthorized": no hello yet, or a wrong token */
+    LC_WIRE_FORBIDDEN,     /* "forbidden": the role may not send this */
+    LC_WIRE_NAME_TAKEN,    /* "name_taken" */
+    LC_WIRE_TOO_LARGE,     /* "too_large": longer than the maximum message size */
+    LC_WIRE_BINARY,        /* "binary": a binary websocket message */
+    LC_WIRE_RATE_LIMITED,  /* "rate_limited": flooding beyond the configured rate */
+    LC_WIRE_INTERNAL,      /* "internal": the server failed (out of memory) */
+    LC_WIRE_CODE_COUNT
+} lc_wire_code;
+
+const char *lc_wire_code_name(lc_wire_code code);
+/* The code of a wire string; false when there is none of that name. */
+bool lc_wire_code_from_name(const char *name, lc_wire_code *out);
+
+#define LC_WIRE_MESSAGE_MAX 200
+
+typedef struct lc_wire_error {
+    lc_wire_code code;
+    bool has_seq;  /* the message had a readable seq */
+    int64_t seq;
+    char message[LC_WIRE_MESSAGE_MAX]; /* "field: reason" */
+} lc_wire_error;
+
+/* Sets code and message (printf-formatted, truncated to fit); leaves has_seq, seq. */
+void lc_wire_error_set(lc_wire_error *err, lc_wire_code code, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+
+typedef struct lc_wire_limits {
+    size_t max_message; /* bytes of text, default 1 MiB */
+    int max_beams;      /* ranges per scan, default 100000 */
+    int max_points;     /* points per points frame, default 100000 */
+    double dt_max;      /* s, largest plan request dt, default 1.0 */
+} lc_wire_limits;
+
+void lc_wire_limits_default(lc_wire_limits *lim);
+
+/* Decode buffers for frame arrays, reused across messages. */
+typedef struct lc_wire_buffers {
+    const lc_alloc *alloc;
+    double *ranges;
+    int cap_ranges;
+    double *xy;
+    int cap_xy;
+    double *z;
+    int cap_z;
+} lc_wire_buffers;
+
+/* NULL alloc: lc_alloc_default(). */
+void lc_wire_buffers_init(lc_wire_buffers *b, const lc_alloc *alloc);
+void lc_wire_buffers_free(lc_wire_buffers *b);
+
+typedef enum lc_wire_role {
+    LC_ROLE_ROBOT = 0, /* "robot" */
+    LC_ROLE_VIEWER,    /* "viewer" */
+} lc_wire_role;
+
+const char *lc_wire_role_name(lc_wire_role role);
+
+typedef struct lc_wire_hello {
+    lc_wire_role role;
+    char robot[LC_WIRE_NAME_MAX + 1]; /* "" only for a viewer: every robot */
+    bool has_token;
+    char token[LC_WIRE_TOKEN_MAX + 1];
+} lc_wire_hello;
+
+typedef struct lc_wire_welcome {
+    lc_wire_role role;
+    char robot[LC_WIRE_NAME_MAX + 1];
+    int watchdog_ms;
+    long max_message;
+    int max_beams;
+    int max_points;
+    double view_hz;
+    /* decode only: encoding writes "lacuna <version>" and LC_WIRE_PROTOCOL */
+    char server[64];
+    char protocol[32];
+} lc_wire_welcome;
+
+/* One setpoint message; `model` says which pair is on the wire. */
+typedef struct lc_wire_setpoint {
+    int64_t seq;
+    double stamp;
+    lc_model model;    /* point: vx, vy; unicycle: v, w */
+    lc_setpoint sp;    /* sp.limit is "limit" */
+    lc_state state;
+    int waypoint;      /* current waypoint index, -1 (null) when none */
+} lc_wire_setpoint;
+
+typedef struct lc_wire_event {
+    lc_event ev;       /* ev.waypoint -1 (null) when none */
+    int64_t seq;       /* the frame that raised it */
+} lc_wire_event;
+
+/* The `lacuna plan` request. */
+typedef struct lc_wire_plan_request {
+    lc_robot robot;
+    lc_vec2 goal;       /* the pose's frame */
+    bool has_velocity;
+    lc_setpoint velocity; /* vx, vy (point) or v, w (unicycle); zero when absent */
+    double dt;          /* s, default 0.05 */
+    lc_frame frame;
+} lc_wire_plan_request;
+
+typedef enum lc_msg_type {
+    LC_MSG_NONE = 0,
+    LC_MSG_HELLO,    /* robot|viewer -> server */
+    LC_MSG_ROBOT,    /* robot -> server */
+    LC_MSG_ROUTE,
+    LC_MSG_SCAN,
+    LC_MSG_POINTS,
+    LC_MSG_WELCOME,  /* server -> client */
+    LC_MSG_SETPOINT,
+    LC_MSG_EVENT,
+    LC_MSG_ERROR,
+    LC_MSG_VIEW,     /* recognised, body not decoded (nothing in lacuna reads it) */
+    LC_MSG_SCENARIO, /* recognised, body not decoded (scenario.c reads headers) */
+    LC_MSG_COUNT
+} lc_msg_type;
+
+/* The wire "type" string of a message type (NULL for LC_MSG_NONE). */
+const char *lc_msg_type_name(lc_msg_type type);
+
+typedef struct lc_wire_msg {
+    lc_msg_type type;
+    union {
+        lc_wire_hello hello;
+        lc_robot robot;
+        lc_route route;
+        lc_frame frame; /* scan and points */
+        lc_wire_welcome welcome;
+        lc_wire_setpoint setpoint;
+        lc_wire_event event;
+        lc_wire_error error;
+    } u;
+} lc_wire_msg;
+
+/*
+ * Decode one text message of len bytes (need not be NUL-terminated).
+ * NULL lim: defaults. Returns 0, or -1 with *err filled (err->has_seq when
+ * the message carried a readable seq). On failure *out is unspecified.
+ */
+int lc_wire_decode(const char *text, size_t len, const lc_wire_limits *lim,
+                   lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err);
+
+/* Decode a `lacuna plan` request (CONTRACT.md). Same conventions. */
+int lc_wire_decode_plan_request(const char *text, size_t len, const lc_wire_limits *lim,
+                                lc_wire_buffers *buf, lc_wire_plan_request *out,
+                                lc_wire_error *err);
+
+/*
+ * Pieces for readers of documents that embed wire objects (scenario
+ * headers). `path` prefixes the field names in error messages ("robot" gives
+ * "robot.radius: ..."); "" or NULL for none. Each returns 0 or -1 with *err
+ * filled. A "type" member, when present, must name the object's message type.
+ */
+int lc_wire_robot_from_json(const struct cJSON *obj, const char *path, lc_robot *out,
+                            lc_wire_error *err);
+int lc_wire_route_from_json(const struct cJSON *obj, const char *path, lc_route *out,
+                            lc_wire_error *err);
+/* A scan or points object; without "type" it is a scan when it has "ranges". */
+int lc_wire_frame_from_json(const struct cJSON *obj, const char *path,
+                            const lc_wire_limits *lim, lc_wire_buffers *buf, lc_frame *out,
+                            lc_wire_error *err);
+/* item must be [x, y] / [x, y, yaw] of finite numbers; name is used in errors. */
+int lc_wire_vec2_from_json(const struct cJSON *item, const char *name, lc_vec2 *out,
+                           lc_wire_error *err);
+int lc_wire_pose_from_json(const struct cJSON *item, const char *name, lc_pose *out,
+                           lc_wire_error *err);
+
+/* Bounds of a number field: lo < x (lo_open) or lo <= x, likewise hi. */
+typedef struct lc_wire_bounds {
+    double lo, hi;
+    bool lo_open, hi_open;
+} lc_wire_bounds;
+
+/*
+ * obj[key] as a finite number within b (NULL: |x| <= LC_WIRE_MAGNITUDE_MAX).
+ * Returns 1 when read, 0 when absent and not required (*out untouched), -1
+ * on error. lc_wire_int_field also wants an integer value (|x| < 2^31).
+ */
+int lc_wire_number_field(const struct cJSON *obj, const char *path, const char *key,
+                         bool required, const lc_wire_bounds *b, double *out,
+                         lc_wire_error *err);
+int lc_wire_int_field(const struct cJSON *obj, const char *path, const char *key,
+                      bool required, const lc_wire_bounds *b, int *out, lc_wire_error *err);
+int lc_wire_bool_field(const struct cJSON *obj, const char *path, const char *key,
+                       bool required, bool *out, lc_wire_error *err);
+
+/*
+ * -1 with a bad_message error when obj has one of keys[] (NULL-terminated)
+ * more than once (cJSON keeps duplicates and lookups see only the first).
+ */
+int lc_wire_check_duplicates(const struct cJSON *obj, const char *path,
+                             const char *const *keys, lc_wire_error *err);
+
+/* Growable output text, NUL-terminated after every successful encode. */
+typedef struct lc_wire_text {
+    const lc_alloc *alloc;
+    char *s;
+    int len, cap;
+    bool failed; /* out of memory during the current encode */
+} lc_wire_text;
+
+void lc_wire_text_init(lc_wire_text *t, const lc_alloc *alloc);
+void lc_wire_text_free(lc_wire_text *t);
+
+/*
+ * Format x into buf: decimals < 0 gives text that parses back to x exactly
+ * (%.15g when that does, else %.17g); otherwise x rounded to that many
+ * decimals with trailing zeros dropped (|x| >= 1e15 falls back to the
+ * exact form). Non-finite x gives "null". Returns the length; buf holds at
+ * least LC_WIRE_NUMBER_MAX bytes.
+ */
+#define LC_WIRE_NUMBER_MAX 40
+int lc_wire_format_number(char *buf, double x, int decimals);
+
+/* What a view shows; pointers may be NULL where said. */
+typedef struct lc_wire_view {
+    const char *robot;              /* session name */
+    const lc_robot *desc;           /* model, radius, margin */
+    const lc_route *route;          /* NULL: no route */
+    const lc_plan_result *result;   /* NULL: no frame yet (geometry is null) */
+    lc_pose pose;                   /* of the last accepted frame */
+    int64_t seq;                    /* of the last accepted frame, -1 none */
+    double stamp;
+    const lc_wire_setpoint *setpoint; /* last sent; NULL: none yet */
+} lc_wire_view;
+
+/*
+ * Encoders: clear *t, write one JSON object, return 0 or -1 (out of memory,
+ * *t then holds no message). Messages carry their "type"; the plan result
+ * does not (it is not a wire message).
+ */
+int lc_wire_encode_hello(lc_wire_text *t, const lc_wire_hello *m);
+int lc_wire_encode_welcome(lc_wire_text *t, const lc_wire_welcome *m);
+int lc_wire_encode_robot(lc_wire_text *t, const lc_robot *m);
+int lc_wire_encode_route(lc_wire_text *t, const lc_route *m);
+int lc_wire_encode_frame(lc_wire_text *t, const lc_frame *m);
+int lc_wire_encode_setpoint(lc_wire_text *t, const lc_wire_setpoint *m);
+int lc_wire_encode_event(lc_wire_text *t, const lc_wire_event *m);
+int lc_wire_encode_error(lc_wire_text *t, const lc_wire_error *m);
+int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m);
+int lc_wire_encode_plan_result(lc_wire_text *t, const lc_plan_result *r, lc_model model);
+
+#endif

@@ -1,0 +1,505 @@
+/*
+ * scenario.c - scenario files (see scenario.h): the header through cJSON and
+ * the codec's field readers, every later line through lc_wire_decode.
+ *
+ * The header's robot and route are read and written by the codec, so a
+ * scenario holds exactly what the wire would; numbers are printed so that
+ * they parse back to the same double (lc_wire_format_number), which is what
+ * lets `lacuna replay` reproduce a recorded run bit for bit.
+ */
+#include "scenario.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include <cjson/cJSON.h>
+
+static const char *const expect_names[] = {"done", "blocked"};
+
+const char *lc_scenario_expect_name(lc_scenario_expect e)
+{
+    return e == LC_EXPECT_BLOCKED ? expect_names[1] : expect_names[0];
+}
+
+void lc_scenario_sensor_default(lc_scenario_sensor *s)
+{
+    *s = (lc_scenario_sensor){.beams = 541,
+                              .fov = 1.5 * LC_PI,
+                              .range_min = 0.05,
+                              .range_max = 12.0,
+                              .rate = 20.0,
+                              .noise = 0.01,
+                              .mount = {0, 0, 0}};
+}
+
+void lc_scenario_header_init(lc_scenario_header *h)
+{
+    memset(h, 0, sizeof *h);
+    h->version = LC_SCENARIO_VERSION;
+    lc_robot_default(&h->robot);
+    lc_route_default(&h->route);
+    lc_scenario_sensor_default(&h->sensor);
+    h->expect = LC_EXPECT_DONE;
+}
+
+void lc_scenario_header_free(lc_scenario_header *h) { lc_polyset_free(&h->world, NULL); }
+
+double lc_scenario_first_dt(const lc_scenario_header *h)
+{
+    if (h->has_sensor && h->sensor.rate > 0 && isfinite(h->sensor.rate))
+        return 1.0 / h->sensor.rate;
+    return 0.05;
+}
+
+static int fail_wire(lc_scenario_error *err, int line, const lc_wire_error *we)
+{
+    err->line = line;
+    snprintf(err->message, sizeof err->message, "%s: %s", lc_wire_code_name(we->code),
+             we->message);
+    return -1;
+}
+
+static int fail_msg(lc_scenario_error *err, int line, const char *msg)
+{
+    err->line = line;
+    snprintf(err->message, sizeof err->message, "%s", msg);
+    return -1;
+}
+
+/* ------------------------------------------------------------ header */
+
+static const lc_wire_bounds B_POS = {0.0, 1e9, true, false};
+static const lc_wire_bounds B_NONNEG = {0.0, 1e9, false, false};
+static const lc_wire_bounds B_FOV = {0.0, 2.0 * LC_PI, true, false};
+static const lc_wire_bounds B_BEAMS = {1.0, 100000.0, false, false};
+static const lc_wire_bounds B_RATE = {0.0, 1000.0, true, false};
+static const lc_wire_bounds B_VERSION = {1.0, 1e6, false, false};
+
+static int read_sensor(const cJSON *obj, lc_scenario_sensor *s, lc_wire_error *we)
+{
+    static const char *const keys[] = {"beams", "fov", "range_min", "range_max", "rate",
+                                       "noise", "mount", NULL};
+    if (!cJSON_IsObject(obj)) {
+        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "sensor: not an object");
+        return -1;
+    }
+    const char *p = "sensor";
+    if (lc_wire_check_duplicates(obj, p, keys, we) ||
+        lc_wire_int_field(obj, p, "beams", false, &B_BEAMS, &s->beams, we) < 0 ||
+        lc_wire_number_field(obj, p, "fov", false, &B_FOV, &s->fov, we) < 0 ||
+        lc_wire_number_field(obj, p, "range_min", false, &B_POS, &s->range_min, we) < 0 ||
+        lc_wire_number_field(obj, p, "range_max", false, &B_POS, &s->range_max, we) < 0 ||
+        lc_wire_number_field(obj, p, "rate", false, &B_RATE, &s->rate, we) < 0 ||
+        lc_wire_number_field(obj, p, "noise", false, &B_NONNEG, &s->noise, we) < 0)
+        return -1;
+    const cJSON *m = cJSON_GetObjectItemCaseSensitive(obj, "mount");
+    if (m && lc_wire_pose_from_json(m, "sensor.mount", &s->mount, we) < 0)
+        return -1;
+    if (!(s->range_min < s->range_max)) {
+        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "sensor.range_max: must be > range_min");
+        return -1;
+    }
+    return 0;
+}
+
+static int read_polygon(const cJSON *poly, int i, lc_polyset *out, lc_wire_error *we)
+{
+    int n = cJSON_IsArray(poly) ? cJSON_GetArraySize(poly) : -1;
+    if (n < 2) {
+        lc_wire_error_set(we, LC_WIRE_BAD_FIELD,
+                          "world.polygons[%d]: not an array of at least 2 points", i);
+        return -1;
+    }
+    if (lc_polyset_reserve(out, NULL, n) < 0) {
+        lc_wire_error_set(we, LC_WIRE_INTERNAL, "world.polygons[%d]: out of memory", i);
+        return -1;
+    }
+    int j = 0;
+    const cJSON *it;
+    cJSON_ArrayForEach(it, poly) {
+        char name[64];
+        snprintf(name, sizeof name, "world.polygons[%d][%d]", i, j);
+        if (lc_wire_vec2_from_json(it, name, &out->v[out->nv + j], we) < 0)
+            return -1;
+        j++;
+    }
+    if (lc_polyset_commit(out, NULL, n, i) < 0) {
+        lc_wire_error_set(we, LC_WIRE_INTERNAL, "world.polygons[%d]: out of memory", i);
+        return -1;
+    }
+    return 0;
+}
+
+static int read_world(const cJSON *obj, lc_polyset *out, lc_wire_error *we)
+{
+    static const char *const keys[] = {"polygons", NULL};
+    const cJSON *polys = cJSON_IsObject(obj) ? cJSON_GetObjectItemCaseSensitive(obj, "polygons")
+                                             : NULL;
+    if (!polys || !cJSON_IsArray(polys)) {
+        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "world.polygons: missing or not an array");
+        return -1;
+    }
+    if (lc_wire_check_duplicates(obj, "world", keys, we))
+        return -1;
+    int i = 0;
+    const cJSON *it;
+    cJSON_ArrayForEach(it, polys) {
+        if (read_polygon(it, i++, out, we) < 0)
+            return -1;
+    }
+    return 0;
+}
+
+static int read_text_fields(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
+{
+    const cJSON *d = cJSON_GetObjectItemCaseSensitive(root, "description");
+    if (d) {
+        if (!cJSON_IsString(d) || !d->valuestring) {
+            lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "description: not a string");
+            return -1;
+        }
+        snprintf(h->description, sizeof h->description, "%s", d->valuestring);
+    }
+    const cJSON *e = cJSON_GetObjectItemCaseSensitive(root, "expect");
+    if (e) {
+        const char *s = cJSON_IsString(e) ? e->valuestring : NULL;
+        if (s && strcmp(s, expect_names[0]) == 0)
+            h->expect = LC_EXPECT_DONE;
+        else if (s && strcmp(s, expect_names[1]) == 0)
+            h->expect = LC_EXPECT_BLOCKED;
+        else {
+            lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "expect: must be \"done\" or \"blocked\"");
+            return -1;
+        }
+    }
+    return 0;
+}
+
+static int read_type_version(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
+{
+    const cJSON *t = cJSON_GetObjectItemCaseSensitive(root, "type");
+    if (!cJSON_IsString(t) || !t->valuestring || strcmp(t->valuestring, "scenario") != 0) {
+        lc_wire_error_set(we, LC_WIRE_BAD_MESSAGE, "type: the first line must be a \"scenario\"");
+        return -1;
+    }
+    if (lc_wire_int_field(root, NULL, "version", true, &B_VERSION, &h->version, we) < 0)
+        return -1;
+    if (h->version != LC_SCENARIO_VERSION) {
+        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "version: %d is not supported (only %d)",
+                          h->version, LC_SCENARIO_VERSION);
+        return -1;
+    }
+    return 0;
+}
+
+static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
+{
+    static const char *const keys[] = {"type", "version", "description", "robot", "route",
+                                       "start", "world", "sensor", "expect", "max_time", NULL};
+    if (!cJSON_IsObject(root)) {
+        lc_wire_error_set(we, LC_WIRE_BAD_MESSAGE, "header: not a JSON object");
+        return -1;
+    }
+    if (lc_wire_check_duplicates(root, NULL, keys, we) || read_type_version(root, h, we) ||
+        read_text_fields(root, h, we) ||
+        lc_wire_number_field(root, NULL, "max_time", false, &B_NONNEG, &h->max_time, we) < 0)
+        return -1;
+    const cJSON *it;
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "robot"))) {
+        if (lc_wire_robot_from_json(it, "robot", &h->robot, we) < 0)
+            return -1;
+        h->has_robot = true;
+    }
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "route"))) {
+        if (lc_wire_route_from_json(it, "route", &h->route, we) < 0)
+            return -1;
+        h->has_route = true;
+    }
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "start"))) {
+        if (lc_wire_pose_from_json(it, "start", &h->start, we) < 0)
+            return -1;
+        h->has_start = true;
+    }
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "world"))) {
+        if (read_world(it, &h->world, we) < 0)
+            return -1;
+        h->has_world = true;
+    }
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "sensor"))) {
+        if (read_sensor(it, &h->sensor, we) < 0)
+            return -1;
+        h->has_sensor = true;
+    }
+    return 0;
+}
+
+/* One JSON value with only white space after it; NULL and *we on failure. */
+static cJSON *parse_one(const char *text, size_t len, lc_wire_error *we)
+{
+    const char *end = NULL;
+    cJSON *root = len ? cJSON_ParseWithLengthOpts(text, len, &end, 0) : NULL;
+    if (!root) {
+        lc_wire_error_set(we, LC_WIRE_BAD_JSON, "header: not valid JSON");
+        return NULL;
+    }
+    for (const char *p = end; p < text + len; p++) {
+        if (*p != ' ' && *p != '\t' && *p != '\r' && *p != '\n') {
+            cJSON_Delete(root);
+            lc_wire_error_set(we, LC_WIRE_BAD_JSON, "header: bytes after the JSON value");
+            return NULL;
+        }
+    }
+    return root;
+}
+
+int lc_scenario_parse_header(const char *text, size_t len, lc_scenario_header *h,
+                             lc_scenario_error *err)
+{
+    lc_scenario_header_free(h);
+    lc_scenario_header_init(h);
+    lc_wire_error we = {0};
+    cJSON *root = parse_one(text, len, &we);
+    int rc = root ? read_header_fields(root, h, &we) : -1;
+    cJSON_Delete(root);
+    if (rc < 0)
+        return fail_wire(err, 1, &we);
+    return 0;
+}
+
+/* ------------------------------------------------------------ reader */
+
+void lc_scenario_reader_init(lc_scenario_reader *r, const char *text, size_t len,
+                             const lc_alloc *alloc)
+{
+    memset(r, 0, sizeof *r);
+    r->text = text;
+    r->len = len;
+    lc_wire_limits_default(&r->lim);
+    /* A recorded file holds what the server accepted: no tighter cap here
+     * than the server's, and the message size of a file line is not a
+     * network concern. */
+    r->lim.max_message = (size_t)1 << 30;
+    lc_wire_buffers_init(&r->buf, alloc);
+}
+
+void lc_scenario_reader_free(lc_scenario_reader *r) { lc_wire_buffers_free(&r->buf); }
+
+static bool blank(const char *s, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        if (s[i] != ' ' && s[i] != '\t' && s[i] != '\r')
+            return false;
+    return true;
+}
+
+/* The next line (without its newline); false at the end. *complete: it had one. */
+static bool next_line(lc_scenario_reader *r, const char **s, size_t *n, bool *complete)
+{
+    if (r->pos >= r->len)
+        return false;
+    const char *start = r->text + r->pos;
+    const char *nl = memchr(start, '\n', r->len - r->pos);
+    *s = start;
+    *n = nl ? (size_t)(nl - start) : r->len - r->pos;
+    *complete = nl != NULL;
+    r->pos += *n + (nl ? 1 : 0);
+    r->line++;
+    return true;
+}
+
+static void warn(lc_scenario_reader *r, const char *msg)
+{
+    if (r->warning)
+        r->warning(r->warning_data, r->line, msg);
+}
+
+int lc_scenario_read_header(lc_scenario_reader *r, lc_scenario_header *h,
+                            lc_scenario_error *err)
+{
+    const char *s;
+    size_t n;
+    bool complete;
+    if (!next_line(r, &s, &n, &complete) || blank(s, n))
+        return fail_msg(err, r->line ? r->line : 1, "no scenario header (empty first line)");
+    if (lc_scenario_parse_header(s, n, h, err) < 0) {
+        if (!complete)
+            return fail_msg(err, r->line, "truncated scenario header");
+        err->line = r->line;
+        return -1;
+    }
+    return 0;
+}
+
+int lc_scenario_next(lc_scenario_reader *r, lc_wire_msg *msg, lc_scenario_error *err)
+{
+    const char *s;
+    size_t n;
+    bool complete;
+    for (;;) {
+        if (!next_line(r, &s, &n, &complete))
+            return 0;
+        if (!blank(s, n))
+            break;
+    }
+    lc_wire_error we;
+    if (lc_wire_decode(s, n, &r->lim, &r->buf, msg, &we) < 0) {
+        if (!complete && we.code == LC_WIRE_BAD_JSON) {
+            warn(r, "truncated last line skipped");
+            return 0;
+        }
+        return fail_wire(err, r->line, &we);
+    }
+    if (msg->type == LC_MSG_SCENARIO)
+        return fail_msg(err, r->line, "a second scenario header");
+    return 1;
+}
+
+/* ------------------------------------------------------------ writer */
+
+static void put(lc_wire_text *t, const char *s, size_t n)
+{
+    if (t->failed)
+        return;
+    if (LC_GROW(t->alloc, t->s, t->cap, t->len + (int)n + 1) != 0) {
+        t->failed = true;
+        return;
+    }
+    memcpy(t->s + t->len, s, n);
+    t->len += (int)n;
+    t->s[t->len] = '\0';
+}
+
+static void puts_(lc_wire_text *t, const char *s) { put(t, s, strlen(s)); }
+
+static void put_num(lc_wire_text *t, double x)
+{
+    char buf[LC_WIRE_NUMBER_MAX];
+    put(t, buf, (size_t)lc_wire_format_number(buf, x, -1));
+}
+
+static void put_key_num(lc_wire_text *t, const char *key, double x)
+{
+    put(t, ",\"", 2);
+    puts_(t, key);
+    put(t, "\":", 2);
+    put_num(t, x);
+}
+
+static void put_doubles(lc_wire_text *t, const double *v, int n)
+{
+    put(t, "[", 1);
+    for (int i = 0; i < n; i++) {
+        if (i)
+            put(t, ",", 1);
+        put_num(t, v[i]);
+    }
+    put(t, "]", 1);
+}
+
+static void put_string(lc_wire_text *t, const char *s)
+{
+    put(t, "\"", 1);
+    for (; *s; s++) {
+        unsigned char c = (unsigned char)*s;
+        if (c == '"' || c == '\\') {
+            char esc[2] = {'\\', (char)c};
+            put(t, esc, 2);
+        } else if (c < 0x20) {
+            char esc[8];
+            put(t, esc, (size_t)snprintf(esc, sizeof esc, "\\u%04x", c));
+        } else {
+            put(t, s, 1);
+        }
+    }
+    put(t, "\"", 1);
+}
+
+/* A codec encoder's output spliced in as a member value. */
+static void put_encoded(lc_wire_text *t, const char *key, int rc, const lc_wire_text *part)
+{
+    if (rc < 0) {
+        t->failed = true;
+        return;
+    }
+    put(t, ",\"", 2);
+    puts_(t, key);
+    put(t, "\":", 2);
+    put(t, part->s, (size_t)part->len);
+}
+
+static void put_world(lc_wire_text *t, const lc_polyset *w)
+{
+    puts_(t, ",\"world\":{\"polygons\":[");
+    for (int i = 0; i < w->np; i++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(w, i, &n);
+        put(t, i ? ",[" : "[", i ? 2 : 1);
+        for (int j = 0; j < n; j++) {
+            double xy[2] = {v[j].x, v[j].y};
+            if (j)
+                put(t, ",", 1);
+            put_doubles(t, xy, 2);
+        }
+        put(t, "]", 1);
+    }
+    puts_(t, "]}");
+}
+
+static void put_sensor(lc_wire_text *t, const lc_scenario_sensor *s)
+{
+    puts_(t, ",\"sensor\":{\"beams\":");
+    put_num(t, s->beams);
+    put_key_num(t, "fov", s->fov);
+    put_key_num(t, "range_min", s->range_min);
+    put_key_num(t, "range_max", s->range_max);
+    put_key_num(t, "rate", s->rate);
+    put_key_num(t, "noise", s->noise);
+    double m[3] = {s->mount.x, s->mount.y, s->mount.yaw};
+    puts_(t, ",\"mount\":");
+    put_doubles(t, m, 3);
+    put(t, "}", 1);
+}
+
+static void put_robot_route(lc_wire_text *t, const lc_scenario_header *h)
+{
+    lc_wire_text part;
+    lc_wire_text_init(&part, t->alloc);
+    if (h->has_robot)
+        put_encoded(t, "robot", lc_wire_encode_robot(&part, &h->robot), &part);
+    if (h->has_route)
+        put_encoded(t, "route", lc_wire_encode_route(&part, &h->route), &part);
+    lc_wire_text_free(&part);
+}
+
+int lc_scenario_encode_header(lc_wire_text *t, const lc_scenario_header *h)
+{
+    t->len = 0;
+    t->failed = false;
+    puts_(t, "{\"type\":\"scenario\",\"version\":");
+    put_num(t, LC_SCENARIO_VERSION);
+    if (h->description[0]) {
+        puts_(t, ",\"description\":");
+        put_string(t, h->description);
+    }
+    put_robot_route(t, h);
+    if (h->has_start) {
+        double p[3] = {h->start.x, h->start.y, h->start.yaw};
+        puts_(t, ",\"start\":");
+        put_doubles(t, p, 3);
+    }
+    if (h->has_world)
+        put_world(t, &h->world);
+    if (h->has_sensor)
+        put_sensor(t, &h->sensor);
+    puts_(t, ",\"expect\":");
+    put_string(t, lc_scenario_expect_name(h->expect));
+    if (h->max_time > 0)
+        put_key_num(t, "max_time", h->max_time);
+    put(t, "}", 1);
+    if (t->failed) {
+        t->len = 0;
+        return -1;
+    }
+    return 0;
+}

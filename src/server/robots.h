@@ -1,0 +1,103 @@
+/*
+ * robots.h - the hub: connections, robot sessions by name, viewers and
+ * their send queues. No sockets and no clock: the server feeds it received
+ * chunks and the monotonic time (s), asks it what to send next, and calls
+ * lc_hub_tick at the deadline it returns (watchdog, view throttle, hello
+ * timeout, forced closes). So the whole protocol is testable without a
+ * network.
+ *
+ * Queues. Each connection has two bounded queues of outgoing messages:
+ * - replies (welcome, setpoints, events, errors), never dropped: when
+ *   send_queue of them are pending (the peer does not read), the hub queues
+ *   one last error (rate_limited) and closes the connection rather than drop
+ *   a setpoint silently;
+ * - views (viewers only), viewer_queue deep: a slow viewer loses its oldest
+ *   views, never a reply.
+ * Replies go out before views. A view is encoded once per robot and shared
+ * (reference counted) by every viewer that watches it.
+ *
+ * Ownership: the hub owns every lc_conn and robot session. A connection
+ * lives from lc_hub_open to lc_hub_close (the transport's close callback);
+ * a robot session lives as long as its robot's connection. Message buffers
+ * have `headroom` free bytes before the text (the transport's LWS_PRE).
+ */
+#ifndef LC_ROBOTS_H
+#define LC_ROBOTS_H
+
+#include <stdbool.h>
+#include <stddef.h>
+
+#include "config.h"
+#include "session.h"
+
+typedef struct lc_hub lc_hub;
+typedef struct lc_conn lc_conn;
+
+typedef struct lc_hub_io {
+    /* The connection has something to send or wants to close: ask the
+     * transport for a writeable callback. */
+    void (*wake)(void *data, void *conn_user);
+    /* The connection did not close in time: drop it without ceremony. */
+    void (*kill)(void *data, void *conn_user);
+    void *data;
+} lc_hub_io;
+
+typedef struct lc_hub_config {
+    lc_server_config opts;
+    const char *robot_token;  /* NULL: robots need none */
+    const char *viewer_token; /* NULL: viewers need none */
+    size_t headroom;          /* bytes before every outgoing message */
+    const lc_plan_config *plan; /* NULL: defaults */
+    lc_hub_io io;
+} lc_hub_config;
+
+/* WebSocket close statuses the hub asks for (RFC 6455). */
+enum {
+    LC_CLOSE_NORMAL = 1000,
+    LC_CLOSE_GOING_AWAY = 1001,
+    LC_CLOSE_POLICY = 1008,
+    LC_CLOSE_TOO_BIG = 1009,
+    LC_CLOSE_INTERNAL = 1011,
+};
+
+/* NULL when out of memory. The tokens are copied. */
+lc_hub *lc_hub_new(const lc_hub_config *cfg);
+void lc_hub_free(lc_hub *hub);
+
+/* A new connection; NULL when max_connections are open (refuse it). */
+lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, double now);
+/* The transport closed the connection: forget it (and its robot session). */
+void lc_hub_close(lc_hub *hub, lc_conn *conn);
+int lc_hub_connections(const lc_hub *hub);
+
+/*
+ * One received chunk of a message (first/final as the transport says).
+ * Returns 0, or -1 when the connection must be closed at once with
+ * lc_conn_close_status (an oversize message: 1009).
+ */
+int lc_hub_receive(lc_hub *hub, lc_conn *conn, const void *data, size_t len, bool first,
+                   bool final, bool binary, double now);
+
+/* Next message to send (headroom bytes before it are free), or NULL. */
+char *lc_conn_peek(lc_conn *conn, size_t *len);
+void lc_conn_pop(lc_conn *conn);
+/* True once the connection is to be closed after its queue drained. */
+bool lc_conn_closing(const lc_conn *conn);
+int lc_conn_close_status(const lc_conn *conn, const char **reason);
+
+/* Timers: do what is due at now; returns the next deadline (INFINITY: none). */
+double lc_hub_tick(lc_hub *hub, double now);
+double lc_hub_deadline(const lc_hub *hub);
+
+/* Shutdown: a last stop setpoint to every robot, then close everything. */
+void lc_hub_shutdown(lc_hub *hub, double now);
+/* SIGHUP: reopen the recording files. */
+void lc_hub_reopen(lc_hub *hub);
+
+/* Views dropped for slow viewers so far (for logs and tests). */
+long lc_hub_views_dropped(const lc_hub *hub);
+
+/* Equal strings, in time that depends only on the lengths' upper bound. */
+bool lc_token_equal(const char *a, const char *b);
+
+#endif

@@ -1,0 +1,221 @@
+/*
+ * serve.c - `lacuna serve`: options, tokens, the loopback rule, then the
+ * server loop (server.h). The option list of --help is printed from the
+ * option table (config.c), the one place options are declared.
+ */
+#include <errno.h>
+#include <limits.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "cli.h"
+#include "codec.h"
+#include "config.h"
+#include "log.h"
+#include "server.h"
+
+#define CMD "serve"
+
+/* Filled once before main from the option table (see build_usage). */
+char lc_serve_usage[16384];
+
+static const char usage_head[] =
+    "usage: lacuna serve [--listen HOST:PORT] [--config FILE] [--web DIR] [--record DIR]\n"
+    "                    [--token-file FILE] [--viewer-token-file FILE] [--print-config]\n"
+    "                    [--watchdog-ms N] [--log-level L] [other options below]\n"
+    "\n"
+    "The navigation daemon. Robots connect over a websocket (ws://HOST:PORT/, subprotocol\n"
+    "lacuna.v1), send their description, route and sensor frames, and get one velocity\n"
+    "setpoint per frame; browsers get the viewer page at http://HOST:PORT/. Without a\n"
+    "frame for watchdog_ms the robot gets stop setpoints (state stale). SIGINT/SIGTERM\n"
+    "send a last stop setpoint to every robot and exit 0; SIGHUP reopens the log and\n"
+    "the recording files.\n"
+    "\n"
+    "SAFETY. lacuna is not a safety-rated component. A robot that moves near people\n"
+    "needs a safety-rated protective stop (certified safety scanner or bumper, emergency\n"
+    "stop) independent of lacuna, and its speeds and separation distances set by a risk\n"
+    "assessment under the standards that apply where it runs (for example ISO 3691-4 for\n"
+    "driverless industrial trucks and mobile robots, ISO 13482 for personal care robots,\n"
+    "IEC 61496-3 for safety laser scanners, ISO 13855 for separation distances) and local\n"
+    "regulations. Test new settings in simulation, then at low speed in a cleared area.\n"
+    "\n"
+    "The server listens on 127.0.0.1 unless told otherwise and refuses any other address\n"
+    "without a robot token (--token-file). Options (also keys of the --config JSON\n"
+    "object; flags override the file):\n"
+    "  --config FILE            JSON object of options\n"
+    "  --print-config           print the effective configuration as JSON and exit\n";
+
+__attribute__((constructor)) static void build_usage(void)
+{
+    FILE *f = fmemopen(lc_serve_usage, sizeof lc_serve_usage - 1, "w");
+    if (!f)
+        return;
+    fputs(usage_head, f);
+    lc_server_config_help(f);
+    fputs("\nexit status: 0 after a signal, 1 when it cannot listen, 2 on bad usage.\n", f);
+    fclose(f);
+}
+
+static bool is_flag(const char *a, const char *name, const char **value)
+{
+    size_t n = strlen(name);
+    if (strncmp(a, name, n) != 0)
+        return false;
+    if (a[n] == '=') {
+        *value = a + n + 1;
+        return true;
+    }
+    return a[n] == '\0';
+}
+
+/* --config first, then every other flag over it. */
+static int read_options(int argc, char **argv, lc_server_config *cfg, bool *print)
+{
+    char err[512];
+    lc_server_config_default(cfg);
+    for (int i = 1; i < argc; i++) {
+        const char *v = NULL;
+        if (is_flag(argv[i], "--config", &v)) {
+            if (!v && (v = i + 1 < argc ? argv[++i] : NULL) == NULL)
+                return lc_cli_usage_error(CMD, "--config needs a FILE");
+            if (lc_server_config_load(cfg, v, err, sizeof err) < 0)
+                return lc_cli_usage_error(CMD, "%s", err);
+        }
+    }
+    for (int i = 1; i < argc; i++) {
+        const char *v = NULL;
+        if (is_flag(argv[i], "--config", &v)) {
+            i += v ? 0 : 1;
+            continue;
+        }
+        if (strcmp(argv[i], "--print-config") == 0) {
+            *print = true;
+            continue;
+        }
+        char flag[128];
+        const char *eq = strchr(argv[i], '=');
+        size_t fl = eq ? (size_t)(eq - argv[i]) : strlen(argv[i]);
+        snprintf(flag, sizeof flag, "%.*s", (int)fl, argv[i]);
+        v = eq ? eq + 1 : (i + 1 < argc ? argv[i + 1] : NULL);
+        int rc = lc_server_config_flag(cfg, flag, v, err, sizeof err);
+        if (rc < 0)
+            return lc_cli_usage_error(CMD, "%s", err);
+        if (rc == 0)
+            return lc_cli_usage_error(CMD, "unknown option '%s' (see lacuna serve --help)",
+                                      argv[i]);
+        i += eq ? 0 : 1;
+    }
+    return 0;
+}
+
+/* A token file: one line of printable ASCII; trailing white space ignored. */
+static int read_token(const char *path, char *out, size_t n)
+{
+    size_t len = 0;
+    char *text = lc_cli_read_file(path, &len);
+    if (!text)
+        return lc_cli_usage_error(CMD, "token file %s: %s", path, strerror(errno));
+    while (len && (text[len - 1] == '\n' || text[len - 1] == '\r' || text[len - 1] == ' ' ||
+                   text[len - 1] == '\t'))
+        text[--len] = '\0';
+    bool ok = len > 0 && len <= LC_WIRE_TOKEN_MAX && len < n;
+    for (size_t i = 0; ok && i < len; i++)
+        ok = text[i] >= 0x20 && text[i] <= 0x7e;
+    if (ok)
+        memcpy(out, text, len + 1);
+    free(text);
+    if (!ok)
+        return lc_cli_usage_error(CMD, "token file %s: must hold 1 to %d printable ASCII characters",
+                                  path, LC_WIRE_TOKEN_MAX);
+    return 0;
+}
+
+static bool is_dir(const char *path)
+{
+    struct stat st;
+    return stat(path, &st) == 0 && S_ISDIR(st.st_mode);
+}
+
+/* The web/ beside the program: <exe dir>/../web (the build tree's parent). */
+static bool default_web(char *out, size_t n)
+{
+    char exe[PATH_MAX];
+    ssize_t k = readlink("/proc/self/exe", exe, sizeof exe - 1);
+    if (k <= 0)
+        return false;
+    exe[k] = '\0';
+    char *slash = strrchr(exe, '/');
+    if (!slash)
+        return false;
+    *slash = '\0';
+    static const char *const rel[] = {"/../web", "/../share/lacuna/web", "/web"};
+    for (size_t i = 0; i < sizeof rel / sizeof rel[0]; i++) {
+        char cand[PATH_MAX + 32];
+        snprintf(cand, sizeof cand, "%s%s", exe, rel[i]);
+        if (is_dir(cand) && realpath(cand, out) && strlen(out) < n)
+            return true;
+    }
+    return false;
+}
+
+static int check_dirs(lc_server_config *cfg, char *web, size_t n, bool *has_web)
+{
+    *has_web = false;
+    if (cfg->web[0]) {
+        if (!is_dir(cfg->web))
+            return lc_cli_usage_error(CMD, "web: %s is not a directory", cfg->web);
+        snprintf(web, n, "%s", cfg->web);
+        *has_web = true;
+    } else {
+        *has_web = default_web(web, n);
+    }
+    if (cfg->record[0] && !is_dir(cfg->record) && mkdir(cfg->record, 0755) != 0)
+        return lc_cli_usage_error(CMD, "record: %s: %s", cfg->record, strerror(errno));
+    return 0;
+}
+
+int lc_serve(int argc, char **argv)
+{
+    static lc_server_config cfg;
+    static char robot_token[LC_WIRE_TOKEN_MAX + 2], viewer_token[LC_WIRE_TOKEN_MAX + 2];
+    static char web[PATH_MAX];
+    bool print = false, has_web = false;
+    int rc = read_options(argc, argv, &cfg, &print);
+    if (rc)
+        return rc;
+    if (print) {
+        lc_server_config_print(&cfg, stdout);
+        return LC_EXIT_OK;
+    }
+    lc_server_params p = {.cfg = &cfg};
+    char err[256];
+    if (lc_listen_parse(cfg.listen, &p.listen, err, sizeof err) < 0)
+        return lc_cli_usage_error(CMD, "%s", err);
+    if (cfg.token_file[0] && (rc = read_token(cfg.token_file, robot_token, sizeof robot_token)))
+        return rc;
+    if (cfg.viewer_token_file[0] &&
+        (rc = read_token(cfg.viewer_token_file, viewer_token, sizeof viewer_token)))
+        return rc;
+    if (!p.listen.loopback && !cfg.token_file[0])
+        return lc_cli_usage_error(CMD,
+                                  "refusing to listen on %s (not a loopback address) without a "
+                                  "robot token: give --token-file FILE",
+                                  p.listen.host);
+    if ((rc = check_dirs(&cfg, web, sizeof web, &has_web)))
+        return rc;
+    lc_log_level level = LC_LOG_INFO;
+    lc_log_level_from_name(cfg.log_level, &level);
+    if (lc_log_open(level, cfg.log_file) < 0)
+        return lc_cli_usage_error(CMD, "log_file: cannot open %s: %s", cfg.log_file,
+                                  strerror(errno));
+    p.robot_token = cfg.token_file[0] ? robot_token : NULL;
+    p.viewer_token = cfg.viewer_token_file[0] ? viewer_token : NULL;
+    p.web_dir = has_web ? web : NULL;
+    if (!has_web)
+        lc_log(LC_LOG_WARN, "no web directory found: the viewer page is not served");
+    rc = lc_server_run(&p);
+    lc_log_close();
+    return rc == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
+}

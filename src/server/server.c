@@ -1,0 +1,319 @@
+/*
+ * server.c - see server.h. libwebsockets 4.1 notes that shape this file
+ * (LIBNOTES.md): an IPv4 iface alone still listens on every interface
+ * unless IPv6 is disabled; permessage-deflate stays off; lws_write only in
+ * the WRITEABLE callback, one message per callback; timers are lws_sul,
+ * and no protocol work is done after lws_service returns except reacting
+ * to the signal flags.
+ */
+#include "server.h"
+
+#include <arpa/inet.h>
+#include <libwebsockets.h>
+#include <math.h>
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "codec.h"
+#include "log.h"
+#include "robots.h"
+
+typedef struct server {
+    const lc_server_params *p;
+    struct lws_context *ctx;
+    lc_hub *hub;
+    lws_sorted_usec_list_t tick;
+    lws_sorted_usec_list_t give_up;
+    bool shutting, give_up_now, destroying;
+} server;
+
+struct pss {
+    lc_conn *conn;
+};
+
+static volatile sig_atomic_t got_stop, got_hup;
+static struct lws_context *volatile signal_ctx;
+
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + ts.tv_nsec * 1e-9;
+}
+
+int lc_listen_parse(const char *text, lc_listen_addr *out, char *err, size_t n)
+{
+    memset(out, 0, sizeof *out);
+    const char *colon = strrchr(text, ':');
+    size_t hl = colon ? (size_t)(colon - text) : 0;
+    if (!colon || hl == 0 || hl >= sizeof out->host) {
+        snprintf(err, n, "listen: '%s' is not HOST:PORT", text);
+        return -1;
+    }
+    char *end = NULL;
+    long port = strtol(colon + 1, &end, 10);
+    if (end == colon + 1 || *end != '\0' || port < 0 || port > 65535) {
+        snprintf(err, n, "listen: port '%s' is not 0 to 65535", colon + 1);
+        return -1;
+    }
+    memcpy(out->host, text, hl);
+    out->host[hl] = '\0';
+    if (strcmp(out->host, "localhost") == 0)
+        snprintf(out->host, sizeof out->host, "127.0.0.1");
+    struct in_addr a;
+    if (inet_pton(AF_INET, out->host, &a) != 1) {
+        snprintf(err, n, "listen: host '%s' is not an IPv4 address, localhost or 0.0.0.0",
+                 out->host);
+        return -1;
+    }
+    out->port = (int)port;
+    out->loopback = (ntohl(a.s_addr) >> 24) == 127;
+    return 0;
+}
+
+/* ------------------------------------------------------------- timers */
+
+static void arm(server *s);
+
+static void on_tick(lws_sorted_usec_list_t *sul)
+{
+    server *s = lws_container_of(sul, server, tick);
+    lc_hub_tick(s->hub, now_s());
+    arm(s);
+}
+
+static void on_give_up(lws_sorted_usec_list_t *sul)
+{
+    server *s = lws_container_of(sul, server, give_up);
+    s->give_up_now = true;
+}
+
+/* The hub's next deadline becomes the one pending timer. */
+static void arm(server *s)
+{
+    if (s->destroying)
+        return;
+    double d = lc_hub_deadline(s->hub);
+    if (isinf(d)) {
+        lws_sul_schedule(s->ctx, 0, &s->tick, on_tick, LWS_SET_TIMER_USEC_CANCEL);
+        return;
+    }
+    double us = (d - now_s()) * 1e6;
+    lws_sul_schedule(s->ctx, 0, &s->tick, on_tick, us < 1 ? 1 : (lws_usec_t)us);
+}
+
+static void hub_wake(void *data, void *conn_user) { lws_callback_on_writable(conn_user); }
+
+static void hub_kill(void *data, void *conn_user)
+{
+    lws_set_timeout(conn_user, PENDING_TIMEOUT_USER_OK, LWS_TO_KILL_ASYNC);
+}
+
+/* ---------------------------------------------------------- callbacks */
+
+static int close_with(struct lws *wsi, lc_conn *conn)
+{
+    const char *reason = "";
+    int status = lc_conn_close_status(conn, &reason);
+    lws_close_reason(wsi, (enum lws_close_status)status, (unsigned char *)reason, strlen(reason));
+    return -1;
+}
+
+static int writeable(struct lws *wsi, lc_conn *conn)
+{
+    size_t len = 0;
+    char *text = lc_conn_peek(conn, &len);
+    if (!text)
+        return lc_conn_closing(conn) ? close_with(wsi, conn) : 0;
+    int n = lws_write(wsi, (unsigned char *)text, len, LWS_WRITE_TEXT);
+    if (n < (int)len)
+        return -1;
+    lc_conn_pop(conn);
+    if (lc_conn_peek(conn, &len) || lc_conn_closing(conn))
+        lws_callback_on_writable(wsi);
+    return 0;
+}
+
+static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
+                    size_t len)
+{
+    struct pss *pss = user;
+    server *s = lws_context_user(lws_get_context(wsi));
+    int rc = 0;
+    switch (reason) {
+    case LWS_CALLBACK_FILTER_PROTOCOL_CONNECTION:
+        if (s->shutting || lc_hub_connections(s->hub) >= s->p->cfg->max_connections) {
+            lc_log(LC_LOG_WARN, "connection refused (%s)",
+                   s->shutting ? "shutting down" : "max_connections");
+            return 1;
+        }
+        return 0;
+    case LWS_CALLBACK_ESTABLISHED:
+        pss->conn = lc_hub_open(s->hub, wsi, now_s());
+        rc = pss->conn ? 0 : -1;
+        break;
+    case LWS_CALLBACK_RECEIVE:
+        if (!pss->conn)
+            return -1;
+        if (lc_hub_receive(s->hub, pss->conn, in, len, lws_is_first_fragment(wsi),
+                           lws_is_final_fragment(wsi), lws_frame_is_binary(wsi), now_s()) < 0)
+            rc = close_with(wsi, pss->conn);
+        break;
+    case LWS_CALLBACK_SERVER_WRITEABLE:
+        if (!pss->conn)
+            return -1;
+        rc = writeable(wsi, pss->conn);
+        break;
+    case LWS_CALLBACK_CLOSED:
+        if (pss->conn)
+            lc_hub_close(s->hub, pss->conn);
+        pss->conn = NULL;
+        break;
+    default:
+        return 0;
+    }
+    arm(s);
+    return rc;
+}
+
+static const struct lws_protocols protocols[] = {
+    {"http", lws_callback_http_dummy, 0, 0, 0, NULL, 0},
+    {LC_WIRE_PROTOCOL, callback, sizeof(struct pss), 65536, 0, NULL, 0},
+    {NULL, NULL, 0, 0, 0, NULL, 0},
+};
+
+/* Types the viewer may use that libwebsockets does not know. */
+static const struct lws_protocol_vhost_options mime_jsonl = {NULL, NULL, ".jsonl",
+                                                             "application/x-ndjson"};
+static const struct lws_protocol_vhost_options mime_mjs = {&mime_jsonl, NULL, ".mjs",
+                                                           "text/javascript"};
+
+/* ------------------------------------------------------------- signals */
+
+static void on_signal(int sig)
+{
+    if (sig == SIGHUP)
+        got_hup = 1;
+    else
+        got_stop = 1;
+    if (signal_ctx)
+        lws_cancel_service(signal_ctx);
+}
+
+static void install_signals(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigemptyset(&sa.sa_mask);
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+    sigaction(SIGHUP, &sa, NULL);
+}
+
+static void lws_to_log(int level, const char *line)
+{
+    size_t n = strlen(line);
+    while (n && (line[n - 1] == '\n' || line[n - 1] == '\r'))
+        n--;
+    lc_log(level == LLL_ERR ? LC_LOG_WARN : LC_LOG_DEBUG, "libwebsockets: %.*s", (int)n, line);
+}
+
+/* ---------------------------------------------------------------- loop */
+
+static void begin_shutdown(server *s)
+{
+    s->shutting = true;
+    lc_log(LC_LOG_INFO, "shutting down: stop setpoints to every robot");
+    lc_hub_shutdown(s->hub, now_s());
+    arm(s);
+    lws_sul_schedule(s->ctx, 0, &s->give_up, on_give_up,
+                     (lws_usec_t)(s->p->cfg->shutdown_ms + 500) * 1000);
+}
+
+static void loop(server *s)
+{
+    for (;;) {
+        if (lws_service(s->ctx, 0) < 0)
+            break;
+        if (got_hup) {
+            got_hup = 0;
+            if (lc_log_reopen() < 0)
+                lc_log(LC_LOG_ERROR, "cannot reopen the log file; logging to stderr");
+            lc_hub_reopen(s->hub);
+            lc_log(LC_LOG_INFO, "SIGHUP: log and recordings reopened");
+        }
+        if (got_stop && !s->shutting)
+            begin_shutdown(s);
+        if (s->shutting && (lc_hub_connections(s->hub) == 0 || s->give_up_now))
+            break;
+    }
+}
+
+static struct lws_context *create_context(server *s, struct lws_http_mount *mount)
+{
+    const lc_server_params *p = s->p;
+    struct lws_context_creation_info info;
+    memset(&info, 0, sizeof info);
+    info.port = p->listen.port;
+    info.iface = strcmp(p->listen.host, "0.0.0.0") == 0 ? NULL : p->listen.host;
+    info.protocols = protocols;
+    info.options = LWS_SERVER_OPTION_DISABLE_IPV6; /* else the iface binds everywhere */
+    info.user = s;
+    info.fd_limit_per_thread = (unsigned int)(2 * p->cfg->max_connections + 64);
+    if (p->web_dir) {
+        memset(mount, 0, sizeof *mount);
+        mount->mountpoint = "/";
+        mount->mountpoint_len = 1;
+        mount->origin = p->web_dir;
+        mount->def = "index.html";
+        mount->origin_protocol = LWSMPRO_FILE;
+        mount->extra_mimetypes = &mime_mjs;
+        info.mounts = mount;
+    }
+    return lws_create_context(&info);
+}
+
+static void print_listening(const server *s)
+{
+    struct lws_vhost *vh = lws_get_vhost_by_name(s->ctx, "default");
+    int port = vh ? lws_get_vhost_listen_port(vh) : s->p->listen.port;
+    fprintf(stderr,
+            "lacuna serve: listening on http://%s:%d/ (websocket ws://%s:%d/, protocol %s)\n",
+            s->p->listen.host, port, s->p->listen.host, port, LC_WIRE_PROTOCOL);
+    fflush(stderr);
+}
+
+int lc_server_run(const lc_server_params *p)
+{
+    server s = {.p = p};
+    lc_hub_config hc = {.opts = *p->cfg, .robot_token = p->robot_token,
+                        .viewer_token = p->viewer_token, .headroom = LWS_PRE,
+                        .io = {.wake = hub_wake, .kill = hub_kill, .data = &s}};
+    s.hub = lc_hub_new(&hc);
+    if (!s.hub)
+        return -1;
+    lws_set_log_level(LLL_ERR | LLL_WARN, lws_to_log);
+    struct lws_http_mount mount;
+    s.ctx = create_context(&s, &mount);
+    if (!s.ctx) {
+        lc_log(LC_LOG_ERROR, "cannot listen on %s:%d", p->listen.host, p->listen.port);
+        lc_hub_free(s.hub);
+        return -1;
+    }
+    signal_ctx = s.ctx;
+    install_signals();
+    print_listening(&s);
+    loop(&s);
+    signal_ctx = NULL;
+    s.destroying = true;
+    lws_sul_schedule(s.ctx, 0, &s.tick, on_tick, LWS_SET_TIMER_USEC_CANCEL);
+    lws_sul_schedule(s.ctx, 0, &s.give_up, on_give_up, LWS_SET_TIMER_USEC_CANCEL);
+    lws_context_destroy(s.ctx);
+    lc_hub_free(s.hub);
+    lc_log(LC_LOG_INFO, "stopped");
+    return 0;
+}

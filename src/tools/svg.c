@@ -1,0 +1,293 @@
+/*
+ * svg.c - one SVG picture of a run (see svg.h).
+ *
+ * The map keeps metres isotropic (one scale for x and y, y flipped so that
+ * up is +y); the clearance plot below it shares nothing but the width. A
+ * long run keeps every frame's pose and clearance but draws at most
+ * MAX_SNAPSHOTS of the region/obstacle snapshots and MAX_TRAIL trajectory
+ * points, evenly spread, so the file stays readable in a browser.
+ */
+#include "svg.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define MAP_WIDTH 900.0   /* px */
+#define MAP_HEIGHT_MAX 900.0
+#define PAD 30.0          /* px around the map and the plot */
+#define PLOT_HEIGHT 180.0 /* px */
+#define MAX_SNAPSHOTS 40
+#define MAX_TRAIL 4000
+
+void lc_svg_run_init(lc_svg_run *r, int every)
+{
+    memset(r, 0, sizeof *r);
+    r->every = every > 0 ? every : 10;
+}
+
+void lc_svg_run_free(lc_svg_run *r)
+{
+    free(r->pose);
+    free(r->stamp);
+    free(r->clearance);
+    lc_polyset_free(&r->regions, NULL);
+    lc_polyset_free(&r->seen, NULL);
+    memset(r, 0, sizeof *r);
+}
+
+static int grow_frames(lc_svg_run *r)
+{
+    if (r->n < r->cap)
+        return 0;
+    int cap = r->cap ? 2 * r->cap : 256;
+    lc_pose *p = realloc(r->pose, (size_t)cap * sizeof *p);
+    if (p)
+        r->pose = p;
+    double *s = p ? realloc(r->stamp, (size_t)cap * sizeof *s) : NULL;
+    if (s)
+        r->stamp = s;
+    double *c = s ? realloc(r->clearance, (size_t)cap * sizeof *c) : NULL;
+    if (!c)
+        return -1;
+    r->clearance = c;
+    r->cap = cap;
+    return 0;
+}
+
+static void snapshot(lc_svg_run *r, const lc_plan_result *res, int id)
+{
+    if (res->region && res->region->nv >= 3 &&
+        lc_polyset_push(&r->regions, NULL, res->region->v, res->region->nv, id) < 0)
+        r->failed = 1;
+    for (int i = 0; res->obstacles && i < res->obstacles->np; i++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(res->obstacles, i, &n);
+        if (lc_polyset_push(&r->seen, NULL, v, n, id) < 0)
+            r->failed = 1;
+    }
+}
+
+void lc_svg_run_add(lc_svg_run *r, const lc_frame *f, const lc_plan_result *res,
+                    double clearance)
+{
+    if (r->failed || grow_frames(r) < 0) {
+        r->failed = 1;
+        return;
+    }
+    r->pose[r->n] = f->pose;
+    r->stamp[r->n] = f->stamp;
+    r->clearance[r->n] = clearance;
+    if (r->n % r->every == 0)
+        snapshot(r, res, r->n / r->every);
+    r->n++;
+}
+
+/* ------------------------------------------------------------- writing */
+
+typedef struct view {
+    double minx, miny, maxx, maxy, scale;
+    double map_h; /* px */
+} view;
+
+static void extend(view *v, lc_vec2 p, double pad)
+{
+    if (!lc_vec2_finite(p))
+        return;
+    v->minx = fmin(v->minx, p.x - pad);
+    v->maxx = fmax(v->maxx, p.x + pad);
+    v->miny = fmin(v->miny, p.y - pad);
+    v->maxy = fmax(v->maxy, p.y + pad);
+}
+
+static void extend_set(view *v, const lc_polyset *s)
+{
+    for (int i = 0; s && i < s->nv; i++)
+        extend(v, s->v[i], 0);
+}
+
+static view make_view(const lc_svg_run *run, const lc_svg_scene *sc)
+{
+    view v = {INFINITY, INFINITY, -INFINITY, -INFINITY, 1, 0};
+    extend_set(&v, sc->world);
+    if (!sc->world)
+        extend_set(&v, &run->seen);
+    for (int i = 0; i < run->n; i++)
+        extend(&v, lc_v2(run->pose[i].x, run->pose[i].y), sc->radius);
+    for (int i = 0; sc->route && i < sc->route->count; i++)
+        extend(&v, sc->route->waypoints[i], sc->route->tolerance);
+    if (!(v.minx < v.maxx))
+        v = (view){-1, -1, 1, 1, 1, 0};
+    double w = v.maxx - v.minx, h = fmax(v.maxy - v.miny, 1e-3);
+    v.scale = fmin(MAP_WIDTH / w, MAP_HEIGHT_MAX / h);
+    v.map_h = h * v.scale;
+    return v;
+}
+
+static double px(const view *v, double x) { return PAD + (x - v->minx) * v->scale; }
+static double py(const view *v, double y) { return PAD + (v->maxy - y) * v->scale; }
+
+static void put_escaped(FILE *out, const char *s)
+{
+    for (; *s; s++) {
+        switch (*s) {
+        case '<': fputs("&lt;", out); break;
+        case '>': fputs("&gt;", out); break;
+        case '&': fputs("&amp;", out); break;
+        case '"': fputs("&quot;", out); break;
+        default:
+            if ((unsigned char)*s >= 0x20 || *s == '\t' || *s == '\n')
+                fputc(*s, out);
+        }
+    }
+}
+
+static void put_points(FILE *out, const view *v, const lc_vec2 *p, int n)
+{
+    for (int i = 0; i < n; i++)
+        fprintf(out, "%s%.2f,%.2f", i ? " " : "", px(v, p[i].x), py(v, p[i].y));
+}
+
+static void put_polygon(FILE *out, const view *v, const lc_vec2 *p, int n)
+{
+    if (n == 1) {
+        fprintf(out, "<circle cx=\"%.2f\" cy=\"%.2f\" r=\"1.5\"/>\n", px(v, p[0].x), py(v, p[0].y));
+        return;
+    }
+    fputs(n == 2 ? "<polyline points=\"" : "<polygon points=\"", out);
+    put_points(out, v, p, n);
+    fputs("\"/>\n", out);
+}
+
+static void put_set(FILE *out, const view *v, const lc_polyset *s, int keep_every)
+{
+    for (int i = 0; s && i < s->np; i++) {
+        if (keep_every > 1 && s->span[i].src % keep_every != 0)
+            continue;
+        int n;
+        const lc_vec2 *p = lc_polyset_at(s, i, &n);
+        put_polygon(out, v, p, n);
+    }
+}
+
+static void put_trajectory(FILE *out, const view *v, const lc_svg_run *run)
+{
+    fputs("<g id=\"trajectory\" fill=\"none\" stroke=\"#1a7f37\" stroke-width=\"2\">\n", out);
+    if (run->n > 0) {
+        int step = run->n > MAX_TRAIL ? (run->n + MAX_TRAIL - 1) / MAX_TRAIL : 1;
+        fputs("<polyline points=\"", out);
+        for (int i = 0; i < run->n; i += step)
+            fprintf(out, "%s%.2f,%.2f", i ? " " : "", px(v, run->pose[i].x), py(v, run->pose[i].y));
+        const lc_pose *e = &run->pose[run->n - 1];
+        fprintf(out, " %.2f,%.2f\"/>\n", px(v, e->x), py(v, e->y));
+    }
+    fputs("</g>\n", out);
+}
+
+static void put_route(FILE *out, const view *v, const lc_route *route)
+{
+    fputs("<g id=\"route\" font-family=\"sans-serif\" font-size=\"12\">\n", out);
+    for (int i = 0; route && i < route->count; i++) {
+        lc_vec2 w = route->waypoints[i];
+        fprintf(out,
+                "<circle cx=\"%.2f\" cy=\"%.2f\" r=\"%.2f\" fill=\"#8250df\" fill-opacity=\"0.15\" "
+                "stroke=\"#8250df\"/>\n<text x=\"%.2f\" y=\"%.2f\" fill=\"#8250df\">%d</text>\n",
+                px(v, w.x), py(v, w.y), fmax(route->tolerance * v->scale, 3.0), px(v, w.x) + 6,
+                py(v, w.y) - 6, i);
+    }
+    fputs("</g>\n", out);
+}
+
+static void put_footprint(FILE *out, const view *v, lc_pose p, double radius, const char *what)
+{
+    double r = fmax(radius * v->scale, 2.0);
+    fprintf(out,
+            "<g class=\"%s\"><circle cx=\"%.2f\" cy=\"%.2f\" r=\"%.2f\"/>"
+            "<line x1=\"%.2f\" y1=\"%.2f\" x2=\"%.2f\" y2=\"%.2f\"/></g>\n",
+            what, px(v, p.x), py(v, p.y), r, px(v, p.x), py(v, p.y),
+            px(v, p.x + radius * cos(p.yaw)), py(v, p.y + radius * sin(p.yaw)));
+}
+
+static void put_robot(FILE *out, const view *v, const lc_svg_run *run, double radius)
+{
+    fputs("<g id=\"robot\" fill=\"#0969da\" fill-opacity=\"0.3\" stroke=\"#0969da\">\n", out);
+    if (run->n > 0) {
+        put_footprint(out, v, run->pose[0], radius, "start");
+        put_footprint(out, v, run->pose[run->n - 1], radius, "end");
+    }
+    fputs("</g>\n", out);
+}
+
+/* Clearance over time; the red line is zero (contact). */
+static void put_clearance(FILE *out, const view *v, const lc_svg_run *run)
+{
+    double top = v->map_h + 2 * PAD + 20, w = MAP_WIDTH;
+    double t0 = run->n ? run->stamp[0] : 0, t1 = run->n ? run->stamp[run->n - 1] : 1;
+    double cmax = 0.5;
+    for (int i = 0; i < run->n; i++)
+        if (isfinite(run->clearance[i]))
+            cmax = fmax(cmax, fmin(run->clearance[i], 5.0));
+    double span = t1 > t0 ? t1 - t0 : 1, cmin = -0.1 * cmax;
+    double ys = PLOT_HEIGHT / (cmax - cmin);
+    fprintf(out,
+            "<g id=\"clearance\" font-family=\"sans-serif\" font-size=\"12\">\n"
+            "<rect x=\"%.2f\" y=\"%.2f\" width=\"%.2f\" height=\"%.2f\" fill=\"none\" "
+            "stroke=\"#888\"/>\n"
+            "<line x1=\"%.2f\" y1=\"%.2f\" x2=\"%.2f\" y2=\"%.2f\" stroke=\"#cf222e\"/>\n"
+            "<text x=\"%.2f\" y=\"%.2f\">clearance (m) over %.1f s, 0 to %.2f m</text>\n",
+            PAD, top, w, PLOT_HEIGHT, PAD, top + cmax * ys, PAD + w, top + cmax * ys, PAD,
+            top - 5, span, cmax);
+    fputs("<polyline fill=\"none\" stroke=\"#0969da\" points=\"", out);
+    int step = run->n > MAX_TRAIL ? (run->n + MAX_TRAIL - 1) / MAX_TRAIL : 1;
+    bool first = true;
+    for (int i = 0; i < run->n; i += step) {
+        double c = run->clearance[i];
+        if (!isfinite(c))
+            continue;
+        c = fmin(fmax(c, cmin), cmax);
+        fprintf(out, "%s%.2f,%.2f", first ? "" : " ", PAD + (run->stamp[i] - t0) / span * w,
+                top + (cmax - c) * ys);
+        first = false;
+    }
+    fputs("\"/>\n</g>\n", out);
+}
+
+static int snapshot_stride(const lc_svg_run *run)
+{
+    int count = run->n > 0 ? (run->n - 1) / run->every + 1 : 0;
+    return count > MAX_SNAPSHOTS ? (count + MAX_SNAPSHOTS - 1) / MAX_SNAPSHOTS : 1;
+}
+
+int lc_svg_write(FILE *out, const lc_svg_run *run, const lc_svg_scene *sc)
+{
+    view v = make_view(run, sc);
+    double width = MAP_WIDTH + 2 * PAD, height = v.map_h + 3 * PAD + 20 + PLOT_HEIGHT;
+    fprintf(out,
+            "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
+            "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%.0f\" height=\"%.0f\" "
+            "viewBox=\"0 0 %.0f %.0f\">\n<title>",
+            width, height, width, height);
+    put_escaped(out, sc->title ? sc->title : "lacuna run");
+    fprintf(out, "</title>\n<desc>%d frames; scale %.3f px/m; grid origin (%.3f, %.3f) m%s</desc>\n",
+            run->n, v.scale, v.minx, v.miny, run->failed ? "; partial (out of memory)" : "");
+    fputs("<rect width=\"100%\" height=\"100%\" fill=\"white\"/>\n", out);
+    if (sc->world) {
+        fputs("<g id=\"world\" fill=\"#57606a\" stroke=\"#24292f\" stroke-width=\"1\">\n", out);
+        put_set(out, &v, sc->world, 0);
+        fputs("</g>\n", out);
+    }
+    int stride = snapshot_stride(run);
+    fputs("<g id=\"seen\" fill=\"#fb8f44\" fill-opacity=\"0.35\" stroke=\"#bc4c00\" "
+          "stroke-width=\"0.5\">\n", out);
+    put_set(out, &v, &run->seen, stride);
+    fputs("</g>\n<g id=\"regions\" fill=\"#0969da\" fill-opacity=\"0.04\" stroke=\"#0969da\" "
+          "stroke-opacity=\"0.5\" stroke-width=\"0.8\">\n", out);
+    put_set(out, &v, &run->regions, stride);
+    fputs("</g>\n", out);
+    put_trajectory(out, &v, run);
+    put_route(out, &v, sc->route);
+    put_robot(out, &v, run, sc->radius);
+    put_clearance(out, &v, run);
+    fputs("</svg>\n", out);
+    return ferror(out) ? -1 : 0;
+}

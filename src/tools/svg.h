@@ -1,0 +1,53 @@
+/*
+ * svg.h - one SVG picture of a run (replay or sim): world polygons, the
+ * obstacles seen, free regions every N frames, the trajectory, the route's
+ * waypoints, and a clearance-over-time plot under the map.
+ *
+ * Layers are groups with fixed ids, so tests and people can find them:
+ * "world" (only with a world), "seen", "regions", "trajectory", "route",
+ * "robot" (footprint at start and end), "clearance". World coordinates are
+ * metres (y up); the picture flips them into SVG's y-down pixels.
+ *
+ * Ownership: the recorder owns copies of what it keeps (malloc); the scene's
+ * pointers stay the caller's.
+ */
+#ifndef LC_SVG_H
+#define LC_SVG_H
+
+#include <stdio.h>
+
+#include "frame.h"
+#include "polyset.h"
+#include "robot.h"
+#include "session.h"
+
+typedef struct lc_svg_run {
+    int every;          /* snapshot of region and obstacles every this many frames */
+    lc_pose *pose;      /* per frame, world frame */
+    double *stamp;      /* s */
+    double *clearance;  /* m, per frame (NAN: unknown) */
+    int n, cap;
+    lc_polyset regions; /* region polygons of the snapshots */
+    lc_polyset seen;    /* obstacles of the snapshots, as seen */
+    int failed;         /* out of memory once: the picture is partial */
+} lc_svg_run;
+
+/* every <= 0: 10. */
+void lc_svg_run_init(lc_svg_run *r, int every);
+void lc_svg_run_free(lc_svg_run *r);
+
+/* Record one frame and its plan result. clearance: the value to plot. */
+void lc_svg_run_add(lc_svg_run *r, const lc_frame *f, const lc_plan_result *res,
+                    double clearance);
+
+typedef struct lc_svg_scene {
+    const char *title;       /* may be NULL */
+    const lc_polyset *world; /* NULL: no world layer */
+    const lc_route *route;   /* NULL: no waypoints */
+    double radius;           /* m, footprint */
+} lc_svg_scene;
+
+/* Writes the picture; 0, or -1 on a write error. */
+int lc_svg_write(FILE *out, const lc_svg_run *run, const lc_svg_scene *scene);
+
+#endif

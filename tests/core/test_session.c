@@ -1,0 +1,239 @@
+/*
+ * test_session.c - the per-frame step as a whole: the CONTRACT promises of
+ * `lacuna plan` on random scenes (robot inside the region, every valid
+ * return at least radius + margin away by GEOS distance, the target the
+ * goal or its GEOS nearest point in the region, the braking promise along
+ * the setpoint), no allocation once warm, determinism, too_close.
+ */
+#include "testutil.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "geos_oracle.h"
+#include "lc_config.h"
+#include "session.h"
+#include "world.h"
+
+static void random_world(lc_world *w, lc_rng *rng, int count)
+{
+    lc_world_init(w);
+    for (int k = 0; k < count; k++) {
+        lc_vec2 c = lc_v2(lc_rng_uniform(rng, -7, 7), lc_rng_uniform(rng, -7, 7));
+        if (lc_len(c) < 1.2)
+            continue;
+        double a = lc_rng_uniform(rng, 0, LC_PI), l = lc_rng_uniform(rng, 0.1, 2.0);
+        double t = lc_rng_uniform(rng, 0.05, 0.6);
+        lc_vec2 u = lc_unit_angle(a), n = lc_perp(u);
+        lc_vec2 v[4] = {lc_add(c, lc_scale(u, -l)), lc_add(c, lc_scale(u, l)),
+                        lc_add(lc_add(c, lc_scale(u, l)), lc_scale(n, t)),
+                        lc_add(lc_add(c, lc_scale(u, -l)), lc_scale(n, t))};
+        lc_world_add(w, v, 4);
+    }
+}
+
+static lc_frame scan_of(const lc_world *w, const lc_sensor *s, lc_pose pose, double *ranges,
+                        lc_sim_rng *rng)
+{
+    lc_world_scan(w, pose, s, rng, ranges);
+    return (lc_frame){.kind = LC_FRAME_SCAN, .pose = pose, .mount = s->mount,
+                      .angle_start = lc_sensor_beam_angle(s, 0),
+                      .angle_step = lc_sensor_angle_step(s), .range_min = s->range_min,
+                      .range_max = s->range_max, .ranges = ranges, .n_ranges = s->beams};
+}
+
+static void check_promises(const lc_robot *robot, const lc_frame *f, const lc_plan_result *r,
+                           lc_vec2 goal, double dt)
+{
+    const lc_region *rg = r->region;
+    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    assert_non_null(rg);
+    assert_true(lc_region_margin(rg, c) >= -1e-9);
+    double need = lc_robot_clearance(robot);
+#if LC_HAVE_GEOS
+    /* every valid return at least radius + margin from the region (GEOS) */
+    for (int i = 0; i < r->cloud->n; i++)
+        assert_true(oracle_point_distance(rg->v, rg->nv, r->cloud->world[i]) >= need - 1e-7);
+    /* the target: the goal if inside, else GEOS's nearest point */
+    lc_vec2 g = oracle_nearest(rg->v, rg->nv, goal);
+    assert_near(r->target.x, g.x, 1e-7);
+    assert_near(r->target.y, g.y, 1e-7);
+#endif
+    /* speed within v_max; braking along the setpoint's direction stays inside */
+    lc_vec2 v_robot = robot->model == LC_MODEL_POINT ? lc_v2(r->setpoint.vx, r->setpoint.vy)
+                                                     : lc_v2(r->setpoint.v, 0);
+    double speed = lc_len(v_robot);
+    assert_true(speed <= robot->v_max + 1e-9);
+    if (speed > 1e-9 && robot->model == LC_MODEL_POINT) {
+        lc_vec2 dir = lc_rotate(lc_scale(v_robot, 1.0 / speed), f->pose.yaw);
+        double stop = speed * speed / (2 * robot->a_max);
+        assert_true(lc_region_contains(rg, lc_add(c, lc_scale(dir, stop)), 1e-7));
+    }
+    (void)dt;
+}
+
+static void test_promises_random(void **state)
+{
+    lc_rng rng;
+    lc_rng_seed(&rng, 99);
+    lc_sensor s;
+    lc_sensor_default(&s);
+    s.beams = 541;
+    double *ranges = malloc(sizeof *ranges * (size_t)s.beams);
+    int checked = 0;
+    for (int trial = 0; trial < 120; trial++) {
+        lc_world w;
+        random_world(&w, &rng, (int)lc_rng_uniform(&rng, 0, 30));
+        lc_robot robot;
+        lc_robot_default(&robot);
+        robot.model = trial % 2 ? LC_MODEL_UNICYCLE : LC_MODEL_POINT;
+        lc_pose pose = {0, 0, lc_rng_uniform(&rng, -3, 3)};
+        if (lc_world_distance(&w, lc_v2(0, 0)) < 0.6) {
+            lc_world_free(&w);
+            continue;
+        }
+        lc_sim_rng g = {(uint64_t)trial};
+        lc_frame f = scan_of(&w, &s, pose, ranges, &g);
+        lc_session *ses = lc_session_new(&robot, NULL, NULL);
+        lc_vec2 goal = lc_v2(lc_rng_uniform(&rng, -9, 9), lc_rng_uniform(&rng, -9, 9));
+        lc_session_set_goal(ses, goal);
+        lc_plan_result r;
+        assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+        if (r.state != LC_STATE_TOO_CLOSE) {
+            check_promises(&robot, &f, &r, goal, 0.05);
+            checked++;
+        }
+        lc_session_free(ses);
+        lc_world_free(&w);
+    }
+    assert_true(checked > 80);
+    free(ranges);
+}
+
+/* Warm session: a run of frames allocates nothing through the core's hook. */
+static void test_no_alloc_when_warm(void **state)
+{
+    lc_rng rng;
+    lc_rng_seed(&rng, 5);
+    lc_world w;
+    random_world(&w, &rng, 30);
+    lc_sensor s;
+    lc_sensor_default(&s);
+    s.beams = 1081;
+    double *ranges = malloc(sizeof *ranges * 1081);
+    lc_counting_alloc ca;
+    lc_counting_alloc_init(&ca);
+    lc_session *ses = lc_session_new(NULL, NULL, &ca.alloc);
+    lc_session_set_goal(ses, lc_v2(5, 1));
+    lc_plan_result r;
+    lc_sim_rng g = {1};
+    /* Twenty noisy frames: the first pass raises every buffer to its
+     * high-water mark, the second must not allocate at all. */
+    double *all = malloc(sizeof *all * 1081 * 20);
+    for (int k = 0; k < 20; k++)
+        scan_of(&w, &s, (lc_pose){0, 0, 0}, all + 1081 * k, &g);
+    lc_frame f = scan_of(&w, &s, (lc_pose){0, 0, 0}, ranges, &g);
+    for (int k = 0; k < 20; k++) {
+        f.ranges = all + 1081 * k;
+        assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+    }
+    long before = ca.calls;
+    for (int k = 0; k < 20; k++) {
+        f.ranges = all + 1081 * k;
+        assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+    }
+    free(all);
+    assert_int_equal(ca.calls, before);
+    lc_session_free(ses);
+    assert_int_equal(ca.live, 0);
+    lc_world_free(&w);
+    free(ranges);
+}
+
+static void test_deterministic(void **state)
+{
+    lc_rng rng;
+    lc_rng_seed(&rng, 8);
+    lc_world w;
+    random_world(&w, &rng, 25);
+    lc_sensor s;
+    lc_sensor_default(&s);
+    double *ranges = malloc(sizeof *ranges * (size_t)s.beams);
+    lc_sim_rng g = {3};
+    lc_frame f = scan_of(&w, &s, (lc_pose){0, 0, 0.4}, ranges, &g);
+    lc_plan_result a, b;
+    lc_session *s1 = lc_session_new(NULL, NULL, NULL), *s2 = lc_session_new(NULL, NULL, NULL);
+    lc_session_set_goal(s1, lc_v2(4, 4));
+    lc_session_set_goal(s2, lc_v2(4, 4));
+    lc_session_step(s1, &f, 0.05, &a);
+    lc_session_step(s2, &f, 0.05, &b);
+    assert_memory_equal(&a.setpoint, &b.setpoint, sizeof a.setpoint);
+    assert_memory_equal(&a.target, &b.target, sizeof a.target);
+    assert_int_equal(a.region->nv, b.region->nv);
+    assert_memory_equal(a.region->v, b.region->v, sizeof *a.region->v * (size_t)a.region->nv);
+    lc_session_free(s1);
+    lc_session_free(s2);
+    lc_world_free(&w);
+    free(ranges);
+}
+
+/* A return 0.2 m from the centre of a 0.3 m robot is a self hit (dropped);
+ * one at 0.33 m is within radius + margin: too_close, zero setpoint. */
+static void test_too_close(void **state)
+{
+    double ranges[3] = {NAN, 0.33, NAN};
+    lc_frame f = {.kind = LC_FRAME_SCAN, .angle_start = -0.01, .angle_step = 0.01,
+                  .range_min = 0.05, .range_max = 10, .ranges = ranges, .n_ranges = 3};
+    lc_session *ses = lc_session_new(NULL, NULL, NULL);
+    lc_session_set_goal(ses, lc_v2(3, 0));
+    lc_setpoint moving = {.vx = 0.5, .limit = LC_LIMIT_GOAL};
+    lc_session_set_velocity(ses, &moving);
+    lc_plan_result r;
+    assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+    assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
+    assert_int_equal(r.setpoint.limit, LC_LIMIT_TOO_CLOSE);
+    assert_near(r.setpoint.vx, 0, 0);
+    assert_near(r.setpoint.vy, 0, 0);
+    assert_non_null(r.region);
+    assert_true(lc_region_contains(r.region, lc_v2(0, 0), 1e-9));
+    ranges[1] = 0.2;
+    assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+    assert_int_equal(r.cloud->dropped_self, 1);
+    assert_int_not_equal(r.state, LC_STATE_TOO_CLOSE);
+    lc_session_free(ses);
+}
+
+static void test_names(void **state)
+{
+    assert_string_equal(lc_stage_name(LC_STAGE_INGEST), "ingest");
+    assert_string_equal(lc_stage_name(LC_STAGE_SETPOINT), "setpoint");
+    assert_string_equal(lc_stage_name(LC_STAGE_COUNT), "unknown");
+}
+
+static int setup(void **state)
+{
+#if LC_HAVE_GEOS
+    oracle_init();
+#endif
+    return 0;
+}
+
+static int teardown(void **state)
+{
+#if LC_HAVE_GEOS
+    oracle_finish();
+#endif
+    return 0;
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_promises_random),
+        cmocka_unit_test(test_no_alloc_when_warm),
+        cmocka_unit_test(test_deterministic),
+        cmocka_unit_test(test_too_close),
+        cmocka_unit_test(test_names),
+    };
+    return cmocka_run_group_tests(tests, setup, teardown);
+}

@@ -1,0 +1,129 @@
+#!/usr/bin/env python3
+"""check_schemas.py - proto/schema against proto/examples.
+
+Every schema must be a valid draft 2020-12 schema, every example must
+validate against the schema of the same name, and a few instances that the
+codec refuses must be refused by the schemas too (so this check can fail).
+Needs python3-jsonschema (Debian 12 ships 4.10; newer releases resolve
+references through the `referencing` package, older ones through
+RefResolver: both are handled). Exit 77 (skipped) when it is missing.
+
+usage: check_schemas.py [SOURCE_ROOT]   (default: LACUNA_SOURCE_ROOT or .)
+"""
+import copy
+import json
+import os
+import sys
+
+try:
+    import jsonschema
+    from jsonschema import Draft202012Validator
+except ImportError:
+    print("check_schemas: python3-jsonschema is not installed; skipped")
+    sys.exit(77)
+
+
+def load(path):
+    with open(path, encoding="utf-8") as f:
+        return json.load(f)
+
+
+def make_validators(schemas):
+    """One validator per schema name, resolving references between files."""
+    try:
+        from referencing import Registry, Resource
+        from referencing.jsonschema import DRAFT202012
+
+        registry = Registry().with_resources(
+            (s["$id"], Resource.from_contents(s, default_specification=DRAFT202012))
+            for s in schemas.values())
+        return {n: Draft202012Validator(s, registry=registry) for n, s in schemas.items()}
+    except ImportError:
+        store = {s["$id"]: s for s in schemas.values()}
+        return {n: Draft202012Validator(
+                    s, resolver=jsonschema.RefResolver.from_schema(s, store=store))
+                for n, s in schemas.items()}
+
+
+def refused_cases(examples):
+    """(schema, instance, why): instances the codec refuses, built from examples."""
+    cases = []
+
+    def variant(name, why, change):
+        inst = copy.deepcopy(examples[name])
+        change(inst)
+        cases.append((name, inst, why))
+
+    variant("scan", "angle_step 0", lambda m: m.update(angle_step=0))
+    variant("scan", "empty ranges", lambda m: m.update(ranges=[]))
+    variant("scan", "a string beam", lambda m: m["ranges"].__setitem__(1, "far"))
+    variant("scan", "pose of 2 numbers", lambda m: m.update(pose=[0, 0]))
+    variant("scan", "negative seq", lambda m: m.update(seq=-1))
+    variant("scan", "fractional seq", lambda m: m.update(seq=1.5))
+    variant("scan", "no ranges", lambda m: m.pop("ranges"))
+    variant("scan", "range_min 0", lambda m: m.update(range_min=0))
+    variant("points", "xy with null", lambda m: m["xy"].__setitem__(0, None))
+    variant("route", "waypoint of 3", lambda m: m["waypoints"].__setitem__(0, [1, 2, 3]))
+    variant("route", "tolerance 0", lambda m: m.update(tolerance=0))
+    variant("route", "unknown policy", lambda m: m.update(on_blocked="retry"))
+    variant("robot", "radius 0", lambda m: m.update(radius=0))
+    variant("robot", "unknown model", lambda m: m.update(model="tank"))
+    variant("robot", "wrong type", lambda m: m.update(type="route"))
+    variant("hello", "robot without a name", lambda m: m.pop("robot"))
+    variant("hello", "name with a slash", lambda m: m.update(robot="a/b"))
+    variant("hello", "unknown role", lambda m: m.update(role="admin"))
+    variant("setpoint", "both velocity pairs", lambda m: m.update(vx=0, vy=0))
+    variant("setpoint", "unknown state", lambda m: m.update(state="napping"))
+    variant("error", "unknown code", lambda m: m.update(code="oops"))
+    variant("event", "unknown event", lambda m: m.update(event="teleported"))
+    variant("plan_request", "dt 0", lambda m: m.update(dt=0))
+    variant("plan_request", "no frame", lambda m: m.pop("frame"))
+    variant("plan_request", "goal of 3", lambda m: m.update(goal=[1, 2, 3]))
+    variant("plan_result", "no setpoint", lambda m: m.pop("setpoint"))
+    variant("scenario", "version 2", lambda m: m.update(version=2))
+    return cases
+
+
+def main():
+    root = sys.argv[1] if len(sys.argv) > 1 else os.environ.get("LACUNA_SOURCE_ROOT", ".")
+    schema_dir = os.path.join(root, "proto", "schema")
+    example_dir = os.path.join(root, "proto", "examples")
+    schemas = {f[:-5]: load(os.path.join(schema_dir, f))
+               for f in sorted(os.listdir(schema_dir)) if f.endswith(".json")}
+    examples = {f[:-5]: load(os.path.join(example_dir, f))
+                for f in sorted(os.listdir(example_dir)) if f.endswith(".json")}
+    passed = failed = 0
+
+    def report(ok, what):
+        nonlocal passed, failed
+        if ok:
+            passed += 1
+        else:
+            failed += 1
+            print("FAIL " + what)
+
+    for name, s in schemas.items():
+        try:
+            Draft202012Validator.check_schema(s)
+            report(True, name)
+        except jsonschema.exceptions.SchemaError as e:
+            report(False, "schema %s: %s" % (name, e.message))
+    validators = make_validators(schemas)
+    for name in schemas:
+        if name != "defs":
+            report(name in examples, "schema %s has no example" % name)
+    for name, inst in examples.items():
+        if name not in validators:
+            report(False, "example %s has no schema" % name)
+            continue
+        errors = list(validators[name].iter_errors(inst))
+        report(not errors, "example %s: %s" % (
+            name, "; ".join("%s: %s" % (list(e.absolute_path), e.message) for e in errors[:3])))
+    for name, inst, why in refused_cases(examples):
+        report(not validators[name].is_valid(inst), "%s with %s validates" % (name, why))
+    print("%d passed, %d failed" % (passed, failed))
+    return 1 if failed else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

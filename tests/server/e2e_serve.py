@@ -1,0 +1,561 @@
+#!/usr/bin/python3
+"""End-to-end tests of `lacuna serve` over real websockets (python3-websockets).
+
+Usage: e2e_serve.py LACUNA_EXE   (or env LACUNA_EXE). Exit 0 when every
+check passes. Every server is started on 127.0.0.1:0 and the port is read
+from the "listening on http://127.0.0.1:PORT/" line on stderr, so several
+runs can share a machine. Timeouts are generous (a loaded 2-core machine);
+the one timing check, the watchdog period, uses a wide band (100-600 ms
+around the configured 200 ms) and is a protocol promise, not a speed claim.
+"""
+import asyncio
+import json
+import math
+import os
+import signal
+import socket
+import statistics
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+
+import websockets
+
+EXE = sys.argv[1] if len(sys.argv) > 1 else os.environ.get("LACUNA_EXE", "build/lacuna")
+PROTO = ["lacuna.v1"]
+T = 5.0  # s, every single wait
+FIGURES = {}
+FAILED = []
+
+
+def check(cond, what):
+    if not cond:
+        FAILED.append(what)
+        print("FAIL:", what, flush=True)
+    return cond
+
+
+class Server:
+    def __init__(self, *args):
+        self.proc = subprocess.Popen([EXE, "serve", "--listen", "127.0.0.1:0", *args],
+                                     stdin=subprocess.DEVNULL, stdout=subprocess.PIPE,
+                                     stderr=subprocess.PIPE, text=True)
+        self.lines = []
+        self.port = None
+        deadline = time.time() + 15
+        while time.time() < deadline:
+            line = self.proc.stderr.readline()
+            if not line:
+                break
+            self.lines.append(line)
+            if "listening on http://127.0.0.1:" in line:
+                self.port = int(line.split("http://127.0.0.1:")[1].split("/")[0])
+                break
+        if self.port is None:
+            raise RuntimeError("server did not start: " + "".join(self.lines))
+        threading.Thread(target=self._drain, daemon=True).start()
+        self.url = "ws://127.0.0.1:%d/" % self.port
+
+    def _drain(self):
+        for line in self.proc.stderr:
+            self.lines.append(line)
+
+    def stop(self):
+        if self.proc.poll() is None:
+            self.proc.send_signal(signal.SIGTERM)
+            try:
+                self.proc.wait(10)
+            except subprocess.TimeoutExpired:
+                self.proc.kill()
+                self.proc.wait()
+        return self.proc.returncode
+
+
+async def connect(url):
+    return await websockets.connect(url, subprotocols=PROTO, max_size=None, open_timeout=T,
+                                    close_timeout=T)
+
+
+async def recv(ws, timeout=T):
+    return json.loads(await asyncio.wait_for(ws.recv(), timeout))
+
+
+async def recv_type(ws, mtype, timeout=T):
+    """Next message of that type (others are skipped)."""
+    end = time.monotonic() + timeout
+    while True:
+        m = await recv(ws, max(0.01, end - time.monotonic()))
+        if m.get("type") == mtype:
+            return m
+
+
+async def hello(url, name, role="robot", token=None):
+    ws = await connect(url)
+    h = {"type": "hello", "role": role, "robot": name}
+    if token is not None:
+        h["token"] = token
+    await ws.send(json.dumps(h))
+    return ws, await recv(ws)
+
+
+async def closed(ws, timeout=T):
+    """True when the server closes the connection (after whatever it sent)."""
+    try:
+        while True:
+            await asyncio.wait_for(ws.recv(), timeout)
+    except websockets.ConnectionClosed:
+        return True
+    except asyncio.TimeoutError:
+        return False
+
+
+# ------------------------------------------------------------ a tiny scene
+
+# Invented scene: a corridor (walls at y = -1.5 and y = 1.5) with a pillar
+# just off the straight line from (0, 0) to the waypoint (6, 0).
+SEGMENTS = []
+
+
+def box(x0, y0, x1, y1):
+    c = [(x0, y0), (x1, y0), (x1, y1), (x0, y1)]
+    return [(c[i], c[(i + 1) % 4]) for i in range(4)]
+
+
+SEGMENTS += box(-1.0, -1.7, 8.0, -1.5) + box(-1.0, 1.5, 8.0, 1.7) + box(2.6, 0.45, 3.0, 0.85)
+RADIUS = 0.3
+BEAMS, FOV, RMAX = 121, 2 * math.pi * 0.75, 8.0
+
+
+def ray(px, py, ang):
+    dx, dy = math.cos(ang), math.sin(ang)
+    best = None
+    for (ax, ay), (bx, by) in SEGMENTS:
+        ex, ey = bx - ax, by - ay
+        den = dx * ey - dy * ex
+        if abs(den) < 1e-12:
+            continue
+        t = ((ax - px) * ey - (ay - py) * ex) / den
+        u = ((ax - px) * dy - (ay - py) * dx) / den
+        if t > 0 and 0 <= u <= 1 and (best is None or t < best):
+            best = t
+    return best if best is not None and best <= RMAX else None
+
+
+def clearance(px, py):
+    best = 1e9
+    for (ax, ay), (bx, by) in SEGMENTS:
+        ex, ey = bx - ax, by - ay
+        t = max(0.0, min(1.0, ((px - ax) * ex + (py - ay) * ey) / (ex * ex + ey * ey)))
+        best = min(best, math.hypot(px - ax - t * ex, py - ay - t * ey))
+    return best
+
+
+def scan(seq, stamp, pose):
+    a0 = -FOV / 2
+    step = FOV / (BEAMS - 1)
+    return {"type": "scan", "seq": seq, "stamp": stamp, "pose": list(pose),
+            "angle_start": a0, "angle_step": step, "range_min": 0.05, "range_max": RMAX,
+            "ranges": [ray(pose[0], pose[1], pose[2] + a0 + i * step) for i in range(BEAMS)]}
+
+
+def far_scan(seq, stamp):
+    return {"type": "scan", "seq": seq, "stamp": stamp, "pose": [0, 0, 0],
+            "angle_start": -1.5, "angle_step": 0.1, "range_min": 0.05, "range_max": 10,
+            "ranges": [6.0] * 31}
+
+
+# ------------------------------------------------------------------ tests
+
+async def test_tokens(tmp):
+    tok = os.path.join(tmp, "robot.token")
+    vtok = os.path.join(tmp, "viewer.token")
+    with open(tok, "w") as f:
+        f.write("meadow-lantern-19\n")
+    with open(vtok, "w") as f:
+        f.write("quiet-heron-7\n")
+    srv = Server("--token-file", tok, "--viewer-token-file", vtok)
+    try:
+        for name, role, token, want in [
+                ("tok-a", "robot", "meadow-lantern-18", "unauthorized"),
+                ("tok-b", "robot", None, "unauthorized"),
+                ("tok-c", "robot", "", "unauthorized"),
+                ("tok-d", "robot", "meadow-lantern-19x", "unauthorized"),
+                ("tok-e", "viewer", None, "unauthorized"),
+                ("tok-f", "viewer", "meadow-lantern-19", "unauthorized"),
+                ("tok-g", "robot", "meadow-lantern-19", "welcome"),
+                ("tok-h", "viewer", "quiet-heron-7", "welcome")]:
+            ws, m = await hello(srv.url, name, role, token)
+            got = m.get("code", m["type"])
+            check(got == want, "hello %s %s token %r: %s, want %s" % (role, name, token, got, want))
+            if want == "unauthorized":
+                check(await closed(ws), "unauthorized hello %s: connection closed" % name)
+            await ws.close()
+        # first message not a hello
+        ws = await connect(srv.url)
+        await ws.send(json.dumps(far_scan(1, 0.0)))
+        m = await recv(ws)
+        check(m.get("code") == "unauthorized", "frame before hello: unauthorized")
+        check(await closed(ws), "frame before hello: closed")
+    finally:
+        check(srv.stop() == 0, "token server exits 0")
+
+
+async def test_roles_and_names(srv):
+    ws, m = await hello(srv.url, "", "viewer")
+    check(m["type"] == "welcome", "viewer welcome")
+    await ws.send(json.dumps(far_scan(7, 0.0)))
+    m = await recv(ws)
+    check(m.get("code") == "forbidden" and m.get("seq") == 7, "viewer scan: forbidden, seq 7")
+    await ws.send(json.dumps({"type": "route", "waypoints": [[1, 0]]}))
+    m = await recv(ws)
+    check(m.get("code") == "forbidden", "viewer route: forbidden (connection stays open)")
+    await ws.close()
+
+    a, m = await hello(srv.url, "twin")
+    check(m["type"] == "welcome", "first twin welcome")
+    b, m = await hello(srv.url, "twin")
+    check(m.get("code") == "name_taken", "second twin: name_taken")
+    check(await closed(b), "second twin closed")
+    await a.send(json.dumps(far_scan(1, 0.0)))
+    m = await recv_type(a, "setpoint")
+    check(m["seq"] == 1, "first twin still served")
+    await a.close()
+    await asyncio.sleep(0.2)
+    c, m = await hello(srv.url, "twin")
+    check(m["type"] == "welcome", "name free again after the first twin left")
+    await c.close()
+
+
+async def closed_loop(url, name):
+    """Drive the scene; returns (reached, min clearance, round trips, ws, last seq)."""
+    ws, m = await hello(url, name)
+    await ws.send(json.dumps({"type": "robot", "model": "point", "radius": RADIUS,
+                              "margin": 0.05, "v_max": 0.8, "a_max": 0.8}))
+    await ws.send(json.dumps({"type": "route", "waypoints": [[6.0, 0.0]], "tolerance": 0.25}))
+    x, y, yaw = 0.0, 0.0, 0.0
+    dt = 0.05
+    done = False
+    min_clear = 1e9
+    rtts = []
+    seq = 0
+    for seq in range(1, 801):
+        t0 = time.monotonic()
+        await ws.send(json.dumps(scan(seq, seq * dt, (x, y, yaw))))
+        while True:
+            m = await recv(ws)
+            if m["type"] == "event" and m["event"] == "route_done":
+                done = True
+            if m["type"] == "setpoint" and m["seq"] == seq:
+                break
+            check(m["type"] in ("event", "setpoint"), "closed loop: unexpected %s" % m)
+        rtts.append(time.monotonic() - t0)
+        # point model: (vx, vy) in the robot frame
+        c, s = math.cos(yaw), math.sin(yaw)
+        x += (c * m["vx"] - s * m["vy"]) * dt
+        y += (s * m["vx"] + c * m["vy"]) * dt
+        min_clear = min(min_clear, clearance(x, y) - RADIUS)
+        if done or m["state"] == "done":
+            done = True
+            break
+    return done, min_clear, rtts, ws, seq, (x, y)
+
+
+async def test_closed_loop_and_watchdog(srv):
+    done, min_clear, rtts, ws, last_seq, pos = await closed_loop(srv.url, "rover-1")
+    check(done, "closed loop: route done (ended at %.2f, %.2f)" % pos)
+    check(min_clear > 0, "closed loop: no collision (min clearance %.3f m)" % min_clear)
+    FIGURES["closed_loop_frames"] = last_seq
+    FIGURES["min_clearance_m"] = round(min_clear, 3)
+    FIGURES["round_trip_ms_median"] = round(statistics.median(rtts) * 1e3, 3)
+    FIGURES["round_trip_ms_p99"] = round(sorted(rtts)[int(0.99 * (len(rtts) - 1))] * 1e3, 3)
+    # watchdog: frames stop now
+    t_last = time.monotonic()
+    times = []
+    while len(times) < 5:
+        m = await recv_type(ws, "setpoint", 3.0)
+        check(m["state"] == "stale" and m["limit"] == "stale", "watchdog setpoint is stale")
+        check(m["seq"] == last_seq, "stale setpoint carries the last seq")
+        check(m["vx"] == 0 and m["vy"] == 0, "stale setpoint is a stop")
+        times.append(time.monotonic())
+    first = times[0] - t_last
+    periods = [b - a for a, b in zip(times, times[1:])]
+    FIGURES["watchdog_first_ms"] = round(first * 1e3, 1)
+    FIGURES["watchdog_period_ms"] = [round(p * 1e3, 1) for p in periods]
+    check(0.1 <= first <= 0.8, "first stale after %.0f ms (band 100-800)" % (first * 1e3))
+    check(all(0.1 <= p <= 0.6 for p in periods), "stale period %s (band 100-600 ms)" % periods)
+    # frames resume: a normal setpoint again
+    await ws.send(json.dumps(far_scan(last_seq + 1, (last_seq + 40) * 0.05)))
+    m = await recv_type(ws, "setpoint")
+    check(m["seq"] == last_seq + 1 and m["state"] != "stale", "setpoints resume after stale")
+    await ws.close()
+
+
+async def test_views(srv):
+    v, m = await hello(srv.url, "viewed", "viewer")
+    check(m["type"] == "welcome", "viewer of one robot: welcome")
+    r, m = await hello(srv.url, "viewed")
+    await r.send(json.dumps({"type": "route", "waypoints": [[3, 0]]}))
+    views = []
+
+    async def read_views():
+        while True:
+            m = await recv(v)
+            if m["type"] == "view":
+                views.append((time.monotonic(), m))
+
+    reader = asyncio.ensure_future(read_views())
+    t0 = time.monotonic()
+    seq = 0
+    while time.monotonic() - t0 < 1.0:
+        seq += 1
+        await r.send(json.dumps(far_scan(seq, seq * 0.01)))
+        await recv_type(r, "setpoint")
+    await asyncio.sleep(0.2)
+    reader.cancel()
+    span = time.monotonic() - t0
+    FIGURES["frames_in_view_test"] = seq
+    FIGURES["views_per_s"] = round(len(views) / span, 1)
+    check(len(views) >= 3, "viewer got views (%d)" % len(views))
+    check(len(views) <= 20 * span + 2, "views throttled to 20/s (%d in %.2f s)" % (len(views), span))
+    if views:
+        last = views[-1][1]
+        for key in ("pose", "obstacles", "region", "ellipse", "route", "target", "setpoint"):
+            check(key in last and last[key] is not None, "view has %s" % key)
+        check(last["robot"] == "viewed", "view names its robot")
+    await r.close()
+    await v.close()
+
+
+BAD = [
+    # (what, text, expected codes)
+    ("not JSON", "nonsense", {"bad_json"}),
+    ("empty text", "", {"bad_json"}),
+    ("array", "[1, 2]", {"bad_message"}),
+    ("number", "42", {"bad_message"}),
+    ("no type", '{"seq": 3}', {"bad_message"}),
+    ("type not a string", '{"type": 5}', {"bad_message"}),
+    ("unknown type", '{"type": "teleport"}', {"unknown_type"}),
+    ("type in capitals", '{"type": "Scan"}', {"unknown_type"}),
+    ("trailing bytes", '{"type": "robot"} x', {"bad_json"}),
+    ("NaN literal", '{"type": "robot", "radius": NaN}', {"bad_json"}),
+    ("control byte", '{"type": "robot", "model": "po\x01int"}', {"bad_json"}),
+    ("deep nesting", '{"type": "robot", "x": ' + "[" * 2000 + "]" * 2000 + "}", {"bad_json"}),
+    ("duplicate key", '{"type": "robot", "radius": 0.3, "radius": 0.4}', {"bad_message"}),
+    ("second hello", '{"type": "hello", "role": "robot", "robot": "cat"}', {"bad_message"}),
+    ("scan without ranges", json.dumps({k: v for k, v in far_scan(11, 0).items() if k != "ranges"}),
+     {"bad_field"}),
+    ("range is a string", json.dumps(dict(far_scan(12, 0), ranges=[1.0, "far", 2.0])), {"bad_field"}),
+    ("empty ranges", json.dumps(dict(far_scan(13, 0), ranges=[])), {"bad_field"}),
+    ("angle_step zero", json.dumps(dict(far_scan(14, 0), angle_step=0)), {"bad_field"}),
+    ("pose of two numbers", json.dumps(dict(far_scan(15, 0), pose=[0, 0])), {"bad_field"}),
+    ("stamp overflows", json.dumps(far_scan(16, 0)).replace('"stamp": 0', '"stamp": 1e400'),
+     {"bad_field"}),
+    ("seq negative", json.dumps(far_scan(-1, 0)), {"bad_field"}),
+    ("seq not an integer", json.dumps(far_scan(1.5, 0)), {"bad_field"}),
+    ("pose holds a string", json.dumps(dict(far_scan(17, 0), pose=[0, "a", 0])), {"bad_field"}),
+    ("too many beams", json.dumps(dict(far_scan(18, 0), ranges=[1.0] * 100001)), {"bad_field"}),
+    ("points xy odd", json.dumps({"type": "points", "seq": 19, "stamp": 0, "pose": [0, 0, 0],
+                                  "xy": [1.0, 2.0, 3.0]}), {"bad_field"}),
+    ("points z too short", json.dumps({"type": "points", "seq": 20, "stamp": 0, "pose": [0, 0, 0],
+                                       "xy": [1.0, 2.0, 3.0, 4.0], "z": [0.1]}), {"bad_field"}),
+    ("negative radius", '{"type": "robot", "radius": -0.3}', {"bad_field"}),
+    ("unknown model", '{"type": "robot", "model": "tank"}', {"bad_field"}),
+    ("v_max a string", '{"type": "robot", "v_max": "fast"}', {"bad_field"}),
+    ("waypoints not an array", '{"type": "route", "waypoints": 5}', {"bad_field"}),
+    ("waypoint of one number", '{"type": "route", "waypoints": [[1]]}', {"bad_field"}),
+    ("too many waypoints", json.dumps({"type": "route", "waypoints": [[1, 0]] * 1025}), {"bad_field"}),
+    ("tolerance a string", '{"type": "route", "waypoints": [[1, 0]], "tolerance": "x"}',
+     {"bad_field"}),
+    ("loop a number", '{"type": "route", "waypoints": [[1, 0]], "loop": 1}', {"bad_field"}),
+    ("robot sends a setpoint", json.dumps({"type": "setpoint", "seq": 21, "stamp": 0, "vx": 0,
+                                           "vy": 0, "state": "idle", "limit": "idle",
+                                           "waypoint": None}), {"forbidden"}),
+    ("robot sends a welcome", json.dumps({"type": "welcome", "role": "robot", "robot": "cat",
+                                          "protocol": "lacuna.v1"}), {"forbidden"}),
+    ("robot sends a view", '{"type": "view"}', {"forbidden"}),
+]
+
+
+async def test_catalogue(srv):
+    good, m = await hello(srv.url, "steady")
+    await good.send(json.dumps({"type": "route", "waypoints": [[3, 0]]}))
+    served = [0]
+    stop = asyncio.Event()
+
+    async def keep_going():
+        seq = 0
+        while not stop.is_set():
+            seq += 1
+            await good.send(json.dumps(far_scan(seq, seq * 0.05)))
+            m = await recv_type(good, "setpoint")
+            if m["seq"] == seq:
+                served[0] += 1
+            await asyncio.sleep(0.02)
+
+    runner = asyncio.ensure_future(keep_going())
+    bad, m = await hello(srv.url, "cat")
+    check(m["type"] == "welcome", "catalogue robot welcome")
+    codes = {}
+    for what, text, want in BAD:
+        await bad.send(text)
+        try:
+            m = await recv(bad)
+        except (asyncio.TimeoutError, websockets.ConnectionClosed) as e:
+            check(False, "bad input %r: no reply (%s)" % (what, type(e).__name__))
+            bad, _ = await hello(srv.url, "cat%d" % len(codes))
+            continue
+        codes[what] = m.get("code")
+        ok = m.get("type") == "error" and m.get("code") in want and isinstance(m.get("message"), str)
+        check(ok, "bad input %r: got %s, want error %s" % (what, m, sorted(want)))
+    # binary: an error, and the connection stays open
+    await bad.send(b"\x00\x01binary")
+    m = await recv(bad)
+    check(m.get("code") == "binary", "binary message: error binary")
+    codes["binary"] = m.get("code")
+    # the bad robot's connection is still usable
+    await bad.send(json.dumps(far_scan(99, 0.0)))
+    m = await recv_type(bad, "setpoint")
+    check(m["seq"] == 99, "after %d bad inputs the connection still plans" % len(codes))
+    FIGURES["bad_inputs"] = len(codes)
+    before = served[0]
+    await asyncio.sleep(0.3)
+    stop.set()
+    await asyncio.wait_for(runner, T)
+    check(served[0] > before and served[0] >= 5,
+          "the other robot kept getting setpoints (%d)" % served[0])
+    # oversize: closed with 1009
+    big, _ = await hello(srv.url, "big")
+    await big.send('{"type": "robot", "pad": "' + "x" * (1 << 20) + '"}')
+    check(await closed(big), "oversize message closes the connection")
+    check(big.close_code == 1009, "oversize close code %s, want 1009" % big.close_code)
+    await bad.close()
+    await good.close()
+
+
+async def test_sigterm():
+    srv = Server()
+    ws, m = await hello(srv.url, "sig")
+    await ws.send(json.dumps({"type": "route", "waypoints": [[3, 0]]}))
+    await ws.send(json.dumps(far_scan(5, 0.0)))
+    m = await recv_type(ws, "setpoint")
+    moving = m["vx"] != 0
+    srv.proc.send_signal(signal.SIGTERM)
+    m = await recv_type(ws, "setpoint", 5)
+    check(m["vx"] == 0 and m["vy"] == 0 and m["seq"] == 5, "SIGTERM: last stop setpoint %s" % m)
+    check(await closed(ws), "SIGTERM: connection closed")
+    try:
+        rc = srv.proc.wait(10)
+    except subprocess.TimeoutExpired:
+        rc = None
+    check(rc == 0, "SIGTERM: exit status %s, want 0" % rc)
+    check(moving, "the robot was moving before SIGTERM")
+
+
+async def test_recording(tmp):
+    rec = os.path.join(tmp, "rec")
+    srv = Server("--record", rec)
+    ws, m = await hello(srv.url, "taped")
+    await ws.send(json.dumps({"type": "robot", "radius": 0.25}))
+    await ws.send(json.dumps({"type": "route", "waypoints": [[3, 0], [3, 1]]}))
+    for seq in range(1, 21):
+        await ws.send(json.dumps(scan(seq, seq * 0.05, (0, 0, 0))))
+        await recv_type(ws, "setpoint")
+    srv.proc.send_signal(signal.SIGKILL)
+    srv.proc.wait(10)
+    files = [os.path.join(rec, f) for f in os.listdir(rec)] if os.path.isdir(rec) else []
+    check(len(files) == 1, "one scenario file (%s)" % files)
+    if not files:
+        return
+    with open(files[0]) as f:
+        text = f.read()
+    lines = text.split("\n")
+    complete = lines[:-1]  # after the last newline: possibly a cut line
+    parsed = []
+    for i, line in enumerate(complete):
+        try:
+            parsed.append(json.loads(line))
+        except ValueError:
+            check(False, "recording line %d does not parse" % (i + 1))
+    check(parsed and parsed[0].get("type") == "scenario" and parsed[0].get("version") == 1,
+          "recording starts with the scenario header")
+    if parsed:
+        check(parsed[0]["robot"]["radius"] == 0.25, "header holds the robot")
+        check(parsed[0]["route"]["waypoints"] == [[3, 0], [3, 1]], "header holds the route")
+    kinds = [p.get("type") for p in parsed]
+    check(kinds.count("scan") == 20 and kinds.count("setpoint") >= 20,
+          "recording holds 20 scans and their setpoints (%d, %d)"
+          % (kinds.count("scan"), kinds.count("setpoint")))
+    FIGURES["recording_lines"] = len(complete)
+
+
+def other_address():
+    """A local address other than 127.0.0.1: the machine's own, else 127.0.0.2."""
+    try:
+        s = socket.socket(socket.AF_INET, socket.SOCK_DGRAM)
+        s.connect(("192.0.2.1", 9))  # no packet is sent: this only picks a route
+        addr = s.getsockname()[0]
+        s.close()
+        if not addr.startswith("127."):
+            return addr
+    except OSError:
+        pass
+    return "127.0.0.2"
+
+
+def test_loopback_trap(srv):
+    addr = other_address()
+    FIGURES["loopback_trap_address"] = addr
+    s = socket.socket(socket.AF_INET, socket.SOCK_STREAM)
+    s.settimeout(2)
+    try:
+        s.connect((addr, srv.port))
+        reachable = True
+    except OSError:
+        reachable = False
+    finally:
+        s.close()
+    check(not reachable, "port bound to 127.0.0.1 is not reachable on %s" % addr)
+    s6 = socket.socket(socket.AF_INET6, socket.SOCK_STREAM)
+    s6.settimeout(2)
+    try:
+        s6.connect(("::1", srv.port))
+        reachable6 = True
+    except OSError:
+        reachable6 = False
+    finally:
+        s6.close()
+    check(not reachable6, "port bound to 127.0.0.1 is not reachable on ::1")
+    s = socket.create_connection(("127.0.0.1", srv.port), 2)
+    s.close()
+    r = subprocess.run([EXE, "serve", "--listen", "%s:0" % addr], capture_output=True, text=True,
+                       timeout=10)
+    check(r.returncode == 2 and "token" in r.stderr,
+          "non-loopback without a token: exit %d, %r" % (r.returncode, r.stderr.strip()))
+
+
+async def main():
+    with tempfile.TemporaryDirectory() as tmp:
+        srv = Server("--log-level", "warn")
+        try:
+            test_loopback_trap(srv)
+            await test_roles_and_names(srv)
+            await test_closed_loop_and_watchdog(srv)
+            await test_views(srv)
+            await test_catalogue(srv)
+        finally:
+            check(srv.stop() == 0, "main server exits 0 on SIGTERM")
+        await test_tokens(tmp)
+        await test_sigterm()
+        await test_recording(tmp)
+    print("figures:", json.dumps(FIGURES), flush=True)
+    if FAILED:
+        print("%d check(s) failed" % len(FAILED), flush=True)
+        return 1
+    print("all checks passed", flush=True)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(asyncio.run(asyncio.wait_for(main(), 120)))

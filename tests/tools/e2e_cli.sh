@@ -1,0 +1,93 @@
+#!/usr/bin/env bash
+# e2e_cli.sh - the `lacuna` command as a user meets it: help, version, exit
+# codes (CONTRACT.md: 0 ok, 1 runtime failure, 2 bad usage or input with a
+# one-line reason naming the field), and `lacuna plan` on the shipped
+# example requests.
+set -u
+exe=${LACUNA_EXE:?}
+root=${LACUNA_SOURCE_ROOT:?}
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+pass=0 fail=0
+
+check() { # check NAME WANT_RC CMD... ; stdout/stderr kept in $tmp/out, $tmp/err
+    local name=$1 want=$2
+    shift 2
+    "$@" >"$tmp/out" 2>"$tmp/err"
+    local rc=$?
+    if [ "$rc" -eq "$want" ]; then
+        pass=$((pass + 1))
+    else
+        fail=$((fail + 1))
+        echo "FAIL $name: exit $rc, wanted $want"
+        sed 's/^/  err: /' "$tmp/err" | head -5
+    fi
+}
+
+expect_in() { # expect_in NAME FILE PATTERN
+    if grep -q -- "$3" "$2"; then pass=$((pass + 1)); else
+        fail=$((fail + 1))
+        echo "FAIL $1: '$3' not in $(basename "$2"):"
+        head -5 "$2" | sed 's/^/  /'
+    fi
+}
+
+check help 0 "$exe" --help
+expect_in help "$tmp/out" "usage: lacuna <command>"
+check version 0 "$exe" --version
+expect_in version "$tmp/out" "^lacuna [0-9]"
+check no-args 2 "$exe"
+check unknown-command 2 "$exe" fly
+expect_in unknown-command "$tmp/err" "unknown command 'fly'"
+check plan-help 0 "$exe" plan --help
+expect_in plan-help "$tmp/out" "usage: lacuna plan"
+check plan-unknown-option 2 "$exe" plan --fast
+check plan-missing-file 2 "$exe" plan "$tmp/nope.json"
+expect_in plan-missing-file "$tmp/err" "cannot read"
+
+for req in office-corner aisle-points; do
+    check "plan-$req" 0 "$exe" plan --json "$root/scenarios/requests/$req.json"
+    python3 - "$tmp/out" <<'PY' || { fail=$((fail + 1)); echo "FAIL plan-$req: result shape"; }
+import json, sys
+r = json.load(open(sys.argv[1]))
+for k in ("obstacles", "region", "ellipse", "target", "setpoint", "state", "limit", "timing_us"):
+    assert k in r, k
+assert r["region"]["vertices"] and r["region"]["halfspaces"]
+assert "total" in r["timing_us"]
+assert len(r["ellipse"]["matrix"]) == 2
+PY
+    pass=$((pass + 1))
+    check "plan-$req-pretty" 0 "$exe" plan --pretty "$root/scenarios/requests/$req.json"
+    expect_in "plan-$req-pretty" "$tmp/out" "limited by"
+done
+
+# Standard input, and bad requests: exit 2, one line naming the field.
+check plan-stdin 0 sh -c "'$exe' plan --json - < '$root/scenarios/requests/office-corner.json'"
+bad() { # bad NAME JSON FIELD
+    printf '%s' "$2" >"$tmp/bad.json"
+    check "bad-$1" 2 "$exe" plan "$tmp/bad.json"
+    expect_in "bad-$1" "$tmp/err" "$3"
+    [ "$(wc -l <"$tmp/err")" -eq 1 ] || { fail=$((fail + 1)); echo "FAIL bad-$1: reason not one line"; }
+}
+frame='"frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0.1, "range_min": 0.1, "range_max": 5, "ranges": [1, 2, null]}'
+bad truncated '{"goal": [1, 2], ' "bad_json\|JSON\|json"
+bad no-frame '{"goal": [1, 2]}' "frame"
+bad radius "{\"robot\": {\"radius\": -1}, \"goal\": [1, 2], $frame}" "radius"
+bad goal "{\"goal\": [1], $frame}" "goal"
+bad step '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0, "range_min": 0.1, "range_max": 5, "ranges": [1]}}' "angle_step"
+bad beam '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0.1, "range_min": 0.1, "range_max": 5, "ranges": [1, "x"]}}' "ranges\[1\]"
+bad dt "{\"goal\": [1, 2], \"dt\": -0.1, $frame}" "dt"
+
+# lacuna check: the stopping distances of REFERENCES.md (d = v t_r + v^2/(2a):
+# 1.0 m/s, 0.1 s, 1.0 m/s^2 -> 0.60 m; 1.5 m/s, 0.2 s, 1.0 m/s^2 -> 1.425 m).
+check check-060 0 "$exe" check --v-max 1.0 --latency 0.1 --a-max 1.0
+expect_in check-060 "$tmp/out" "stopping distance  0.600 m"
+check check-1425 1 "$exe" check --v-max 1.5 --latency 0.2 --a-max 1.0 --range 2.5 --strict
+expect_in check-1425 "$tmp/out" "stopping distance  1.425 m"
+expect_in check-1425 "$tmp/out" "WARNING"
+expect_in check-1425 "$tmp/out" "not a safety function"
+check check-bad 2 "$exe" check --a-max -1
+expect_in check-bad "$tmp/err" "a-max"
+
+echo "$pass passed, $fail failed"
+[ "$fail" -eq 0 ]
