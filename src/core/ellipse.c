@@ -902,10 +902,16 @@ static void polish(const lc_halfspace *h, int n, lc_ellipse *e)
     for (int i = 0; i < n; i++) {
         for (int tries = 0; tries < 4 && !lc_ellipse_inside_halfspace(e, h[i], 0.0); tries++) {
             sym2 l = {e->l11, e->l12, e->l22};
-            double room = h[i].b - lc_dot(h[i].a, e->d), len = lc_len(sym2_apply(l, h[i].a));
+            lc_vec2 a = h[i].a;
+            double ad = lc_dot(a, e->d), len = lc_len(sym2_apply(l, a));
+            /* room less the rounding of the test itself; |L a| of a thin
+             * ellipse carries the rounding of L's entries, not just its own */
+            double noise = fabs(ad) + fabs(h[i].b) + (fabs(l.a) + 2.0 * fabs(l.b) + fabs(l.c)) *
+                                                         (fabs(a.x) + fabs(a.y));
+            double room = h[i].b - ad - 8.0 * DBL_EPSILON * noise;
             if (!(room > 0.0))
                 break;
-            double kappa = room / len * (1.0 - 4.0 * DBL_EPSILON);
+            double kappa = room / len;
             e->l11 *= kappa;
             e->l12 *= kappa;
             e->l22 *= kappa;

@@ -35,7 +35,9 @@ static inline lc_vec2 lc_sub(lc_vec2 p, lc_vec2 q) { return lc_v2(p.x - q.x, p.y
 static inline lc_vec2 lc_scale(lc_vec2 p, double s) { return lc_v2(p.x * s, p.y * s); }
 static inline double lc_dot(lc_vec2 p, lc_vec2 q) { return p.x * q.x + p.y * q.y; }
 static inline double lc_cross(lc_vec2 p, lc_vec2 q) { return p.x * q.y - p.y * q.x; }
-static inline double lc_len(lc_vec2 p) { return hypot(p.x, p.y); }
+/* sqrt, not hypot: coordinates stay far below overflow (the codec caps them at
+ * 1e9) and hypot costs several times more in the hot loops. */
+static inline double lc_len(lc_vec2 p) { return sqrt(p.x * p.x + p.y * p.y); }
 static inline double lc_len2(lc_vec2 p) { return p.x * p.x + p.y * p.y; }
 static inline double lc_dist(lc_vec2 p, lc_vec2 q) { return lc_len(lc_sub(p, q)); }
 static inline lc_vec2 lc_perp(lc_vec2 p) { return lc_v2(-p.y, p.x); } /* +90 deg */
@@ -76,6 +78,9 @@ double lc_wrap_angle(double a);
 
 /* Distance from p to the closed segment [a, b], and the closest point. */
 double lc_segment_distance(lc_vec2 p, lc_vec2 a, lc_vec2 b, lc_vec2 *closest);
+
+/* Its square (no square root, for comparisons). */
+double lc_segment_distance2(lc_vec2 p, lc_vec2 a, lc_vec2 b);
 
 /* Twice the signed area of a polygon (positive when counter-clockwise). */
 double lc_polygon_area2(const lc_vec2 *v, int n);

@@ -87,8 +87,8 @@ static bool seg_seg_touch(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
     double d3 = lc_cross(lc_sub(d, c), lc_sub(a, c)), d4 = lc_cross(lc_sub(d, c), lc_sub(b, c));
     if (((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0)))
         return true;
-    return lc_segment_distance(c, a, b, NULL) == 0 || lc_segment_distance(d, a, b, NULL) == 0 ||
-           lc_segment_distance(a, c, d, NULL) == 0 || lc_segment_distance(b, c, d, NULL) == 0;
+    return lc_segment_distance2(c, a, b) == 0 || lc_segment_distance2(d, a, b) == 0 ||
+           lc_segment_distance2(a, c, d) == 0 || lc_segment_distance2(b, c, d) == 0;
 }
 
 /* Distance between the segment [a, b] and the convex polygon v[0..n). */
@@ -102,12 +102,12 @@ static double seg_poly_distance(lc_vec2 a, lc_vec2 b, const lc_vec2 *v, int n)
         lc_vec2 p = v[i], q = v[(i + 1) % n];
         if (seg_seg_touch(a, b, p, q))
             return 0.0;
-        double d = fmin(fmin(lc_segment_distance(p, a, b, NULL), lc_segment_distance(q, a, b, NULL)),
-                        fmin(lc_segment_distance(a, p, q, NULL), lc_segment_distance(b, p, q, NULL)));
+        double d = fmin(fmin(lc_segment_distance2(p, a, b), lc_segment_distance2(q, a, b)),
+                        fmin(lc_segment_distance2(a, p, q), lc_segment_distance2(b, p, q)));
         if (d < best)
             best = d;
     }
-    return best;
+    return sqrt(best);
 }
 
 static bool inside_all(const lc_halfspace *h, int n, lc_vec2 p, double eps)
@@ -228,6 +228,32 @@ static bool obstacle_line(const lc_ellipse *e, const double inv[3], const lc_vec
     return separate(v, n, keep, nk, out);
 }
 
+/*
+ * The point of the convex CCW polygon v[0..n) (n >= 3) nearest the origin,
+ * with squared distances so that only the winning edge costs a division; the
+ * origin itself when it lies inside.
+ */
+static lc_vec2 nearest_to_origin(const lc_vec2 *v, int n)
+{
+    double best = INFINITY;
+    lc_vec2 bp = v[0];
+    bool inside = true;
+    for (int i = 0, j = n - 1; i < n; j = i++) {
+        lc_vec2 a = v[j], e = lc_sub(v[i], a);
+        if (lc_cross(e, lc_scale(a, -1.0)) < 0)
+            inside = false;
+        double l2 = lc_len2(e), t = l2 > 0 ? -lc_dot(a, e) / l2 : 0.0;
+        t = t < 0 ? 0 : (t > 1 ? 1 : t);
+        lc_vec2 p = lc_add(a, lc_scale(e, t));
+        double d2 = lc_len2(p);
+        if (d2 < best) {
+            best = d2;
+            bp = p;
+        }
+    }
+    return inside ? lc_v2(0, 0) : bp;
+}
+
 /* Sutherland-Hodgman step: clip the CCW polygon (v, own) by h (owner k). */
 static int clip(const lc_vec2 *v, const int *own, int n, lc_halfspace h, int k, lc_vec2 *ov, int *oo)
 {
@@ -258,6 +284,8 @@ static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_h
     if (LC_GROW(alloc, ws->order, ws->cap_order, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->dist, ws->cap_dist, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->flags, ws->cap_flags, n_obs + 1) < 0 ||
+        LC_GROW(alloc, ws->box, ws->cap_box, 4 * n_obs + 4) < 0 ||
+        LC_GROW(alloc, ws->xstar, ws->cap_xstar, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->hs, ws->cap_hs, max_hs) < 0 ||
         LC_GROW(alloc, ws->hs_src, ws->cap_hs_src, max_hs) < 0 ||
         LC_GROW(alloc, ws->clip_a, ws->cap_ca, max_v) < 0 ||
@@ -364,6 +392,16 @@ static void copy_region(lc_region *dst, const lc_region *src, const lc_alloc *al
     dst->ellipse = src->ellipse;
 }
 
+/* A lower bound of the distance from segment [a, b] to obstacle j: the gap
+ * between their bounding boxes. */
+static double box_gap(const lc_region_ws *ws, int j, lc_vec2 a, lc_vec2 b)
+{
+    const double *bx = ws->box + 4 * j;
+    double dx = fmax(0.0, fmax(bx[0] - fmax(a.x, b.x), fmin(a.x, b.x) - bx[1]));
+    double dy = fmax(0.0, fmax(bx[2] - fmax(a.y, b.y), fmin(a.y, b.y) - bx[3]));
+    return sqrt(dx * dx + dy * dy);
+}
+
 /* Marks obstacles to leave out; returns how many hold the centre. */
 static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
 {
@@ -377,6 +415,8 @@ static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
             x0 = fmin(x0, v[i].x); x1 = fmax(x1, v[i].x);
             y0 = fmin(y0, v[i].y); y1 = fmax(y1, v[i].y);
         }
+        double *bx = ws->box + 4 * j;
+        bx[0] = x0; bx[1] = x1; bx[2] = y0; bx[3] = y1;
         bool off = x0 > in->centre.x + w || x1 < in->centre.x - w || y0 > in->centre.y + w ||
                    y1 < in->centre.y - w;
         bool holds = !off && lc_convex_contains(v, n, in->centre, 0.0);
@@ -403,7 +443,8 @@ static int goal_seed(const lc_region_input *in, const lc_region_config *cfg, lc_
         for (int j = 0; free && j < in->grown->np; j++) {
             int n;
             const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-            free = (ws->flags[j] & FLAG_SKIP) || seg_poly_distance(in->centre, g, v, n) > 2e-6;
+            free = (ws->flags[j] & FLAG_SKIP) || box_gap(ws, j, in->centre, g) > 2e-6 ||
+                   seg_poly_distance(in->centre, g, v, n) > 2e-6;
         }
         if (free) {
             *seed = g;
@@ -418,7 +459,7 @@ static double seed_clearance(const lc_region_input *in, const lc_region_ws *ws, 
 {
     double best = INFINITY;
     for (int j = 0; j < in->grown->np; j++) {
-        if (ws->flags[j] & FLAG_SKIP)
+        if ((ws->flags[j] & FLAG_SKIP) || box_gap(ws, j, s[0], s[ns - 1]) >= best)
             continue;
         int n;
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
@@ -442,12 +483,11 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
         if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
             return -1;
-        double best = INFINITY;
         for (int i = 0; i < n; i++)
             ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
-        lc_vec2 x;
-        best = lc_convex_distance(ws->tv, n, lc_v2(0, 0), &x);
-        ws->dist[j] = best;
+        lc_vec2 x = nearest_to_origin(ws->tv, n);
+        ws->xstar[j] = x;
+        ws->dist[j] = lc_len2(x);
         ws->order[na++] = j;
     }
     sort_by_dist(ws->order, ws->dist, na);
@@ -457,12 +497,8 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
         if (excluded(ws->hs, nh, v, n))
             continue;
-        for (int i = 0; i < n; i++)
-            ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
-        lc_vec2 x;
-        lc_convex_distance(ws->tv, n, lc_v2(0, 0), &x);
         lc_halfspace h;
-        if (!obstacle_line(e, inv, v, n, x, seeds, ns, &h, &info->fallback_lines))
+        if (!obstacle_line(e, inv, v, n, ws->xstar[j], seeds, ns, &h, &info->fallback_lines))
             return -2;
         ws->hs[nh] = h;
         ws->hs_src[nh++] = j;
@@ -576,6 +612,8 @@ void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc)
     LC_RELEASE(alloc, ws->order, ws->cap_order);
     LC_RELEASE(alloc, ws->dist, ws->cap_dist);
     LC_RELEASE(alloc, ws->flags, ws->cap_flags);
+    LC_RELEASE(alloc, ws->box, ws->cap_box);
+    LC_RELEASE(alloc, ws->xstar, ws->cap_xstar);
     LC_RELEASE(alloc, ws->hs, ws->cap_hs);
     LC_RELEASE(alloc, ws->hs_src, ws->cap_hs_src);
     LC_RELEASE(alloc, ws->tv, ws->cap_tv);

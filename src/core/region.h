@@ -83,6 +83,8 @@ typedef struct lc_region_ws {
     int *order;  int cap_order;
     double *dist; int cap_dist;
     unsigned char *flags; int cap_flags;
+    double *box; int cap_box;    /* per obstacle: x0 x1 y0 y1 */
+    lc_vec2 *xstar; int cap_xstar; /* per obstacle: nearest point, ellipse frame */
     lc_halfspace *hs; int cap_hs;
     int *hs_src; int cap_hs_src;
     lc_vec2 *tv; int cap_tv;     /* transformed vertices */

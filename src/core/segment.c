@@ -48,13 +48,13 @@ static int farthest_from_chord(const lc_vec2 *p, const int *order, int s, int e,
     int best = s;
     double bd = -1;
     for (int i = s + 1; i < e; i++) {
-        double d = lc_segment_distance(p[order[i]], a, b, NULL);
-        if (d > bd) {
-            bd = d;
+        double d2 = lc_segment_distance2(p[order[i]], a, b);
+        if (d2 > bd) {
+            bd = d2;
             best = i;
         }
     }
-    *dist = bd;
+    *dist = bd > 0 ? sqrt(bd) : bd;
     return best;
 }
 

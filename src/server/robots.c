@@ -93,6 +93,7 @@ struct lc_hub {
     lc_conn *conns;
     int n_conns;
     bot *bots;
+    int n_viewers;
     long views_dropped;
 };
 
@@ -339,6 +340,8 @@ void lc_hub_close(lc_hub *hub, lc_conn *conn)
             break;
         }
     }
+    if (conn->role == ROLE_VIEWER)
+        hub->n_viewers--;
     if (conn->bot) {
         lc_log(LC_LOG_INFO, "robot %s disconnected", conn->bot->name);
         bot_free(hub, conn->bot);
@@ -449,6 +452,7 @@ static void hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
     }
     if (!robot) {
         c->role = ROLE_VIEWER;
+        hub->n_viewers++;
         snprintf(c->watch, sizeof c->watch, "%s", h->robot);
         mark_all_dirty(hub);
         lc_log(LC_LOG_INFO, "viewer connected (watching %s)", h->robot[0] ? h->robot : "all");
@@ -791,7 +795,7 @@ double lc_hub_deadline(const lc_hub *hub)
     for (const bot *b = hub->bots; b; b = b->next) {
         if (!b->conn->closing)
             t = fmin(t, b->watchdog_at);
-        if (b->view_dirty)
+        if (b->view_dirty && hub->n_viewers > 0)
             t = fmin(t, b->view_at);
     }
     for (const lc_conn *c = hub->conns; c; c = c->next) {

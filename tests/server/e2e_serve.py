@@ -123,7 +123,7 @@ def box(x0, y0, x1, y1):
     return [(c[i], c[(i + 1) % 4]) for i in range(4)]
 
 
-SEGMENTS += box(-1.0, -1.7, 8.0, -1.5) + box(-1.0, 1.5, 8.0, 1.7) + box(2.6, 0.45, 3.0, 0.85)
+SEGMENTS += box(-1.0, -1.7, 8.0, -1.5) + box(-1.0, 1.5, 8.0, 1.7) + box(2.6, 0.1, 3.0, 0.5)
 RADIUS = 0.3
 BEAMS, FOV, RMAX = 121, 2 * math.pi * 0.75, 8.0
 
@@ -312,6 +312,7 @@ async def test_views(srv):
         seq += 1
         await r.send(json.dumps(far_scan(seq, seq * 0.01)))
         await recv_type(r, "setpoint")
+        await asyncio.sleep(0.005)  # about 150 frames/s: well above 20 views/s
     await asyncio.sleep(0.2)
     reader.cancel()
     span = time.monotonic() - t0

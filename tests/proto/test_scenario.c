@@ -1,0 +1,255 @@
+/*
+ * test_scenario.c - the scenario file reader and writer: every header field,
+ * defaults, an exact round trip of the header (numbers parse back bit for
+ * bit), bad lines reported with their line numbers, a truncated last line
+ * skipped with a warning, and degenerate files (empty, header only, blank
+ * lines, a second header, huge numbers).
+ */
+#include "testutil.h"
+
+#include <stdio.h>
+#include <string.h>
+
+#include "scenario.h"
+
+static const char header_full[] =
+    "{\"type\":\"scenario\",\"version\":1,\"description\":\"a \\\"test\\\" site\","
+    "\"robot\":{\"model\":\"unicycle\",\"radius\":0.32,\"v_max\":0.9},"
+    "\"route\":{\"waypoints\":[[4,0],[4,4]],\"loop\":true,\"tolerance\":0.3},"
+    "\"start\":[0.1,0.2,0.3],"
+    "\"world\":{\"polygons\":[[[2,-0.6],[2.6,-0.6],[2.6,0.3]],[[0,5],[6,5]]]},"
+    "\"sensor\":{\"beams\":181,\"fov\":3.141592653589793,\"range_min\":0.05,"
+    "\"range_max\":8,\"rate\":10,\"noise\":0.01,\"mount\":[0.1,0,0]},"
+    "\"expect\":\"blocked\",\"max_time\":30}";
+
+static const char scan_line[] =
+    "{\"type\":\"scan\",\"seq\":1,\"stamp\":0.1,\"pose\":[0,0,0],\"angle_start\":-1,"
+    "\"angle_step\":0.5,\"range_min\":0.05,\"range_max\":8,\"ranges\":[1,2,null,3,4]}";
+
+static const char setpoint_line[] =
+    "{\"type\":\"setpoint\",\"seq\":1,\"stamp\":0.1,\"v\":0.25,\"w\":-0.125,"
+    "\"state\":\"tracking\",\"limit\":\"braking\",\"waypoint\":0}";
+
+typedef struct warnings {
+    int count, line;
+    char last[128];
+} warnings;
+
+static void on_warning(void *data, int line, const char *message)
+{
+    warnings *w = data;
+    w->count++;
+    w->line = line;
+    snprintf(w->last, sizeof w->last, "%s", message);
+}
+
+/* Reads text fully: the number of messages, or -(line) of the first error. */
+static int read_all(const char *text, warnings *w, lc_scenario_error *err, int *types)
+{
+    lc_scenario_reader r;
+    lc_scenario_header h;
+    lc_scenario_header_init(&h);
+    lc_scenario_reader_init(&r, text, strlen(text), NULL);
+    r.warning = on_warning;
+    r.warning_data = w;
+    int n = 0, rc = lc_scenario_read_header(&r, &h, err);
+    if (rc == 0) {
+        lc_wire_msg m;
+        while ((rc = lc_scenario_next(&r, &m, err)) > 0) {
+            if (types)
+                types[n] = m.type;
+            n++;
+        }
+    }
+    lc_scenario_reader_free(&r);
+    lc_scenario_header_free(&h);
+    return rc < 0 ? -err->line : n;
+}
+
+static void test_header_fields(void **state)
+{
+    lc_scenario_header h;
+    lc_scenario_header_init(&h);
+    lc_scenario_error err;
+    assert_int_equal(lc_scenario_parse_header(header_full, strlen(header_full), &h, &err), 0);
+    assert_string_equal(h.description, "a \"test\" site");
+    assert_true(h.has_robot && h.robot.model == LC_MODEL_UNICYCLE);
+    assert_near(h.robot.radius, 0.32, 0);
+    assert_near(h.robot.margin, 0.05, 0); /* CONTRACT.md default */
+    assert_true(h.has_route && h.route.count == 2 && h.route.loop);
+    assert_near(h.route.waypoints[1].y, 4, 0);
+    assert_true(h.has_start);
+    assert_near(h.start.yaw, 0.3, 0);
+    assert_true(h.has_world);
+    assert_int_equal(h.world.np, 2);
+    assert_int_equal(h.world.span[1].count, 2);
+    assert_true(h.has_sensor);
+    assert_int_equal(h.sensor.beams, 181);
+    assert_near(h.sensor.mount.x, 0.1, 0);
+    assert_int_equal(h.expect, LC_EXPECT_BLOCKED);
+    assert_near(h.max_time, 30, 0);
+    assert_near(lc_scenario_first_dt(&h), 0.1, 0);
+    lc_scenario_header_free(&h);
+}
+
+static void test_header_defaults(void **state)
+{
+    const char *t = "{\"type\":\"scenario\",\"version\":1}";
+    lc_scenario_header h;
+    lc_scenario_header_init(&h);
+    lc_scenario_error err;
+    assert_int_equal(lc_scenario_parse_header(t, strlen(t), &h, &err), 0);
+    assert_false(h.has_robot || h.has_route || h.has_start || h.has_world || h.has_sensor);
+    assert_int_equal(h.robot.model, LC_MODEL_POINT);
+    assert_near(h.robot.v_max, 0.8, 0);
+    assert_int_equal(h.expect, LC_EXPECT_DONE);
+    assert_near(lc_scenario_first_dt(&h), 0.05, 0);
+    lc_scenario_header_free(&h);
+}
+
+/* Encode, parse back, encode again: the same text and the same doubles. */
+static void test_header_round_trip(void **state)
+{
+    lc_scenario_header a, b;
+    lc_scenario_header_init(&a);
+    lc_scenario_header_init(&b);
+    lc_scenario_error err;
+    assert_int_equal(lc_scenario_parse_header(header_full, strlen(header_full), &a, &err), 0);
+    a.start = (lc_pose){0.1 + 0.2, 1.0 / 3.0, -LC_PI}; /* no short decimal form */
+    a.has_start = true;
+    lc_wire_text t1, t2;
+    lc_wire_text_init(&t1, NULL);
+    lc_wire_text_init(&t2, NULL);
+    assert_int_equal(lc_scenario_encode_header(&t1, &a), 0);
+    assert_int_equal(lc_scenario_parse_header(t1.s, (size_t)t1.len, &b, &err), 0);
+    assert_true(b.start.x == a.start.x && b.start.y == a.start.y && b.start.yaw == a.start.yaw);
+    assert_int_equal(lc_scenario_encode_header(&t2, &b), 0);
+    assert_string_equal(t1.s, t2.s);
+    assert_string_equal(b.description, a.description);
+    assert_int_equal(b.world.nv, a.world.nv);
+    assert_int_equal(b.sensor.beams, a.sensor.beams);
+    assert_true(b.sensor.fov == a.sensor.fov);
+    lc_wire_text_free(&t1);
+    lc_wire_text_free(&t2);
+    lc_scenario_header_free(&a);
+    lc_scenario_header_free(&b);
+}
+
+static void test_messages_in_order(void **state)
+{
+    char text[2048];
+    snprintf(text, sizeof text, "%s\n%s\n\n  \n%s\n", header_full, scan_line, setpoint_line);
+    warnings w = {0};
+    lc_scenario_error err;
+    int types[4];
+    assert_int_equal(read_all(text, &w, &err, types), 2);
+    assert_int_equal(types[0], LC_MSG_SCAN);
+    assert_int_equal(types[1], LC_MSG_SETPOINT);
+    assert_int_equal(w.count, 0);
+}
+
+static void test_bad_lines_named(void **state)
+{
+    static const struct {
+        const char *line3;
+        const char *reason; /* a piece of the message */
+    } cases[] = {
+        {"{\"type\":\"scan\",", "bad_json"},
+        {"[1,2]", "bad_message"},
+        {"{\"type\":\"teleport\"}", "unknown_type"},
+        {"{\"type\":\"setpoint\",\"seq\":1,\"stamp\":0,\"vx\":1,\"vy\":0,\"state\":\"x\","
+         "\"limit\":\"goal\",\"waypoint\":0}", "state"},
+        {"{\"type\":\"scan\",\"seq\":1,\"stamp\":1e400,\"pose\":[0,0,0],\"angle_start\":0,"
+         "\"angle_step\":0.1,\"range_min\":0.1,\"range_max\":5,\"ranges\":[1]}", "stamp"},
+        {"{\"type\":\"scenario\",\"version\":1}", "second scenario"},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        char text[2048];
+        snprintf(text, sizeof text, "%s\n%s\n%s\n%s\n", header_full, scan_line, cases[i].line3,
+                 setpoint_line);
+        warnings w = {0};
+        lc_scenario_error err = {0};
+        assert_int_equal(read_all(text, &w, &err, NULL), -3);
+        if (!strstr(err.message, cases[i].reason))
+            fail_msg("case %zu: '%s' does not name '%s'", i, err.message, cases[i].reason);
+    }
+}
+
+static void test_truncated_last_line_skipped(void **state)
+{
+    char text[2048];
+    /* a crash mid-write: the last line stops inside its JSON, no newline */
+    snprintf(text, sizeof text, "%s\n%s\n%s\n%.40s", header_full, scan_line, setpoint_line,
+             scan_line);
+    warnings w = {0};
+    lc_scenario_error err;
+    assert_int_equal(read_all(text, &w, &err, NULL), 2);
+    assert_int_equal(w.count, 1);
+    assert_int_equal(w.line, 4);
+    assert_non_null(strstr(w.last, "truncated"));
+    /* a complete last line without its newline is read */
+    snprintf(text, sizeof text, "%s\n%s", header_full, scan_line);
+    assert_int_equal(read_all(text, &w, &err, NULL), 1);
+    assert_int_equal(w.count, 1);
+    /* but a complete, wrong last line is an error, not a truncation */
+    snprintf(text, sizeof text, "%s\n{\"type\":\"scan\"}", header_full);
+    assert_int_equal(read_all(text, &w, &err, NULL), -2);
+}
+
+static void test_bad_headers(void **state)
+{
+    static const struct {
+        const char *text;
+        const char *reason;
+    } cases[] = {
+        {"", "no scenario header"},
+        {"\n{\"type\":\"scenario\",\"version\":1}\n", "no scenario header"},
+        {"{\"type\":\"scenario\",\"vers", "truncated"},
+        {"{\"type\":\"scan\",\"version\":1}\n", "scenario"},
+        {"{\"type\":\"scenario\"}\n", "version"},
+        {"{\"type\":\"scenario\",\"version\":2}\n", "not supported"},
+        {"{\"type\":\"scenario\",\"version\":1,\"world\":{\"polygons\":[[[0,0]]]}}\n",
+         "world.polygons[0]"},
+        {"{\"type\":\"scenario\",\"version\":1,\"world\":{\"polygons\":[[[0,0],[1,\"a\"]]]}}\n",
+         "world.polygons[0][1]"},
+        {"{\"type\":\"scenario\",\"version\":1,\"sensor\":{\"beams\":0}}\n", "sensor.beams"},
+        {"{\"type\":\"scenario\",\"version\":1,\"sensor\":{\"range_min\":5,\"range_max\":1}}\n",
+         "range_max"},
+        {"{\"type\":\"scenario\",\"version\":1,\"robot\":{\"radius\":-1}}\n", "robot.radius"},
+        {"{\"type\":\"scenario\",\"version\":1,\"start\":[0,1e400,0]}\n", "start"},
+        {"{\"type\":\"scenario\",\"version\":1,\"expect\":\"maybe\"}\n", "expect"},
+        {"{\"type\":\"scenario\",\"version\":1,\"version\":1}\n", "version"},
+        {"{\"type\":\"scenario\",\"version\":1} x\n", "after"},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        warnings w = {0};
+        lc_scenario_error err = {0};
+        int rc = read_all(cases[i].text, &w, &err, NULL);
+        if (rc != -1 || !strstr(err.message, cases[i].reason))
+            fail_msg("case %zu: rc %d, '%s' does not name '%s'", i, rc, err.message,
+                     cases[i].reason);
+    }
+}
+
+static void test_header_only(void **state)
+{
+    warnings w = {0};
+    lc_scenario_error err;
+    assert_int_equal(read_all(header_full, &w, &err, NULL), 0);
+    assert_int_equal(w.count, 0);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_header_fields),
+        cmocka_unit_test(test_header_defaults),
+        cmocka_unit_test(test_header_round_trip),
+        cmocka_unit_test(test_messages_in_order),
+        cmocka_unit_test(test_bad_lines_named),
+        cmocka_unit_test(test_truncated_last_line_skipped),
+        cmocka_unit_test(test_bad_headers),
+        cmocka_unit_test(test_header_only),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}

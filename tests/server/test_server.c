@@ -1,0 +1,499 @@
+/*
+ * test_server.c - the daemon: option table, listen addresses, tokens, and
+ * the hub (robots.c) driven without sockets on a fake clock (hello, roles,
+ * name_taken, one setpoint per frame, watchdog, queues, limits, shutdown);
+ * then the built `lacuna serve` end to end over real websockets
+ * (tests/server/e2e_serve.py, python3-websockets).
+ *
+ * The fake clock makes the watchdog checks exact and independent of the
+ * machine's load; the end-to-end run checks the real timer in a wide band.
+ */
+#include "testutil.h"
+
+#include <cjson/cJSON.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include "codec.h"
+#include "config.h"
+#include "robots.h"
+#include "server.h"
+
+/* ------------------------------------------------------------ options */
+
+static void test_config_defaults_and_flags(void **state)
+{
+    lc_server_config c;
+    char err[256];
+    lc_server_config_default(&c);
+    assert_string_equal(c.listen, "127.0.0.1:7640");
+    assert_int_equal(c.watchdog_ms, 200);
+    assert_int_equal(c.max_message, 1 << 20);
+    assert_int_equal(lc_server_config_flag(&c, "--watchdog-ms", "150", err, sizeof err), 1);
+    assert_int_equal(c.watchdog_ms, 150);
+    assert_int_equal(lc_server_config_flag(&c, "--watchdog-ms", "5", err, sizeof err), -1);
+    assert_non_null(strstr(err, "watchdog_ms"));
+    assert_int_equal(lc_server_config_flag(&c, "--watchdog-ms", "1.5", err, sizeof err), -1);
+    assert_int_equal(lc_server_config_flag(&c, "--watchdog-ms", "abc", err, sizeof err), -1);
+    assert_int_equal(lc_server_config_flag(&c, "--watchdog-ms", NULL, err, sizeof err), -1);
+    assert_int_equal(lc_server_config_flag(&c, "--no-such", "1", err, sizeof err), 0);
+    assert_int_equal(lc_server_config_flag(&c, "--log-level", "loud", err, sizeof err), -1);
+    assert_int_equal(lc_server_config_flag(&c, "--log-level", "debug", err, sizeof err), 1);
+    assert_int_equal(lc_server_config_flag(&c, "--view-hz", "nan", err, sizeof err), -1);
+    assert_int_equal(lc_server_config_flag(&c, "--view-hz", "21", err, sizeof err), -1);
+    assert_int_equal(c.watchdog_ms, 150);
+}
+
+static void test_config_file(void **state)
+{
+    lc_server_config c;
+    char err[256];
+    lc_server_config_default(&c);
+    const char ok[] = "{\"watchdog_ms\": 300, \"listen\": \"127.0.0.1:0\", \"period\": 0.05}";
+    assert_int_equal(lc_server_config_parse(&c, ok, strlen(ok), err, sizeof err), 0);
+    assert_int_equal(c.watchdog_ms, 300);
+    assert_string_equal(c.listen, "127.0.0.1:0");
+    assert_near(c.period, 0.05, 0);
+    static const char *const bad[] = {
+        "", "[]", "{\"watchdog_ms\": \"300\"}", "{\"watchdog_ms\": 1e9}", "{\"nope\": 1}",
+        "{\"listen\": 5}", "{\"listen\": \"no-port\"}", "{} x", "{\"max_rate\": 0}",
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++)
+        assert_int_equal(lc_server_config_parse(&c, bad[i], strlen(bad[i]), err, sizeof err), -1);
+    assert_int_equal(c.watchdog_ms, 300);
+}
+
+/* --print-config output parses back to the same configuration. */
+static void test_config_print_round_trip(void **state)
+{
+    lc_server_config c, d;
+    char err[256], *text = NULL;
+    size_t n = 0;
+    lc_server_config_default(&c);
+    lc_server_config_flag(&c, "--dt-min", "0.001", err, sizeof err);
+    lc_server_config_flag(&c, "--web", "dir \"quoted\"\\x", err, sizeof err);
+    FILE *f = open_memstream(&text, &n);
+    lc_server_config_print(&c, f);
+    fclose(f);
+    lc_server_config_default(&d);
+    assert_int_equal(lc_server_config_parse(&d, text, n, err, sizeof err), 0);
+    assert_memory_equal(&c, &d, sizeof c);
+    free(text);
+}
+
+static void test_listen_parse(void **state)
+{
+    lc_listen_addr a;
+    char err[128];
+    assert_int_equal(lc_listen_parse("127.0.0.1:7640", &a, err, sizeof err), 0);
+    assert_true(a.loopback);
+    assert_int_equal(a.port, 7640);
+    assert_int_equal(lc_listen_parse("localhost:0", &a, err, sizeof err), 0);
+    assert_string_equal(a.host, "127.0.0.1");
+    assert_true(a.loopback);
+    assert_int_equal(lc_listen_parse("127.9.9.9:1", &a, err, sizeof err), 0);
+    assert_true(a.loopback);
+    assert_int_equal(lc_listen_parse("0.0.0.0:80", &a, err, sizeof err), 0);
+    assert_false(a.loopback);
+    assert_int_equal(lc_listen_parse("192.0.2.7:80", &a, err, sizeof err), 0);
+    assert_false(a.loopback);
+    static const char *const bad[] = {"", ":80", "127.0.0.1", "127.0.0.1:", "127.0.0.1:65536",
+                                      "127.0.0.1:-1", "127.0.0.1:8x", "example:80", "1.2.3:80"};
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++)
+        assert_int_equal(lc_listen_parse(bad[i], &a, err, sizeof err), -1);
+}
+
+static void test_token_equal(void **state)
+{
+    assert_true(lc_token_equal("abc", "abc"));
+    assert_true(lc_token_equal("", ""));
+    assert_false(lc_token_equal("abc", "abd"));
+    assert_false(lc_token_equal("abc", "ab"));
+    assert_false(lc_token_equal("ab", "abc"));
+    assert_false(lc_token_equal("", "a"));
+}
+
+/* ------------------------------------------------------ hub, no sockets */
+
+typedef struct fake {
+    int wakes, kills;
+} fake;
+
+static void fake_wake(void *data, void *conn_user) { ((fake *)data)->wakes++; }
+static void fake_kill(void *data, void *conn_user) { ((fake *)data)->kills++; }
+
+static fake io;
+
+static lc_hub *hub_with(void (*tweak)(lc_hub_config *))
+{
+    lc_hub_config hc;
+    memset(&hc, 0, sizeof hc);
+    lc_server_config_default(&hc.opts);
+    hc.headroom = 16;
+    hc.io = (lc_hub_io){fake_wake, fake_kill, &io};
+    if (tweak)
+        tweak(&hc);
+    lc_hub *hub = lc_hub_new(&hc);
+    assert_non_null(hub);
+    return hub;
+}
+
+static int say(lc_hub *hub, lc_conn *c, const char *text, double now)
+{
+    return lc_hub_receive(hub, c, text, strlen(text), true, true, false, now);
+}
+
+/* The next queued message parsed (the caller frees), or NULL. */
+static cJSON *next(lc_conn *c)
+{
+    size_t len;
+    char *text = lc_conn_peek(c, &len);
+    if (!text)
+        return NULL;
+    cJSON *j = cJSON_ParseWithLength(text, len);
+    assert_non_null(j);
+    lc_conn_pop(c);
+    return j;
+}
+
+static const char *str(const cJSON *j, const char *key)
+{
+    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
+    return cJSON_IsString(it) ? it->valuestring : "";
+}
+
+static double num(const cJSON *j, const char *key)
+{
+    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
+    return cJSON_IsNumber(it) ? it->valuedouble : NAN;
+}
+
+/* Expect the next message to have this type (and code, for errors). */
+static void expect(lc_conn *c, const char *type, const char *code)
+{
+    cJSON *j = next(c);
+    assert_non_null(j);
+    assert_string_equal(str(j, "type"), type);
+    if (code)
+        assert_string_equal(str(j, "code"), code);
+    cJSON_Delete(j);
+}
+
+static void expect_none(lc_conn *c)
+{
+    size_t len;
+    assert_null(lc_conn_peek(c, &len));
+}
+
+static const char scan_fmt[] =
+    "{\"type\":\"scan\",\"seq\":%d,\"stamp\":%g,\"pose\":[0,0,0],\"angle_start\":-1.5,"
+    "\"angle_step\":0.1,\"range_min\":0.05,\"range_max\":10,\"ranges\":[6,6,6,6,6,6,6,6,6,6,"
+    "6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6]}";
+
+static void send_scan(lc_hub *hub, lc_conn *c, int seq, double stamp, double now)
+{
+    char text[512];
+    snprintf(text, sizeof text, scan_fmt, seq, stamp);
+    assert_int_equal(say(hub, c, text, now), 0);
+}
+
+static lc_conn *robot(lc_hub *hub, const char *name, double now)
+{
+    char text[128];
+    lc_conn *c = lc_hub_open(hub, NULL, now);
+    assert_non_null(c);
+    snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"%s\"}", name);
+    assert_int_equal(say(hub, c, text, now), 0);
+    expect(c, "welcome", NULL);
+    return c;
+}
+
+static void test_hub_hello_and_roles(void **state)
+{
+    lc_hub *hub = hub_with(NULL);
+    lc_conn *c = lc_hub_open(hub, NULL, 0);
+    send_scan(hub, c, 1, 0, 0);
+    expect(c, "error", "unauthorized");
+    assert_true(lc_conn_closing(c));
+    assert_int_equal(lc_conn_close_status(c, NULL), LC_CLOSE_POLICY);
+    lc_hub_close(hub, c);
+
+    lc_conn *r = robot(hub, "r1", 0);
+    lc_conn *v = lc_hub_open(hub, NULL, 0);
+    assert_int_equal(say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\"}", 0), 0);
+    expect(v, "welcome", NULL);
+    send_scan(hub, v, 3, 0, 0);
+    cJSON *j = next(v);
+    assert_string_equal(str(j, "code"), "forbidden");
+    assert_near(num(j, "seq"), 3, 0);
+    cJSON_Delete(j);
+    assert_false(lc_conn_closing(v));
+
+    lc_conn *twin = lc_hub_open(hub, NULL, 0);
+    say(hub, twin, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
+    expect(twin, "error", "name_taken");
+    assert_true(lc_conn_closing(twin));
+    lc_hub_close(hub, twin);
+
+    say(hub, r, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
+    expect(r, "error", "bad_message");
+    assert_false(lc_conn_closing(r));
+    lc_hub_free(hub);
+}
+
+static const char *robot_token = "river-stone-3";
+static void with_token(lc_hub_config *hc) { hc->robot_token = robot_token; }
+
+static void test_hub_token(void **state)
+{
+    static const char *const hellos[] = {
+        "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\"}",
+        "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\",\"token\":\"river-stone-4\"}",
+        "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\",\"token\":\"river-stone-3 \"}",
+    };
+    lc_hub *hub = hub_with(with_token);
+    for (size_t i = 0; i < sizeof hellos / sizeof hellos[0]; i++) {
+        lc_conn *c = lc_hub_open(hub, NULL, 0);
+        say(hub, c, hellos[i], 0);
+        expect(c, "error", "unauthorized");
+        assert_true(lc_conn_closing(c));
+        lc_hub_close(hub, c);
+    }
+    lc_conn *c = lc_hub_open(hub, NULL, 0);
+    say(hub, c, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\",\"token\":\"river-stone-3\"}",
+        0);
+    expect(c, "welcome", NULL);
+    lc_hub_free(hub);
+}
+
+/* One setpoint per frame, seq and stamp echoed; then the watchdog on the fake clock. */
+static void test_hub_setpoints_and_watchdog(void **state)
+{
+    lc_hub *hub = hub_with(NULL);
+    lc_conn *r = robot(hub, "w", 0);
+    assert_true(isinf(lc_hub_deadline(hub))); /* not armed before the first frame */
+    say(hub, r, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", 0);
+    expect_none(r);
+    for (int k = 1; k <= 3; k++) {
+        send_scan(hub, r, k, 0.05 * k, 0.05 * k);
+        cJSON *j = next(r);
+        assert_string_equal(str(j, "type"), "setpoint");
+        assert_near(num(j, "seq"), k, 0);
+        assert_near(num(j, "stamp"), 0.05 * k, 1e-12);
+        assert_string_equal(str(j, "state"), "tracking");
+        cJSON_Delete(j);
+        expect_none(r);
+    }
+    double t = 0.15;
+    assert_near(lc_hub_deadline(hub), t + 0.2, 1e-9);
+    lc_hub_tick(hub, t + 0.19);
+    expect_none(r);
+    for (int k = 1; k <= 3; k++) {
+        double d = lc_hub_tick(hub, t + 0.2 * k + 1e-6);
+        cJSON *j = next(r);
+        assert_string_equal(str(j, "state"), "stale");
+        assert_string_equal(str(j, "limit"), "stale");
+        assert_near(num(j, "seq"), 3, 0);
+        assert_near(num(j, "vx"), 0, 0);
+        cJSON_Delete(j);
+        expect_none(r);
+        assert_near(d, t + 0.2 * (k + 1), 1e-9);
+    }
+    /* a late loop does not burst */
+    lc_hub_tick(hub, t + 5.0);
+    expect(r, "setpoint", NULL);
+    expect_none(r);
+    send_scan(hub, r, 4, 6.0, 6.0);
+    cJSON *j = next(r);
+    assert_string_equal(str(j, "state"), "tracking");
+    cJSON_Delete(j);
+    lc_hub_free(hub);
+}
+
+static void small_queues(lc_hub_config *hc)
+{
+    hc->opts.send_queue = 4;
+    hc->opts.viewer_queue = 1;
+}
+
+/* A robot that does not read: error, then close; never a silent drop. */
+static void test_hub_send_queue_full(void **state)
+{
+    lc_hub *hub = hub_with(small_queues);
+    lc_conn *r = robot(hub, "slow", 0);
+    for (int k = 1; k <= 6; k++)
+        send_scan(hub, r, k, 0.05 * k, 0.05 * k);
+    for (int k = 1; k <= 4; k++)
+        expect(r, "setpoint", NULL);
+    expect(r, "error", "rate_limited");
+    expect_none(r);
+    assert_true(lc_conn_closing(r));
+    /* it does not close by itself: the hub kills it after a grace period */
+    int kills = io.kills;
+    lc_hub_tick(hub, 10.0);
+    assert_int_equal(io.kills, kills + 1);
+    lc_hub_free(hub);
+}
+
+/* A slow viewer loses views, not replies; views are throttled to view_hz. */
+static void test_hub_views(void **state)
+{
+    lc_hub *hub = hub_with(small_queues);
+    lc_conn *v = lc_hub_open(hub, NULL, 0);
+    say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\",\"robot\":\"seen\"}", 0);
+    lc_conn *r = robot(hub, "seen", 0);
+    lc_conn *other = robot(hub, "unseen", 0);
+    double now = 0;
+    for (int k = 1; k <= 40; k++) {
+        now = 0.01 * k;
+        send_scan(hub, r, k, now, now);
+        send_scan(hub, other, k, now, now);
+        lc_hub_tick(hub, now);
+        lc_conn_pop(r);
+        lc_conn_pop(other);
+    }
+    expect(v, "welcome", NULL);
+    cJSON *j = next(v);
+    assert_string_equal(str(j, "type"), "view");
+    assert_string_equal(str(j, "robot"), "seen");
+    cJSON_Delete(j);
+    expect_none(v);
+    /* 0.4 s at 20 views/s: at most 9 views were made, all but one dropped */
+    assert_true(lc_hub_views_dropped(hub) >= 3 && lc_hub_views_dropped(hub) <= 8);
+    lc_hub_free(hub);
+}
+
+static void test_hub_limits(void **state)
+{
+    lc_hub *hub = hub_with(NULL);
+    lc_conn *r = robot(hub, "lim", 0);
+    /* fragments are joined */
+    const char *a = "{\"type\":\"route\",", *b = "\"waypoints\":[[1,", *c = "0]]} ";
+    assert_int_equal(lc_hub_receive(hub, r, a, strlen(a), true, false, false, 0), 0);
+    assert_int_equal(lc_hub_receive(hub, r, b, strlen(b), false, false, false, 0), 0);
+    assert_int_equal(lc_hub_receive(hub, r, c, strlen(c), false, false, false, 0), 0);
+    assert_int_equal(lc_hub_receive(hub, r, "", 0, false, true, false, 0), 0); /* empty final */
+    expect_none(r); /* the route was accepted */
+    assert_int_equal(lc_hub_receive(hub, r, "", 0, true, true, false, 0), 0);
+    expect(r, "error", "bad_json"); /* an empty message */
+    /* binary: error, stays open */
+    assert_int_equal(lc_hub_receive(hub, r, "\x01\x02", 2, true, true, true, 0), 0);
+    expect(r, "error", "binary");
+    assert_false(lc_conn_closing(r));
+    /* oversize: close at once with 1009, whatever the fragments */
+    static char big[65536];
+    memset(big, ' ', sizeof big);
+    int rc = 0;
+    for (int k = 0; k < 17 && rc == 0; k++)
+        rc = lc_hub_receive(hub, r, big, sizeof big, k == 0, false, false, 0);
+    assert_int_equal(rc, -1);
+    assert_int_equal(lc_conn_close_status(r, NULL), LC_CLOSE_TOO_BIG);
+    lc_hub_free(hub);
+}
+
+static void slow_rate(lc_hub_config *hc) { hc->opts.max_rate = 2; }
+
+static void test_hub_flood_and_hello_timeout(void **state)
+{
+    lc_hub *hub = hub_with(slow_rate);
+    lc_conn *r = robot(hub, "flood", 0);
+    send_scan(hub, r, 1, 0, 0);
+    expect(r, "setpoint", NULL);
+    send_scan(hub, r, 2, 0.01, 0.01);
+    expect(r, "error", "rate_limited");
+    assert_true(lc_conn_closing(r));
+    lc_conn *mute = lc_hub_open(hub, NULL, 0);
+    lc_hub_tick(hub, 9.9);
+    expect_none(mute);
+    lc_hub_tick(hub, 10.0);
+    expect(mute, "error", "unauthorized");
+    assert_true(lc_conn_closing(mute));
+    lc_hub_free(hub);
+}
+
+static void test_hub_shutdown(void **state)
+{
+    lc_hub *hub = hub_with(NULL);
+    lc_conn *r = robot(hub, "last", 0);
+    lc_conn *quiet = robot(hub, "quiet", 0);
+    say(hub, r, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", 0);
+    send_scan(hub, r, 7, 0, 0);
+    cJSON *j = next(r);
+    assert_true(num(j, "vx") > 0);
+    cJSON_Delete(j);
+    lc_hub_shutdown(hub, 0.01);
+    j = next(r);
+    assert_string_equal(str(j, "type"), "setpoint");
+    assert_near(num(j, "seq"), 7, 0);
+    assert_near(num(j, "vx"), 0, 0);
+    assert_near(num(j, "vy"), 0, 0);
+    cJSON_Delete(j);
+    expect_none(r);
+    expect_none(quiet); /* no frame, so never a setpoint to stop */
+    assert_true(lc_conn_closing(r) && lc_conn_closing(quiet));
+    assert_int_equal(lc_conn_close_status(r, NULL), LC_CLOSE_GOING_AWAY);
+    lc_hub_free(hub);
+}
+
+static void one_connection(lc_hub_config *hc) { hc->opts.max_connections = 1; }
+
+static void test_hub_max_connections(void **state)
+{
+    lc_hub *hub = hub_with(one_connection);
+    lc_conn *c = lc_hub_open(hub, NULL, 0);
+    assert_non_null(c);
+    assert_null(lc_hub_open(hub, NULL, 0));
+    lc_hub_close(hub, c);
+    assert_non_null(lc_hub_open(hub, NULL, 0));
+    lc_hub_free(hub);
+}
+
+/* ------------------------------------------------------- end to end */
+
+static void test_end_to_end(void **state)
+{
+    const char *exe = getenv("LACUNA_EXE");
+    const char *script = lc_test_source_path("tests/server/e2e_serve.py");
+    const char *python = access("/usr/bin/python3", X_OK) == 0 ? "/usr/bin/python3" : "python3";
+    if (!exe) {
+        fprintf(stderr, "LACUNA_EXE not set: end-to-end test skipped\n");
+        skip();
+    }
+    char check[512];
+    snprintf(check, sizeof check, "%s -c 'import websockets' 2>/dev/null", python);
+    if (system(check) != 0) {
+        fprintf(stderr, "python3-websockets missing: end-to-end test skipped\n");
+        skip();
+    }
+    char cmd[4096];
+    snprintf(cmd, sizeof cmd, "%s '%s' '%s'", python, script, exe);
+    int rc = system(cmd);
+    assert_true(WIFEXITED(rc));
+    assert_int_equal(WEXITSTATUS(rc), 0);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_config_defaults_and_flags),
+        cmocka_unit_test(test_config_file),
+        cmocka_unit_test(test_config_print_round_trip),
+        cmocka_unit_test(test_listen_parse),
+        cmocka_unit_test(test_token_equal),
+        cmocka_unit_test(test_hub_hello_and_roles),
+        cmocka_unit_test(test_hub_token),
+        cmocka_unit_test(test_hub_setpoints_and_watchdog),
+        cmocka_unit_test(test_hub_send_queue_full),
+        cmocka_unit_test(test_hub_views),
+        cmocka_unit_test(test_hub_limits),
+        cmocka_unit_test(test_hub_flood_and_hello_timeout),
+        cmocka_unit_test(test_hub_shutdown),
+        cmocka_unit_test(test_hub_max_connections),
+        cmocka_unit_test(test_end_to_end),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
