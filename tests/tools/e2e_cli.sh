@@ -89,5 +89,25 @@ expect_in check-1425 "$tmp/out" "not a safety function"
 check check-bad 2 "$exe" check --a-max -1
 expect_in check-bad "$tmp/err" "a-max"
 
+# lacuna bench smoke test: the JSON shape of CONTRACT.md and that the solver
+# comparison ran (never a timing assertion).
+check bench-quick 0 "$exe" bench --quick --json
+python3 - "$tmp/out" <<'PY' && pass=$((pass + 1)) || { fail=$((fail + 1)); echo "FAIL bench-quick: JSON shape"; }
+import json, sys
+d = json.load(open(sys.argv[1]))
+assert d["cases"], "no cases"
+for c in d["cases"]:
+    for k in ("name", "beams", "obstacles", "median_us", "p99_us", "stages"):
+        assert k in c, k
+    assert set(c["stages"]) >= {"ingest", "segment", "hull", "grow", "region", "ellipse", "target", "setpoint"}
+e = d["ellipse"]
+for k in ("lacuna_us", "reference_us", "reference", "max_rel_gap"):
+    assert k in e, k
+if e["reference"] != "none":
+    assert e["reference_us"] is not None and e["max_rel_gap"] is not None, "comparison did not run"
+    assert e["max_rel_gap"] <= 1e-6, e["max_rel_gap"]
+PY
+check bench-bad 2 "$exe" bench --frames 0
+
 echo "$pass passed, $fail failed"
 [ "$fail" -eq 0 ]

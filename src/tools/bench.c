@@ -1,0 +1,440 @@
+/*
+ * bench.c - `lacuna bench`: how fast the per-frame step is, stage by stage,
+ * and how the ellipse solver compares with a general-purpose solver.
+ *
+ * Frames are ray-cast once, before timing, from synthetic clutter (boxes and
+ * walls at fixed seeds), so the figures are the planner's alone. Each case
+ * warms its session up first (buffers at their high-water mark), then times
+ * every frame with the monotonic clock through the same lc_session_step the
+ * server calls. Nothing here asserts a time: the figures are printed.
+ */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/utsname.h>
+#include <unistd.h>
+
+#include "cli.h"
+#include "clock_mono.h"
+#include "ellipse.h"
+#include "lc_config.h"
+#include "ref_mvie.h"
+#include "session.h"
+#include "world.h"
+
+const char lc_bench_usage[] =
+    "usage: lacuna bench [--json] [--frames N] [--case NAME] [--quick]\n"
+    "\n"
+    "Times the per-frame plan on synthetic clutter: 360 to 4320 beams, 10 to 400\n"
+    "obstacles, both robot models. For each case: median and p99 per frame,\n"
+    "frames per second, per-stage times, inflation rounds per frame. Then the\n"
+    "ellipse solver beside the general-purpose reference solver on the same\n"
+    "polygons, and the log-log slope of time over beams and over obstacles.\n"
+    "\n"
+    "  --json       one JSON object on stdout (the default when not a terminal)\n"
+    "  --frames N   timed frames per case (default 400); with --case, a fixed\n"
+    "               amount of work for instruction counts under callgrind\n"
+    "  --case NAME  run only the case of that name (see the list it prints)\n"
+    "  --quick      a tiny run (for the test suite): two cases, 20 frames\n";
+
+#define BENCH_FRAME_SETS 8 /* distinct noisy frames cycled through per case */
+
+typedef struct bench_case {
+    char name[48];
+    int beams, obstacles;
+    lc_model model;
+    /* results */
+    double median, p99, fps, rounds, iterations;
+    double stage_median[LC_STAGE_COUNT];
+} bench_case;
+
+typedef struct bench_opts {
+    bool json, quick;
+    int frames;
+    const char *only;
+} bench_opts;
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : x > y;
+}
+
+static double quantile(double *v, int n, double q)
+{
+    qsort(v, (size_t)n, sizeof *v, cmp_double);
+    int k = (int)(q * (n - 1) + 0.5);
+    return v[k < 0 ? 0 : (k >= n ? n - 1 : k)];
+}
+
+static uint64_t mix(uint64_t *s)
+{
+    uint64_t z = (*s += 0x9e3779b97f4a7c15ull);
+    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
+    z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
+    return z ^ (z >> 31);
+}
+
+static double uni(uint64_t *s, double lo, double hi)
+{
+    return lo + (hi - lo) * ((double)(mix(s) >> 11) * 0x1.0p-53);
+}
+
+/* Boxes of 0.2-0.8 m scattered over a 20 m square, none within 1.5 m of the
+ * robot, inside a walled 22 m hall: the clutter of a busy site. */
+static void clutter(lc_world *w, int count, uint64_t seed)
+{
+    lc_world_init(w);
+    uint64_t s = seed;
+    for (int k = 0; k < count;) {
+        double x = uni(&s, -10, 10), y = uni(&s, -10, 10);
+        if (x * x + y * y < 1.5 * 1.5)
+            continue;
+        double a = uni(&s, 0.2, 0.8), b = uni(&s, 0.2, 0.8);
+        lc_vec2 v[4] = {{x, y}, {x + a, y}, {x + a, y + b}, {x, y + b}};
+        lc_world_add(w, v, 4);
+        k++;
+    }
+    lc_vec2 hall[4] = {{-11, -11}, {11, -11}, {11, 11}, {-11, 11}};
+    for (int i = 0; i < 4; i++) {
+        lc_vec2 seg[2] = {hall[i], hall[(i + 1) % 4]};
+        lc_world_add(w, seg, 2);
+    }
+}
+
+static void run_case(bench_case *c, const bench_opts *o)
+{
+    lc_world w;
+    clutter(&w, c->obstacles, 1000u + (uint64_t)c->obstacles);
+    lc_sensor s;
+    lc_sensor_default(&s);
+    s.beams = c->beams;
+    s.range_max = 10.0;
+    double *ranges = malloc(sizeof *ranges * (size_t)c->beams * BENCH_FRAME_SETS);
+    lc_sim_rng rng = {77};
+    for (int k = 0; k < BENCH_FRAME_SETS; k++)
+        lc_world_scan(&w, (lc_pose){0.01 * k, 0, 0.02 * k}, &s, &rng, ranges + k * c->beams);
+    lc_robot robot;
+    lc_robot_default(&robot);
+    robot.model = c->model;
+    lc_session *ses = lc_session_new(&robot, NULL, NULL);
+    lc_session_set_goal(ses, lc_v2(8, 3));
+    lc_session_set_clock(ses, lc_mono_clock());
+    int frames = o->frames, warm = o->quick ? 5 : 50;
+    double *t = malloc(sizeof *t * (size_t)frames * (LC_STAGE_COUNT + 1));
+    double rounds = 0, iters = 0;
+    lc_plan_result r;
+    for (int i = -warm; i < frames; i++) {
+        int k = (i + warm) % BENCH_FRAME_SETS;
+        lc_frame f = {.kind = LC_FRAME_SCAN, .seq = i, .stamp = 0.05 * (i + warm),
+                      .pose = {0.01 * k, 0, 0.02 * k}, .angle_start = lc_sensor_beam_angle(&s, 0),
+                      .angle_step = lc_sensor_angle_step(&s), .range_min = s.range_min,
+                      .range_max = s.range_max, .ranges = ranges + k * c->beams,
+                      .n_ranges = c->beams};
+        double t0 = lc_mono_us();
+        lc_session_step(ses, &f, 0.05, &r);
+        double dt = lc_mono_us() - t0;
+        if (i < 0)
+            continue;
+        t[i] = dt;
+        for (int st = 0; st < LC_STAGE_COUNT; st++)
+            t[frames * (st + 1) + i] = r.stage_us[st];
+        rounds += r.region ? r.region->rounds : 0;
+        iters += r.ellipse_iterations;
+    }
+    c->median = quantile(t, frames, 0.5);
+    c->p99 = quantile(t, frames, 0.99);
+    c->fps = c->median > 0 ? 1e6 / c->median : 0;
+    c->rounds = rounds / frames;
+    c->iterations = iters / frames;
+    for (int st = 0; st < LC_STAGE_COUNT; st++)
+        c->stage_median[st] = quantile(t + frames * (st + 1), frames, 0.5);
+    free(t);
+    free(ranges);
+    lc_session_free(ses);
+    lc_world_free(&w);
+}
+
+/* Random convex polygon as halfspaces: tangents of an ellipse at n sorted
+ * angles (every one non-redundant). */
+static void random_polygon(uint64_t *s, lc_halfspace *h, int n)
+{
+    double ang[64];
+    for (int i = 0; i < n; i++)
+        ang[i] = uni(s, 0, 2 * LC_PI);
+    qsort(ang, (size_t)n, sizeof *ang, cmp_double);
+    double a = uni(s, 0.5, 4), b = uni(s, 0.5, 4), rot = uni(s, 0, LC_PI);
+    lc_vec2 c = lc_v2(uni(s, -5, 5), uni(s, -5, 5));
+    for (int i = 0; i < n; i++) {
+        lc_vec2 nrm = lc_rotate(lc_v2(cos(ang[i]) / a, sin(ang[i]) / b), rot);
+        double l = lc_len(nrm);
+        lc_vec2 u = lc_scale(nrm, 1.0 / l);
+        h[i] = (lc_halfspace){u, lc_dot(u, c) + 1.0 / l};
+    }
+}
+
+typedef struct ellipse_cmp {
+    int sides, polygons;
+    double lacuna_us, reference_us, ratio, max_rel_gap;
+    double lacuna_iters;
+} ellipse_cmp;
+
+static void run_ellipse(ellipse_cmp *e, int sides, int polygons)
+{
+    uint64_t s = 4242u + (uint64_t)sides;
+    lc_halfspace h[64];
+    double scratch[LC_ELLIPSE_SCRATCH(64)], lambda[64];
+    double *tl = malloc(sizeof *tl * (size_t)polygons), *tr = malloc(sizeof *tr * (size_t)polygons);
+    lc_ellipse_opts opts;
+    lc_ellipse_opts_default(&opts);
+    e->sides = sides;
+    e->polygons = polygons;
+    e->max_rel_gap = 0;
+    e->lacuna_iters = 0;
+    int nr = 0;
+    for (int p = 0; p < polygons; p++) {
+        random_polygon(&s, h, sides);
+        lc_ellipse mine, ref;
+        lc_ellipse_info info;
+        const int reps = 50;
+        double t0 = lc_mono_us();
+        for (int k = 0; k < reps; k++)
+            lc_ellipse_solve(h, sides, NULL, &opts, &mine, lambda, scratch, &info);
+        tl[p] = (lc_mono_us() - t0) / reps;
+        e->lacuna_iters += info.iterations;
+        double ld = 0, us = 0;
+        if (lc_ref_mvie_available() &&
+            lc_ref_mvie_solve(h, sides, &ref, &ld, &us) == LC_REF_MVIE_OK) {
+            tr[nr++] = us;
+            double mine_ld = lc_ellipse_logdet(&mine);
+            double gap = fabs(mine_ld - ld) / fmax(1.0, fabs(ld));
+            if (gap > e->max_rel_gap)
+                e->max_rel_gap = gap;
+        }
+    }
+    e->lacuna_us = quantile(tl, polygons, 0.5);
+    e->reference_us = nr ? quantile(tr, nr, 0.5) : NAN;
+    e->ratio = nr ? e->reference_us / e->lacuna_us : NAN;
+    e->lacuna_iters /= polygons;
+    free(tl);
+    free(tr);
+}
+
+/* Least-squares slope of log(y) over log(x). */
+static double loglog_slope(const double *x, const double *y, int n)
+{
+    double sx = 0, sy = 0, sxx = 0, sxy = 0;
+    for (int i = 0; i < n; i++) {
+        double lx = log(x[i]), ly = log(y[i]);
+        sx += lx; sy += ly; sxx += lx * lx; sxy += lx * ly;
+    }
+    return (n * sxy - sx * sy) / (n * sxx - sx * sx);
+}
+
+static void machine(char *buf, size_t n)
+{
+    FILE *f = fopen("/proc/cpuinfo", "r");
+    char line[256];
+    snprintf(buf, n, "unknown");
+    while (f && fgets(line, sizeof line, f)) {
+        if (strncmp(line, "model name", 10) == 0) {
+            char *p = strchr(line, ':');
+            if (p) {
+                p += 2;
+                p[strcspn(p, "\n")] = '\0';
+                snprintf(buf, n, "%s, %ld cores", p, sysconf(_SC_NPROCESSORS_ONLN));
+            }
+            break;
+        }
+    }
+    if (f)
+        fclose(f);
+}
+
+static int build_cases(bench_case *c, const bench_opts *o)
+{
+    int n = 0;
+    if (o->quick) {
+        c[n++] = (bench_case){.name = "quick-360-10-point", .beams = 360, .obstacles = 10};
+        c[n++] = (bench_case){.name = "quick-360-10-unicycle", .beams = 360, .obstacles = 10,
+                              .model = LC_MODEL_UNICYCLE};
+        return n;
+    }
+    static const int beams[] = {360, 720, 1081, 2160, 4320};
+    static const int obstacles[] = {10, 25, 50, 100, 200, 400};
+    for (size_t i = 0; i < sizeof beams / sizeof *beams; i++) {
+        snprintf(c[n].name, sizeof c[n].name, "beams-%d", beams[i]);
+        c[n].beams = beams[i];
+        c[n].obstacles = 40;
+        c[n++].model = LC_MODEL_POINT;
+    }
+    for (size_t i = 0; i < sizeof obstacles / sizeof *obstacles; i++) {
+        snprintf(c[n].name, sizeof c[n].name, "obstacles-%d", obstacles[i]);
+        c[n].beams = 1081;
+        c[n].obstacles = obstacles[i];
+        c[n++].model = LC_MODEL_POINT;
+    }
+    c[n++] = (bench_case){.name = "unicycle-1081-40", .beams = 1081, .obstacles = 40,
+                          .model = LC_MODEL_UNICYCLE};
+    return n;
+}
+
+static void print_num(double x)
+{
+    if (isfinite(x))
+        printf("%.3f", x);
+    else
+        printf("null");
+}
+
+static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne, double slope_b,
+                       double slope_o, const char *mach)
+{
+    printf("{\"machine\": \"%s\", \"build\": \"%s\", \"sanitize\": \"%s\",\n \"cases\": [", mach,
+           LC_BUILD_TYPE, LC_BUILD_SANITIZE);
+    for (int i = 0; i < n; i++) {
+        printf("%s\n  {\"name\": \"%s\", \"beams\": %d, \"obstacles\": %d, \"model\": \"%s\", "
+               "\"median_us\": %.2f, \"p99_us\": %.2f, \"fps\": %.0f, \"rounds\": %.2f, "
+               "\"ellipse_iterations\": %.1f, \"stages\": {",
+               i ? "," : "", c[i].name, c[i].beams, c[i].obstacles,
+               c[i].model == LC_MODEL_UNICYCLE ? "unicycle" : "point", c[i].median, c[i].p99,
+               c[i].fps, c[i].rounds, c[i].iterations);
+        for (int s = 0; s < LC_STAGE_COUNT; s++)
+            printf("%s\"%s\": %.2f", s ? ", " : "", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
+        printf("}}");
+    }
+    printf("],\n \"slope_beams\": ");
+    print_num(slope_b);
+    printf(", \"slope_obstacles\": ");
+    print_num(slope_o);
+    printf(",\n \"ellipse\": {");
+    const ellipse_cmp *w = NULL;
+    for (int i = 0; i < ne; i++)
+        if (!w || e[i].sides == 16)
+            w = &e[i];
+    if (w) {
+        printf("\"sides\": %d, \"lacuna_us\": %.3f, ", w->sides, w->lacuna_us);
+        if (isfinite(w->reference_us))
+            printf("\"reference_us\": %.1f, \"ratio\": %.1f, \"max_rel_gap\": %.3g, ",
+                   w->reference_us, w->ratio, w->max_rel_gap);
+        else
+            printf("\"reference_us\": null, \"ratio\": null, \"max_rel_gap\": null, ");
+        printf("\"reference\": \"%s\", \"by_sides\": [", lc_ref_mvie_name());
+        for (int i = 0; i < ne; i++) {
+            printf("%s{\"sides\": %d, \"polygons\": %d, \"lacuna_us\": %.3f, \"iterations\": %.1f, ",
+                   i ? ", " : "", e[i].sides, e[i].polygons, e[i].lacuna_us, e[i].lacuna_iters);
+            if (isfinite(e[i].reference_us))
+                printf("\"reference_us\": %.1f, \"ratio\": %.1f, \"max_rel_gap\": %.3g}",
+                       e[i].reference_us, e[i].ratio, e[i].max_rel_gap);
+            else
+                printf("\"reference_us\": null, \"ratio\": null, \"max_rel_gap\": null}");
+        }
+        printf("]");
+    }
+    printf("}}\n");
+}
+
+static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne, double slope_b,
+                       double slope_o, const char *mach)
+{
+    printf("lacuna bench - %s, %s build%s%s\n\n", mach, LC_BUILD_TYPE,
+           strcmp(LC_BUILD_SANITIZE, "none") ? ", sanitizers " : "",
+           strcmp(LC_BUILD_SANITIZE, "none") ? LC_BUILD_SANITIZE : "");
+    printf("%-22s %6s %5s %9s %9s %7s %6s  stages (median us)\n", "case", "beams", "obst",
+           "median us", "p99 us", "fps", "rounds");
+    for (int i = 0; i < n; i++) {
+        printf("%-22s %6d %5d %9.1f %9.1f %7.0f %6.2f ", c[i].name, c[i].beams, c[i].obstacles,
+               c[i].median, c[i].p99, c[i].fps, c[i].rounds);
+        for (int s = 0; s < LC_STAGE_COUNT; s++)
+            printf(" %s %.1f", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
+        printf("\n");
+    }
+    if (isfinite(slope_b) || isfinite(slope_o))
+        printf("\nlog-log slope of the median: over beams %.2f, over obstacles %.2f\n", slope_b,
+               slope_o);
+    printf("\nellipse solver (median per solve, cold start) vs %s:\n", lc_ref_mvie_name());
+    if (!lc_ref_mvie_available())
+        printf("  the reference solver is absent from this build (Ipopt not found at build time)\n");
+    for (int i = 0; i < ne; i++) {
+        printf("  %2d sides: lacuna %.2f us (%.1f iterations)", e[i].sides, e[i].lacuna_us,
+               e[i].lacuna_iters);
+        if (isfinite(e[i].reference_us))
+            printf(", reference %.0f us, %.0fx faster, largest relative log det gap %.2g",
+                   e[i].reference_us, e[i].ratio, e[i].max_rel_gap);
+        printf("\n");
+    }
+}
+
+static int parse(int argc, char **argv, bench_opts *o)
+{
+    *o = (bench_opts){.json = !isatty(STDOUT_FILENO), .frames = 400};
+    for (int i = 1; i < argc; i++) {
+        if (strcmp(argv[i], "--json") == 0)
+            o->json = true;
+        else if (strcmp(argv[i], "--quick") == 0)
+            o->quick = true;
+        else if (strcmp(argv[i], "--frames") == 0 && i + 1 < argc) {
+            char *end;
+            long v = strtol(argv[++i], &end, 10);
+            if (*end || v < 1 || v > 10000000)
+                return lc_cli_usage_error("bench", "--frames: '%s' is not a count of 1 or more",
+                                          argv[i]);
+            o->frames = (int)v;
+        } else if (strcmp(argv[i], "--case") == 0 && i + 1 < argc)
+            o->only = argv[++i];
+        else
+            return lc_cli_usage_error("bench", "unknown option '%s' (see lacuna bench --help)",
+                                      argv[i]);
+    }
+    if (o->quick && o->frames == 400)
+        o->frames = 20;
+    return 0;
+}
+
+int lc_tool_bench(int argc, char **argv)
+{
+    bench_opts o;
+    int rc = parse(argc, argv, &o);
+    if (rc)
+        return rc;
+    bench_case cases[32];
+    int n = build_cases(cases, &o), kept = 0;
+    bool progress = isatty(STDERR_FILENO);
+    for (int i = 0; i < n; i++) {
+        if (o.only && strcmp(o.only, cases[i].name) != 0)
+            continue;
+        if (progress)
+            fprintf(stderr, "\rlacuna bench: case %d of %d (%s)...        ", i + 1, n, cases[i].name);
+        run_case(&cases[i], &o);
+        cases[kept++] = cases[i];
+    }
+    if (progress)
+        fprintf(stderr, "\r%60s\r", "");
+    if (kept == 0)
+        return lc_cli_usage_error("bench", "no case named '%s'", o.only);
+    double xb[8], yb[8], xo[8], yo[8];
+    int nb = 0, no = 0;
+    for (int i = 0; i < kept; i++) {
+        if (strncmp(cases[i].name, "beams-", 6) == 0) {
+            xb[nb] = cases[i].beams;
+            yb[nb++] = cases[i].median;
+        } else if (strncmp(cases[i].name, "obstacles-", 10) == 0) {
+            xo[no] = cases[i].obstacles;
+            yo[no++] = cases[i].median;
+        }
+    }
+    double slope_b = nb >= 2 ? loglog_slope(xb, yb, nb) : NAN;
+    double slope_o = no >= 2 ? loglog_slope(xo, yo, no) : NAN;
+    ellipse_cmp e[4];
+    static const int sides[] = {4, 8, 16, 32};
+    int ne = o.only ? 0 : (o.quick ? 1 : 4);
+    for (int i = 0; i < ne; i++)
+        run_ellipse(&e[i], o.quick ? 8 : sides[i], o.quick ? 10 : 200);
+    char mach[200];
+    machine(mach, sizeof mach);
+    if (o.json)
+        print_json(cases, kept, e, ne, slope_b, slope_o, mach);
+    else
+        print_text(cases, kept, e, ne, slope_b, slope_o, mach);
+    return fflush(stdout) == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
+}
