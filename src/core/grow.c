@@ -87,9 +87,11 @@ static int emit_arc(lc_vec2 c, lc_vec2 n0, double arc, double r, double max_step
     int m = steps < 1 ? 1 : (int)steps;
     if (count + m > cap)
         return -1;
-    double phi = arc / m, rho = r / cos(phi / 2.0);
-    double cs = cos(phi), sn = sin(phi);
-    lc_vec2 w = lc_rotate(n0, phi / 2.0);
+    /* One sincos per arc: the half step gives the first bisector and, by
+     * the double-angle formulas, the rotation from one bisector to the next. */
+    double ch = cos(arc / m / 2.0), sh = sin(arc / m / 2.0);
+    double rho = r / ch, cs = 2.0 * ch * ch - 1.0, sn = 2.0 * sh * ch;
+    lc_vec2 w = lc_v2(ch * n0.x - sh * n0.y, sh * n0.x + ch * n0.y);
     for (int j = 0; j < m; j++) {
         out[count++] = lc_add(c, lc_scale(w, rho));
         w = lc_v2(cs * w.x - sn * w.y, sn * w.x + cs * w.y);

@@ -25,27 +25,52 @@ static int reserve(lc_cloud *c, const lc_alloc *alloc, int n)
     return 0;
 }
 
-/* Keeps p_sensor when it is not a self hit; returns 1 when kept. */
-static int keep(lc_cloud *c, const lc_frame *f, const lc_ingest_config *cfg, lc_vec2 p_sensor,
-                double range, double bearing)
+/* A pose as a rotation matrix and offset, so that no point pays for a cos. */
+typedef struct rigid {
+    double c, s, x, y;
+} rigid;
+
+static rigid rigid_of(lc_pose p) { return (rigid){cos(p.yaw), sin(p.yaw), p.x, p.y}; }
+
+static lc_vec2 rigid_apply(const rigid *t, lc_vec2 p)
 {
-    lc_vec2 p_robot = lc_pose_apply(f->mount, p_sensor);
-    if (lc_len(p_robot) < cfg->self_radius) {
+    return lc_v2(t->c * p.x - t->s * p.y + t->x, t->s * p.x + t->c * p.y + t->y);
+}
+
+/* Keeps p_sensor when it is not a self hit; returns 1 when kept. */
+static int keep(lc_cloud *c, const rigid *mount, const rigid *pose, const lc_ingest_config *cfg,
+                lc_vec2 p_sensor, double range, double bearing)
+{
+    lc_vec2 p_robot = rigid_apply(mount, p_sensor);
+    if (lc_len2(p_robot) < cfg->self_radius * cfg->self_radius) {
         c->dropped_self++;
         return 0;
     }
-    c->world[c->n] = lc_pose_apply(f->pose, p_robot);
+    c->world[c->n] = rigid_apply(pose, p_robot);
     c->range[c->n] = range;
     c->bearing[c->n] = bearing;
     c->n++;
     return 1;
 }
 
+/*
+ * Beam directions by rotation from one beam to the next (one sincos per
+ * frame, not per beam), re-anchored every LC_INGEST_REANCHOR beams so that
+ * round-off stays below 1e-14 rad.
+ */
+#define LC_INGEST_REANCHOR 64
 static void ingest_scan(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud *c)
 {
+    double cs = cos(f->angle_step), sn = sin(f->angle_step);
+    lc_vec2 u = lc_v2(1, 0);
+    rigid mount = rigid_of(f->mount), pose = rigid_of(f->pose);
     for (int i = 0; i < f->n_ranges; i++) {
         double r = f->ranges[i];
         double b = f->angle_start + f->angle_step * i;
+        if (i % LC_INGEST_REANCHOR == 0)
+            u = lc_unit_angle(b);
+        else
+            u = lc_v2(cs * u.x - sn * u.y, sn * u.x + cs * u.y);
         if (!isfinite(r) || !isfinite(b)) {
             c->dropped_invalid++;
             continue;
@@ -54,7 +79,7 @@ static void ingest_scan(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud
             c->dropped_range++;
             continue;
         }
-        keep(c, f, cfg, lc_v2(r * cos(b), r * sin(b)), r, b);
+        keep(c, &mount, &pose, cfg, lc_scale(u, r), r, b);
     }
     double fov = fabs(f->angle_step) * f->n_ranges;
     c->fov = fov > 2.0 * LC_PI || !isfinite(fov) ? 2.0 * LC_PI : fov;
@@ -100,6 +125,7 @@ static void points_view(lc_cloud *c, double mount_yaw)
 
 static void ingest_points(const lc_frame *f, const lc_ingest_config *cfg, lc_cloud *c)
 {
+    rigid mount = rigid_of(f->mount), pose = rigid_of(f->pose);
     for (int i = 0; i < f->n_points; i++) {
         lc_vec2 p = lc_v2(f->xy[2 * i], f->xy[2 * i + 1]);
         double z = f->z ? f->z[i] : 0.0;
@@ -116,7 +142,7 @@ static void ingest_points(const lc_frame *f, const lc_ingest_config *cfg, lc_clo
             c->dropped_range++;
             continue;
         }
-        keep(c, f, cfg, p, r, atan2(p.y, p.x));
+        keep(c, &mount, &pose, cfg, p, r, atan2(p.y, p.x));
     }
     points_view(c, f->mount.yaw);
 }

@@ -28,7 +28,7 @@ void lc_region_config_default(lc_region_config *cfg)
     cfg->window_max = 10.0;
     cfg->max_rounds = 6;
     cfg->area_tol = 0.02;
-    cfg->seed_radius = 0.01;
+    cfg->seed_radius = 1.0;
     cfg->goal_step = 1.0;
     cfg->blind_line = true;
     cfg->points_fov = 0.0;
@@ -118,10 +118,19 @@ static bool inside_all(const lc_halfspace *h, int n, lc_vec2 p, double eps)
     return true;
 }
 
-/* The obstacle lies outside (or on) one of the lines already placed. */
-static bool excluded(const lc_halfspace *h, int nh, const lc_vec2 *v, int n)
+/*
+ * The obstacle lies outside (or on) one of the lines already placed. Its
+ * bounding circle (centre, radius) decides most cases without the vertices.
+ */
+static bool excluded(const lc_halfspace *h, int nh, const lc_vec2 *v, int n, const double *circle)
 {
+    lc_vec2 c = lc_v2(circle[0], circle[1]);
     for (int k = 0; k < nh; k++) {
+        double s = lc_dot(h[k].a, c) - h[k].b;
+        if (s >= circle[2])
+            return true;
+        if (s <= -circle[2])
+            continue;
         int i = 0;
         while (i < n && lc_dot(h[k].a, v[i]) >= h[k].b - 1e-12)
             i++;
@@ -286,6 +295,9 @@ static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_h
         LC_GROW(alloc, ws->flags, ws->cap_flags, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->box, ws->cap_box, 4 * n_obs + 4) < 0 ||
         LC_GROW(alloc, ws->xstar, ws->cap_xstar, n_obs + 1) < 0 ||
+        LC_GROW(alloc, ws->circle, ws->cap_circle, 3 * n_obs + 3) < 0 ||
+        LC_GROW(alloc, ws->lower, ws->cap_lower, n_obs + 1) < 0 ||
+        LC_GROW(alloc, ws->heap, ws->cap_heap, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->hs, ws->cap_hs, max_hs) < 0 ||
         LC_GROW(alloc, ws->hs_src, ws->cap_hs_src, max_hs) < 0 ||
         LC_GROW(alloc, ws->clip_a, ws->cap_ca, max_v) < 0 ||
@@ -415,8 +427,14 @@ static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
             x0 = fmin(x0, v[i].x); x1 = fmax(x1, v[i].x);
             y0 = fmin(y0, v[i].y); y1 = fmax(y1, v[i].y);
         }
-        double *bx = ws->box + 4 * j;
+        double *bx = ws->box + 4 * j, *cc = ws->circle + 3 * j;
         bx[0] = x0; bx[1] = x1; bx[2] = y0; bx[3] = y1;
+        cc[0] = 0.5 * (x0 + x1);
+        cc[1] = 0.5 * (y0 + y1);
+        cc[2] = 0;
+        for (int i = 0; i < n; i++)
+            cc[2] = fmax(cc[2], lc_dist(v[i], lc_v2(cc[0], cc[1])));
+        cc[2] *= 1.0 + 1e-12;
         bool off = x0 > in->centre.x + w || x1 < in->centre.x - w || y0 > in->centre.y + w ||
                    y1 < in->centre.y - w;
         bool holds = !off && lc_convex_contains(v, n, in->centre, 0.0);
@@ -469,33 +487,104 @@ static double seed_clearance(const lc_region_input *in, const lc_region_ws *ws, 
 }
 
 /* One round: lines for the current ellipse, then the polygon. Returns nh. */
+/* Smallest eigenvalue of the symmetric 2x2 L: |L^-1 w| <= |w| / sigma. */
+static double l_sigma_min(const lc_ellipse *e)
+{
+    double m = 0.5 * (e->l11 + e->l22), d = 0.5 * (e->l11 - e->l22);
+    return m - sqrt(d * d + e->l12 * e->l12);
+}
+
+/* Binary min-heap of obstacle indices keyed by ws->dist (exact distances). */
+static void heap_push(lc_region_ws *ws, int *n, int j)
+{
+    int i = (*n)++;
+    while (i > 0 && ws->dist[ws->heap[(i - 1) / 2]] > ws->dist[j]) {
+        ws->heap[i] = ws->heap[(i - 1) / 2];
+        i = (i - 1) / 2;
+    }
+    ws->heap[i] = j;
+}
+
+static int heap_pop(lc_region_ws *ws, int *n)
+{
+    int top = ws->heap[0], last = ws->heap[--(*n)], i = 0;
+    for (;;) {
+        int c = 2 * i + 1;
+        if (c >= *n)
+            break;
+        if (c + 1 < *n && ws->dist[ws->heap[c + 1]] < ws->dist[ws->heap[c]])
+            c++;
+        if (ws->dist[ws->heap[c]] >= ws->dist[last])
+            break;
+        ws->heap[i] = ws->heap[c];
+        i = c;
+    }
+    if (*n > 0)
+        ws->heap[i] = last;
+    return top;
+}
+
+/* Nearest point of grown obstacle j to the ellipse centre, ellipse frame. */
+static int exact_distance(const lc_region_input *in, lc_region_ws *ws, const double inv[3],
+                          const lc_ellipse *e, int j, const lc_alloc *alloc)
+{
+    int n;
+    const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+    if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
+        return -1;
+    for (int i = 0; i < n; i++)
+        ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
+    ws->xstar[j] = nearest_to_origin(ws->tv, n);
+    ws->dist[j] = lc_len(ws->xstar[j]);
+    return 0;
+}
+
+/*
+ * One round's lines. Obstacles are taken in increasing distance in the
+ * metric of the current ellipse, each skipped when a line already placed
+ * has it outside. The exact distance (all vertices transformed) is computed
+ * lazily: obstacles are walked in order of a cheap lower bound (bounding
+ * circle over the smallest semi-axis), exact ones wait in a heap until no
+ * lower bound below them is left, so the order is exactly the sorted one
+ * while an obstacle already cut off costs only its circle test.
+ */
 static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, const lc_ellipse *e,
                        const lc_vec2 *seeds, int ns, lc_region_info *info,
                        const lc_alloc *alloc)
 {
     double inv[3];
     l_inverse(e, inv);
+    double sigma = l_sigma_min(e);
     int na = 0;
     for (int j = 0; j < in->grown->np; j++) {
         if (ws->flags[j] & FLAG_SKIP)
             continue;
-        int n;
-        const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-        if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
-            return -1;
-        for (int i = 0; i < n; i++)
-            ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
-        lc_vec2 x = nearest_to_origin(ws->tv, n);
-        ws->xstar[j] = x;
-        ws->dist[j] = lc_len2(x);
+        const double *cc = ws->circle + 3 * j;
+        double centre = lc_len(sym_mul(inv, lc_sub(lc_v2(cc[0], cc[1]), e->d)));
+        ws->lower[j] = fmax(0.0, centre - cc[2] / sigma) * (1.0 - 1e-12);
         ws->order[na++] = j;
     }
-    sort_by_dist(ws->order, ws->dist, na);
-    int nh = nbase;
-    for (int q = 0; q < na; q++) {
-        int j = ws->order[q], n;
+    sort_by_dist(ws->order, ws->lower, na);
+    int nh = nbase, q = 0, nheap = 0;
+    while (q < na || nheap > 0) {
+        int j;
+        bool from_heap = nheap > 0 && (q == na || ws->dist[ws->heap[0]] <= ws->lower[ws->order[q]]);
+        int n;
+        if (from_heap) {
+            j = heap_pop(ws, &nheap);
+        } else {
+            j = ws->order[q++];
+            const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+            /* Lines only accumulate: an obstacle cut off now stays cut off. */
+            if (excluded(ws->hs, nh, v, n, ws->circle + 3 * j))
+                continue;
+            if (exact_distance(in, ws, inv, e, j, alloc) < 0)
+                return -1;
+            heap_push(ws, &nheap, j);
+            continue;
+        }
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-        if (excluded(ws->hs, nh, v, n))
+        if (excluded(ws->hs, nh, v, n, ws->circle + 3 * j))
             continue;
         lc_halfspace h;
         if (!obstacle_line(e, inv, v, n, ws->xstar[j], seeds, ns, &h, &info->fallback_lines))
@@ -614,6 +703,9 @@ void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc)
     LC_RELEASE(alloc, ws->flags, ws->cap_flags);
     LC_RELEASE(alloc, ws->box, ws->cap_box);
     LC_RELEASE(alloc, ws->xstar, ws->cap_xstar);
+    LC_RELEASE(alloc, ws->circle, ws->cap_circle);
+    LC_RELEASE(alloc, ws->lower, ws->cap_lower);
+    LC_RELEASE(alloc, ws->heap, ws->cap_heap);
     LC_RELEASE(alloc, ws->hs, ws->cap_hs);
     LC_RELEASE(alloc, ws->hs_src, ws->cap_hs_src);
     LC_RELEASE(alloc, ws->tv, ws->cap_tv);

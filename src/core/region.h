@@ -40,7 +40,7 @@ typedef struct lc_region_config {
     double window_max;    /* m, cap on the half side, 10 */
     int max_rounds;       /* inflation rounds, 6 */
     double area_tol;      /* stop when the area grows by less than this fraction, 0.02 */
-    double seed_radius;   /* m, the first ellipse is a disc of this radius, 0.01 */
+    double seed_radius;   /* m, most the first ellipse reaches from the seeds (half their clearance), 1.0 */
     double goal_step;     /* m, the goal seed this far toward the waypoint, 1.0 */
     bool blind_line;      /* bound the region by the scanner's blind sector, true */
     double points_fov;    /* rad, field of view of `points` frames (0: judged from the points) */
@@ -85,6 +85,9 @@ typedef struct lc_region_ws {
     unsigned char *flags; int cap_flags;
     double *box; int cap_box;    /* per obstacle: x0 x1 y0 y1 */
     lc_vec2 *xstar; int cap_xstar; /* per obstacle: nearest point, ellipse frame */
+    double *circle; int cap_circle; /* per obstacle: bounding circle x y r */
+    double *lower; int cap_lower;  /* per obstacle: lower bound of dist */
+    int *heap; int cap_heap;
     lc_halfspace *hs; int cap_hs;
     int *hs_src; int cap_hs_src;
     lc_vec2 *tv; int cap_tv;     /* transformed vertices */
