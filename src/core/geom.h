@@ -29,6 +29,11 @@ typedef struct lc_halfspace {
     double b;
 } lc_halfspace;
 
+/* min and max that the compiler inlines (libm's fmin/fmax are calls); for
+ * finite values only. */
+static inline double lc_min(double a, double b) { return a < b ? a : b; }
+static inline double lc_max(double a, double b) { return a > b ? a : b; }
+
 static inline lc_vec2 lc_v2(double x, double y) { return (lc_vec2){x, y}; }
 static inline lc_vec2 lc_add(lc_vec2 p, lc_vec2 q) { return lc_v2(p.x + q.x, p.y + q.y); }
 static inline lc_vec2 lc_sub(lc_vec2 p, lc_vec2 q) { return lc_v2(p.x - q.x, p.y - q.y); }

@@ -59,9 +59,9 @@ static bool input_scales(const lc_vec2 *v, int n, grow_scales *s)
     for (int i = 0; i < n; i++) {
         if (!lc_vec2_finite(v[i]))
             return false;
-        lo = lc_v2(fmin(lo.x, v[i].x), fmin(lo.y, v[i].y));
-        hi = lc_v2(fmax(hi.x, v[i].x), fmax(hi.y, v[i].y));
-        mag = fmax(mag, fmax(fabs(v[i].x), fabs(v[i].y)));
+        lo = lc_v2(lc_min(lo.x, v[i].x), lc_min(lo.y, v[i].y));
+        hi = lc_v2(lc_max(hi.x, v[i].x), lc_max(hi.y, v[i].y));
+        mag = lc_max(mag, lc_max(fabs(v[i].x), fabs(v[i].y)));
     }
     double extent = lc_len(lc_sub(hi, lo));
     s->tiny = LC_GROW_TINY_REL * extent + 16 * DBL_EPSILON * mag;

@@ -154,10 +154,10 @@ static void bounding_box(const lc_vec2 *pts, int n, lc_vec2 *lo, lc_vec2 *hi)
 {
     *lo = *hi = pts[0];
     for (int i = 1; i < n; i++) {
-        lo->x = fmin(lo->x, pts[i].x);
-        lo->y = fmin(lo->y, pts[i].y);
-        hi->x = fmax(hi->x, pts[i].x);
-        hi->y = fmax(hi->y, pts[i].y);
+        lo->x = lc_min(lo->x, pts[i].x);
+        lo->y = lc_min(lo->y, pts[i].y);
+        hi->x = lc_max(hi->x, pts[i].x);
+        hi->y = lc_max(hi->y, pts[i].y);
     }
 }
 

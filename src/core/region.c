@@ -102,8 +102,8 @@ static double seg_poly_distance(lc_vec2 a, lc_vec2 b, const lc_vec2 *v, int n)
         lc_vec2 p = v[i], q = v[(i + 1) % n];
         if (seg_seg_touch(a, b, p, q))
             return 0.0;
-        double d = fmin(fmin(lc_segment_distance2(p, a, b), lc_segment_distance2(q, a, b)),
-                        fmin(lc_segment_distance2(a, p, q), lc_segment_distance2(b, p, q)));
+        double d = lc_min(lc_min(lc_segment_distance2(p, a, b), lc_segment_distance2(q, a, b)),
+                        lc_min(lc_segment_distance2(a, p, q), lc_segment_distance2(b, p, q)));
         if (d < best)
             best = d;
     }
@@ -147,9 +147,9 @@ static double margin_along(lc_vec2 n, const lc_vec2 *obs, int no, const lc_vec2 
 {
     double lo = INFINITY, hi = -INFINITY;
     for (int i = 0; i < no; i++)
-        lo = fmin(lo, lc_dot(n, obs[i]));
+        lo = lc_min(lo, lc_dot(n, obs[i]));
     for (int i = 0; i < nk; i++)
-        hi = fmax(hi, lc_dot(n, keep[i]));
+        hi = lc_max(hi, lc_dot(n, keep[i]));
     *b = lo;
     return lo - hi;
 }
@@ -221,8 +221,8 @@ static bool obstacle_line(const lc_ellipse *e, const double inv[3], const lc_vec
         /* Touch the obstacle exactly: its support along a. */
         double lo = INFINITY;
         for (int i = 0; i < n; i++)
-            lo = fmin(lo, lc_dot(h.a, v[i]));
-        h.b = fmin(h.b, lo);
+            lo = lc_min(lo, lc_dot(h.a, v[i]));
+        h.b = lc_min(h.b, lo);
         if (inside_all(&h, 1, seeds[0], SEED_EPS) && (ns < 2 || inside_all(&h, 1, seeds[1], SEED_EPS))) {
             *out = h;
             return true;
@@ -409,8 +409,8 @@ static void copy_region(lc_region *dst, const lc_region *src, const lc_alloc *al
 static double box_gap(const lc_region_ws *ws, int j, lc_vec2 a, lc_vec2 b)
 {
     const double *bx = ws->box + 4 * j;
-    double dx = fmax(0.0, fmax(bx[0] - fmax(a.x, b.x), fmin(a.x, b.x) - bx[1]));
-    double dy = fmax(0.0, fmax(bx[2] - fmax(a.y, b.y), fmin(a.y, b.y) - bx[3]));
+    double dx = lc_max(0.0, lc_max(bx[0] - lc_max(a.x, b.x), lc_min(a.x, b.x) - bx[1]));
+    double dy = lc_max(0.0, lc_max(bx[2] - lc_max(a.y, b.y), lc_min(a.y, b.y) - bx[3]));
     return sqrt(dx * dx + dy * dy);
 }
 
@@ -424,8 +424,8 @@ static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
         double x0 = INFINITY, x1 = -INFINITY, y0 = INFINITY, y1 = -INFINITY;
         for (int i = 0; i < n; i++) {
-            x0 = fmin(x0, v[i].x); x1 = fmax(x1, v[i].x);
-            y0 = fmin(y0, v[i].y); y1 = fmax(y1, v[i].y);
+            x0 = lc_min(x0, v[i].x); x1 = lc_max(x1, v[i].x);
+            y0 = lc_min(y0, v[i].y); y1 = lc_max(y1, v[i].y);
         }
         double *bx = ws->box + 4 * j, *cc = ws->circle + 3 * j;
         bx[0] = x0; bx[1] = x1; bx[2] = y0; bx[3] = y1;
@@ -433,7 +433,7 @@ static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
         cc[1] = 0.5 * (y0 + y1);
         cc[2] = 0;
         for (int i = 0; i < n; i++)
-            cc[2] = fmax(cc[2], lc_dist(v[i], lc_v2(cc[0], cc[1])));
+            cc[2] = lc_max(cc[2], lc_dist(v[i], lc_v2(cc[0], cc[1])));
         cc[2] *= 1.0 + 1e-12;
         bool off = x0 > in->centre.x + w || x1 < in->centre.x - w || y0 > in->centre.y + w ||
                    y1 < in->centre.y - w;
@@ -454,7 +454,7 @@ static int goal_seed(const lc_region_input *in, const lc_region_config *cfg, lc_
     double len = lc_len(dir);
     if (!(len > 1e-6))
         return 0;
-    double step = fmin(cfg->goal_step, len);
+    double step = lc_min(cfg->goal_step, len);
     for (int tries = 0; tries < 4; tries++, step *= 0.5) {
         lc_vec2 g = lc_add(in->centre, lc_scale(dir, step / len));
         bool free = inside_all(ws->hs, nbase, g, SEED_EPS);
@@ -481,7 +481,7 @@ static double seed_clearance(const lc_region_input *in, const lc_region_ws *ws, 
             continue;
         int n;
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-        best = fmin(best, seg_poly_distance(s[0], s[ns - 1], v, n));
+        best = lc_min(best, seg_poly_distance(s[0], s[ns - 1], v, n));
     }
     return best;
 }
@@ -561,7 +561,7 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
             continue;
         const double *cc = ws->circle + 3 * j;
         double centre = lc_len(sym_mul(inv, lc_sub(lc_v2(cc[0], cc[1]), e->d)));
-        ws->lower[j] = fmax(0.0, centre - cc[2] / sigma) * (1.0 - 1e-12);
+        ws->lower[j] = lc_max(0.0, centre - cc[2] / sigma) * (1.0 - 1e-12);
         ws->order[na++] = j;
     }
     sort_by_dist(ws->order, ws->lower, na);
@@ -645,7 +645,7 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     out->has_goal_seed = ns == 2;
     out->goal_seed = seeds[1];
     double clear = seed_clearance(in, ws, seeds, ns);
-    double eps = fmax(fmin(cfg->seed_radius, 0.5 * clear), 1e-7);
+    double eps = lc_max(lc_min(cfg->seed_radius, 0.5 * clear), 1e-7);
     lc_ellipse e = seed_ellipse(seeds, ns, eps);
 
     /* Round 1 builds a region from the seed; later rounds keep the best. */
