@@ -155,6 +155,7 @@ int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *clou
     cloud->dropped_invalid = cloud->dropped_range = 0;
     cloud->dropped_self = cloud->dropped_height = 0;
     cloud->ordered = frame->kind == LC_FRAME_SCAN;
+    cloud->angle_step = frame->kind == LC_FRAME_SCAN ? frame->angle_step : 0.0;
     cloud->sensor_world = lc_pose_apply(frame->pose, lc_v2(frame->mount.x, frame->mount.y));
     if (total < 0 || reserve(cloud, alloc, total > 0 ? total : 1) < 0)
         return -1;

@@ -29,6 +29,7 @@ typedef struct lc_cloud {
     double *bearing;  /* sensor-frame bearing, rad */
     int n, cap;
     bool ordered;     /* true for scans: consecutive kept points are neighbours */
+    double angle_step; /* rad, scans: the step between beams */
     lc_vec2 sensor_world; /* sensor origin in the world frame */
     double fov;       /* rad covered by the frame, 2 pi when unknown or full;
                        * points frames: judged from the points' bearings */

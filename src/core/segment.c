@@ -101,7 +101,10 @@ static int ordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_
         if (!brk) {
             double gap = lc_dist(c->world[i], c->world[i - 1]);
             double dphi = c->bearing[i] - c->bearing[i - 1];
-            brk = gap > lc_breakpoint_threshold(c->range[i - 1], dphi, cfg->lambda, cfg->sigma_r);
+            /* A beam between them that returned nothing (or was dropped as
+             * out of range) looked through the gap: never one surface. */
+            brk = (c->angle_step != 0 && fabs(dphi) > 1.5 * fabs(c->angle_step)) ||
+                  gap > lc_breakpoint_threshold(c->range[i - 1], dphi, cfg->lambda, cfg->sigma_r);
         }
         if (brk) {
             if (split_ordered(c->world, ws, cfg, alloc, start, i - 1) < 0)

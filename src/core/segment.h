@@ -3,7 +3,8 @@
  *
  * Ordered scans: the adaptive breakpoint detector (Borges and Aldon, J.
  * Intell. Robot. Syst. 40 (2004)): neighbours p_(n-1), p_n break apart when
- * |p_n - p_(n-1)| > r_(n-1) sin(dphi) / sin(lambda - dphi) + 3 sigma_r.
+ * |p_n - p_(n-1)| > r_(n-1) sin(dphi) / sin(lambda - dphi) + 3 sigma_r,
+ * and always when a beam between them saw nothing (it looked through the gap).
  * Unordered points: grid-hashed Euclidean clustering with link distance
  * cluster_dist. Then every cluster is split recursively (iterative end-point
  * fit) until no point lies farther than split_width from its piece's chord,

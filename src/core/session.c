@@ -212,6 +212,24 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
     return rc;
 }
 
+/*
+ * too_close for a unicycle: no translation, but turning in place moves no
+ * part of a disc footprint, so it turns toward the target (rate limited)
+ * and the sensor gets a new look at the way out.
+ */
+static void turn_in_place(const lc_session *s, const lc_frame *f, double dt, lc_vec2 target,
+                          lc_plan_result *out)
+{
+    lc_vec2 d = lc_sub(target, lc_v2(f->pose.x, f->pose.y));
+    if (s->robot.model != LC_MODEL_UNICYCLE || !(lc_len(d) > 1e-6) || !(dt > 0))
+        return;
+    double alpha = lc_wrap_angle(atan2(d.y, d.x) - f->pose.yaw);
+    double w = s->cfg.motion.k_alpha * alpha, w_max = s->robot.w_max, step = s->robot.dw_max * dt;
+    w = w > w_max ? w_max : (w < -w_max ? -w_max : w);
+    double lo = s->last.w - step, hi = s->last.w + step;
+    out->setpoint.w = w < lo ? lo : (w > hi ? hi : w);
+}
+
 static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
 {
     out->state = state;
@@ -322,6 +340,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->waypoint = wp;
         out->waypoint_index = s->patrol.current;
         stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
+        if (out->has_target)
+            turn_in_place(s, frame, dt, out->target, out);
     } else {
         decide(s, frame, dt, out);
     }

@@ -15,6 +15,8 @@
 
 #include <cjson/cJSON.h>
 
+static int read_control(const cJSON *o, lc_scenario_control *c, lc_wire_error *we);
+
 static const char *const expect_names[] = {"done", "blocked"};
 
 const char *lc_scenario_expect_name(lc_scenario_expect e)
@@ -231,6 +233,25 @@ static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_
             return -1;
         h->has_sensor = true;
     }
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "control")) && read_control(it, &h->control, we) < 0)
+        return -1;
+    return 0;
+}
+
+/* The recording server's control-period rule (see scenario.h). */
+static int read_control(const cJSON *o, lc_scenario_control *c, lc_wire_error *we)
+{
+    const lc_wire_bounds nonneg = {0, 10, false, false}, pos = {0, 10, true, false};
+    if (!cJSON_IsObject(o)) {
+        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "control: not an object");
+        return -1;
+    }
+    *c = (lc_scenario_control){.present = true, .dt_min = 1e-4, .dt_max = 1.0, .first_dt = 0.05};
+    if (lc_wire_number_field(o, "control", "period", false, &nonneg, &c->period, we) < 0 ||
+        lc_wire_number_field(o, "control", "dt_min", false, &pos, &c->dt_min, we) < 0 ||
+        lc_wire_number_field(o, "control", "dt_max", false, &pos, &c->dt_max, we) < 0 ||
+        lc_wire_number_field(o, "control", "first_dt", false, &pos, &c->first_dt, we) < 0)
+        return -1;
     return 0;
 }
 

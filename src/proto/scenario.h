@@ -55,8 +55,17 @@ typedef struct lc_scenario_sensor {
 /* 541 beams over 270 degrees, 0.05..12 m, 20 Hz, 0.01 m noise, mount at zero. */
 void lc_scenario_sensor_default(lc_scenario_sensor *s);
 
+/* How the recording server chose each frame's control period (lacuna serve
+ * writes it; absent in simulator files). period > 0 fixes dt; otherwise the
+ * stamp difference clamped to [dt_min, dt_max], first_dt for the first frame. */
+typedef struct lc_scenario_control {
+    bool present;
+    double period, dt_min, dt_max, first_dt;
+} lc_scenario_control;
+
 typedef struct lc_scenario_header {
     int version;
+    lc_scenario_control control;
     char description[LC_SCENARIO_TEXT_MAX];
     lc_robot robot;   /* defaults when absent */
     bool has_robot;

@@ -25,27 +25,30 @@ typedef struct opt {
     double lo, hi;   /* OPT_INT, OPT_NUM: inclusive bounds */
     double def_num;
     const char *def_str;
+    const char *metavar; /* what --help shows for the value */
     const char *help;
 } opt;
 
-#define STR(field, def, help) \
+#define STR(field, metavar, def, help) \
     {#field, OPT_STR, offsetof(lc_server_config, field), \
-     sizeof(((lc_server_config *)0)->field), 0, 0, 0, def, help}
+     sizeof(((lc_server_config *)0)->field), 0, 0, 0, def, metavar, help}
 #define INT(field, lo, hi, def, help) \
-    {#field, OPT_INT, offsetof(lc_server_config, field), 0, lo, hi, def, NULL, help}
+    {#field, OPT_INT, offsetof(lc_server_config, field), 0, lo, hi, def, NULL, "N", help}
 #define NUM(field, lo, hi, def, help) \
-    {#field, OPT_NUM, offsetof(lc_server_config, field), 0, lo, hi, def, NULL, help}
+    {#field, OPT_NUM, offsetof(lc_server_config, field), 0, lo, hi, def, NULL, "X", help}
 
 static const opt options[] = {
-    STR(listen, "127.0.0.1:7640",
+    STR(listen, "HOST:PORT", "127.0.0.1:7640",
         "HOST:PORT to listen on; HOST an IPv4 address, localhost or 0.0.0.0 (all); PORT 0 "
         "picks a free port"),
-    STR(web, "", "directory of the viewer page (default: web/ beside the program)"),
-    STR(record, "", "directory to write one scenario file per robot session"),
-    STR(token_file, "", "file holding the robot token (required off loopback)"),
-    STR(viewer_token_file, "", "file holding the viewer token (viewers need none without it)"),
-    STR(log_level, "info", "error, warn, info or debug"),
-    STR(log_file, "", "append the log to this file instead of stderr (reopened on SIGHUP)"),
+    STR(web, "DIR", "", "directory of the viewer page (default: web/ beside the program)"),
+    STR(record, "DIR", "", "directory to write one scenario file per robot session"),
+    STR(token_file, "FILE", "", "file holding the robot token (required off loopback)"),
+    STR(viewer_token_file, "FILE", "", "file holding the viewer token (viewers need none without it)"),
+    STR(log_level, "LEVEL", "info", "error, warn, info or debug"),
+    STR(log_file, "FILE", "", "append the log to this file instead of stderr (reopened on SIGHUP)"),
+    STR(tls_cert, "FILE", "", "PEM certificate: serve wss:// and https:// (needs --tls-key)"),
+    STR(tls_key, "FILE", "", "PEM private key of --tls-cert"),
     INT(watchdog_ms, 20, 60000, 200, "stop setpoints (stale) when no valid frame came for this long"),
     INT(max_message, 1024, 64 << 20, 1 << 20, "largest message in bytes (larger: close 1009)"),
     INT(max_beams, 1, 1000000, 100000, "most ranges in one scan"),
@@ -253,7 +256,6 @@ void lc_server_config_print(const lc_server_config *cfg, FILE *out)
 
 void lc_server_config_help(FILE *out)
 {
-    static const char *const metavar[] = {"TEXT", "N", "X"};
     for (int i = 0; i < N_OPTIONS; i++) {
         const opt *o = &options[i];
         char flag[80], lo[LC_WIRE_NUMBER_MAX], hi[LC_WIRE_NUMBER_MAX], def[LC_WIRE_NUMBER_MAX];
@@ -261,7 +263,7 @@ void lc_server_config_help(FILE *out)
         for (const char *p = o->name; *p && k < sizeof flag - 1; p++)
             flag[k++] = *p == '_' ? '-' : *p;
         flag[k] = '\0';
-        fprintf(out, "  --%s %s\n      %s", flag, metavar[o->type], o->help);
+        fprintf(out, "  --%s %s\n      %s", flag, o->metavar, o->help);
         if (o->type == OPT_STR && o->def_str[0]) {
             fprintf(out, " (default %s)", o->def_str);
         } else if (o->type != OPT_STR) {

@@ -27,6 +27,8 @@ typedef struct lc_server_config {
     char viewer_token_file[LC_CONFIG_STR_MAX];
     char log_level[16];
     char log_file[LC_CONFIG_STR_MAX];          /* "" = stderr */
+    char tls_cert[LC_CONFIG_STR_MAX];          /* PEM; with tls_key: wss:// and https:// */
+    char tls_key[LC_CONFIG_STR_MAX];
     int watchdog_ms;
     int max_message;     /* bytes */
     int max_beams;

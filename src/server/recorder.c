@@ -25,7 +25,24 @@ static int write_member(FILE *f, const char *key, const char *obj)
     return fprintf(f, ",\"%s\":{%s", key, body) < 0 ? -1 : 0;
 }
 
-static int write_header(FILE *f, const lc_robot *robot, const lc_route *route)
+static int write_control(FILE *f, const lc_record_control *c)
+{
+    char p[LC_WIRE_NUMBER_MAX], lo[LC_WIRE_NUMBER_MAX], hi[LC_WIRE_NUMBER_MAX],
+        first[LC_WIRE_NUMBER_MAX];
+    lc_wire_format_number(p, c->period, -1);
+    lc_wire_format_number(lo, c->dt_min, -1);
+    lc_wire_format_number(hi, c->dt_max, -1);
+    lc_wire_format_number(first, c->first_dt, -1);
+    return fprintf(f,
+                   ",\"control\":{\"period\":%s,\"dt_min\":%s,\"dt_max\":%s,\"first_dt\":%s,"
+                   "\"watchdog_ms\":%d}",
+                   p, lo, hi, first, c->watchdog_ms) < 0
+               ? -1
+               : 0;
+}
+
+static int write_header(FILE *f, const lc_robot *robot, const lc_route *route,
+                        const lc_record_control *control)
 {
     lc_wire_text t;
     lc_wire_text_init(&t, NULL);
@@ -39,6 +56,8 @@ static int write_header(FILE *f, const lc_robot *robot, const lc_route *route)
     else
         rc = -1;
     lc_wire_text_free(&t);
+    if (rc == 0)
+        rc = write_control(f, control);
     if (rc == 0 && (fputs("}\n", f) < 0 || fflush(f) != 0))
         rc = -1;
     return rc;
@@ -61,13 +80,15 @@ static FILE *create_file(char *path, size_t n, const char *dir, const char *name
 }
 
 int lc_recorder_open(lc_recorder *rec, const char *dir, const char *robot_name,
-                     const lc_robot *robot, const lc_route *route)
+                     const lc_robot *robot, const lc_route *route,
+                     const lc_record_control *control)
 {
     memset(rec, 0, sizeof *rec);
+    rec->control = *control;
     FILE *f = create_file(rec->path, sizeof rec->path, dir, robot_name);
     if (!f)
         return -1;
-    if (write_header(f, robot, route) < 0) {
+    if (write_header(f, robot, route, control) < 0) {
         int e = errno;
         fclose(f);
         errno = e;
@@ -111,7 +132,7 @@ int lc_recorder_reopen(lc_recorder *rec, const lc_robot *robot, const lc_route *
         rec->failed = true;
         return -1;
     }
-    if (ftell(rec->file) == 0 && write_header(rec->file, robot, route) < 0) {
+    if (ftell(rec->file) == 0 && write_header(rec->file, robot, route, &rec->control) < 0) {
         stop_failed(rec);
         return -1;
     }

@@ -3,7 +3,11 @@
  *
  * The file is DIR/<robot>-<UTC time>-<n>.jsonl. Its first line is the
  * scenario header {"type":"scenario","version":1,"robot":{...},"route":{...}}
- * holding the robot and route in force when the first frame came; then
+ * holding the robot and route in force when the first frame came, and
+ * "control":{"period":s,"dt_min":s,"dt_max":s,"first_dt":s,"watchdog_ms":n}:
+ * how the server chose each step's dt (period when > 0, else the stamp
+ * difference clamped to [dt_min, dt_max], first_dt for the first frame)
+ * and its watchdog, so a replay can do the same; then
  * every wire message of the session, one a line, as received (re-encoded
  * from what was decoded, so numbers parse back bit for bit) or as sent.
  * Every line is flushed when written, so a crash leaves each complete line
@@ -19,8 +23,15 @@
 
 #include "robot.h"
 
+/* How the server steps a session: written into the header. */
+typedef struct lc_record_control {
+    double period, dt_min, dt_max, first_dt; /* s */
+    int watchdog_ms;
+} lc_record_control;
+
 typedef struct lc_recorder {
     FILE *file;
+    lc_record_control control;
     char path[4096];
     bool failed; /* a write failed: recording stopped, logged once */
 } lc_recorder;
@@ -30,7 +41,8 @@ typedef struct lc_recorder {
  * errno set (the recorder then stays closed).
  */
 int lc_recorder_open(lc_recorder *rec, const char *dir, const char *robot_name,
-                     const lc_robot *robot, const lc_route *route);
+                     const lc_robot *robot, const lc_route *route,
+                     const lc_record_control *control);
 bool lc_recorder_is_open(const lc_recorder *rec);
 
 /* Append one line (text of len bytes, a newline is added) and flush; 0 or -1. */

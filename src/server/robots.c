@@ -408,7 +408,7 @@ bool lc_token_equal(const char *a, const char *b)
 
 static void error_close(lc_hub *hub, lc_conn *c, lc_wire_code code, double now, const char *text)
 {
-    lc_wire_error e;
+    lc_wire_error e = {0};
     lc_wire_error_set(&e, code, "%s", text);
     send_error_close(hub, c, &e, now);
 }
@@ -478,12 +478,15 @@ static void hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
 
 /* ------------------------------------------------------------- frames */
 
+/* dt of the first frame of a session (no stamp difference yet), s. */
+#define FIRST_DT 0.05
+
 static double control_period(const lc_hub *hub, const bot *b, double stamp)
 {
     const lc_server_config *o = &hub->cfg.opts;
     if (o->period > 0)
         return o->period;
-    double dt = b->has_frame ? stamp - b->stamp : 0.05;
+    double dt = b->has_frame ? stamp - b->stamp : FIRST_DT;
     if (!(dt >= o->dt_min))
         dt = o->dt_min;
     return dt > o->dt_max ? o->dt_max : dt;
@@ -493,7 +496,10 @@ static void start_recording(lc_hub *hub, bot *b)
 {
     if (!hub->cfg.opts.record[0] || lc_recorder_is_open(&b->rec) || b->rec.failed)
         return;
-    if (lc_recorder_open(&b->rec, hub->cfg.opts.record, b->name, &b->desc, &b->route) < 0) {
+    const lc_server_config *o = &hub->cfg.opts;
+    lc_record_control ctl = {.period = o->period, .dt_min = o->dt_min, .dt_max = o->dt_max,
+                             .first_dt = FIRST_DT, .watchdog_ms = o->watchdog_ms};
+    if (lc_recorder_open(&b->rec, o->record, b->name, &b->desc, &b->route, &ctl) < 0) {
         lc_log(LC_LOG_ERROR, "robot %s: cannot record in %s", b->name, hub->cfg.opts.record);
         b->rec.failed = true;
     }
@@ -534,7 +540,7 @@ static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
     b->has_sp = true;
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
     if (rc < 0) {
-        lc_wire_error e;
+        lc_wire_error e = {0};
         lc_wire_error_set(&e, LC_WIRE_INTERNAL, "frame: out of memory while planning (stop sent)");
         e.has_seq = true;
         e.seq = f->seq;
@@ -583,7 +589,7 @@ static bool robot_may_send(lc_msg_type t)
 static void refuse(lc_hub *hub, lc_conn *c, lc_wire_code code, const lc_wire_msg *m,
                    const lc_wire_error *from, double now, const char *fmt, const char *arg)
 {
-    lc_wire_error e;
+    lc_wire_error e = {0};
     lc_wire_error_set(&e, code, fmt, arg);
     if (m->type == LC_MSG_SCAN || m->type == LC_MSG_POINTS) {
         e.has_seq = true;
@@ -650,7 +656,7 @@ static void complete(lc_hub *hub, lc_conn *c, double now)
         return;
     }
     if (c->rx_binary) {
-        lc_wire_error e;
+        lc_wire_error e = {0};
         lc_wire_error_set(&e, LC_WIRE_BINARY, "message: binary messages are not accepted");
         if (c->role == ROLE_NONE)
             send_error_close(hub, c, &e, now);

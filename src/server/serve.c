@@ -23,7 +23,8 @@ char lc_serve_usage[16384];
 
 static const char usage_head[] =
     "usage: lacuna serve [--listen HOST:PORT] [--config FILE] [--web DIR] [--record DIR]\n"
-    "                    [--token-file FILE] [--viewer-token-file FILE] [--print-config]\n"
+    "                    [--token-file FILE] [--viewer-token-file FILE]\n"
+    "                    [--tls-cert FILE --tls-key FILE] [--print-config]\n"
     "                    [--watchdog-ms N] [--log-level L] [other options below]\n"
     "\n"
     "The navigation daemon. Robots connect over a websocket (ws://HOST:PORT/, subprotocol\n"
@@ -44,8 +45,10 @@ static const char usage_head[] =
     "The server listens on 127.0.0.1 unless told otherwise and refuses any other address\n"
     "without a robot token (--token-file). Options (also keys of the --config JSON\n"
     "object; flags override the file):\n"
-    "  --config FILE            JSON object of options\n"
-    "  --print-config           print the effective configuration as JSON and exit\n";
+    "  --config FILE\n"
+    "      JSON object of options, e.g. {\"listen\": \"127.0.0.1:7641\", \"watchdog_ms\": 150}\n"
+    "  --print-config\n"
+    "      print the effective configuration as JSON and exit\n";
 
 __attribute__((constructor)) static void build_usage(void)
 {
@@ -176,6 +179,23 @@ static int check_dirs(lc_server_config *cfg, char *web, size_t n, bool *has_web)
     return 0;
 }
 
+/* dt bounds in order; TLS files both or neither, and readable (libwebsockets'
+ * own message would be vaguer). */
+static int check_values(const lc_server_config *cfg)
+{
+    if (!cfg->tls_cert[0] != !cfg->tls_key[0])
+        return lc_cli_usage_error(CMD, "tls_cert and tls_key: give both or neither");
+    if (cfg->dt_min > cfg->dt_max)
+        return lc_cli_usage_error(CMD, "dt_min: %g is more than dt_max %g", cfg->dt_min,
+                                  cfg->dt_max);
+    const char *files[] = {cfg->tls_cert, cfg->tls_key};
+    for (int i = 0; i < 2 && cfg->tls_cert[0]; i++)
+        if (access(files[i], R_OK) != 0)
+            return lc_cli_usage_error(CMD, "%s: %s: %s", i ? "tls_key" : "tls_cert", files[i],
+                                      strerror(errno));
+    return 0;
+}
+
 int lc_serve(int argc, char **argv)
 {
     static lc_server_config cfg;
@@ -203,7 +223,7 @@ int lc_serve(int argc, char **argv)
                                   "refusing to listen on %s (not a loopback address) without a "
                                   "robot token: give --token-file FILE",
                                   p.listen.host);
-    if ((rc = check_dirs(&cfg, web, sizeof web, &has_web)))
+    if ((rc = check_dirs(&cfg, web, sizeof web, &has_web)) || (rc = check_values(&cfg)))
         return rc;
     lc_log_level level = LC_LOG_INFO;
     lc_log_level_from_name(cfg.log_level, &level);
@@ -213,8 +233,12 @@ int lc_serve(int argc, char **argv)
     p.robot_token = cfg.token_file[0] ? robot_token : NULL;
     p.viewer_token = cfg.viewer_token_file[0] ? viewer_token : NULL;
     p.web_dir = has_web ? web : NULL;
+    p.tls_cert = cfg.tls_cert[0] ? cfg.tls_cert : NULL;
+    p.tls_key = cfg.tls_key[0] ? cfg.tls_key : NULL;
     if (!has_web)
         lc_log(LC_LOG_WARN, "no web directory found: the viewer page is not served");
+    lc_log(LC_LOG_INFO, "not a safety-rated component: keep an independent safety-rated "
+                        "protective stop (see lacuna serve --help)");
     rc = lc_server_run(&p);
     lc_log_close();
     return rc == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;

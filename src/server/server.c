@@ -179,8 +179,26 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
     return rc;
 }
 
+/*
+ * protocols[0] serves the static files; libwebsockets also hands it the
+ * websocket connections that asked for no subprotocol: refuse those rather
+ * than leave them unanswered.
+ */
+static int http_callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
+                         size_t len)
+{
+    if (reason == LWS_CALLBACK_ESTABLISHED) {
+        static const char why[] = "subprotocol lacuna.v1 required";
+        lc_log(LC_LOG_WARN, "websocket without subprotocol %s refused", LC_WIRE_PROTOCOL);
+        lws_close_reason(wsi, LWS_CLOSE_STATUS_POLICY_VIOLATION, (unsigned char *)why,
+                         sizeof why - 1);
+        return -1;
+    }
+    return lws_callback_http_dummy(wsi, reason, user, in, len);
+}
+
 static const struct lws_protocols protocols[] = {
-    {"http", lws_callback_http_dummy, 0, 0, 0, NULL, 0},
+    {"http", http_callback, 0, 0, 0, NULL, 0},
     {LC_WIRE_PROTOCOL, callback, sizeof(struct pss), 65536, 0, NULL, 0},
     {NULL, NULL, 0, 0, 0, NULL, 0},
 };
@@ -264,6 +282,11 @@ static struct lws_context *create_context(server *s, struct lws_http_mount *moun
     info.options = LWS_SERVER_OPTION_DISABLE_IPV6; /* else the iface binds everywhere */
     info.user = s;
     info.fd_limit_per_thread = (unsigned int)(2 * p->cfg->max_connections + 64);
+    if (p->tls_cert) {
+        info.options |= LWS_SERVER_OPTION_DO_SSL_GLOBAL_INIT;
+        info.ssl_cert_filepath = p->tls_cert;
+        info.ssl_private_key_filepath = p->tls_key;
+    }
     if (p->web_dir) {
         memset(mount, 0, sizeof *mount);
         mount->mountpoint = "/";
@@ -281,9 +304,10 @@ static void print_listening(const server *s)
 {
     struct lws_vhost *vh = lws_get_vhost_by_name(s->ctx, "default");
     int port = vh ? lws_get_vhost_listen_port(vh) : s->p->listen.port;
+    const char *tls = s->p->tls_cert ? "s" : "";
     fprintf(stderr,
-            "lacuna serve: listening on http://%s:%d/ (websocket ws://%s:%d/, protocol %s)\n",
-            s->p->listen.host, port, s->p->listen.host, port, LC_WIRE_PROTOCOL);
+            "lacuna serve: listening on http%s://%s:%d/ (websocket ws%s://%s:%d/, protocol %s)\n",
+            tls, s->p->listen.host, port, tls, s->p->listen.host, port, LC_WIRE_PROTOCOL);
     fflush(stderr);
 }
 

@@ -31,6 +31,8 @@ typedef struct lc_server_params {
     const char *robot_token;  /* NULL: none */
     const char *viewer_token; /* NULL: none */
     const char *web_dir;      /* NULL: no static files */
+    const char *tls_cert;     /* NULL: plain ws:// and http:// */
+    const char *tls_key;
 } lc_server_params;
 
 /* Run until SIGINT/SIGTERM. Returns 0, or -1 when the server cannot start. */

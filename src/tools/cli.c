@@ -19,6 +19,7 @@ static const lc_command commands[] = {
     {"replay", "replay a scenario file and compare its setpoints", lc_replay_usage,
      lc_tool_replay},
     {"sim", "simulate a patrol in a scenario's world", lc_sim_usage, lc_tool_sim},
+    {"bench", "time the per-frame plan and the ellipse solver", lc_bench_usage, lc_tool_bench},
     {"check", "stopping-distance advice for a speed, deceleration and sensor range",
      lc_check_usage, lc_tool_check},
 };

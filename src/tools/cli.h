@@ -46,6 +46,8 @@ int lc_tool_replay(int argc, char **argv);
 extern const char lc_replay_usage[];
 int lc_tool_sim(int argc, char **argv);
 extern const char lc_sim_usage[];
+int lc_tool_bench(int argc, char **argv);
+extern const char lc_bench_usage[];
 int lc_tool_check(int argc, char **argv);
 extern const char lc_check_usage[];
 

@@ -6,7 +6,10 @@
  * and second derivatives are written out here on purpose rather than shared
  * with the core solver, so that the reference stays independent of the code
  * it checks. Ipopt is silenced (print_level 0, banner off) and run to tight
- * tolerances, bounds not relaxed, so that an agreement of 1e-6 in log det means something.
+ * tolerances, bounds not relaxed, so that an agreement of 1e-6 in log det
+ * means something. Its start is a small disc near the lines; when that fails
+ * (thin polygons), a second run starts from the Chebyshev centre, found by
+ * Ipopt too.
  */
 #include "ref_mvie.h"
 
@@ -190,23 +193,62 @@ static void ref_start(const ref_problem *p, Number *x)
     x[4] = cy;
 }
 
-static int ref_run(ref_problem *p, lc_ellipse *out, double *logdet)
+/*
+ * Chebyshev centre as a fallback start: max r s.t. a_i . c + r <= b_i, over
+ * (c1, c2, r), also solved by Ipopt. Used when a thin polygon defeats the
+ * plain start.
+ */
+static Bool cheb_f(Index n, Number *x, Bool new_x, Number *f, UserDataPtr data)
 {
-    int n = p->n;
-    Number xl[NV] = {1e-300, -2e19, 1e-300, -2e19, -2e19};
-    Number xu[NV] = {2e19, 2e19, 2e19, 2e19, 2e19};
-    Number *gl = malloc(2 * sizeof(Number) * (size_t)n), *gu = gl + n;
-    if (!gl)
-        return LC_REF_MVIE_FAILED;
-    for (int i = 0; i < n; i++) {
-        gl[i] = -2e19;
-        gu[i] = p->b[i];
+    *f = -x[2];
+    return TRUE;
+}
+
+static Bool cheb_grad_f(Index n, Number *x, Bool new_x, Number *g, UserDataPtr data)
+{
+    g[0] = g[1] = 0.0;
+    g[2] = -1.0;
+    return TRUE;
+}
+
+static Bool cheb_g(Index n, Number *x, Bool new_x, Index m, Number *g, UserDataPtr data)
+{
+    const ref_problem *p = data;
+    for (int i = 0; i < m; i++)
+        g[i] = p->a1[i] * x[0] + p->a2[i] * x[1] + x[2];
+    return TRUE;
+}
+
+static Bool cheb_jac_g(Index n, Number *x, Bool new_x, Index m, Index nele, Index *row,
+                       Index *col, Number *val, UserDataPtr data)
+{
+    const ref_problem *p = data;
+    for (int i = 0; i < m; i++)
+        for (int j = 0; j < 3; j++) {
+            if (!val) {
+                row[i * 3 + j] = i;
+                col[i * 3 + j] = j;
+            } else {
+                val[i * 3 + j] = j == 0 ? p->a1[i] : j == 1 ? p->a2[i] : 1.0;
+            }
+        }
+    return TRUE;
+}
+
+static Bool cheb_h(Index n, Number *x, Bool new_x, Number sigma, Index m, Number *lambda,
+                   Bool new_lambda, Index nele, Index *row, Index *col, Number *val,
+                   UserDataPtr data)
+{
+    if (!val) {
+        row[0] = col[0] = 0;
+        return TRUE;
     }
-    IpoptProblem ip = CreateIpoptProblem(NV, xl, xu, n, gl, gu, n * NV, NH, 0, eval_f, eval_g,
-                                         eval_grad_f, eval_jac_g, eval_h);
-    free(gl);
-    if (!ip)
-        return LC_REF_MVIE_FAILED;
+    val[0] = 0.0;
+    return TRUE;
+}
+
+static void ref_options(IpoptProblem ip, int max_iter)
+{
     AddIpoptIntOption(ip, "print_level", 0);
     AddIpoptStrOption(ip, "sb", "yes");
     AddIpoptNumOption(ip, "tol", 1e-12);
@@ -214,13 +256,83 @@ static int ref_run(ref_problem *p, lc_ellipse *out, double *logdet)
     /* By default Ipopt relaxes every bound by 1e-8 and answers a slightly
      * larger, infeasible ellipse: keep the constraints exact. */
     AddIpoptNumOption(ip, "bound_relax_factor", 0.0);
-    AddIpoptIntOption(ip, "max_iter", 1000);
+    AddIpoptIntOption(ip, "max_iter", max_iter);
     AddIpoptStrOption(ip, "mu_strategy", "adaptive");
+    /* MUMPS reserves 10 times its workspace estimate by default: far more
+     * than five unknowns need, and slow under MALLOC_PERTURB_ */
+    AddIpoptIntOption(ip, "mumps_mem_percent", 100);
+}
+
+static bool ref_ok(int st) { return st == Solve_Succeeded || st == Solved_To_Acceptable_Level; }
+
+/* Constraint bounds g_i <= b_i (no lower bound); caller frees. */
+static Number *ref_bounds(const ref_problem *p)
+{
+    Number *gl = malloc(2 * sizeof(Number) * (size_t)p->n);
+    if (gl)
+        for (int i = 0; i < p->n; i++) {
+            gl[i] = -2e19;
+            gl[p->n + i] = p->b[i];
+        }
+    return gl;
+}
+
+/* Disc at the Chebyshev centre, half its radius, into x. */
+static bool ref_cheb_start(ref_problem *p, Number *x)
+{
+    Number xl[3] = {-2e19, -2e19, 0.0}, xu[3] = {2e19, 2e19, 2e19};
+    Number *gl = ref_bounds(p);
+    if (!gl)
+        return false;
+    IpoptProblem ip = CreateIpoptProblem(3, xl, xu, p->n, gl, gl + p->n, 3 * p->n, 1, 0,
+                                         cheb_f, cheb_g, cheb_grad_f, cheb_jac_g, cheb_h);
+    free(gl);
+    if (!ip)
+        return false;
+    ref_options(ip, 1000);
+    Number c[3] = {x[3], x[4], 0.0}, obj = 0.0;
+    int st = IpoptSolve(ip, c, NULL, &obj, NULL, NULL, NULL, p);
+    FreeIpoptProblem(ip);
+    if (!ref_ok(st) || !(c[2] > 0.0))
+        return false;
+    x[0] = x[2] = 0.5 * c[2];
+    x[1] = 0.0;
+    x[3] = c[0];
+    x[4] = c[1];
+    return true;
+}
+
+/* One Ipopt run of the ellipse problem from x. */
+static int ref_ellipse_run(ref_problem *p, Number *x, int max_iter, Number *obj)
+{
+    Number xl[NV] = {1e-300, -2e19, 1e-300, -2e19, -2e19};
+    Number xu[NV] = {2e19, 2e19, 2e19, 2e19, 2e19};
+    Number *gl = ref_bounds(p);
+    if (!gl)
+        return Insufficient_Memory;
+    IpoptProblem ip = CreateIpoptProblem(NV, xl, xu, p->n, gl, gl + p->n, p->n * NV, NH, 0,
+                                         eval_f, eval_g, eval_grad_f, eval_jac_g, eval_h);
+    free(gl);
+    if (!ip)
+        return Invalid_Problem_Definition;
+    ref_options(ip, max_iter);
+    int st = IpoptSolve(ip, x, NULL, obj, NULL, NULL, NULL, p);
+    FreeIpoptProblem(ip);
+    return st;
+}
+
+static int ref_run(ref_problem *p, lc_ellipse *out, double *logdet)
+{
     Number x[NV], obj = 0.0;
     ref_start(p, x);
-    int st = IpoptSolve(ip, x, NULL, &obj, NULL, NULL, NULL, p);
-    FreeIpoptProblem(ip);
-    if (st != Solve_Succeeded && st != Solved_To_Acceptable_Level)
+    int st = ref_ellipse_run(p, x, 300, &obj);
+    if (!ref_ok(st)) {
+        ref_start(p, x);
+        if (!ref_cheb_start(p, x))
+            return LC_REF_MVIE_FAILED;
+        st = ref_ellipse_run(p, x, 1000, &obj);
+    }
+    if (!ref_ok(st))
         return LC_REF_MVIE_FAILED;
     *out = (lc_ellipse){x[0], x[1], x[2], {x[3], x[4]}};
     if (logdet)

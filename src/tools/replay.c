@@ -141,6 +141,8 @@ typedef struct replay {
     lc_session *s;
     lc_model model;
     double first_dt, prev_stamp;
+    lc_scenario_control ctl; /* the recording server's dt rule, when present */
+    bool resting;            /* the watchdog stopped the robot: restart from rest */
     bool first;
     bool pending;        /* a produced setpoint waits for its recorded line */
     lc_wire_setpoint produced;
@@ -256,9 +258,27 @@ static void progress(replay *r)
     fprintf(stderr, "\rlacuna replay: %ld frames", r->frames);
 }
 
+/* lacuna serve's rule (recorded in the header's "control"): a fixed period,
+ * or the stamp difference clamped to [dt_min, dt_max]. */
+static double server_dt(const lc_scenario_control *c, bool first, double prev, double stamp)
+{
+    if (c->period > 0)
+        return c->period;
+    double dt = first ? c->first_dt : stamp - prev;
+    if (!(dt >= c->dt_min))
+        dt = c->dt_min;
+    return dt > c->dt_max ? c->dt_max : dt;
+}
+
 static int on_frame(replay *r, const lc_frame *f)
 {
-    double dt = lc_replay_dt(r->first, r->prev_stamp, f->stamp, r->first_dt);
+    double dt = r->ctl.present ? server_dt(&r->ctl, r->first, r->prev_stamp, f->stamp)
+                               : lc_replay_dt(r->first, r->prev_stamp, f->stamp, r->first_dt);
+    if (r->resting) {
+        lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_STALE);
+        lc_session_set_velocity(r->s, &rest);
+        r->resting = false;
+    }
     r->first = false;
     r->prev_stamp = f->stamp;
     lc_plan_result res;
@@ -296,6 +316,8 @@ static int on_message(replay *r, const lc_wire_msg *m, int line)
             return 0;
         if (r->pending)
             compare(r, r->o->file, line, &m->u.setpoint);
+        else if (m->u.setpoint.state == LC_STATE_STALE)
+            r->resting = true; /* the server's watchdog: the next frame starts from rest */
         else if (r->unpaired++ == 0)
             fprintf(stderr, "lacuna replay: %s:%d: setpoint without a frame before it\n",
                     r->o->file, line);
@@ -392,6 +414,9 @@ static int run_messages(replay *r, lc_scenario_reader *rd)
         fputc('\n', stderr);
     if (rc < 0)
         return lc_cli_usage_error("replay", "%s:%d: %s", r->o->file, err.line, err.message);
+    if (r->o->expect && r->n_exp != r->frames)
+        fprintf(stderr, "lacuna replay: %s holds %d setpoints for %ld frames (%ld compared)\n",
+                r->o->expect, r->n_exp, r->frames, r->compared);
     return 0;
 }
 
@@ -402,6 +427,7 @@ static int replay_run(replay *r, lc_scenario_reader *rd, const lc_scenario_heade
         return lc_cli_fail("replay", "out of memory");
     r->model = h->robot.model;
     r->first_dt = lc_scenario_first_dt(h);
+    r->ctl = h->control;
     r->first = true;
     r->t_start = wall_us(NULL);
     int rc = 0;

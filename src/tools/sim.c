@@ -10,7 +10,8 @@
  * checked against the world: clearance = lc_world_distance - radius; a
  * collision is each time the clearance goes below zero.
  *
- * The run ends when the route is done, when the robot has been `blocked`
+ * The run ends when the route is done (a looping route: once its last
+ * waypoint has been reached, the "lap" event), when the robot has been `blocked`
  * or `too_close` (the session then stops it entirely) for BLOCKED_HOLD s
  * without a break (the world is static: it stays so; outcome "blocked"
  * when a `blocked` frame came in that time, else "stuck"), or at the time limit (outcome "timeout"; --max-time,
@@ -54,8 +55,9 @@ const char lc_sim_usage[] =
     "stdout: {\"done\":b,\"waypoints_reached\":n,\"collisions\":n,\n"
     "\"min_clearance\":m,\"path_length\":m,\"sim_time\":s,\"frames\":n,...}\n"
     "exit status: 0 when the header's expectation is met without a collision\n"
-    "(expect \"done\", the default: the route finished; expect \"blocked\": the\n"
-    "run ended blocked), 1 otherwise, 2 bad usage or file.\n";
+    "(expect \"done\", the default: the route finished, a looping route once\n"
+    "round; expect \"blocked\": the run ended blocked), 1 otherwise, 2 bad\n"
+    "usage or file.\n";
 
 #define SUBSTEP_MAX 0.001 /* s */
 #define BLOCKED_HOLD 3.0  /* s */
@@ -76,6 +78,7 @@ static const char *const outcome_names[] = {"done", "blocked", "stuck", "timeout
 typedef struct sim_metrics {
     outcome end;
     int reached, collisions;
+    bool lapped; /* a looping route came round once */
     long frames;
     double min_clearance, path_length, sim_time;
     double *us;  /* per-frame compute time */
@@ -255,9 +258,10 @@ static void count(sim *sm, const lc_plan_result *res)
         m->states[res->state]++;
     if (res->setpoint.limit >= 0 && res->setpoint.limit < LC_LIMIT_COUNT)
         m->limits[res->setpoint.limit]++;
-    for (int i = 0; i < res->n_events; i++)
-        if (res->events[i].kind == LC_EVENT_REACHED)
-            m->reached++;
+    for (int i = 0; i < res->n_events; i++) {
+        m->reached += res->events[i].kind == LC_EVENT_REACHED;
+        m->lapped = m->lapped || res->events[i].kind == LC_EVENT_LAP;
+    }
 }
 
 /* One control period; 1 when the run ends, 0 to go on, <0 on failure. */
@@ -276,7 +280,7 @@ static int period_step(sim *sm, long k, double period, double *blocked_since, do
     if (record(sm, &f, &res) < 0)
         return -2;
     sm->m.sim_time = stamp;
-    if (res.state == LC_STATE_DONE) {
+    if (res.state == LC_STATE_DONE || sm->m.lapped) {
         sm->m.end = OUT_DONE;
         return 1;
     }

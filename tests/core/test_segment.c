@@ -58,6 +58,7 @@ static int polyline_scan(lc_cloud *c, const lc_vec2 *pl, int np, double a0, doub
     }
     c->n = n;
     c->ordered = true;
+    c->angle_step = (a1 - a0) / (beams - 1);
     return n;
 }
 
@@ -134,6 +135,7 @@ static void test_depth_jump_breaks(void **state)
     }
     c.n = 200;
     c.ordered = true;
+    c.angle_step = 0.005;
     lc_segment_config cfg;
     lc_segment_config_default(&cfg);
     cfg.split_width = 10; /* only the breakpoint can separate them */
@@ -142,6 +144,33 @@ static void test_depth_jump_breaks(void **state)
     assert_int_equal(lc_segment(&c, &cfg, &ws, NULL), 2);
     assert_int_equal(ws.piece_count[0], 100);
     assert_int_equal(ws.piece_count[1], 100);
+    lc_segment_ws_free(&ws, NULL);
+    lc_cloud_free(&c, NULL);
+}
+
+/* Two returns 9 degrees apart with the beams between them empty: the
+ * Borges-Aldon threshold alone grows without bound as dphi nears lambda and
+ * would link them; the empty beams saw through the gap, so they break. */
+static void test_empty_beams_break(void **state)
+{
+    lc_cloud c;
+    alloc_cloud(&c, 2);
+    double step = 0.25 * LC_PI / 180.0;
+    c.world[0] = lc_scale(lc_unit_angle(0), 10.0);
+    c.world[1] = lc_scale(lc_unit_angle(36 * step), 12.0);
+    c.range[0] = 10.0;
+    c.range[1] = 12.0;
+    c.bearing[0] = 0;
+    c.bearing[1] = 36 * step;
+    c.n = 2;
+    c.ordered = true;
+    c.angle_step = step;
+    lc_segment_config cfg;
+    lc_segment_config_default(&cfg);
+    assert_true(lc_breakpoint_threshold(10.0, 36 * step, cfg.lambda, cfg.sigma_r) >
+                lc_dist(c.world[0], c.world[1]));
+    lc_segment_ws ws = {0};
+    assert_int_equal(lc_segment(&c, &cfg, &ws, NULL), 2);
     lc_segment_ws_free(&ws, NULL);
     lc_cloud_free(&c, NULL);
 }
@@ -249,6 +278,7 @@ int main(void)
         cmocka_unit_test(test_breakpoint_check_values),
         cmocka_unit_test(test_room_corner_split),
         cmocka_unit_test(test_depth_jump_breaks),
+        cmocka_unit_test(test_empty_beams_break),
         cmocka_unit_test(test_degenerate),
         cmocka_unit_test(test_unordered_random),
         cmocka_unit_test(test_no_alloc_when_warm),

@@ -28,6 +28,7 @@ PROTO = ["lacuna.v1"]
 T = 5.0  # s, every single wait
 FIGURES = {}
 FAILED = []
+SERVERS = []
 
 
 def check(cond, what):
@@ -50,13 +51,15 @@ class Server:
             if not line:
                 break
             self.lines.append(line)
-            if "listening on http://127.0.0.1:" in line:
-                self.port = int(line.split("http://127.0.0.1:")[1].split("/")[0])
+            if "listening on http" in line and "://127.0.0.1:" in line:
+                self.port = int(line.split("://127.0.0.1:")[1].split("/")[0])
+                self.tls = "listening on https://" in line
                 break
         if self.port is None:
             raise RuntimeError("server did not start: " + "".join(self.lines))
         threading.Thread(target=self._drain, daemon=True).start()
-        self.url = "ws://127.0.0.1:%d/" % self.port
+        SERVERS.append(self)
+        self.url = "ws%s://127.0.0.1:%d/" % ("s" if self.tls else "", self.port)
 
     def _drain(self):
         for line in self.proc.stderr:
@@ -73,9 +76,19 @@ class Server:
         return self.proc.returncode
 
 
+def insecure_tls():
+    """The test certificate is self-signed: accept it without verification."""
+    import ssl
+    ctx = ssl.SSLContext(ssl.PROTOCOL_TLS_CLIENT)
+    ctx.check_hostname = False
+    ctx.verify_mode = ssl.CERT_NONE
+    return ctx
+
+
 async def connect(url):
+    extra = {"ssl": insecure_tls()} if url.startswith("wss:") else {}
     return await websockets.connect(url, subprotocols=PROTO, max_size=None, open_timeout=T,
-                                    close_timeout=T)
+                                    close_timeout=T, **extra)
 
 
 async def recv(ws, timeout=T):
@@ -113,39 +126,19 @@ async def closed(ws, timeout=T):
 
 # ------------------------------------------------------------ a tiny scene
 
-# Invented scene: a corridor (walls at y = -1.5 and y = 1.5) with a pillar
-# just off the straight line from (0, 0) to the waypoint (6, 0).
-SEGMENTS = []
+# The scene, the ray caster and the scan builder of the integrator's example
+# (proto/client_example.py): the test drives the same code it documents.
+HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.join(HERE, "..", "..", "proto"))
+import client_example as example  # noqa: E402
 
-
-def box(x0, y0, x1, y1):
-    c = [(x0, y0), (x1, y0), (x1, y1), (x0, y1)]
-    return [(c[i], c[(i + 1) % 4]) for i in range(4)]
-
-
-SEGMENTS += box(-1.0, -1.7, 8.0, -1.5) + box(-1.0, 1.5, 8.0, 1.7) + box(2.6, 0.1, 3.0, 0.5)
-RADIUS = 0.3
-BEAMS, FOV, RMAX = 121, 2 * math.pi * 0.75, 8.0
-
-
-def ray(px, py, ang):
-    dx, dy = math.cos(ang), math.sin(ang)
-    best = None
-    for (ax, ay), (bx, by) in SEGMENTS:
-        ex, ey = bx - ax, by - ay
-        den = dx * ey - dy * ex
-        if abs(den) < 1e-12:
-            continue
-        t = ((ax - px) * ey - (ay - py) * ex) / den
-        u = ((ax - px) * dy - (ay - py) * dx) / den
-        if t > 0 and 0 <= u <= 1 and (best is None or t < best):
-            best = t
-    return best if best is not None and best <= RMAX else None
+SEGMENTS = example.SCENE
+RADIUS = example.ROBOT["radius"]
 
 
 def clearance(px, py):
     best = 1e9
-    for (ax, ay), (bx, by) in SEGMENTS:
+    for ax, ay, bx, by in SEGMENTS:
         ex, ey = bx - ax, by - ay
         t = max(0.0, min(1.0, ((px - ax) * ex + (py - ay) * ey) / (ex * ex + ey * ey)))
         best = min(best, math.hypot(px - ax - t * ex, py - ay - t * ey))
@@ -153,11 +146,7 @@ def clearance(px, py):
 
 
 def scan(seq, stamp, pose):
-    a0 = -FOV / 2
-    step = FOV / (BEAMS - 1)
-    return {"type": "scan", "seq": seq, "stamp": stamp, "pose": list(pose),
-            "angle_start": a0, "angle_step": step, "range_min": 0.05, "range_max": RMAX,
-            "ranges": [ray(pose[0], pose[1], pose[2] + a0 + i * step) for i in range(BEAMS)]}
+    return example.scan(SEGMENTS, seq, stamp, pose)
 
 
 def far_scan(seq, stamp):
@@ -231,9 +220,8 @@ async def test_roles_and_names(srv):
 async def closed_loop(url, name):
     """Drive the scene; returns (reached, min clearance, round trips, ws, last seq)."""
     ws, m = await hello(url, name)
-    await ws.send(json.dumps({"type": "robot", "model": "point", "radius": RADIUS,
-                              "margin": 0.05, "v_max": 0.8, "a_max": 0.8}))
-    await ws.send(json.dumps({"type": "route", "waypoints": [[6.0, 0.0]], "tolerance": 0.25}))
+    await ws.send(json.dumps(example.ROBOT))
+    await ws.send(json.dumps({"type": "route", "waypoints": example.ROUTE, "tolerance": 0.25}))
     x, y, yaw = 0.0, 0.0, 0.0
     dt = 0.05
     done = False
@@ -251,10 +239,7 @@ async def closed_loop(url, name):
                 break
             check(m["type"] in ("event", "setpoint"), "closed loop: unexpected %s" % m)
         rtts.append(time.monotonic() - t0)
-        # point model: (vx, vy) in the robot frame
-        c, s = math.cos(yaw), math.sin(yaw)
-        x += (c * m["vx"] - s * m["vy"]) * dt
-        y += (s * m["vx"] + c * m["vy"]) * dt
+        x, y, yaw = example.drive((x, y, yaw), m, dt)
         min_clear = min(min_clear, clearance(x, y) - RADIUS)
         if done or m["state"] == "done":
             done = True
@@ -461,7 +446,11 @@ async def test_recording(tmp):
     await ws.send(json.dumps({"type": "robot", "radius": 0.25}))
     await ws.send(json.dumps({"type": "route", "waypoints": [[3, 0], [3, 1]]}))
     for seq in range(1, 21):
-        await ws.send(json.dumps(scan(seq, seq * 0.05, (0, 0, 0))))
+        if seq == 11:
+            # a pause past the watchdog: stale stops are recorded, and the
+            # run restarts from rest, which replay must reproduce
+            await asyncio.sleep(0.5)
+        await ws.send(json.dumps(scan(seq, seq * 0.05 + (0.5 if seq > 10 else 0), (0, 0, 0))))
         await recv_type(ws, "setpoint")
     srv.proc.send_signal(signal.SIGKILL)
     srv.proc.wait(10)
@@ -488,7 +477,19 @@ async def test_recording(tmp):
     check(kinds.count("scan") == 20 and kinds.count("setpoint") >= 20,
           "recording holds 20 scans and their setpoints (%d, %d)"
           % (kinds.count("scan"), kinds.count("setpoint")))
+    check(any(p.get("type") == "setpoint" and p.get("state") == "stale" for p in parsed),
+          "the watchdog's stale stops are in the recording")
     FIGURES["recording_lines"] = len(complete)
+    # what was recorded replays to the same setpoints (lacuna replay, same core step)
+    r = subprocess.run([EXE, "replay", files[0], "--json"], capture_output=True, text=True,
+                       timeout=60)
+    try:
+        out = json.loads(r.stdout)
+    except ValueError:
+        out = {}
+    check(r.returncode == 0 and out.get("mismatches") == 0 and out.get("compared") == 20,
+          "replay of the recording: exit %d, %s %s" % (r.returncode, r.stdout.strip(),
+                                                        r.stderr.strip()[-500:]))
 
 
 def other_address():
@@ -536,20 +537,130 @@ def test_loopback_trap(srv):
           "non-loopback without a token: exit %d, %r" % (r.returncode, r.stderr.strip()))
 
 
+async def test_http_and_subprotocol(srv):
+    import urllib.request
+    with urllib.request.urlopen("http://127.0.0.1:%d/" % srv.port, timeout=T) as r:
+        body = r.read().decode()
+        check(r.status == 200 and "<html" in body.lower(), "viewer page served at /")
+    ws = await websockets.connect(srv.url, open_timeout=T)  # no subprotocol
+    try:
+        await ws.send(json.dumps({"type": "hello", "role": "viewer"}))
+    except websockets.ConnectionClosed:
+        pass  # closed already at the handshake's end
+    check(await closed(ws), "a websocket without subprotocol lacuna.v1 is closed")
+    check(ws.close_code == 1008, "no subprotocol: close code %s, want 1008" % ws.close_code)
+
+
+def test_client_example(srv):
+    r = subprocess.run([sys.executable, os.path.join(HERE, "..", "..", "proto", "client_example.py"),
+                        "--url", srv.url, "--quiet"], capture_output=True, text=True, timeout=60)
+    check(r.returncode == 0 and "route done" in r.stdout,
+          "proto/client_example.py: exit %d, %r %r" % (r.returncode, r.stdout[-300:], r.stderr[-300:]))
+
+
+async def test_sighup(tmp):
+    log = os.path.join(tmp, "serve.log")
+    rec = os.path.join(tmp, "hup")
+    srv = Server("--log-file", log, "--record", rec)
+    try:
+        ws, m = await hello(srv.url, "hup")
+        await ws.send(json.dumps(far_scan(1, 0.0)))
+        await recv_type(ws, "setpoint")
+        files = os.listdir(rec)
+        check(len(files) == 1, "SIGHUP: one recording before rotation")
+        path = os.path.join(rec, files[0])
+        os.rename(path, path + ".1")
+        os.rename(log, log + ".1")
+        srv.proc.send_signal(signal.SIGHUP)
+        await asyncio.sleep(0.5)
+        await ws.send(json.dumps(far_scan(2, 0.05)))
+        await recv_type(ws, "setpoint")
+        await asyncio.sleep(0.2)
+        with open(path) as f:
+            lines = [json.loads(x) for x in f.read().split("\n")[:-1]]
+        check(lines and lines[0]["type"] == "scenario", "SIGHUP: the new recording starts with a header")
+        check(any(x.get("seq") == 2 for x in lines), "SIGHUP: the new recording goes on")
+        check(os.path.exists(log), "SIGHUP: the log file was reopened")
+        await ws.close()
+    finally:
+        check(srv.stop() == 0, "SIGHUP server exits 0")
+
+
+async def test_tls(tmp):
+    import shutil
+    if not shutil.which("openssl"):
+        print("openssl missing: TLS check skipped", flush=True)
+        return
+    cert, key = os.path.join(tmp, "cert.pem"), os.path.join(tmp, "key.pem")
+    r = subprocess.run(["openssl", "req", "-x509", "-newkey", "rsa:2048", "-nodes", "-days", "2",
+                        "-subj", "/CN=127.0.0.1", "-keyout", key, "-out", cert],
+                       capture_output=True, timeout=60)
+    if not check(r.returncode == 0, "openssl made a test certificate"):
+        return
+    srv = Server("--tls-cert", cert, "--tls-key", key)
+    try:
+        check(srv.url.startswith("wss://"), "TLS server announces https/wss")
+        ws, m = await hello(srv.url, "sealed")
+        check(m["type"] == "welcome", "hello over wss://: welcome")
+        await ws.send(json.dumps(far_scan(1, 0.0)))
+        m = await recv_type(ws, "setpoint")
+        check(m["seq"] == 1, "setpoint over wss://")
+        await ws.close()
+    finally:
+        check(srv.stop() == 0, "TLS server exits 0")
+    r = subprocess.run([EXE, "serve", "--listen", "127.0.0.1:0", "--tls-cert", cert],
+                       capture_output=True, text=True, timeout=10)
+    check(r.returncode == 2, "--tls-cert without --tls-key: exit 2")
+
+
+async def test_max_connections():
+    srv = Server("--max-connections", "2")
+    try:
+        a, _ = await hello(srv.url, "one")
+        b, _ = await hello(srv.url, "two")
+        refused = False
+        try:
+            c = await connect(srv.url)
+            await c.send(json.dumps({"type": "hello", "role": "robot", "robot": "three"}))
+            m = await recv(c)
+            refused = False
+        except (websockets.InvalidHandshake, websockets.ConnectionClosed, OSError):
+            refused = True
+        check(refused, "max_connections 2: the third connection is refused")
+        await a.close()
+        await asyncio.sleep(0.3)
+        c, m = await hello(srv.url, "three")
+        check(m["type"] == "welcome", "a free slot is used again")
+        await b.close()
+        await c.close()
+    finally:
+        check(srv.stop() == 0, "max_connections server exits 0")
+
+
 async def main():
     with tempfile.TemporaryDirectory() as tmp:
         srv = Server("--log-level", "warn")
         try:
             test_loopback_trap(srv)
             await test_roles_and_names(srv)
+            await test_http_and_subprotocol(srv)
             await test_closed_loop_and_watchdog(srv)
             await test_views(srv)
             await test_catalogue(srv)
+            test_client_example(srv)
         finally:
             check(srv.stop() == 0, "main server exits 0 on SIGTERM")
         await test_tokens(tmp)
         await test_sigterm()
         await test_recording(tmp)
+        await test_sighup(tmp)
+        await test_max_connections()
+        await test_tls(tmp)
+    time.sleep(0.2)  # the drain threads catch the last lines
+    for srv in SERVERS:
+        text = "".join(srv.lines)
+        check("runtime error" not in text and "Sanitizer" not in text,
+              "server stderr is free of sanitizer reports:\n" + text[-3000:])
     print("figures:", json.dumps(FIGURES), flush=True)
     if FAILED:
         print("%d check(s) failed" % len(FAILED), flush=True)

@@ -20,6 +20,7 @@
 
 #include "codec.h"
 #include "config.h"
+#include "recorder.h"
 #include "robots.h"
 #include "server.h"
 
@@ -452,6 +453,70 @@ static void test_hub_max_connections(void **state)
     lc_hub_free(hub);
 }
 
+/* ----------------------------------------------------------- recorder */
+
+static char *slurp(const char *path)
+{
+    FILE *f = fopen(path, "rb");
+    assert_non_null(f);
+    static char buf[8192];
+    size_t n = fread(buf, 1, sizeof buf - 1, f);
+    buf[n] = '\0';
+    fclose(f);
+    return buf;
+}
+
+static void test_recorder(void **state)
+{
+    char dir[] = "/tmp/lacuna-rec-XXXXXX";
+    assert_non_null(mkdtemp(dir));
+    lc_robot robot;
+    lc_route route;
+    lc_robot_default(&robot);
+    lc_route_default(&route);
+    route.count = 1;
+    route.waypoints[0] = lc_v2(2.5, -1.0);
+    lc_record_control ctl = {0, 0.005, 0.2, 0.05, 200};
+    lc_recorder rec;
+    assert_int_equal(lc_recorder_open(&rec, dir, "r-1", &robot, &route, &ctl), 0);
+    assert_int_equal(lc_recorder_line(&rec, "{\"type\":\"x\"}", 12), 0);
+    /* every line is on disk before close (flushed per line) */
+    char *text = slurp(rec.path);
+    char *nl = strchr(text, '\n');
+    assert_non_null(nl);
+    cJSON *h = cJSON_ParseWithLength(text, (size_t)(nl - text));
+    assert_non_null(h);
+    assert_string_equal(str(h, "type"), "scenario");
+    assert_near(num(h, "version"), 1, 0);
+    const cJSON *r = cJSON_GetObjectItemCaseSensitive(h, "robot");
+    assert_near(num(r, "radius"), robot.radius, 0);
+    assert_null(cJSON_GetObjectItemCaseSensitive(r, "type"));
+    const cJSON *c = cJSON_GetObjectItemCaseSensitive(h, "control");
+    assert_near(num(c, "dt_max"), 0.2, 0);
+    cJSON_Delete(h);
+    assert_string_equal(nl + 1, "{\"type\":\"x\"}\n");
+    /* rotated away: the reopened file starts with the header again */
+    char moved[4200];
+    snprintf(moved, sizeof moved, "%s.1", rec.path);
+    assert_int_equal(rename(rec.path, moved), 0);
+    assert_int_equal(lc_recorder_reopen(&rec, &robot, &route), 0);
+    assert_int_equal(lc_recorder_line(&rec, "{}", 2), 0);
+    text = slurp(rec.path);
+    assert_true(strncmp(text, "{\"type\":\"scenario\",", 19) == 0);
+    char path[4200];
+    snprintf(path, sizeof path, "%s", rec.path);
+    lc_recorder_close(&rec);
+    /* a second session of the same name gets its own file */
+    lc_recorder rec2;
+    assert_int_equal(lc_recorder_open(&rec2, dir, "r-1", &robot, &route, &ctl), 0);
+    assert_string_not_equal(rec2.path, path);
+    unlink(rec2.path);
+    lc_recorder_close(&rec2);
+    unlink(path);
+    unlink(moved);
+    rmdir(dir);
+}
+
 /* ------------------------------------------------------- end to end */
 
 static void test_end_to_end(void **state)
@@ -493,6 +558,7 @@ int main(void)
         cmocka_unit_test(test_hub_flood_and_hello_timeout),
         cmocka_unit_test(test_hub_shutdown),
         cmocka_unit_test(test_hub_max_connections),
+        cmocka_unit_test(test_recorder),
         cmocka_unit_test(test_end_to_end),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -1,0 +1,119 @@
+#!/usr/bin/env python3
+"""A robot client for `lacuna serve`: the integrator's starting point.
+
+It connects to ws://HOST:PORT/ with the subprotocol lacuna.v1, says hello
+(with the robot token when the server wants one), describes the robot,
+sends a route, then streams laser scans of a tiny built-in scene (an
+invented corridor with one pillar) and drives a simulated point robot with
+the setpoints it gets back, printing each one. A real robot replaces
+`scan()` with its scanner and `drive()` with its motor interface, and
+keeps its own safety-rated protective stop: lacuna is not a safety-rated
+component (see `lacuna serve --help`).
+
+    lacuna serve &
+    python3 proto/client_example.py --url ws://127.0.0.1:7640/ [--token-file FILE]
+
+Needs python3-websockets (Debian package). Exit 0 when the route is done.
+"""
+import argparse
+import asyncio
+import json
+import math
+import sys
+
+import websockets
+
+# The scene: walls as segments (x0, y0, x1, y1), world frame, metres.
+def box(x0, y0, x1, y1):
+    c = [(x0, y0), (x1, y0), (x1, y1), (x0, y1)]
+    return [(*c[i], *c[(i + 1) % 4]) for i in range(4)]
+
+
+SCENE = box(-1.0, -1.7, 8.0, -1.5) + box(-1.0, 1.5, 8.0, 1.7) + box(2.6, 0.1, 3.0, 0.5)
+ROUTE = [[6.0, 0.0]]
+ROBOT = {"type": "robot", "model": "point", "radius": 0.3, "margin": 0.05, "v_max": 0.8,
+         "a_max": 0.8}
+BEAMS, FOV, RANGE_MAX, PERIOD = 121, 1.5 * math.pi, 8.0, 0.05  # beams, rad, m, s
+
+
+def ray(segments, px, py, ang, rmax):
+    """Distance to the first segment hit along the ray, or None (no return)."""
+    dx, dy = math.cos(ang), math.sin(ang)
+    best = None
+    for ax, ay, bx, by in segments:
+        ex, ey = bx - ax, by - ay
+        den = dx * ey - dy * ex
+        if abs(den) < 1e-12:
+            continue
+        t = ((ax - px) * ey - (ay - py) * ex) / den
+        u = ((ax - px) * dy - (ay - py) * dx) / den
+        if t > 0 and 0 <= u <= 1 and (best is None or t < best):
+            best = t
+    return best if best is not None and best <= rmax else None
+
+
+def scan(segments, seq, stamp, pose):
+    """A scan message as the robot's scanner would send it (sensor at the centre)."""
+    a0, step = -FOV / 2, FOV / (BEAMS - 1)
+    return {"type": "scan", "seq": seq, "stamp": stamp, "pose": list(pose),
+            "angle_start": a0, "angle_step": step, "range_min": 0.05,
+            "range_max": RANGE_MAX,
+            "ranges": [ray(segments, pose[0], pose[1], pose[2] + a0 + i * step, RANGE_MAX)
+                       for i in range(BEAMS)]}
+
+
+def drive(pose, sp, dt):
+    """Integrate a point-model setpoint (vx, vy in the robot frame) for dt."""
+    x, y, yaw = pose
+    c, s = math.cos(yaw), math.sin(yaw)
+    return (x + (c * sp["vx"] - s * sp["vy"]) * dt, y + (s * sp["vx"] + c * sp["vy"]) * dt, yaw)
+
+
+async def run(url, name, token, frames, quiet):
+    async with websockets.connect(url, subprotocols=["lacuna.v1"], max_size=None) as ws:
+        hello = {"type": "hello", "role": "robot", "robot": name}
+        if token:
+            hello["token"] = token
+        await ws.send(json.dumps(hello))
+        welcome = json.loads(await ws.recv())
+        if welcome["type"] != "welcome":
+            print("refused:", welcome, file=sys.stderr)
+            return 1
+        await ws.send(json.dumps(ROBOT))
+        await ws.send(json.dumps({"type": "route", "waypoints": ROUTE, "tolerance": 0.25}))
+        pose = (0.0, 0.0, 0.0)
+        for seq in range(1, frames + 1):
+            await ws.send(json.dumps(scan(SCENE, seq, seq * PERIOD, pose)))
+            while True:  # events may come before the setpoint of this frame
+                m = json.loads(await ws.recv())
+                if m["type"] == "error":
+                    print("error:", m, file=sys.stderr)
+                elif m["type"] == "event":
+                    print("event %s waypoint %s" % (m["event"], m["waypoint"]))
+                elif m["type"] == "setpoint" and m["seq"] == seq:
+                    break
+            if not quiet:
+                print("seq %d pose (%.2f, %.2f) setpoint vx %.3f vy %.3f state %s limit %s"
+                      % (seq, pose[0], pose[1], m["vx"], m["vy"], m["state"], m["limit"]))
+            pose = drive(pose, m, PERIOD)
+            if m["state"] == "done":
+                print("route done after %d frames at (%.2f, %.2f)" % (seq, pose[0], pose[1]))
+                return 0
+        print("route not done after %d frames" % frames, file=sys.stderr)
+        return 1
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--url", default="ws://127.0.0.1:7640/")
+    ap.add_argument("--name", default="example-rover")
+    ap.add_argument("--token-file", help="file holding the robot token")
+    ap.add_argument("--frames", type=int, default=600)
+    ap.add_argument("--quiet", action="store_true", help="print events and the end only")
+    a = ap.parse_args()
+    token = open(a.token_file).read().strip() if a.token_file else None
+    return asyncio.run(run(a.url, a.name, token, a.frames, a.quiet))
+
+
+if __name__ == "__main__":
+    sys.exit(main())

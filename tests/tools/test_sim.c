@@ -1,0 +1,328 @@
+/*
+ * test_sim.c - `lacuna sim` through the built command (LACUNA_EXE):
+ *   - every shipped scenario (every .jsonl under scenarios/) meets its header's
+ *     expectation without a collision: the route done, or, for
+ *     "expect":"blocked", blocked in front of the unreachable waypoint;
+ *   - closed forms (plane geometry): a point robot driving straight down a
+ *     corridor keeps clearance half width - radius, and stops within one
+ *     control period past tolerance short of its waypoint; a start pose
+ *     closer to a wall than the radius is one collision whose clearance is
+ *     distance - radius;
+ *   - the same seed repeats a run byte for byte, another seed does not;
+ *   - bad usage and bad files exit 2.
+ */
+#include "testutil.h"
+
+#include <dirent.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <cjson/cJSON.h>
+
+#include "scenario.h"
+
+static char tmpdir[256];
+
+static int setup(void **state)
+{
+    snprintf(tmpdir, sizeof tmpdir, "/tmp/lacuna_test_sim_XXXXXX");
+    return mkdtemp(tmpdir) ? 0 : -1;
+}
+
+static int teardown(void **state)
+{
+    char cmd[512];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", tmpdir);
+    return system(cmd) == 0 ? 0 : -1;
+}
+
+static const char *tmp(const char *name)
+{
+    static char buf[4][512];
+    static int k;
+    k = (k + 1) % 4;
+    snprintf(buf[k], sizeof buf[k], "%s/%s", tmpdir, name);
+    return buf[k];
+}
+
+/* Runs `lacuna ARGS`, stdout to out.json and stderr to err.txt: the exit status. */
+static int lacuna(const char *args)
+{
+    const char *exe = getenv("LACUNA_EXE");
+    assert_non_null(exe);
+    char cmd[4096];
+    snprintf(cmd, sizeof cmd, "'%s' %s >'%s' 2>'%s'", exe, args, tmp("out.json"), tmp("err.txt"));
+    int rc = system(cmd);
+    assert_true(WIFEXITED(rc));
+    return WEXITSTATUS(rc);
+}
+
+static char *slurp(const char *path)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return NULL;
+    fseek(f, 0, SEEK_END);
+    long n = ftell(f);
+    fseek(f, 0, SEEK_SET);
+    char *s = malloc((size_t)n + 1);
+    size_t got = fread(s, 1, (size_t)n, f);
+    s[got] = '\0';
+    fclose(f);
+    return s;
+}
+
+static cJSON *result(void)
+{
+    char *s = slurp(tmp("out.json"));
+    assert_non_null(s);
+    cJSON *j = cJSON_Parse(s);
+    if (!j)
+        fail_msg("not JSON: %s", s);
+    free(s);
+    return j;
+}
+
+static double num(const cJSON *j, const char *key)
+{
+    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
+    if (!cJSON_IsNumber(it))
+        fail_msg("no number %s", key);
+    return it->valuedouble;
+}
+
+static bool flag(const cJSON *j, const char *key)
+{
+    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
+    if (!cJSON_IsBool(it))
+        fail_msg("no boolean %s", key);
+    return cJSON_IsTrue(it);
+}
+
+static const char *str(const cJSON *j, const char *key)
+{
+    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
+    if (!cJSON_IsString(it))
+        fail_msg("no string %s", key);
+    return it->valuestring;
+}
+
+/* The header of a scenario file (first line). */
+static void read_header(const char *path, lc_scenario_header *h)
+{
+    char *s = slurp(path);
+    assert_non_null(s);
+    char *nl = strchr(s, '\n');
+    size_t n = nl ? (size_t)(nl - s) : strlen(s);
+    lc_scenario_error err;
+    lc_scenario_header_init(h);
+    if (lc_scenario_parse_header(s, n, h, &err) < 0)
+        fail_msg("%s: %s", path, err.message);
+    free(s);
+}
+
+static void test_every_shipped_scenario(void **state)
+{
+    const char *dir = lc_test_source_path("scenarios");
+    DIR *d = opendir(dir);
+    assert_non_null(d);
+    int n = 0, models[2] = {0, 0}, blocked = 0;
+    struct dirent *e;
+    while ((e = readdir(d))) {
+        size_t len = strlen(e->d_name);
+        if (len < 6 || strcmp(e->d_name + len - 6, ".jsonl") != 0)
+            continue;
+        char path[1024], args[1200];
+        snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
+        lc_scenario_header h;
+        read_header(path, &h);
+        if (!h.has_world) {
+            lc_scenario_header_free(&h);
+            continue;
+        }
+        assert_true(h.description[0] != '\0'); /* each says what it exercises */
+        snprintf(args, sizeof args, "sim '%s' --json", path);
+        int rc = lacuna(args);
+        cJSON *j = result();
+        print_message("%-24s %s done=%d reached=%.0f collisions=%.0f min_clearance=%.3f "
+                      "path=%.1f time=%.1f\n",
+                      e->d_name, str(j, "outcome"), flag(j, "done"), num(j, "waypoints_reached"),
+                      num(j, "collisions"), num(j, "min_clearance"), num(j, "path_length"),
+                      num(j, "sim_time"));
+        if (rc != 0)
+            fail_msg("%s: exit %d, outcome %s", e->d_name, rc, str(j, "outcome"));
+        assert_int_equal((int)num(j, "collisions"), 0);
+        assert_true(num(j, "min_clearance") > 0);
+        assert_string_equal(str(j, "outcome"), lc_scenario_expect_name(h.expect));
+        assert_true(flag(j, "done") == (h.expect == LC_EXPECT_DONE));
+        if (h.expect == LC_EXPECT_DONE)
+            assert_int_equal((int)num(j, "waypoints_reached"), h.route.count);
+        models[h.robot.model == LC_MODEL_UNICYCLE]++;
+        blocked += h.expect == LC_EXPECT_BLOCKED;
+        n++;
+        cJSON_Delete(j);
+        lc_scenario_header_free(&h);
+    }
+    closedir(d);
+    assert_true(n >= 6);
+    assert_true(models[0] > 0 && models[1] > 0);
+    assert_true(blocked > 0);
+}
+
+static void write_file(const char *path, const char *text)
+{
+    FILE *f = fopen(path, "w");
+    assert_non_null(f);
+    fputs(text, f);
+    fclose(f);
+}
+
+/* A corridor along x: inner faces at y = -1.5 and 1.5, ends far away. */
+static void corridor_route(const char *path, const char *model, const char *start,
+                           const char *route)
+{
+    char text[2048];
+    snprintf(text, sizeof text,
+             "{\"type\":\"scenario\",\"version\":1,\"description\":\"test corridor\","
+             "\"robot\":{\"model\":\"%s\",\"radius\":0.3,\"margin\":0.05,\"v_max\":0.8,"
+             "\"a_max\":0.5},"
+             "\"route\":%s,\"start\":%s,"
+             "\"world\":{\"polygons\":[[[-3,-1.7],[30,-1.7],[30,-1.5],[-3,-1.5]],"
+             "[[-3,1.5],[30,1.5],[30,1.7],[-3,1.7]]]},"
+             "\"sensor\":{\"beams\":181,\"fov\":4.71238898038469,\"range_min\":0.05,"
+             "\"range_max\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},\"max_time\":60}\n",
+             model, route, start);
+    write_file(path, text);
+}
+
+static void corridor(const char *path, const char *model, const char *start, double goal_x)
+{
+    char route[128];
+    snprintf(route, sizeof route, "{\"waypoints\":[[%g,0]],\"tolerance\":0.25}", goal_x);
+    corridor_route(path, model, start, route);
+}
+
+static void test_corridor_closed_form(void **state)
+{
+    corridor(tmp("corridor.jsonl"), "point", "[0,0,0]", 6);
+    char args[1024];
+    snprintf(args, sizeof args, "sim '%s' --json", tmp("corridor.jsonl"));
+    assert_int_equal(lacuna(args), 0);
+    cJSON *j = result();
+    assert_true(flag(j, "done"));
+    assert_int_equal((int)num(j, "collisions"), 0);
+    /* half width 1.5 minus radius 0.3; the walls' ends are farther */
+    assert_near(num(j, "min_clearance"), 1.2, 1e-3);
+    /* stops once within tolerance 0.25 of x = 6, at most one period (0.05 s
+     * at 0.8 m/s) later */
+    double s = num(j, "path_length");
+    assert_true(s >= 6 - 0.25 - 1e-9 && s <= 6 - 0.25 + 0.8 * 0.05 + 1e-9);
+    cJSON_Delete(j);
+}
+
+static void test_unicycle_turns_and_arrives(void **state)
+{
+    /* facing +y, waypoint ahead along +x: a turn, then the corridor */
+    corridor(tmp("turn.jsonl"), "unicycle", "[0,0,1.5707963267948966]", 5);
+    char args[1024];
+    snprintf(args, sizeof args, "sim '%s' --json", tmp("turn.jsonl"));
+    assert_int_equal(lacuna(args), 0);
+    cJSON *j = result();
+    assert_true(flag(j, "done"));
+    /* no path shorter than the straight line less the tolerance (triangle inequality) */
+    assert_true(num(j, "path_length") >= 5 - 0.25 - 1e-9);
+    assert_true(num(j, "min_clearance") > 0);
+    cJSON_Delete(j);
+}
+
+static void test_looping_route_ends_after_one_lap(void **state)
+{
+    corridor_route(tmp("loop.jsonl"), "unicycle", "[0,0,0]",
+                   "{\"waypoints\":[[3,0],[6,0.5],[1,-0.5]],\"loop\":true}");
+    char args[1024];
+    snprintf(args, sizeof args, "sim '%s' --json", tmp("loop.jsonl"));
+    assert_int_equal(lacuna(args), 0);
+    cJSON *j = result();
+    assert_true(flag(j, "done"));
+    assert_int_equal((int)num(j, "waypoints_reached"), 3);
+    cJSON_Delete(j);
+}
+
+static void test_start_in_contact_is_a_collision(void **state)
+{
+    /* 0.2 m from the inner face of the lower wall: clearance 0.2 - 0.3 */
+    corridor(tmp("contact.jsonl"), "point", "[0,-1.3,0]", 4);
+    char args[1024];
+    snprintf(args, sizeof args, "sim '%s' --json --max-time 2", tmp("contact.jsonl"));
+    assert_int_equal(lacuna(args), 1);
+    cJSON *j = result();
+    assert_true(num(j, "collisions") >= 1);
+    assert_near(num(j, "min_clearance"), -0.1, 1e-9);
+    assert_false(flag(j, "ok"));
+    cJSON_Delete(j);
+}
+
+static void test_seed_repeats(void **state)
+{
+    const char *scen = lc_test_source_path("scenarios/locked_cage.jsonl");
+    char args[2048];
+    const char *runs[3] = {"a.jsonl", "b.jsonl", "c.jsonl"};
+    const char *seeds[3] = {"7", "7", "8"};
+    char *text[3];
+    for (int i = 0; i < 3; i++) {
+        snprintf(args, sizeof args, "sim '%s' --json --seed %s --max-time 3 --out '%s'", scen,
+                 seeds[i], tmp(runs[i]));
+        lacuna(args);
+        text[i] = slurp(tmp(runs[i]));
+        assert_non_null(text[i]);
+    }
+    assert_string_equal(text[0], text[1]);
+    assert_true(strcmp(text[0], text[2]) != 0);
+    for (int i = 0; i < 3; i++)
+        free(text[i]);
+}
+
+static void test_usage_errors(void **state)
+{
+    const char *scen = lc_test_source_path("scenarios/office_round.jsonl");
+    write_file(tmp("noworld.jsonl"), "{\"type\":\"scenario\",\"version\":1,\"route\":"
+                                     "{\"waypoints\":[[1,1]]},\"start\":[0,0,0]}\n");
+    write_file(tmp("bad.jsonl"), "{\"type\":\"scenario\",\"version\":1,\"world\":7}\n");
+    const char *cases[] = {
+        "sim", "sim --json", "sim '%s' --connect ws://127.0.0.1:7640",
+        "sim '%s' --model car", "sim '%s' --seed -3", "sim '%s' --max-time 0",
+        "sim '%s' --frobnicate", "sim '%s' --seed",
+    };
+    char args[2048];
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        snprintf(args, sizeof args, cases[i], scen);
+        if (lacuna(args) != 2)
+            fail_msg("'%s' did not exit 2", args);
+    }
+    snprintf(args, sizeof args, "sim '%s'", tmp("noworld.jsonl"));
+    assert_int_equal(lacuna(args), 2);
+    snprintf(args, sizeof args, "sim '%s'", tmp("bad.jsonl"));
+    assert_int_equal(lacuna(args), 2);
+    char *err = slurp(tmp("err.txt"));
+    assert_non_null(strstr(err, "bad.jsonl:1:"));
+    free(err);
+    snprintf(args, sizeof args, "sim '%s'", tmp("missing.jsonl"));
+    assert_int_equal(lacuna(args), 2);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_every_shipped_scenario),
+        cmocka_unit_test(test_corridor_closed_form),
+        cmocka_unit_test(test_unicycle_turns_and_arrives),
+        cmocka_unit_test(test_looping_route_ends_after_one_lap),
+        cmocka_unit_test(test_start_in_contact_is_a_collision),
+        cmocka_unit_test(test_seed_repeats),
+        cmocka_unit_test(test_usage_errors),
+    };
+    return cmocka_run_group_tests(tests, setup, teardown);
+}
