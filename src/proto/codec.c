@@ -44,6 +44,8 @@ static const char *const code_names[LC_WIRE_CODE_COUNT] = {
     [LC_WIRE_BINARY] = "binary",
     [LC_WIRE_RATE_LIMITED] = "rate_limited",
     [LC_WIRE_INTERNAL] = "internal",
+    [LC_WIRE_TOO_MANY_CONNECTIONS] = "too_many_connections",
+    [LC_WIRE_RECORDING_FAILED] = "recording_failed",
 };
 
 static const char *const msg_names[LC_MSG_COUNT] = {

@@ -68,6 +68,8 @@ typedef enum lc_wire_code {
     LC_WIRE_BINARY,        /* "binary": a binary websocket message */
     LC_WIRE_RATE_LIMITED,  /* "rate_limited": flooding beyond the configured rate */
     LC_WIRE_INTERNAL,      /* "internal": the server failed (out of memory) */
+    LC_WIRE_TOO_MANY_CONNECTIONS, /* "too_many_connections": from one address (max_per_address) */
+    LC_WIRE_RECORDING_FAILED,     /* "recording_failed": recording stopped, control goes on */
     LC_WIRE_CODE_COUNT
 } lc_wire_code;
 

@@ -5,23 +5,25 @@
 #include "config.h"
 
 #include <cjson/cJSON.h>
+#include <ctype.h>
 #include <errno.h>
 #include <math.h>
 #include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include "cli.h"
 #include "codec.h"
 #include "log.h"
 
-typedef enum opt_type { OPT_STR, OPT_INT, OPT_NUM } opt_type;
+typedef enum opt_type { OPT_STR, OPT_LIST, OPT_INT, OPT_NUM } opt_type;
 
 typedef struct opt {
     const char *name;
     opt_type type;
     size_t offset;
-    size_t size;     /* OPT_STR: capacity */
+    size_t size;     /* OPT_STR, OPT_LIST: capacity */
     double lo, hi;   /* OPT_INT, OPT_NUM: inclusive bounds */
     double def_num;
     const char *def_str;
@@ -32,6 +34,9 @@ typedef struct opt {
 #define STR(field, metavar, def, help) \
     {#field, OPT_STR, offsetof(lc_server_config, field), \
      sizeof(((lc_server_config *)0)->field), 0, 0, 0, def, metavar, help}
+#define LIST(field, metavar, help) \
+    {#field, OPT_LIST, offsetof(lc_server_config, field), \
+     sizeof(((lc_server_config *)0)->field), 0, 0, 0, "", metavar, help}
 #define INT(field, lo, hi, def, help) \
     {#field, OPT_INT, offsetof(lc_server_config, field), 0, lo, hi, def, NULL, "N", help}
 #define NUM(field, lo, hi, def, help) \
@@ -49,11 +54,19 @@ static const opt options[] = {
     STR(log_file, "FILE", "", "append the log to this file instead of stderr (reopened on SIGHUP)"),
     STR(tls_cert, "FILE", "", "PEM certificate: serve wss:// and https:// (needs --tls-key)"),
     STR(tls_key, "FILE", "", "PEM private key of --tls-cert"),
+    LIST(allow_origin, "ORIGIN",
+         "browser origin (scheme://host[:port], null, or * for any) allowed to open a websocket; "
+         "repeat or separate with commas. Always allowed: no Origin header (programs) and the "
+         "page's own origin; any other is refused (error forbidden, close 1008)"),
     INT(watchdog_ms, 20, 60000, 200, "stop setpoints (stale) when no valid frame came for this long"),
     INT(max_message, 1024, 64 << 20, 1 << 20, "largest message in bytes (larger: close 1009)"),
     INT(max_beams, 1, 1000000, 100000, "most ranges in one scan"),
     INT(max_points, 1, 1000000, 100000, "most points in one points frame"),
-    INT(max_connections, 1, 10000, 64, "most websocket connections at a time"),
+    INT(max_connections, 1, 10000, 64,
+        "most websocket connections at a time; beyond it the handshake gets HTTP 503"),
+    INT(max_per_address, 1, 10000, 32,
+        "most websocket connections from one client address; beyond it: error "
+        "too_many_connections, then close"),
     NUM(view_hz, 0.1, 20, 20, "view messages per second per robot"),
     INT(viewer_queue, 1, 1024, 4, "views queued per viewer; older ones are dropped for a slow viewer"),
     INT(send_queue, 4, 100000, 256,
@@ -67,6 +80,7 @@ static const opt options[] = {
 };
 
 #define N_OPTIONS (int)(sizeof options / sizeof options[0])
+_Static_assert(N_OPTIONS <= 64, "list_flags has one bit per option");
 
 static void *field(lc_server_config *cfg, const opt *o) { return (char *)cfg + o->offset; }
 static const void *cfield(const lc_server_config *cfg, const opt *o)
@@ -79,7 +93,7 @@ void lc_server_config_default(lc_server_config *cfg)
     memset(cfg, 0, sizeof *cfg);
     for (int i = 0; i < N_OPTIONS; i++) {
         const opt *o = &options[i];
-        if (o->type == OPT_STR)
+        if (o->type == OPT_STR || o->type == OPT_LIST)
             snprintf(field(cfg, o), o->size, "%s", o->def_str);
         else if (o->type == OPT_INT)
             *(int *)field(cfg, o) = (int)o->def_num;
@@ -103,6 +117,124 @@ static int check_string(const opt *o, const char *s, char *err, size_t n)
     if (strcmp(o->name, "listen") == 0 && !strchr(s, ':'))
         return fail(err, n, o->name, "must be HOST:PORT");
     return 0;
+}
+
+/*
+ * An origin as browsers send it (RFC 6454): scheme://host[:port] with no
+ * path, scheme http or https; "null" for opaque origins (file:, sandboxes).
+ * On success *scheme_len and the authority (host[:port]) are set.
+ */
+static bool parse_origin(const char *s, size_t n, size_t *scheme_len, const char **auth,
+                         size_t *auth_len)
+{
+    const char *sep = memmem(s, n, "://", 3);
+    if (!sep)
+        return false;
+    size_t sl = (size_t)(sep - s);
+    if (!((sl == 4 && strncasecmp(s, "http", 4) == 0) ||
+          (sl == 5 && strncasecmp(s, "https", 5) == 0)))
+        return false;
+    const char *a = sep + 3, *end = s + n, *p = a;
+    if (p < end && *p == '[') { /* an IPv6 literal */
+        p++;
+        while (p < end && (isxdigit((unsigned char)*p) || *p == ':' || *p == '.'))
+            p++;
+        if (p == end || *p++ != ']')
+            return false;
+    } else {
+        while (p < end && (isalnum((unsigned char)*p) || *p == '.' || *p == '-'))
+            p++;
+    }
+    if (p == a)
+        return false;
+    if (p < end && *p == ':') { /* a port: 1 to 5 digits */
+        const char *d = ++p;
+        while (p < end && isdigit((unsigned char)*p))
+            p++;
+        if (p == d || p - d > 5)
+            return false;
+    }
+    if (p != end)
+        return false;
+    *scheme_len = sl;
+    *auth = a;
+    *auth_len = (size_t)(end - a);
+    return true;
+}
+
+static bool origin_item_ok(const char *s, size_t n)
+{
+    size_t sl, al;
+    const char *a;
+    if ((n == 1 && s[0] == '*') || (n == 4 && strncmp(s, "null", 4) == 0))
+        return true;
+    return parse_origin(s, n, &sl, &a, &al);
+}
+
+/* The next item of a comma list: [*s, *end) without surrounding blanks. */
+static bool next_item(const char **p, const char **s, const char **end)
+{
+    const char *q = *p;
+    if (!*q)
+        return false;
+    const char *comma = strchr(q, ',');
+    const char *e = comma ? comma : q + strlen(q);
+    *p = comma ? comma + 1 : e;
+    while (q < e && isspace((unsigned char)*q))
+        q++;
+    while (e > q && isspace((unsigned char)e[-1]))
+        e--;
+    *s = q;
+    *end = e;
+    return true;
+}
+
+/*
+ * A list option from a comma list: every item checked, blanks trimmed,
+ * stored joined by ','; with append, after the items already there.
+ */
+static int set_list(lc_server_config *cfg, const opt *o, const char *text, bool append,
+                    char *err, size_t n)
+{
+    char out[LC_CONFIG_STR_MAX], what[160];
+    size_t len = 0;
+    out[0] = '\0';
+    if (append)
+        len = (size_t)snprintf(out, sizeof out, "%s", (const char *)field(cfg, o));
+    const char *p = text, *a, *b;
+    while (next_item(&p, &a, &b)) {
+        size_t k = (size_t)(b - a);
+        if (!origin_item_ok(a, k)) {
+            snprintf(what, sizeof what,
+                     "'%.*s' is not an origin (scheme://host[:port] with http or https and no "
+                     "path, null, or *)",
+                     (int)(k > 80 ? 80 : k), a);
+            return fail(err, n, o->name, what);
+        }
+        if (len + k + 2 > o->size || len + k + 2 > sizeof out)
+            return fail(err, n, o->name, "too long");
+        len += (size_t)snprintf(out + len, sizeof out - len, "%s%.*s", len ? "," : "", (int)k, a);
+    }
+    snprintf(field(cfg, o), o->size, "%s", out);
+    return 0;
+}
+
+bool lc_origin_allowed(const char *allow, const char *origin, const char *host, bool tls)
+{
+    if (!origin || !origin[0])
+        return true; /* not a browser: browsers always send Origin on a websocket */
+    size_t n = strlen(origin), sl, al;
+    const char *auth;
+    if (parse_origin(origin, n, &sl, &auth, &al) && sl == (tls ? 5u : 4u) && host &&
+        strlen(host) == al && strncasecmp(auth, host, al) == 0)
+        return true; /* the page's own origin: same scheme and host[:port] */
+    const char *p = allow, *a, *b;
+    while (p && next_item(&p, &a, &b)) {
+        size_t k = (size_t)(b - a);
+        if ((k == 1 && a[0] == '*') || (k == n && strncasecmp(a, origin, n) == 0))
+            return true;
+    }
+    return false;
 }
 
 static int set_string(lc_server_config *cfg, const opt *o, const char *s, char *err, size_t n)
@@ -140,6 +272,27 @@ static const opt *find_option(const char *name)
     return NULL;
 }
 
+/* A list option in the file: a comma list, or an array of strings. */
+static int set_json_list(lc_server_config *cfg, const opt *o, const cJSON *it, char *err,
+                         size_t n)
+{
+    if (cJSON_IsString(it) && it->valuestring)
+        return set_list(cfg, o, it->valuestring, false, err, n);
+    if (!cJSON_IsArray(it))
+        return fail(err, n, o->name, "must be a string or an array of strings");
+    set_list(cfg, o, "", false, err, n);
+    const cJSON *item;
+    cJSON_ArrayForEach(item, it)
+    {
+        if (!cJSON_IsString(item) || !item->valuestring || strchr(item->valuestring, ',') ||
+            !item->valuestring[0])
+            return fail(err, n, o->name, "items must be non-empty strings without commas");
+        if (set_list(cfg, o, item->valuestring, true, err, n) < 0)
+            return -1;
+    }
+    return 0;
+}
+
 static int set_json(lc_server_config *cfg, const cJSON *it, char *err, size_t n)
 {
     const opt *o = find_option(it->string);
@@ -150,6 +303,8 @@ static int set_json(lc_server_config *cfg, const cJSON *it, char *err, size_t n)
             return fail(err, n, o->name, "must be a string");
         return set_string(cfg, o, it->valuestring, err, n);
     }
+    if (o->type == OPT_LIST)
+        return set_json_list(cfg, o, it, err, n);
     if (!cJSON_IsNumber(it))
         return fail(err, n, o->name, "must be a number");
     return set_number(cfg, o, it->valuedouble, err, n);
@@ -210,6 +365,12 @@ int lc_server_config_flag(lc_server_config *cfg, const char *flag, const char *v
         return 0;
     if (!value)
         return fail(err, n, flag, "needs a value");
+    if (o->type == OPT_LIST) {
+        unsigned long long bit = 1ULL << (o - options);
+        bool append = (cfg->list_flags & bit) != 0;
+        cfg->list_flags |= bit;
+        return set_list(cfg, o, value, append, err, n) < 0 ? -1 : 1;
+    }
     if (o->type == OPT_STR)
         return set_string(cfg, o, value, err, n) < 0 ? -1 : 1;
     char *end = NULL;
@@ -241,7 +402,7 @@ void lc_server_config_print(const lc_server_config *cfg, FILE *out)
     for (int i = 0; i < N_OPTIONS; i++) {
         const opt *o = &options[i];
         fprintf(out, "%s\"%s\": ", i ? ", " : "", o->name);
-        if (o->type == OPT_STR)
+        if (o->type == OPT_STR || o->type == OPT_LIST)
             print_json_string(out, cfield(cfg, o));
         else if (o->type == OPT_INT)
             fprintf(out, "%d", *(const int *)cfield(cfg, o));
@@ -266,6 +427,8 @@ void lc_server_config_help(FILE *out)
         fprintf(out, "  --%s %s\n      %s", flag, o->metavar, o->help);
         if (o->type == OPT_STR && o->def_str[0]) {
             fprintf(out, " (default %s)", o->def_str);
+        } else if (o->type == OPT_LIST) {
+            fputs(" (default: none)", out);
         } else if (o->type != OPT_STR) {
             lc_wire_format_number(lo, o->lo, -1);
             lc_wire_format_number(hi, o->hi, -1);

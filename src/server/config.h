@@ -4,7 +4,10 @@
  * Every option is declared once in the table of config.c with its name,
  * type, bounds, default and help; the JSON file uses the name as key, the
  * command line the name with '-' for '_' (watchdog_ms -> --watchdog-ms).
- * Precedence: defaults < --config FILE < flags. Units: milliseconds where
+ * Precedence: defaults < --config FILE < flags. A list option (allow_origin)
+ * is a comma-separated string; in the file it may also be an array of
+ * strings; on the command line each repetition of its flag adds one item,
+ * and the first flag replaces the file's list. Units: milliseconds where
  * the name says _ms, seconds for periods, bytes for sizes.
  *
  * Ownership: lc_server_config is a plain value (fixed-size strings), owned
@@ -29,11 +32,13 @@ typedef struct lc_server_config {
     char log_file[LC_CONFIG_STR_MAX];          /* "" = stderr */
     char tls_cert[LC_CONFIG_STR_MAX];          /* PEM; with tls_key: wss:// and https:// */
     char tls_key[LC_CONFIG_STR_MAX];
+    char allow_origin[LC_CONFIG_STR_MAX];      /* browser origins, comma separated; "*" any */
     int watchdog_ms;
     int max_message;     /* bytes */
     int max_beams;
     int max_points;
     int max_connections;
+    int max_per_address; /* websocket connections from one client address */
     double view_hz;      /* views per second per robot, at most 20 */
     int viewer_queue;    /* views queued per viewer before dropping */
     int send_queue;      /* other messages queued per connection before closing */
@@ -43,6 +48,7 @@ typedef struct lc_server_config {
     double dt_max;
     int hello_timeout_ms;
     int shutdown_ms;     /* longest wait for the last messages at shutdown */
+    unsigned long long list_flags; /* bit i: list option i was set by a flag (next ones add) */
 } lc_server_config;
 
 void lc_server_config_default(lc_server_config *cfg);
@@ -62,6 +68,14 @@ int lc_server_config_parse(lc_server_config *cfg, const char *text, size_t len, 
  */
 int lc_server_config_flag(lc_server_config *cfg, const char *flag, const char *value, char *err,
                           size_t n);
+
+/*
+ * May a websocket handshake with this Origin header proceed? Yes when there
+ * is none (not a browser), when it is the page's own origin (scheme http,
+ * or https with tls, and host[:port] equal to the Host header), or when
+ * allow (an allow_origin list) names it or holds "*". Case-insensitive.
+ */
+bool lc_origin_allowed(const char *allow, const char *origin, const char *host, bool tls);
 
 /* Print the effective configuration as one JSON object (and a newline). */
 void lc_server_config_print(const lc_server_config *cfg, FILE *out);

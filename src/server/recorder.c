@@ -103,6 +103,7 @@ bool lc_recorder_is_open(const lc_recorder *rec) { return rec->file != NULL; }
 
 static void stop_failed(lc_recorder *rec)
 {
+    rec->error = errno;
     lc_log(LC_LOG_ERROR, "recording %s: %s; recording stopped", rec->path, strerror(errno));
     fclose(rec->file);
     rec->file = NULL;
@@ -128,6 +129,7 @@ int lc_recorder_reopen(lc_recorder *rec, const lc_robot *robot, const lc_route *
     fclose(rec->file);
     rec->file = fopen(rec->path, "a");
     if (!rec->file) {
+        rec->error = errno;
         lc_log(LC_LOG_ERROR, "recording %s: %s; recording stopped", rec->path, strerror(errno));
         rec->failed = true;
         return -1;

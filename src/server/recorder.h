@@ -34,6 +34,7 @@ typedef struct lc_recorder {
     lc_record_control control;
     char path[4096];
     bool failed; /* a write failed: recording stopped, logged once */
+    int error;   /* errno of that failure (ENOSPC for a full disk) */
 } lc_recorder;
 
 /*

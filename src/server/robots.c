@@ -11,6 +11,7 @@
  */
 #include "robots.h"
 
+#include <errno.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
@@ -42,6 +43,7 @@ struct lc_conn {
     void *user;
     conn_role role;
     bot *bot;                     /* ROLE_ROBOT */
+    char addr[48];                /* client address, "" unknown */
     char watch[LC_WIRE_NAME_MAX + 1]; /* ROLE_VIEWER: "" every robot */
     double opened_at;
     /* reassembly of the message being received */
@@ -78,6 +80,7 @@ struct bot {
     double view_at;       /* earliest time of the next view */
     bool view_dirty;
     lc_recorder rec;
+    bool rec_failed_unsent; /* recording stopped: the robot is not told yet */
 };
 
 struct lc_hub {
@@ -215,7 +218,40 @@ static void send_error_close(lc_hub *hub, lc_conn *c, const lc_wire_error *err, 
     start_close(hub, c, LC_CLOSE_POLICY, lc_wire_code_name(err->code), now);
 }
 
-lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, double now)
+static void error_close(lc_hub *hub, lc_conn *c, lc_wire_code code, double now, const char *text);
+
+static int connections_from(const lc_hub *hub, const char *addr)
+{
+    int n = 0;
+    for (const lc_conn *c = hub->conns; c; c = c->next)
+        n += strcmp(c->addr, addr) == 0;
+    return n;
+}
+
+/* Origin and per-address limits: refuse (error, then close) what may not stay. */
+static void admit(lc_hub *hub, lc_conn *c, const lc_peer *peer, double now)
+{
+    const lc_server_config *o = &hub->cfg.opts;
+    char text[LC_WIRE_MESSAGE_MAX];
+    if (!lc_origin_allowed(o->allow_origin, peer->origin, peer->host, o->tls_cert[0] != '\0')) {
+        lc_log(LC_LOG_WARN, "websocket from %s refused: origin '%.100s' not allowed (allow_origin)",
+               c->addr[0] ? c->addr : "?", peer->origin);
+        snprintf(text, sizeof text, "origin: '%.100s' is not allowed (see allow_origin)",
+                 peer->origin);
+        error_close(hub, c, LC_WIRE_FORBIDDEN, now, text);
+        return;
+    }
+    int n = c->addr[0] ? connections_from(hub, c->addr) - 1 : 0;
+    if (n >= o->max_per_address) {
+        lc_log(LC_LOG_WARN, "websocket from %s refused: %d connections from it (max_per_address)",
+               c->addr, n);
+        snprintf(text, sizeof text, "connection: %d connections from %s already (max_per_address %d)",
+                 n, c->addr, o->max_per_address);
+        error_close(hub, c, LC_WIRE_TOO_MANY_CONNECTIONS, now, text);
+    }
+}
+
+lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, const lc_peer *peer, double now)
 {
     if (hub->n_conns >= hub->cfg.opts.max_connections) {
         lc_log(LC_LOG_WARN, "connection refused: %d connections open (max_connections)",
@@ -239,6 +275,10 @@ lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, double now)
     c->next = hub->conns;
     hub->conns = c;
     hub->n_conns++;
+    if (peer) {
+        snprintf(c->addr, sizeof c->addr, "%s", peer->addr ? peer->addr : "");
+        admit(hub, c, peer, now);
+    }
     return c;
 }
 
@@ -319,8 +359,22 @@ static void bot_free(lc_hub *hub, bot *b)
 /* A line of the robot's recording, when it is being recorded. */
 static void record(bot *b, const char *text, size_t len)
 {
-    if (lc_recorder_is_open(&b->rec))
-        lc_recorder_line(&b->rec, text, len);
+    if (lc_recorder_is_open(&b->rec) && lc_recorder_line(&b->rec, text, len) < 0)
+        b->rec_failed_unsent = true; /* told after the message at hand (it is in hub->text) */
+}
+
+/* The robot learns once that its recording stopped (the log has said so already). */
+static void tell_recording_failed(lc_hub *hub, bot *b, double now)
+{
+    if (!b->rec_failed_unsent)
+        return;
+    b->rec_failed_unsent = false;
+    lc_wire_error e = {0};
+    lc_wire_error_set(&e, LC_WIRE_RECORDING_FAILED,
+                      "record: %s; recording stopped, control goes on", strerror(b->rec.error));
+    e.has_seq = b->has_frame;
+    e.seq = b->seq;
+    send_error(hub, b->conn, &e, now);
 }
 
 /* Send what hub->text holds to the robot and record it. */
@@ -329,6 +383,7 @@ static void send_to_robot(lc_hub *hub, bot *b, int rc, double now)
     if (rc == 0)
         record(b, hub->text.s, (size_t)hub->text.len);
     send_encoded(hub, b->conn, rc, now);
+    tell_recording_failed(hub, b, now);
 }
 
 void lc_hub_close(lc_hub *hub, lc_conn *conn)
@@ -500,8 +555,11 @@ static void start_recording(lc_hub *hub, bot *b)
     lc_record_control ctl = {.period = o->period, .dt_min = o->dt_min, .dt_max = o->dt_max,
                              .first_dt = FIRST_DT, .watchdog_ms = o->watchdog_ms};
     if (lc_recorder_open(&b->rec, o->record, b->name, &b->desc, &b->route, &ctl) < 0) {
-        lc_log(LC_LOG_ERROR, "robot %s: cannot record in %s", b->name, hub->cfg.opts.record);
+        b->rec.error = errno;
+        lc_log(LC_LOG_ERROR, "robot %s: cannot record in %s: %s", b->name, o->record,
+               strerror(errno));
         b->rec.failed = true;
+        b->rec_failed_unsent = true;
     }
 }
 
@@ -561,7 +619,7 @@ static void robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double 
         if (lc_wire_encode_robot(&hub->text, &b->desc) == 0)
             record(b, hub->text.s, (size_t)hub->text.len);
         b->view_dirty = true;
-        return;
+        break;
     case LC_MSG_ROUTE:
         b->route = m->u.route;
         b->has_route = true;
@@ -569,14 +627,15 @@ static void robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double 
         if (lc_wire_encode_route(&hub->text, &b->route) == 0)
             record(b, hub->text.s, (size_t)hub->text.len);
         b->view_dirty = true;
-        return;
+        break;
     case LC_MSG_SCAN:
     case LC_MSG_POINTS:
         frame(hub, b, &m->u.frame, now);
-        return;
+        break;
     default:
         break;
     }
+    tell_recording_failed(hub, b, now);
 }
 
 /* ------------------------------------------------------------ receiving */

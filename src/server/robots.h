@@ -16,6 +16,10 @@
  * Replies go out before views. A view is encoded once per robot and shared
  * (reference counted) by every viewer that watches it.
  *
+ * Recording: when a recording cannot be created or a write fails (a full
+ * disk), recording of that robot stops, the log says why and the robot
+ * gets one error recording_failed; control goes on.
+ *
  * Ownership: the hub owns every lc_conn and robot session. A connection
  * lives from lc_hub_open to lc_hub_close (the transport's close callback);
  * a robot session lives as long as its robot's connection. Message buffers
@@ -64,8 +68,21 @@ enum {
 lc_hub *lc_hub_new(const lc_hub_config *cfg);
 void lc_hub_free(lc_hub *hub);
 
-/* A new connection; NULL when max_connections are open (refuse it). */
-lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, double now);
+/* Who opened a connection, as the handshake said (strings copied or unused after the call). */
+typedef struct lc_peer {
+    const char *addr;   /* client address; NULL or "": unknown (not counted per address) */
+    const char *origin; /* Origin header; NULL or "": none (not a browser) */
+    const char *host;   /* Host header */
+} lc_peer;
+
+/*
+ * A new connection; NULL when max_connections are open (refuse it). peer
+ * NULL: no admission checks (tests). A connection whose Origin is not
+ * allowed (lc_origin_allowed with allow_origin) gets the error forbidden,
+ * one beyond max_per_address from its address too_many_connections; both
+ * are then closed (1008) without reading anything they send.
+ */
+lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, const lc_peer *peer, double now);
 /* The transport closed the connection: forget it (and its robot session). */
 void lc_hub_close(lc_hub *hub, lc_conn *conn);
 int lc_hub_connections(const lc_hub *hub);

@@ -9,7 +9,9 @@
 #include "server.h"
 
 #include <arpa/inet.h>
+#include <errno.h>
 #include <libwebsockets.h>
+#include <limits.h>
 #include <math.h>
 #include <signal.h>
 #include <stdio.h>
@@ -23,6 +25,7 @@
 
 typedef struct server {
     const lc_server_params *p;
+    char web_root[PATH_MAX]; /* realpath of the web directory; "" none */
     struct lws_context *ctx;
     lc_hub *hub;
     lws_sorted_usec_list_t tick;
@@ -30,8 +33,13 @@ typedef struct server {
     bool shutting, give_up_now, destroying;
 } server;
 
+/* Per websocket connection; the handshake's headers are copied at the filter
+ * callback, the last moment libwebsockets guarantees them. */
 struct pss {
     lc_conn *conn;
+    char addr[48];
+    char origin[256];
+    char host[256];
 };
 
 static volatile sig_atomic_t got_stop, got_hup;
@@ -137,6 +145,36 @@ static int writeable(struct lws *wsi, lc_conn *conn)
     return 0;
 }
 
+/* One header into buf; "" when absent, a marker that matches nothing when too long. */
+static void copy_header(struct lws *wsi, char *buf, int n, enum lws_token_indexes h)
+{
+    buf[0] = '\0';
+    if (lws_hdr_total_length(wsi, h) > 0 && lws_hdr_copy(wsi, buf, n, h) < 0)
+        snprintf(buf, (size_t)n, "(header too long)");
+}
+
+/*
+ * The handshake: past max_connections (or while shutting down) it is
+ * refused at once with HTTP 503, spending no connection on it; Origin and
+ * the per-address limit are judged by the hub once it is open, so that the
+ * client gets an error message it can read (a browser's script cannot see
+ * an HTTP status).
+ */
+static int filter(server *s, struct lws *wsi, struct pss *pss)
+{
+    if (s->shutting || lc_hub_connections(s->hub) >= s->p->cfg->max_connections) {
+        const char *why = s->shutting ? "lacuna: shutting down" : "lacuna: too many connections (max_connections)";
+        lc_log(LC_LOG_WARN, "websocket handshake refused (%s)",
+               s->shutting ? "shutting down" : "max_connections");
+        lws_return_http_status(wsi, HTTP_STATUS_SERVICE_UNAVAILABLE, why);
+        return 1;
+    }
+    lws_get_peer_simple(wsi, pss->addr, sizeof pss->addr);
+    copy_header(wsi, pss->origin, sizeof pss->origin, WSI_TOKEN_ORIGIN);
+    copy_header(wsi, pss->host, sizeof pss->host, WSI_TOKEN_HOST);
+    return 0;
+}
+
 static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
                     size_t len)
 {
@@ -145,16 +183,13 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
     int rc = 0;
     switch (reason) {
     case LWS_CALLBACK_FILTER_PROTOCOL_CONNECTION:
-        if (s->shutting || lc_hub_connections(s->hub) >= s->p->cfg->max_connections) {
-            lc_log(LC_LOG_WARN, "connection refused (%s)",
-                   s->shutting ? "shutting down" : "max_connections");
-            return 1;
-        }
-        return 0;
-    case LWS_CALLBACK_ESTABLISHED:
-        pss->conn = lc_hub_open(s->hub, wsi, now_s());
+        return filter(s, wsi, pss);
+    case LWS_CALLBACK_ESTABLISHED: {
+        lc_peer peer = {.addr = pss->addr, .origin = pss->origin, .host = pss->host};
+        pss->conn = lc_hub_open(s->hub, wsi, &peer, now_s());
         rc = pss->conn ? 0 : -1;
         break;
+    }
     case LWS_CALLBACK_RECEIVE:
         if (!pss->conn)
             return -1;
@@ -184,9 +219,46 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
  * websocket connections that asked for no subprotocol: refuse those rather
  * than leave them unanswered.
  */
+lc_web_path lc_web_path_check(const char *root, const char *uri, size_t len)
+{
+    char path[PATH_MAX], real[PATH_MAX];
+    size_t rl = strlen(root);
+    if (len == 0 || uri[0] != '/' || memchr(uri, '\0', len) || rl + len >= sizeof path)
+        return LC_WEB_OUTSIDE;
+    memcpy(path, root, rl);
+    memcpy(path + rl, uri, len);
+    path[rl + len] = '\0';
+    if (!realpath(path, real))
+        return errno == ENOENT || errno == ENOTDIR ? LC_WEB_MISSING : LC_WEB_OUTSIDE;
+    bool inside = strncmp(real, root, rl) == 0 && (real[rl] == '\0' || real[rl] == '/');
+    return inside ? LC_WEB_INSIDE : LC_WEB_OUTSIDE;
+}
+
+/* Static files stay inside the web directory: 404 for anything else. */
+static int filter_http(server *s, struct lws *wsi, const char *uri, size_t len)
+{
+    lc_web_path where = lc_web_path_check(s->web_root, uri, len);
+    if (where == LC_WEB_INSIDE)
+        return 0;
+    char addr[48] = "", shown[201];
+    size_t n = len < sizeof shown - 1 ? len : sizeof shown - 1;
+    for (size_t i = 0; i < n; i++) /* a decoded %0a must not forge a log line */
+        shown[i] = uri[i] >= 0x20 && uri[i] < 0x7f ? uri[i] : '?';
+    shown[n] = '\0';
+    lws_get_peer_simple(wsi, addr, sizeof addr);
+    lc_log(where == LC_WEB_OUTSIDE ? LC_LOG_WARN : LC_LOG_DEBUG, "http from %s: '%s' refused (%s)",
+           addr, shown,
+           where == LC_WEB_OUTSIDE ? "leads outside the web directory" : "no such file");
+    lws_return_http_status(wsi, HTTP_STATUS_NOT_FOUND, NULL);
+    return 1;
+}
+
 static int http_callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
                          size_t len)
 {
+    server *s = lws_context_user(lws_get_context(wsi));
+    if (reason == LWS_CALLBACK_FILTER_HTTP_CONNECTION && s->web_root[0])
+        return filter_http(s, wsi, in, len);
     if (reason == LWS_CALLBACK_ESTABLISHED) {
         static const char why[] = "subprotocol lacuna.v1 required";
         lc_log(LC_LOG_WARN, "websocket without subprotocol %s refused", LC_WIRE_PROTOCOL);
@@ -287,11 +359,11 @@ static struct lws_context *create_context(server *s, struct lws_http_mount *moun
         info.ssl_cert_filepath = p->tls_cert;
         info.ssl_private_key_filepath = p->tls_key;
     }
-    if (p->web_dir) {
+    if (p->web_dir && realpath(p->web_dir, s->web_root)) {
         memset(mount, 0, sizeof *mount);
         mount->mountpoint = "/";
         mount->mountpoint_len = 1;
-        mount->origin = p->web_dir;
+        mount->origin = s->web_root;
         mount->def = "index.html";
         mount->origin_protocol = LWSMPRO_FILE;
         mount->extra_mimetypes = &mime_mjs;
@@ -324,7 +396,12 @@ int lc_server_run(const lc_server_params *p)
     struct lws_http_mount mount;
     s.ctx = create_context(&s, &mount);
     if (!s.ctx) {
-        lc_log(LC_LOG_ERROR, "cannot listen on %s:%d", p->listen.host, p->listen.port);
+        if (p->tls_cert)
+            lc_log(LC_LOG_ERROR, "cannot listen on %s:%d with TLS: address in use, or "
+                   "certificate %s / key %s not usable (see the lines above)",
+                   p->listen.host, p->listen.port, p->tls_cert, p->tls_key);
+        else
+            lc_log(LC_LOG_ERROR, "cannot listen on %s:%d", p->listen.host, p->listen.port);
         lc_hub_free(s.hub);
         return -1;
     }

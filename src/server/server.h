@@ -35,6 +35,16 @@ typedef struct lc_server_params {
     const char *tls_key;
 } lc_server_params;
 
+/*
+ * Static files: where does the request path uri (len bytes, as
+ * libwebsockets decoded and normalised it, "/...") lead from root (a
+ * realpath)? Resolved with realpath, so ".." and symbolic links that leave
+ * root are OUTSIDE, and so is a path with an embedded NUL; a link inside
+ * the web directory to another file inside it is fine.
+ */
+typedef enum lc_web_path { LC_WEB_INSIDE, LC_WEB_MISSING, LC_WEB_OUTSIDE } lc_web_path;
+lc_web_path lc_web_path_check(const char *root, const char *uri, size_t len);
+
 /* Run until SIGINT/SIGTERM. Returns 0, or -1 when the server cannot start. */
 int lc_server_run(const lc_server_params *p);
 

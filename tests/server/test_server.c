@@ -11,10 +11,13 @@
 #include "testutil.h"
 
 #include <cjson/cJSON.h>
+#include <errno.h>
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -68,6 +71,84 @@ static void test_config_file(void **state)
     assert_int_equal(c.watchdog_ms, 300);
 }
 
+/* allow_origin: a list; file string or array; each flag adds, the first replaces the file's. */
+static void test_config_allow_origin(void **state)
+{
+    lc_server_config c;
+    char err[256];
+    lc_server_config_default(&c);
+    assert_string_equal(c.allow_origin, "");
+    assert_int_equal(c.max_per_address, 32);
+    const char file[] = "{\"allow_origin\": [\"https://a.example\", \"http://b.example:8080\"]}";
+    assert_int_equal(lc_server_config_parse(&c, file, strlen(file), err, sizeof err), 0);
+    assert_string_equal(c.allow_origin, "https://a.example,http://b.example:8080");
+    const char file2[] = "{\"allow_origin\": \" https://a.example , null \"}";
+    assert_int_equal(lc_server_config_parse(&c, file2, strlen(file2), err, sizeof err), 0);
+    assert_string_equal(c.allow_origin, "https://a.example,null");
+    assert_int_equal(lc_server_config_flag(&c, "--allow-origin", "http://c.example", err, sizeof err), 1);
+    assert_string_equal(c.allow_origin, "http://c.example");
+    assert_int_equal(lc_server_config_flag(&c, "--allow-origin", "*,https://[::1]:9", err, sizeof err),
+                     1);
+    assert_string_equal(c.allow_origin, "http://c.example,*,https://[::1]:9");
+    static const char *const bad[] = {
+        "https://a.example/", "https://a.example/page", "ftp://a.example", "a.example",
+        "https://", "https://a.example:", "https://a.example:80x", "http://a b.example", "",
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        lc_server_config d = c;
+        int rc = lc_server_config_flag(&d, "--allow-origin", bad[i], err, sizeof err);
+        if (bad[i][0]) {
+            assert_int_equal(rc, -1);
+            assert_non_null(strstr(err, "allow_origin"));
+        } else {
+            assert_int_equal(rc, 1); /* an empty item adds nothing */
+            assert_string_equal(d.allow_origin, c.allow_origin);
+        }
+    }
+    static const char *const bad_files[] = {
+        "{\"allow_origin\": 5}", "{\"allow_origin\": [5]}", "{\"allow_origin\": [\"a,b\"]}",
+        "{\"allow_origin\": [\"\"]}", "{\"allow_origin\": \"https://x/\"}",
+        "{\"max_per_address\": 0}",
+    };
+    for (size_t i = 0; i < sizeof bad_files / sizeof bad_files[0]; i++)
+        assert_int_equal(
+            lc_server_config_parse(&c, bad_files[i], strlen(bad_files[i]), err, sizeof err), -1);
+}
+
+/* Origin rule (RFC 6454 origins; RFC 6455 10.2: the server checks Origin for browsers). */
+static void test_origin_allowed(void **state)
+{
+    static const struct {
+        const char *allow, *origin, *host;
+        bool tls, ok;
+    } cases[] = {
+        {"", NULL, "127.0.0.1:7640", false, true},          /* no Origin: not a browser */
+        {"", "", "127.0.0.1:7640", false, true},
+        {"", "http://127.0.0.1:7640", "127.0.0.1:7640", false, true}, /* the page's own */
+        {"", "HTTP://LOCALHOST:7640", "localhost:7640", false, true},
+        {"", "https://127.0.0.1:7640", "127.0.0.1:7640", false, false}, /* scheme differs */
+        {"", "https://robot.site:7640", "robot.site:7640", true, true},
+        {"", "http://robot.site:7640", "robot.site:7640", true, false},
+        {"", "http://127.0.0.1:7641", "127.0.0.1:7640", false, false}, /* port differs */
+        {"", "http://evil.example", "127.0.0.1:7640", false, false},
+        {"", "null", "127.0.0.1:7640", false, false},
+        {"null", "null", "127.0.0.1:7640", false, true},
+        {"https://a.example,http://b.example:8080", "http://b.example:8080", "x:1", false, true},
+        {"https://a.example,http://b.example:8080", "http://b.example", "x:1", false, false},
+        {"https://a.example", "https://A.Example", "x:1", false, true},
+        {"https://a.example", "https://a.example.evil", "x:1", false, false},
+        {"*", "http://anything.example", "x:1", false, true},
+        {"", "http://127.0.0.1:7640/", "127.0.0.1:7640", false, false},
+        {"", "(header too long)", "127.0.0.1:7640", false, false},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        bool got = lc_origin_allowed(cases[i].allow, cases[i].origin, cases[i].host, cases[i].tls);
+        if (got != cases[i].ok)
+            fail_msg("case %zu: origin %s host %s allow '%s': %d", i, cases[i].origin,
+                     cases[i].host, cases[i].allow, got);
+    }
+}
+
 /* --print-config output parses back to the same configuration. */
 static void test_config_print_round_trip(void **state)
 {
@@ -77,6 +158,9 @@ static void test_config_print_round_trip(void **state)
     lc_server_config_default(&c);
     lc_server_config_flag(&c, "--dt-min", "0.001", err, sizeof err);
     lc_server_config_flag(&c, "--web", "dir \"quoted\"\\x", err, sizeof err);
+    lc_server_config_flag(&c, "--allow-origin", "https://a.example", err, sizeof err);
+    lc_server_config_flag(&c, "--allow-origin", "null", err, sizeof err);
+    c.list_flags = 0; /* how the value came, not part of it */
     FILE *f = open_memstream(&text, &n);
     lc_server_config_print(&c, f);
     fclose(f);
@@ -205,7 +289,7 @@ static void send_scan(lc_hub *hub, lc_conn *c, int seq, double stamp, double now
 static lc_conn *robot(lc_hub *hub, const char *name, double now)
 {
     char text[128];
-    lc_conn *c = lc_hub_open(hub, NULL, now);
+    lc_conn *c = lc_hub_open(hub, NULL, NULL, now);
     assert_non_null(c);
     snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"%s\"}", name);
     assert_int_equal(say(hub, c, text, now), 0);
@@ -216,7 +300,7 @@ static lc_conn *robot(lc_hub *hub, const char *name, double now)
 static void test_hub_hello_and_roles(void **state)
 {
     lc_hub *hub = hub_with(NULL);
-    lc_conn *c = lc_hub_open(hub, NULL, 0);
+    lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     send_scan(hub, c, 1, 0, 0);
     expect(c, "error", "unauthorized");
     assert_true(lc_conn_closing(c));
@@ -224,7 +308,7 @@ static void test_hub_hello_and_roles(void **state)
     lc_hub_close(hub, c);
 
     lc_conn *r = robot(hub, "r1", 0);
-    lc_conn *v = lc_hub_open(hub, NULL, 0);
+    lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
     assert_int_equal(say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\"}", 0), 0);
     expect(v, "welcome", NULL);
     send_scan(hub, v, 3, 0, 0);
@@ -234,7 +318,7 @@ static void test_hub_hello_and_roles(void **state)
     cJSON_Delete(j);
     assert_false(lc_conn_closing(v));
 
-    lc_conn *twin = lc_hub_open(hub, NULL, 0);
+    lc_conn *twin = lc_hub_open(hub, NULL, NULL, 0);
     say(hub, twin, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
     expect(twin, "error", "name_taken");
     assert_true(lc_conn_closing(twin));
@@ -258,13 +342,13 @@ static void test_hub_token(void **state)
     };
     lc_hub *hub = hub_with(with_token);
     for (size_t i = 0; i < sizeof hellos / sizeof hellos[0]; i++) {
-        lc_conn *c = lc_hub_open(hub, NULL, 0);
+        lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
         say(hub, c, hellos[i], 0);
         expect(c, "error", "unauthorized");
         assert_true(lc_conn_closing(c));
         lc_hub_close(hub, c);
     }
-    lc_conn *c = lc_hub_open(hub, NULL, 0);
+    lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     say(hub, c, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\",\"token\":\"river-stone-3\"}",
         0);
     expect(c, "welcome", NULL);
@@ -344,7 +428,7 @@ static void test_hub_send_queue_full(void **state)
 static void test_hub_views(void **state)
 {
     lc_hub *hub = hub_with(small_queues);
-    lc_conn *v = lc_hub_open(hub, NULL, 0);
+    lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
     say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\",\"robot\":\"seen\"}", 0);
     lc_conn *r = robot(hub, "seen", 0);
     lc_conn *other = robot(hub, "unseen", 0);
@@ -407,7 +491,7 @@ static void test_hub_flood_and_hello_timeout(void **state)
     send_scan(hub, r, 2, 0.01, 0.01);
     expect(r, "error", "rate_limited");
     assert_true(lc_conn_closing(r));
-    lc_conn *mute = lc_hub_open(hub, NULL, 0);
+    lc_conn *mute = lc_hub_open(hub, NULL, NULL, 0);
     lc_hub_tick(hub, 9.9);
     expect_none(mute);
     lc_hub_tick(hub, 10.0);
@@ -445,11 +529,80 @@ static void one_connection(lc_hub_config *hc) { hc->opts.max_connections = 1; }
 static void test_hub_max_connections(void **state)
 {
     lc_hub *hub = hub_with(one_connection);
-    lc_conn *c = lc_hub_open(hub, NULL, 0);
+    lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     assert_non_null(c);
-    assert_null(lc_hub_open(hub, NULL, 0));
+    assert_null(lc_hub_open(hub, NULL, NULL, 0));
     lc_hub_close(hub, c);
-    assert_non_null(lc_hub_open(hub, NULL, 0));
+    assert_non_null(lc_hub_open(hub, NULL, NULL, 0));
+    lc_hub_free(hub);
+}
+
+static void two_per_address(lc_hub_config *hc)
+{
+    hc->opts.max_per_address = 2;
+    snprintf(hc->opts.allow_origin, sizeof hc->opts.allow_origin, "https://ops.example");
+}
+
+/* Admission: Origin allow-list and connections per address; refused ones read nothing. */
+static void test_hub_admission(void **state)
+{
+    lc_hub *hub = hub_with(two_per_address);
+    const lc_peer a = {"192.0.2.5", NULL, "192.0.2.1:7640"};
+    const lc_peer page = {"192.0.2.6", "http://192.0.2.1:7640", "192.0.2.1:7640"};
+    const lc_peer listed = {"192.0.2.6", "https://ops.example", "192.0.2.1:7640"};
+    const lc_peer hostile = {"192.0.2.7", "https://evil.example", "192.0.2.1:7640"};
+    lc_conn *a1 = lc_hub_open(hub, NULL, &a, 0), *a2 = lc_hub_open(hub, NULL, &a, 0);
+    assert_false(lc_conn_closing(a1) || lc_conn_closing(a2));
+    lc_conn *a3 = lc_hub_open(hub, NULL, &a, 0);
+    cJSON *j = next(a3);
+    assert_string_equal(str(j, "code"), "too_many_connections");
+    assert_non_null(strstr(str(j, "message"), "192.0.2.5"));
+    assert_non_null(strstr(str(j, "message"), "max_per_address"));
+    cJSON_Delete(j);
+    assert_true(lc_conn_closing(a3));
+    assert_int_equal(lc_conn_close_status(a3, NULL), LC_CLOSE_POLICY);
+    /* nothing a refused connection sends is read */
+    assert_int_equal(say(hub, a3, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"x\"}", 0), 0);
+    expect_none(a3);
+    lc_hub_close(hub, a3);
+    lc_hub_close(hub, a1);
+    lc_conn *a4 = lc_hub_open(hub, NULL, &a, 0); /* a slot is free again */
+    assert_false(lc_conn_closing(a4));
+    lc_conn *p1 = lc_hub_open(hub, NULL, &page, 0), *p2 = lc_hub_open(hub, NULL, &listed, 0);
+    assert_false(lc_conn_closing(p1) || lc_conn_closing(p2));
+    lc_conn *h = lc_hub_open(hub, NULL, &hostile, 0);
+    j = next(h);
+    assert_string_equal(str(j, "code"), "forbidden");
+    assert_non_null(strstr(str(j, "message"), "https://evil.example"));
+    cJSON_Delete(j);
+    assert_true(lc_conn_closing(h));
+    assert_int_equal(lc_hub_connections(hub), 5);
+    lc_hub_free(hub);
+}
+
+static char rec_dir[64];
+static void record_to(lc_hub_config *hc) { snprintf(hc->opts.record, sizeof hc->opts.record, "%s", rec_dir); }
+
+/* A recording that cannot be written: one error recording_failed, setpoints go on. */
+static void test_hub_recording_fails(void **state)
+{
+    snprintf(rec_dir, sizeof rec_dir, "/proc/self/lacuna-no-such-dir");
+    lc_hub *hub = hub_with(record_to);
+    lc_conn *r = robot(hub, "tape", 0);
+    send_scan(hub, r, 1, 0.05, 0.05);
+    expect(r, "setpoint", NULL);
+    cJSON *j = next(r);
+    assert_string_equal(str(j, "type"), "error");
+    assert_string_equal(str(j, "code"), "recording_failed");
+    assert_non_null(strstr(str(j, "message"), "record: "));
+    assert_near(num(j, "seq"), 1, 0);
+    cJSON_Delete(j);
+    expect_none(r);
+    for (int k = 2; k <= 4; k++) { /* told once; control continues */
+        send_scan(hub, r, k, 0.05 * k, 0.05 * k);
+        expect(r, "setpoint", NULL);
+        expect_none(r);
+    }
     lc_hub_free(hub);
 }
 
@@ -466,17 +619,25 @@ static char *slurp(const char *path)
     return buf;
 }
 
+static const lc_record_control rec_ctl = {0, 0.005, 0.2, 0.05, 200};
+
+/* A fresh directory in dir (a "/tmp/lacuna-rec-XXXXXX" buffer), default robot and route. */
+static void recorder_setup(char *dir, lc_robot *robot, lc_route *route)
+{
+    assert_non_null(mkdtemp(dir));
+    lc_robot_default(robot);
+    lc_route_default(route);
+}
+
 static void test_recorder(void **state)
 {
     char dir[] = "/tmp/lacuna-rec-XXXXXX";
-    assert_non_null(mkdtemp(dir));
     lc_robot robot;
     lc_route route;
-    lc_robot_default(&robot);
-    lc_route_default(&route);
+    recorder_setup(dir, &robot, &route);
     route.count = 1;
     route.waypoints[0] = lc_v2(2.5, -1.0);
-    lc_record_control ctl = {0, 0.005, 0.2, 0.05, 200};
+    const lc_record_control ctl = rec_ctl;
     lc_recorder rec;
     assert_int_equal(lc_recorder_open(&rec, dir, "r-1", &robot, &route, &ctl), 0);
     assert_int_equal(lc_recorder_line(&rec, "{\"type\":\"x\"}", 12), 0);
@@ -517,6 +678,80 @@ static void test_recorder(void **state)
     rmdir(dir);
 }
 
+/* Writes that fail (/dev/full gives ENOSPC on every write): stop, keep errno, say so once. */
+static void test_recorder_full_disk(void **state)
+{
+    char dir[] = "/tmp/lacuna-rec-XXXXXX";
+    lc_robot robot;
+    lc_route route;
+    recorder_setup(dir, &robot, &route);
+    lc_recorder rec;
+    assert_int_equal(lc_recorder_open(&rec, dir, "full", &robot, &route, &rec_ctl), 0);
+    unlink(rec.path);
+    FILE *full = fopen("/dev/full", "w");
+    if (!full) {
+        rmdir(dir);
+        skip();
+    }
+    fclose(rec.file);
+    rec.file = full;
+    assert_int_equal(lc_recorder_line(&rec, "{\"type\":\"x\"}", 12), -1);
+    assert_false(lc_recorder_is_open(&rec));
+    assert_true(rec.failed);
+    assert_int_equal(rec.error, ENOSPC);
+    assert_int_equal(lc_recorder_line(&rec, "{}", 2), -1);
+    lc_recorder_close(&rec);
+    rmdir(dir);
+}
+
+/* Static files: links and ".." that leave the web directory are refused. */
+static void test_web_path_check(void **state)
+{
+    char top[] = "/tmp/lacuna-web-XXXXXX", web[64], path[128], root[PATH_MAX];
+    assert_non_null(mkdtemp(top));
+    snprintf(web, sizeof web, "%s/web", top);
+    assert_int_equal(mkdir(web, 0755), 0);
+    snprintf(path, sizeof path, "%s/sub", web);
+    assert_int_equal(mkdir(path, 0755), 0);
+    static const char *const files[] = {"web/index.html", "web/sub/a.js", "secret.txt"};
+    for (size_t i = 0; i < 3; i++) {
+        snprintf(path, sizeof path, "%s/%s", top, files[i]);
+        FILE *f = fopen(path, "w");
+        assert_non_null(f);
+        fclose(f);
+    }
+    static const char *const links[][2] = {
+        {"web/leak.txt", "../secret.txt"}, {"web/etc", "/etc"}, {"web/sub/home.html", "../index.html"},
+        {"web/loop", "loop"},
+    };
+    for (size_t i = 0; i < 4; i++) {
+        snprintf(path, sizeof path, "%s/%s", top, links[i][0]);
+        assert_int_equal(symlink(links[i][1], path), 0);
+    }
+    assert_non_null(realpath(web, root));
+    static const struct {
+        const char *uri;
+        lc_web_path want;
+    } cases[] = {
+        {"/", LC_WEB_INSIDE}, {"/index.html", LC_WEB_INSIDE}, {"/sub/a.js", LC_WEB_INSIDE},
+        {"/sub/home.html", LC_WEB_INSIDE}, {"/sub/../index.html", LC_WEB_INSIDE},
+        {"/leak.txt", LC_WEB_OUTSIDE}, {"/etc/hostname", LC_WEB_OUTSIDE}, {"/etc", LC_WEB_OUTSIDE},
+        {"/../secret.txt", LC_WEB_OUTSIDE}, {"/sub/../../secret.txt", LC_WEB_OUTSIDE},
+        {"/..", LC_WEB_OUTSIDE}, {"/loop", LC_WEB_OUTSIDE}, {"index.html", LC_WEB_OUTSIDE},
+        {"", LC_WEB_OUTSIDE}, {"/nothing.html", LC_WEB_MISSING},
+        {"/index.html/x", LC_WEB_MISSING},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        lc_web_path got = lc_web_path_check(root, cases[i].uri, strlen(cases[i].uri));
+        if (got != cases[i].want)
+            fail_msg("%s: %d, want %d", cases[i].uri, got, cases[i].want);
+    }
+    assert_int_equal(lc_web_path_check(root, "/index.html\0../x", 17), LC_WEB_OUTSIDE);
+    char cmd[160];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", top);
+    assert_int_equal(system(cmd), 0);
+}
+
 /* ------------------------------------------------------- end to end */
 
 static void test_end_to_end(void **state)
@@ -546,6 +781,8 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_config_defaults_and_flags),
         cmocka_unit_test(test_config_file),
+        cmocka_unit_test(test_config_allow_origin),
+        cmocka_unit_test(test_origin_allowed),
         cmocka_unit_test(test_config_print_round_trip),
         cmocka_unit_test(test_listen_parse),
         cmocka_unit_test(test_token_equal),
@@ -558,7 +795,11 @@ int main(void)
         cmocka_unit_test(test_hub_flood_and_hello_timeout),
         cmocka_unit_test(test_hub_shutdown),
         cmocka_unit_test(test_hub_max_connections),
+        cmocka_unit_test(test_hub_admission),
+        cmocka_unit_test(test_hub_recording_fails),
         cmocka_unit_test(test_recorder),
+        cmocka_unit_test(test_recorder_full_disk),
+        cmocka_unit_test(test_web_path_check),
         cmocka_unit_test(test_end_to_end),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
