@@ -10,7 +10,7 @@ cd "$(dirname "$0")"
 
 RUNTIME_PKGS=(gcc pkg-config meson ninja-build libqhull-dev libcjson-dev libwebsockets-dev)
 TEST_PKGS=(libcmocka-dev libgeos-dev coinor-libipopt-dev python3 python3-websockets
-           python3-jsonschema libxml2-utils)
+           python3-jsonschema libxml2-utils chromium)
 
 say() { printf '==> %s\n' "$*" >&2; }
 
@@ -56,12 +56,16 @@ suite() {
 
 cmd_demo() {
     ensure_packages "${RUNTIME_PKGS[@]}"
-    build build -Dwerror=false
+    build build
     exec scripts/demo.sh build/lacuna
 }
 
 cmd_test() {
     ensure_packages "${RUNTIME_PKGS[@]}" "${TEST_PKGS[@]}"
+    # The browser test's driver (tests/web/package-lock.json); Debian's node
+    # and npm unless a node with npm is installed already.
+    command -v npm >/dev/null || ensure_packages nodejs npm
+    npm ci --prefix tests/web --no-audit --no-fund --prefer-offline >/dev/null
     build build -Dwerror=true -Dtests=enabled -Dipopt=enabled
     suite build
     build build-san -Dwerror=true -Dtests=enabled -Dipopt=enabled \

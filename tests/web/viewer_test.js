@@ -1,0 +1,475 @@
+/*
+ * viewer_test.js - the viewer page (web/) in real headless Chromium against a
+ * live `lacuna serve` with a patrolling robot. Run by run.sh (meson suite
+ * 'web'); see run.sh for the environment it needs.
+ *
+ * What it checks, in order:
+ *  1. The page loads from the server with no console error and no request
+ *     leaving the server's origin; it connects (data-conn="live").
+ *  2. The map is drawn: the pixels hold the colours of the free region, the
+ *     robot, the route and the ellipse (lacuna.css --map-*), so a blank or
+ *     half-drawn canvas fails; two snapshots a moment apart differ (the
+ *     patrol moves).
+ *  3. The panel names the robot and shows a state from the protocol's list
+ *     with its words, and a setpoint in m/s.
+ *  4. Viewer only: every websocket frame the page sent is one hello with
+ *     role "viewer", once per connection.
+ *  5. Hidden tab: no redraws while document.visibilityState is "hidden"
+ *     (views keep arriving), drawing again when visible.
+ *  6. A second robot: the picker appears and switches the panel.
+ *  7. 360 x 740 phone screen: no sideways scrolling, the robot is drawn
+ *     inside the map and outside the panel, the toolbar and the header, and
+ *     the state badge is on the first screen.
+ *  8. The server is killed: the page says so; a new server on the same port:
+ *     the page reconnects by itself and draws new views.
+ * Screenshots go to LACUNA_WEB_SHOTS for people to look at. No timing
+ * assertions: every wait is "until this holds", with a generous timeout that
+ * only turns a hang into a failure.
+ */
+'use strict';
+
+const { spawn, spawnSync } = require('child_process');
+const fs = require('fs');
+const os = require('os');
+const path = require('path');
+const { chromium } = require('playwright-core');
+
+const EXE = process.env.LACUNA_EXE;
+const ROOT = process.env.LACUNA_SOURCE_ROOT;
+const SHOTS = process.env.LACUNA_WEB_SHOTS;
+const CHROMIUM = process.env.LACUNA_CHROMIUM || '/usr/bin/chromium';
+const SCENARIO = path.join(ROOT || '.', 'scenarios', 'office_round.jsonl');
+const ROBOT_NAME = 'test-rover';
+const STATES = ['idle', 'tracking', 'arrived', 'done', 'blocked', 'stale', 'too_close'];
+const WAIT = 20000; /* ms: a hang becomes a failure, never a speed check */
+
+const t0 = Date.now();
+const children = new Set();
+let failures = 0;
+
+function log(msg) {
+  process.stdout.write(`[${((Date.now() - t0) / 1000).toFixed(1)} s] ${msg}\n`);
+}
+
+function check(ok, what, detail) {
+  if (ok) {
+    log(`ok   ${what}`);
+  } else {
+    failures++;
+    log(`FAIL ${what}${detail !== undefined ? ': ' + detail : ''}`);
+  }
+  return ok;
+}
+
+function sleep(ms) { return new Promise((r) => setTimeout(r, ms)); }
+
+function track(child, name, logFile) {
+  children.add(child);
+  const out = fs.createWriteStream(logFile, { flags: 'a' });
+  child.stdout.pipe(out);
+  child.stderr.pipe(out);
+  child.on('exit', () => children.delete(child));
+  child.label = name;
+  return child;
+}
+
+function killAll() {
+  for (const c of children) {
+    try { c.kill('SIGKILL'); } catch (e) { /* gone already */ }
+  }
+}
+process.on('exit', killAll);
+
+/* ------------------------------------------------------------- server */
+
+/* Starts `lacuna serve` on listen (HOST:PORT, port 0 = any); resolves with
+ * the port it printed. */
+function startServer(listen) {
+  const child = track(spawn(EXE, ['serve', '--listen', listen, '--web', path.join(ROOT, 'web'),
+                                  '--log-level', 'info'],
+                            { stdio: ['ignore', 'pipe', 'pipe'] }),
+                      'server', path.join(SHOTS, 'server.log'));
+  return new Promise((resolve, reject) => {
+    let text = '';
+    const timer = setTimeout(() => reject(new Error('server printed no port: ' + text)), WAIT);
+    const onData = (d) => {
+      text += d.toString();
+      const m = /listening on http:\/\/127\.0\.0\.1:(\d+)\//.exec(text);
+      if (m) {
+        clearTimeout(timer);
+        child.stderr.off('data', onData);
+        child.stdout.off('data', onData);
+        resolve({ child, port: Number(m[1]) });
+      }
+    };
+    child.stderr.on('data', onData);
+    child.stdout.on('data', onData);
+    child.on('exit', (code) => { clearTimeout(timer); reject(new Error('server exited ' + code + ': ' + text)); });
+  });
+}
+
+function stopServer(child) {
+  return new Promise((resolve) => {
+    if (child.exitCode !== null || child.signalCode !== null)
+      return resolve();
+    child.once('exit', () => resolve());
+    child.kill('SIGKILL'); /* a crash, not a polite shutdown */
+  });
+}
+
+/* ------------------------------------------------------------- patrol */
+
+/* The patrolling robot: `lacuna sim --connect` when this build has it, else
+ * the Python robot beside this file. Restarted whenever it ends (the sim
+ * ends when its server goes away), until stopped. */
+function patrolCommand(port, name, start) {
+  const url = `ws://127.0.0.1:${port}/`;
+  const help = spawnSync(EXE, ['sim', '--help'], { encoding: 'utf8' });
+  const text = (help.stdout || '') + (help.stderr || '');
+  if (/--connect/.test(text) && !/not available yet/.test(text))
+    return { cmd: EXE, args: ['sim', SCENARIO, '--connect', url, '--name', name, '--laps', '0'],
+             what: 'lacuna sim --connect' };
+  const py = process.env.LACUNA_PYTHON || '/usr/bin/python3';
+  return { cmd: py, args: [path.join(__dirname, 'robot.py'), '--url', url, '--name', name, '--start', start],
+           what: 'tests/web/robot.py' };
+}
+
+function startPatrol(port, name, start) {
+  const p = patrolCommand(port, name, start);
+  const state = { stopped: false, starts: 0, what: p.what, child: null };
+  const run = () => {
+    if (state.stopped)
+      return;
+    state.starts++;
+    state.child = track(spawn(p.cmd, p.args, { stdio: ['ignore', 'pipe', 'pipe'] }),
+                        'patrol', path.join(SHOTS, 'patrol.log'));
+    state.child.on('exit', () => { if (!state.stopped) setTimeout(run, 300); });
+  };
+  run();
+  state.stop = () => {
+    state.stopped = true;
+    if (state.child)
+      state.child.kill('SIGTERM');
+  };
+  return state;
+}
+
+/* ------------------------------------------------------------- page helpers */
+
+async function waitFor(page, fn, arg, what) {
+  try {
+    await page.waitForFunction(fn, arg, { timeout: WAIT, polling: 100 });
+    return true;
+  } catch (e) {
+    return check(false, what, 'not within ' + WAIT / 1000 + ' s');
+  }
+}
+
+/* Pixel statistics of the map canvas, read in the page: how many pixels
+ * carry each map colour exactly, and the pixels themselves for a diff. */
+async function canvasStats(page) {
+  return page.evaluate(() => {
+    const c = document.getElementById('map');
+    const g = c.getContext('2d');
+    const d = g.getImageData(0, 0, c.width, c.height).data;
+    const cs = getComputedStyle(document.documentElement);
+    const names = ['paper', 'region', 'robot', 'route', 'ellipse', 'arrow', 'obstacle', 'region-line', 'points-core'];
+    const want = {};
+    for (const n of names) {
+      const hex = cs.getPropertyValue('--map-' + n).trim();
+      want[n] = parseInt(hex.slice(1), 16);
+    }
+    const count = {};
+    names.forEach((n) => { count[n] = 0; });
+    let other = 0;
+    for (let i = 0; i < d.length; i += 4) {
+      const rgb = (d[i] << 16) | (d[i + 1] << 8) | d[i + 2];
+      let hit = false;
+      for (const n of names) {
+        if (want[n] === rgb) {
+          count[n]++;
+          hit = true;
+          break;
+        }
+      }
+      if (!hit)
+        other++;
+    }
+    window.__lastPixels = window.__thisPixels || null;
+    window.__thisPixels = d;
+    let changed = -1;
+    if (window.__lastPixels && window.__lastPixels.length === d.length) {
+      changed = 0;
+      for (let i = 0; i < d.length; i += 4) {
+        if (d[i] !== window.__lastPixels[i] || d[i + 1] !== window.__lastPixels[i + 1] ||
+            d[i + 2] !== window.__lastPixels[i + 2])
+          changed++;
+      }
+    }
+    return { total: d.length / 4, count, other, changed };
+  });
+}
+
+async function dataset(page) {
+  return page.evaluate(() => {
+    const c = document.getElementById('map');
+    return {
+      conn: document.body.dataset.conn,
+      draws: Number(c.dataset.draws || 0),
+      views: Number(c.dataset.views || 0),
+      robotX: c.dataset.robotX === undefined ? null : Number(c.dataset.robotX),
+      robotY: c.dataset.robotY === undefined ? null : Number(c.dataset.robotY),
+    };
+  });
+}
+
+function rectOf(page, sel) {
+  return page.evaluate((s) => {
+    const el = document.querySelector(s);
+    if (!el)
+      return null;
+    const r = el.getBoundingClientRect();
+    return { left: r.left, top: r.top, right: r.right, bottom: r.bottom };
+  }, sel);
+}
+
+function inside(x, y, r, pad) {
+  return r && x >= r.left - pad && x <= r.right + pad && y >= r.top - pad && y <= r.bottom + pad;
+}
+
+/* Watches one page: console errors, page errors, requests off the origin,
+ * websocket frames it sends. */
+function watchPage(page, origin, tag) {
+  const w = { errors: [], offOrigin: [], sent: [], sockets: 0, allowSocketErrors: false };
+  page.on('console', (m) => {
+    if (m.type() !== 'error')
+      return;
+    const text = m.text();
+    /* While the server is down, Chromium itself logs each refused websocket
+     * attempt; that is the page retrying, not a fault of the page. */
+    if (w.allowSocketErrors && /^WebSocket connection to .* failed/.test(text))
+      return;
+    w.errors.push(`${tag}: console: ${text}`);
+  });
+  page.on('pageerror', (e) => w.errors.push(`${tag}: uncaught: ${e.message}`));
+  page.on('request', (r) => {
+    const u = r.url();
+    if (!u.startsWith(origin) && !u.startsWith('data:'))
+      w.offOrigin.push(u);
+  });
+  page.on('websocket', (ws) => {
+    w.sockets++;
+    const mine = [];
+    w.sent.push(mine);
+    ws.on('framesent', (f) => mine.push(f.payload));
+  });
+  return w;
+}
+
+function checkSentOnlyHello(w, tag) {
+  const bad = [];
+  let hellos = 0;
+  for (const frames of w.sent) {
+    frames.forEach((payload, i) => {
+      let m = null;
+      try { m = JSON.parse(String(payload)); } catch (e) { /* not JSON: bad */ }
+      if (i === 0 && m && m.type === 'hello' && m.role === 'viewer')
+        hellos++;
+      else
+        bad.push(String(payload).slice(0, 120));
+    });
+  }
+  check(bad.length === 0 && hellos >= 1,
+        `${tag}: the page sent only hellos with role viewer (${hellos} connections)`,
+        JSON.stringify(bad));
+}
+
+/* ------------------------------------------------------------- main */
+
+async function main() {
+  if (!EXE || !ROOT || !SHOTS)
+    throw new Error('set LACUNA_EXE, LACUNA_SOURCE_ROOT and LACUNA_WEB_SHOTS');
+  fs.mkdirSync(SHOTS, { recursive: true });
+  for (const f of fs.readdirSync(SHOTS))
+    if (/\.(png|log)$/.test(f))
+      fs.unlinkSync(path.join(SHOTS, f));
+
+  let server = await startServer('127.0.0.1:0');
+  const port = server.port;
+  const origin = `http://127.0.0.1:${port}`;
+  log(`server on port ${port}`);
+  const patrol = startPatrol(port, ROBOT_NAME, '1.8,1.8,0');
+  log(`patrol: ${patrol.what}`);
+
+  const profile = fs.mkdtempSync(path.join(os.tmpdir(), 'lacuna-web-'));
+  const context = await chromium.launchPersistentContext(profile, {
+    executablePath: CHROMIUM,
+    headless: true,
+    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
+           '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+    viewport: { width: 1280, height: 800 },
+  });
+  try {
+    /* ---- 1-3: desktop page */
+    const page = context.pages()[0] || await context.newPage();
+    const w = watchPage(page, origin, 'desktop');
+    await page.goto(origin + '/', { waitUntil: 'load' });
+    check(await page.title() === 'lacuna viewer', 'page served by lacuna serve', await page.title());
+    await waitFor(page, () => document.body.dataset.conn === 'live', null, 'page connects');
+    await waitFor(page, () => document.getElementById('map').dataset.robotX !== undefined, null,
+                  'robot drawn on the map');
+    await waitFor(page, (states) => states.includes(document.getElementById('state-code').textContent),
+                  STATES, 'panel shows a protocol state');
+    /* the patrol is under way: the robot drives (not only turns on the spot) */
+    await waitFor(page, () => /^0\.[1-9]|^[1-9]/.test(document.getElementById('f-setpoint').textContent),
+                  null, 'setpoint shows a forward speed');
+    await page.screenshot({ path: path.join(SHOTS, 'desktop-1.png') });
+    const a = await canvasStats(page);
+    const ds1 = await dataset(page);
+    await waitFor(page, (d) => Number(document.getElementById('map').dataset.views) >= d.views + 10 &&
+                  Number(document.getElementById('map').dataset.draws) >= d.draws + 5, ds1,
+                  'views and drawing go on');
+    await page.screenshot({ path: path.join(SHOTS, 'desktop-2.png') });
+    const b = await canvasStats(page);
+    const fr = (n) => (b.count[n] / b.total);
+    log(`canvas ${b.total} px: ` + Object.keys(b.count).map((n) => `${n} ${(100 * fr(n)).toFixed(2)}%`).join(', ') +
+        `, other ${(100 * b.other / b.total).toFixed(1)}%; changed ${b.changed} px`);
+    check(b.count.paper < 0.98 * b.total, 'canvas is not blank');
+    for (const n of ['region', 'robot', 'route', 'ellipse', 'region-line', 'points-core'])
+      check(b.count[n] > 20, `canvas shows the ${n} colour`, b.count[n]);
+    check(a.count.region > 20 && a.count.robot > 20, 'first snapshot shows region and robot too');
+    check(b.changed > 0.002 * b.total, 'canvas changed between the two snapshots', b.changed);
+
+    const panel = await page.evaluate(() => ({
+      name: document.getElementById('robot-name').textContent,
+      state: document.getElementById('state').textContent,
+      code: document.getElementById('state-code').textContent,
+      words: document.getElementById('state-words').textContent,
+      limit: document.getElementById('limit-words').textContent,
+      setpoint: document.getElementById('f-setpoint').textContent,
+      rate: document.getElementById('f-rate').textContent,
+      age: document.getElementById('f-age').textContent,
+    }));
+    log('panel: ' + JSON.stringify(panel));
+    check(panel.name === ROBOT_NAME, 'panel names the robot', panel.name);
+    check(STATES.includes(panel.code) && panel.state.length > 0 && panel.words.length > 20,
+          'panel shows the state in words', JSON.stringify(panel));
+    check(/m\/s$/.test(panel.setpoint), 'panel shows the setpoint in m/s', panel.setpoint);
+    check(/\/s$/.test(panel.rate), 'panel shows the robot frame rate', panel.rate);
+
+    /* ---- 5: hidden tab: no drawing, views still counted */
+    const before = await dataset(page);
+    await page.evaluate(() => {
+      Object.defineProperty(document, 'visibilityState', { configurable: true, get: () => 'hidden' });
+      document.dispatchEvent(new Event('visibilitychange'));
+    });
+    const hidden0 = await dataset(page);
+    await page.waitForFunction((n) => Number(document.getElementById('map').dataset.views) >= n + 10,
+                               hidden0.views, { timeout: WAIT });
+    const hidden1 = await dataset(page);
+    check(hidden1.draws === hidden0.draws && hidden1.views > hidden0.views,
+          'hidden tab: views arrive, nothing drawn', JSON.stringify({ hidden0, hidden1 }));
+    check(await page.textContent('#f-draw') === 'paused', 'panel says drawing is paused');
+    await page.evaluate(() => {
+      delete document.visibilityState;
+      document.dispatchEvent(new Event('visibilitychange'));
+    });
+    await waitFor(page, (n) => Number(document.getElementById('map').dataset.draws) > n, hidden1.draws,
+                  'drawing resumes when the tab shows');
+    check(before.draws > 0, 'drawing counted');
+
+    /* ---- 7: phone */
+    const phone = await context.newPage();
+    await phone.setViewportSize({ width: 360, height: 740 });
+    const wp = watchPage(phone, origin, 'phone');
+    await phone.goto(origin + '/', { waitUntil: 'load' });
+    await waitFor(phone, () => document.getElementById('map').dataset.robotX !== undefined &&
+                  document.getElementById('state-code').textContent !== '', null, 'phone: robot drawn');
+    await sleep(300);
+    await phone.screenshot({ path: path.join(SHOTS, 'phone-360.png') });
+    await phone.screenshot({ path: path.join(SHOTS, 'phone-360-full.png'), fullPage: true });
+    const pd = await dataset(phone);
+    const geo = {
+      canvas: await rectOf(phone, '#map'), panel: await rectOf(phone, '#panel'),
+      tools: await rectOf(phone, '.tools'), bar: await rectOf(phone, '.bar'),
+      state: await rectOf(phone, '#state'),
+      scrollWidth: await phone.evaluate(() => document.documentElement.scrollWidth),
+      stateFont: await phone.evaluate(() => parseFloat(getComputedStyle(document.getElementById('state')).fontSize)),
+    };
+    log(`phone: robot at (${pd.robotX}, ${pd.robotY}); ` + JSON.stringify(geo));
+    check(geo.scrollWidth <= 360, 'phone: no sideways scrolling', geo.scrollWidth);
+    check(pd.robotX !== null && inside(pd.robotX, pd.robotY, geo.canvas, -10), 'phone: robot inside the map');
+    check(!inside(pd.robotX, pd.robotY, geo.panel, 10), 'phone: the panel does not cover the robot');
+    check(!inside(pd.robotX, pd.robotY, geo.tools, 10) && !inside(pd.robotX, pd.robotY, geo.bar, 10),
+          'phone: toolbar and header do not cover the robot');
+    check(geo.state && geo.state.bottom <= 740, 'phone: the state is on the first screen', geo.state && geo.state.bottom);
+    check(geo.stateFont >= 20, 'phone: the state is in large type', geo.stateFont);
+
+    /* ---- 6: a second robot: the picker shows, picking switches the panel */
+    await page.bringToFront();
+    const second = startPatrol(port, 'test-rover-2', '8.2,6.2,3.1416');
+    await waitFor(page, () => !document.getElementById('picker-wrap').hidden &&
+                  document.getElementById('picker').options.length === 2, null,
+                  'picker appears with two robots');
+    await page.selectOption('#picker', 'test-rover-2');
+    await waitFor(page, () => document.getElementById('robot-name').textContent === 'test-rover-2' &&
+                  document.getElementById('state-code').textContent !== '', null,
+                  'picking the second robot shows it in the panel');
+    await sleep(500);
+    await page.screenshot({ path: path.join(SHOTS, 'two-robots.png') });
+    await page.selectOption('#picker', ROBOT_NAME);
+    await waitFor(page, (n) => document.getElementById('robot-name').textContent === n, ROBOT_NAME,
+                  'picking the first robot again');
+    second.stop();
+
+    /* ---- 8: server killed and restarted on the same port */
+    w.allowSocketErrors = wp.allowSocketErrors = true;
+    check(w.errors.length === 0 && wp.errors.length === 0, 'no console errors while connected',
+          w.errors.concat(wp.errors).join(' | '));
+    await stopServer(server.child);
+    log('server killed');
+    await waitFor(page, () => document.body.dataset.conn === 'down', null, 'page shows the connection lost');
+    await page.screenshot({ path: path.join(SHOTS, 'server-lost.png') });
+    const pill = await page.textContent('#conn');
+    check(/lost|retry/.test(pill), 'connection pill says lost and when it retries', pill);
+    const lost = await dataset(page);
+    server = await startServer(`127.0.0.1:${port}`);
+    log('server restarted on the same port');
+    await waitFor(page, () => document.body.dataset.conn === 'live', null, 'page reconnects by itself');
+    await waitFor(page, (n) => Number(document.getElementById('map').dataset.views) >= n + 10, lost.views,
+                  'new views after the restart');
+    /* the phone page was opened last: bring the desktop one to the front
+     * (Chromium throttles frames of pages behind it) */
+    await page.bringToFront();
+    await canvasStats(page);
+    const again = await dataset(page);
+    await waitFor(page, (d) => Number(document.getElementById('map').dataset.views) >= d.views + 5 &&
+                  Number(document.getElementById('map').dataset.draws) >= d.draws + 5, again,
+                  'drawing after the restart');
+    const c = await canvasStats(page);
+    await page.screenshot({ path: path.join(SHOTS, 'reconnected.png') });
+    check(c.count.robot > 20 && c.count.region > 20 && c.changed > 0.002 * c.total,
+          'draws the live patrol again', JSON.stringify({ robot: c.count.robot, region: c.count.region, changed: c.changed }));
+    await waitFor(phone, () => document.body.dataset.conn === 'live', null, 'phone page reconnects too');
+
+    /* ---- 1, 4: clean console, same origin, viewer only */
+    const errs = w.errors.concat(wp.errors);
+    check(errs.length === 0, 'no console or page errors', errs.join(' | '));
+    const off = w.offOrigin.concat(wp.offOrigin);
+    check(off.length === 0, 'nothing fetched from outside the server', off.join(' '));
+    checkSentOnlyHello(w, 'desktop');
+    checkSentOnlyHello(wp, 'phone');
+    check(w.sockets >= 2, 'desktop page opened a new websocket after the restart', w.sockets);
+  } finally {
+    patrol.stop();
+    await context.close();
+    await stopServer(server.child);
+    fs.rmSync(profile, { recursive: true, force: true });
+  }
+  log(`screenshots in ${SHOTS}`);
+  log(failures ? `${failures} check(s) failed` : 'all checks passed');
+  return failures ? 1 : 0;
+}
+
+main().then((rc) => { killAll(); process.exit(rc); },
+            (e) => { log('FAIL ' + (e && e.stack || e)); killAll(); process.exit(1); });

@@ -1,0 +1,1211 @@
+/*
+ * lacuna.js - the viewer page: draws what `lacuna serve` plans for each
+ * robot, live, from the server's `view` messages (proto/PROTOCOL.md, "Server
+ * to viewer: view").
+ *
+ * Invariants:
+ * - Read-only. The only message this page ever sends is its hello with role
+ *   "viewer" (the websocket is opened in connect() and nothing else calls
+ *   send()). A viewer cannot steer a robot; the server refuses anything else
+ *   from a viewer anyway ("forbidden").
+ * - World frame, metres, radians counter-clockwise from +x, y up on screen.
+ *   Screen positions are CSS pixels; the canvas backing store is scaled by
+ *   devicePixelRatio so lines stay sharp on phones.
+ * - Nothing is fetched: no script, font or image from anywhere. The colours
+ *   of the map are CSS custom properties of lacuna.css (--map-*), read once,
+ *   so the legend swatches and the canvas cannot drift apart.
+ * - Drawing stops while the tab is hidden (document.visibilityState); views
+ *   keep arriving and the trail keeps growing, so the picture is current the
+ *   moment the tab shows again.
+ *
+ * URL fragment: #robot=NAME watches that robot only (the hello names it, the
+ * server sends nothing else); #token=TOKEN for a server with a viewer token.
+ *
+ * For the browser test (tests/web): the canvas carries data-robot-x and
+ * data-robot-y (the drawn robot centre, viewport CSS pixels), data-draws
+ * (maps drawn) and data-views (views received); the body carries data-conn
+ * (live, wait, down).
+ */
+(function () {
+  'use strict';
+
+  var PROTOCOL = 'lacuna.v1';
+  var TRAIL_SECONDS = 30;         /* the trail fades out over this time */
+  var TRAIL_BREAK_M = 1.0;        /* a jump longer than this starts a new trail piece */
+  var SILENT_SECONDS = 2.0;       /* a connected robot gets a view at least every watchdog period */
+  var FORGET_SECONDS = 120;       /* a silent robot leaves the picker after this */
+  var BACKOFF_MIN = 0.5, BACKOFF_MAX = 8; /* s between reconnection attempts */
+  var SCALE_MIN = 4, SCALE_MAX = 2500;   /* px per metre */
+  var RATE_WINDOW = 2.0;          /* s of arrivals the rates are averaged over */
+  var NAME_RE = /^[A-Za-z0-9_-][A-Za-z0-9_.-]{0,63}$/; /* PROTOCOL.md, hello */
+
+  function $(id) { return document.getElementById(id); }
+  function now() { return performance.now() / 1000; }
+  function finite(x) { return typeof x === 'number' && isFinite(x); }
+  function isPoint(p) { return Array.isArray(p) && p.length >= 2 && finite(p[0]) && finite(p[1]); }
+  function clamp(x, lo, hi) { return Math.min(hi, Math.max(lo, x)); }
+
+  /* ------------------------------------------------------------ words */
+
+  /* What each state means for the person watching the run. cls picks the
+   * colour of the badge: good (moving on), calm (finished something), warn,
+   * bad (stopped for a reason that needs a look), none. */
+  var STATES = {
+    tracking: { title: 'On its way', cls: 'good',
+      words: function (v) { return 'Driving along the route' + toWaypoint(v) + '.'; } },
+    arrived: { title: 'At a waypoint', cls: 'calm',
+      words: function (v) { return 'Reached waypoint ' + wpNumber(v) + ' just now; the next one comes up.'; } },
+    done: { title: 'Route done', cls: 'calm',
+      words: function () { return 'The route is finished. The robot stands still until it gets a new one.'; } },
+    blocked: { title: 'Blocked', cls: 'bad',
+      words: function (v) { return 'It has not got closer' + toWaypoint(v) + ' for the blocked time. ' +
+        'It holds still and keeps looking; it moves again as soon as a way opens ' +
+        '(or gives the waypoint up, if the route says skip).'; } },
+    stale: { title: 'No sensor data', cls: 'bad',
+      words: function () { return 'Stopped by the watchdog: lacuna has had no sensor frame from the robot for ' +
+        (conn.watchdogMs ? conn.watchdogMs + ' ms' : 'the watchdog time') +
+        '. Check the robot\u2019s link and its scanner.'; } },
+    too_close: { title: 'Too close', cls: 'bad',
+      words: function () { return 'Something is closer to the robot\u2019s centre than its radius plus margin. ' +
+        'It may turn but not drive until it is clear.'; } },
+    idle: { title: 'No route', cls: 'none',
+      words: function () { return 'Connected, but it has no route: it waits for one.'; } }
+  };
+
+  /* "Why this speed?": what bound the setpoint (src/core/motion.h). */
+  var LIMITS = {
+    none: 'Nothing asks it to move.',
+    goal: 'It eases off as it nears the target.',
+    top_speed: 'It is at its top speed (v_max).',
+    braking: 'It keeps room to stop inside the free region: an obstacle, or the edge of what the sensor has seen, is close ahead.',
+    accel: 'Its acceleration limit (a_max) holds the change of speed.',
+    turning: 'It turns on the spot first: the target is too far off its heading to drive.',
+    turn_rate: 'It turns as fast as it may (w_max, or its turn acceleration dw_max).',
+    too_close: 'It may not drive: an obstacle is inside radius + margin.',
+    stale: 'Stopped: no fresh sensor frame.',
+    blocked: 'Stopped: no progress toward the waypoint.',
+    arrived: 'Stopped at the waypoint for this frame.',
+    idle: 'Stopped: no route.'
+  };
+
+  function wpNumber(v) {
+    return finite(v.waypoint) ? String(v.waypoint + 1) : '?';
+  }
+
+  function toWaypoint(v) {
+    if (!finite(v.waypoint))
+      return '';
+    var n = v.route && Array.isArray(v.route.waypoints) ? v.route.waypoints.length : 0;
+    return ' toward waypoint ' + (v.waypoint + 1) + (n ? ' of ' + n : '');
+  }
+
+  function fmt(x, digits) { return finite(x) ? x.toFixed(digits) : '\u2013'; }
+
+  function fmtMetres(x) {
+    if (!finite(x))
+      return '\u2013';
+    return Math.abs(x) < 10 ? x.toFixed(2) + ' m' : x.toFixed(1) + ' m';
+  }
+
+  function fmtAge(s) {
+    if (!finite(s))
+      return '\u2013';
+    return s < 1 ? Math.round(s * 1000) + ' ms' : s < 60 ? s.toFixed(1) + ' s' : Math.round(s / 60) + ' min';
+  }
+
+  /* ------------------------------------------------------------ options */
+
+  function readFragment() {
+    var p = new URLSearchParams(location.hash.replace(/^#/, ''));
+    return { robot: p.get('robot') || '', token: p.get('token') || '' };
+  }
+
+  var opts = readFragment();
+  var fragmentProblem = '';
+  if (opts.robot && !NAME_RE.test(opts.robot)) {
+    fragmentProblem = 'The address names the robot "' + opts.robot.slice(0, 70) +
+      '", which is not a robot name (letters, digits, _ - . only); watching every robot instead.';
+    opts.robot = '';
+  }
+
+  /* ------------------------------------------------------------ palette */
+
+  var P = {};
+  function readPalette() {
+    var cs = getComputedStyle(document.documentElement);
+    ['paper', 'ink', 'grid', 'region', 'region-line', 'ellipse', 'obstacle', 'grown', 'grown-line',
+     'points', 'points-core', 'route', 'target', 'robot', 'robot-bad', 'arrow', 'trail', 'other', 'card'
+    ].forEach(function (k) {
+      P[k] = cs.getPropertyValue('--map-' + k).trim() || '#000';
+    });
+  }
+
+  /* ------------------------------------------------------------ robots */
+
+  /* name -> {name, view, arrivals: [{t, seq}], trail: [{x, y, t, gap}],
+   *          minClear, lastArrival} */
+  var robots = new Map();
+  var selected = opts.robot || '';
+  var viewsTotal = 0;
+
+  function robotFor(name) {
+    var r = robots.get(name);
+    if (!r) {
+      r = { name: name, view: null, arrivals: [], trail: [], minClear: Infinity, lastArrival: 0 };
+      robots.set(name, r);
+      pickerDirty = true;
+    }
+    return r;
+  }
+
+  function onView(v) {
+    if (typeof v.robot !== 'string' || !v.robot)
+      return;
+    var t = now();
+    var r = robotFor(v.robot);
+    var prev = r.view;
+    r.view = v;
+    r.lastArrival = t;
+    r.arrivals.push({ t: t, seq: finite(v.seq) ? v.seq : null });
+    while (r.arrivals.length > 2 && r.arrivals[0].t < t - RATE_WINDOW)
+      r.arrivals.shift();
+    if (finite(v.clearance))
+      r.minClear = Math.min(r.minClear, v.clearance);
+    var pose = v.pose;
+    if (Array.isArray(pose) && finite(pose[0]) && finite(pose[1])) {
+      var last = r.trail.length ? r.trail[r.trail.length - 1] : null;
+      /* A new session (seq went back, e.g. the robot reconnected) or a jump
+       * starts a new piece of trail instead of a line across the map. */
+      var restarted = prev && finite(prev.seq) && finite(v.seq) && v.seq < prev.seq;
+      var gap = !last || restarted || Math.hypot(pose[0] - last.x, pose[1] - last.y) > TRAIL_BREAK_M;
+      if (!last || gap || Math.hypot(pose[0] - last.x, pose[1] - last.y) > 0.01)
+        r.trail.push({ x: pose[0], y: pose[1], t: t, gap: gap });
+    }
+    while (r.trail.length && r.trail[0].t < t - TRAIL_SECONDS)
+      r.trail.shift();
+    if (!selected) {
+      selected = v.robot;
+      pickerDirty = true;
+    }
+    viewsTotal++;
+    canvas.dataset.views = String(viewsTotal);
+    mapDirty = true;
+    if (v.robot === selected)
+      panelDirty = true;
+  }
+
+  function forgetSilent(t) {
+    robots.forEach(function (r, name) {
+      if (name !== selected && t - r.lastArrival > FORGET_SECONDS) {
+        robots.delete(name);
+        pickerDirty = true;
+      }
+    });
+  }
+
+  function isSilent(r, t) { return !r || !r.lastArrival || t - r.lastArrival > SILENT_SECONDS; }
+
+  /* ------------------------------------------------------------ connection */
+
+  var conn = {
+    ws: null, status: 'wait', attempt: 0, retryAt: 0, timer: 0, helloAt: 0, rtt: NaN,
+    watchdogMs: 0, viewHz: 0, stopped: false, token: opts.token, everLive: false
+  };
+
+  function serverUrl() {
+    return (location.protocol === 'https:' ? 'wss://' : 'ws://') + location.host + '/';
+  }
+
+  function setConn(status, text) {
+    conn.status = status;
+    var pill = $('conn');
+    pill.className = 'pill pill-' + status;
+    if (pill.textContent !== text)
+      pill.textContent = text;
+    document.body.dataset.conn = status;
+    mapDirty = true;
+  }
+
+  function showMessage(text) {
+    var m = $('message');
+    m.textContent = text || '';
+    m.hidden = !text;
+  }
+
+  function connect() {
+    clearTimeout(conn.timer);
+    conn.timer = 0;
+    if (conn.ws)
+      return;
+    if (!location.host) {
+      setConn('down', 'no server');
+      showMessage('Open this page from lacuna serve (http://HOST:PORT/), not from a file.');
+      return;
+    }
+    setConn('wait', conn.attempt ? 'reconnecting\u2026' : 'connecting\u2026');
+    var ws;
+    try {
+      ws = new WebSocket(serverUrl(), PROTOCOL);
+    } catch (e) {
+      scheduleRetry();
+      return;
+    }
+    conn.ws = ws;
+    ws.onopen = function () {
+      var hello = { type: 'hello', role: 'viewer', robot: opts.robot };
+      if (conn.token)
+        hello.token = conn.token;
+      conn.helloAt = now();
+      ws.send(JSON.stringify(hello)); /* the only message this page sends */
+    };
+    ws.onmessage = function (ev) {
+      if (typeof ev.data !== 'string')
+        return;
+      var m;
+      try {
+        m = JSON.parse(ev.data);
+      } catch (e) {
+        return; /* the server sends JSON; ignore a broken message rather than stop */
+      }
+      if (!m || typeof m !== 'object')
+        return;
+      if (m.type === 'view')
+        onView(m);
+      else if (m.type === 'welcome')
+        onWelcome(m);
+      else if (m.type === 'error')
+        onError(m);
+    };
+    ws.onclose = function (ev) {
+      if (conn.ws !== ws)
+        return;
+      conn.ws = null;
+      if (conn.stopped) {
+        setConn('down', 'not connected');
+        return;
+      }
+      scheduleRetry(ev.code);
+    };
+    ws.onerror = function () { /* onclose follows and schedules the retry */ };
+  }
+
+  function onWelcome(m) {
+    conn.rtt = now() - conn.helloAt;
+    conn.attempt = 0;
+    conn.everLive = true;
+    conn.watchdogMs = finite(m.watchdog_ms) ? m.watchdog_ms : 0;
+    conn.viewHz = finite(m.view_hz) ? m.view_hz : 0;
+    setConn('live', 'live');
+    showMessage(fragmentProblem);
+    panelDirty = true;
+  }
+
+  function onError(m) {
+    var code = String(m.code || 'error');
+    var text = typeof m.message === 'string' ? m.message : '';
+    if (code === 'unauthorized') {
+      /* Retrying with the same token cannot help: wait for the form. */
+      conn.stopped = true;
+      $('access').open = true;
+      showMessage(conn.token ? 'The server refused this viewer token. Enter the right one below.'
+                             : 'This server needs a viewer token. Enter it below.');
+      $('token').focus();
+    } else if (conn.status !== 'live') {
+      conn.stopped = true;
+      showMessage('The server refused this page\u2019s hello: ' + code + ' ' + text);
+    } else {
+      showMessage('Server says: ' + code + ' ' + text);
+    }
+  }
+
+  function scheduleRetry() {
+    conn.attempt++;
+    var delay = Math.min(BACKOFF_MAX, BACKOFF_MIN * Math.pow(2, conn.attempt - 1));
+    delay *= 0.8 + 0.4 * Math.random(); /* several viewers do not knock at once */
+    conn.retryAt = now() + delay;
+    conn.timer = setTimeout(connect, delay * 1000);
+    updateRetryText();
+  }
+
+  function updateRetryText() {
+    if (conn.ws || conn.stopped || !conn.timer)
+      return;
+    var left = Math.max(0, conn.retryAt - now());
+    setConn('down', (conn.everLive ? 'server lost' : 'no server') + ' \u00b7 retry ' + Math.ceil(left) + ' s');
+  }
+
+  function retryNow() {
+    if (conn.ws)
+      return;
+    conn.stopped = false;
+    connect();
+  }
+
+  /* ------------------------------------------------------------ camera */
+
+  var cam = { x: 0, y: 0, scale: 40, follow: true, placed: false };
+  var canvas = $('map');
+  var ctx = canvas.getContext('2d');
+  var cssW = 1, cssH = 1, dpr = 1;
+
+  function resize() {
+    var rect = canvas.getBoundingClientRect();
+    dpr = window.devicePixelRatio || 1;
+    cssW = Math.max(1, rect.width);
+    cssH = Math.max(1, rect.height);
+    var w = Math.round(cssW * dpr), h = Math.round(cssH * dpr);
+    if (canvas.width !== w || canvas.height !== h) {
+      canvas.width = w;
+      canvas.height = h;
+    }
+    mapDirty = true;
+  }
+
+  function sx(x) { return cssW / 2 + (x - cam.x) * cam.scale; }
+  function sy(y) { return cssH / 2 - (y - cam.y) * cam.scale; }
+  function worldX(px) { return cam.x + (px - cssW / 2) / cam.scale; }
+  function worldY(py) { return cam.y - (py - cssH / 2) / cam.scale; }
+
+  function zoomAt(factor, px, py) {
+    var wx = worldX(px), wy = worldY(py);
+    cam.scale = clamp(cam.scale * factor, SCALE_MIN, SCALE_MAX);
+    if (!cam.follow) {
+      /* keep the world point under the finger where it is */
+      cam.x = wx - (px - cssW / 2) / cam.scale;
+      cam.y = wy + (py - cssH / 2) / cam.scale;
+    }
+    mapDirty = true;
+  }
+
+  function setFollow(on) {
+    cam.follow = on;
+    $('follow').setAttribute('aria-pressed', on ? 'true' : 'false');
+    mapDirty = true;
+  }
+
+  /* Points that should be on screen: the route, the robot, its region. */
+  function interesting(v) {
+    var pts = [];
+    if (v.route && Array.isArray(v.route.waypoints))
+      v.route.waypoints.forEach(function (p) { if (isPoint(p)) pts.push(p); });
+    if (isPoint(v.pose))
+      pts.push(v.pose);
+    if (v.region && Array.isArray(v.region.vertices))
+      v.region.vertices.forEach(function (p) { if (isPoint(p)) pts.push(p); });
+    return pts;
+  }
+
+  /* Scale at which every point is on screen, around (cx, cy), with a border. */
+  function scaleToShow(pts, cx, cy) {
+    var pad = 28, s = SCALE_MAX;
+    pts.forEach(function (p) {
+      var dx = Math.abs(p[0] - cx), dy = Math.abs(p[1] - cy);
+      if (dx > 1e-6)
+        s = Math.min(s, (cssW / 2 - pad) / dx);
+      if (dy > 1e-6)
+        s = Math.min(s, (cssH / 2 - pad) / dy);
+    });
+    return clamp(s, SCALE_MIN, 200);
+  }
+
+  /* The centre and scale that show the route, the robot and its region. */
+  function fitView(v) {
+    var pts = interesting(v);
+    if (!pts.length)
+      return null;
+    var x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+    pts.forEach(function (p) {
+      x0 = Math.min(x0, p[0]); x1 = Math.max(x1, p[0]);
+      y0 = Math.min(y0, p[1]); y1 = Math.max(y1, p[1]);
+    });
+    var x = (x0 + x1) / 2, y = (y0 + y1) / 2;
+    return { x: x, y: y, scale: scaleToShow(pts, x, y) };
+  }
+
+  function fit() {
+    var r = robots.get(selected), f = r && r.view ? fitView(r.view) : null;
+    if (!f)
+      return;
+    cam.x = f.x;
+    cam.y = f.y;
+    cam.scale = f.scale;
+    setFollow(false);
+    cam.placed = true;
+  }
+
+  /* First sight of a robot: follow it, at the zoom that would show its whole
+   * route (the route may run off one side: the robot's surroundings matter
+   * more than the far end of the route). */
+  function placeCamera(v) {
+    if (cam.placed || !isPoint(v.pose))
+      return;
+    var f = fitView(v);
+    cam.placed = true;
+    cam.x = v.pose[0];
+    cam.y = v.pose[1];
+    if (f)
+      cam.scale = f.scale;
+  }
+
+  /* ------------------------------------------------------------ drawing */
+
+  var mapDirty = true, panelDirty = true, pickerDirty = true;
+  var draws = 0, drawTimes = [], lastDraw = 0, lastPanel = 0;
+  var hatch = null;
+
+  function hatchPattern() {
+    if (hatch)
+      return hatch;
+    var c = document.createElement('canvas');
+    c.width = c.height = 10;
+    var g = c.getContext('2d');
+    g.fillStyle = P.grown;
+    g.globalAlpha = 0.35;
+    g.fillRect(0, 0, 10, 10);
+    g.globalAlpha = 0.9;
+    g.strokeStyle = P.grown;
+    g.lineWidth = 3;
+    g.beginPath();
+    g.moveTo(-2, 12); g.lineTo(12, -2);
+    g.moveTo(-2, 2); g.lineTo(2, -2);
+    g.moveTo(8, 12); g.lineTo(12, 8);
+    g.stroke();
+    hatch = ctx.createPattern(c, 'repeat');
+    return hatch;
+  }
+
+  /* A path through world points (those that are not points are skipped). */
+  function worldPath(pts, close) {
+    ctx.beginPath();
+    var first = true;
+    for (var i = 0; i < pts.length; i++) {
+      var p = pts[i];
+      if (!isPoint(p))
+        continue;
+      if (first)
+        ctx.moveTo(sx(p[0]), sy(p[1]));
+      else
+        ctx.lineTo(sx(p[0]), sy(p[1]));
+      first = false;
+    }
+    if (close)
+      ctx.closePath();
+  }
+
+  function strokeWith(colour, width, dash) {
+    ctx.strokeStyle = colour;
+    ctx.lineWidth = width;
+    if (dash)
+      ctx.setLineDash(dash);
+    ctx.stroke();
+    if (dash)
+      ctx.setLineDash([]);
+  }
+
+  function drawGrid() {
+    /* line spacing: the smallest of 1-2-5 steps at least 48 px apart */
+    var steps = [0.1, 0.2, 0.5, 1, 2, 5, 10, 20, 50, 100, 200, 500];
+    var step = steps[steps.length - 1];
+    for (var i = 0; i < steps.length; i++) {
+      if (steps[i] * cam.scale >= 48) {
+        step = steps[i];
+        break;
+      }
+    }
+    ctx.strokeStyle = P.grid;
+    ctx.lineWidth = 1;
+    ctx.beginPath();
+    var x0 = Math.floor(worldX(0) / step) * step, x1 = worldX(cssW);
+    for (var x = x0; x <= x1; x += step) {
+      var px = Math.round(sx(x)) + 0.5;
+      ctx.moveTo(px, 0); ctx.lineTo(px, cssH);
+    }
+    var y0 = Math.floor(worldY(cssH) / step) * step, y1 = worldY(0);
+    for (var y = y0; y <= y1; y += step) {
+      var py = Math.round(sy(y)) + 0.5;
+      ctx.moveTo(0, py); ctx.lineTo(cssW, py);
+    }
+    ctx.stroke();
+    return step;
+  }
+
+  function drawRegion(v) {
+    var verts = v.region && Array.isArray(v.region.vertices) ? v.region.vertices : null;
+    if (!verts || verts.length < 3)
+      return;
+    worldPath(verts, true);
+    ctx.fillStyle = P.region;
+    ctx.fill();
+    ctx.lineJoin = 'round';
+    strokeWith(P['region-line'], 3);
+  }
+
+  function drawPolygons(list, fill, line, width) {
+    if (!Array.isArray(list))
+      return;
+    ctx.lineJoin = 'round';
+    ctx.lineCap = 'round';
+    list.forEach(function (poly) {
+      if (!Array.isArray(poly) || !poly.length)
+        return;
+      if (poly.length < 3) {
+        /* a point or a wall seen edge-on: a thick stroke shows it */
+        ctx.beginPath();
+        var a = poly[0], b = poly[poly.length - 1];
+        if (!isPoint(a) || !isPoint(b))
+          return;
+        ctx.moveTo(sx(a[0]), sy(a[1]));
+        ctx.lineTo(sx(b[0]) + (poly.length === 1 ? 0.01 : 0), sy(b[1]));
+        ctx.strokeStyle = line;
+        ctx.lineWidth = width + 3;
+        ctx.stroke();
+        return;
+      }
+      worldPath(poly, true);
+      if (fill) {
+        ctx.fillStyle = fill;
+        ctx.fill();
+      }
+      ctx.strokeStyle = line;
+      ctx.lineWidth = width;
+      ctx.stroke();
+    });
+  }
+
+  function drawPoints(v) {
+    var xy = v.points;
+    if (!Array.isArray(xy))
+      return;
+    /* light dots ringed in ink: they show on the paper and on the dark
+     * obstacle outlines they usually lie on */
+    var i, x, y;
+    ctx.fillStyle = P.points;
+    for (i = 0; i + 1 < xy.length; i += 2) {
+      if (finite(xy[i]) && finite(xy[i + 1]))
+        ctx.fillRect(sx(xy[i]) - 3, sy(xy[i + 1]) - 3, 6, 6);
+    }
+    ctx.fillStyle = P['points-core'];
+    for (i = 0; i + 1 < xy.length; i += 2) {
+      if (finite(xy[i]) && finite(xy[i + 1])) {
+        x = sx(xy[i]);
+        y = sy(xy[i + 1]);
+        ctx.fillRect(x - 1.5, y - 1.5, 3, 3);
+      }
+    }
+  }
+
+  function drawEllipse(v) {
+    var e = v.ellipse;
+    if (!e || !isPoint(e.center) || !Array.isArray(e.matrix) || e.matrix.length !== 2)
+      return;
+    var C = e.matrix;
+    if (!isPoint(C[0]) || !isPoint(C[1]))
+      return;
+    var pts = [];
+    for (var i = 0; i < 72; i++) {
+      var t = i / 72 * 2 * Math.PI, c = Math.cos(t), s = Math.sin(t);
+      pts.push([e.center[0] + C[0][0] * c + C[0][1] * s, e.center[1] + C[1][0] * c + C[1][1] * s]);
+    }
+    worldPath(pts, true);
+    strokeWith(P.ellipse, 3, [10, 5]);
+  }
+
+  function drawRoute(v) {
+    var route = v.route;
+    if (!route || !Array.isArray(route.waypoints) || !route.waypoints.length)
+      return;
+    var wps = route.waypoints.filter(isPoint);
+    var cur = finite(route.current) ? route.current : (finite(v.waypoint) ? v.waypoint : -1);
+    worldPath(wps, route.loop && wps.length > 2);
+    strokeWith(P.route, 3, [12, 8]);
+
+    var wp = route.waypoints[cur];
+    if (isPoint(wp) && finite(route.tolerance) && route.tolerance * cam.scale > 4) {
+      ctx.beginPath();
+      ctx.arc(sx(wp[0]), sy(wp[1]), route.tolerance * cam.scale, 0, 2 * Math.PI);
+      strokeWith(P.route, 2, [4, 4]);
+    }
+    ctx.font = 'bold 13px "DejaVu Sans", sans-serif';
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'middle';
+    route.waypoints.forEach(function (p, i) {
+      if (!isPoint(p))
+        return;
+      var r = i === cur ? 13 : 10;
+      ctx.beginPath();
+      ctx.arc(sx(p[0]), sy(p[1]), r, 0, 2 * Math.PI);
+      ctx.fillStyle = i === cur ? P.route : P.card;
+      ctx.fill();
+      ctx.strokeStyle = P.route;
+      ctx.lineWidth = 3;
+      ctx.stroke();
+      ctx.fillStyle = i === cur ? P.card : P.route;
+      ctx.fillText(String(i + 1), sx(p[0]), sy(p[1]) + 0.5);
+    });
+  }
+
+  function drawTrail(r, t) {
+    var tr = r.trail;
+    ctx.lineCap = 'round';
+    ctx.lineWidth = 5;
+    ctx.strokeStyle = P.trail;
+    for (var i = 1; i < tr.length; i++) {
+      if (tr[i].gap)
+        continue;
+      var age = t - tr[i].t;
+      var a = 1 - age / TRAIL_SECONDS;
+      if (a <= 0)
+        continue;
+      ctx.globalAlpha = 0.85 * a;
+      ctx.beginPath();
+      ctx.moveTo(sx(tr[i - 1].x), sy(tr[i - 1].y));
+      ctx.lineTo(sx(tr[i].x), sy(tr[i].y));
+      ctx.stroke();
+    }
+    ctx.globalAlpha = 1;
+  }
+
+  function drawTarget(v) {
+    if (!isPoint(v.target))
+      return;
+    var x = sx(v.target[0]), y = sy(v.target[1]), s = 10;
+    ctx.beginPath();
+    ctx.moveTo(x, y - s); ctx.lineTo(x + s, y); ctx.lineTo(x, y + s); ctx.lineTo(x - s, y);
+    ctx.closePath();
+    ctx.fillStyle = P.target;
+    ctx.fill();
+    ctx.strokeStyle = P.ink;
+    ctx.lineWidth = 3;
+    ctx.stroke();
+  }
+
+  function arrowHead(x, y, ang, size, colour) {
+    ctx.beginPath();
+    ctx.moveTo(x + Math.cos(ang) * size, y + Math.sin(ang) * size);
+    ctx.lineTo(x + Math.cos(ang + 2.5) * size, y + Math.sin(ang + 2.5) * size);
+    ctx.lineTo(x + Math.cos(ang - 2.5) * size, y + Math.sin(ang - 2.5) * size);
+    ctx.closePath();
+    ctx.fillStyle = colour;
+    ctx.fill();
+  }
+
+  /* The setpoint drawn as where the robot would be after holding it for 1 s:
+   * an arc for the unicycle, a straight arrow for the point model, a curved
+   * arrow around the robot when it only turns. */
+  function drawSetpoint(v, radiusPx) {
+    var sp = v.setpoint, pose = v.pose;
+    if (!sp || !Array.isArray(pose) || !finite(pose[0]) || !finite(pose[1]))
+      return;
+    var yaw = finite(pose[2]) ? pose[2] : 0;
+    var pts = [], w = 0, lin = 0;
+    if (finite(sp.v) || finite(sp.w)) {
+      var vv = finite(sp.v) ? sp.v : 0;
+      w = finite(sp.w) ? sp.w : 0;
+      lin = Math.abs(vv);
+      for (var i = 0; i <= 24; i++) {
+        var t = i / 24, x, y;
+        if (Math.abs(w) < 1e-6) {
+          x = pose[0] + vv * t * Math.cos(yaw);
+          y = pose[1] + vv * t * Math.sin(yaw);
+        } else {
+          x = pose[0] + vv / w * (Math.sin(yaw + w * t) - Math.sin(yaw));
+          y = pose[1] - vv / w * (Math.cos(yaw + w * t) - Math.cos(yaw));
+        }
+        pts.push([x, y]);
+      }
+    } else if (finite(sp.vx) || finite(sp.vy)) {
+      var vx = finite(sp.vx) ? sp.vx : 0, vy = finite(sp.vy) ? sp.vy : 0;
+      lin = Math.hypot(vx, vy);
+      pts.push([pose[0], pose[1]]);
+      pts.push([pose[0] + vx * Math.cos(yaw) - vy * Math.sin(yaw),
+                pose[1] + vx * Math.sin(yaw) + vy * Math.cos(yaw)]);
+    }
+    ctx.strokeStyle = P.arrow;
+    ctx.lineWidth = 5;
+    ctx.lineCap = 'round';
+    if (lin * cam.scale >= 6 && pts.length >= 2) {
+      worldPath(pts, false);
+      ctx.stroke();
+      var a = pts[pts.length - 2], b = pts[pts.length - 1];
+      arrowHead(sx(b[0]), sy(b[1]), Math.atan2(sy(b[1]) - sy(a[1]), sx(b[0]) - sx(a[0])), 14, P.arrow);
+    } else if (Math.abs(w) > 0.02) {
+      /* turning on the spot: an arc around the footprint, as far as 1 s turns it */
+      var rr = radiusPx + 10, cx = sx(pose[0]), cy = sy(pose[1]);
+      var a0 = -yaw, sweep = -clamp(w, -Math.PI * 1.5, Math.PI * 1.5);
+      ctx.beginPath();
+      ctx.arc(cx, cy, rr, a0, a0 + sweep, sweep < 0);
+      ctx.stroke();
+      var ae = a0 + sweep;
+      arrowHead(cx + rr * Math.cos(ae), cy + rr * Math.sin(ae), ae + (sweep < 0 ? -Math.PI / 2 : Math.PI / 2),
+                12, P.arrow);
+    }
+  }
+
+  /* The footprint (a disc of the robot's radius), its margin, its heading. */
+  function drawRobot(v, main, t) {
+    var pose = v.pose;
+    if (!Array.isArray(pose) || !finite(pose[0]) || !finite(pose[1]))
+      return null;
+    var yaw = finite(pose[2]) ? pose[2] : 0;
+    var radius = finite(v.radius) ? v.radius : 0.3;
+    var margin = finite(v.margin) ? v.margin : 0;
+    var x = sx(pose[0]), y = sy(pose[1]);
+    var rp = Math.max(9, radius * cam.scale);
+    var bad = v.state === 'blocked' || v.state === 'stale' || v.state === 'too_close';
+    if (main && margin > 0 && margin * cam.scale > 2) {
+      ctx.beginPath();
+      ctx.arc(x, y, rp + margin * cam.scale, 0, 2 * Math.PI);
+      strokeWith(P.ink, 1.5, [3, 4]);
+    }
+    ctx.beginPath();
+    ctx.arc(x, y, rp, 0, 2 * Math.PI);
+    ctx.fillStyle = main ? (bad ? P['robot-bad'] : P.robot) : P.other;
+    ctx.fill();
+    ctx.strokeStyle = P.ink;
+    ctx.lineWidth = 3;
+    ctx.stroke();
+    /* heading: a nose wedge reaching the rim */
+    var hx = Math.cos(-yaw), hy = Math.sin(-yaw);
+    ctx.beginPath();
+    ctx.moveTo(x + hx * rp, y + hy * rp);
+    ctx.lineTo(x + Math.cos(-yaw + 2.4) * rp * 0.45, y + Math.sin(-yaw + 2.4) * rp * 0.45);
+    ctx.lineTo(x + Math.cos(-yaw - 2.4) * rp * 0.45, y + Math.sin(-yaw - 2.4) * rp * 0.45);
+    ctx.closePath();
+    ctx.fillStyle = P.ink;
+    ctx.fill();
+    if (!main || robots.size > 1) {
+      ctx.font = 'bold 14px "DejaVu Sans", sans-serif';
+      ctx.textAlign = 'left';
+      ctx.textBaseline = 'middle';
+      var label = v.robot + (isSilent(robots.get(v.robot), t) ? ' (silent)' : '');
+      ctx.lineWidth = 4;
+      ctx.strokeStyle = P.card;
+      ctx.strokeText(label, x + rp + 6, y - rp);
+      ctx.fillStyle = P.ink;
+      ctx.fillText(label, x + rp + 6, y - rp);
+    }
+    return { x: x, y: y, r: rp };
+  }
+
+  function drawScaleBar(step) {
+    var px = step * cam.scale, x = 12, y = cssH - 14;
+    var label = step >= 1 ? step + ' m' : Math.round(step * 100) + ' cm';
+    ctx.font = 'bold 15px "DejaVu Sans", sans-serif';
+    var tw = ctx.measureText(label).width;
+    ctx.fillStyle = P.card;
+    ctx.globalAlpha = 0.9;
+    ctx.fillRect(x - 6, y - 26, px + tw + 22, 34);
+    ctx.globalAlpha = 1;
+    ctx.strokeStyle = P.ink;
+    ctx.lineWidth = 4;
+    ctx.lineCap = 'butt';
+    ctx.beginPath();
+    ctx.moveTo(x, y - 10); ctx.lineTo(x, y); ctx.lineTo(x + px, y); ctx.lineTo(x + px, y - 10);
+    ctx.stroke();
+    ctx.fillStyle = P.ink;
+    ctx.textAlign = 'left';
+    ctx.textBaseline = 'alphabetic';
+    ctx.fillText(label, x + px + 8, y);
+  }
+
+  /* A line of text across the top of the map for what the map cannot say. */
+  function banner(text, bad) {
+    ctx.font = 'bold 17px "DejaVu Sans", sans-serif';
+    var w = Math.min(cssW - 16, ctx.measureText(text).width + 24);
+    var x = (cssW - w) / 2, y = 10;
+    ctx.fillStyle = bad ? P['robot-bad'] : P.card;
+    ctx.fillRect(x, y, w, 34);
+    ctx.strokeStyle = P.ink;
+    ctx.lineWidth = 3;
+    ctx.strokeRect(x, y, w, 34);
+    ctx.fillStyle = bad ? '#ffffff' : P.ink;
+    ctx.textAlign = 'center';
+    ctx.textBaseline = 'middle';
+    ctx.fillText(text, cssW / 2, y + 18, w - 16);
+  }
+
+  function draw(t) {
+    ctx.setTransform(dpr, 0, 0, dpr, 0, 0);
+    ctx.fillStyle = P.paper;
+    ctx.fillRect(0, 0, cssW, cssH);
+    var r = robots.get(selected), v = r && r.view;
+    if (v && isPoint(v.pose)) {
+      placeCamera(v);
+      if (cam.follow) {
+        cam.x = v.pose[0];
+        cam.y = v.pose[1];
+      }
+    }
+    var step = drawGrid();
+    var spot = null;
+    if (v) {
+      drawRegion(v);
+      drawPolygons(v.grown, hatchPattern(), P['grown-line'], 2);
+      drawPolygons(v.obstacles, P.obstacle, P.obstacle, 2);
+      drawRoute(v);
+      drawEllipse(v);
+      drawTrail(r, t);
+      drawPoints(v);
+      drawTarget(v);
+    }
+    robots.forEach(function (o, name) {
+      if (name !== selected && o.view)
+        drawRobot(o.view, false, t);
+    });
+    if (v) {
+      spot = drawRobot(v, true, t);
+      if (spot)
+        drawSetpoint(v, spot.r);
+    }
+    drawScaleBar(step);
+
+    if (conn.status !== 'live')
+      banner(conn.everLive ? 'Server connection lost \u2013 showing the last view' : 'Not connected to lacuna', true);
+    else if (!r)
+      banner(opts.robot ? 'Waiting for robot ' + opts.robot : 'Connected \u2013 waiting for a robot', false);
+    else if (isSilent(r, t))
+      banner('No view from ' + r.name + ' for ' + fmtAge(t - r.lastArrival), true);
+    else if (!v || !isPoint(v.pose))
+      banner(r.name + ' connected \u2013 no sensor frame yet', false);
+
+    /* for the browser test and for anyone debugging layout */
+    var rect = canvas.getBoundingClientRect();
+    if (spot) {
+      canvas.dataset.robotX = (rect.left + spot.x).toFixed(1);
+      canvas.dataset.robotY = (rect.top + spot.y).toFixed(1);
+    } else {
+      delete canvas.dataset.robotX;
+      delete canvas.dataset.robotY;
+    }
+    draws++;
+    canvas.dataset.draws = String(draws);
+    drawTimes.push(t);
+    while (drawTimes.length > 2 && drawTimes[0] < t - RATE_WINDOW)
+      drawTimes.shift();
+  }
+
+  /* ------------------------------------------------------------ panel */
+
+  function setText(id, text) {
+    var el = $(id);
+    if (el.textContent !== text)
+      el.textContent = text;
+  }
+
+  function setClass(id, cls) {
+    var el = $(id);
+    if (el.className !== cls)
+      el.className = cls;
+  }
+
+  function rate(list, t) {
+    if (list.length < 2 || t - list[list.length - 1].t > SILENT_SECONDS)
+      return NaN;
+    var span = list[list.length - 1].t - list[0].t;
+    return span > 0 ? (list.length - 1) / span : NaN;
+  }
+
+  function frameRate(r, t) {
+    var a = r.arrivals;
+    if (a.length < 2 || t - a[a.length - 1].t > SILENT_SECONDS)
+      return NaN;
+    var first = a[0], last = a[a.length - 1];
+    if (first.seq === null || last.seq === null || last.seq < first.seq)
+      return NaN;
+    var span = last.t - first.t;
+    return span > 0 ? (last.seq - first.seq) / span : NaN;
+  }
+
+  function setpointText(v) {
+    var sp = v.setpoint;
+    if (!sp)
+      return ['\u2013', ''];
+    if (finite(sp.v) || finite(sp.w)) {
+      var w = finite(sp.w) ? sp.w : 0;
+      var turn = Math.abs(w) < 0.005 ? 'straight' : (w > 0 ? 'turning left' : 'turning right');
+      return [fmt(sp.v, 2) + ' m/s', 'v ' + fmt(sp.v, 3) + ' m/s, w ' + fmt(w, 3) + ' rad/s, ' + turn];
+    }
+    var vx = finite(sp.vx) ? sp.vx : 0, vy = finite(sp.vy) ? sp.vy : 0;
+    var speed = Math.hypot(vx, vy);
+    var dir = speed < 0.005 ? 'standing' : Math.round(Math.atan2(vy, vx) * 180 / Math.PI) + '\u00b0 from its heading';
+    return [speed.toFixed(2) + ' m/s', 'vx ' + fmt(vx, 3) + ', vy ' + fmt(vy, 3) + ' m/s, ' + dir];
+  }
+
+  function clearanceClass(c, v) {
+    if (!finite(c))
+      return '';
+    var margin = finite(v.margin) ? v.margin : 0;
+    return c <= 0 ? 'bad' : c < margin ? 'warn' : '';
+  }
+
+  function updatePanel(t) {
+    var r = robots.get(selected), v = r && r.view;
+    var drawRate = rate(drawTimes.map(function (x) { return { t: x }; }), t);
+    setText('f-draw', document.visibilityState === 'hidden' ? 'paused' : (finite(drawRate) ? drawRate.toFixed(0) + ' /s' : '\u2013'));
+    setText('f-rtt', finite(conn.rtt) ? fmtAge(conn.rtt) : '\u2013');
+    if (!v) {
+      setText('robot-name', r ? r.name : (opts.robot || 'no robot yet'));
+      setText('robot-age', '');
+      setText('state', 'waiting');
+      setClass('state', 'state state-none');
+      setText('state-code', '');
+      setText('state-words', conn.status === 'live'
+        ? (opts.robot ? 'Watching only ' + opts.robot + ' (from the address); it has not connected.'
+                      : 'Connected. No robot has connected to lacuna yet.')
+        : 'Not connected to lacuna yet.');
+      setText('limit-words', '');
+      setText('limit-code', '');
+      $('limit-line').hidden = true;
+      return;
+    }
+    var silent = isSilent(r, t), offline = conn.status !== 'live';
+    setText('robot-name', r.name);
+    setText('robot-age', (finite(v.stamp) ? 't ' + v.stamp.toFixed(1) + ' s' : '') +
+            (finite(v.seq) ? ' \u00b7 #' + v.seq : ''));
+    var st = STATES[v.state] || { title: String(v.state), cls: 'none', words: function () { return ''; } };
+    if (!isPoint(v.pose))
+      st = { title: 'No frame yet', cls: 'none',
+             words: function () { return 'Connected; lacuna has not had a sensor frame from it yet.'; } };
+    if (offline)
+      st = { title: 'No connection', cls: 'bad', words: function () {
+        return 'The page lost its connection to lacuna ' + fmtAge(t - r.lastArrival) +
+          ' ago and is trying again. The map shows the last view; last state: ' + (v.state || '?') + '.';
+      } };
+    else if (silent)
+      st = { title: 'Silent', cls: 'bad', words: function () {
+        return 'No view for ' + fmtAge(t - r.lastArrival) + ': the robot has probably disconnected from lacuna. ' +
+          'Last state: ' + (v.state || '?') + '.';
+      } };
+    silent = silent || offline;
+    setText('state', st.title);
+    setClass('state', 'state state-' + st.cls);
+    setText('state-code', silent ? '' : String(v.state || ''));
+    setText('state-words', st.words(v));
+    var lw = LIMITS[v.limit] || '';
+    $('limit-line').hidden = !lw || silent;
+    setText('limit-words', lw);
+    setText('limit-code', String(v.limit || ''));
+
+    var spt = setpointText(v);
+    setText('f-setpoint', spt[0]);
+    setText('f-setpoint-detail', spt[1]);
+    var wp = '\u2013', wpd = '';
+    if (v.route && Array.isArray(v.route.waypoints) && finite(v.waypoint)) {
+      wp = (v.waypoint + 1) + ' of ' + v.route.waypoints.length;
+      wpd = v.route.loop ? 'looping' : 'once through';
+      var g = isPoint(v.goal) ? v.goal : v.route.waypoints[v.waypoint];
+      if (isPoint(g) && isPoint(v.pose))
+        wpd = fmtMetres(Math.hypot(g[0] - v.pose[0], g[1] - v.pose[1])) + ' away, ' + wpd;
+    } else if (v.route && Array.isArray(v.route.waypoints)) {
+      wp = v.route.waypoints.length ? 'none' : 'no route';
+    }
+    setText('f-waypoint', wp);
+    setText('f-waypoint-detail', wpd);
+    setText('f-clearance', fmtMetres(v.clearance));
+    setClass('f-clearance', clearanceClass(v.clearance, v));
+    setText('f-minclear', fmtMetres(r.minClear));
+    setClass('f-minclear', clearanceClass(r.minClear, v));
+    var fr = frameRate(r, t), vr = rate(r.arrivals, t);
+    setText('f-rate', finite(fr) ? fr.toFixed(1) + ' /s' : '\u2013');
+    setText('f-views', finite(vr) ? vr.toFixed(1) + ' /s' : '\u2013');
+    setText('f-age', fmtAge(t - r.lastArrival));
+    setClass('f-age', silent ? 'bad' : '');
+  }
+
+  function updatePicker() {
+    pickerDirty = false;
+    var sel = $('picker');
+    var names = Array.from(robots.keys()).sort();
+    $('picker-wrap').hidden = names.length < 2;
+    var t = now();
+    var want = names.map(function (n) { return n + (isSilent(robots.get(n), t) ? ' (silent)' : ''); });
+    var have = Array.from(sel.options).map(function (o) { return o.textContent; });
+    if (want.join('\n') !== have.join('\n')) {
+      sel.textContent = '';
+      names.forEach(function (n, i) {
+        var o = document.createElement('option');
+        o.value = n;
+        o.textContent = want[i];
+        sel.appendChild(o);
+      });
+    }
+    if (sel.value !== selected)
+      sel.value = selected;
+  }
+
+  /* ------------------------------------------------------------ loop */
+
+  var rafId = 0, lastSilentCheck = 0;
+
+  function frame() {
+    rafId = 0;
+    if (document.visibilityState === 'hidden')
+      return;
+    var t = now();
+    /* the trail fades and ages tick even without views: redraw 5 times a second */
+    if (mapDirty || t - lastDraw > 0.2) {
+      mapDirty = false;
+      lastDraw = t;
+      draw(t);
+    }
+    if (panelDirty ? t - lastPanel > 0.1 : t - lastPanel > 0.25) {
+      panelDirty = false;
+      lastPanel = t;
+      updatePanel(t);
+      updateRetryText();
+    }
+    if (t - lastSilentCheck > 1) {
+      lastSilentCheck = t;
+      forgetSilent(t);
+      pickerDirty = true; /* silent marks change with time */
+    }
+    if (pickerDirty)
+      updatePicker();
+    rafId = requestAnimationFrame(frame);
+  }
+
+  function wake() {
+    if (!rafId && document.visibilityState !== 'hidden')
+      rafId = requestAnimationFrame(frame);
+  }
+
+  /* ------------------------------------------------------------ input */
+
+  var pointers = new Map(), pinch = null, dragMoved = false;
+
+  function canvasPoint(ev) {
+    var rect = canvas.getBoundingClientRect();
+    return { x: ev.clientX - rect.left, y: ev.clientY - rect.top };
+  }
+
+  function pinchState() {
+    var ps = Array.from(pointers.values());
+    return { d: Math.hypot(ps[0].x - ps[1].x, ps[0].y - ps[1].y),
+             mx: (ps[0].x + ps[1].x) / 2, my: (ps[0].y + ps[1].y) / 2 };
+  }
+
+  canvas.addEventListener('pointerdown', function (ev) {
+    canvas.setPointerCapture(ev.pointerId);
+    pointers.set(ev.pointerId, canvasPoint(ev));
+    dragMoved = false;
+    pinch = pointers.size === 2 ? pinchState() : null;
+    canvas.classList.add('dragging');
+  });
+
+  canvas.addEventListener('pointermove', function (ev) {
+    if (!pointers.has(ev.pointerId))
+      return;
+    var before = pointers.get(ev.pointerId), p = canvasPoint(ev);
+    pointers.set(ev.pointerId, p);
+    if (pointers.size === 2 && pinch) {
+      var next = pinchState();
+      if (pinch.d > 10 && next.d > 10)
+        zoomAt(next.d / pinch.d, next.mx, next.my);
+      if (!cam.follow) {
+        cam.x -= (next.mx - pinch.mx) / cam.scale;
+        cam.y += (next.my - pinch.my) / cam.scale;
+      }
+      pinch = next;
+      mapDirty = true;
+    } else if (pointers.size === 1) {
+      var dx = p.x - before.x, dy = p.y - before.y;
+      if (!dragMoved && Math.hypot(dx, dy) < 3) {
+        pointers.set(ev.pointerId, before); /* a tap that shook a little is not a drag */
+        return;
+      }
+      dragMoved = true;
+      if (cam.follow)
+        setFollow(false);
+      cam.x -= dx / cam.scale;
+      cam.y += dy / cam.scale;
+      mapDirty = true;
+    }
+  });
+
+  function pointerUp(ev) {
+    pointers.delete(ev.pointerId);
+    pinch = pointers.size === 2 ? pinchState() : null;
+    if (!pointers.size)
+      canvas.classList.remove('dragging');
+  }
+  canvas.addEventListener('pointerup', pointerUp);
+  canvas.addEventListener('pointercancel', pointerUp);
+
+  canvas.addEventListener('wheel', function (ev) {
+    ev.preventDefault();
+    var p = canvasPoint(ev);
+    var dy = ev.deltaMode === 1 ? ev.deltaY * 16 : ev.deltaY;
+    zoomAt(Math.exp(-clamp(dy, -300, 300) * 0.002), p.x, p.y);
+  }, { passive: false });
+
+  $('zoom-in').addEventListener('click', function () { zoomAt(1.5, cssW / 2, cssH / 2); });
+  $('zoom-out').addEventListener('click', function () { zoomAt(1 / 1.5, cssW / 2, cssH / 2); });
+  $('follow').addEventListener('click', function () { setFollow(!cam.follow); });
+  $('fit').addEventListener('click', fit);
+  $('conn').addEventListener('click', retryNow);
+
+  $('picker').addEventListener('change', function (ev) {
+    selected = ev.target.value;
+    cam.placed = false;
+    setFollow(true);
+    panelDirty = mapDirty = true;
+  });
+
+  $('token-form').addEventListener('submit', function (ev) {
+    ev.preventDefault();
+    conn.token = $('token').value;
+    showMessage('');
+    conn.attempt = 0;
+    if (conn.ws)
+      conn.ws.close(1000, 'new token');
+    conn.ws = null;
+    conn.stopped = false;
+    clearTimeout(conn.timer);
+    connect();
+  });
+
+  document.addEventListener('keydown', function (ev) {
+    if (ev.target && /^(INPUT|SELECT|TEXTAREA)$/.test(ev.target.tagName))
+      return;
+    if (ev.key === '+' || ev.key === '=')
+      zoomAt(1.5, cssW / 2, cssH / 2);
+    else if (ev.key === '-')
+      zoomAt(1 / 1.5, cssW / 2, cssH / 2);
+    else if (ev.key === 'f')
+      setFollow(!cam.follow);
+    else
+      return;
+    ev.preventDefault();
+  });
+
+  document.addEventListener('visibilitychange', function () {
+    if (document.visibilityState === 'hidden') {
+      if (rafId)
+        cancelAnimationFrame(rafId);
+      rafId = 0;
+      setText('f-draw', 'paused');
+    } else {
+      mapDirty = panelDirty = true;
+      /* a phone that slept may have let the backoff grow: try now */
+      if (!conn.ws && !conn.stopped)
+        connect();
+      wake();
+    }
+  });
+
+  window.addEventListener('online', function () { if (!conn.ws && !conn.stopped) connect(); });
+  window.addEventListener('hashchange', function () { location.reload(); });
+
+  /* ------------------------------------------------------------ start */
+
+  readPalette();
+  if (typeof ResizeObserver === 'function')
+    new ResizeObserver(resize).observe(canvas);
+  window.addEventListener('resize', resize);
+  resize();
+  if (opts.token)
+    $('token').value = opts.token;
+  showMessage(fragmentProblem);
+  connect();
+  wake();
+})();
