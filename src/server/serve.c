@@ -113,28 +113,6 @@ static int read_options(int argc, char **argv, lc_server_config *cfg, bool *prin
     return 0;
 }
 
-/* A token file: one line of printable ASCII; trailing white space ignored. */
-static int read_token(const char *path, char *out, size_t n)
-{
-    size_t len = 0;
-    char *text = lc_cli_read_file(path, &len);
-    if (!text)
-        return lc_cli_usage_error(CMD, "token file %s: %s", path, strerror(errno));
-    while (len && (text[len - 1] == '\n' || text[len - 1] == '\r' || text[len - 1] == ' ' ||
-                   text[len - 1] == '\t'))
-        text[--len] = '\0';
-    bool ok = len > 0 && len <= LC_WIRE_TOKEN_MAX && len < n;
-    for (size_t i = 0; ok && i < len; i++)
-        ok = text[i] >= 0x20 && text[i] <= 0x7e;
-    if (ok)
-        memcpy(out, text, len + 1);
-    free(text);
-    if (!ok)
-        return lc_cli_usage_error(CMD, "token file %s: must hold 1 to %d printable ASCII characters",
-                                  path, LC_WIRE_TOKEN_MAX);
-    return 0;
-}
-
 static bool is_dir(const char *path)
 {
     struct stat st;
@@ -213,10 +191,10 @@ int lc_serve(int argc, char **argv)
     char err[256];
     if (lc_listen_parse(cfg.listen, &p.listen, err, sizeof err) < 0)
         return lc_cli_usage_error(CMD, "%s", err);
-    if (cfg.token_file[0] && (rc = read_token(cfg.token_file, robot_token, sizeof robot_token)))
+    if (cfg.token_file[0] && (rc = lc_cli_read_token(CMD, cfg.token_file, robot_token, sizeof robot_token)))
         return rc;
     if (cfg.viewer_token_file[0] &&
-        (rc = read_token(cfg.viewer_token_file, viewer_token, sizeof viewer_token)))
+        (rc = lc_cli_read_token(CMD, cfg.viewer_token_file, viewer_token, sizeof viewer_token)))
         return rc;
     if (!p.listen.loopback && !cfg.token_file[0])
         return lc_cli_usage_error(CMD,

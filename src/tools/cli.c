@@ -6,10 +6,12 @@
 #include "cli.h"
 
 #include <errno.h>
+#include <signal.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "codec.h"
 #include "lc_config.h"
 
 static const lc_command commands[] = {
@@ -142,4 +144,35 @@ int lc_cli_main(int argc, char **argv)
     }
     fprintf(stderr, "lacuna: unknown command '%s' (see lacuna --help)\n", cmd);
     return LC_EXIT_USAGE;
+}
+
+int lc_cli_read_token(const char *cmd, const char *path, char *out, size_t n)
+{
+    size_t len = 0;
+    char *text = lc_cli_read_file(path, &len);
+    if (!text)
+        return lc_cli_usage_error(cmd, "token file %s: %s", path, strerror(errno));
+    while (len && (text[len - 1] == '\n' || text[len - 1] == '\r' || text[len - 1] == ' ' ||
+                   text[len - 1] == '\t'))
+        text[--len] = '\0';
+    bool ok = len > 0 && len <= LC_WIRE_TOKEN_MAX && len < n;
+    for (size_t i = 0; ok && i < len; i++)
+        ok = text[i] >= 0x20 && text[i] <= 0x7e;
+    if (ok)
+        memcpy(out, text, len + 1);
+    free(text);
+    if (!ok)
+        return lc_cli_usage_error(cmd, "token file %s: must hold 1 to %d printable ASCII characters",
+                                  path, LC_WIRE_TOKEN_MAX);
+    return 0;
+}
+
+void lc_cli_catch_signals(void (*handler)(int), const int *sigs, int n)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = handler;
+    sigemptyset(&sa.sa_mask);
+    for (int i = 0; i < n; i++)
+        sigaction(sigs[i], &sa, NULL);
 }

@@ -35,6 +35,16 @@ bool lc_cli_wants_help(int argc, char **argv);
 /* Reads a whole file ("-" is stdin) into a NUL-terminated buffer (free it). */
 char *lc_cli_read_file(const char *path, size_t *len);
 
+/*
+ * A token file: one line of 1 to LC_WIRE_TOKEN_MAX printable ASCII characters;
+ * trailing white space ignored. 0, or LC_EXIT_USAGE with the reason printed
+ * for cmd. out holds at least LC_WIRE_TOKEN_MAX + 2 bytes.
+ */
+int lc_cli_read_token(const char *cmd, const char *path, char *out, size_t n);
+
+/* Installs handler for each of the n signals in sigs (no SA_RESTART). */
+void lc_cli_catch_signals(void (*handler)(int), const int *sigs, int n);
+
 /* Subcommands (src/tools/<name>.c). */
 int lc_tool_plan(int argc, char **argv);
 extern const char lc_plan_usage[];

@@ -21,22 +21,38 @@
  * end blocked (and nothing hit on the way). Stamps are k / rate and dt
  * follows replay.h's rule, so `--out` gives a file `lacuna replay`
  * reproduces exactly.
+ *
+ * --connect: the same loop, but each frame goes over the real protocol to a
+ * running `lacuna serve` (simlink.h) and the robot follows the setpoint
+ * the server sends back; frames leave at the sensor rate in wall-clock
+ * time, as a robot's scanner would send them, so a viewer sees the patrol
+ * live. compute time is then the round trip (frame sent to setpoint
+ * received). --laps N repeats the route N times (0: until interrupted): a
+ * looping route just goes on, a finished one starts over from the start
+ * pose with the route sent again. SIGINT/SIGTERM end the run cleanly (a
+ * normal close, the metrics so far, exit 1).
  */
 #include <errno.h>
 #include <math.h>
+#include <signal.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
 #include "cli.h"
+#include "clock_mono.h"
 #include "replay.h"
+#include "simlink.h"
+#include "wsclient.h"
 #include "svg.h"
 #include "world.h"
 
 const char lc_sim_usage[] =
     "usage: lacuna sim FILE [--model point|unicycle] [--seed N] [--out FILE]\n"
     "                  [--svg FILE] [--json] [--max-time S]\n"
+    "       lacuna sim FILE --connect ws://HOST:PORT/ [--token-file FILE]\n"
+    "                  [--name NAME] [--laps N] [--model M] [--seed N] [--svg FILE]\n"
     "\n"
     "Closed loop in the world of the scenario FILE: a ray-cast scanner (its\n"
     "header's sensor), the robot following each setpoint exactly for one\n"
@@ -50,14 +66,24 @@ const char lc_sim_usage[] =
     "                 reproduces exactly\n"
     "  --svg FILE     render the run\n"
     "  --json         JSON on stdout even on a terminal\n"
-    "  --connect URL  (drive a running `lacuna serve`): not available yet\n"
+    "\n"
+    "  --connect URL  have a running `lacuna serve` plan instead: the frames go\n"
+    "                 over the websocket protocol at the sensor rate (real time)\n"
+    "                 and the robot follows the setpoints the server sends back;\n"
+    "                 open the server's viewer page to watch\n"
+    "  --token-file F the robot token the server wants (its --token-file)\n"
+    "  --name NAME    robot name on the server (default: the file's name)\n"
+    "  --laps N       with --connect: drive the route N times, 0 until\n"
+    "                 interrupted (default 1)\n"
+    "  --timeout S    with --connect: longest wait for a setpoint (default 2)\n"
     "\n"
     "stdout: {\"done\":b,\"waypoints_reached\":n,\"collisions\":n,\n"
     "\"min_clearance\":m,\"path_length\":m,\"sim_time\":s,\"frames\":n,...}\n"
     "exit status: 0 when the header's expectation is met without a collision\n"
     "(expect \"done\", the default: the route finished, a looping route once\n"
     "round; expect \"blocked\": the run ended blocked), 1 otherwise, 2 bad\n"
-    "usage or file.\n";
+    "usage or file. With --connect, compute_us is the round trip; 1 also when\n"
+    "the server cannot be reached or refuses a message, or on Ctrl-C.\n";
 
 #define SUBSTEP_MAX 0.001 /* s */
 #define BLOCKED_HOLD 3.0  /* s */
@@ -69,16 +95,21 @@ typedef struct sim_opts {
     lc_model model;
     uint64_t seed;
     double max_time; /* 0: from the header */
+    const char *connect, *token_file, *name;
+    long laps;        /* with connect: 0 = until interrupted */
+    double timeout_s; /* with connect */
 } sim_opts;
 
 /* stuck: `too_close` without a break for BLOCKED_HOLD s (the robot may not move). */
-typedef enum outcome { OUT_DONE = 0, OUT_BLOCKED, OUT_STUCK, OUT_TIMEOUT } outcome;
-static const char *const outcome_names[] = {"done", "blocked", "stuck", "timeout"};
+typedef enum outcome { OUT_DONE = 0, OUT_BLOCKED, OUT_STUCK, OUT_TIMEOUT, OUT_INTERRUPTED } outcome;
+static const char *const outcome_names[] = {"done", "blocked", "stuck", "timeout",
+                                            "interrupted"};
 
 typedef struct sim_metrics {
     outcome end;
     int reached, collisions;
     bool lapped; /* a looping route came round once */
+    long laps;   /* routes finished (--connect --laps) */
     long frames;
     double min_clearance, path_length, sim_time;
     double *us;  /* per-frame compute time */
@@ -102,7 +133,21 @@ typedef struct sim {
     lc_wire_text text;
     lc_svg_run svg;
     sim_metrics m;
+    lc_simlink *link; /* --connect: the server plans */
+    double t0_us;     /* --connect: wall time of frame 0 */
+    char why[LC_WIRE_MESSAGE_MAX + 128]; /* why a --connect run failed */
 } sim;
+
+/* The link a signal interrupts (one sim per process). */
+static lc_simlink *volatile signal_link;
+static volatile sig_atomic_t signalled;
+
+static void on_signal(int sig)
+{
+    (void)sig;
+    signalled = 1;
+    lc_simlink_interrupt(signal_link);
+}
 
 static int parse_value(const char *opt, const char *v, sim_opts *o)
 {
@@ -125,6 +170,23 @@ static int parse_value(const char *opt, const char *v, sim_opts *o)
         o->max_time = strtod(v, &end);
         if (*v == '\0' || *end != '\0' || !(o->max_time > 0) || isinf(o->max_time))
             return lc_cli_usage_error("sim", "--max-time: not a number > 0: %s", v);
+    } else if (strcmp(opt, "--laps") == 0) {
+        errno = 0;
+        long n = strtol(v, &end, 10);
+        if (*v == '\0' || *end != '\0' || errno || n < 0)
+            return lc_cli_usage_error("sim", "--laps: not a whole number >= 0: %s", v);
+        o->laps = n;
+    } else if (strcmp(opt, "--timeout") == 0) {
+        o->timeout_s = strtod(v, &end);
+        if (*v == '\0' || *end != '\0' || !(o->timeout_s > 0) || o->timeout_s > 3600)
+            return lc_cli_usage_error("sim", "--timeout: not a number of seconds in (0, 3600]: %s",
+                                      v);
+    } else if (strcmp(opt, "--connect") == 0) {
+        o->connect = v;
+    } else if (strcmp(opt, "--token-file") == 0) {
+        o->token_file = v;
+    } else if (strcmp(opt, "--name") == 0) {
+        o->name = v;
     } else if (strcmp(opt, "--out") == 0) {
         o->out = v;
     } else {
@@ -133,10 +195,49 @@ static int parse_value(const char *opt, const char *v, sim_opts *o)
     return 0;
 }
 
+/* Robot names on the wire: [A-Za-z0-9_.-], not starting with '.'. */
+static bool valid_name(const char *s)
+{
+    size_t n = strlen(s);
+    if (n == 0 || n > LC_WIRE_NAME_MAX || s[0] == '.')
+        return false;
+    for (size_t i = 0; i < n; i++)
+        if (!(s[i] == '_' || s[i] == '.' || s[i] == '-' || (s[i] >= '0' && s[i] <= '9') ||
+              (s[i] >= 'a' && s[i] <= 'z') || (s[i] >= 'A' && s[i] <= 'Z')))
+            return false;
+    return true;
+}
+
+static int check_connect_args(const sim_opts *o)
+{
+    if (!o->connect) {
+        const char *only = o->token_file ? "--token-file"
+                           : o->name     ? "--name"
+                           : o->laps != 1 ? "--laps"
+                                          : NULL;
+        if (only)
+            return lc_cli_usage_error("sim", "%s needs --connect URL", only);
+        return 0;
+    }
+    lc_ws_url url;
+    char why[300];
+    if (lc_ws_url_parse(o->connect, &url, why, sizeof why) < 0)
+        return lc_cli_usage_error("sim", "--connect: %s", why);
+    if (o->out)
+        return lc_cli_usage_error("sim", "--out with --connect: the server plans, so record "
+                                         "with `lacuna serve --record DIR` instead");
+    if (o->name && !valid_name(o->name))
+        return lc_cli_usage_error("sim", "--name: 1 to %d of A-Z a-z 0-9 _ . - (not starting "
+                                         "with '.'): %s", LC_WIRE_NAME_MAX, o->name);
+    return 0;
+}
+
 static int parse_args(int argc, char **argv, sim_opts *o)
 {
-    *o = (sim_opts){.seed = 1};
-    static const char *const valued[] = {"--model", "--seed", "--max-time", "--out", "--svg"};
+    *o = (sim_opts){.seed = 1, .laps = 1, .timeout_s = 2.0};
+    static const char *const valued[] = {"--model", "--seed",       "--max-time", "--out",
+                                         "--svg",   "--connect",    "--token-file",
+                                         "--name",  "--laps",       "--timeout"};
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i];
         bool known = false;
@@ -144,8 +245,6 @@ static int parse_args(int argc, char **argv, sim_opts *o)
             known = known || strcmp(a, valued[k]) == 0;
         if (strcmp(a, "--json") == 0) {
             o->json = true;
-        } else if (strcmp(a, "--connect") == 0 || strcmp(a, "--token-file") == 0) {
-            return lc_cli_usage_error("sim", "%s: not available yet (sim runs locally only)", a);
         } else if (known) {
             if (i + 1 >= argc)
                 return lc_cli_usage_error("sim", "%s needs a value", a);
@@ -162,7 +261,7 @@ static int parse_args(int argc, char **argv, sim_opts *o)
     }
     if (!o->file)
         return lc_cli_usage_error("sim", "no scenario FILE (see --help)");
-    return 0;
+    return check_connect_args(o);
 }
 
 static void sensor_from_header(const lc_scenario_sensor *in, lc_sensor *out)
@@ -248,6 +347,15 @@ static int record(sim *sm, const lc_frame *f, const lc_plan_result *res)
     return 0;
 }
 
+static void count_events(sim *sm, const lc_plan_result *res)
+{
+    sim_metrics *m = &sm->m;
+    for (int i = 0; i < res->n_events; i++) {
+        m->reached += res->events[i].kind == LC_EVENT_REACHED;
+        m->lapped = m->lapped || res->events[i].kind == LC_EVENT_LAP;
+    }
+}
+
 static void count(sim *sm, const lc_plan_result *res)
 {
     sim_metrics *m = &sm->m;
@@ -258,10 +366,40 @@ static void count(sim *sm, const lc_plan_result *res)
         m->states[res->state]++;
     if (res->setpoint.limit >= 0 && res->setpoint.limit < LC_LIMIT_COUNT)
         m->limits[res->setpoint.limit]++;
-    for (int i = 0; i < res->n_events; i++) {
-        m->reached += res->events[i].kind == LC_EVENT_REACHED;
-        m->lapped = m->lapped || res->events[i].kind == LC_EVENT_LAP;
-    }
+    count_events(sm, res);
+}
+
+/*
+ * The plan of frame f: from the local session, or over --connect from the
+ * server (paced: frame k leaves at t0 + k periods of wall time). 0, -1 out
+ * of memory, -3 the link failed or was interrupted (sm->why).
+ */
+static int plan(sim *sm, const lc_frame *f, double dt, lc_plan_result *res)
+{
+    if (!sm->link)
+        return lc_session_step(sm->s, f, dt, res) < 0 ? -1 : 0;
+    double at = sm->t0_us + f->stamp * 1e6;
+    if (lc_simlink_idle(sm->link, at, sm->why, sizeof sm->why) < 0 ||
+        lc_simlink_step(sm->link, f, res, sm->why, sizeof sm->why) < 0)
+        return -3;
+    return 0;
+}
+
+/*
+ * The route was finished (once round, for a looping one): 1 when the run
+ * ends, 0 to drive it again (--connect --laps), -3 when the link failed.
+ */
+static int route_finished(sim *sm, bool looping)
+{
+    sm->m.laps++;
+    if (!sm->link || (sm->o->laps > 0 && sm->m.laps >= sm->o->laps))
+        return 1;
+    sm->m.lapped = false;
+    if (looping)
+        return 0; /* the patrol goes on round the loop */
+    sm->pose = sm->h->start;
+    sm->in_contact = false;
+    return lc_simlink_send_route(sm->link, &sm->h->route, sm->why, sizeof sm->why) < 0 ? -3 : 0;
 }
 
 /* One control period; 1 when the run ends, 0 to go on, <0 on failure. */
@@ -272,8 +410,9 @@ static int period_step(sim *sm, long k, double period, double *blocked_since, do
     double dt = lc_replay_dt(k == 0, *prev, stamp, lc_scenario_first_dt(sm->h));
     *prev = stamp;
     lc_plan_result res;
-    if (lc_session_step(sm->s, &f, dt, &res) < 0)
-        return -1;
+    int rc = plan(sm, &f, dt, &res);
+    if (rc < 0)
+        return rc;
     count(sm, &res);
     if (sm->o->svg)
         lc_svg_run_add(&sm->svg, &f, &res, clearance_at(sm, f.pose));
@@ -281,8 +420,13 @@ static int period_step(sim *sm, long k, double period, double *blocked_since, do
         return -2;
     sm->m.sim_time = stamp;
     if (res.state == LC_STATE_DONE || sm->m.lapped) {
-        sm->m.end = OUT_DONE;
-        return 1;
+        if ((rc = route_finished(sm, res.state != LC_STATE_DONE)) != 0) {
+            sm->m.end = OUT_DONE;
+            return rc;
+        }
+        *blocked_since = -1;
+        if (res.state == LC_STATE_DONE)
+            return 0; /* back at the start: no setpoint to follow */
     }
     if (res.state == LC_STATE_BLOCKED || res.state == LC_STATE_TOO_CLOSE) {
         if (*blocked_since < 0) {
@@ -315,10 +459,18 @@ static int run_loop(sim *sm, double max_time)
             return lc_cli_fail("sim", "out of memory");
         if (rc == -2)
             return lc_cli_fail("sim", "cannot write %s", sm->o->out);
+        if (rc == -3 && signalled) {
+            sm->m.end = OUT_INTERRUPTED;
+            return 0;
+        }
+        if (rc == -3)
+            return lc_cli_fail("sim", "%s: %s", sm->o->connect, sm->why);
         if (rc == 1)
             break;
         double now = lc_clock_now(&wall);
-        if (isatty(STDERR_FILENO) && now - t_start > 1e6 && now - t_progress > 5e5) {
+        /* --connect runs in real time: the viewer page is its progress */
+        if (!sm->link && isatty(STDERR_FILENO) && now - t_start > 1e6 &&
+            now - t_progress > 5e5) {
             t_progress = now;
             fprintf(stderr, "\rlacuna sim: %.1f s simulated", sm->m.sim_time);
         }
@@ -388,8 +540,12 @@ static void print_json(const sim *sm, double med, double p99, double max)
            success(sm) ? "true" : "false",
            sm->h->robot.model == LC_MODEL_UNICYCLE ? "unicycle" : "point",
            (unsigned long long)sm->o->seed);
-    printf("\"compute_us\":{\"median\":%s,\"p99\":%s,\"max\":%s},\"states\":", num6(a, med),
-           num6(b, p99), num6(c, max));
+    if (sm->o->connect)
+        printf("\"laps\":%ld,\"round_trip_us\":", m->laps);
+    else
+        printf("\"compute_us\":");
+    printf("{\"median\":%s,\"p99\":%s,\"max\":%s},\"states\":", num6(a, med), num6(b, p99),
+           num6(c, max));
     print_counts(m->states, LC_STATE_COUNT, state_name);
     printf(",\"limits\":");
     print_counts(m->limits, LC_LIMIT_COUNT, limit_name);
@@ -405,8 +561,11 @@ static void print_human(const sim *sm, double med, double p99)
            lc_scenario_expect_name(sm->h->expect), success(sm) ? "ok" : "FAILED");
     printf("  waypoints reached %d of %d, collisions %d, min clearance %.3f m\n", m->reached,
            sm->h->route.count, m->collisions, m->min_clearance);
-    printf("  path %.2f m in %.2f s, %ld frames, compute per frame median %.1f us, p99 %.1f us\n",
-           m->path_length, m->sim_time, m->frames, med, p99);
+    printf("  path %.2f m in %.2f s, %ld frames, %s per frame median %.1f us, p99 %.1f us\n",
+           m->path_length, m->sim_time, m->frames,
+           sm->o->connect ? "round trip" : "compute", med, p99);
+    if (sm->o->connect)
+        printf("  planned by %s, laps %ld\n", sm->o->connect, m->laps);
 }
 
 static void print_result(sim *sm)
@@ -463,6 +622,68 @@ static int open_outputs(sim *sm)
     return 0;
 }
 
+/* The default robot name: the scenario file's base name, made wire-safe. */
+static void name_from_file(const char *path, char *out, size_t n)
+{
+    const char *b = strrchr(path, '/');
+    b = b ? b + 1 : path;
+    size_t k = 0;
+    for (; b[k] && b[k] != '.' && k + 1 < n && k < LC_WIRE_NAME_MAX; k++) {
+        char c = b[k];
+        bool ok = c == '_' || c == '-' || (c >= '0' && c <= '9') || (c >= 'a' && c <= 'z') ||
+                  (c >= 'A' && c <= 'Z');
+        out[k] = ok ? c : '-';
+    }
+    out[k] = '\0';
+    if (k == 0)
+        snprintf(out, n, "sim");
+}
+
+static void catch_signals(lc_simlink *link)
+{
+    static const int sigs[] = {SIGINT, SIGTERM};
+    signal_link = link;
+    lc_cli_catch_signals(on_signal, sigs, 2);
+}
+
+static int open_link(sim *sm)
+{
+    static char token[LC_WIRE_TOKEN_MAX + 2];
+    char name[LC_WIRE_NAME_MAX + 1];
+    int rc;
+    if (sm->o->token_file &&
+        (rc = lc_cli_read_token("sim", sm->o->token_file, token, sizeof token)))
+        return rc;
+    if (sm->o->name)
+        snprintf(name, sizeof name, "%s", sm->o->name);
+    else
+        name_from_file(sm->o->file, name, sizeof name);
+    lc_simlink_opts lo = {.url = sm->o->connect,
+                          .name = name,
+                          .token = sm->o->token_file ? token : NULL,
+                          .timeout_s = sm->o->timeout_s};
+    sm->link = lc_simlink_open(&lo, &sm->h->robot, &sm->h->route, sm->why, sizeof sm->why);
+    if (!sm->link)
+        return lc_cli_fail("sim", "%s", sm->why);
+    catch_signals(sm->link);
+    if (!sm->o->json && isatty(STDERR_FILENO))
+        fprintf(stderr, "lacuna sim: robot %s driving through %s (Ctrl-C stops)\n", name,
+                sm->o->connect);
+    sm->t0_us = lc_mono_us();
+    return 0;
+}
+
+/* The longest run: --max-time, the header's max_time, the default; with
+ * --connect --laps 0 no limit unless --max-time is given. */
+static double run_time_limit(const sim *sm)
+{
+    if (sm->o->max_time > 0)
+        return sm->o->max_time;
+    if (sm->link && sm->o->laps == 0)
+        return INFINITY;
+    return sm->h->max_time > 0 ? sm->h->max_time : DEFAULT_MAX_TIME;
+}
+
 static int sim_run(sim *sm)
 {
     const lc_scenario_header *h = sm->h;
@@ -478,10 +699,18 @@ static int sim_run(sim *sm)
     lc_clock wall = lc_replay_wall_clock();
     lc_session_set_clock(sm->s, &wall);
     int rc = open_outputs(sm);
-    double max_time = sm->o->max_time > 0 ? sm->o->max_time
-                                          : (h->max_time > 0 ? h->max_time : DEFAULT_MAX_TIME);
+    if (!rc && sm->o->connect)
+        rc = open_link(sm);
     if (!rc)
-        rc = run_loop(sm, max_time);
+        rc = run_loop(sm, run_time_limit(sm));
+    if (!rc && sm->link) {
+        lc_plan_result late = {0}; /* events still in flight after the last setpoint */
+        lc_simlink_drain(sm->link, 0.2, &late);
+        count_events(sm, &late);
+    }
+    signal_link = NULL;
+    lc_simlink_close(sm->link);
+    sm->link = NULL;
     if (sm->out && fclose(sm->out) != 0 && !rc)
         rc = lc_cli_fail("sim", "cannot write %s", sm->o->out);
     if (!rc && sm->o->svg)

@@ -216,11 +216,21 @@ static void quiet_log(int level, const char *line)
 
 /* ---------------------------------------------------------------- API */
 
-/* One turn of the loop, woken at deadline_us at the latest. */
+/*
+ * One turn of the loop, woken at deadline_us at the latest. lws runs ripe
+ * timers before it computes the poll timeout, so a wake timer that is due
+ * already would fire there and leave the poll to wait for the next packet:
+ * with under a millisecond left (poll's resolution) the turn does not wait
+ * at all (a negative timeout makes lws poll with 0).
+ */
 static void service(lc_wsclient *c, double deadline_us)
 {
     double us = deadline_us - lc_mono_us();
-    lws_sul_schedule(c->ctx, 0, &c->wake, on_wake, us < 1 ? 1 : (lws_usec_t)us);
+    if (us < 1000) {
+        lws_service(c->ctx, -1);
+        return;
+    }
+    lws_sul_schedule(c->ctx, 0, &c->wake, on_wake, (lws_usec_t)us);
     lws_service(c->ctx, 0);
 }
 

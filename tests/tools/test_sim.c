@@ -292,7 +292,8 @@ static void test_usage_errors(void **state)
                                      "{\"waypoints\":[[1,1]]},\"start\":[0,0,0]}\n");
     write_file(tmp("bad.jsonl"), "{\"type\":\"scenario\",\"version\":1,\"world\":7}\n");
     const char *cases[] = {
-        "sim", "sim --json", "sim '%s' --connect ws://127.0.0.1:7640",
+        "sim", "sim --json", "sim '%s' --connect http://127.0.0.1:7640",
+        "sim '%s' --laps 2", "sim '%s' --connect ws://127.0.0.1:7640 --out /dev/null",
         "sim '%s' --model car", "sim '%s' --seed -3", "sim '%s' --max-time 0",
         "sim '%s' --frobnicate", "sim '%s' --seed",
     };
