@@ -68,7 +68,8 @@ static const opt options[] = {
         "most websocket connections from one client address; beyond it: error "
         "too_many_connections, then close"),
     NUM(view_hz, 0.1, 20, 20, "view messages per second per robot"),
-    INT(viewer_queue, 1, 1024, 4, "views queued per viewer; older ones are dropped for a slow viewer"),
+    INT(viewer_queue, 1, 1024, 4,
+        "views queued per viewer and robot; a slow viewer loses a robot's older views"),
     INT(send_queue, 4, 100000, 256,
         "setpoints and other replies queued per connection; beyond it: error, then close"),
     NUM(max_rate, 1, 100000, 1000, "messages per second per connection; beyond it: error, then close"),

@@ -40,7 +40,7 @@ typedef struct lc_server_config {
     int max_connections;
     int max_per_address; /* websocket connections from one client address */
     double view_hz;      /* views per second per robot, at most 20 */
-    int viewer_queue;    /* views queued per viewer before dropping */
+    int viewer_queue;    /* views queued per viewer and robot before dropping older ones */
     int send_queue;      /* other messages queued per connection before closing */
     double max_rate;     /* messages per second per connection (flooding) */
     double period;       /* s, fixed control period; 0: from frame stamps */

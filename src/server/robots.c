@@ -24,6 +24,7 @@
 /* A reference-counted outgoing message; text at bytes + headroom. */
 typedef struct msg {
     int refs;
+    unsigned long robot; /* a view: the id of the robot it shows; 0 otherwise */
     size_t len;
     char *text;
     char bytes[];
@@ -62,6 +63,7 @@ struct lc_conn {
 
 struct bot {
     bot *next;
+    unsigned long id;     /* unique in the hub's life: tags this robot's views */
     char name[LC_WIRE_NAME_MAX + 1];
     lc_conn *conn;
     lc_session *core;
@@ -98,6 +100,7 @@ struct lc_hub {
     bot *bots;
     int n_viewers;
     long views_dropped;
+    unsigned long next_bot_id;
 };
 
 /* ------------------------------------------------------------ messages */
@@ -108,6 +111,7 @@ static msg *msg_new(const lc_hub *hub, const char *text, size_t len)
     if (!m)
         return NULL;
     m->refs = 1;
+    m->robot = 0;
     m->len = len;
     m->text = m->bytes + hub->cfg.headroom;
     memcpy(m->text, text, len);
@@ -142,6 +146,30 @@ static void queue_drop_front(queue *q)
     msg_unref(q->items[q->head]);
     q->head = (q->head + 1) % q->cap;
     q->count--;
+}
+
+/* Remove the k-th item from the front (0: the front) and release it. */
+static void queue_remove(queue *q, int k)
+{
+    msg_unref(q->items[(q->head + k) % q->cap]);
+    for (int i = k; i + 1 < q->count; i++)
+        q->items[(q->head + i) % q->cap] = q->items[(q->head + i + 1) % q->cap];
+    q->count--;
+}
+
+/* Twice the room, items kept in order; -1 when out of memory. */
+static int queue_grow(queue *q)
+{
+    msg **items = calloc((size_t)q->cap * 2, sizeof *items);
+    if (!items)
+        return -1;
+    for (int i = 0; i < q->count; i++)
+        items[i] = q->items[(q->head + i) % q->cap];
+    free(q->items);
+    q->items = items;
+    q->head = 0;
+    q->cap *= 2;
+    return 0;
 }
 
 static void queue_free(queue *q)
@@ -335,6 +363,7 @@ static bot *bot_new(lc_hub *hub, lc_conn *c, const char *name)
         return NULL;
     }
     snprintf(b->name, sizeof b->name, "%s", name);
+    b->id = ++hub->next_bot_id;
     b->conn = c;
     b->seq = -1;
     b->watchdog_at = INFINITY;
@@ -794,10 +823,28 @@ static bool watches(const lc_conn *c, const bot *b)
     return c->role == ROLE_VIEWER && !c->closing && (!c->watch[0] || strcmp(c->watch, b->name) == 0);
 }
 
+/*
+ * A slow viewer keeps at most viewer_queue views of each robot: a new view
+ * pushes out the oldest one of the same robot, never another robot's (a
+ * viewer of every robot would otherwise lose whole robots when their views
+ * fall due in the same tick). The queue grows to fit; it holds pointers to
+ * shared views, at most viewer_queue per robot.
+ */
 static void push_view(lc_hub *hub, lc_conn *c, msg *m)
 {
-    if (c->views.count == c->views.cap) {
-        queue_drop_front(&c->views); /* a slow viewer: its oldest view goes */
+    int mine = 0, oldest = -1;
+    for (int k = 0; k < c->views.count; k++) {
+        if (c->views.items[(c->views.head + k) % c->views.cap]->robot == m->robot) {
+            oldest = oldest < 0 ? k : oldest;
+            mine++;
+        }
+    }
+    if (mine >= hub->cfg.opts.viewer_queue) {
+        queue_remove(&c->views, oldest);
+        hub->views_dropped++;
+    }
+    if (c->views.count == c->views.cap && queue_grow(&c->views) < 0) {
+        queue_drop_front(&c->views); /* out of memory: lose the oldest of any robot */
         hub->views_dropped++;
     }
     m->refs++;
@@ -823,6 +870,7 @@ static void broadcast_view(lc_hub *hub, bot *b, double now)
     msg *m = msg_new(hub, hub->text.s, (size_t)hub->text.len);
     if (!m)
         return;
+    m->robot = b->id;
     for (lc_conn *c = hub->conns; c; c = c->next)
         if (watches(c, b))
             push_view(hub, c, m);

@@ -11,8 +11,9 @@
  *   send_queue of them are pending (the peer does not read), the hub queues
  *   one last error (rate_limited) and closes the connection rather than drop
  *   a setpoint silently;
- * - views (viewers only), viewer_queue deep: a slow viewer loses its oldest
- *   views, never a reply.
+ * - views (viewers only), at most viewer_queue per robot watched: a slow
+ *   viewer loses the oldest views of a robot (superseded by newer ones),
+ *   never a reply and never the latest view of another robot.
  * Replies go out before views. A view is encoded once per robot and shared
  * (reference counted) by every viewer that watches it.
  *

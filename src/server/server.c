@@ -414,7 +414,8 @@ int lc_server_run(const lc_server_params *p)
     lws_sul_schedule(s.ctx, 0, &s.tick, on_tick, LWS_SET_TIMER_USEC_CANCEL);
     lws_sul_schedule(s.ctx, 0, &s.give_up, on_give_up, LWS_SET_TIMER_USEC_CANCEL);
     lws_context_destroy(s.ctx);
+    lc_log(LC_LOG_INFO, "stopped (%ld views dropped for slow viewers)",
+           lc_hub_views_dropped(s.hub));
     lc_hub_free(s.hub);
-    lc_log(LC_LOG_INFO, "stopped");
     return 0;
 }

@@ -18,110 +18,14 @@ import statistics
 import subprocess
 import sys
 import tempfile
-import threading
 import time
 
 import websockets
 
-EXE = sys.argv[1] if len(sys.argv) > 1 else os.environ.get("LACUNA_EXE", "build/lacuna")
-PROTO = ["lacuna.v1"]
-T = 5.0  # s, every single wait
-FIGURES = {}
-FAILED = []
-SERVERS = []
+from serverlib import (FIGURES, SLOW, T, Server, check, closed, connect, far_scan, finish,
+                       hello, other_address, recv, recv_type, set_exe, wait_until)
 
-
-def check(cond, what):
-    if not cond:
-        FAILED.append(what)
-        print("FAIL:", what, flush=True)
-    return cond
-
-
-class Server:
-    def __init__(self, *args):
-        self.proc = subprocess.Popen([EXE, "serve", "--listen", "127.0.0.1:0", *args],
-                                     stdin=subprocess.DEVNULL, stdout=subprocess.PIPE,
-                                     stderr=subprocess.PIPE, text=True)
-        self.lines = []
-        self.port = None
-        deadline = time.time() + 15
-        while time.time() < deadline:
-            line = self.proc.stderr.readline()
-            if not line:
-                break
-            self.lines.append(line)
-            if "listening on http" in line and "://127.0.0.1:" in line:
-                self.port = int(line.split("://127.0.0.1:")[1].split("/")[0])
-                self.tls = "listening on https://" in line
-                break
-        if self.port is None:
-            raise RuntimeError("server did not start: " + "".join(self.lines))
-        threading.Thread(target=self._drain, daemon=True).start()
-        SERVERS.append(self)
-        self.url = "ws%s://127.0.0.1:%d/" % ("s" if self.tls else "", self.port)
-
-    def _drain(self):
-        for line in self.proc.stderr:
-            self.lines.append(line)
-
-    def stop(self):
-        if self.proc.poll() is None:
-            self.proc.send_signal(signal.SIGTERM)
-            try:
-                self.proc.wait(10)
-            except subprocess.TimeoutExpired:
-                self.proc.kill()
-                self.proc.wait()
-        return self.proc.returncode
-
-
-def insecure_tls():
-    """The test certificate is self-signed: accept it without verification."""
-    import ssl
-    ctx = ssl.SSLContext(ssl.PROTOCOL_TLS_CLIENT)
-    ctx.check_hostname = False
-    ctx.verify_mode = ssl.CERT_NONE
-    return ctx
-
-
-async def connect(url):
-    extra = {"ssl": insecure_tls()} if url.startswith("wss:") else {}
-    return await websockets.connect(url, subprotocols=PROTO, max_size=None, open_timeout=T,
-                                    close_timeout=T, **extra)
-
-
-async def recv(ws, timeout=T):
-    return json.loads(await asyncio.wait_for(ws.recv(), timeout))
-
-
-async def recv_type(ws, mtype, timeout=T):
-    """Next message of that type (others are skipped)."""
-    end = time.monotonic() + timeout
-    while True:
-        m = await recv(ws, max(0.01, end - time.monotonic()))
-        if m.get("type") == mtype:
-            return m
-
-
-async def hello(url, name, role="robot", token=None):
-    ws = await connect(url)
-    h = {"type": "hello", "role": role, "robot": name}
-    if token is not None:
-        h["token"] = token
-    await ws.send(json.dumps(h))
-    return ws, await recv(ws)
-
-
-async def closed(ws, timeout=T):
-    """True when the server closes the connection (after whatever it sent)."""
-    try:
-        while True:
-            await asyncio.wait_for(ws.recv(), timeout)
-    except websockets.ConnectionClosed:
-        return True
-    except asyncio.TimeoutError:
-        return False
+EXE = set_exe(sys.argv)
 
 
 # ------------------------------------------------------------ a tiny scene
@@ -147,12 +51,6 @@ def clearance(px, py):
 
 def scan(seq, stamp, pose):
     return example.scan(SEGMENTS, seq, stamp, pose)
-
-
-def far_scan(seq, stamp):
-    return {"type": "scan", "seq": seq, "stamp": stamp, "pose": [0, 0, 0],
-            "angle_start": -1.5, "angle_step": 0.1, "range_min": 0.05, "range_max": 10,
-            "ranges": [6.0] * 31}
 
 
 # ------------------------------------------------------------------ tests
@@ -268,8 +166,9 @@ async def test_closed_loop_and_watchdog(srv):
     periods = [b - a for a, b in zip(times, times[1:])]
     FIGURES["watchdog_first_ms"] = round(first * 1e3, 1)
     FIGURES["watchdog_period_ms"] = [round(p * 1e3, 1) for p in periods]
-    check(0.1 <= first <= 0.8, "first stale after %.0f ms (band 100-800)" % (first * 1e3))
-    check(all(0.1 <= p <= 0.6 for p in periods), "stale period %s (band 100-600 ms)" % periods)
+    if not SLOW:  # under valgrind the clock bands mean nothing; the stale stops must still come
+        check(0.1 <= first <= 0.8, "first stale after %.0f ms (band 100-800)" % (first * 1e3))
+        check(all(0.1 <= p <= 0.6 for p in periods), "stale period %s (band 100-600 ms)" % periods)
     # frames resume: a normal setpoint again
     await ws.send(json.dumps(far_scan(last_seq + 1, (last_seq + 40) * 0.05)))
     m = await recv_type(ws, "setpoint")
@@ -375,9 +274,11 @@ async def test_catalogue(srv):
         while not stop.is_set():
             seq += 1
             await good.send(json.dumps(far_scan(seq, seq * 0.05)))
-            m = await recv_type(good, "setpoint")
-            if m["seq"] == seq:
-                served[0] += 1
+            # this frame's own answer: a stale stop (the watchdog, while the
+            # server chews a huge bad input) echoes the previous seq
+            while (await recv_type(good, "setpoint")).get("state") == "stale":
+                pass
+            served[0] += 1
             await asyncio.sleep(0.02)
 
     runner = asyncio.ensure_future(keep_going())
@@ -406,11 +307,12 @@ async def test_catalogue(srv):
     check(m["seq"] == 99, "after %d bad inputs the connection still plans" % len(codes))
     FIGURES["bad_inputs"] = len(codes)
     before = served[0]
-    await asyncio.sleep(0.3)
+    await wait_until(lambda: served[0] >= before + 3, T)  # still served after the catalogue
     stop.set()
     await asyncio.wait_for(runner, T)
-    check(served[0] > before and served[0] >= 5,
-          "the other robot kept getting setpoints (%d)" % served[0])
+    check(served[0] >= before + 3 and before >= 2,
+          "the other robot kept getting setpoints (%d during the catalogue, %d in all)"
+          % (before, served[0]))
     # oversize: closed with 1009
     big, _ = await hello(srv.url, "big")
     await big.send('{"type": "robot", "pad": "' + "x" * (1 << 20) + '"}')
@@ -494,20 +396,6 @@ async def test_recording(tmp):
                                                         r.stderr.strip()[-500:]))
 
 
-def other_address():
-    """A local address other than 127.0.0.1: the machine's own, else 127.0.0.2."""
-    try:
-        s = socket.socket(socket.AF_INET, socket.SOCK_DGRAM)
-        s.connect(("192.0.2.1", 9))  # no packet is sent: this only picks a route
-        addr = s.getsockname()[0]
-        s.close()
-        if not addr.startswith("127."):
-            return addr
-    except OSError:
-        pass
-    return "127.0.0.2"
-
-
 def test_loopback_trap(srv):
     addr = other_address()
     FIGURES["loopback_trap_address"] = addr
@@ -588,57 +476,6 @@ async def test_sighup(tmp):
         check(srv.stop() == 0, "SIGHUP server exits 0")
 
 
-async def test_tls(tmp):
-    import shutil
-    if not shutil.which("openssl"):
-        print("openssl missing: TLS check skipped", flush=True)
-        return
-    cert, key = os.path.join(tmp, "cert.pem"), os.path.join(tmp, "key.pem")
-    r = subprocess.run(["openssl", "req", "-x509", "-newkey", "rsa:2048", "-nodes", "-days", "2",
-                        "-subj", "/CN=127.0.0.1", "-keyout", key, "-out", cert],
-                       capture_output=True, timeout=60)
-    if not check(r.returncode == 0, "openssl made a test certificate"):
-        return
-    srv = Server("--tls-cert", cert, "--tls-key", key)
-    try:
-        check(srv.url.startswith("wss://"), "TLS server announces https/wss")
-        ws, m = await hello(srv.url, "sealed")
-        check(m["type"] == "welcome", "hello over wss://: welcome")
-        await ws.send(json.dumps(far_scan(1, 0.0)))
-        m = await recv_type(ws, "setpoint")
-        check(m["seq"] == 1, "setpoint over wss://")
-        await ws.close()
-    finally:
-        check(srv.stop() == 0, "TLS server exits 0")
-    r = subprocess.run([EXE, "serve", "--listen", "127.0.0.1:0", "--tls-cert", cert],
-                       capture_output=True, text=True, timeout=10)
-    check(r.returncode == 2, "--tls-cert without --tls-key: exit 2")
-
-
-async def test_max_connections():
-    srv = Server("--max-connections", "2")
-    try:
-        a, _ = await hello(srv.url, "one")
-        b, _ = await hello(srv.url, "two")
-        refused = False
-        try:
-            c = await connect(srv.url)
-            await c.send(json.dumps({"type": "hello", "role": "robot", "robot": "three"}))
-            m = await recv(c)
-            refused = False
-        except (websockets.InvalidHandshake, websockets.ConnectionClosed, OSError):
-            refused = True
-        check(refused, "max_connections 2: the third connection is refused")
-        await a.close()
-        await asyncio.sleep(0.3)
-        c, m = await hello(srv.url, "three")
-        check(m["type"] == "welcome", "a free slot is used again")
-        await b.close()
-        await c.close()
-    finally:
-        check(srv.stop() == 0, "max_connections server exits 0")
-
-
 async def main():
     with tempfile.TemporaryDirectory() as tmp:
         srv = Server("--log-level", "warn")
@@ -656,20 +493,8 @@ async def main():
         await test_sigterm()
         await test_recording(tmp)
         await test_sighup(tmp)
-        await test_max_connections()
-        await test_tls(tmp)
-    time.sleep(0.2)  # the drain threads catch the last lines
-    for srv in SERVERS:
-        text = "".join(srv.lines)
-        check("runtime error" not in text and "Sanitizer" not in text,
-              "server stderr is free of sanitizer reports:\n" + text[-3000:])
-    print("figures:", json.dumps(FIGURES), flush=True)
-    if FAILED:
-        print("%d check(s) failed" % len(FAILED), flush=True)
-        return 1
-    print("all checks passed", flush=True)
-    return 0
+    return finish("e2e_serve")
 
 
 if __name__ == "__main__":
-    sys.exit(asyncio.run(asyncio.wait_for(main(), 120)))
+    sys.exit(asyncio.run(asyncio.wait_for(main(), 600 if SLOW else 120)))

@@ -452,6 +452,41 @@ static void test_hub_views(void **state)
     lc_hub_free(hub);
 }
 
+/* A slow viewer of every robot loses older views of a robot, never a whole robot. */
+static void test_hub_views_every_robot(void **state)
+{
+    lc_hub *hub = hub_with(small_queues); /* viewer_queue 1 */
+    lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
+    say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\"}", 0);
+    expect(v, "welcome", NULL);
+    static const char *const names[] = {"r0", "r1", "r2"};
+    lc_conn *r[3];
+    for (int i = 0; i < 3; i++)
+        r[i] = robot(hub, names[i], 0);
+    for (int k = 1; k <= 5; k++) { /* every robot's view falls due in the same ticks */
+        double now = 0.1 * k;
+        for (int i = 0; i < 3; i++) {
+            send_scan(hub, r[i], k, now, now);
+            lc_conn_pop(r[i]);
+        }
+        lc_hub_tick(hub, now);
+    }
+    bool seen[3] = {false};
+    for (int i = 0; i < 3; i++) {
+        cJSON *j = next(v);
+        assert_non_null(j);
+        assert_string_equal(str(j, "type"), "view");
+        for (int n = 0; n < 3; n++)
+            seen[n] |= strcmp(str(j, "robot"), names[n]) == 0;
+        assert_near(num(j, "seq"), 5, 0); /* the latest of each */
+        cJSON_Delete(j);
+    }
+    expect_none(v);
+    assert_true(seen[0] && seen[1] && seen[2]);
+    assert_int_equal(lc_hub_views_dropped(hub), 12); /* 15 made, 3 kept */
+    lc_hub_free(hub);
+}
+
 static void test_hub_limits(void **state)
 {
     lc_hub *hub = hub_with(NULL);
@@ -791,6 +826,7 @@ int main(void)
         cmocka_unit_test(test_hub_setpoints_and_watchdog),
         cmocka_unit_test(test_hub_send_queue_full),
         cmocka_unit_test(test_hub_views),
+        cmocka_unit_test(test_hub_views_every_robot),
         cmocka_unit_test(test_hub_limits),
         cmocka_unit_test(test_hub_flood_and_hello_timeout),
         cmocka_unit_test(test_hub_shutdown),
