@@ -22,9 +22,9 @@
  * server sends nothing else); #token=TOKEN for a server with a viewer token.
  *
  * For the browser test (tests/web): the canvas carries data-robot-x and
- * data-robot-y (the drawn robot centre, viewport CSS pixels), data-draws
- * (maps drawn) and data-views (views received); the body carries data-conn
- * (live, wait, down).
+ * data-robot-y (the drawn robot centre, viewport CSS pixels), data-scale
+ * (pixels per metre), data-draws (maps drawn) and data-views (views
+ * received); the body carries data-conn (live, wait, down).
  */
 (function () {
   'use strict';
@@ -54,7 +54,7 @@
     tracking: { title: 'On its way', cls: 'good',
       words: function (v) { return 'Driving along the route' + toWaypoint(v) + '.'; } },
     arrived: { title: 'At a waypoint', cls: 'calm',
-      words: function (v) { return 'Reached waypoint ' + wpNumber(v) + ' just now; the next one comes up.'; } },
+      words: function (v) { return 'Reached a waypoint just now; on' + toWaypoint(v) + '.'; } },
     done: { title: 'Route done', cls: 'calm',
       words: function () { return 'The route is finished. The robot stands still until it gets a new one.'; } },
     blocked: { title: 'Blocked', cls: 'bad',
@@ -84,13 +84,9 @@
     too_close: 'It may not drive: an obstacle is inside radius + margin.',
     stale: 'Stopped: no fresh sensor frame.',
     blocked: 'Stopped: no progress toward the waypoint.',
-    arrived: 'Stopped at the waypoint for this frame.',
+    arrived: 'Stopped: at its waypoint, or the route is done.',
     idle: 'Stopped: no route.'
   };
-
-  function wpNumber(v) {
-    return finite(v.waypoint) ? String(v.waypoint + 1) : '?';
-  }
 
   function toWaypoint(v) {
     if (!finite(v.waypoint))
@@ -209,7 +205,8 @@
 
   var conn = {
     ws: null, status: 'wait', attempt: 0, retryAt: 0, timer: 0, helloAt: 0, rtt: NaN,
-    watchdogMs: 0, viewHz: 0, stopped: false, token: opts.token, everLive: false
+    watchdogMs: 0, viewHz: 0, stopped: false, token: opts.token, everLive: false,
+    why: ''  /* why the page stopped trying, for the pill and the map */
   };
 
   function serverUrl() {
@@ -281,7 +278,7 @@
         return;
       conn.ws = null;
       if (conn.stopped) {
-        setConn('down', 'not connected');
+        setConn('down', conn.why || 'not connected');
         return;
       }
       scheduleRetry(ev.code);
@@ -306,12 +303,14 @@
     if (code === 'unauthorized') {
       /* Retrying with the same token cannot help: wait for the form. */
       conn.stopped = true;
+      conn.why = 'token needed';
       $('access').open = true;
       showMessage(conn.token ? 'The server refused this viewer token. Enter the right one below.'
                              : 'This server needs a viewer token. Enter it below.');
       $('token').focus();
     } else if (conn.status !== 'live') {
       conn.stopped = true;
+      conn.why = 'hello refused';
       showMessage('The server refused this page\u2019s hello: ' + code + ' ' + text);
     } else {
       showMessage('Server says: ' + code + ' ' + text);
@@ -338,6 +337,7 @@
     if (conn.ws)
       return;
     conn.stopped = false;
+    conn.why = '';
     connect();
   }
 
@@ -859,7 +859,9 @@
     }
     drawScaleBar(step);
 
-    if (conn.status !== 'live')
+    if (conn.stopped && conn.why)
+      banner('Not connected: ' + conn.why + ' (see the panel)', true);
+    else if (conn.status !== 'live')
       banner(conn.everLive ? 'Server connection lost \u2013 showing the last view' : 'Not connected to lacuna', true);
     else if (!r)
       banner(opts.robot ? 'Waiting for robot ' + opts.robot : 'Connected \u2013 waiting for a robot', false);
@@ -879,6 +881,7 @@
     }
     draws++;
     canvas.dataset.draws = String(draws);
+    canvas.dataset.scale = cam.scale.toFixed(3);
     drawTimes.push(t);
     while (drawTimes.length > 2 && drawTimes[0] < t - RATE_WINDOW)
       drawTimes.shift();
@@ -1160,6 +1163,7 @@
       conn.ws.close(1000, 'new token');
     conn.ws = null;
     conn.stopped = false;
+    conn.why = '';
     clearTimeout(conn.timer);
     connect();
   });

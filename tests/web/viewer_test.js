@@ -16,12 +16,16 @@
  *     role "viewer", once per connection.
  *  5. Hidden tab: no redraws while document.visibilityState is "hidden"
  *     (views keep arriving), drawing again when visible.
- *  6. A second robot: the picker appears and switches the panel.
+ *  6. The + button and the wheel zoom; a drag pans and stops following;
+ *     follow puts the robot back in the middle.
  *  7. 360 x 740 phone screen: no sideways scrolling, the robot is drawn
  *     inside the map and outside the panel, the toolbar and the header, and
- *     the state badge is on the first screen.
- *  8. The server is killed: the page says so; a new server on the same port:
+ *     the state badge is on the first screen, in large type.
+ *  8. A second robot: the picker appears and switches the panel.
+ *  9. The server is killed: the page says so; a new server on the same port:
  *     the page reconnects by itself and draws new views.
+ * 10. A server with a viewer token: the page asks for the token, does not
+ *     knock again until it has one, connects with the one typed in.
  * Screenshots go to LACUNA_WEB_SHOTS for people to look at. No timing
  * assertions: every wait is "until this holds", with a generous timeout that
  * only turns a hang into a failure.
@@ -84,9 +88,9 @@ process.on('exit', killAll);
 
 /* Starts `lacuna serve` on listen (HOST:PORT, port 0 = any); resolves with
  * the port it printed. */
-function startServer(listen) {
+function startServer(listen, extra) {
   const child = track(spawn(EXE, ['serve', '--listen', listen, '--web', path.join(ROOT, 'web'),
-                                  '--log-level', 'info'],
+                                  '--log-level', 'info'].concat(extra || []),
                             { stdio: ['ignore', 'pipe', 'pipe'] }),
                       'server', path.join(SHOTS, 'server.log'));
   return new Promise((resolve, reject) => {
@@ -173,7 +177,8 @@ async function canvasStats(page) {
     const g = c.getContext('2d');
     const d = g.getImageData(0, 0, c.width, c.height).data;
     const cs = getComputedStyle(document.documentElement);
-    const names = ['paper', 'region', 'robot', 'route', 'ellipse', 'arrow', 'obstacle', 'region-line', 'points-core'];
+    const names = ['paper', 'region', 'robot', 'robot-bad', 'route', 'ellipse', 'arrow', 'obstacle',
+                   'region-line', 'points-core'];
     const want = {};
     for (const n of names) {
       const hex = cs.getPropertyValue('--map-' + n).trim();
@@ -216,6 +221,7 @@ async function dataset(page) {
     return {
       conn: document.body.dataset.conn,
       draws: Number(c.dataset.draws || 0),
+      scale: Number(c.dataset.scale || 0),
       views: Number(c.dataset.views || 0),
       robotX: c.dataset.robotX === undefined ? null : Number(c.dataset.robotX),
       robotY: c.dataset.robotY === undefined ? null : Number(c.dataset.robotY),
@@ -335,9 +341,14 @@ async function main() {
     log(`canvas ${b.total} px: ` + Object.keys(b.count).map((n) => `${n} ${(100 * fr(n)).toFixed(2)}%`).join(', ') +
         `, other ${(100 * b.other / b.total).toFixed(1)}%; changed ${b.changed} px`);
     check(b.count.paper < 0.98 * b.total, 'canvas is not blank');
-    for (const n of ['region', 'robot', 'route', 'ellipse', 'region-line', 'points-core'])
+    /* the footprint is red while the robot is stopped for a reason (a
+     * loaded machine can delay the sim past the watchdog: state stale) */
+    const robotPx = (s) => s.count.robot + s.count['robot-bad'];
+    for (const n of ['region', 'route', 'ellipse', 'region-line', 'points-core'])
       check(b.count[n] > 20, `canvas shows the ${n} colour`, b.count[n]);
-    check(a.count.region > 20 && a.count.robot > 20, 'first snapshot shows region and robot too');
+    check(robotPx(b) > 20, 'canvas shows the robot', JSON.stringify(b.count));
+    check(a.count.region > 20 && robotPx(a) > 20, 'first snapshot shows region and robot too',
+          JSON.stringify(a.count));
     check(b.changed > 0.002 * b.total, 'canvas changed between the two snapshots', b.changed);
 
     const panel = await page.evaluate(() => ({
@@ -378,6 +389,35 @@ async function main() {
                   'drawing resumes when the tab shows');
     check(before.draws > 0, 'drawing counted');
 
+    /* ---- 6: zoom, drag, follow (before a second page opens: with two pages
+     * open, headless Chromium did not deliver the wheel to either) */
+    const z0 = await dataset(page);
+    await page.click('#zoom-in');
+    await waitFor(page, (sc) => Number(document.getElementById('map').dataset.scale) > sc * 1.4, z0.scale,
+                  'the + button zooms in');
+    const mapBox = await rectOf(page, '#map');
+    const mx = (mapBox.left + mapBox.right) / 2, my = (mapBox.top + mapBox.bottom) / 2;
+    await page.mouse.move(mx, my);
+    const z1 = await dataset(page);
+    await page.mouse.wheel(0, 300);
+    await waitFor(page, (sc) => Number(document.getElementById('map').dataset.scale) < sc * 0.8, z1.scale,
+                  'the wheel zooms out');
+    await page.mouse.down();
+    await page.mouse.move(mx - 60, my - 40, { steps: 4 });
+    await page.mouse.move(mx - 150, my - 100, { steps: 4 });
+    await page.mouse.up();
+    check(await page.getAttribute('#follow', 'aria-pressed') === 'false', 'dragging the map stops following');
+    await sleep(300);
+    const dragged = await dataset(page);
+    /* the robot keeps driving; by less than the 180 px drag in this time */
+    check(Math.hypot(dragged.robotX - mx, dragged.robotY - my) > 90, 'the map moved with the drag',
+          JSON.stringify({ robot: [dragged.robotX, dragged.robotY], centre: [mx, my] }));
+    await page.click('#follow');
+    await waitFor(page, (c) => {
+      const m = document.getElementById('map').dataset;
+      return Math.hypot(Number(m.robotX) - c[0], Number(m.robotY) - c[1]) < 2;
+    }, [mx, my], 'follow puts the robot back in the middle');
+
     /* ---- 7: phone */
     const phone = await context.newPage();
     await phone.setViewportSize({ width: 360, height: 740 });
@@ -405,7 +445,7 @@ async function main() {
     check(geo.state && geo.state.bottom <= 740, 'phone: the state is on the first screen', geo.state && geo.state.bottom);
     check(geo.stateFont >= 20, 'phone: the state is in large type', geo.stateFont);
 
-    /* ---- 6: a second robot: the picker shows, picking switches the panel */
+    /* ---- 8: a second robot: the picker shows, picking switches the panel */
     await page.bringToFront();
     const second = startPatrol(port, 'test-rover-2', '8.2,6.2,3.1416');
     await waitFor(page, () => !document.getElementById('picker-wrap').hidden &&
@@ -422,7 +462,7 @@ async function main() {
                   'picking the first robot again');
     second.stop();
 
-    /* ---- 8: server killed and restarted on the same port */
+    /* ---- 9: server killed and restarted on the same port */
     w.allowSocketErrors = wp.allowSocketErrors = true;
     check(w.errors.length === 0 && wp.errors.length === 0, 'no console errors while connected',
           w.errors.concat(wp.errors).join(' | '));
@@ -448,9 +488,33 @@ async function main() {
                   'drawing after the restart');
     const c = await canvasStats(page);
     await page.screenshot({ path: path.join(SHOTS, 'reconnected.png') });
-    check(c.count.robot > 20 && c.count.region > 20 && c.changed > 0.002 * c.total,
-          'draws the live patrol again', JSON.stringify({ robot: c.count.robot, region: c.count.region, changed: c.changed }));
+    check(robotPx(c) > 20 && c.count.region > 20 && c.changed > 0.002 * c.total,
+          'draws the live patrol again', JSON.stringify({ count: c.count, changed: c.changed }));
     await waitFor(phone, () => document.body.dataset.conn === 'live', null, 'phone page reconnects too');
+
+    /* ---- 10: a server with a viewer token: the page asks for it, stops
+     * knocking, and connects with the token typed into the form */
+    await phone.close();
+    await stopServer(server.child);
+    const tokenFile = path.join(profile, 'viewer-token');
+    fs.writeFileSync(tokenFile, 'quiet-heron-58\n', { mode: 0o600 });
+    server = await startServer(`127.0.0.1:${port}`, ['--viewer-token-file', tokenFile]);
+    log('server restarted with a viewer token');
+    await waitFor(page, () => !document.getElementById('message').hidden &&
+                  /token/.test(document.getElementById('message').textContent), null,
+                  'page asks for the viewer token');
+    await page.screenshot({ path: path.join(SHOTS, 'token-asked.png') });
+    const socketsBefore = w.sockets;
+    await sleep(1500);
+    check(w.sockets === socketsBefore, 'no retries while the token is missing',
+          `${w.sockets - socketsBefore} more`);
+    await page.fill('#token', 'quiet-heron-58');
+    await page.click('#token-form button[type=submit]');
+    await waitFor(page, () => document.body.dataset.conn === 'live' &&
+                  document.getElementById('message').hidden, null, 'connects with the token from the form');
+    const tok = await dataset(page);
+    await waitFor(page, (n) => Number(document.getElementById('map').dataset.views) >= n + 5, tok.views,
+                  'views with the token');
 
     /* ---- 1, 4: clean console, same origin, viewer only */
     const errs = w.errors.concat(wp.errors);
