@@ -45,7 +45,7 @@ typedef struct lc_ellipse_info {
     int warm_used; /* 1 when the warm start was strictly feasible and used */
 } lc_ellipse_info;
 
-#define LC_ELLIPSE_SCRATCH(n) (16 * (n) + 64)
+#define LC_ELLIPSE_SCRATCH(n) (18 * (n) + 64)
 
 void lc_ellipse_opts_default(lc_ellipse_opts *opts);
 
