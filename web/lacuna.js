@@ -32,7 +32,8 @@
   var PROTOCOL = 'lacuna.v1';
   var TRAIL_SECONDS = 30;         /* the trail fades out over this time */
   var TRAIL_BREAK_M = 1.0;        /* a jump longer than this starts a new trail piece */
-  var SILENT_SECONDS = 2.0;       /* a connected robot gets a view at least every watchdog period */
+  var SILENT_SECONDS = 2.0;       /* at least: a robot sending frames, or stale, gets a view
+                                     every watchdog period (see silentAfter) */
   var FORGET_SECONDS = 120;       /* a silent robot leaves the picker after this */
   var BACKOFF_MIN = 0.5, BACKOFF_MAX = 8; /* s between reconnection attempts */
   var SCALE_MIN = 4, SCALE_MAX = 2500;   /* px per metre */
@@ -95,7 +96,12 @@
     return ' toward waypoint ' + (v.waypoint + 1) + (n ? ' of ' + n : '');
   }
 
-  function fmt(x, digits) { return finite(x) ? x.toFixed(digits) : '\u2013'; }
+  function fmt(x, digits) {
+    if (!finite(x))
+      return '\u2013';
+    var t = x.toFixed(digits);
+    return /^-0\.?0*$/.test(t) ? t.slice(1) : t; /* no "-0.000" */
+  }
 
   function fmtMetres(x) {
     if (!finite(x))
@@ -199,13 +205,15 @@
     });
   }
 
-  function isSilent(r, t) { return !r || !r.lastArrival || t - r.lastArrival > SILENT_SECONDS; }
+  function silentAfter() { return Math.max(SILENT_SECONDS, 2.5 * conn.watchdogMs / 1000); }
+
+  function isSilent(r, t) { return !r || !r.lastArrival || t - r.lastArrival > silentAfter(); }
 
   /* ------------------------------------------------------------ connection */
 
   var conn = {
     ws: null, status: 'wait', attempt: 0, retryAt: 0, timer: 0, helloAt: 0, rtt: NaN,
-    watchdogMs: 0, viewHz: 0, stopped: false, token: opts.token, everLive: false,
+    watchdogMs: 0, stopped: false, token: opts.token, everLive: false,
     why: ''  /* why the page stopped trying, for the pill and the map */
   };
 
@@ -273,7 +281,7 @@
       else if (m.type === 'error')
         onError(m);
     };
-    ws.onclose = function (ev) {
+    ws.onclose = function () {
       if (conn.ws !== ws)
         return;
       conn.ws = null;
@@ -281,7 +289,7 @@
         setConn('down', conn.why || 'not connected');
         return;
       }
-      scheduleRetry(ev.code);
+      scheduleRetry();
     };
     ws.onerror = function () { /* onclose follows and schedules the retry */ };
   }
@@ -291,7 +299,6 @@
     conn.attempt = 0;
     conn.everLive = true;
     conn.watchdogMs = finite(m.watchdog_ms) ? m.watchdog_ms : 0;
-    conn.viewHz = finite(m.view_hz) ? m.view_hz : 0;
     setConn('live', 'live');
     showMessage(fragmentProblem);
     panelDirty = true;
@@ -308,10 +315,16 @@
       showMessage(conn.token ? 'The server refused this viewer token. Enter the right one below.'
                              : 'This server needs a viewer token. Enter it below.');
       $('token').focus();
-    } else if (conn.status !== 'live') {
+    } else if (conn.status !== 'live' && /^bad_/.test(code)) {
+      /* the hello itself is wrong (e.g. the robot name in the address):
+       * the same hello would be refused again */
       conn.stopped = true;
       conn.why = 'hello refused';
       showMessage('The server refused this page\u2019s hello: ' + code + ' ' + text);
+    } else if (conn.status !== 'live') {
+      /* busy (too_many_connections, rate_limited, internal): the backoff
+       * tries again later */
+      showMessage('The server turned this page away for now: ' + code + ' ' + text);
     } else {
       showMessage('Server says: ' + code + ' ' + text);
     }
@@ -902,7 +915,7 @@
   }
 
   function rate(list, t) {
-    if (list.length < 2 || t - list[list.length - 1].t > SILENT_SECONDS)
+    if (list.length < 2 || t - list[list.length - 1].t > silentAfter())
       return NaN;
     var span = list[list.length - 1].t - list[0].t;
     return span > 0 ? (list.length - 1) / span : NaN;
@@ -910,10 +923,14 @@
 
   function frameRate(r, t) {
     var a = r.arrivals;
-    if (a.length < 2 || t - a[a.length - 1].t > SILENT_SECONDS)
+    if (a.length < 2 || t - a[a.length - 1].t > silentAfter())
       return NaN;
-    var first = a[0], last = a[a.length - 1];
-    if (first.seq === null || last.seq === null || last.seq < first.seq)
+    /* views before the robot's first frame carry no seq */
+    var k = 0;
+    while (k < a.length && a[k].seq === null)
+      k++;
+    var first = a[Math.min(k, a.length - 1)], last = a[a.length - 1];
+    if (first === last || first.seq === null || last.seq === null || last.seq < first.seq)
       return NaN;
     var span = last.t - first.t;
     return span > 0 ? (last.seq - first.seq) / span : NaN;
@@ -925,7 +942,9 @@
       return ['\u2013', ''];
     if (finite(sp.v) || finite(sp.w)) {
       var w = finite(sp.w) ? sp.w : 0;
-      var turn = Math.abs(w) < 0.005 ? 'straight' : (w > 0 ? 'turning left' : 'turning right');
+      var v = finite(sp.v) ? sp.v : 0;
+      var turn = Math.abs(w) >= 0.005 ? (w > 0 ? 'turning left' : 'turning right')
+               : Math.abs(v) >= 0.005 ? 'straight' : 'standing';
       return [fmt(sp.v, 2) + ' m/s', 'v ' + fmt(sp.v, 3) + ' m/s, w ' + fmt(w, 3) + ' rad/s, ' + turn];
     }
     var vx = finite(sp.vx) ? sp.vx : 0, vy = finite(sp.vy) ? sp.vy : 0;
@@ -976,8 +995,8 @@
       } };
     else if (silent)
       st = { title: 'Silent', cls: 'bad', words: function () {
-        return 'No view for ' + fmtAge(t - r.lastArrival) + ': the robot has probably disconnected from lacuna. ' +
-          'Last state: ' + (v.state || '?') + '.';
+        return 'No view for ' + fmtAge(t - r.lastArrival) + ': the robot has disconnected from lacuna, ' +
+          'or has never sent a frame. Last state: ' + (v.state || '?') + '.';
       } };
     silent = silent || offline;
     setText('state', st.title);

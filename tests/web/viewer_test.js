@@ -1,6 +1,6 @@
 /*
  * viewer_test.js - the viewer page (web/) in real headless Chromium against a
- * live `lacuna serve` with a patrolling robot. Run by run.sh (meson suite
+ * live `lacuna serve` with robots patrolling through `lacuna sim --connect`. Run by run.sh (meson suite
  * 'web'); see run.sh for the environment it needs.
  *
  * What it checks, in order:
@@ -21,7 +21,9 @@
  *  7. 360 x 740 phone screen: no sideways scrolling, the robot is drawn
  *     inside the map and outside the panel, the toolbar and the header, and
  *     the state badge is on the first screen, in large type.
- *  8. A second robot: the picker appears and switches the panel.
+ *  8. A second robot: the picker appears and switches the panel. A robot
+ *     whose frames stop (its sim paused) shows as stale, drawn red, and the
+ *     panel says the watchdog stopped it.
  *  9. The server is killed: the page says so; a new server on the same port:
  *     the page reconnects by itself and draws new views.
  * 10. A server with a viewer token: the page asks for the token, does not
@@ -32,7 +34,7 @@
  */
 'use strict';
 
-const { spawn, spawnSync } = require('child_process');
+const { spawn } = require('child_process');
 const fs = require('fs');
 const os = require('os');
 const path = require('path');
@@ -42,7 +44,6 @@ const EXE = process.env.LACUNA_EXE;
 const ROOT = process.env.LACUNA_SOURCE_ROOT;
 const SHOTS = process.env.LACUNA_WEB_SHOTS;
 const CHROMIUM = process.env.LACUNA_CHROMIUM || '/usr/bin/chromium';
-const SCENARIO = path.join(ROOT || '.', 'scenarios', 'office_round.jsonl');
 const ROBOT_NAME = 'test-rover';
 const STATES = ['idle', 'tracking', 'arrived', 'done', 'blocked', 'stale', 'too_close'];
 const WAIT = 20000; /* ms: a hang becomes a failure, never a speed check */
@@ -112,48 +113,38 @@ function startServer(listen, extra) {
   });
 }
 
-function stopServer(child) {
+/* Resolves with the exit status (a number, or the signal's name). SIGKILL
+ * (the default) is a crash, not a polite shutdown. */
+function stopServer(child, signal) {
   return new Promise((resolve) => {
     if (child.exitCode !== null || child.signalCode !== null)
-      return resolve();
-    child.once('exit', () => resolve());
-    child.kill('SIGKILL'); /* a crash, not a polite shutdown */
+      return resolve(child.exitCode !== null ? child.exitCode : child.signalCode);
+    child.once('exit', (code, sig) => resolve(code !== null ? code : sig));
+    child.kill(signal || 'SIGKILL');
   });
 }
 
 /* ------------------------------------------------------------- patrol */
 
-/* The patrolling robot: `lacuna sim --connect` when this build has it, else
- * the Python robot beside this file. Restarted whenever it ends (the sim
- * ends when its server goes away), until stopped. */
-function patrolCommand(port, name, start) {
-  const url = `ws://127.0.0.1:${port}/`;
-  const help = spawnSync(EXE, ['sim', '--help'], { encoding: 'utf8' });
-  const text = (help.stdout || '') + (help.stderr || '');
-  if (/--connect/.test(text) && !/not available yet/.test(text))
-    return { cmd: EXE, args: ['sim', SCENARIO, '--connect', url, '--name', name, '--laps', '0'],
-             what: 'lacuna sim --connect' };
-  const py = process.env.LACUNA_PYTHON || '/usr/bin/python3';
-  return { cmd: py, args: [path.join(__dirname, 'robot.py'), '--url', url, '--name', name, '--start', start],
-           what: 'tests/web/robot.py' };
-}
-
-function startPatrol(port, name, start) {
-  const p = patrolCommand(port, name, start);
-  const state = { stopped: false, starts: 0, what: p.what, child: null };
+/* A patrolling robot: `lacuna sim SCENARIO --connect`, restarted whenever it
+ * ends (it ends when its server goes away), until stopped. */
+function startPatrol(port, name, scenario) {
+  const args = ['sim', path.join(ROOT, 'scenarios', scenario), '--connect', `ws://127.0.0.1:${port}/`,
+                '--name', name, '--laps', '0', '--json'];
+  const state = { stopped: false, starts: 0, child: null };
   const run = () => {
     if (state.stopped)
       return;
     state.starts++;
-    state.child = track(spawn(p.cmd, p.args, { stdio: ['ignore', 'pipe', 'pipe'] }),
-                        'patrol', path.join(SHOTS, 'patrol.log'));
+    state.child = track(spawn(EXE, args, { stdio: ['ignore', 'pipe', 'pipe'] }),
+                        'patrol', path.join(SHOTS, 'patrol-' + name + '.log'));
     state.child.on('exit', () => { if (!state.stopped) setTimeout(run, 300); });
   };
   run();
   state.stop = () => {
     state.stopped = true;
     if (state.child)
-      state.child.kill('SIGTERM');
+      state.child.kill('SIGINT');
   };
   return state;
 }
@@ -304,8 +295,7 @@ async function main() {
   const port = server.port;
   const origin = `http://127.0.0.1:${port}`;
   log(`server on port ${port}`);
-  const patrol = startPatrol(port, ROBOT_NAME, '1.8,1.8,0');
-  log(`patrol: ${patrol.what}`);
+  const patrol = startPatrol(port, ROBOT_NAME, 'office_round.jsonl');
 
   const profile = fs.mkdtempSync(path.join(os.tmpdir(), 'lacuna-web-'));
   const context = await chromium.launchPersistentContext(profile, {
@@ -447,20 +437,38 @@ async function main() {
 
     /* ---- 8: a second robot: the picker shows, picking switches the panel */
     await page.bringToFront();
-    const second = startPatrol(port, 'test-rover-2', '8.2,6.2,3.1416');
+    /* a holonomic robot in another invented site: setpoints vx, vy */
+    const second = startPatrol(port, 'test-sweeper', 'warehouse_aisles.jsonl');
     await waitFor(page, () => !document.getElementById('picker-wrap').hidden &&
                   document.getElementById('picker').options.length === 2, null,
                   'picker appears with two robots');
-    await page.selectOption('#picker', 'test-rover-2');
-    await waitFor(page, () => document.getElementById('robot-name').textContent === 'test-rover-2' &&
-                  document.getElementById('state-code').textContent !== '', null,
-                  'picking the second robot shows it in the panel');
+    await page.selectOption('#picker', 'test-sweeper');
+    await waitFor(page, () => document.getElementById('robot-name').textContent === 'test-sweeper' &&
+                  document.getElementById('state-code').textContent !== '' &&
+                  /vx .* vy /.test(document.getElementById('f-setpoint-detail').textContent), null,
+                  'picking the second robot shows it, with its vx, vy setpoint');
     await sleep(500);
     await page.screenshot({ path: path.join(SHOTS, 'two-robots.png') });
     await page.selectOption('#picker', ROBOT_NAME);
     await waitFor(page, (n) => document.getElementById('robot-name').textContent === n, ROBOT_NAME,
                   'picking the first robot again');
     second.stop();
+
+    /* ---- 8b: the robot stops sending frames (its sim is paused): the
+     * server's watchdog stops it, and the page says why */
+    patrol.child.kill('SIGSTOP');
+    await waitFor(page, () => document.getElementById('state-code').textContent === 'stale', null,
+                  'a paused robot shows as stale');
+    await sleep(300);
+    await page.screenshot({ path: path.join(SHOTS, 'stale.png') });
+    const staleWords = await page.textContent('#state-words');
+    check(/watchdog/.test(staleWords) && /no sensor frame/.test(staleWords),
+          'the panel says the watchdog stopped it for want of frames', staleWords);
+    const st = await canvasStats(page);
+    check(st.count['robot-bad'] > 20, 'the stopped robot is drawn red', JSON.stringify(st.count));
+    patrol.child.kill('SIGCONT');
+    await waitFor(page, () => document.getElementById('state-code').textContent !== 'stale', null,
+                  'the robot drives on after its frames resume');
 
     /* ---- 9: server killed and restarted on the same port */
     w.allowSocketErrors = wp.allowSocketErrors = true;
@@ -524,6 +532,11 @@ async function main() {
     checkSentOnlyHello(w, 'desktop');
     checkSentOnlyHello(wp, 'phone');
     check(w.sockets >= 2, 'desktop page opened a new websocket after the restart', w.sockets);
+
+    /* a clean end with viewers connected (under ASan: no leak report) */
+    patrol.stop();
+    const status = await stopServer(server.child, 'SIGTERM');
+    check(status === 0, 'server exits 0 on SIGTERM with a viewer connected', status);
   } finally {
     patrol.stop();
     await context.close();
