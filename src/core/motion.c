@@ -192,13 +192,18 @@ static double clampd(double x, double lo, double hi)
  * The values reachable from c within rate r that respect [lo, hi]; when
  * none do, the one end of the rate window nearest to [lo, hi].
  */
+/*
+ * The values reachable from c within rate r, inside [lo, hi]. The robot's
+ * limits come first: from a value beyond them (a robot description lowered
+ * mid-run, a plan request's velocity) the window is the nearest limit.
+ */
 static void rate_window(double c, double r, double lo, double hi, double *wlo, double *whi)
 {
     double a = c - r, b = c + r;
     if (a > hi) {
-        *wlo = *whi = a;
+        *wlo = *whi = hi;
     } else if (b < lo) {
-        *wlo = *whi = b;
+        *wlo = *whi = lo;
     } else {
         *wlo = fmax(a, lo);
         *whi = fmin(b, hi);
@@ -329,6 +334,12 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
     if (!point_safe(robot, params, region, p, v)) {
         v = point_fallback(robot, params, region, p, v0, v, step);
         limit = LC_LIMIT_BRAKING;
+    }
+    /* From beyond v_max (see rate_window) the limit wins over a_max. */
+    double speed = lc_len(v);
+    if (speed > robot->v_max) {
+        v = lc_scale(v, robot->v_max / speed);
+        limit = LC_LIMIT_TOP_SPEED;
     }
     lc_vec2 v_robot = lc_rotate(v, -pose.yaw);
     out->vx = v_robot.x;

@@ -67,6 +67,68 @@ int lc_region_blind_lines(lc_vec2 centre, double fov, double view_mid, bool has_
     return 1;
 }
 
+/* May the footprint move along u (see lc_region_view_wedge)? e[] are the
+ * blind cone's edge directions, o the sensor relative to the centre. */
+static bool sweep_sees(lc_vec2 u, lc_vec2 o, const lc_vec2 e[2], double radius)
+{
+    const double tol = 1e-12;
+    double ou = lc_dot(o, u);
+    for (int k = 0; k < 2; k++) {
+        double eu = lc_dot(e[k], u);
+        if (ou <= 0) {
+            if (eu > tol)
+                return false;
+            continue;
+        }
+        /* the apex lies ahead: the cone must leave the half plane again
+         * (eu < 0) and the stretch of its edge ahead stays in the disc */
+        if (!(eu < -tol))
+            return false;
+        lc_vec2 exit = lc_add(o, lc_scale(e[k], -ou / eu));
+        if (lc_len(exit) > radius)
+            return false;
+    }
+    return ou <= 0 || lc_len(o) <= radius;
+}
+
+/* The largest angle in [0, pi/2] that directions view_mid + side * a keep
+ * qualifying for every a up to it (bisection; qualifying shrinks with a). */
+static double wedge_reach(double view_mid, double side, lc_vec2 o, const lc_vec2 e[2],
+                          double radius)
+{
+    double lo = 0.0, hi = 0.5 * LC_PI;
+    if (sweep_sees(lc_unit_angle(view_mid + side * hi), o, e, radius))
+        return hi;
+    for (int i = 0; i < 40; i++) {
+        double mid = 0.5 * (lo + hi);
+        if (sweep_sees(lc_unit_angle(view_mid + side * mid), o, e, radius))
+            lo = mid;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
+int lc_region_view_wedge(lc_vec2 centre, lc_vec2 sensor_offset, double fov, double view_mid,
+                         double radius, lc_halfspace out[2])
+{
+    if (!(fov < 2.0 * LC_PI - 1e-9))
+        return 0;
+    if (!(fov > LC_PI) || !lc_vec2_finite(sensor_offset) || !(radius >= 0) ||
+        !sweep_sees(lc_unit_angle(view_mid), sensor_offset,
+                    (lc_vec2[2]){lc_unit_angle(view_mid + 0.5 * fov),
+                                 lc_unit_angle(view_mid - 0.5 * fov)},
+                    radius))
+        return -1;
+    /* the blind cone's edges run from the sensor at view_mid +- fov/2 */
+    lc_vec2 e[2] = {lc_unit_angle(view_mid + 0.5 * fov), lc_unit_angle(view_mid - 0.5 * fov)};
+    double left = wedge_reach(view_mid, 1.0, sensor_offset, e, radius);
+    double right = wedge_reach(view_mid, -1.0, sensor_offset, e, radius);
+    out[0] = hs_through(lc_unit_angle(view_mid + left + 0.5 * LC_PI), centre);
+    out[1] = hs_through(lc_unit_angle(view_mid - right - 0.5 * LC_PI), centre);
+    return 2;
+}
+
 /* 2x2 symmetric inverse of the ellipse's L. */
 static void l_inverse(const lc_ellipse *e, double inv[3])
 {

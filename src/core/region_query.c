@@ -29,9 +29,12 @@ double lc_region_ray_exit(const lc_region *r, lc_vec2 p, lc_vec2 dir)
     for (int i = 0; i < r->nh; i++) {
         double slack = r->h[i].b - lc_dot(r->h[i].a, p);
         double rate = lc_dot(r->h[i].a, dir);
-        if (slack < 0)
-            return 0.0;
-        if (rate > 0) {
+        if (slack < -1e-12)
+            return 0.0; /* outside (beyond rounding): no room at all */
+        slack = slack > 0 ? slack : 0.0;
+        /* a line through p with dir along it (rate a rounding error away
+         * from 0) does not stop the ray: p stays on it */
+        if (rate > 1e-12) {
             double s = slack / rate;
             if (s < s_max)
                 s_max = s;

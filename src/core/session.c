@@ -30,6 +30,8 @@ struct lc_session {
     int cap_gather;
     lc_region region;
     lc_region_ws rws;
+    lc_halfspace *motion_h; /* the region as the motion law sees it (drive) */
+    int cap_motion_h;
 };
 
 static const char *const stage_names[LC_STAGE_COUNT] = {
@@ -51,6 +53,7 @@ void lc_plan_config_default(lc_plan_config *cfg)
     lc_region_config_default(&cfg->region);
     lc_ellipse_opts_default(&cfg->ellipse);
     lc_motion_params_default(&cfg->motion);
+    cfg->standoff = 0.04;
 }
 
 lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
@@ -96,6 +99,7 @@ void lc_session_free(lc_session *s)
     lc_polyset_free(&s->obstacles, a);
     lc_polyset_free(&s->grown, a);
     LC_RELEASE(a, s->gather, s->cap_gather);
+    LC_RELEASE(a, s->motion_h, s->cap_motion_h);
     lc_region_free(&s->region, a);
     lc_region_ws_free(&s->rws, a);
     lc_alloc keep = s->alloc;
@@ -201,8 +205,18 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
         double fov = f->kind == LC_FRAME_POINTS && s->cfg.region.points_fov > 0
                          ? s->cfg.region.points_fov
                          : s->cloud.fov;
-        in.n_blind = lc_region_blind_lines(in.centre, fov, f->pose.yaw + s->cloud.fov_mid, has_wp,
-                                           wp, in.blind);
+        double view_mid = f->pose.yaw + s->cloud.fov_mid;
+        /* A robot that slides sideways must keep its whole footprint in
+         * seen space, not only its centre: the view wedge. A unicycle
+         * drives along its heading, inside the seen half plane. */
+        int n = -1;
+        if (s->robot.model == LC_MODEL_POINT) {
+            lc_vec2 offset = lc_rotate(lc_v2(f->mount.x, f->mount.y), f->pose.yaw);
+            n = lc_region_view_wedge(in.centre, offset, fov, view_mid, s->robot.radius,
+                                     in.blind);
+        }
+        in.n_blind = n >= 0 ? n : lc_region_blind_lines(in.centre, fov, view_mid, has_wp, wp,
+                                                        in.blind);
     }
     lc_region_info info;
     int rc = lc_region_inflate(&in, &s->cfg.region, &s->cfg.ellipse, &s->rws, &s->region, &info,
@@ -241,15 +255,60 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
  * brake, so braking room is judged with at least dt of latency: then the
  * promise "can stop inside the region" holds from step to step.
  */
+/*
+ * The region the motion law brakes in: every line moved in by the standoff,
+ * but never past the robot (a line it is already nearer than the standoff
+ * is moved in to the robot only). A robot that stopped or slid exactly on
+ * the edge of a grown obstacle would flicker into too_close with range
+ * noise; this way it stays the standoff away, or at least does not get
+ * nearer. Only the motion sees it: the region reported is the full one.
+ * NULL when out of memory.
+ */
+static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_region *out)
+{
+    const lc_region *r = &s->region;
+    if (!(s->cfg.standoff > 0))
+        return r;
+    if (LC_GROW(&s->alloc, s->motion_h, s->cap_motion_h, r->nh) < 0)
+        return NULL;
+    for (int i = 0; i < r->nh; i++) {
+        double slack = r->h[i].b - lc_dot(r->h[i].a, c);
+        double in = slack < s->cfg.standoff ? (slack > 0 ? slack : 0) : s->cfg.standoff;
+        s->motion_h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - in};
+    }
+    *out = *r;
+    out->h = s->motion_h;
+    return out;
+}
+
+/*
+ * Where the robot heads: the target, or, when the target is the waypoint's
+ * projection onto the region's edge, a point standoff further in, toward
+ * the ellipse centre (inside by convexity), so that it stops by the goal
+ * term rather than by the braking room of the motion region.
+ */
+static lc_vec2 aim_point(const lc_session *s, lc_vec2 target, lc_vec2 waypoint)
+{
+    lc_vec2 in = lc_sub(s->region.ellipse.d, target);
+    double len = lc_len(in);
+    if (!(s->cfg.standoff > 0) || lc_dist(target, waypoint) <= 1e-9 || !(len > 1e-9))
+        return target;
+    return lc_add(target, lc_scale(in, lc_min(s->cfg.standoff, len) / len));
+}
+
 static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
 {
     lc_motion_params mp = s->cfg.motion;
     mp.latency = fmax(mp.latency, dt);
-    int rc = s->robot.model == LC_MODEL_UNICYCLE
-                 ? lc_motion_unicycle(&s->robot, &mp, &s->region, f->pose, out->target,
-                                      &s->last, dt, &out->setpoint)
-                 : lc_motion_point(&s->robot, &mp, &s->region, f->pose, out->target,
-                                   &s->last, dt, &out->setpoint);
+    lc_vec2 aim = aim_point(s, out->target, out->waypoint);
+    lc_region shrunk;
+    const lc_region *mr = motion_region(s, lc_v2(f->pose.x, f->pose.y), &shrunk);
+    int rc = !mr                                  ? -1
+             : s->robot.model == LC_MODEL_UNICYCLE ? lc_motion_unicycle(&s->robot, &mp, mr, f->pose,
+                                                                       aim, &s->last, dt,
+                                                                       &out->setpoint)
+                                                   : lc_motion_point(&s->robot, &mp, mr, f->pose, aim,
+                                                                     &s->last, dt, &out->setpoint);
     if (rc < 0)
         out->setpoint = lc_setpoint_stop(LC_LIMIT_NONE);
 }

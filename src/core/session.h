@@ -34,6 +34,11 @@ typedef struct lc_plan_config {
     lc_region_config region;
     lc_ellipse_opts ellipse;
     lc_motion_params motion;
+    double standoff;      /* m, how far inside the region the robot aims when the
+                             waypoint lies outside it (target stays the closest
+                             point); keeps a robot parked at a blocked waypoint off
+                             the grown obstacles' edge, so range noise does not make
+                             it too_close (default 0.04: four times a common 10 mm range noise) */
 } lc_plan_config;
 
 void lc_plan_config_default(lc_plan_config *cfg);

@@ -886,6 +886,36 @@ static void test_unicycle_examples(void **state)
  * grows, so the path stays in the first osculating disc. Simulated here by
  * RK4 for random cases.
  */
+/*
+ * From a last setpoint beyond the robot's limits (a plan request's
+ * velocity, a description lowered mid-run) the next one is within them:
+ * the limits come before the rate limits (found by a review: 5 m/s gave
+ * 4.975 m/s with v_max 0.8).
+ */
+static void test_last_beyond_limits(void **state)
+{
+    (void)state;
+    lc_motion_params p;
+    lc_motion_params_default(&p);
+    test_region t;
+    lc_setpoint out;
+    make_box(&t, -10, -10, 10, 10);
+    lc_robot r = robot_default_of(LC_MODEL_POINT);
+    assert_int_equal(point_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), lc_v2(5, 0), 0.05,
+                                &out), 0);
+    assert_true(hypot(out.vx, out.vy) <= r.v_max + 1e-12);
+    assert_int_equal(out.limit, LC_LIMIT_TOP_SPEED);
+    lc_robot u = robot_default_of(LC_MODEL_UNICYCLE);
+    lc_setpoint last = {.v = 3, .w = 5};
+    assert_int_equal(lc_motion_unicycle(&u, &p, &t.r, (lc_pose){0, 0, 0}, lc_v2(5, 0), &last,
+                                        0.05, &out), 0);
+    assert_true(fabs(out.v) <= u.v_max + 1e-12 && fabs(out.w) <= u.w_max + 1e-12);
+    last = (lc_setpoint){.v = -3, .w = -5};
+    assert_int_equal(lc_motion_unicycle(&u, &p, &t.r, (lc_pose){0, 0, 0}, lc_v2(5, 0), &last,
+                                        0.05, &out), 0);
+    assert_true(out.v >= 0 && fabs(out.w) <= u.w_max + 1e-12);
+}
+
 static void test_unicycle_brake_disc(void **state)
 {
     (void)state;
@@ -1107,6 +1137,7 @@ int main(void)
         cmocka_unit_test(test_point_properties),
         cmocka_unit_test(test_point_closed_loop),
         cmocka_unit_test(test_unicycle_examples),
+        cmocka_unit_test(test_last_beyond_limits),
         cmocka_unit_test(test_unicycle_brake_disc),
         cmocka_unit_test(test_unicycle_properties),
         cmocka_unit_test(test_unicycle_closed_loop),

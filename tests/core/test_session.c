@@ -203,6 +203,62 @@ static void test_too_close(void **state)
     lc_session_free(ses);
 }
 
+/*
+ * A waypoint behind a wall, 1 cm range noise: the robot drives up to the
+ * wall and waits there. It stops the standoff inside the region, so the
+ * noise does not throw it into too_close (a parked robot flickered between
+ * too_close and tracking before), and it never comes nearer the wall than
+ * radius + margin (closed form: the wall face is the plane x = 2).
+ */
+static void test_standoff_at_blocked_waypoint(void **state)
+{
+    lc_world w;
+    lc_world_init(&w);
+    lc_vec2 wall[4] = {{2.0, -3}, {2.2, -3}, {2.2, 3}, {2.0, 3}};
+    lc_world_add(&w, wall, 4);
+    lc_sensor sen;
+    lc_sensor_default(&sen);
+    sen.noise = 0.01;
+    lc_sim_rng noise = {7};
+    double *ranges = calloc((size_t)sen.beams, sizeof *ranges);
+    for (int m = 0; m < 2; m++) {
+        lc_robot robot;
+        lc_robot_default(&robot);
+        robot.model = m ? LC_MODEL_UNICYCLE : LC_MODEL_POINT;
+        lc_session *ses = lc_session_new(&robot, NULL, NULL);
+        lc_session_set_goal(ses, lc_v2(4, 0.3));
+        lc_pose pose = {0, 0, 0};
+        int too_close = 0;
+        double nearest = INFINITY, dt = 0.05;
+        for (int k = 0; k < 400; k++) {
+            lc_frame f = scan_of(&w, &sen, pose, ranges, &noise);
+            f.seq = k;
+            f.stamp = k * dt;
+            lc_plan_result r;
+            assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+            too_close += r.state == LC_STATE_TOO_CLOSE;
+            if (robot.model == LC_MODEL_POINT) {
+                lc_vec2 d = lc_rotate(lc_v2(r.setpoint.vx * dt, r.setpoint.vy * dt), pose.yaw);
+                pose.x += d.x;
+                pose.y += d.y;
+            } else {
+                pose = fabs(r.setpoint.v) > 0 ? lc_motion_arc(pose, r.setpoint.w / r.setpoint.v,
+                                                              r.setpoint.v * dt)
+                                              : (lc_pose){pose.x, pose.y,
+                                                          pose.yaw + r.setpoint.w * dt};
+            }
+            nearest = fmin(nearest, 2.0 - pose.x);
+        }
+        assert_int_equal(too_close, 0);
+        assert_true(nearest >= lc_robot_clearance(&robot) - 1e-6);
+        /* it did come up to the wall: within 10 cm of the closest allowed */
+        assert_true(2.0 - pose.x <= lc_robot_clearance(&robot) + 0.1);
+        lc_session_free(ses);
+    }
+    free(ranges);
+    lc_world_free(&w);
+}
+
 static void test_names(void **state)
 {
     assert_string_equal(lc_stage_name(LC_STAGE_INGEST), "ingest");
@@ -233,6 +289,7 @@ int main(void)
         cmocka_unit_test(test_no_alloc_when_warm),
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_too_close),
+        cmocka_unit_test(test_standoff_at_blocked_waypoint),
         cmocka_unit_test(test_names),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
