@@ -151,12 +151,14 @@ function startPatrol(port, name, scenario) {
 
 /* ------------------------------------------------------------- page helpers */
 
+/* Waits until fn(arg) holds in the page; a failure ends the test (what
+ * follows depends on it, and waiting on would only pile up timeouts). */
 async function waitFor(page, fn, arg, what) {
   try {
     await page.waitForFunction(fn, arg, { timeout: WAIT, polling: 100 });
-    return true;
   } catch (e) {
-    return check(false, what, 'not within ' + WAIT / 1000 + ' s');
+    check(false, what, 'not within ' + WAIT / 1000 + ' s');
+    throw new Error('stopped at: ' + what);
   }
 }
 
@@ -412,7 +414,8 @@ async function main() {
     const phone = await context.newPage();
     await phone.setViewportSize({ width: 360, height: 740 });
     const wp = watchPage(phone, origin, 'phone');
-    await phone.goto(origin + '/', { waitUntil: 'load' });
+    /* the phone watches one robot, named in the address */
+    await phone.goto(origin + '/#robot=' + ROBOT_NAME, { waitUntil: 'load' });
     await waitFor(phone, () => document.getElementById('map').dataset.robotX !== undefined &&
                   document.getElementById('state-code').textContent !== '', null, 'phone: robot drawn');
     await sleep(300);
@@ -452,6 +455,11 @@ async function main() {
     await page.selectOption('#picker', ROBOT_NAME);
     await waitFor(page, (n) => document.getElementById('robot-name').textContent === n, ROBOT_NAME,
                   'picking the first robot again');
+    const phonePicker = await phone.evaluate(() => ({
+      hidden: document.getElementById('picker-wrap').hidden,
+      options: document.getElementById('picker').options.length }));
+    check(phonePicker.hidden && phonePicker.options === 1,
+          'the phone, watching #robot=' + ROBOT_NAME + ', gets only that robot', JSON.stringify(phonePicker));
     second.stop();
 
     /* ---- 8b: the robot stops sending frames (its sim is paused): the
@@ -531,6 +539,9 @@ async function main() {
     check(off.length === 0, 'nothing fetched from outside the server', off.join(' '));
     checkSentOnlyHello(w, 'desktop');
     checkSentOnlyHello(wp, 'phone');
+    const phoneHello = JSON.parse(String(wp.sent[0][0]));
+    check(phoneHello.robot === ROBOT_NAME, 'the phone\'s hello names the robot from the address',
+          JSON.stringify(phoneHello));
     check(w.sockets >= 2, 'desktop page opened a new websocket after the restart', w.sockets);
 
     /* a clean end with viewers connected (under ASan: no leak report) */
