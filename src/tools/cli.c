@@ -10,6 +10,7 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "codec.h"
 #include "lc_config.h"
@@ -84,6 +85,13 @@ char *lc_cli_read_file(const char *path, size_t *len)
     FILE *f = strcmp(path, "-") == 0 ? stdin : fopen(path, "rb");
     if (!f)
         return NULL;
+    struct stat st;
+    if (fstat(fileno(f), &st) == 0 && S_ISDIR(st.st_mode)) {
+        if (f != stdin)
+            fclose(f);
+        errno = EISDIR; /* fopen takes a directory; reading it fails with EIO */
+        return NULL;
+    }
     size_t cap = 65536, n = 0;
     char *buf = malloc(cap);
     while (buf) {

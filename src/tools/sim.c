@@ -79,11 +79,12 @@ const char lc_sim_usage[] =
     "\n"
     "stdout: {\"done\":b,\"waypoints_reached\":n,\"collisions\":n,\n"
     "\"min_clearance\":m,\"path_length\":m,\"sim_time\":s,\"frames\":n,...}\n"
-    "exit status: 0 when the header's expectation is met without a collision\n"
-    "(expect \"done\", the default: the route finished, a looping route once\n"
-    "round; expect \"blocked\": the run ended blocked), 1 otherwise, 2 bad\n"
-    "usage or file. With --connect, compute_us is the round trip; 1 also when\n"
-    "the server cannot be reached or refuses a message, or on Ctrl-C.\n";
+    "exit status: 0 when the route was done (a looping route once round)\n"
+    "without a collision, 1 otherwise, 2 bad usage or file. \"ok\" in the\n"
+    "output says whether the header's expectation was met (expect \"done\",\n"
+    "the default, or \"blocked\": the run ended blocked without a collision).\n"
+    "With --connect, round_trip_us replaces compute_us, and the exit is 1 also\n"
+    "when the server cannot be reached or refuses a message, or on Ctrl-C.\n";
 
 #define SUBSTEP_MAX 0.001 /* s */
 #define BLOCKED_HOLD 3.0  /* s */
@@ -737,7 +738,8 @@ int lc_tool_sim(int argc, char **argv)
         rc = sim_run(&sm);
         if (!rc) {
             print_result(&sm);
-            rc = success(&sm) ? LC_EXIT_OK : LC_EXIT_FAIL;
+            /* CONTRACT.md: 0 only for a route done without a collision */
+            rc = sm.m.end == OUT_DONE && sm.m.collisions == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
         }
         lc_svg_run_free(&sm.svg);
         lc_wire_text_free(&sm.text);

@@ -43,6 +43,8 @@ check plan-help 0 "$exe" plan --help
 expect_in plan-help "$tmp/out" "usage: lacuna plan"
 check plan-unknown-option 2 "$exe" plan --fast
 check plan-missing-file 2 "$exe" plan "$tmp/nope.json"
+check plan-directory 2 "$exe" plan "$tmp"
+expect_in plan-directory "$tmp/err" "Is a directory"
 expect_in plan-missing-file "$tmp/err" "cannot read"
 
 for req in office-corner aisle-points; do
