@@ -84,8 +84,16 @@ double lc_wrap_angle(double a);
 /* Distance from p to the closed segment [a, b], and the closest point. */
 double lc_segment_distance(lc_vec2 p, lc_vec2 a, lc_vec2 b, lc_vec2 *closest);
 
-/* Its square (no square root, for comparisons). */
-double lc_segment_distance2(lc_vec2 p, lc_vec2 a, lc_vec2 b);
+/* Its square (no square root, for comparisons). Inline: segmentation and
+ * region call it hundreds of times per frame. */
+static inline double lc_segment_distance2(lc_vec2 p, lc_vec2 a, lc_vec2 b)
+{
+    lc_vec2 ab = lc_sub(b, a), ap = lc_sub(p, a);
+    double l2 = lc_len2(ab);
+    double t = l2 > 0 ? lc_dot(ap, ab) / l2 : 0.0;
+    t = t < 0 ? 0 : (t > 1 ? 1 : t);
+    return lc_len2(lc_sub(ap, lc_scale(ab, t)));
+}
 
 /* Twice the signed area of a polygon (positive when counter-clockwise). */
 double lc_polygon_area2(const lc_vec2 *v, int n);

@@ -92,19 +92,40 @@ static int split_ordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment_c
     return 0;
 }
 
+/*
+ * Borges and Aldon's threshold between neighbours i-1 and i. For the scan's
+ * own step (neighbours one beam apart, their bearings equal to the step up
+ * to rounding) the ratio of sines is the frame's constant `step_ratio`
+ * (negative: none): two sines per beam were a twelfth of a 1081-beam frame
+ * (60k of 720k instructions, callgrind).
+ */
+static double neighbour_threshold(const lc_cloud *c, const lc_segment_config *cfg,
+                                  double step_ratio, int i, double dphi)
+{
+    double step = fabs(c->angle_step);
+    if (step_ratio >= 0 && fabs(dphi - step) <= 1e-9 * step)
+        return c->range[i - 1] * step_ratio + 3.0 * cfg->sigma_r;
+    return lc_breakpoint_threshold(c->range[i - 1], dphi, cfg->lambda, cfg->sigma_r);
+}
+
 static int ordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_segment_ws *ws,
                             const lc_alloc *alloc)
 {
+    double step = fabs(c->angle_step);
+    double step_ratio = step > 0 && step < cfg->lambda ? sin(step) / sin(cfg->lambda - step) : -1;
     int start = 0;
     for (int i = 1; i <= c->n; i++) {
         bool brk = i == c->n;
         if (!brk) {
-            double gap = lc_dist(c->world[i], c->world[i - 1]);
-            double dphi = c->bearing[i] - c->bearing[i - 1];
+            double gap2 = lc_len2(lc_sub(c->world[i], c->world[i - 1]));
+            double dphi = fabs(c->bearing[i] - c->bearing[i - 1]);
             /* A beam between them that returned nothing (or was dropped as
              * out of range) looked through the gap: never one surface. */
-            brk = (c->angle_step != 0 && fabs(dphi) > 1.5 * fabs(c->angle_step)) ||
-                  gap > lc_breakpoint_threshold(c->range[i - 1], dphi, cfg->lambda, cfg->sigma_r);
+            brk = (c->angle_step != 0 && dphi > 1.5 * step);
+            if (!brk) { /* gap > threshold, without the square root */
+                double t = neighbour_threshold(c, cfg, step_ratio, i, dphi);
+                brk = t < 0 || gap2 > t * t;
+            }
         }
         if (brk) {
             if (split_ordered(c->world, ws, cfg, alloc, start, i - 1) < 0)
