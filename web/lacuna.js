@@ -791,11 +791,12 @@
       ctx.textAlign = 'left';
       ctx.textBaseline = 'middle';
       var label = v.robot + (isSilent(robots.get(v.robot), t) ? ' (silent)' : '');
+      var ly = main ? y - rp : y + rp; /* two robots side by side keep apart labels */
       ctx.lineWidth = 4;
       ctx.strokeStyle = P.card;
-      ctx.strokeText(label, x + rp + 6, y - rp);
+      ctx.strokeText(label, x + rp + 6, ly);
       ctx.fillStyle = P.ink;
-      ctx.fillText(label, x + rp + 6, y - rp);
+      ctx.fillText(label, x + rp + 6, ly);
     }
     return { x: x, y: y, r: rp };
   }
@@ -925,12 +926,14 @@
     var a = r.arrivals;
     if (a.length < 2 || t - a[a.length - 1].t > silentAfter())
       return NaN;
-    /* views before the robot's first frame carry no seq */
-    var k = 0;
-    while (k < a.length && a[k].seq === null)
-      k++;
-    var first = a[Math.min(k, a.length - 1)], last = a[a.length - 1];
-    if (first === last || first.seq === null || last.seq === null || last.seq < first.seq)
+    /* count from the start of the current session: after the last view
+     * without a seq (before a first frame) or with a seq that went back (the
+     * robot or the server started over) */
+    var k = a.length - 1;
+    while (k > 0 && a[k - 1].seq !== null && a[k].seq !== null && a[k - 1].seq <= a[k].seq)
+      k--;
+    var first = a[k], last = a[a.length - 1];
+    if (first === last || first.seq === null || last.seq === null)
       return NaN;
     var span = last.t - first.t;
     return span > 0 ? (last.seq - first.seq) / span : NaN;
