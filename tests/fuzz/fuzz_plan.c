@@ -8,6 +8,14 @@
  * 100000 beams or points), so this drives the whole core: ingest, segment,
  * hulls, growth, region inflation, the ellipse solver and the motion laws.
  *
+ * Dense frames without huge inputs: a request may be preceded by "*K "
+ * (K a whole number). Then every beam of its scan is repeated K times at a
+ * K times finer angle step (same field of view), or every edge between
+ * consecutive points is cut into K (points on the outline), capped at the
+ * codec's default maximum of 100000; a 300-byte input then plans a frame
+ * of 100000 beams. Without the prefix the bytes are the request, as given
+ * to `lacuna plan`.
+ *
  * Properties checked on every accepted request (CONTRACT.md, `lacuna plan`
  * promises) - with a relative tolerance, since the numbers may be huge:
  * - the step succeeds (it fails only when out of memory);
@@ -15,7 +23,12 @@
  *   against the request's velocity (the last setpoint), speed <= v_max,
  *   |w| <= w_max and no reversing unless the last setpoint already broke
  *   them (then it only moves toward them);
- * - when there is a region, the robot centre is inside it;
+ * - when there is a region, the robot centre is inside it, and every kept
+ *   return is at least radius + margin from it (unless the centre was too
+ *   close: then the obstacles holding it are left out by design); the
+ *   target and the ellipse are in the region, and so is the point where a
+ *   point robot comes to rest when it holds the setpoint for dt and then
+ *   brakes at a_max (when the step did not have to fall back on braking);
  * - the encoded result is one JSON object.
  */
 #include "fuzz.h"
@@ -28,6 +41,9 @@
 
 #include "codec.h"
 #include "session.h"
+
+/* The codec's default beam and point limit: what a server would accept. */
+#define LC_DENSE_MAX 100000
 
 /* Rounding slack on a bound: relative to the numbers compared, plus a floor. */
 static double slack(double a, double b) { return 1e-9 * (fabs(a) + fabs(b)) + 1e-12; }
@@ -91,6 +107,158 @@ static void check_region(const lc_region *region, lc_vec2 centre)
     }
 }
 
+/* How far p is outside {a.p <= b} (negative inside), with its rounding scale. */
+static double outside(const lc_halfspace *h, lc_vec2 p, double *scale)
+{
+    *scale = fabs(h->a.x * p.x) + fabs(h->a.y * p.y) + fabs(h->b);
+    return h->a.x * p.x + h->a.y * p.y - h->b;
+}
+
+/*
+ * The target, the ellipse and (point model, when the step did not have to
+ * fall back on braking) the place the setpoint stops at lie in the region.
+ * The ellipse {L u + d : |u| <= 1} is inside a.p <= b when a.d + |L a| <= b
+ * (L symmetric; the support function of an ellipse, common practice).
+ */
+static void check_inside(const lc_robot *robot, const lc_wire_plan_request *req,
+                         const lc_plan_result *r)
+{
+    const lc_region *g = r->region;
+    if (!g)
+        return;
+    const lc_ellipse *e = &g->ellipse;
+    lc_vec2 p = {req->frame.pose.x, req->frame.pose.y}, stop = p;
+    bool check_stop = robot->model == LC_MODEL_POINT && r->state == LC_STATE_TRACKING &&
+                      r->setpoint.limit != LC_LIMIT_BRAKING;
+    if (check_stop) {
+        /* setpoint held for dt (the session's latency), then a_max to rest */
+        lc_vec2 v = lc_rotate(lc_v2(r->setpoint.vx, r->setpoint.vy), req->frame.pose.yaw);
+        double speed = lc_len(v);
+        if (speed > 0) {
+            double d = lc_stopping_distance(speed, req->dt, robot->a_max);
+            stop = lc_add(p, lc_scale(v, d / speed));
+        }
+    }
+    for (int i = 0; i < g->nh; i++) {
+        const lc_halfspace *h = &g->h[i];
+        double scale;
+        if (r->has_target) {
+            double o = outside(h, r->target, &scale);
+            LC_FUZZ_CHECK(o <= 1e-9 * scale + 1e-9, "target (%.17g, %.17g) outside halfspace "
+                          "%d by %.3g m", r->target.x, r->target.y, i, o);
+        }
+        double la = hypot(e->l11 * h->a.x + e->l12 * h->a.y, e->l12 * h->a.x + e->l22 * h->a.y);
+        double o = outside(h, e->d, &scale) + la;
+        LC_FUZZ_CHECK(o <= 1e-9 * (scale + la) + 1e-9, "ellipse outside halfspace %d by %.3g m",
+                      i, o);
+        if (check_stop) {
+            o = outside(h, stop, &scale);
+            LC_FUZZ_CHECK(o <= 1e-9 * scale + 1e-9, "setpoint (%s) stops at (%.17g, %.17g), "
+                          "outside halfspace %d by %.3g m", lc_limit_name(r->setpoint.limit),
+                          stop.x, stop.y, i, o);
+        }
+    }
+}
+
+/* Distance from p to the convex CCW polygon v[0..n) (0 inside). */
+static double polygon_distance(const lc_vec2 *v, int n, lc_vec2 p)
+{
+    bool inside = n >= 3;
+    double best = INFINITY;
+    for (int i = 0; i < n; i++) {
+        lc_vec2 a = v[i], b = v[(i + 1) % n];
+        double ex = b.x - a.x, ey = b.y - a.y, px = p.x - a.x, py = p.y - a.y;
+        if (ex * py - ey * px < 0)
+            inside = false;
+        double ee = ex * ex + ey * ey;
+        double t = ee > 0 ? (ex * px + ey * py) / ee : 0;
+        t = t < 0 ? 0 : (t > 1 ? 1 : t);
+        best = fmin(best, hypot(px - t * ex, py - t * ey));
+    }
+    return inside ? 0.0 : best;
+}
+
+/*
+ * Every kept return is at least radius + margin from the region (up to
+ * 2000 of them, evenly spread, to bound the cost). Not when the centre was
+ * too close: the obstacles holding it were left out of the region.
+ */
+static void check_clearance(const lc_robot *robot, const lc_plan_result *r)
+{
+    const lc_region *g = r->region;
+    if (!g || g->nv < 3 || r->state == LC_STATE_TOO_CLOSE)
+        return;
+    double need = lc_robot_clearance(robot);
+    int n = r->cloud->n, stride = n > 2000 ? n / 2000 : 1;
+    for (int i = 0; i < n; i += stride) {
+        lc_vec2 p = r->cloud->world[i];
+        double d = polygon_distance(g->v, g->nv, p);
+        double tol = 1e-6 * (fabs(p.x) + fabs(p.y) + need) + 1e-6;
+        LC_FUZZ_CHECK(d >= need - tol, "return %d at (%.17g, %.17g) is %.17g from the region, "
+                      "less than radius + margin %.17g", i, p.x, p.y, d, need);
+    }
+}
+
+/* "*K " at the start: K (>= 1), and the rest of the input. 1 without it. */
+static int dense_prefix(const uint8_t **data, size_t *size)
+{
+    const uint8_t *d = *data;
+    size_t n = *size, i = 1;
+    if (n < 3 || d[0] != '*')
+        return 1;
+    long k = 0;
+    while (i < n && i < 8 && d[i] >= '0' && d[i] <= '9')
+        k = 10 * k + (d[i++] - '0');
+    if (i == 1 || i >= n || d[i] != ' ')
+        return 1;
+    *data = d + i + 1;
+    *size = n - i - 1;
+    return k < 1 ? 1 : (int)(k > LC_DENSE_MAX ? LC_DENSE_MAX : k);
+}
+
+/*
+ * The frame made k times denser into *dense (arrays malloc'd into *own; the
+ * caller frees it). Scans: each beam but the last k times, step / k, over
+ * the same angles (the codec's full-turn bound still holds). Points: each edge
+ * p[j] -> p[j+1] cut into k, heights copied from p[j].
+ */
+static void densify(const lc_frame *f, int k, lc_frame *dense, double **own)
+{
+    *dense = *f;
+    *own = NULL;
+    if (f->kind == LC_FRAME_SCAN) {
+        long n = (long)(f->n_ranges - 1) * k + 1; /* the same span of angles */
+        n = n > LC_DENSE_MAX ? LC_DENSE_MAX : n;
+        double *r = malloc((size_t)n * sizeof *r);
+        LC_FUZZ_CHECK(r != NULL, "out of memory");
+        for (long i = 0; i < n; i++)
+            r[i] = f->ranges[i / k];
+        dense->ranges = r;
+        dense->n_ranges = (int)n;
+        dense->angle_step = f->angle_step / k;
+        *own = r;
+        return;
+    }
+    if (f->n_points < 2)
+        return;
+    long n = (long)(f->n_points - 1) * k + 1;
+    n = n > LC_DENSE_MAX ? LC_DENSE_MAX : n;
+    double *xy = malloc((size_t)n * 3 * sizeof *xy), *z = xy + 2 * n;
+    LC_FUZZ_CHECK(xy != NULL, "out of memory");
+    for (long i = 0; i < n; i++) {
+        long j = i / k;
+        double t = (double)(i % k) / k;
+        const double *a = &f->xy[2 * j], *b = j + 1 < f->n_points ? a + 2 : a;
+        xy[2 * i] = a[0] + t * (b[0] - a[0]);
+        xy[2 * i + 1] = a[1] + t * (b[1] - a[1]);
+        z[i] = f->z ? f->z[j] : 0.0;
+    }
+    dense->xy = xy;
+    dense->z = f->z ? z : NULL;
+    dense->n_points = (int)n;
+    *own = xy;
+}
+
 static void check_json(const lc_wire_text *t)
 {
     const char *end = NULL;
@@ -102,6 +270,7 @@ static void check_json(const lc_wire_text *t)
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
+    int k = dense_prefix(&data, &size);
     lc_wire_buffers buf;
     lc_wire_buffers_init(&buf, NULL);
     lc_wire_plan_request req;
@@ -112,6 +281,13 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         return 0;
     }
 
+    double *own = NULL;
+    if (k > 1) {
+        lc_frame dense;
+        densify(&req.frame, k, &dense, &own);
+        req.frame = dense;
+    }
+
     lc_session *s = lc_session_new(&req.robot, NULL, NULL);
     LC_FUZZ_CHECK(s != NULL, "lc_session_new failed");
     lc_session_set_goal(s, req.goal);
@@ -120,6 +296,8 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     LC_FUZZ_CHECK(lc_session_step(s, &req.frame, req.dt, &res) == 0, "lc_session_step failed");
     check_setpoint(&req.robot, &req.velocity, req.dt, &res.setpoint);
     check_region(res.region, lc_v2(req.frame.pose.x, req.frame.pose.y));
+    check_clearance(&req.robot, &res);
+    check_inside(&req.robot, &req, &res);
 
     lc_wire_text out;
     lc_wire_text_init(&out, NULL);
@@ -130,5 +308,6 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     lc_wire_text_free(&out);
     lc_session_free(s);
     lc_wire_buffers_free(&buf);
+    free(own);
     return 0;
 }
