@@ -36,7 +36,13 @@ const char lc_bench_usage[] =
     "               amount of work for instruction counts under callgrind\n"
     "  --case NAME  run only the case of that name (see the list it prints), or\n"
     "               'ellipse' for the solver comparison alone\n"
-    "  --quick      a tiny run (for the test suite): two cases, 20 frames\n";
+    "  --quick      a tiny run (for the test suite): two cases, 20 frames\n"
+    "\n"
+    "lacuna bench --roundtrip [--rate HZ] [--seconds S] [--beams N]\n"
+    "             [--connect ws://HOST:PORT/ [--token-file FILE]] [--json]\n"
+    "  send to setpoint over the websocket protocol, frames sent on a fixed\n"
+    "  schedule (default 1000 Hz, 5 s, 1081-beam scans): p50, p99 and max.\n"
+    "  Without --connect it starts its own `lacuna serve` on loopback.\n";
 
 #define BENCH_FRAME_SETS 8 /* distinct noisy frames cycled through per case */
 
@@ -404,6 +410,9 @@ static int parse(int argc, char **argv, bench_opts *o)
 
 int lc_tool_bench(int argc, char **argv)
 {
+    for (int i = 1; i < argc; i++)
+        if (strcmp(argv[i], "--roundtrip") == 0)
+            return lc_bench_roundtrip(argc, argv);
     bench_opts o;
     int rc = parse(argc, argv, &o);
     if (rc)

@@ -57,6 +57,7 @@ extern const char lc_replay_usage[];
 int lc_tool_sim(int argc, char **argv);
 extern const char lc_sim_usage[];
 int lc_tool_bench(int argc, char **argv);
+int lc_bench_roundtrip(int argc, char **argv); /* src/tools/bench_ws.c */
 extern const char lc_bench_usage[];
 int lc_tool_check(int argc, char **argv);
 extern const char lc_check_usage[];

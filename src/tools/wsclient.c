@@ -13,6 +13,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 
 #include "clock_mono.h"
 #include "codec.h"
@@ -228,6 +229,12 @@ static void service(lc_wsclient *c, double deadline_us)
     double us = deadline_us - lc_mono_us();
     if (us < 1000) {
         lws_service(c->ctx, -1);
+        /* not a busy loop: the peer may share this machine's cores; 20 us
+         * bounds how late an arrival is seen (and timed) */
+        if (!c->in.head && us > 0) {
+            struct timespec ts = {0, (long)(us < 20 ? us : 20) * 1000};
+            nanosleep(&ts, NULL);
+        }
         return;
     }
     lws_sul_schedule(c->ctx, 0, &c->wake, on_wake, (lws_usec_t)us);

@@ -111,5 +111,19 @@ if e["reference"] != "none":
 PY
 check bench-bad 2 "$exe" bench --frames 0
 
+# The websocket round trip (its own lacuna serve on loopback): every frame
+# answered, the figures present; no timing assertion.
+check bench-roundtrip 0 "$exe" bench --roundtrip --seconds 0.5 --rate 1000 --json
+python3 - "$tmp/out" <<'PY' && pass=$((pass + 1)) || { fail=$((fail + 1)); echo "FAIL bench-roundtrip: JSON"; cat "$tmp/out"; }
+import json, sys
+r = json.load(open(sys.argv[1]))["roundtrip"]
+assert r["frames"] == 500 and r["answered"] == 500, r
+for k in ("p50_us", "p99_us", "max_us", "achieved_hz"):
+    assert r[k] > 0, k
+assert r["p50_us"] <= r["p99_us"] <= r["max_us"], r
+PY
+check bench-roundtrip-bad 2 "$exe" bench --roundtrip --rate 0
+expect_in bench-roundtrip-bad "$tmp/err" "rate"
+
 echo "$pass passed, $fail failed"
 [ "$fail" -eq 0 ]
