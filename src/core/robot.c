@@ -6,6 +6,8 @@
  */
 #include "robot.h"
 
+#include <math.h>
+
 #include <string.h>
 
 void lc_robot_default(lc_robot *robot)
@@ -19,6 +21,8 @@ void lc_robot_default(lc_robot *robot)
         .w_max = 1.0,
         .dw_max = 2.0,
         .reverse = false,
+        .z_min = -INFINITY,
+        .z_max = INFINITY,
     };
 }
 

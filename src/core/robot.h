@@ -25,9 +25,12 @@ typedef struct lc_robot {
     double w_max;   /* rad/s */
     double dw_max;  /* rad/s^2 */
     bool reverse;   /* unicycle may drive backwards */
+    double z_min;   /* m, height band of `points` frames: points whose z (sensor */
+    double z_max;   /* frame) lies outside [z_min, z_max] are not obstacles; +-inf: all */
 } lc_robot;
 
-/* CONTRACT.md defaults: point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0, no reversing. */
+/* CONTRACT.md defaults: point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0, no reversing;
+ * no height band. */
 void lc_robot_default(lc_robot *robot);
 
 /* Radius the obstacles are grown by: radius + margin. */

@@ -365,6 +365,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     lc_ingest_config icfg = s->cfg.ingest;
     if (!(icfg.self_radius > 0))
         icfg.self_radius = s->robot.radius;
+    icfg.z_min = fmax(icfg.z_min, s->robot.z_min); /* the narrower band wins */
+    icfg.z_max = fmin(icfg.z_max, s->robot.z_max);
     if (lc_ingest(frame, &icfg, &s->cloud, &s->alloc) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_INGEST, &t);

@@ -559,7 +559,8 @@ static int grow_or_fail(const lc_alloc *alloc, double **p, int *cap, int need,
 /* ------------------------------------------------------ object decoders */
 
 static const char *const robot_keys[] = {"type", "model", "radius", "margin", "v_max",
-                                         "a_max", "w_max", "dw_max", "reverse", NULL};
+                                         "a_max", "w_max", "dw_max", "reverse", "z_min", "z_max",
+                                         NULL};
 
 int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
                             lc_wire_error *err)
@@ -578,8 +579,16 @@ int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
         lc_wire_number_field(obj, path, "a_max", false, &B_POS, &out->a_max, err) < 0 ||
         lc_wire_number_field(obj, path, "w_max", false, &B_POS, &out->w_max, err) < 0 ||
         lc_wire_number_field(obj, path, "dw_max", false, &B_POS, &out->dw_max, err) < 0 ||
-        lc_wire_bool_field(obj, path, "reverse", false, &out->reverse, err) < 0)
+        lc_wire_bool_field(obj, path, "reverse", false, &out->reverse, err) < 0 ||
+        lc_wire_number_field(obj, path, "z_min", false, NULL, &out->z_min, err) < 0 ||
+        lc_wire_number_field(obj, path, "z_max", false, NULL, &out->z_max, err) < 0)
         return -1;
+    if (!(out->z_min < out->z_max)) {
+        char name[96];
+        join_name(name, sizeof name, path, "z_max");
+        lc_wire_error_set(err, LC_WIRE_BAD_FIELD, "%s: must be greater than z_min", name);
+        return -1;
+    }
     return 0;
 }
 
@@ -1553,6 +1562,10 @@ int lc_wire_encode_robot(lc_wire_text *t, const lc_robot *m)
     kv_num(t, "w_max", m->w_max, -1);
     kv_num(t, "dw_max", m->dw_max, -1);
     kv_bool(t, "reverse", m->reverse);
+    if (isfinite(m->z_min))
+        kv_num(t, "z_min", m->z_min, -1);
+    if (isfinite(m->z_max))
+        kv_num(t, "z_max", m->z_max, -1);
     return w_end(t);
 }
 

@@ -259,6 +259,42 @@ static void test_standoff_at_blocked_waypoint(void **state)
     lc_world_free(&w);
 }
 
+/*
+ * The robot's height band: a depth camera sees the floor 0.5 m below it
+ * and a crate; with z_min = -0.45 the floor points are no obstacles and
+ * the crate's are (without a band every floor point would be one).
+ */
+static void test_height_band(void **state)
+{
+    double xy[2 * 40], z[40];
+    int n = 0;
+    for (int i = 0; i < 30; i++, n++) { /* floor, 1 to 2.5 m ahead */
+        xy[2 * n] = 1.0 + 0.05 * i;
+        xy[2 * n + 1] = 0.3 * sin(i);
+        z[n] = -0.5;
+    }
+    for (int i = 0; i < 10; i++, n++) { /* the crate's face at x = 2, 0.2 m up */
+        xy[2 * n] = 2.0;
+        xy[2 * n + 1] = -0.25 + 0.05 * i;
+        z[n] = 0.2;
+    }
+    lc_frame f = {.kind = LC_FRAME_POINTS, .xy = xy, .z = z, .n_points = n};
+    for (int band = 0; band < 2; band++) {
+        lc_robot robot;
+        lc_robot_default(&robot);
+        if (band)
+            robot.z_min = -0.45;
+        lc_session *ses = lc_session_new(&robot, NULL, NULL);
+        lc_session_set_goal(ses, lc_v2(4, 0));
+        lc_plan_result r;
+        assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+        assert_int_equal(r.cloud->n, band ? 10 : 40);
+        for (int i = 0; band && i < r.cloud->n; i++)
+            assert_near(r.cloud->world[i].x, 2.0, 1e-12);
+        lc_session_free(ses);
+    }
+}
+
 static void test_names(void **state)
 {
     assert_string_equal(lc_stage_name(LC_STAGE_INGEST), "ingest");
@@ -290,6 +326,7 @@ int main(void)
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_too_close),
         cmocka_unit_test(test_standoff_at_blocked_waypoint),
+        cmocka_unit_test(test_height_band),
         cmocka_unit_test(test_names),
     };
     return cmocka_run_group_tests(tests, setup, teardown);

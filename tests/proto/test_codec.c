@@ -208,6 +208,10 @@ static const bad_case bad_cases[] = {
     {GENERIC, ROBOT(",'radius':-0.3}"), LC_WIRE_BAD_FIELD, "radius"},
     {GENERIC, ROBOT(",'radius':1e10}"), LC_WIRE_BAD_FIELD, "radius"},
     {GENERIC, ROBOT(",'margin':-0.01}"), LC_WIRE_BAD_FIELD, "margin"},
+    {GENERIC, ROBOT(",'z_min':0.5,'z_max':0.2}"), LC_WIRE_BAD_FIELD, "z_max"},
+    {GENERIC, ROBOT(",'z_min':0.5,'z_max':0.5}"), LC_WIRE_BAD_FIELD, "z_max"},
+    {GENERIC, ROBOT(",'z_max':-1e10}"), LC_WIRE_BAD_FIELD, "z_max"},
+    {GENERIC, ROBOT(",'z_min':'low'}"), LC_WIRE_BAD_FIELD, "z_min"},
     {GENERIC, ROBOT(",'v_max':0}"), LC_WIRE_BAD_FIELD, "v_max"},
     {GENERIC, ROBOT(",'a_max':-1}"), LC_WIRE_BAD_FIELD, "a_max"},
     {GENERIC, ROBOT(",'w_max':0}"), LC_WIRE_BAD_FIELD, "w_max"},
@@ -786,6 +790,8 @@ static void test_roundtrip_robot_route(void **state)
             .w_max = random_double(&rng, true),
             .dw_max = random_double(&rng, true),
             .reverse = (iter & 2) != 0,
+            .z_min = (iter & 4) ? -0.5 * fabs(random_double(&rng, false)) - 1e-3 : -INFINITY,
+            .z_max = (iter & 4) ? fabs(random_double(&rng, false)) : INFINITY,
         };
         assert_int_equal(lc_wire_encode_robot(&t, &a), 0);
         if (lc_wire_decode(t.s, (size_t)t.len, NULL, &buf, &msg, &err) != 0)
@@ -798,6 +804,8 @@ static void test_roundtrip_robot_route(void **state)
         assert_same_double(b->margin, a.margin);
         assert_same_double(b->v_max, a.v_max);
         assert_same_double(b->a_max, a.a_max);
+        assert_same_double(b->z_min, a.z_min);
+        assert_same_double(b->z_max, a.z_max);
         assert_same_double(b->w_max, a.w_max);
         assert_same_double(b->dw_max, a.dw_max);
 
