@@ -3,15 +3,20 @@
  * `lacuna plan` on random scenes (robot inside the region, every valid
  * return at least radius + margin away by GEOS distance, the target the
  * goal or its GEOS nearest point in the region, the braking promise along
- * the setpoint), no allocation once warm, determinism, too_close.
+ * the setpoint) on random scenes and along patrols through every shipped
+ * scenario, no allocation once warm, determinism, too_close, the standoff
+ * at a blocked waypoint, the height band.
  */
 #include "testutil.h"
 
+#include <dirent.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "geos_oracle.h"
 #include "lc_config.h"
+#include "replay.h"
+#include "scenario.h"
 #include "session.h"
 #include "world.h"
 
@@ -108,6 +113,83 @@ static void test_promises_random(void **state)
     }
     assert_true(checked > 80);
     free(ranges);
+}
+
+/*
+ * The CONTRACT promises on every 3rd frame of a closed-loop patrol through
+ * each shipped scenario's world (the scenes the product is shown on, not
+ * only random ones): check_promises (GEOS distances and nearest points),
+ * and the ellipse inside the region (32 points of its boundary).
+ */
+static void test_promises_on_shipped_scenarios(void **state)
+{
+    const char *dir = lc_test_source_path("scenarios");
+    DIR *d = opendir(dir);
+    assert_non_null(d);
+    struct dirent *e;
+    int scenarios = 0, checked = 0;
+    while ((e = readdir(d))) {
+        size_t len = strlen(e->d_name);
+        if (len < 6 || strcmp(e->d_name + len - 6, ".jsonl") != 0)
+            continue;
+        char path[1024];
+        snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
+        FILE *fp = fopen(path, "r");
+        assert_non_null(fp);
+        static char line[1 << 20];
+        assert_non_null(fgets(line, sizeof line, fp));
+        fclose(fp);
+        lc_scenario_header h;
+        lc_scenario_error err;
+        lc_scenario_header_init(&h);
+        if (lc_scenario_parse_header(line, strlen(line), &h, &err) < 0)
+            fail_msg("%s: %s", path, err.message);
+        lc_world w = {.polys = h.world};
+        lc_sensor sen = {.beams = h.sensor.beams, .fov = h.sensor.fov,
+                         .range_min = h.sensor.range_min, .range_max = h.sensor.range_max,
+                         .rate = h.sensor.rate, .noise = h.sensor.noise, .mount = h.sensor.mount};
+        double *ranges = calloc((size_t)sen.beams, sizeof *ranges), dt = 1.0 / sen.rate;
+        lc_session *ses = lc_replay_session(&h);
+        lc_sim_rng g = {1};
+        lc_pose pose = h.start;
+        for (int k = 0; k < 600; k++) {
+            lc_frame f = scan_of(&w, &sen, pose, ranges, &g);
+            f.seq = k;
+            f.stamp = k * dt;
+            lc_plan_result r;
+            assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+            if (r.state == LC_STATE_DONE)
+                break;
+            if (k % 3 == 0 && r.state != LC_STATE_TOO_CLOSE && r.has_waypoint) {
+                check_promises(&h.robot, &f, &r, r.waypoint, dt);
+                const lc_ellipse *el = &r.region->ellipse;
+                for (int j = 0; j < 32; j++) {
+                    lc_vec2 u = lc_unit_angle(2 * LC_PI * j / 32);
+                    lc_vec2 p = lc_add(el->d, lc_v2(el->l11 * u.x + el->l12 * u.y,
+                                                    el->l12 * u.x + el->l22 * u.y));
+                    assert_true(lc_region_contains(r.region, p, 1e-7));
+                }
+                checked++;
+            }
+            if (h.robot.model == LC_MODEL_POINT) {
+                lc_vec2 dp = lc_rotate(lc_v2(r.setpoint.vx * dt, r.setpoint.vy * dt), pose.yaw);
+                pose.x += dp.x;
+                pose.y += dp.y;
+            } else {
+                pose = fabs(r.setpoint.v) > 0
+                           ? lc_motion_arc(pose, r.setpoint.w / r.setpoint.v, r.setpoint.v * dt)
+                           : (lc_pose){pose.x, pose.y, pose.yaw + r.setpoint.w * dt};
+            }
+        }
+        lc_session_free(ses);
+        free(ranges);
+        lc_scenario_header_free(&h);
+        scenarios++;
+    }
+    closedir(d);
+    assert_true(scenarios >= 6);
+    print_message("%d frames of %d scenarios checked\n", checked, scenarios);
+    assert_true(checked > 6 * 100);
 }
 
 /* Warm session: a run of frames allocates nothing through the core's hook. */
@@ -322,6 +404,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_promises_random),
+        cmocka_unit_test(test_promises_on_shipped_scenarios),
         cmocka_unit_test(test_no_alloc_when_warm),
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_too_close),
