@@ -161,34 +161,41 @@ static void bounding_box(const lc_vec2 *pts, int n, lc_vec2 *lo, lc_vec2 *hi)
     }
 }
 
-/* Index of the point with the least (sign -1: greatest) coordinate along axis. */
-static int extreme_index(const lc_vec2 *pts, int n, bool along_x, double sign)
+/* The first points with the least and greatest x and y: one pass for the
+ * bounding box and the extremes along either axis. */
+typedef struct extremes {
+    int xmin, xmax, ymin, ymax;
+} extremes;
+
+static extremes find_extremes(const lc_vec2 *pts, int n)
 {
-    int best = 0;
+    extremes e = {0, 0, 0, 0};
     for (int i = 1; i < n; i++) {
-        double d = along_x ? pts[i].x - pts[best].x : pts[i].y - pts[best].y;
-        if (sign * d < 0)
-            best = i;
+        e.xmin = pts[i].x < pts[e.xmin].x ? i : e.xmin;
+        e.xmax = pts[i].x > pts[e.xmax].x ? i : e.xmax;
+        e.ymin = pts[i].y < pts[e.ymin].y ? i : e.ymin;
+        e.ymax = pts[i].y > pts[e.ymax].y ? i : e.ymax;
     }
-    return best;
+    return e;
 }
 
 /*
  * The degenerate cases: writes 1 point (all equal) or the 2 extreme points
  * (collinear within LC_HULL_FLAT_REL, or two distinct points) and returns
- * the count; returns -1 when the set spans an area. n >= 1.
+ * the count; returns -1 when the set spans an area. n >= 1. *along_x tells
+ * whether the set is at least as wide as it is tall.
  */
-static int degenerate_hull(const lc_vec2 *pts, int n, lc_vec2 *out)
+static int degenerate_hull(const lc_vec2 *pts, int n, lc_vec2 *out, bool *along_x)
 {
-    lc_vec2 lo, hi;
-    bounding_box(pts, n, &lo, &hi);
-    if (lo.x == hi.x && lo.y == hi.y) {
+    extremes e = find_extremes(pts, n);
+    double w = pts[e.xmax].x - pts[e.xmin].x, h = pts[e.ymax].y - pts[e.ymin].y;
+    *along_x = w >= h;
+    if (w == 0 && h == 0) {
         out[0] = pts[0];
         return 1;
     }
-    bool along_x = hi.x - lo.x >= hi.y - lo.y;
-    lc_vec2 a = pts[extreme_index(pts, n, along_x, 1.0)];
-    lc_vec2 u = lc_sub(pts[extreme_index(pts, n, along_x, -1.0)], a);
+    lc_vec2 a = pts[*along_x ? e.xmin : e.ymin];
+    lc_vec2 u = lc_sub(pts[*along_x ? e.xmax : e.ymax], a);
     double limit = LC_HULL_FLAT_REL * lc_len2(u); /* |cross| / |u| <= rel |u| */
     int imin = 0, imax = 0;
     double tmin = INFINITY, tmax = -INFINITY;
@@ -213,6 +220,14 @@ static int degenerate_hull(const lc_vec2 *pts, int n, lc_vec2 *out)
 
 /* ---- small path: Andrew's monotone chain ---------------------------------- */
 
+/*
+ * The chain's order: by x then y, or for a set taller than wide by y then
+ * -x, i.e. by x then y after a quarter turn clockwise (a rotation, so the
+ * orientation tests and the hull's counter-clockwise order are unchanged).
+ * Comparisons only, no arithmetic: the order is exact. Along the longer
+ * axis a scan piece comes nearly sorted (in beam order, or reversed), where
+ * sorting by x a piece seen along y would meet its range noise in x first.
+ */
 static int lex_compare(lc_vec2 p, lc_vec2 q)
 {
     if (p.x != q.x)
@@ -220,21 +235,46 @@ static int lex_compare(lc_vec2 p, lc_vec2 q)
     return (p.y > q.y) - (p.y < q.y);
 }
 
+static int turned_compare(lc_vec2 p, lc_vec2 q)
+{
+    if (p.y != q.y)
+        return p.y < q.y ? -1 : 1;
+    return (p.x < q.x) - (p.x > q.x);
+}
+
+static int order_compare(lc_vec2 p, lc_vec2 q, bool along_x)
+{
+    return along_x ? lex_compare(p, q) : turned_compare(p, q);
+}
+
 static int lex_compare_qsort(const void *a, const void *b)
 {
     return lex_compare(*(const lc_vec2 *)a, *(const lc_vec2 *)b);
 }
 
-static void sort_points(lc_vec2 *v, int n)
+static int turned_compare_qsort(const void *a, const void *b)
+{
+    return turned_compare(*(const lc_vec2 *)a, *(const lc_vec2 *)b);
+}
+
+/* Sorts the copy in v of pts[0..n); a run that goes the wrong way is copied
+ * reversed first, so that insertion sort meets it nearly sorted. */
+static void sort_points(lc_vec2 *v, const lc_vec2 *pts, int n, bool along_x)
 {
     if (n > LC_HULL_INSERTION_MAX) {
-        qsort(v, (size_t)n, sizeof *v, lex_compare_qsort);
+        memcpy(v, pts, sizeof *pts * (size_t)n);
+        qsort(v, (size_t)n, sizeof *v, along_x ? lex_compare_qsort : turned_compare_qsort);
         return;
     }
+    if (order_compare(pts[0], pts[n - 1], along_x) > 0)
+        for (int i = 0; i < n; i++)
+            v[i] = pts[n - 1 - i];
+    else
+        memcpy(v, pts, sizeof *pts * (size_t)n);
     for (int i = 1; i < n; i++) {
         lc_vec2 t = v[i];
         int j = i;
-        for (; j > 0 && lex_compare(v[j - 1], t) > 0; j--)
+        for (; j > 0 && order_compare(v[j - 1], t, along_x) > 0; j--)
             v[j] = v[j - 1];
         v[j] = t;
     }
@@ -248,10 +288,9 @@ static bool certain_left_turn(lc_vec2 a, lc_vec2 b, lc_vec2 c)
 }
 
 /* Sorts and drops exact repeats in ctx->sorted; returns the distinct count. */
-static int sorted_distinct(lc_hull_ctx *ctx, const lc_vec2 *pts, int n)
+static int sorted_distinct(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, bool along_x)
 {
-    memcpy(ctx->sorted, pts, sizeof *pts * (size_t)n);
-    sort_points(ctx->sorted, n);
+    sort_points(ctx->sorted, pts, n, along_x);
     int m = 1;
     for (int i = 1; i < n; i++)
         if (lex_compare(ctx->sorted[i], ctx->sorted[m - 1]) != 0)
@@ -273,7 +312,7 @@ static int drop_repeats(lc_vec2 *h, int k)
     return w;
 }
 
-static int monotone_chain(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
+static int monotone_chain(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, bool along_x, lc_vec2 *out)
 {
     if (n <= 0)
         return 0;
@@ -281,7 +320,7 @@ static int monotone_chain(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *
         LC_GROW(&ctx->alloc, ctx->chain, ctx->cap_chain, 2 * n) < 0) /* Andrew's bound */
         return -1;
     ctx->stats.small_calls++;
-    int m = sorted_distinct(ctx, pts, n);
+    int m = sorted_distinct(ctx, pts, n, along_x);
     const lc_vec2 *s = ctx->sorted;
     lc_vec2 *h = ctx->chain;
     if (m == 1) {
@@ -289,7 +328,7 @@ static int monotone_chain(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *
         return 1;
     }
     int k = 0;
-    for (int i = 0; i < m; i++) { /* lower chain, left to right */
+    for (int i = 0; i < m; i++) { /* lower chain, first to last in the order */
         while (k >= 2 && !certain_left_turn(h[k - 2], h[k - 1], s[i]))
             k--;
         h[k++] = s[i];
@@ -389,7 +428,7 @@ int lc_hull_compute_small(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *
 {
     if (!all_finite(pts, n))
         return -2;
-    return monotone_chain(ctx, pts, n, out);
+    return monotone_chain(ctx, pts, n, true, out);
 }
 
 int lc_hull_compute_qhull(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
@@ -407,13 +446,14 @@ int lc_hull_compute(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
         return 0;
     if (!all_finite(pts, n))
         return -2;
-    int k = degenerate_hull(pts, n, out);
+    bool along_x;
+    int k = degenerate_hull(pts, n, out, &along_x);
     if (k > 0)
         return k;
     if (n <= ctx->small_max)
-        return monotone_chain(ctx, pts, n, out);
+        return monotone_chain(ctx, pts, n, along_x, out);
     k = qhull_hull(ctx, pts, n, out);
     /* An obstacle must not vanish because qhull rejected it: the failure is
      * counted in the stats and the small path answers instead. */
-    return k == -3 ? monotone_chain(ctx, pts, n, out) : k;
+    return k == -3 ? monotone_chain(ctx, pts, n, along_x, out) : k;
 }
