@@ -10,7 +10,7 @@ cd "$(dirname "$0")"
 
 RUNTIME_PKGS=(gcc pkg-config meson ninja-build libqhull-dev libcjson-dev libwebsockets-dev)
 TEST_PKGS=(libcmocka-dev libgeos-dev coinor-libipopt-dev python3 python3-websockets
-           python3-jsonschema libxml2-utils chromium)
+           python3-jsonschema libxml2-utils chromium openssl valgrind)
 
 say() { printf '==> %s\n' "$*" >&2; }
 

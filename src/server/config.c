@@ -73,6 +73,10 @@ static const opt options[] = {
     INT(send_queue, 4, 100000, 256,
         "setpoints and other replies queued per connection; beyond it: error, then close"),
     NUM(max_rate, 1, 100000, 1000, "messages per second per connection; beyond it: error, then close"),
+    INT(send_buffer, 0, 16 << 20, 256 << 10,
+        "kernel send buffer per websocket connection in bytes (SO_SNDBUF, which Linux doubles; "
+        "0: the kernel's own sizing, up to megabytes): bounds what a peer that never reads "
+        "pins in the kernel"),
     NUM(period, 0, 10, 0, "fixed control period in s for every step; 0: from frame stamps"),
     NUM(dt_min, 0.0001, 10, 0.005, "s, least control period taken from stamps"),
     NUM(dt_max, 0.0001, 10, 0.2, "s, largest control period taken from stamps"),

@@ -43,6 +43,7 @@ typedef struct lc_server_config {
     int viewer_queue;    /* views queued per viewer and robot before dropping older ones */
     int send_queue;      /* other messages queued per connection before closing */
     double max_rate;     /* messages per second per connection (flooding) */
+    int send_buffer;     /* bytes of SO_SNDBUF per websocket connection; 0: the kernel's */
     double period;       /* s, fixed control period; 0: from frame stamps */
     double dt_min;       /* s, clamp of the stamp difference */
     double dt_max;

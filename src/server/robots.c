@@ -55,6 +55,7 @@ struct lc_conn {
     /* flood control: a token bucket of max_rate messages per second */
     double tokens, tokens_at;
     queue replies, views;
+    bool paused; /* receive flow: not read until its replies drain (lc_conn_reading) */
     bool closing;
     double close_at; /* kill when the peer has not let us close by then */
     int close_status;
@@ -329,6 +330,16 @@ void lc_conn_pop(lc_conn *conn)
         queue_drop_front(&conn->replies);
     else if (conn->views.count)
         queue_drop_front(&conn->views);
+}
+
+bool lc_conn_reading(lc_conn *conn)
+{
+    int room = conn->replies.cap - 1; /* send_queue */
+    if (!conn->paused && conn->replies.count >= room / 2)
+        conn->paused = true;
+    else if (conn->paused && conn->replies.count <= room / 4)
+        conn->paused = false;
+    return !conn->paused;
 }
 
 bool lc_conn_closing(const lc_conn *conn) { return conn->closing; }

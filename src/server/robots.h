@@ -7,10 +7,11 @@
  * network.
  *
  * Queues. Each connection has two bounded queues of outgoing messages:
- * - replies (welcome, setpoints, events, errors), never dropped: when
- *   send_queue of them are pending (the peer does not read), the hub queues
- *   one last error (rate_limited) and closes the connection rather than drop
- *   a setpoint silently;
+ * - replies (welcome, setpoints, events, errors), never dropped: past half
+ *   of send_queue the connection is not read (lc_conn_reading); when
+ *   send_queue of them are pending all the same (the peer reads nothing), the
+ *   hub queues one last error (rate_limited) and closes the connection
+ *   rather than drop a setpoint silently;
  * - views (viewers only), at most viewer_queue per robot watched: a slow
  *   viewer loses the oldest views of a robot (superseded by newer ones),
  *   never a reply and never the latest view of another robot.
@@ -99,6 +100,17 @@ int lc_hub_receive(lc_hub *hub, lc_conn *conn, const void *data, size_t len, boo
 /* Next message to send (headroom bytes before it are free), or NULL. */
 char *lc_conn_peek(lc_conn *conn, size_t *len);
 void lc_conn_pop(lc_conn *conn);
+/*
+ * Receive flow control: false while the transport should stop reading the
+ * connection. A robot that sends faster than it reads its setpoints (a
+ * burst, or a flood) fills its reply queue; at half of send_queue the hub
+ * asks to stop reading it, at a quarter to read again, so its frames wait
+ * in TCP's buffers (the sender is slowed, nothing is lost) instead of
+ * overflowing the queue. Only a peer that reads nothing at all fills the
+ * queue (then with the watchdog's stale stops) and is closed.
+ */
+bool lc_conn_reading(lc_conn *conn);
+
 /* True once the connection is to be closed after its queue drained. */
 bool lc_conn_closing(const lc_conn *conn);
 int lc_conn_close_status(const lc_conn *conn, const char **reason);

@@ -17,6 +17,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/socket.h>
 #include <time.h>
 
 #include "codec.h"
@@ -37,6 +38,7 @@ typedef struct server {
  * callback, the last moment libwebsockets guarantees them. */
 struct pss {
     lc_conn *conn;
+    bool rx_off; /* receive flow stopped (lc_conn_reading) */
     char addr[48];
     char origin[256];
     char host[256];
@@ -175,6 +177,28 @@ static int filter(server *s, struct lws *wsi, struct pss *pss)
     return 0;
 }
 
+/*
+ * A peer that never reads fills the kernel's send buffer first (autotuned
+ * up to megabytes on Linux), then our bounded queues; a fixed SO_SNDBUF
+ * bounds the first part too.
+ */
+static void set_send_buffer(struct lws *wsi, int bytes)
+{
+    int fd = lws_get_socket_fd(wsi);
+    if (bytes > 0 && fd >= 0 && setsockopt(fd, SOL_SOCKET, SO_SNDBUF, &bytes, sizeof bytes) < 0)
+        lc_log(LC_LOG_WARN, "send_buffer: setsockopt: %s", strerror(errno));
+}
+
+/* Follow the hub's receive flow control (robots.h, lc_conn_reading). */
+static void flow(struct lws *wsi, struct pss *pss)
+{
+    bool off = !lc_conn_reading(pss->conn);
+    if (off != pss->rx_off) {
+        pss->rx_off = off;
+        lws_rx_flow_control(wsi, off ? 0 : 1);
+    }
+}
+
 static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
                     size_t len)
 {
@@ -186,6 +210,7 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
         return filter(s, wsi, pss);
     case LWS_CALLBACK_ESTABLISHED: {
         lc_peer peer = {.addr = pss->addr, .origin = pss->origin, .host = pss->host};
+        set_send_buffer(wsi, s->p->cfg->send_buffer);
         pss->conn = lc_hub_open(s->hub, wsi, &peer, now_s());
         rc = pss->conn ? 0 : -1;
         break;
@@ -196,11 +221,15 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
         if (lc_hub_receive(s->hub, pss->conn, in, len, lws_is_first_fragment(wsi),
                            lws_is_final_fragment(wsi), lws_frame_is_binary(wsi), now_s()) < 0)
             rc = close_with(wsi, pss->conn);
+        else
+            flow(wsi, pss);
         break;
     case LWS_CALLBACK_SERVER_WRITEABLE:
         if (!pss->conn)
             return -1;
         rc = writeable(wsi, pss->conn);
+        if (rc == 0)
+            flow(wsi, pss);
         break;
     case LWS_CALLBACK_CLOSED:
         if (pss->conn)
@@ -369,7 +398,19 @@ static struct lws_context *create_context(server *s, struct lws_http_mount *moun
         mount->extra_mimetypes = &mime_mjs;
         info.mounts = mount;
     }
-    return lws_create_context(&info);
+    /*
+     * The context first, then its one vhost: when the vhost cannot be made
+     * (port in use, a certificate that is none), destroying the context
+     * frees what it holds; a failing lws_create_context leaks a little
+     * (memcheck and LeakSanitizer see it).
+     */
+    info.options |= LWS_SERVER_OPTION_EXPLICIT_VHOSTS;
+    struct lws_context *ctx = lws_create_context(&info);
+    if (ctx && !lws_create_vhost(ctx, &info)) {
+        lws_context_destroy(ctx);
+        ctx = NULL;
+    }
+    return ctx;
 }
 
 static void print_listening(const server *s)

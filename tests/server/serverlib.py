@@ -29,6 +29,9 @@ PROTO = ["lacuna.v1"]
 WRAP = shlex.split(os.environ.get("LACUNA_SERVE_WRAP", ""))
 SLOW = bool(WRAP)
 T = 30.0 if SLOW else 5.0  # s, every single wait
+# The server's resident size means something only without valgrind (its own
+# memory) and without ASan (its quarantine holds freed blocks on purpose).
+MEASURE_RSS = not SLOW and os.environ.get("LACUNA_SANITIZE", "none") in ("", "none")
 FIGURES = {}
 FAILED = []
 SERVERS = []
@@ -75,7 +78,8 @@ class Server:
         if self.port is None:
             self.proc.kill()
             raise RuntimeError("server did not start: " + "".join(self.lines))
-        threading.Thread(target=self._drain, daemon=True).start()
+        self.drain = threading.Thread(target=self._drain, daemon=True)
+        self.drain.start()
         SERVERS.append(self)
         self.url = "ws%s://127.0.0.1:%d/" % ("s" if self.tls else "", self.port)
 
@@ -86,6 +90,10 @@ class Server:
     def log(self):
         return "".join(self.lines)
 
+    async def logged(self, text, timeout=None):
+        """True once text is in the server's stderr (read by a thread: it may lag)."""
+        return await wait_until(lambda: text in self.log(), T if timeout is None else timeout)
+
     def stop(self, sig=signal.SIGTERM):
         """Signal it, wait for the exit; returns the exit status."""
         if self.proc.poll() is None:
@@ -95,6 +103,7 @@ class Server:
             except subprocess.TimeoutExpired:
                 self.proc.kill()
                 self.proc.wait()
+        self.drain.join(5)  # every line it wrote is in self.lines
         return self.proc.returncode
 
     def rss_kb(self):

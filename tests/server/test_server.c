@@ -410,6 +410,15 @@ static void test_hub_send_queue_full(void **state)
 {
     lc_hub *hub = hub_with(small_queues);
     lc_conn *r = robot(hub, "slow", 0);
+    /* receive flow: stop reading at half the queue (2 of 4), read again at a quarter */
+    assert_true(lc_conn_reading(r));
+    send_scan(hub, r, 1, 0.05, 0.05);
+    assert_true(lc_conn_reading(r));
+    send_scan(hub, r, 2, 0.1, 0.1);
+    assert_false(lc_conn_reading(r));
+    lc_conn_pop(r);
+    assert_true(lc_conn_reading(r)); /* 1 left: a quarter of 4 */
+    lc_conn_pop(r);
     for (int k = 1; k <= 6; k++)
         send_scan(hub, r, k, 0.05 * k, 0.05 * k);
     for (int k = 1; k <= 4; k++)
