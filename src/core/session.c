@@ -240,7 +240,9 @@ static void turn_in_place(const lc_session *s, const lc_frame *f, double dt, lc_
     double alpha = lc_wrap_angle(atan2(d.y, d.x) - f->pose.yaw);
     double w = s->cfg.motion.k_alpha * alpha, w_max = s->robot.w_max, step = s->robot.dw_max * dt;
     w = w > w_max ? w_max : (w < -w_max ? -w_max : w);
-    double lo = s->last.w - step, hi = s->last.w + step;
+    /* From a last w beyond w_max start at w_max, as the motion laws do. */
+    double w0 = s->last.w > w_max ? w_max : (s->last.w < -w_max ? -w_max : s->last.w);
+    double lo = w0 - step, hi = w0 + step;
     out->setpoint.w = w < lo ? lo : (w > hi ? hi : w);
 }
 
@@ -257,23 +259,29 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
  */
 /*
  * The region the motion law brakes in: every line moved in by the standoff,
- * but never past the robot (a line it is already nearer than the standoff
- * is moved in to the robot only). A robot that stopped or slid exactly on
- * the edge of a grown obstacle would flicker into too_close with range
- * noise; this way it stays the standoff away, or at least does not get
- * nearer. Only the motion sees it: the region reported is the full one.
+ * but not past the robot (a line it is nearer than that is moved up to it:
+ * it may slide along, not come nearer). A robot that stopped or slid
+ * exactly on the edge of a grown obstacle would flicker into too_close
+ * with range noise; this way it stops the standoff away. Only the motion
+ * sees it: the region reported is the full one. A unicycle gets it only
+ * within PARK_REACH of where it aims: held lines made a unicycle that
+ * skims a long wall at speed stop and start (plant_room: 291 too_close
+ * frames with, 11 without), while parking is where it flickered.
  * NULL when out of memory.
  */
-static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_region *out)
+#define PARK_REACH 1.0 /* m */
+
+static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_vec2 aim, lc_region *out)
 {
     const lc_region *r = &s->region;
-    if (!(s->cfg.standoff > 0))
+    if (!(s->cfg.standoff > 0) ||
+        (s->robot.model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
         return r;
     if (LC_GROW(&s->alloc, s->motion_h, s->cap_motion_h, r->nh) < 0)
         return NULL;
     for (int i = 0; i < r->nh; i++) {
         double slack = r->h[i].b - lc_dot(r->h[i].a, c);
-        double in = slack < s->cfg.standoff ? (slack > 0 ? slack : 0) : s->cfg.standoff;
+        double in = lc_min(s->cfg.standoff, slack > 0 ? slack : 0.0);
         s->motion_h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - in};
     }
     *out = *r;
@@ -296,13 +304,34 @@ static lc_vec2 aim_point(const lc_session *s, lc_vec2 target, lc_vec2 waypoint)
     return lc_add(target, lc_scale(in, lc_min(s->cfg.standoff, len) / len));
 }
 
+/*
+ * The aim pulled back onto the lines of the motion region the robot sits
+ * on (twice round, for a corner), so that it slides along them: heading a
+ * hair into one (such lines tilt a little from frame to frame) would find
+ * no braking room at all and freeze the robot there.
+ */
+static lc_vec2 slide_aim(const lc_region *mr, lc_vec2 c, lc_vec2 aim)
+{
+    for (int pass = 0; pass < 2; pass++)
+        for (int i = 0; i < mr->nh; i++) {
+            const lc_halfspace *h = &mr->h[i];
+            double over = lc_dot(h->a, aim) - h->b;
+            if (h->b - lc_dot(h->a, c) <= 1e-9 && over > 0)
+                aim = lc_sub(aim, lc_scale(h->a, over));
+        }
+    return aim;
+}
+
 static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
 {
     lc_motion_params mp = s->cfg.motion;
     mp.latency = fmax(mp.latency, dt);
     lc_vec2 aim = aim_point(s, out->target, out->waypoint);
     lc_region shrunk;
-    const lc_region *mr = motion_region(s, lc_v2(f->pose.x, f->pose.y), &shrunk);
+    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    const lc_region *mr = motion_region(s, c, aim, &shrunk);
+    if (mr && mr != &s->region)
+        aim = slide_aim(mr, c, aim);
     int rc = !mr                                  ? -1
              : s->robot.model == LC_MODEL_UNICYCLE ? lc_motion_unicycle(&s->robot, &mp, mr, f->pose,
                                                                        aim, &s->last, dt,

@@ -377,6 +377,120 @@ static void test_height_band(void **state)
     }
 }
 
+/* A patrol in an invented yard: walls round 10 x 6 m, a closed cage round
+ * (5, 4); a point robot with a 360 degree scanner drives it closed loop. */
+typedef struct patrol_run {
+    lc_event_kind kinds[32];
+    int waypoints[32], n;
+    int blocked_frames_after, moving_while_blocked;
+    double end;
+} patrol_run;
+
+static void run_patrol(const lc_route *route, double seconds, patrol_run *out)
+{
+    lc_world w;
+    lc_world_init(&w);
+    lc_vec2 walls[4][4] = {{{0, -0.2}, {10, -0.2}, {10, 0}, {0, 0}},
+                           {{0, 6}, {10, 6}, {10, 6.2}, {0, 6.2}},
+                           {{-0.2, -0.2}, {0, -0.2}, {0, 6.2}, {-0.2, 6.2}},
+                           {{10, -0.2}, {10.2, -0.2}, {10.2, 6.2}, {10, 6.2}}};
+    for (int i = 0; i < 4; i++)
+        lc_world_add(&w, walls[i], 4);
+    lc_vec2 cage[4] = {{4.4, 3.4}, {5.6, 3.4}, {5.6, 4.6}, {4.4, 4.6}};
+    lc_world_add(&w, cage, 4);
+    lc_sensor sen;
+    lc_sensor_default(&sen);
+    sen.beams = 720;
+    sen.fov = 2 * LC_PI * 719 / 720;
+    double *ranges = calloc((size_t)sen.beams, sizeof *ranges), dt = 0.05;
+    lc_robot robot;
+    lc_robot_default(&robot);
+    lc_session *ses = lc_session_new(&robot, NULL, NULL);
+    lc_session_set_route(ses, route);
+    lc_sim_rng g = {3};
+    lc_pose pose = {1, 1.5, 0};
+    memset(out, 0, sizeof *out);
+    bool blocked_seen = false;
+    for (int k = 0; k * dt < seconds; k++) {
+        lc_frame f = scan_of(&w, &sen, pose, ranges, &g);
+        f.seq = k;
+        f.stamp = k * dt;
+        lc_plan_result r;
+        assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+        for (int i = 0; i < r.n_events && out->n < 32; i++, out->n++) {
+            out->kinds[out->n] = r.events[i].kind;
+            out->waypoints[out->n] = r.events[i].waypoint;
+            blocked_seen = blocked_seen || r.events[i].kind == LC_EVENT_BLOCKED;
+        }
+        if (blocked_seen && r.state == LC_STATE_BLOCKED) {
+            out->blocked_frames_after++;
+            out->moving_while_blocked += r.setpoint.vx != 0 || r.setpoint.vy != 0;
+        }
+        out->end = f.stamp;
+        if (r.state == LC_STATE_DONE)
+            break;
+        lc_vec2 dp = lc_rotate(lc_v2(r.setpoint.vx * dt, r.setpoint.vy * dt), pose.yaw);
+        pose.x += dp.x;
+        pose.y += dp.y;
+    }
+    lc_session_free(ses);
+    free(ranges);
+    lc_world_free(&w);
+}
+
+static void expect_events(const patrol_run *run, const lc_event_kind *kinds, const int *wps,
+                          int n)
+{
+    for (int i = 0; i < run->n; i++)
+        print_message("event %s waypoint %d\n", lc_event_name(run->kinds[i]), run->waypoints[i]);
+    assert_true(run->n >= n);
+    for (int i = 0; i < n; i++) {
+        assert_int_equal(run->kinds[i], kinds[i]);
+        assert_int_equal(run->waypoints[i], wps[i]);
+    }
+}
+
+/*
+ * A scripted patrol in a scene: the events in order. Skip: reached 0,
+ * blocked at the caged waypoint 1 after blocked_time without progress,
+ * skipped, reached 2, done. Wait: blocked, then held (zero setpoints, state
+ * blocked) until the end. Loop: reached 0, reached 1, lap, reached 0 again.
+ */
+static void test_scripted_patrol(void **state)
+{
+    lc_route route;
+    lc_route_default(&route);
+    route.count = 3;
+    route.waypoints[0] = lc_v2(2, 1.5);
+    route.waypoints[1] = lc_v2(5, 4);
+    route.waypoints[2] = lc_v2(8, 1.5);
+    route.blocked_time = 3.0;
+    route.on_blocked = LC_BLOCKED_SKIP;
+    patrol_run run;
+    run_patrol(&route, 60, &run);
+    expect_events(&run,
+                  (lc_event_kind[]){LC_EVENT_REACHED, LC_EVENT_BLOCKED, LC_EVENT_SKIPPED,
+                                    LC_EVENT_REACHED, LC_EVENT_DONE},
+                  (int[]){0, 1, 1, 2, 2}, 5);
+    assert_int_equal(run.n, 5);
+    assert_true(run.end < 40);
+
+    route.on_blocked = LC_BLOCKED_WAIT;
+    run_patrol(&route, 25, &run);
+    expect_events(&run, (lc_event_kind[]){LC_EVENT_REACHED, LC_EVENT_BLOCKED}, (int[]){0, 1}, 2);
+    assert_true(run.blocked_frames_after > 20);
+    assert_int_equal(run.moving_while_blocked, 0);
+
+    route.count = 2;
+    route.waypoints[1] = lc_v2(8, 1.5);
+    route.loop = true;
+    run_patrol(&route, 30, &run);
+    expect_events(&run,
+                  (lc_event_kind[]){LC_EVENT_REACHED, LC_EVENT_REACHED, LC_EVENT_LAP,
+                                    LC_EVENT_REACHED},
+                  (int[]){0, 1, 0, 0}, 4);
+}
+
 static void test_names(void **state)
 {
     assert_string_equal(lc_stage_name(LC_STAGE_INGEST), "ingest");
@@ -410,6 +524,7 @@ int main(void)
         cmocka_unit_test(test_too_close),
         cmocka_unit_test(test_standoff_at_blocked_waypoint),
         cmocka_unit_test(test_height_band),
+        cmocka_unit_test(test_scripted_patrol),
         cmocka_unit_test(test_names),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
