@@ -21,9 +21,10 @@
  * What the step guarantees:
  *   - every rate limit holds against `last` (|dv| <= a_max dt as a vector for
  *     the point model; |dv| <= a_max dt and |dw| <= dw_max dt for the
- *     unicycle), and so do |v| <= v_max, |w| <= w_max and "no reversing"
- *     whenever `last` respected them (if it did not, the rate limit wins and
- *     the step moves toward the limit at the full rate);
+ *     unicycle), and so do |v| <= v_max, |w| <= w_max and "no reversing",
+ *     always: from a `last` beyond them (a plan request's velocity, a robot
+ *     description lowered mid-run) the step starts from `last` clamped to
+ *     them, and the rate limits and the promises below hold from there;
  *   - point: the setpoint is safe whenever the maximal deceleration of `last`
  *     (same direction, speed |last| - a_max dt, or rest) is safe; in
  *     particular whenever `last` itself is safe here, since a slower velocity
@@ -189,25 +190,17 @@ static double clampd(double x, double lo, double hi)
 }
 
 /*
- * The values reachable from c within rate r that respect [lo, hi]; when
- * none do, the one end of the rate window nearest to [lo, hi].
- */
-/*
  * The values reachable from c within rate r, inside [lo, hi]. The robot's
  * limits come first: from a value beyond them (a robot description lowered
- * mid-run, a plan request's velocity) the window is the nearest limit.
+ * mid-run, a plan request's velocity) the window starts at the nearest
+ * limit, so that braking is still possible from there (pinning the window
+ * to the limit alone left no slower speed to brake with).
  */
 static void rate_window(double c, double r, double lo, double hi, double *wlo, double *whi)
 {
-    double a = c - r, b = c + r;
-    if (a > hi) {
-        *wlo = *whi = hi;
-    } else if (b < lo) {
-        *wlo = *whi = lo;
-    } else {
-        *wlo = fmax(a, lo);
-        *whi = fmin(b, hi);
-    }
+    c = clampd(c, lo, hi);
+    *wlo = fmax(c - r, lo);
+    *whi = fmin(c + r, hi);
 }
 
 static bool finite_setpoint(const lc_setpoint *sp, bool point)
@@ -321,6 +314,12 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
         return -1;
     lc_vec2 p = {pose.x, pose.y};
     lc_vec2 v0 = last ? lc_rotate(lc_v2(last->vx, last->vy), pose.yaw) : lc_v2(0, 0);
+    /* From beyond v_max start at v_max (see rate_window): the fallback's
+     * braking from there is then checked like any other (scaling an
+     * unchecked braking velocity down afterwards left the region). */
+    double speed0 = lc_len(v0);
+    if (speed0 > robot->v_max)
+        v0 = lc_scale(v0, robot->v_max / speed0);
     lc_limit limit;
     lc_vec2 v_des = point_desired(robot, params, region, p, target_world, &limit);
     double step = robot->a_max * dt;
@@ -335,7 +334,7 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
         v = point_fallback(robot, params, region, p, v0, v, step);
         limit = LC_LIMIT_BRAKING;
     }
-    /* From beyond v_max (see rate_window) the limit wins over a_max. */
+    /* Rounding only, now that v0 and v_des are within v_max. */
     double speed = lc_len(v);
     if (speed > robot->v_max) {
         v = lc_scale(v, robot->v_max / speed);

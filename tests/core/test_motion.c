@@ -916,6 +916,57 @@ static void test_last_beyond_limits(void **state)
     assert_true(out.v >= 0 && fabs(out.w) <= u.w_max + 1e-12);
 }
 
+/*
+ * From a last setpoint beyond v_max the step starts at v_max and brakes
+ * from there like from any other last setpoint (found by fuzzing the plan
+ * request, tests/fuzz/corpus/plan/regress-fast-last-near-wall: the braking
+ * velocity from the too-fast last setpoint was scaled down to v_max
+ * unchecked, labelled top_speed, and stopped 0.14 m beyond the region).
+ * Stopping distance v^2 / (2 a) in closed form (REFERENCES.md).
+ */
+static void test_last_beyond_limits_brakes(void **state)
+{
+    (void)state;
+    lc_motion_params p;
+    lc_motion_params_default(&p);
+    lc_robot r = robot_default_of(LC_MODEL_POINT);
+    const double dt = 0.05, step = r.a_max * dt;
+    test_region t;
+    lc_setpoint out;
+    /* wall 0.5 m ahead: even v_max - a dt (0.6 m to stop) is too fast, so
+     * the step brakes as hard as the rate allows from v_max */
+    make_box(&t, -10, -10, 0.5, 10);
+    assert_int_equal(point_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.4, 0), lc_v2(5, 0), dt,
+                                &out), 0);
+    assert_int_equal(out.limit, LC_LIMIT_BRAKING);
+    assert_near(out.vx, r.v_max - step, 1e-12);
+    assert_near(out.vy, 0, 1e-12);
+    /* wall 0.7 m ahead, at an angle: braking from v_max is possible, and the
+     * setpoint found stops inside */
+    for (int k = 0; k < 8; k++) {
+        double yaw = -0.7 + 0.2 * k;
+        make_box(&t, -10, -10, 0.7, 10);
+        lc_vec2 last = lc_rotate(lc_v2(5, 0), -yaw); /* robot frame, +x in the world */
+        assert_int_equal(point_step(&r, &p, &t, (lc_pose){0, 0, yaw}, lc_v2(0.6, 0.1), last, dt,
+                                    &out), 0);
+        lc_vec2 v = lc_rotate(lc_v2(out.vx, out.vy), yaw);
+        double speed = lc_len(v);
+        assert_true(speed <= r.v_max + 1e-12);
+        assert_true(lc_len(lc_sub(v, lc_v2(r.v_max, 0))) <= step + 1e-12);
+        double stop = speed * speed / (2 * r.a_max);
+        assert_true(speed == 0 || v.x / speed * stop <= 0.7 + 1e-9);
+    }
+    /* unicycle from 5 m/s toward a wall 0.5 m ahead: brakes from v_max too
+     * (the rate window was pinned to v_max: no slower speed to brake with) */
+    lc_robot u = robot_default_of(LC_MODEL_UNICYCLE);
+    lc_setpoint last = {.v = 5, .w = 0};
+    make_box(&t, -10, -10, 0.5, 10);
+    assert_int_equal(lc_motion_unicycle(&u, &p, &t.r, (lc_pose){0, 0, 0}, lc_v2(0.4, 0), &last,
+                                        dt, &out), 0);
+    assert_int_equal(out.limit, LC_LIMIT_BRAKING);
+    assert_near(out.v, u.v_max - u.a_max * dt, 1e-12);
+}
+
 static void test_unicycle_brake_disc(void **state)
 {
     (void)state;
@@ -1138,6 +1189,7 @@ int main(void)
         cmocka_unit_test(test_point_closed_loop),
         cmocka_unit_test(test_unicycle_examples),
         cmocka_unit_test(test_last_beyond_limits),
+        cmocka_unit_test(test_last_beyond_limits_brakes),
         cmocka_unit_test(test_unicycle_brake_disc),
         cmocka_unit_test(test_unicycle_properties),
         cmocka_unit_test(test_unicycle_closed_loop),

@@ -19,10 +19,10 @@
  * Properties checked on every accepted request (CONTRACT.md, `lacuna plan`
  * promises) - with a relative tolerance, since the numbers may be huge:
  * - the step succeeds (it fails only when out of memory);
- * - the setpoint is finite and keeps motion.h's promises: the rate limits
- *   against the request's velocity (the last setpoint), speed <= v_max,
- *   |w| <= w_max and no reversing unless the last setpoint already broke
- *   them (then it only moves toward them);
+ * - the setpoint is finite and keeps the motion laws' promises: speed <=
+ *   v_max, |w| <= w_max, no reversing unless the robot may, and the rate
+ *   limits against the request's velocity (the last setpoint) when that was
+ *   within those limits;
  * - when there is a region, the robot centre is inside it, and every kept
  *   return is at least radius + margin from it (unless the centre was too
  *   close: then the obstacles holding it are left out by design); the
@@ -56,11 +56,11 @@ static bool from_motion(lc_limit l)
 }
 
 /*
- * motion.h's promises: every rate limit holds against the last setpoint
- * (for the steps the motion laws made; stops are immediate by design), and
- * |v| <= v_max, |w| <= w_max and no reversing hold whenever the last
- * setpoint respected them; a last setpoint beyond them only moves toward
- * them, so the speed never exceeds max(v_max, |last|).
+ * The motion laws' promises (motion.c): |v| <= v_max, |w| <= w_max and no
+ * reversing unless the robot may, always (from a last setpoint beyond them
+ * the limit wins over the rate limit); every rate limit holds against the
+ * last setpoint when that respected the limits, for the steps the motion
+ * laws made (stops are immediate by design).
  */
 static void check_setpoint(const lc_robot *robot, const lc_setpoint *last, double dt,
                            const lc_setpoint *sp)
@@ -69,31 +69,28 @@ static void check_setpoint(const lc_robot *robot, const lc_setpoint *last, doubl
     LC_FUZZ_CHECK(isfinite(sp->vx) && isfinite(sp->vy) && isfinite(sp->v) && isfinite(sp->w),
                   "setpoint not finite: vx %g vy %g v %g w %g", sp->vx, sp->vy, sp->v, sp->w);
     double dv_max = robot->a_max * dt, dw_max = robot->dw_max * dt;
+    bool motion = from_motion(sp->limit);
     if (robot->model == LC_MODEL_POINT) {
         double speed = hypot(sp->vx, sp->vy), speed0 = hypot(last->vx, last->vy);
-        double top = fmax(robot->v_max, speed0);
-        LC_FUZZ_CHECK(speed <= top + slack(top, 0), "speed %.17g above %.17g (v_max %.17g, %s)",
-                      speed, top, robot->v_max, why);
+        LC_FUZZ_CHECK(speed <= robot->v_max + slack(robot->v_max, 0),
+                      "speed %.17g above v_max %.17g (%s)", speed, robot->v_max, why);
         double dv = hypot(sp->vx - last->vx, sp->vy - last->vy);
-        LC_FUZZ_CHECK(!from_motion(sp->limit) || dv <= dv_max + slack(dv_max, speed0),
+        LC_FUZZ_CHECK(!motion || speed0 > robot->v_max || dv <= dv_max + slack(dv_max, speed0),
                       "speed change %.17g beyond a_max dt %.17g (%s)", dv, dv_max, why);
         return;
     }
-    double top = fmax(robot->v_max, fabs(last->v)), wtop = fmax(robot->w_max, fabs(last->w));
-    LC_FUZZ_CHECK(fabs(sp->v) <= top + slack(top, 0), "v %.17g beyond %.17g (v_max %.17g, %s)",
-                  sp->v, top, robot->v_max, why);
-    LC_FUZZ_CHECK(fabs(sp->w) <= wtop + slack(wtop, 0), "w %.17g beyond %.17g (w_max %.17g, %s)",
-                  sp->w, wtop, robot->w_max, why);
-    LC_FUZZ_CHECK(robot->reverse || last->v < 0 || sp->v >= 0.0, "v %.17g backwards (%s)",
-                  sp->v, why);
-    if (from_motion(sp->limit)) {
-        LC_FUZZ_CHECK(fabs(sp->v - last->v) <= dv_max + slack(dv_max, last->v),
-                      "v %.17g from %.17g: beyond a_max dt %.17g (%s)", sp->v, last->v, dv_max,
-                      why);
-        LC_FUZZ_CHECK(fabs(sp->w - last->w) <= dw_max + slack(dw_max, last->w),
-                      "w %.17g from %.17g: beyond dw_max dt %.17g (%s)", sp->w, last->w, dw_max,
-                      why);
-    }
+    LC_FUZZ_CHECK(fabs(sp->v) <= robot->v_max + slack(robot->v_max, 0),
+                  "v %.17g beyond v_max %.17g (%s)", sp->v, robot->v_max, why);
+    LC_FUZZ_CHECK(fabs(sp->w) <= robot->w_max + slack(robot->w_max, 0),
+                  "w %.17g beyond w_max %.17g (%s)", sp->w, robot->w_max, why);
+    LC_FUZZ_CHECK(robot->reverse || sp->v >= 0.0, "v %.17g backwards (%s)", sp->v, why);
+    bool v_ok = fabs(last->v) <= robot->v_max && (robot->reverse || last->v >= 0);
+    LC_FUZZ_CHECK(!motion || !v_ok || fabs(sp->v - last->v) <= dv_max + slack(dv_max, last->v),
+                  "v %.17g from %.17g: beyond a_max dt %.17g (%s)", sp->v, last->v, dv_max, why);
+    LC_FUZZ_CHECK(!motion || fabs(last->w) > robot->w_max ||
+                      fabs(sp->w - last->w) <= dw_max + slack(dw_max, last->w),
+                  "w %.17g from %.17g: beyond dw_max dt %.17g (%s)", sp->w, last->w, dw_max,
+                  why);
 }
 
 static void check_region(const lc_region *region, lc_vec2 centre)
@@ -266,6 +263,125 @@ static void check_json(const lc_wire_text *t)
     LC_FUZZ_CHECK(root && cJSON_IsObject(root) && end == t->s + t->len,
                   "plan result is not one JSON object:\n%s", t->s);
     cJSON_Delete(root);
+}
+
+/* ------------------------------------------------------------------------
+ * A structure-aware mutator. Byte mutations of a request mostly break the
+ * JSON (cJSON is not instrumented, so libFuzzer cannot learn its grammar);
+ * half the time this one instead parses the request, sets one number to a
+ * hostile but often valid value (0, -0, the +-1e9 bounds, subnormals,
+ * 1e-300, a full turn, an ulp away, a random magnitude) or adds or removes
+ * an array element, and prints it back (cJSON prints numbers exactly).
+ */
+
+size_t LLVMFuzzerMutate(uint8_t *data, size_t size, size_t max_size);
+size_t LLVMFuzzerCustomMutator(uint8_t *data, size_t size, size_t max_size, unsigned int seed);
+
+static uint64_t rng_next(uint64_t *s)
+{
+    *s ^= *s << 13;
+    *s ^= *s >> 7;
+    *s ^= *s << 17;
+    return *s;
+}
+
+/* The k-th node (pre-order) that is a number (want_array false) or an array. */
+static cJSON *nth_node(cJSON *node, bool want_array, long *k)
+{
+    for (; node; node = node->next) {
+        bool hit = want_array ? cJSON_IsArray(node) : cJSON_IsNumber(node);
+        if (hit && (*k)-- == 0)
+            return node;
+        cJSON *in = nth_node(node->child, want_array, k);
+        if (in)
+            return in;
+    }
+    return NULL;
+}
+
+static long count_nodes(const cJSON *node, bool want_array)
+{
+    long n = 0;
+    for (; node; node = node->next)
+        n += (want_array ? cJSON_IsArray(node) : cJSON_IsNumber(node)) +
+             count_nodes(node->child, want_array);
+    return n;
+}
+
+static double hostile_number(double x, uint64_t *rng)
+{
+    static const double table[] = {0.0, -0.0, 1e9, -1e9, 999999999.99999994, 1e-300, -1e-300,
+                                   5e-324, 2.2250738585072014e-308, 1e-9, 1e-12, 1.0,
+                                   6.283185307179586, 6.2831853071795871, 3.141592653589793,
+                                   -3.141592653589793, 0.05, 100000, 1e6};
+    uint64_t r = rng_next(rng);
+    switch (r % 6) {
+    case 0:
+    case 1:
+        return table[(r >> 8) % (sizeof table / sizeof table[0])];
+    case 2:
+        return nextafter(x, (r >> 8) & 1 ? INFINITY : -INFINITY);
+    case 3:
+        return -x;
+    case 4:
+        return x * (1.0 + ((double)((r >> 8) % 2001) - 1000.0) * 1e-3);
+    default: {
+        double mant = (double)((r >> 8) % 10000) / 1000.0;
+        int e = (int)((r >> 24) % 22) - 12;
+        return ((r >> 40) & 1 ? -mant : mant) * pow(10.0, e);
+    }
+    }
+}
+
+/* One structural change of root; false when there was nothing to change. */
+static bool mutate_tree(cJSON *root, uint64_t *rng)
+{
+    uint64_t r = rng_next(rng);
+    if (r % 4 != 0) {
+        long n = count_nodes(root, false);
+        if (n == 0)
+            return false;
+        long k = (long)((r >> 8) % (uint64_t)n);
+        cJSON *num = nth_node(root, false, &k);
+        cJSON_SetNumberValue(num, hostile_number(num->valuedouble, rng));
+        return true;
+    }
+    long n = count_nodes(root, true);
+    if (n == 0)
+        return false;
+    long k = (long)((r >> 8) % (uint64_t)n);
+    cJSON *arr = nth_node(root, true, &k);
+    int len = cJSON_GetArraySize(arr);
+    if (len > 0 && (r >> 40) % 2 == 0) {
+        cJSON_DeleteItemFromArray(arr, (int)((r >> 20) % (uint64_t)len));
+        return true;
+    }
+    cJSON *copy = len > 0 ? cJSON_Duplicate(cJSON_GetArrayItem(arr, (int)((r >> 20) % (uint64_t)len)), 1)
+                          : cJSON_CreateNumber(1.0);
+    return copy && cJSON_AddItemToArray(arr, copy);
+}
+
+size_t LLVMFuzzerCustomMutator(uint8_t *data, size_t size, size_t max_size, unsigned int seed)
+{
+    uint64_t rng = 0x9e3779b97f4a7c15ull ^ seed;
+    if (rng_next(&rng) % 2)
+        return LLVMFuzzerMutate(data, size, max_size);
+    const uint8_t *body = data;
+    size_t body_size = size;
+    size_t prefix = (size_t)(dense_prefix(&body, &body_size) > 1 ? body - data : 0);
+    cJSON *root = cJSON_ParseWithLength((const char *)body, body_size);
+    char *text = NULL;
+    if (root && mutate_tree(root, &rng))
+        text = cJSON_PrintUnformatted(root);
+    cJSON_Delete(root);
+    size_t n = text ? strlen(text) : 0;
+    if (!text || prefix + n > max_size) {
+        cJSON_free(text);
+        return LLVMFuzzerMutate(data, size, max_size);
+    }
+    memmove(data + prefix, text, n);
+    cJSON_free(text);
+    return prefix + n;
 }
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
