@@ -286,6 +286,42 @@ static void test_too_close(void **state)
 }
 
 /*
+ * too_close turns a unicycle in place from the last w, rate limited; from
+ * a last w beyond w_max (a plan request's velocity) it starts at w_max
+ * (found by fuzzing: tests/fuzz/corpus/plan/regress-too-close-spin-beyond-w-max,
+ * w 49.9 rad/s with w_max 1 came out).
+ */
+static void test_too_close_turn_within_w_max(void **state)
+{
+    (void)state;
+    double ranges[181];
+    for (int i = 0; i < 181; i++)
+        ranges[i] = 0.32; /* within radius + margin all round the front */
+    lc_frame f = {.kind = LC_FRAME_SCAN, .angle_start = -LC_PI / 2, .angle_step = LC_PI / 180,
+                  .range_min = 0.05, .range_max = 10, .ranges = ranges, .n_ranges = 181};
+    lc_robot robot;
+    lc_robot_default(&robot);
+    robot.model = LC_MODEL_UNICYCLE;
+    lc_session *ses = lc_session_new(&robot, NULL, NULL);
+    lc_session_set_goal(ses, lc_v2(0, 3)); /* to the left: turn counter-clockwise */
+    const double dt = 0.05, step = robot.dw_max * dt;
+    const double lasts[] = {50, -50, 1, 0};
+    for (int k = 0; k < 4; k++) {
+        lc_setpoint last = {.v = 0, .w = lasts[k]};
+        lc_session_set_velocity(ses, &last);
+        lc_plan_result r;
+        assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+        assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
+        assert_near(r.setpoint.v, 0, 0);
+        assert_true(fabs(r.setpoint.w) <= robot.w_max);
+        double w0 = fmax(-robot.w_max, fmin(robot.w_max, lasts[k]));
+        assert_true(fabs(r.setpoint.w - w0) <= step + 1e-12);
+        assert_true(r.setpoint.w > w0 - 1e-12 || w0 == robot.w_max); /* toward the goal */
+    }
+    lc_session_free(ses);
+}
+
+/*
  * A waypoint behind a wall, 1 cm range noise: the robot drives up to the
  * wall and waits there. It stops the standoff inside the region, so the
  * noise does not throw it into too_close (a parked robot flickered between
@@ -522,6 +558,7 @@ int main(void)
         cmocka_unit_test(test_no_alloc_when_warm),
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_too_close),
+        cmocka_unit_test(test_too_close_turn_within_w_max),
         cmocka_unit_test(test_standoff_at_blocked_waypoint),
         cmocka_unit_test(test_height_band),
         cmocka_unit_test(test_scripted_patrol),
