@@ -10,8 +10,9 @@ sockets). Usage: faults.py LACUNA_EXE. Exit 0 when every check passes.
   (round trips reported with and without it), the server's memory stays
   bounded (it drops that viewer's older views), and SIGTERM still ends the
   server with exit 0;
-- a robot flooding frames: read, every frame is answered (a burst past the
-  reply queue is held back in TCP, not refused); not read, the server stops
+- a robot flooding frames: read, every frame is answered (a burst of 1000
+  frames in one write, past the reply queue, is held back in TCP, not
+  refused); not read, the server stops
   reading it, its bounded reply queue fills with the watchdog's stale stops
   and it is closed (error rate_limited); memory bounded either way, another
   robot served throughout;
@@ -181,6 +182,8 @@ async def test_viewer_never_reads():
         rtt_with = await three_robots(srv.url, "busy", hz, secs)
         rss1 = srv.rss_kb()
         queued = srv.send_queue_to(stuck.local_port)
+        check(queued is not None and queued <= 2 * 32768,
+              "kernel send queue to the stuck viewer: %s bytes (SO_SNDBUF 32 KiB, doubled)" % queued)
         check(views[0] > views_without, "the reading viewer still got views (%d, then %d)"
               % (views_without, views[0] - views_without))
         rss_check(rss0, rss1, "with a stuck viewer")
@@ -224,6 +227,29 @@ async def test_flood_read(srv):
                              "frames_per_s": round(n / span), "rss_kb": [rss0, rss1],
                              "steady_rtt_ms": steady.rtt_ms()}
     await flood.close()
+
+
+async def test_burst(srv):
+    """1000 small frames in one write, read as they come: all answered (the server
+    stops reading the robot while its replies queue up, rather than refuse it)."""
+    raw = raw_robot(srv.port, "burst")
+    raw.s.sendall(b"".join(RawWS.frame(json.dumps(far_scan(k, k * 0.01)).encode())
+                           for k in range(1, 1001)))
+    seqs, other = [], []
+    while len(seqs) < 1000:
+        op, data = raw.recv_message()
+        if op != 1:
+            break
+        m = json.loads(data)
+        if m["type"] == "setpoint" and m["state"] != "stale":
+            seqs.append(m["seq"])
+        elif m["type"] != "setpoint":
+            other.append(m)
+    raw.close()
+    check(seqs == list(range(1, 1001)) and not other,
+          "a burst of 1000 frames: %d answered in order, other messages %s"
+          % (len(seqs), other[:2]))
+    FIGURES["burst_frames_answered"] = len(seqs)
 
 
 async def test_flood_no_read(srv):
@@ -361,11 +387,12 @@ async def main():
     with tempfile.TemporaryDirectory() as tmp:
         await test_drop_mid_message(tmp)
         await test_viewer_never_reads()
-        # a short reply queue: the mute flooder fills it with stale stops
-        # in 8 watchdog periods (the default 256 takes 128 of them)
-        srv = Server("--max-rate", "100000", "--send-queue", "16")
+        # a short reply queue and watchdog: the mute flooder fills the queue
+        # with stale stops in 8 watchdog periods (the default 256 takes 128)
+        srv = Server("--max-rate", "100000", "--send-queue", "16", "--watchdog-ms", "50")
         try:
             await test_flood_read(srv)
+            await test_burst(srv)
             await test_flood_no_read(srv)
         finally:
             check(srv.stop() == 0, "flood server exits 0")

@@ -113,6 +113,20 @@ static void test_config_allow_origin(void **state)
     for (size_t i = 0; i < sizeof bad_files / sizeof bad_files[0]; i++)
         assert_int_equal(
             lc_server_config_parse(&c, bad_files[i], strlen(bad_files[i]), err, sizeof err), -1);
+    /* the hardening options are in --help with their bounds and defaults */
+    char *help = NULL;
+    size_t n = 0;
+    FILE *f = open_memstream(&help, &n);
+    lc_server_config_help(f);
+    fclose(f);
+    static const char *const wanted[] = {
+        "--allow-origin ORIGIN", "--max-per-address N", "(1 to 10000, default 32)",
+        "--send-buffer N", "(0 to 16777216, default 262144)", "--max-rate X",
+    };
+    for (size_t i = 0; i < sizeof wanted / sizeof wanted[0]; i++)
+        if (!strstr(help, wanted[i]))
+            fail_msg("--help lacks %s", wanted[i]);
+    free(help);
 }
 
 /* Origin rule (RFC 6454 origins; RFC 6455 10.2: the server checks Origin for browsers). */
