@@ -43,8 +43,11 @@ static const char usage_head[] =
     "regulations. Test new settings in simulation, then at low speed in a cleared area.\n"
     "\n"
     "The server listens on 127.0.0.1 unless told otherwise and refuses any other address\n"
-    "without a robot token (--token-file). Options (also keys of the --config JSON\n"
-    "object; flags override the file):\n"
+    "without a robot token (--token-file); there, give it --tls-cert and --tls-key too, so\n"
+    "the token does not cross the network in clear. A browser may open a websocket only\n"
+    "from the page's own origin or one named by --allow-origin. Static files are served\n"
+    "from the web directory only: links that lead out of it are refused. Options (also\n"
+    "keys of the --config JSON object; flags override the file):\n"
     "  --config FILE\n"
     "      JSON object of options, e.g. {\"listen\": \"127.0.0.1:7641\", \"watchdog_ms\": 150}\n"
     "  --print-config\n"
@@ -215,6 +218,9 @@ int lc_serve(int argc, char **argv)
     p.tls_key = cfg.tls_key[0] ? cfg.tls_key : NULL;
     if (!has_web)
         lc_log(LC_LOG_WARN, "no web directory found: the viewer page is not served");
+    if (!p.listen.loopback && !p.tls_cert)
+        lc_log(LC_LOG_WARN, "listening on %s without TLS: tokens cross the network in clear "
+                            "(give --tls-cert and --tls-key)", p.listen.host);
     lc_log(LC_LOG_INFO, "not a safety-rated component: keep an independent safety-rated "
                         "protective stop (see lacuna serve --help)");
     rc = lc_server_run(&p);

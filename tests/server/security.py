@@ -53,6 +53,8 @@ async def test_token_off_loopback(tmp):
         ws, m = await hello(url, "", "viewer")
         check(m["type"] == "welcome", "off loopback: a viewer needs no token without a viewer token")
         await ws.close()
+        check(await srv.logged("without TLS: tokens cross the network in clear"),
+              "off loopback without TLS: a warning")
     finally:
         check(srv.stop() == 0, "off-loopback server exits 0")
     r = subprocess.run([serverlib.EXE, "serve", "--listen", "%s:0" % addr], capture_output=True, text=True,
