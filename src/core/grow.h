@@ -26,6 +26,21 @@ int lc_grow_max_vertices(int n, double max_step);
 double lc_grow_excess_bound(double r, double max_step);
 
 /*
+ * What lc_grow_polygon derives from max_step (one sincos): kept by a caller
+ * that grows many polygons with one step, for lc_grow_polygon_rule.
+ */
+typedef struct lc_grow_rule {
+    double step;     /* max_step, rad */
+    int extra;       /* ceil(2 pi / step): lc_grow_max_vertices(n, step) - n */
+    double sec_half; /* 1 / cos(step / 2) */
+    lc_vec2 rot, half, two; /* (cos, sin) of step, step / 2 and 2 step */
+} lc_grow_rule;
+
+/* Fills rule for max_step; -1 when max_step is not in (0, pi/2] (or so
+ * small that the vertex bound overflows). */
+int lc_grow_rule_init(lc_grow_rule *rule, double max_step);
+
+/*
  * poly[0..n) is CCW convex (n >= 3), a segment (n == 2) or a point (n == 1).
  * Writes the grown CCW convex polygon to out (capacity cap) and returns its
  * vertex count, or -1 when n < 1, r <= 0, max_step is not in (0, pi/2],
@@ -35,5 +50,9 @@ double lc_grow_excess_bound(double r, double max_step);
  */
 int lc_grow_polygon(const lc_vec2 *poly, int n, double r, double max_step,
                     lc_vec2 *out, int cap);
+
+/* lc_grow_polygon with the step's rule computed beforehand. */
+int lc_grow_polygon_rule(const lc_vec2 *poly, int n, double r, const lc_grow_rule *rule,
+                         lc_vec2 *out, int cap);
 
 #endif

@@ -23,6 +23,7 @@ struct lc_session {
     lc_setpoint last;
     lc_clock clock;
     lc_hull_ctx *hull;
+    lc_grow_rule grow_rule; /* cfg.grow_step's rotations, computed once */
     lc_cloud cloud;
     lc_segment_ws seg;
     lc_polyset obstacles, grown;
@@ -81,8 +82,11 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
         alloc->realloc(alloc->data, s, 0);
         return NULL;
     }
-    if (!(s->cfg.grow_step > 0 && s->cfg.grow_step <= 0.5 * LC_PI))
+    if (!(s->cfg.grow_step > 0 && s->cfg.grow_step <= 0.5 * LC_PI) ||
+        lc_grow_rule_init(&s->grow_rule, s->cfg.grow_step) < 0) {
         s->cfg.grow_step = LC_GROW_DEFAULT_STEP;
+        lc_grow_rule_init(&s->grow_rule, s->cfg.grow_step);
+    }
     if (s->cfg.hull_small_max >= 0)
         lc_hull_set_small_max(s->hull, s->cfg.hull_small_max);
     return s;
@@ -161,15 +165,15 @@ static int hull_pieces(lc_session *s)
 
 static int grow_obstacles(lc_session *s)
 {
-    double r = lc_robot_clearance(&s->robot), step = s->cfg.grow_step;
+    double r = lc_robot_clearance(&s->robot);
     lc_polyset_clear(&s->grown);
     for (int j = 0; j < s->obstacles.np; j++) {
         int n;
         const lc_vec2 *v = lc_polyset_at(&s->obstacles, j, &n);
-        int cap = lc_grow_max_vertices(n, step);
+        int cap = n + s->grow_rule.extra; /* lc_grow_max_vertices */
         if (lc_polyset_reserve(&s->grown, &s->alloc, cap) < 0)
             return -1;
-        int m = lc_grow_polygon(v, n, r, step, s->grown.v + s->grown.nv, cap);
+        int m = lc_grow_polygon_rule(v, n, r, &s->grow_rule, s->grown.v + s->grown.nv, cap);
         if (m > 0 && lc_polyset_commit(&s->grown, &s->alloc, m, j) < 0)
             return -1;
     }
