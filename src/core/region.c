@@ -97,14 +97,23 @@ static double wedge_reach(double view_mid, double side, lc_vec2 o, const lc_vec2
                           double radius)
 {
     double lo = 0.0, hi = 0.5 * LC_PI;
-    if (sweep_sees(lc_unit_angle(view_mid + side * hi), o, e, radius))
+    lc_vec2 ulo = lc_unit_angle(view_mid), uhi = lc_unit_angle(view_mid + side * hi);
+    if (sweep_sees(uhi, o, e, radius))
         return hi;
+    /* The directions are halved as unit vectors (the normalised sum of the
+     * two ends) beside the angles: a square root per step, not a sincos
+     * (the two sides' 80 sincos were 14k of the 600k instructions of a
+     * 1081-beam bench frame, callgrind). */
     for (int i = 0; i < 40; i++) {
         double mid = 0.5 * (lo + hi);
-        if (sweep_sees(lc_unit_angle(view_mid + side * mid), o, e, radius))
+        lc_vec2 sum = lc_add(ulo, uhi), umid = lc_scale(sum, 1.0 / lc_len(sum));
+        if (sweep_sees(umid, o, e, radius)) {
             lo = mid;
-        else
+            ulo = umid;
+        } else {
             hi = mid;
+            uhi = umid;
+        }
     }
     return lo;
 }
