@@ -661,6 +661,7 @@ static void objective_derivs(const double x[NX], double g[NX], double H[NT])
     g[1] = 2.0 * l12 * iD;
     g[2] = -l11 * iD;
     g[3] = g[4] = 0.0;
+    #pragma GCC unroll 15
     for (int k = 0; k < NT; k++)
         H[k] = 0.0;
     H[tri(0, 0)] = l22 * l22 * iD2;
@@ -713,6 +714,7 @@ static inline v2 g_dot2(const ipm *w, int i, const v2 dx[NX])
 
 static inline void splat5(const double x[NX], v2 out[NX])
 {
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         out[p] = set2(x[p]);
 }
@@ -759,6 +761,7 @@ static void evaluate(ipm *w, double alpha, kkt *k)
     }
     if (w->np > w->n)
         w->is[w->n] = w->il[w->n] = 0.0; /* the ghost */
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         k->rd[p] = gf[p] + sum2(rd[p]);
     k->gap = sum2(gap);
@@ -820,10 +823,12 @@ static void newton_matrix(ipm *w, kkt *k)
             gs[p] += is * G[p];
         }
     }
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++) {
         k->rhs[p] = -k->rd[p] - sum2(acc[p]); /* predictor: rc_i = s_i lam_i */
         k->gs[p] = sum2(gs[p]);
     }
+    #pragma GCC unroll 15
     for (int q = 0; q < NT; q++)
         k->H[q] += sum2(H[q]);
 }
@@ -887,6 +892,7 @@ static void predictor(ipm *w, const chol *Hc, const kkt *k, affine *af)
     }
     af->alpha = dmin(1.0, dmin(step_pd(w->x, dx), step_from(ia_s, ia_l)));
     af->mu = (k->gap + af->alpha * sum2(s1) + af->alpha * af->alpha * sum2(s2)) / w->n;
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         af->gp[p] = sum2(gp[p]);
 }
@@ -896,6 +902,7 @@ static double corrector(ipm *w, const chol *Hc, const kkt *k, const affine *af,
                         double sigma_mu, double dx[NX])
 {
     double rhs[NX];
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         rhs[p] = k->rhs[p] - sigma_mu * k->gs[p] + af->gp[p];
     chol5_solve(Hc, rhs, dx);
@@ -918,6 +925,7 @@ static double corrector(ipm *w, const chol *Hc, const kkt *k, const affine *af,
 static double absmax5(const double v[NX])
 {
     double m = 0.0;
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         m = dmax(m, fabs(v[p]));
     return m;
@@ -931,10 +939,12 @@ static double ipm_step(ipm *w, const kkt *k)
 {
     chol hc;
     double dx[NX];
+    #pragma GCC unroll 15
     for (int q = 0; q < NT; q++)
         hc.f[q] = k->H[q];
     if (!chol5(hc.f))
         return 0.0;
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         hc.id[p] = 1.0 / hc.f[tri(p, p)];
     double mu = k->gap / w->n;
@@ -949,6 +959,7 @@ static double ipm_step(ipm *w, const kkt *k)
     double alpha = dmin(1.0, tau * corrector(w, &hc, k, &af, sigma_mu, dx));
     if (!(alpha > 0.0) || !isfinite(alpha))
         return 0.0;
+    #pragma GCC unroll 5
     for (int p = 0; p < NX; p++)
         w->x[p] += alpha * dx[p];
     return alpha;
