@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/resource.h>
 #include <sys/utsname.h>
 #include <unistd.h>
 
@@ -26,8 +27,10 @@ const char lc_bench_usage[] =
     "usage: lacuna bench [--json] [--frames N] [--case NAME] [--quick]\n"
     "\n"
     "Times the per-frame plan on synthetic clutter: 360 to 4320 beams, 10 to 400\n"
-    "obstacles, both robot models. For each case: median and p99 per frame,\n"
-    "frames per second, per-stage times, inflation rounds per frame. Then the\n"
+    "obstacles, both robot models. For each case: median and p99 per frame (and\n"
+    "p99 over the frames the OS did not switch away from: on a shared machine\n"
+    "other processes' time slices otherwise decide it), frames per second,\n"
+    "per-stage times, inflation rounds per frame. Then the\n"
     "ellipse solver beside the general-purpose reference solver on the same\n"
     "polygons, and the log-log slope of time over beams and over obstacles.\n"
     "\n"
@@ -52,6 +55,8 @@ typedef struct bench_case {
     lc_model model;
     /* results */
     double median, p99, fps, rounds, iterations;
+    double p99_kept; /* over the frames the OS did not switch away from */
+    int preempted;   /* frames during which this thread was switched out */
     double stage_median[LC_STAGE_COUNT];
 } bench_case;
 
@@ -109,6 +114,15 @@ static void clutter(lc_world *w, int count, uint64_t seed)
     }
 }
 
+/* Context switches of this thread so far: a frame during which it moved was
+ * descheduled (another process on a shared machine), and its wall time
+ * measures the scheduler, not the planner. */
+static long switches(void)
+{
+    struct rusage u;
+    return getrusage(RUSAGE_THREAD, &u) == 0 ? u.ru_nvcsw + u.ru_nivcsw : 0;
+}
+
 static void run_case(bench_case *c, const bench_opts *o)
 {
     lc_world w;
@@ -128,8 +142,9 @@ static void run_case(bench_case *c, const bench_opts *o)
     lc_session_set_goal(ses, lc_v2(8, 3));
     lc_session_set_clock(ses, lc_mono_clock());
     int frames = o->frames, warm = o->quick ? 5 : 50;
-    double *t = malloc(sizeof *t * (size_t)frames * (LC_STAGE_COUNT + 1));
-    double rounds = 0, iters = 0;
+    double *t = malloc(sizeof *t * (size_t)frames * (LC_STAGE_COUNT + 2));
+    double *kept = t + frames * (LC_STAGE_COUNT + 1), rounds = 0, iters = 0;
+    int nkept = 0;
     lc_plan_result r;
     for (int i = -warm; i < frames; i++) {
         int k = (i + warm) % BENCH_FRAME_SETS;
@@ -138,12 +153,15 @@ static void run_case(bench_case *c, const bench_opts *o)
                       .angle_step = lc_sensor_angle_step(&s), .range_min = s.range_min,
                       .range_max = s.range_max, .ranges = ranges + k * c->beams,
                       .n_ranges = c->beams};
+        long sw = switches();
         double t0 = lc_mono_us();
         lc_session_step(ses, &f, 0.05, &r);
         double dt = lc_mono_us() - t0;
         if (i < 0)
             continue;
         t[i] = dt;
+        if (switches() == sw)
+            kept[nkept++] = dt;
         for (int st = 0; st < LC_STAGE_COUNT; st++)
             t[frames * (st + 1) + i] = r.stage_us[st];
         rounds += r.region ? r.region->rounds : 0;
@@ -151,6 +169,8 @@ static void run_case(bench_case *c, const bench_opts *o)
     }
     c->median = quantile(t, frames, 0.5);
     c->p99 = quantile(t, frames, 0.99);
+    c->p99_kept = nkept ? quantile(kept, nkept, 0.99) : NAN;
+    c->preempted = frames - nkept;
     c->fps = c->median > 0 ? 1e6 / c->median : 0;
     c->rounds = rounds / frames;
     c->iterations = iters / frames;
@@ -311,11 +331,13 @@ static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne,
            LC_BUILD_TYPE, LC_BUILD_SANITIZE);
     for (int i = 0; i < n; i++) {
         printf("%s\n  {\"name\": \"%s\", \"beams\": %d, \"obstacles\": %d, \"model\": \"%s\", "
-               "\"median_us\": %.2f, \"p99_us\": %.2f, \"fps\": %.0f, \"rounds\": %.2f, "
+               "\"median_us\": %.2f, \"p99_us\": %.2f, \"p99_unpreempted_us\": %.2f, "
+               "\"preempted\": %d, \"fps\": %.0f, \"rounds\": %.2f, "
                "\"ellipse_iterations\": %.1f, \"stages\": {",
                i ? "," : "", c[i].name, c[i].beams, c[i].obstacles,
                c[i].model == LC_MODEL_UNICYCLE ? "unicycle" : "point", c[i].median, c[i].p99,
-               c[i].fps, c[i].rounds, c[i].iterations);
+               isfinite(c[i].p99_kept) ? c[i].p99_kept : c[i].p99, c[i].preempted, c[i].fps,
+               c[i].rounds, c[i].iterations);
         for (int s = 0; s < LC_STAGE_COUNT; s++)
             printf("%s\"%s\": %.2f", s ? ", " : "", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
         printf("}}");
@@ -357,15 +379,16 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
     printf("lacuna bench - %s, %s build%s%s\n\n", mach, LC_BUILD_TYPE,
            strcmp(LC_BUILD_SANITIZE, "none") ? ", sanitizers " : "",
            strcmp(LC_BUILD_SANITIZE, "none") ? LC_BUILD_SANITIZE : "");
-    printf("%-22s %6s %5s %9s %9s %7s %6s  stages (median us)\n", "case", "beams", "obst",
-           "median us", "p99 us", "fps", "rounds");
+    printf("%-22s %6s %5s %9s %9s %9s %7s %6s  stages (median us)\n", "case", "beams", "obst",
+           "median us", "p99 us", "p99 kept", "fps", "rounds");
     for (int i = 0; i < n; i++) {
-        printf("%-22s %6d %5d %9.1f %9.1f %7.0f %6.2f ", c[i].name, c[i].beams, c[i].obstacles,
-               c[i].median, c[i].p99, c[i].fps, c[i].rounds);
+        printf("%-22s %6d %5d %9.1f %9.1f %9.1f %7.0f %6.2f ", c[i].name, c[i].beams,
+               c[i].obstacles, c[i].median, c[i].p99, c[i].p99_kept, c[i].fps, c[i].rounds);
         for (int s = 0; s < LC_STAGE_COUNT; s++)
             printf(" %s %.1f", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
         printf("\n");
     }
+    printf("(p99 kept: over the frames during which the OS did not switch this thread out)\n");
     if (isfinite(slope_b) || isfinite(slope_o))
         printf("\nlog-log slope of the median: over beams %.2f, over obstacles %.2f\n", slope_b,
                slope_o);
