@@ -191,10 +191,10 @@ static double window_half_side(const lc_session *s, const lc_frame *f)
 
 static double nearest_clearance(const lc_session *s, lc_vec2 c)
 {
-    double best = INFINITY;
+    double best2 = INFINITY; /* sqrt is monotone: the root of the least square */
     for (int i = 0; i < s->cloud.n; i++)
-        best = fmin(best, lc_dist(s->cloud.world[i], c));
-    return best - s->robot.radius;
+        best2 = lc_min(best2, lc_len2(lc_sub(s->cloud.world[i], c)));
+    return sqrt(best2) - s->robot.radius;
 }
 
 static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp,
