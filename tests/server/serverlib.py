@@ -417,7 +417,8 @@ def finish(name):
         if SLOW:
             check("ERROR SUMMARY" in text or srv.proc.returncode == -signal.SIGKILL,
                   "valgrind summary present (server exit %s)" % srv.proc.returncode)
-    print("%s figures: %s" % (name, json.dumps(FIGURES)), flush=True)
+    if FIGURES:
+        print("%s figures: %s" % (name, json.dumps(FIGURES)), flush=True)
     if FAILED:
         print("%d check(s) failed" % len(FAILED), flush=True)
         return 1
