@@ -274,8 +274,9 @@ static void admit(lc_hub *hub, lc_conn *c, const lc_peer *peer, double now)
     if (n >= o->max_per_address) {
         lc_log(LC_LOG_WARN, "websocket from %s refused: %d connections from it (max_per_address)",
                c->addr, n);
-        snprintf(text, sizeof text, "connection: %d connections from %s already (max_per_address %d)",
-                 n, c->addr, o->max_per_address);
+        snprintf(text, sizeof text,
+                 "connection: %d connections from %s already (max_per_address %d)", n, c->addr,
+                 o->max_per_address);
         error_close(hub, c, LC_WIRE_TOO_MANY_CONNECTIONS, now, text);
     }
 }

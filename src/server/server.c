@@ -165,7 +165,8 @@ static void copy_header(struct lws *wsi, char *buf, int n, enum lws_token_indexe
 static int filter(server *s, struct lws *wsi, struct pss *pss)
 {
     if (s->shutting || lc_hub_connections(s->hub) >= s->p->cfg->max_connections) {
-        const char *why = s->shutting ? "lacuna: shutting down" : "lacuna: too many connections (max_connections)";
+        const char *why = s->shutting ? "lacuna: shutting down"
+                                      : "lacuna: too many connections (max_connections)";
         lc_log(LC_LOG_WARN, "websocket handshake refused (%s)",
                s->shutting ? "shutting down" : "max_connections");
         lws_return_http_status(wsi, HTTP_STATUS_SERVICE_UNAVAILABLE, why);
@@ -243,11 +244,6 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
     return rc;
 }
 
-/*
- * protocols[0] serves the static files; libwebsockets also hands it the
- * websocket connections that asked for no subprotocol: refuse those rather
- * than leave them unanswered.
- */
 lc_web_path lc_web_path_check(const char *root, const char *uri, size_t len)
 {
     char path[PATH_MAX], real[PATH_MAX];
@@ -282,6 +278,11 @@ static int filter_http(server *s, struct lws *wsi, const char *uri, size_t len)
     return 1;
 }
 
+/*
+ * protocols[0] serves the static files; libwebsockets also hands it the
+ * websocket connections that asked for no subprotocol: refuse those rather
+ * than leave them unanswered.
+ */
 static int http_callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
                          size_t len)
 {

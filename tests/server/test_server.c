@@ -85,10 +85,11 @@ static void test_config_allow_origin(void **state)
     const char file2[] = "{\"allow_origin\": \" https://a.example , null \"}";
     assert_int_equal(lc_server_config_parse(&c, file2, strlen(file2), err, sizeof err), 0);
     assert_string_equal(c.allow_origin, "https://a.example,null");
-    assert_int_equal(lc_server_config_flag(&c, "--allow-origin", "http://c.example", err, sizeof err), 1);
+    assert_int_equal(
+        lc_server_config_flag(&c, "--allow-origin", "http://c.example", err, sizeof err), 1);
     assert_string_equal(c.allow_origin, "http://c.example");
-    assert_int_equal(lc_server_config_flag(&c, "--allow-origin", "*,https://[::1]:9", err, sizeof err),
-                     1);
+    assert_int_equal(
+        lc_server_config_flag(&c, "--allow-origin", "*,https://[::1]:9", err, sizeof err), 1);
     assert_string_equal(c.allow_origin, "http://c.example,*,https://[::1]:9");
     static const char *const bad[] = {
         "https://a.example/", "https://a.example/page", "ftp://a.example", "a.example",
@@ -639,7 +640,10 @@ static void test_hub_admission(void **state)
 }
 
 static char rec_dir[64];
-static void record_to(lc_hub_config *hc) { snprintf(hc->opts.record, sizeof hc->opts.record, "%s", rec_dir); }
+static void record_to(lc_hub_config *hc)
+{
+    snprintf(hc->opts.record, sizeof hc->opts.record, "%s", rec_dir);
+}
 
 /* A recording that cannot be written: one error recording_failed, setpoints go on. */
 static void test_hub_recording_fails(void **state)
@@ -779,8 +783,8 @@ static void test_web_path_check(void **state)
         fclose(f);
     }
     static const char *const links[][2] = {
-        {"web/leak.txt", "../secret.txt"}, {"web/etc", "/etc"}, {"web/sub/home.html", "../index.html"},
-        {"web/loop", "loop"},
+        {"web/leak.txt", "../secret.txt"}, {"web/etc", "/etc"},
+        {"web/sub/home.html", "../index.html"}, {"web/loop", "loop"},
     };
     for (size_t i = 0; i < 4; i++) {
         snprintf(path, sizeof path, "%s/%s", top, links[i][0]);
