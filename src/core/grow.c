@@ -196,12 +196,12 @@ static int last_real_edge(const lc_vec2 *v, int n, double tiny, double *skipped)
 {
     int last = -1;
     *skipped = 0;
-    for (int i = 0; i < n; i++) {
-        double l = lc_len(edge(v, n, i));
-        if (l > tiny)
+    for (int i = 0; i < n; i++) { /* squares: a root only for the skipped */
+        double l2 = lc_len2(edge(v, n, i));
+        if (l2 > tiny * tiny)
             last = i;
         else
-            *skipped += l;
+            *skipped += sqrt(l2);
     }
     return last;
 }
