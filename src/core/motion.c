@@ -65,6 +65,7 @@
 
 #define LC_MOTION_EPS 1e-9       /* m, rounding slack of the braking checks */
 #define LC_MOTION_TINY 1e-12     /* m or m/s below which a length or speed is 0 */
+#define LC_MOTION_SLIDE 1e-3     /* m, a line this near the robot is one it slides along */
 #define LC_SEARCH_COARSE 16      /* samples of the unicycle's v search */
 #define LC_SEARCH_BISECT 40      /* bisection steps of either search */
 #define LC_FALLBACK_W 8          /* w samples when no safe v exists */
@@ -303,6 +304,24 @@ static lc_vec2 point_fallback(const lc_robot *robot, const lc_motion_params *par
     return lc_lerp(v_m, v_c, lo);
 }
 
+/*
+ * v with its components into the lines the robot sits on taken out (twice
+ * round, for a corner): sliding along them. A velocity turning a little
+ * from one frame to the next (the acceleration limit) would otherwise head
+ * a hair into such a line and have no braking room at all.
+ */
+static lc_vec2 point_slide(const lc_region *region, lc_vec2 p, lc_vec2 v)
+{
+    for (int pass = 0; pass < 2; pass++)
+        for (int i = 0; i < region->nh; i++) {
+            const lc_halfspace *h = &region->h[i];
+            double into = lc_dot(h->a, v);
+            if (into > 0 && h->b - lc_dot(h->a, p) <= LC_MOTION_SLIDE)
+                v = lc_sub(v, lc_scale(h->a, into));
+        }
+    return v;
+}
+
 int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
                     const lc_region *region, lc_pose pose, lc_vec2 target_world,
                     const lc_setpoint *last, double dt, lc_setpoint *out)
@@ -331,7 +350,19 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
         limit = LC_LIMIT_ACCEL;
     }
     if (!point_safe(robot, params, region, p, v)) {
-        v = point_fallback(robot, params, region, p, v0, v, step);
+        /* alternate projections: along the lines it sits on, and within
+         * a_max dt of the last setpoint (both convex) */
+        lc_vec2 slid = v_des;
+        for (int k = 0; k < 8; k++) {
+            slid = point_slide(region, p, slid);
+            lc_vec2 ds = lc_sub(slid, v0);
+            double lds = lc_len(ds);
+            if (lds > step)
+                slid = lc_add(v0, lc_scale(ds, step / lds));
+        }
+        v = point_safe(robot, params, region, p, slid)
+                ? slid
+                : point_fallback(robot, params, region, p, v0, v, step);
         limit = LC_LIMIT_BRAKING;
     }
     /* Rounding only, now that v0 and v_des are within v_max. */

@@ -262,34 +262,60 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
  * promise "can stop inside the region" holds from step to step.
  */
 /*
- * The region the motion law brakes in: every line moved in by the standoff,
- * but not past the robot (a line it is nearer than that is moved up to it:
- * it may slide along, not come nearer). A robot that stopped or slid
- * exactly on the edge of a grown obstacle would flicker into too_close
- * with range noise; this way it stops the standoff away. Only the motion
- * sees it: the region reported is the full one. A unicycle gets it only
- * within PARK_REACH of where it aims: held lines made a unicycle that
- * skims a long wall at speed stop and start (plant_room: 291 too_close
- * frames with, 11 without), while parking is where it flickered.
- * NULL when out of memory.
+ * The region the motion law brakes in: the region, and for each grown
+ * obstacle within reach a line across the direction to its nearest point,
+ * the standoff short of it, or through the robot when the robot is nearer
+ * than that (it may slide along, not come nearer). A robot that stopped or
+ * slid exactly on the edge of a grown obstacle would flicker into
+ * too_close with range noise, and a corner the scanner had not yet seen
+ * would put it inside at once; this keeps it the standoff off. The
+ * region's own lines cannot do it: they are placed for area, tangent
+ * anywhere on an obstacle, and sliding along one can close in on it. Only
+ * the motion sees this region: the region reported is the full one.
+ * A unicycle cannot slide: held nearest-point lines left it stuck between
+ * pipes (plant_room). It gets the region's own lines moved in by the
+ * standoff (held at the robot when nearer), and only within PARK_REACH of
+ * where it aims: held lines made a unicycle that skims a long wall at speed
+ * stop and start. NULL when out of memory.
  */
 #define PARK_REACH 1.0 /* m */
 
 static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_vec2 aim, lc_region *out)
 {
     const lc_region *r = &s->region;
-    if (!(s->cfg.standoff > 0) ||
-        (s->robot.model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
+    double standoff = s->cfg.standoff;
+    if (!(standoff > 0) || (s->robot.model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
         return r;
-    if (LC_GROW(&s->alloc, s->motion_h, s->cap_motion_h, r->nh) < 0)
+    if (LC_GROW(&s->alloc, s->motion_h, s->cap_motion_h, r->nh + s->grown.np) < 0)
         return NULL;
-    for (int i = 0; i < r->nh; i++) {
-        double slack = r->h[i].b - lc_dot(r->h[i].a, c);
-        double in = lc_min(s->cfg.standoff, slack > 0 ? slack : 0.0);
-        s->motion_h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - in};
+    int n = r->nh;
+    if (s->robot.model == LC_MODEL_UNICYCLE) {
+        /* parking: the region's lines moved in, held at the robot */
+        for (int i = 0; i < n; i++) {
+            double slack = r->h[i].b - lc_dot(r->h[i].a, c);
+            s->motion_h[i] = (lc_halfspace){r->h[i].a,
+                                            r->h[i].b - lc_min(standoff, lc_max(slack, 0.0))};
+        }
+        *out = *r;
+        out->h = s->motion_h;
+        return out;
+    }
+    memcpy(s->motion_h, r->h, sizeof *r->h * (size_t)n);
+    /* farther than the robot can go before it stops, no line can bind */
+    double v = s->robot.v_max, reach = standoff + v * v / (2 * s->robot.a_max) + v;
+    for (int j = 0; j < s->grown.np; j++) {
+        int nv;
+        const lc_vec2 *pv = lc_polyset_at(&s->grown, j, &nv);
+        lc_vec2 q;
+        double d = lc_convex_distance(pv, nv, c, &q);
+        if (!(d > 1e-9) || d > reach)
+            continue; /* inside: too_close, decided elsewhere */
+        lc_vec2 a = lc_scale(lc_sub(q, c), 1.0 / d);
+        s->motion_h[n++] = (lc_halfspace){a, lc_dot(a, q) - lc_min(standoff, d)};
     }
     *out = *r;
     out->h = s->motion_h;
+    out->nh = n;
     return out;
 }
 
@@ -314,13 +340,15 @@ static lc_vec2 aim_point(const lc_session *s, lc_vec2 target, lc_vec2 waypoint)
  * hair into one (such lines tilt a little from frame to frame) would find
  * no braking room at all and freeze the robot there.
  */
+#define SLIDE_SLACK 1e-3 /* m: a line this near the robot is one it sits on */
+
 static lc_vec2 slide_aim(const lc_region *mr, lc_vec2 c, lc_vec2 aim)
 {
     for (int pass = 0; pass < 2; pass++)
         for (int i = 0; i < mr->nh; i++) {
             const lc_halfspace *h = &mr->h[i];
             double over = lc_dot(h->a, aim) - h->b;
-            if (h->b - lc_dot(h->a, c) <= 1e-9 && over > 0)
+            if (h->b - lc_dot(h->a, c) <= SLIDE_SLACK && over > 0)
                 aim = lc_sub(aim, lc_scale(h->a, over));
         }
     return aim;
