@@ -354,11 +354,11 @@ static void begin_shutdown(server *s)
                      (lws_usec_t)(s->p->cfg->shutdown_ms + 500) * 1000);
 }
 
+/* The flags are looked at before each wait, so a signal that came before
+ * the first one (at start-up) is not left waiting for traffic. */
 static void loop(server *s)
 {
     for (;;) {
-        if (lws_service(s->ctx, 0) < 0)
-            break;
         if (got_hup) {
             got_hup = 0;
             if (lc_log_reopen() < 0)
@@ -369,6 +369,8 @@ static void loop(server *s)
         if (got_stop && !s->shutting)
             begin_shutdown(s);
         if (s->shutting && (lc_hub_connections(s->hub) == 0 || s->give_up_now))
+            break;
+        if (lws_service(s->ctx, 0) < 0)
             break;
     }
 }
@@ -435,6 +437,15 @@ int lc_server_run(const lc_server_params *p)
     if (!s.hub)
         return -1;
     lws_set_log_level(LLL_ERR | LLL_WARN, lws_to_log);
+    /* Signals wait (blocked) until the handlers and the context exist: a
+     * SIGTERM during start-up then stops the server cleanly, not at once. */
+    sigset_t stops, before;
+    sigemptyset(&stops);
+    sigaddset(&stops, SIGINT);
+    sigaddset(&stops, SIGTERM);
+    sigaddset(&stops, SIGHUP);
+    sigprocmask(SIG_BLOCK, &stops, &before);
+    install_signals();
     struct lws_http_mount mount;
     s.ctx = create_context(&s, &mount);
     if (!s.ctx) {
@@ -445,11 +456,12 @@ int lc_server_run(const lc_server_params *p)
         else
             lc_log(LC_LOG_ERROR, "cannot listen on %s:%d", p->listen.host, p->listen.port);
         lc_hub_free(s.hub);
+        sigprocmask(SIG_SETMASK, &before, NULL);
         return -1;
     }
     signal_ctx = s.ctx;
-    install_signals();
     print_listening(&s);
+    sigprocmask(SIG_SETMASK, &before, NULL);
     loop(&s);
     signal_ctx = NULL;
     s.destroying = true;

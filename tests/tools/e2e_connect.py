@@ -211,12 +211,26 @@ def test_demo(tmp):
     check(left.returncode == 1, "no demo process left behind")
 
 
+def test_stop_at_startup(tmp):
+    """SIGTERM as soon as the server says it listens: exit 0, at once
+    (a signal before the first wait used to wait for traffic)."""
+    worst = 0.0
+    for _ in range(10):
+        srv = Server(tmp)
+        t = time.monotonic()
+        rc = srv.stop()
+        worst = max(worst, time.monotonic() - t)
+        if rc != 0:
+            break
+    check(rc == 0 and worst < 2.0, "SIGTERM right after start: exit %s, %.2f s at most" % (rc, worst))
+
+
 def main():
     with tempfile.TemporaryDirectory() as tmp:
         scen = os.path.join(tmp, "bay.jsonl")
         with open(scen, "w") as f:
             f.write(json.dumps(SCENARIO) + "\n")
-        for t in (test_patrol, test_token, test_errors, test_interrupt):
+        for t in (test_patrol, test_token, test_errors, test_interrupt, test_stop_at_startup):
             t(tmp, scen)
         test_demo(tmp)
     print("%d failed" % len(failures))
