@@ -3,18 +3,28 @@
  * JSON file (lc_server_config_parse, what --config FILE reads), then flags
  * on top (lc_server_config_flag, what the command line sets).
  *
+ * Then the Origin check of websocket upgrades (lc_origin_allowed), the one
+ * other reader of outside text here: the Origin and Host header values
+ * against the configured allow_origin list.
+ *
  * Input layout: the bytes up to the first NUL are the file; what follows is
- * split at NULs into flag, value, flag, value, ... (a flag without a value
- * is given NULL, as the command line does for a last flag).
+ * split at NULs into ORIGIN, HOST, then flag, value, flag, value, ... (a
+ * flag without a value is given NULL, as the command line does for a last
+ * flag).
  *
  * Properties checked on every input:
  * - parse and flag return what config.h promises (0/-1, 1/0/-1), every -1
  *   with a reason; nothing crashes, reads past the input or leaks;
  * - a configuration that was accepted prints (lc_server_config_print) as
- *   JSON that the parser accepts again and that prints the same.
+ *   JSON that the parser accepts again and that prints the same;
+ * - the Origin check lets in what has no Origin and everything when the
+ *   list holds "*", and does not depend on letter case (RFC 6454 origins
+ *   compare scheme and host case-insensitively).
  */
 #include "fuzz.h"
 
+#include <ctype.h>
+#include <stdbool.h>
 #include <string.h>
 
 #include "config.h"
@@ -44,6 +54,33 @@ static void check_print_round_trip(const lc_server_config *cfg)
                   t2);
     free(t1);
     free(t2);
+}
+
+static char *upper_copy(const char *s)
+{
+    size_t n = strlen(s);
+    char *u = malloc(n + 1);
+    LC_FUZZ_CHECK(u != NULL, "out of memory");
+    for (size_t i = 0; i <= n; i++)
+        u[i] = (char)toupper((unsigned char)s[i]);
+    return u;
+}
+
+static void check_origin(const lc_server_config *cfg, const char *origin, const char *host)
+{
+    bool any = false;
+    for (const char *p = cfg->allow_origin; *p; p++)
+        any |= *p == '*';
+    char *uo = upper_copy(origin), *uh = upper_copy(host);
+    for (int tls = 0; tls < 2; tls++) {
+        bool ok = lc_origin_allowed(cfg->allow_origin, origin, host, tls);
+        LC_FUZZ_CHECK(ok || (origin[0] && !any), "origin '%s' refused with allow '%s'", origin,
+                      cfg->allow_origin);
+        LC_FUZZ_CHECK(lc_origin_allowed(cfg->allow_origin, uo, uh, tls) == ok,
+                      "origin '%s' host '%s': the answer depends on case", origin, host);
+    }
+    free(uo);
+    free(uh);
 }
 
 /* The next NUL-terminated piece of [*p, end), or NULL at the end. */
@@ -79,6 +116,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         memcpy(args, nul + 1, rest);
         args[rest] = '\0';
         const char *p = args, *end = args + rest;
+        const char *origin = next_piece(&p, end), *host = next_piece(&p, end);
         const char *flag;
         while ((flag = next_piece(&p, end)) != NULL) {
             const char *value = next_piece(&p, end);
@@ -87,8 +125,9 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
             LC_FUZZ_CHECK(frc == 1 || frc == 0 || (frc == -1 && err[0]),
                           "flag '%s' returned %d, reason '%s'", flag, frc, err);
         }
-        free(args);
         check_print_round_trip(&cfg);
+        check_origin(&cfg, origin ? origin : "", host ? host : "");
+        free(args);
     }
     return 0;
 }
