@@ -211,7 +211,7 @@ def test_demo(tmp):
     check(left.returncode == 1, "no demo process left behind")
 
 
-def test_stop_at_startup(tmp):
+def test_stop_at_startup(tmp, _scen):
     """SIGTERM as soon as the server says it listens: exit 0, at once
     (a signal before the first wait used to wait for traffic)."""
     worst = 0.0
