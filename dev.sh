@@ -4,13 +4,14 @@
 # Each command does its own set-up on a fresh Debian 12 machine: installs the
 # Debian packages that are missing (as root, or through sudo), configures
 # and builds with meson, then runs. Build directories: build/ (normal),
-# build-san/ (ASan + UBSan).
+# build-san/ (ASan + UBSan), build-fuzz/ (clang, libFuzzer; tests/fuzz/run.sh).
 set -euo pipefail
 cd "$(dirname "$0")"
 
 RUNTIME_PKGS=(gcc pkg-config meson ninja-build libqhull-dev libcjson-dev libwebsockets-dev)
 TEST_PKGS=(libcmocka-dev libgeos-dev coinor-libipopt-dev python3 python3-websockets
-           python3-jsonschema libxml2-utils chromium openssl valgrind)
+           python3-jsonschema libxml2-utils chromium openssl valgrind
+           clang libclang-rt-14-dev)
 
 say() { printf '==> %s\n' "$*" >&2; }
 
@@ -72,7 +73,9 @@ cmd_test() {
         -Db_sanitize=address,undefined -Db_lundef=false
     ASAN_OPTIONS=detect_leaks=1:abort_on_error=1 \
         UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 suite build-san
-    say "all tests passed (normal and ASan+UBSan builds)"
+    say "fuzzing every decoder for ${LACUNA_FUZZ_SECONDS:-15} s each (libFuzzer, ASan+UBSan)"
+    tests/fuzz/run.sh
+    say "all tests passed (normal and ASan+UBSan builds, fuzzing)"
 }
 
 case "${1:-}" in
