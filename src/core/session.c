@@ -280,6 +280,25 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
  */
 #define PARK_REACH 1.0 /* m */
 
+/*
+ * Distance from c to the bounding box of v[0..n): a lower bound of the
+ * distance to the polygon for the price of a min/max pass. The exact
+ * distance to every grown obstacle was 71k of a 1081-beam bench frame's
+ * 600k instructions; most obstacles lie beyond the robot's reach.
+ */
+static double box_distance(const lc_vec2 *v, int n, lc_vec2 c)
+{
+    double x0 = v[0].x, x1 = v[0].x, y0 = v[0].y, y1 = v[0].y;
+    for (int i = 1; i < n; i++) {
+        x0 = lc_min(x0, v[i].x);
+        x1 = lc_max(x1, v[i].x);
+        y0 = lc_min(y0, v[i].y);
+        y1 = lc_max(y1, v[i].y);
+    }
+    double dx = lc_max(0.0, lc_max(x0 - c.x, c.x - x1)), dy = lc_max(0.0, lc_max(y0 - c.y, c.y - y1));
+    return sqrt(dx * dx + dy * dy);
+}
+
 static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_vec2 aim, lc_region *out)
 {
     const lc_region *r = &s->region;
@@ -306,6 +325,8 @@ static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_vec2 aim, lc_
     for (int j = 0; j < s->grown.np; j++) {
         int nv;
         const lc_vec2 *pv = lc_polyset_at(&s->grown, j, &nv);
+        if (box_distance(pv, nv, c) > reach)
+            continue; /* the exact distance is at least this */
         lc_vec2 q;
         double d = lc_convex_distance(pv, nv, c, &q);
         if (!(d > 1e-9) || d > reach)
