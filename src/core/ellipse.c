@@ -3,13 +3,19 @@
  * (Boyd and Vandenberghe, Convex Optimization, 8.4.2) by a primal-dual
  * interior-point Newton method with Mehrotra's predictor-corrector.
  *
+ * Cost (callgrind, the bench's random polygons, cold solves): 4 sides 10.5k
+ * instructions, 16 sides 25.3k, 32 sides 43.8k (59.4k at 16 sides before the
+ * passes were fused, paired and the clipper skipped); about 4-5 iterations.
+ *
  * How a solve runs:
  * 1. The halfspaces are normalised (unit normals).
  * 2. A start ellipse (T, p0) strictly inside is found: the caller's warm
  *    ellipse when it fits (touching allowed) and the normals surround the
- *    origin; otherwise the polygon is built by clipping a huge box about a
- *    point near it (this is where EMPTY and UNBOUNDED are decided) and its
- *    area centroid and area covariance give p0 and T.
+ *    origin; otherwise the polygon: the meets of neighbouring lines in angle
+ *    order when that chain is plainly well formed (fast_polygon), else by
+ *    clipping a huge box about a point near it (this is where EMPTY and
+ *    UNBOUNDED are decided); its area centroid and area covariance give p0
+ *    and T.
  * 3. The problem is solved in the frame p = p0 + T q, where the start ellipse
  *    is the unit disc and the polygon is "round": this keeps the 5x5 Newton
  *    systems well conditioned whatever the polygon's size (1e-4 m or 1e3 m),
@@ -686,7 +692,7 @@ typedef struct kkt {
  * (its baseline), GCC's generic vectors elsewhere. Sums keep one partial per
  * lane, added at the end: a different rounding from a sequential sum, but
  * the same on every run and machine (ISO C mode: no contraction into FMA).
- * Measured on the bench's 16-gons: the solve's instructions fall by a third.
+ * Measured on the bench's 16-gons: 35.9k -> 27.0k instructions per solve.
  */
 typedef double v2 __attribute__((vector_size(16)));
 typedef double v2u __attribute__((vector_size(16), aligned(8), may_alias));

@@ -330,8 +330,7 @@ static bool obstacle_line(const lc_ellipse *e, const double inv[3], const lc_vec
  * the origin itself when it lies inside. The nearest is a vertex or the foot
  * on an edge whose projection falls inside it, at squared distance
  * cross(a, e)^2 / |e|^2: candidates are compared as fractions, and only the
- * winner's point is computed (a division per edge was a fifth of the region
- * stage's own instructions).
+ * winner's point is computed, so no edge costs a division.
  */
 static lc_vec2 nearest_to_origin(const lc_vec2 *v, int n)
 {
