@@ -149,12 +149,14 @@ static void stop_server(child *c)
 
 /* ------------------------------------------------------ the client */
 
-/* An invented round room, 4 m across, with five shallow bays. */
+/* An invented round room, 4 m across, with five shallow bays; ranges in
+ * millimetres, as 2-D scanners report them (17 significant digits would
+ * make every number a slow one for the server's strtod). */
 static void room_scan(double *ranges, int beams, lc_frame *f)
 {
     double fov = 1.5 * LC_PI, step = fov / (beams > 1 ? beams - 1 : 1);
     for (int i = 0; i < beams; i++)
-        ranges[i] = 4.0 + 0.4 * sin(5.0 * (-0.5 * fov + i * step));
+        ranges[i] = round(1000.0 * (4.0 + 0.4 * sin(5.0 * (-0.5 * fov + i * step)))) / 1000.0;
     *f = (lc_frame){.kind = LC_FRAME_SCAN, .pose = {0, 0, 0}, .angle_start = -0.5 * fov,
                     .angle_step = step, .range_min = 0.05, .range_max = 10.0,
                     .ranges = ranges, .n_ranges = beams};
