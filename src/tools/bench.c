@@ -453,8 +453,13 @@ int lc_tool_bench(int argc, char **argv)
     }
     if (progress)
         fprintf(stderr, "\r%60s\r", "");
-    if (kept == 0 && !(o.only && strcmp(o.only, "ellipse") == 0))
-        return lc_cli_usage_error("bench", "no case named '%s'", o.only);
+    if (o.only && kept == 0 && strcmp(o.only, "ellipse") != 0) {
+        fprintf(stderr, "lacuna bench: no case named '%s'; the cases:", o.only);
+        for (int i = 0; i < n; i++)
+            fprintf(stderr, " %s", cases[i].name);
+        fprintf(stderr, " ellipse\n");
+        return LC_EXIT_USAGE;
+    }
     double xb[8], yb[8], xo[8], yo[8];
     int nb = 0, no = 0;
     for (int i = 0; i < kept; i++) {

@@ -97,9 +97,15 @@ int lc_replay_put_header(FILE *out, const lc_scenario_header *h)
 
 bool lc_replay_want_json(bool json_flag) { return json_flag || !isatty(STDOUT_FILENO); }
 
+/* Who warns about which file (one scenario is read per process). */
+typedef struct warn_ctx {
+    const char *cmd, *path;
+} warn_ctx;
+
 static void print_warning(void *data, int line, const char *message)
 {
-    fprintf(stderr, "lacuna: %s:%d: %s\n", (const char *)data, line, message);
+    const warn_ctx *w = data;
+    fprintf(stderr, "lacuna %s: %s:%d: %s\n", w->cmd, w->path, line, message);
 }
 
 int lc_replay_load(const char *cmd, const char *path, char **text, size_t *len,
@@ -109,8 +115,10 @@ int lc_replay_load(const char *cmd, const char *path, char **text, size_t *len,
     if (!*text)
         return lc_cli_usage_error(cmd, "cannot read %s: %s", path, strerror(errno));
     lc_scenario_reader_init(rd, *text, *len, NULL);
+    static warn_ctx who;
+    who = (warn_ctx){cmd, path};
     rd->warning = print_warning;
-    rd->warning_data = (void *)path;
+    rd->warning_data = &who;
     lc_scenario_header_init(h);
     lc_scenario_error err;
     if (lc_scenario_read_header(rd, h, &err) < 0) {
@@ -374,6 +382,11 @@ static void print_result(const replay *r)
 {
     char d[LC_WIRE_NUMBER_MAX];
     lc_wire_format_number(d, r->max_diff, -1);
+    if (r->frames == 0) /* nothing differs, but nothing was compared either */
+        fprintf(stderr, "lacuna replay: %s holds no scan or points frame\n", r->o->file);
+    else if (r->compared == 0)
+        fprintf(stderr, "lacuna replay: %s holds no recorded setpoint to compare with\n",
+                r->o->file);
     if (lc_replay_want_json(r->o->json)) {
         printf("{\"frames\":%ld,\"compared\":%ld,\"mismatches\":%ld,\"max_diff\":%s,"
                "\"tolerance\":%.17g,\"unpaired\":%ld}\n",
