@@ -47,6 +47,17 @@ static lc_frame scan_of(const lc_world *w, const lc_sensor *s, lc_pose pose, dou
                       .range_max = s->range_max, .ranges = ranges, .n_ranges = s->beams};
 }
 
+/* The robot follows sp exactly for dt (the simulator's kinematics). */
+static lc_pose follow(lc_pose pose, const lc_setpoint *sp, lc_model model, double dt)
+{
+    if (model == LC_MODEL_POINT) {
+        lc_vec2 d = lc_rotate(lc_v2(sp->vx * dt, sp->vy * dt), pose.yaw);
+        return (lc_pose){pose.x + d.x, pose.y + d.y, pose.yaw};
+    }
+    return fabs(sp->v) > 0 ? lc_motion_arc(pose, sp->w / sp->v, sp->v * dt)
+                           : (lc_pose){pose.x, pose.y, pose.yaw + sp->w * dt};
+}
+
 static void check_promises(const lc_robot *robot, const lc_frame *f, const lc_plan_result *r,
                            lc_vec2 goal, double dt)
 {
@@ -171,15 +182,7 @@ static void test_promises_on_shipped_scenarios(void **state)
                 }
                 checked++;
             }
-            if (h.robot.model == LC_MODEL_POINT) {
-                lc_vec2 dp = lc_rotate(lc_v2(r.setpoint.vx * dt, r.setpoint.vy * dt), pose.yaw);
-                pose.x += dp.x;
-                pose.y += dp.y;
-            } else {
-                pose = fabs(r.setpoint.v) > 0
-                           ? lc_motion_arc(pose, r.setpoint.w / r.setpoint.v, r.setpoint.v * dt)
-                           : (lc_pose){pose.x, pose.y, pose.yaw + r.setpoint.w * dt};
-            }
+            pose = follow(pose, &r.setpoint, h.robot.model, dt);
         }
         lc_session_free(ses);
         free(ranges);
@@ -355,16 +358,7 @@ static void test_standoff_at_blocked_waypoint(void **state)
             lc_plan_result r;
             assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
             too_close += r.state == LC_STATE_TOO_CLOSE;
-            if (robot.model == LC_MODEL_POINT) {
-                lc_vec2 d = lc_rotate(lc_v2(r.setpoint.vx * dt, r.setpoint.vy * dt), pose.yaw);
-                pose.x += d.x;
-                pose.y += d.y;
-            } else {
-                pose = fabs(r.setpoint.v) > 0 ? lc_motion_arc(pose, r.setpoint.w / r.setpoint.v,
-                                                              r.setpoint.v * dt)
-                                              : (lc_pose){pose.x, pose.y,
-                                                          pose.yaw + r.setpoint.w * dt};
-            }
+            pose = follow(pose, &r.setpoint, robot.model, dt);
             nearest = fmin(nearest, 2.0 - pose.x);
         }
         assert_int_equal(too_close, 0);
@@ -465,9 +459,7 @@ static void run_patrol(const lc_route *route, double seconds, patrol_run *out)
         out->end = f.stamp;
         if (r.state == LC_STATE_DONE)
             break;
-        lc_vec2 dp = lc_rotate(lc_v2(r.setpoint.vx * dt, r.setpoint.vy * dt), pose.yaw);
-        pose.x += dp.x;
-        pose.y += dp.y;
+        pose = follow(pose, &r.setpoint, LC_MODEL_POINT, dt);
     }
     lc_session_free(ses);
     free(ranges);
