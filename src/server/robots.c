@@ -49,7 +49,8 @@ struct lc_conn {
     double opened_at;
     /* reassembly of the message being received */
     char *rx;
-    size_t rx_len, rx_cap;
+    size_t rx_len;
+    int rx_cap; /* grown by lc_grow; messages are capped far below INT_MAX */
     size_t rx_count; /* bytes of the current message, kept or not */
     bool rx_binary;
     /* flood control: a token bucket of max_rate messages per second */
@@ -771,16 +772,8 @@ static int append(lc_conn *c, const void *data, size_t len)
 {
     if (c->rx_binary || len == 0)
         return 0; /* binary bodies are counted, not kept */
-    if (c->rx_len + len > c->rx_cap) {
-        size_t cap = c->rx_cap ? c->rx_cap : 4096;
-        while (cap < c->rx_len + len)
-            cap *= 2;
-        char *p = realloc(c->rx, cap);
-        if (!p)
-            return -1;
-        c->rx = p;
-        c->rx_cap = cap;
-    }
+    if (LC_GROW(NULL, c->rx, c->rx_cap, (int)(c->rx_len + len)) < 0)
+        return -1; /* max_message (at most 64 MiB) was checked before */
     memcpy(c->rx + c->rx_len, data, len);
     c->rx_len += len;
     return 0;

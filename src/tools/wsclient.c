@@ -9,6 +9,7 @@
 #include "wsclient.h"
 
 #include <libwebsockets.h>
+#include <limits.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -37,7 +38,8 @@ struct lc_wsclient {
     fifo out, in;
     node *current;  /* the message the last poll returned */
     char *rx;       /* reassembly of the message being received */
-    size_t rx_len, rx_cap;
+    size_t rx_len;
+    int rx_cap;
     bool established, closed, want_close;
     volatile sig_atomic_t interrupted;
     char reason[256];
@@ -119,16 +121,9 @@ static int received(lc_wsclient *c, struct lws *wsi, const void *in, size_t len)
 {
     if (lws_is_first_fragment(wsi))
         c->rx_len = 0;
-    if (c->rx_len + len + 1 > c->rx_cap) {
-        size_t cap = c->rx_cap ? c->rx_cap : 4096;
-        while (cap < c->rx_len + len + 1)
-            cap *= 2;
-        char *p = realloc(c->rx, cap);
-        if (!p)
-            return -1;
-        c->rx = p;
-        c->rx_cap = cap;
-    }
+    if (c->rx_len + len + 1 > INT_MAX ||
+        LC_GROW(NULL, c->rx, c->rx_cap, (int)(c->rx_len + len + 1)) < 0)
+        return -1;
     memcpy(c->rx + c->rx_len, in, len);
     c->rx_len += len;
     if (!lws_is_final_fragment(wsi))
