@@ -9,7 +9,6 @@
  */
 #include "testutil.h"
 
-#include <dirent.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -134,17 +133,11 @@ static void test_promises_random(void **state)
  */
 static void test_promises_on_shipped_scenarios(void **state)
 {
-    const char *dir = lc_test_source_path("scenarios");
-    DIR *d = opendir(dir);
-    assert_non_null(d);
-    struct dirent *e;
+    static char paths[64][LC_TEST_PATH_MAX];
+    int files = lc_test_jsonl_files("scenarios", paths, 64);
     int scenarios = 0, checked = 0;
-    while ((e = readdir(d))) {
-        size_t len = strlen(e->d_name);
-        if (len < 6 || strcmp(e->d_name + len - 6, ".jsonl") != 0)
-            continue;
-        char path[1024];
-        snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
+    for (int i = 0; i < files; i++) {
+        const char *path = paths[i];
         FILE *fp = fopen(path, "r");
         assert_non_null(fp);
         static char line[1 << 20];
@@ -189,7 +182,6 @@ static void test_promises_on_shipped_scenarios(void **state)
         lc_scenario_header_free(&h);
         scenarios++;
     }
-    closedir(d);
     assert_true(scenarios >= 6);
     print_message("%d frames of %d scenarios checked\n", checked, scenarios);
     assert_true(checked > 6 * 100);

@@ -1,8 +1,11 @@
 /* testutil.c - see testutil.h. */
 #include "testutil.h"
 
+#include <dirent.h>
+
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 void lc_test_assert_near(double a, double b, double tol, const char *sa, const char *sb,
                          const char *file, int line)
@@ -63,4 +66,25 @@ const char *lc_test_source_path(const char *rel)
     const char *root = getenv("LACUNA_SOURCE_ROOT");
     snprintf(buf, sizeof buf, "%s/%s", root ? root : ".", rel);
     return buf;
+}
+
+static int cmp_path(const void *a, const void *b) { return strcmp(a, b); }
+
+int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int max)
+{
+    char dir[LC_TEST_PATH_MAX];
+    snprintf(dir, sizeof dir, "%s", lc_test_source_path(rel));
+    DIR *d = opendir(dir);
+    if (!d)
+        return -1;
+    int n = 0;
+    struct dirent *e;
+    while ((e = readdir(d)) && n < max) {
+        size_t len = strlen(e->d_name);
+        if (len >= 6 && strcmp(e->d_name + len - 6, ".jsonl") == 0)
+            snprintf(paths[n++], LC_TEST_PATH_MAX, "%.700s/%.300s", dir, e->d_name);
+    }
+    closedir(d);
+    qsort(paths, (size_t)n, sizeof *paths, cmp_path);
+    return n;
 }

@@ -47,4 +47,9 @@ void lc_counting_alloc_init(lc_counting_alloc *c);
 /* Path of a file under the source tree (LACUNA_SOURCE_ROOT), static buffer. */
 const char *lc_test_source_path(const char *rel);
 
+/* The .jsonl files of the source tree's directory rel, sorted by name, into
+ * paths (at most max); the count, or -1 when the directory cannot be read. */
+#define LC_TEST_PATH_MAX 1024
+int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int max);
+
 #endif

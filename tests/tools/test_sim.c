@@ -13,7 +13,6 @@
  */
 #include "testutil.h"
 
-#include <dirent.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -126,17 +125,13 @@ static void read_header(const char *path, lc_scenario_header *h)
 
 static void test_every_shipped_scenario(void **state)
 {
-    const char *dir = lc_test_source_path("scenarios");
-    DIR *d = opendir(dir);
-    assert_non_null(d);
+    static char paths[64][LC_TEST_PATH_MAX];
+    int files = lc_test_jsonl_files("scenarios", paths, 64);
+    assert_true(files > 0);
     int n = 0, models[2] = {0, 0}, blocked = 0;
-    struct dirent *e;
-    while ((e = readdir(d))) {
-        size_t len = strlen(e->d_name);
-        if (len < 6 || strcmp(e->d_name + len - 6, ".jsonl") != 0)
-            continue;
-        char path[1024], args[1200];
-        snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
+    for (int f = 0; f < files; f++) {
+        const char *path = paths[f], *name = strrchr(path, '/') + 1;
+        char args[1200];
         lc_scenario_header h;
         read_header(path, &h);
         if (!h.has_world) {
@@ -144,19 +139,19 @@ static void test_every_shipped_scenario(void **state)
             continue;
         }
         assert_true(h.description[0] != '\0'); /* each says what it exercises */
-        snprintf(args, sizeof args, "sim '%s' --json", path);
+        snprintf(args, sizeof args, "sim '%.1023s' --json", path);
         int rc = lacuna(args);
         cJSON *j = result();
         print_message("%-24s %s done=%d reached=%.0f collisions=%.0f min_clearance=%.3f "
                       "path=%.1f time=%.1f\n",
-                      e->d_name, str(j, "outcome"), flag(j, "done"), num(j, "waypoints_reached"),
+                      name, str(j, "outcome"), flag(j, "done"), num(j, "waypoints_reached"),
                       num(j, "collisions"), num(j, "min_clearance"), num(j, "path_length"),
                       num(j, "sim_time"));
         /* CONTRACT.md: exit 0 only when the route was done without a
          * collision; "ok" says whether the header's expectation was met */
         int want = h.expect == LC_EXPECT_DONE ? 0 : 1;
         if (rc != want)
-            fail_msg("%s: exit %d, outcome %s", e->d_name, rc, str(j, "outcome"));
+            fail_msg("%s: exit %d, outcome %s", name, rc, str(j, "outcome"));
         assert_true(flag(j, "ok"));
         assert_int_equal((int)num(j, "collisions"), 0);
         assert_true(num(j, "min_clearance") > 0);
@@ -170,7 +165,6 @@ static void test_every_shipped_scenario(void **state)
         cJSON_Delete(j);
         lc_scenario_header_free(&h);
     }
-    closedir(d);
     assert_true(n >= 6);
     assert_true(models[0] > 0 && models[1] > 0);
     assert_true(blocked > 0);
@@ -217,39 +211,31 @@ static void corridor(const char *path, const char *model, const char *start, dou
  */
 static void test_untuned_scenes(void **state)
 {
-    const char *dir = lc_test_source_path("tests/tools/untuned");
-    DIR *d = opendir(dir);
-    assert_non_null(d);
-    int n = 0;
-    struct dirent *e;
-    while ((e = readdir(d))) {
-        size_t len = strlen(e->d_name);
-        if (len < 6 || strcmp(e->d_name + len - 6, ".jsonl") != 0)
-            continue;
-        char path[1024], args[1200];
-        snprintf(path, sizeof path, "%s/%s", dir, e->d_name);
+    static char paths[64][LC_TEST_PATH_MAX];
+    int n = lc_test_jsonl_files("tests/tools/untuned", paths, 64);
+    for (int f = 0; f < n; f++) {
+        const char *path = paths[f], *name = strrchr(path, '/') + 1;
+        char args[1200];
         for (int other = 0; other < 2; other++) {
             lc_scenario_header h;
             read_header(path, &h);
             const char *model = (h.robot.model == LC_MODEL_UNICYCLE) != other ? "unicycle" : "point";
-            snprintf(args, sizeof args, "sim '%s' --json --model %s", path, model);
+            snprintf(args, sizeof args, "sim '%.1023s' --json --model %s", path, model);
             lacuna(args);
             cJSON *j = result();
             print_message("%-18s %-8s %s reached=%.0f collisions=%.0f min_clearance=%.3f\n",
-                          e->d_name, model, str(j, "outcome"), num(j, "waypoints_reached"),
+                          name, model, str(j, "outcome"), num(j, "waypoints_reached"),
                           num(j, "collisions"), num(j, "min_clearance"));
             assert_int_equal((int)num(j, "collisions"), 0);
             if (!other)
                 assert_true(flag(j, "ok"));
             else if (strcmp(str(j, "outcome"), "done") != 0 &&
                      strcmp(str(j, "outcome"), "blocked") != 0)
-                fail_msg("%s as %s: outcome %s", e->d_name, model, str(j, "outcome"));
+                fail_msg("%s as %s: outcome %s", name, model, str(j, "outcome"));
             cJSON_Delete(j);
             lc_scenario_header_free(&h);
         }
-        n++;
     }
-    closedir(d);
     assert_true(n >= 4);
 }
 
