@@ -47,6 +47,11 @@ void lc_cli_catch_signals(void (*handler)(int), const int *sigs, int n);
 
 /* Subcommands (src/tools/<name>.c). */
 int lc_tool_plan(int argc, char **argv);
+/* The session of one `lacuna plan` request: its robot, goal and last
+ * velocity (the fuzz target runs the same). NULL when out of memory. */
+struct lc_wire_plan_request;
+struct lc_session;
+struct lc_session *lc_plan_session_new(const struct lc_wire_plan_request *req);
 extern const char lc_plan_usage[];
 
 /* `lacuna serve` (src/server/serve.c); its usage is built from the option table. */

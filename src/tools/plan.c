@@ -80,6 +80,16 @@ static int parse_args(int argc, char **argv, const char **path, int *pretty)
     return 0;
 }
 
+lc_session *lc_plan_session_new(const lc_wire_plan_request *req)
+{
+    lc_session *s = lc_session_new(&req->robot, NULL, NULL);
+    if (s) {
+        lc_session_set_goal(s, req->goal);
+        lc_session_set_velocity(s, &req->velocity);
+    }
+    return s;
+}
+
 int lc_tool_plan(int argc, char **argv)
 {
     const char *path;
@@ -101,15 +111,13 @@ int lc_tool_plan(int argc, char **argv)
         lc_wire_buffers_free(&buf);
         return lc_cli_usage_error("plan", "%s: %s", path, err.message);
     }
-    lc_session *s = lc_session_new(&req.robot, NULL, NULL);
+    lc_session *s = lc_plan_session_new(&req);
     lc_wire_text out;
     lc_wire_text_init(&out, NULL);
     lc_plan_result res;
     rc = LC_EXIT_FAIL;
     if (s) {
         lc_session_set_clock(s, lc_mono_clock());
-        lc_session_set_goal(s, req.goal);
-        lc_session_set_velocity(s, &req.velocity);
         if (lc_session_step(s, &req.frame, req.dt, &res) == 0) {
             if (pretty) {
                 print_pretty(stdout, &res, &req);

@@ -39,6 +39,7 @@
 
 #include <cjson/cJSON.h>
 
+#include "cli.h"
 #include "codec.h"
 #include "session.h"
 
@@ -404,10 +405,8 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         req.frame = dense;
     }
 
-    lc_session *s = lc_session_new(&req.robot, NULL, NULL);
-    LC_FUZZ_CHECK(s != NULL, "lc_session_new failed");
-    lc_session_set_goal(s, req.goal);
-    lc_session_set_velocity(s, &req.velocity);
+    lc_session *s = lc_plan_session_new(&req);
+    LC_FUZZ_CHECK(s != NULL, "lc_plan_session_new failed");
     lc_plan_result res;
     LC_FUZZ_CHECK(lc_session_step(s, &req.frame, req.dt, &res) == 0, "lc_session_step failed");
     check_setpoint(&req.robot, &req.velocity, req.dt, &res.setpoint);
