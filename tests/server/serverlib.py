@@ -283,8 +283,12 @@ class Streamer:
                                 timeout) and len(self.answered) == len(self.sent)
 
     async def close(self):
+        """A normal close; a peer that is gone already (killed) is not an error."""
         if self.ws:
-            await self.ws.close()
+            try:
+                await self.ws.close()
+            except (OSError, websockets.ConnectionClosed):
+                pass
         if getattr(self, "reader", None):
             self.reader.cancel()
 
