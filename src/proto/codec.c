@@ -5,7 +5,9 @@
  * Decoding reads the cJSON tree once, field by field in a fixed order, so
  * the first faulty field is the one reported. Keys are matched case
  * sensitively; unknown keys are ignored (forward compatible); a known key
- * given twice is an error (cJSON would silently use the first).
+ * given twice is an error (cJSON would silently use the first). Scan and
+ * points messages in plain form take a one-pass fast path first
+ * (codec_fast.c) that decodes exactly as this path would or declines.
  *
  * Encoding writes straight into an lc_wire_text: the output grows to a
  * high-water mark and is reused, and the number format is ours (exact
@@ -13,6 +15,7 @@
  * for anything non-finite).
  */
 #include "codec.h"
+#include "codec_fast.h"
 
 #include <float.h>
 #include <inttypes.h>
@@ -1108,6 +1111,18 @@ static int decode_body(const cJSON *root, lc_msg_type type, const lc_wire_limits
 
 int lc_wire_decode(const char *text, size_t len, const lc_wire_limits *lim,
                    lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err)
+{
+    lc_wire_limits storage;
+    lim = limits_or_default(lim, &storage);
+    if (len <= lim->max_message && lc_wire_decode_frame_fast(text, len, lim, buf, out)) {
+        error_clear(err);
+        return 0;
+    }
+    return lc_wire_decode_slow(text, len, lim, buf, out, err);
+}
+
+int lc_wire_decode_slow(const char *text, size_t len, const lc_wire_limits *lim,
+                        lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err)
 {
     lc_wire_limits storage;
     lim = limits_or_default(lim, &storage);

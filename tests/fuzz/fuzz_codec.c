@@ -10,13 +10,17 @@
  *   the same type and, encoded once more, the same text (decode and encode
  *   agree on every field, numbers round-trip bit for bit);
  * - the same input decoded again with tight limits into the same (now warm)
- *   buffers behaves like any input (the limit paths and buffer reuse).
+ *   buffers behaves like any input (the limit paths and buffer reuse);
+ * - differential: whatever the fast path for scan and points messages
+ *   (codec_fast.c) accepts, under either limits, the cJSON path alone
+ *   decodes to the same frame, bit for bit.
  */
 #include "fuzz.h"
 
 #include <string.h>
 
 #include "codec.h"
+#include "codec_fast.h"
 
 /* The encoder of a decoded message; 1 when the type has none (view, scenario). */
 static int encode_msg(lc_wire_text *t, const lc_wire_msg *m)
@@ -81,6 +85,44 @@ static void check_round_trip(const lc_wire_msg *m, lc_wire_buffers *buf)
     lc_wire_text_free(&t2);
 }
 
+static bool same_doubles(const double *a, const double *b, int n)
+{
+    return n == 0 || memcmp(a, b, (size_t)n * sizeof *a) == 0;
+}
+
+/* The fast path's frame against the cJSON path's, field by field. */
+static void check_fast_path(const char *text, size_t size, const lc_wire_limits *lim)
+{
+    lc_wire_buffers bf, bs;
+    lc_wire_buffers_init(&bf, NULL);
+    lc_wire_buffers_init(&bs, NULL);
+    lc_wire_msg mf, ms;
+    lc_wire_error err;
+    if (lc_wire_decode_frame_fast(text, size, lim, &bf, &mf)) {
+        int rc = lc_wire_decode_slow(text, size, lim, &bs, &ms, &err);
+        LC_FUZZ_CHECK(rc == 0, "fast path accepted what the cJSON path refuses: %s: %s",
+                      lc_wire_code_name(err.code), err.message);
+        const lc_frame *a = &mf.u.frame, *b = &ms.u.frame;
+        double ha[] = {a->stamp, a->pose.x, a->pose.y, a->pose.yaw, a->mount.x, a->mount.y,
+                       a->mount.yaw, a->angle_start, a->angle_step, a->range_min, a->range_max};
+        double hb[] = {b->stamp, b->pose.x, b->pose.y, b->pose.yaw, b->mount.x, b->mount.y,
+                       b->mount.yaw, b->angle_start, b->angle_step, b->range_min, b->range_max};
+        LC_FUZZ_CHECK(mf.type == ms.type && a->kind == b->kind && a->seq == b->seq &&
+                          same_doubles(ha, hb, 11),
+                      "fast path header differs");
+        LC_FUZZ_CHECK(a->n_ranges == b->n_ranges && a->n_points == b->n_points &&
+                          (a->z == NULL) == (b->z == NULL),
+                      "fast path counts differ");
+        LC_FUZZ_CHECK(!a->ranges || same_doubles(a->ranges, b->ranges, a->n_ranges),
+                      "fast path ranges differ");
+        LC_FUZZ_CHECK(!a->xy || same_doubles(a->xy, b->xy, 2 * a->n_points),
+                      "fast path xy differ");
+        LC_FUZZ_CHECK(!a->z || same_doubles(a->z, b->z, a->n_points), "fast path z differ");
+    }
+    lc_wire_buffers_free(&bf);
+    lc_wire_buffers_free(&bs);
+}
+
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
     const char *text = (const char *)data;
@@ -112,6 +154,11 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
                       "%d points passed a limit of 8", msg.u.frame.n_points);
     } else
         check_error(&err);
+
+    lc_wire_limits dflt;
+    lc_wire_limits_default(&dflt);
+    check_fast_path(text, size, &dflt);
+    check_fast_path(text, size, &tight);
 
     lc_wire_buffers_free(&buf);
     return 0;
