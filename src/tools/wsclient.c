@@ -10,6 +10,8 @@
 
 #include <libwebsockets.h>
 #include <limits.h>
+#include <math.h>
+#include <poll.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -213,23 +215,35 @@ static void quiet_log(int level, const char *line)
 /* ---------------------------------------------------------------- API */
 
 /*
- * One turn of the loop, woken at deadline_us at the latest. lws runs ripe
- * timers before it computes the poll timeout, so a wake timer that is due
- * already would fire there and leave the poll to wait for the next packet:
- * with under a millisecond left (poll's resolution) the turn does not wait
- * at all (a negative timeout makes lws poll with 0).
+ * Waits up to us microseconds for the socket to have something to read,
+ * with ppoll's microsecond resolution; returns at once when lws has work of
+ * its own (a message to write, buffered input: "forced service").
+ */
+static void wait_readable(lc_wsclient *c, double us)
+{
+    int fd = c->wsi ? (int)lws_get_socket_fd(c->wsi) : -1;
+    if (fd < 0 || c->out.head || lws_service_adjust_timeout(c->ctx, 1, 0) == 0)
+        return;
+    struct pollfd p = {.fd = fd, .events = POLLIN};
+    struct timespec ts = {(time_t)(us / 1e6), (long)fmod(us, 1e6) * 1000};
+    (void)ppoll(&p, 1, &ts, NULL);
+}
+
+/*
+ * One turn of the loop, woken at deadline_us at the latest. lws_service's
+ * own wait has millisecond resolution (and lws runs ripe timers before it
+ * computes it, so a wake timer due already would leave poll waiting for the
+ * next packet): with under a millisecond left the turn services what is
+ * ready without waiting, then waits on the socket itself to the microsecond.
+ * Not a busy loop: the peer may share this machine's cores.
  */
 static void service(lc_wsclient *c, double deadline_us)
 {
     double us = deadline_us - lc_mono_us();
     if (us < 1000) {
         lws_service(c->ctx, -1);
-        /* not a busy loop: the peer may share this machine's cores; 20 us
-         * bounds how late an arrival is seen (and timed) */
-        if (!c->in.head && us > 0) {
-            struct timespec ts = {0, (long)(us < 20 ? us : 20) * 1000};
-            nanosleep(&ts, NULL);
-        }
+        if (!c->in.head && us > 0)
+            wait_readable(c, us);
         return;
     }
     lws_sul_schedule(c->ctx, 0, &c->wake, on_wake, (lws_usec_t)us);
