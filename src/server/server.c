@@ -386,6 +386,10 @@ static struct lws_context *create_context(server *s, struct lws_http_mount *moun
     info.options = LWS_SERVER_OPTION_DISABLE_IPV6; /* else the iface binds everywhere */
     info.user = s;
     info.fd_limit_per_thread = (unsigned int)(2 * p->cfg->max_connections + 64);
+    /* lws reads at most this much per socket read (default 4096): a 1081-beam
+     * scan (about 6.5 kB) then takes two polls and two reads; one of each at
+     * 64 KiB (one buffer per service thread, not per connection). */
+    info.pt_serv_buf_size = 65536;
     if (p->tls_cert) {
         info.options |= LWS_SERVER_OPTION_DO_SSL_GLOBAL_INIT;
         info.ssl_cert_filepath = p->tls_cert;
