@@ -41,10 +41,13 @@ const char lc_bench_usage[] =
     "               'ellipse' for the solver comparison alone\n"
     "  --quick      a tiny run (for the test suite): two cases, 20 frames\n"
     "\n"
-    "lacuna bench --roundtrip [--rate HZ] [--seconds S] [--beams N]\n"
+    "lacuna bench --roundtrip [--rate HZ] [--seconds S] [--beams N] [--runs N]\n"
     "             [--connect ws://HOST:PORT/ [--token-file FILE]] [--json]\n"
     "  send to setpoint over the websocket protocol, frames sent on a fixed\n"
-    "  schedule (default 1000 Hz, 5 s, 1081-beam scans): p50, p99 and max.\n"
+    "  schedule (default 1000 Hz, 5 s, 1081-beam scans): p50, p99 and max, and\n"
+    "  the client's own wake lag against its schedule (the machine's share: no\n"
+    "  round trip on this machine beats it). --runs N (1 to 20) repeats it on a\n"
+    "  new connection each time and prints every run and the medians.\n"
     "  Without --connect it starts its own `lacuna serve` on loopback.\n";
 
 #define BENCH_FRAME_SETS 8 /* distinct noisy frames cycled through per case */

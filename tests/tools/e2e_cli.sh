@@ -113,17 +113,23 @@ check bench-bad 2 "$exe" bench --frames 0
 
 # The websocket round trip (its own lacuna serve on loopback): every frame
 # answered, the figures present; no timing assertion.
-check bench-roundtrip 0 "$exe" bench --roundtrip --seconds 0.5 --rate 1000 --json
+check bench-roundtrip 0 "$exe" bench --roundtrip --seconds 0.5 --rate 1000 --runs 2 --json
 python3 - "$tmp/out" <<'PY' && pass=$((pass + 1)) || { fail=$((fail + 1)); echo "FAIL bench-roundtrip: JSON"; cat "$tmp/out"; }
 import json, sys
 r = json.load(open(sys.argv[1]))["roundtrip"]
-assert r["frames"] == 500 and r["answered"] == 500, r
+assert r["frames"] == 1000 and r["answered"] == 1000, r
 for k in ("p50_us", "p99_us", "max_us", "achieved_hz"):
     assert r[k] > 0, k
-assert r["p50_us"] <= r["p99_us"] <= r["max_us"], r
+assert r["p50_us"] <= r["p99_us"], r
+assert 0 <= r["wake_lag_p50_us"] <= r["wake_lag_p99_us"] <= r["wake_lag_max_us"], r
+assert len(r["runs"]) == 2, r
+for run in r["runs"]:
+    assert 0 < run["p50_us"] <= run["p99_us"] <= run["max_us"], run
 PY
 check bench-roundtrip-bad 2 "$exe" bench --roundtrip --rate 0
 expect_in bench-roundtrip-bad "$tmp/err" "rate"
+check bench-roundtrip-runs 2 "$exe" bench --roundtrip --runs 21
+expect_in bench-roundtrip-runs "$tmp/err" "runs"
 
 echo "$pass passed, $fail failed"
 [ "$fail" -eq 0 ]
