@@ -7,6 +7,11 @@
  * warms its session up first (buffers at their high-water mark), then times
  * every frame with the monotonic clock through the same lc_session_step the
  * server calls. Nothing here asserts a time: the figures are printed.
+ *
+ * The codec section times what the server does to a scan message before the
+ * plan: decoding one 1081-beam scan, through lc_wire_decode (its fast path)
+ * with millimetre ranges as scanners report them and with 17-digit ranges,
+ * and through the cJSON path alone.
  */
 #include <stdio.h>
 #include <stdlib.h>
@@ -17,6 +22,8 @@
 
 #include "cli.h"
 #include "clock_mono.h"
+#include "codec.h"
+#include "codec_fast.h"
 #include "ellipse.h"
 #include "lc_config.h"
 #include "ref_mvie.h"
@@ -38,7 +45,8 @@ const char lc_bench_usage[] =
     "  --frames N   timed frames per case (default 400); with --case, a fixed\n"
     "               amount of work for instruction counts under callgrind\n"
     "  --case NAME  run only the case of that name (see the list it prints), or\n"
-    "               'ellipse' for the solver comparison alone\n"
+    "               'ellipse' for the solver comparison alone, 'codec' for the\n"
+    "               decoding of one 1081-beam scan message alone\n"
     "  --quick      a tiny run (for the test suite): two cases, 20 frames\n"
     "\n"
     "lacuna bench --roundtrip [--rate HZ] [--seconds S] [--beams N] [--runs N]\n"
@@ -260,6 +268,72 @@ static void run_ellipse(ellipse_cmp *e, int sides, int polygons)
     free(tr);
 }
 
+typedef struct codec_cmp {
+    int beams;
+    size_t bytes_mm, bytes_full; /* message sizes */
+    double fast_mm_us, fast_full_us, cjson_mm_us;
+} codec_cmp;
+
+/* Median time of one decode of text (reps times after a warm-up). */
+static double time_decode(const char *text, bool slow, int reps, lc_wire_buffers *b)
+{
+    double *t = malloc(sizeof *t * (size_t)reps);
+    size_t len = strlen(text);
+    lc_wire_msg m;
+    lc_wire_error err;
+    for (int i = -10; i < reps; i++) {
+        double t0 = lc_mono_us();
+        int rc = slow ? lc_wire_decode_slow(text, len, NULL, b, &m, &err)
+                      : lc_wire_decode(text, len, NULL, b, &m, &err);
+        double dt = lc_mono_us() - t0;
+        if (rc != 0) {
+            free(t);
+            return NAN;
+        }
+        if (i >= 0)
+            t[i] = dt;
+    }
+    double med = quantile(t, reps, 0.5);
+    free(t);
+    return med;
+}
+
+/* A scan of an invented room with ranges written two ways: rounded to the
+ * millimetre (the encoder then prints at most 4 decimals) and in full. */
+static void run_codec(codec_cmp *c, int beams, int reps)
+{
+    double *full = malloc(sizeof *full * (size_t)beams), *mm = malloc(sizeof *mm * (size_t)beams);
+    double step = 1.5 * LC_PI / (beams - 1);
+    for (int i = 0; i < beams; i++) {
+        double a = -0.75 * LC_PI + i * step;
+        full[i] = 4.0 + 0.4 * sin(5.0 * a) + 0.013 * sin(37.0 * i);
+        mm[i] = round(full[i] * 1000.0) / 1000.0;
+    }
+    lc_frame f = {.kind = LC_FRAME_SCAN, .seq = 1, .stamp = 12.5, .angle_start = -0.75 * LC_PI,
+                  .angle_step = step, .range_min = 0.05, .range_max = 30.0,
+                  .n_ranges = beams};
+    lc_wire_text t;
+    lc_wire_text_init(&t, NULL);
+    lc_wire_buffers b;
+    lc_wire_buffers_init(&b, NULL);
+    *c = (codec_cmp){.beams = beams, .fast_mm_us = NAN, .fast_full_us = NAN, .cjson_mm_us = NAN};
+    f.ranges = mm;
+    if (lc_wire_encode_frame(&t, &f) == 0) {
+        c->bytes_mm = (size_t)t.len;
+        c->fast_mm_us = time_decode(t.s, false, reps, &b);
+        c->cjson_mm_us = time_decode(t.s, true, reps, &b);
+    }
+    f.ranges = full;
+    if (lc_wire_encode_frame(&t, &f) == 0) {
+        c->bytes_full = (size_t)t.len;
+        c->fast_full_us = time_decode(t.s, false, reps, &b);
+    }
+    lc_wire_buffers_free(&b);
+    lc_wire_text_free(&t);
+    free(full);
+    free(mm);
+}
+
 /* Least-squares slope of log(y) over log(x). */
 static double loglog_slope(const double *x, const double *y, int n)
 {
@@ -328,7 +402,7 @@ static void print_num(double x)
 }
 
 static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne, double slope_b,
-                       double slope_o, const char *mach)
+                       double slope_o, const codec_cmp *cd, const char *mach)
 {
     printf("{\"machine\": \"%s\", \"build\": \"%s\", \"sanitize\": \"%s\",\n \"cases\": [", mach,
            LC_BUILD_TYPE, LC_BUILD_SANITIZE);
@@ -373,11 +447,22 @@ static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne,
         }
         printf("]");
     }
-    printf("}}\n");
+    printf("}");
+    if (cd) {
+        printf(",\n \"codec\": {\"beams\": %d, \"bytes_mm\": %zu, \"bytes_full\": %zu, "
+               "\"decode_mm_us\": ", cd->beams, cd->bytes_mm, cd->bytes_full);
+        print_num(cd->fast_mm_us);
+        printf(", \"decode_full_us\": ");
+        print_num(cd->fast_full_us);
+        printf(", \"decode_mm_cjson_us\": ");
+        print_num(cd->cjson_mm_us);
+        printf("}");
+    }
+    printf("}\n");
 }
 
 static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne, double slope_b,
-                       double slope_o, const char *mach)
+                       double slope_o, const codec_cmp *cd, const char *mach)
 {
     printf("lacuna bench - %s, %s build%s%s\n\n", mach, LC_BUILD_TYPE,
            strcmp(LC_BUILD_SANITIZE, "none") ? ", sanitizers " : "",
@@ -406,6 +491,11 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
                    e[i].reference_us, e[i].ratio, e[i].max_rel_gap);
         printf("\n");
     }
+    if (cd)
+        printf("\ndecoding one %d-beam scan message (median): %.1f us with millimetre ranges "
+               "(%zu bytes), %.1f us with 17-digit ranges (%zu bytes); the cJSON path alone "
+               "%.1f us on the first\n", cd->beams, cd->fast_mm_us, cd->bytes_mm,
+               cd->fast_full_us, cd->bytes_full, cd->cjson_mm_us);
 }
 
 static int parse(int argc, char **argv, bench_opts *o)
@@ -456,11 +546,11 @@ int lc_tool_bench(int argc, char **argv)
     }
     if (progress)
         fprintf(stderr, "\r%60s\r", "");
-    if (o.only && kept == 0 && strcmp(o.only, "ellipse") != 0) {
+    if (o.only && kept == 0 && strcmp(o.only, "ellipse") != 0 && strcmp(o.only, "codec") != 0) {
         fprintf(stderr, "lacuna bench: no case named '%s'; the cases:", o.only);
         for (int i = 0; i < n; i++)
             fprintf(stderr, " %s", cases[i].name);
-        fprintf(stderr, " ellipse\n");
+        fprintf(stderr, " ellipse codec\n");
         return LC_EXIT_USAGE;
     }
     double xb[8], yb[8], xo[8], yo[8];
@@ -482,11 +572,15 @@ int lc_tool_bench(int argc, char **argv)
     int ne = o.only && !ellipse_only ? 0 : (o.quick ? 1 : 4);
     for (int i = 0; i < ne; i++)
         run_ellipse(&e[i], o.quick ? 8 : sides[i], o.quick ? 10 : 200);
+    codec_cmp cd;
+    bool codec = !o.only || strcmp(o.only, "codec") == 0;
+    if (codec)
+        run_codec(&cd, 1081, o.quick ? 20 : 400);
     char mach[200];
     machine(mach, sizeof mach);
     if (o.json)
-        print_json(cases, kept, e, ne, slope_b, slope_o, mach);
+        print_json(cases, kept, e, ne, slope_b, slope_o, codec ? &cd : NULL, mach);
     else
-        print_text(cases, kept, e, ne, slope_b, slope_o, mach);
+        print_text(cases, kept, e, ne, slope_b, slope_o, codec ? &cd : NULL, mach);
     return fflush(stdout) == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
 }

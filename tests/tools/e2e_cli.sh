@@ -108,6 +108,10 @@ for k in ("lacuna_us", "reference_us", "reference", "max_rel_gap"):
 if e["reference"] != "none":
     assert e["reference_us"] is not None and e["max_rel_gap"] is not None, "comparison did not run"
     assert e["max_rel_gap"] <= 1e-6, e["max_rel_gap"]
+c = d["codec"]
+assert c["beams"] == 1081 and 0 < c["bytes_mm"] < c["bytes_full"], c
+for k in ("decode_mm_us", "decode_full_us", "decode_mm_cjson_us"):
+    assert c[k] is not None and c[k] > 0, k
 PY
 check bench-bad 2 "$exe" bench --frames 0
 
