@@ -467,22 +467,27 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
     printf("lacuna bench - %s, %s build%s%s\n\n", mach, LC_BUILD_TYPE,
            strcmp(LC_BUILD_SANITIZE, "none") ? ", sanitizers " : "",
            strcmp(LC_BUILD_SANITIZE, "none") ? LC_BUILD_SANITIZE : "");
-    printf("%-22s %6s %5s %9s %9s %9s %7s %6s  stages (median us)\n", "case", "beams", "obst",
-           "median us", "p99 us", "p99 kept", "fps", "rounds");
-    for (int i = 0; i < n; i++) {
-        printf("%-22s %6d %5d %9.1f %9.1f %9.1f %7.0f %6.2f ", c[i].name, c[i].beams,
-               c[i].obstacles, c[i].median, c[i].p99, c[i].p99_kept, c[i].fps, c[i].rounds);
-        for (int s = 0; s < LC_STAGE_COUNT; s++)
-            printf(" %s %.1f", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
-        printf("\n");
+    if (n > 0) {
+        printf("%-22s %6s %5s %9s %9s %9s %7s %6s  stages (median us)\n", "case", "beams",
+               "obst", "median us", "p99 us", "p99 kept", "fps", "rounds");
+        for (int i = 0; i < n; i++) {
+            printf("%-22s %6d %5d %9.1f %9.1f %9.1f %7.0f %6.2f ", c[i].name, c[i].beams,
+                   c[i].obstacles, c[i].median, c[i].p99, c[i].p99_kept, c[i].fps, c[i].rounds);
+            for (int s = 0; s < LC_STAGE_COUNT; s++)
+                printf(" %s %.1f", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
+            printf("\n");
+        }
+        printf("(p99 kept: over the frames during which the OS did not switch this thread out)\n");
     }
-    printf("(p99 kept: over the frames during which the OS did not switch this thread out)\n");
     if (isfinite(slope_b) || isfinite(slope_o))
         printf("\nlog-log slope of the median: over beams %.2f, over obstacles %.2f\n", slope_b,
                slope_o);
-    printf("\nellipse solver (median per solve, cold start) vs %s:\n", lc_ref_mvie_name());
-    if (!lc_ref_mvie_available())
-        printf("  the reference solver is absent from this build (Ipopt not found at build time)\n");
+    if (ne > 0) {
+        printf("\nellipse solver (median per solve, cold start) vs %s:\n", lc_ref_mvie_name());
+        if (!lc_ref_mvie_available())
+            printf("  the reference solver is absent from this build (Ipopt not found at build "
+                   "time)\n");
+    }
     for (int i = 0; i < ne; i++) {
         printf("  %2d sides: lacuna %.2f us (%.1f iterations)", e[i].sides, e[i].lacuna_us,
                e[i].lacuna_iters);
@@ -492,10 +497,11 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
         printf("\n");
     }
     if (cd)
-        printf("\ndecoding one %d-beam scan message (median): %.1f us with millimetre ranges "
-               "(%zu bytes), %.1f us with 17-digit ranges (%zu bytes); the cJSON path alone "
-               "%.1f us on the first\n", cd->beams, cd->fast_mm_us, cd->bytes_mm,
-               cd->fast_full_us, cd->bytes_full, cd->cjson_mm_us);
+        printf("\ndecoding one %d-beam scan message (median per decode):\n"
+               "  millimetre ranges (%zu bytes): %.1f us; the cJSON path alone %.1f us\n"
+               "  17-digit ranges (%zu bytes):   %.1f us\n",
+               cd->beams, cd->bytes_mm, cd->fast_mm_us, cd->cjson_mm_us, cd->bytes_full,
+               cd->fast_full_us);
 }
 
 static int parse(int argc, char **argv, bench_opts *o)
