@@ -11,8 +11,10 @@
  * next decode with the same buffers; the buffers grow through lc_alloc to a
  * high-water mark and are reused, so a warm decoder allocates nothing for
  * them (cJSON allocates its own tree per message and frees it before the
- * call returns). Encoders write into a caller-owned lc_wire_text, also grown
- * through lc_alloc and reused.
+ * call returns; scan and points messages in plain form skip cJSON, see
+ * codec_fast.h, and then allocate nothing once the buffers are warm).
+ * Encoders write into a caller-owned lc_wire_text, also grown through
+ * lc_alloc and reused.
  *
  * Units SI, angles in radians (CONTRACT.md). Numbers: frames, robot, route,
  * setpoints, stamps and the plan result are printed so that they parse back
