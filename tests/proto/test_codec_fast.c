@@ -12,6 +12,8 @@
  *   exactly as the cJSON path does (result, code, wording).
  * - Seeded byte mutations of valid frames: whatever the fast path accepts
  *   the cJSON path decodes to the same frame.
+ * - A warm decoder allocates nothing for a plain scan (cJSON's allocations
+ *   counted through its hooks; the cJSON path's are seen, so the count works).
  */
 #include "testutil.h"
 
@@ -20,6 +22,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+
+#include <cjson/cJSON.h>
 
 #include "codec.h"
 #include "codec_fast.h"
@@ -427,6 +431,54 @@ static void test_mutations_agree(void **state)
     free(t.s);
 }
 
+/* ------------------------------------------------- no allocation */
+
+static long cjson_allocs;
+
+static void *counting_malloc(size_t n)
+{
+    cjson_allocs++;
+    return malloc(n);
+}
+
+static void test_warm_allocates_nothing(void **state)
+{
+    (void)state;
+    lc_counting_alloc ca;
+    lc_counting_alloc_init(&ca);
+    lc_wire_buffers buf;
+    lc_wire_buffers_init(&buf, &ca.alloc);
+    cJSON_Hooks hooks = {counting_malloc, free};
+    cJSON_InitHooks(&hooks);
+    lc_rng r;
+    lc_rng_seed(&r, 5);
+    text t = {malloc(TEXT_MAX), 0};
+    t.len = 0;
+    put(&t, "{\"type\":\"scan\",\"seq\":1,\"stamp\":2.5,\"pose\":[0,0,0],\"angle_start\":-2,"
+            "\"angle_step\":0.004,\"range_min\":0.05,\"range_max\":30,\"ranges\":");
+    number_list(&t, &r, 1081, 0.1, 20, true);
+    put(&t, "}");
+    lc_wire_msg m;
+    lc_wire_error err;
+    assert_int_equal(lc_wire_decode(t.s, t.len, NULL, &buf, &m, &err), 0);
+    long warm = ca.calls;
+    cjson_allocs = 0;
+    for (int i = 0; i < 5; i++)
+        assert_int_equal(lc_wire_decode(t.s, t.len, NULL, &buf, &m, &err), 0);
+    assert_int_equal(m.u.frame.n_ranges, 1081);
+    assert_int_equal(ca.calls, warm);
+    assert_int_equal(cjson_allocs, 0);
+    /* an unknown key sends it down the cJSON path: now cJSON allocates */
+    t.len--;
+    put(&t, ",\"note\":1}");
+    assert_int_equal(lc_wire_decode(t.s, t.len, NULL, &buf, &m, &err), 0);
+    assert_true(cjson_allocs > 1000);
+    cJSON_InitHooks(NULL);
+    free(t.s);
+    lc_wire_buffers_free(&buf);
+    assert_int_equal(ca.live, 0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -434,6 +486,7 @@ int main(void)
         cmocka_unit_test(test_edge_numbers),
         cmocka_unit_test(test_declined_like_cjson),
         cmocka_unit_test(test_mutations_agree),
+        cmocka_unit_test(test_warm_allocates_nothing),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
