@@ -157,6 +157,9 @@ static void error_clear(lc_wire_error *err)
     err->has_seq = false;
     err->seq = 0;
     err->message[0] = '\0';
+    err->ignored = 0;
+    err->ignored_named = 0;
+    err->ignored_keys[0] = '\0';
 }
 
 /* "path.key", or "key" without a path, or "path" without a key. */
@@ -401,6 +404,39 @@ static int index_field(const cJSON *obj, const char *path, const char *key, int 
     return 0;
 }
 
+/* An unknown key: counted, and named while the list has room. */
+static void note_ignored(lc_wire_error *err, const char *path, const char *key)
+{
+    err->ignored++;
+    char name[LC_WIRE_KEY_SHOWN];
+    join_name(name, sizeof name, path, key);
+    for (char *c = name; *c; c++)
+        if (*c < 0x20 || *c > 0x7e || *c == '\'' || *c == '\\')
+            *c = '?';
+    size_t used = strlen(err->ignored_keys);
+    /* room for ", 'name'" and the NUL */
+    if (used + strlen(name) + 5 > sizeof err->ignored_keys)
+        return;
+    snprintf(err->ignored_keys + used, sizeof err->ignored_keys - used, "%s'%s'",
+             used ? ", " : "", name);
+    err->ignored_named++;
+}
+
+void lc_wire_ignored_text(const lc_wire_error *e, char *buf, size_t n)
+{
+    if (n == 0)
+        return;
+    buf[0] = '\0';
+    if (e->ignored <= 0)
+        return;
+    char more[40] = "";
+    if (e->ignored > e->ignored_named)
+        snprintf(more, sizeof more, "%s%d more", e->ignored_named ? " and " : "",
+                 e->ignored - e->ignored_named);
+    snprintf(buf, n, "unknown key%s %s%s ignored", e->ignored > 1 ? "s" : "", e->ignored_keys,
+             more);
+}
+
 int lc_wire_check_duplicates(const cJSON *obj, const char *path, const char *const *keys,
                              lc_wire_error *err)
 {
@@ -409,14 +445,16 @@ int lc_wire_check_duplicates(const cJSON *obj, const char *path, const char *con
     cJSON_ArrayForEach(it, obj) {
         if (!it->string)
             continue;
-        for (int k = 0; k < 64 && keys[k]; k++) {
-            if (strcmp(it->string, keys[k]) != 0)
-                continue;
-            if (seen & (1ul << k))
-                return fail(err, LC_WIRE_BAD_MESSAGE, path, keys[k], "given more than once");
-            seen |= 1ul << k;
-            break;
+        int k = 0;
+        while (k < 64 && keys[k] && strcmp(it->string, keys[k]) != 0)
+            k++;
+        if (k == 64 || !keys[k]) {
+            note_ignored(err, path, it->string);
+            continue;
         }
+        if (seen & (1ul << k))
+            return fail(err, LC_WIRE_BAD_MESSAGE, path, keys[k], "given more than once");
+        seen |= 1ul << k;
     }
     return 0;
 }
@@ -886,7 +924,7 @@ static int copy_string_field(const cJSON *obj, const char *key, bool required, c
 
 static const char *const welcome_keys[] = {"type", "role", "robot", "server", "protocol",
                                            "watchdog_ms", "max_message", "max_beams",
-                                           "max_points", "view_hz", NULL};
+                                           "max_points", "view_hz", "max_waypoints", NULL};
 
 static int welcome_from_json(const cJSON *obj, lc_wire_welcome *out, lc_wire_error *err)
 {
@@ -902,7 +940,9 @@ static int welcome_from_json(const cJSON *obj, lc_wire_welcome *out, lc_wire_err
         lc_wire_int_field(obj, NULL, "max_message", false, &b_count, &max_message, err) < 0 ||
         lc_wire_int_field(obj, NULL, "max_beams", false, &b_count, &out->max_beams, err) < 0 ||
         lc_wire_int_field(obj, NULL, "max_points", false, &b_count, &out->max_points, err) < 0 ||
-        lc_wire_number_field(obj, NULL, "view_hz", false, &B_NONNEG, &out->view_hz, err) < 0)
+        lc_wire_number_field(obj, NULL, "view_hz", false, &B_NONNEG, &out->view_hz, err) < 0 ||
+        lc_wire_int_field(obj, NULL, "max_waypoints", false, &b_count, &out->max_waypoints,
+                          err) < 0)
         return -1;
     out->role = (lc_wire_role)role;
     out->max_message = max_message;

@@ -81,12 +81,24 @@ bool lc_wire_code_from_name(const char *name, lc_wire_code *out);
 
 #define LC_WIRE_MESSAGE_MAX 200
 
+#define LC_WIRE_KEY_SHOWN 128
+
 typedef struct lc_wire_error {
     lc_wire_code code;
     bool has_seq;  /* the message had a readable seq */
     int64_t seq;
     char message[LC_WIRE_MESSAGE_MAX]; /* "field: reason" */
+    /* Not an error: keys the decoder does not know and ignored (PROTOCOL.md),
+     * counted on success too, so that callers can warn about typos; the
+     * first ignored_named of them listed as 'path.key', 'key2' (printable
+     * ASCII) in ignored_keys, as many as fit. */
+    int ignored, ignored_named;
+    char ignored_keys[LC_WIRE_KEY_SHOWN];
 } lc_wire_error;
+
+/* "unknown key 'robot.margn' ignored" or "unknown keys 'a', 'b' and 2 more
+ * ignored" into buf[n]; "" when e->ignored is 0. */
+void lc_wire_ignored_text(const lc_wire_error *e, char *buf, size_t n);
 
 /* Sets code and message (printf-formatted, truncated to fit); leaves has_seq, seq. */
 void lc_wire_error_set(lc_wire_error *err, lc_wire_code code, const char *fmt, ...)
@@ -138,9 +150,11 @@ typedef struct lc_wire_welcome {
     int max_beams;
     int max_points;
     double view_hz;
-    /* decode only: encoding writes "lacuna <version>" and LC_WIRE_PROTOCOL */
+    /* decode only: encoding writes "lacuna <version>", LC_WIRE_PROTOCOL and
+     * LC_ROUTE_MAX */
     char server[64];
     char protocol[32];
+    int max_waypoints; /* 0 when absent */
 } lc_wire_welcome;
 
 /* One setpoint message; `model` says which pair is on the wire. */
@@ -204,7 +218,9 @@ typedef struct lc_wire_msg {
 /*
  * Decode one text message of len bytes (need not be NUL-terminated).
  * NULL lim: defaults. Returns 0, or -1 with *err filled (err->has_seq when
- * the message carried a readable seq). On failure *out is unspecified.
+ * the message carried a readable seq). On failure *out is unspecified. On
+ * success err->ignored counts the unknown keys the message carried (0 for
+ * most messages; see lc_wire_error).
  */
 int lc_wire_decode(const char *text, size_t len, const lc_wire_limits *lim,
                    lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err);
@@ -256,6 +272,7 @@ int lc_wire_bool_field(const struct cJSON *obj, const char *path, const char *ke
 /*
  * -1 with a bad_message error when obj has one of keys[] (NULL-terminated)
  * more than once (cJSON keeps duplicates and lookups see only the first).
+ * Keys not in keys[] are counted into err->ignored (the first one named).
  */
 int lc_wire_check_duplicates(const struct cJSON *obj, const char *path,
                              const char *const *keys, lc_wire_error *err);

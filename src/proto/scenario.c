@@ -198,7 +198,8 @@ static int read_type_version(const cJSON *root, lc_scenario_header *h, lc_wire_e
 static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
 {
     static const char *const keys[] = {"type", "version", "description", "robot", "route",
-                                       "start", "world", "sensor", "expect", "max_time", NULL};
+                                       "start", "world", "sensor", "expect", "max_time",
+                                       "control", NULL};
     if (!cJSON_IsObject(root)) {
         lc_wire_error_set(we, LC_WIRE_BAD_MESSAGE, "header: not a JSON object");
         return -1;
@@ -246,11 +247,16 @@ static int read_control(const cJSON *o, lc_scenario_control *c, lc_wire_error *w
         lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "control: not an object");
         return -1;
     }
+    static const char *const keys[] = {"period", "dt_min", "dt_max", "first_dt",
+                                       "watchdog_ms", NULL};
+    const lc_wire_bounds ms = {0, 1e6, false, false};
     *c = (lc_scenario_control){.present = true, .dt_min = 1e-4, .dt_max = 1.0, .first_dt = 0.05};
-    if (lc_wire_number_field(o, "control", "period", false, &nonneg, &c->period, we) < 0 ||
+    if (lc_wire_check_duplicates(o, "control", keys, we) ||
+        lc_wire_number_field(o, "control", "period", false, &nonneg, &c->period, we) < 0 ||
         lc_wire_number_field(o, "control", "dt_min", false, &pos, &c->dt_min, we) < 0 ||
         lc_wire_number_field(o, "control", "dt_max", false, &pos, &c->dt_max, we) < 0 ||
-        lc_wire_number_field(o, "control", "first_dt", false, &pos, &c->first_dt, we) < 0)
+        lc_wire_number_field(o, "control", "first_dt", false, &pos, &c->first_dt, we) < 0 ||
+        lc_wire_int_field(o, "control", "watchdog_ms", false, &ms, &c->watchdog_ms, we) < 0)
         return -1;
     return 0;
 }
@@ -285,6 +291,9 @@ int lc_scenario_parse_header(const char *text, size_t len, lc_scenario_header *h
     cJSON_Delete(root);
     if (rc < 0)
         return fail_wire(err, 1, &we);
+    err->line = 0;
+    err->message[0] = '\0';
+    lc_wire_ignored_text(&we, err->ignored, sizeof err->ignored);
     return 0;
 }
 
@@ -349,6 +358,11 @@ int lc_scenario_read_header(lc_scenario_reader *r, lc_scenario_header *h,
         err->line = r->line;
         return -1;
     }
+    if (err->ignored[0]) {
+        char msg[sizeof err->ignored + 32];
+        snprintf(msg, sizeof msg, "scenario header: %s", err->ignored);
+        warn(r, msg);
+    }
     return 0;
 }
 
@@ -373,6 +387,14 @@ int lc_scenario_next(lc_scenario_reader *r, lc_wire_msg *msg, lc_scenario_error 
     }
     if (msg->type == LC_MSG_SCENARIO)
         return fail_msg(err, r->line, "a second scenario header");
+    if (we.ignored && !(r->warned & (1u << msg->type))) {
+        r->warned |= 1u << msg->type;
+        char text[LC_WIRE_KEY_SHOWN + 64], line[sizeof text + 64];
+        lc_wire_ignored_text(&we, text, sizeof text);
+        snprintf(line, sizeof line, "%s message: %s (said once per message type)",
+                 lc_msg_type_name(msg->type), text);
+        warn(r, line);
+    }
     return 1;
 }
 

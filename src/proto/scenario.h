@@ -7,13 +7,17 @@
  * "sensor":{"beams","fov","range_min","range_max","rate","noise","mount"},
  * "expect":"done"|"blocked","max_time":s}. Every field but type and version
  * is optional; `expect` (default "done") is what `lacuna sim` takes for
- * success, `max_time` (s) bounds a sim run. Unknown header keys are ignored.
+ * success, `max_time` (s) bounds a sim run. Unknown header keys are ignored
+ * (and warned of, below).
  *
  * Reading is strict: a line that is not one valid wire message is an error
  * that names its line number (1-based) and the reason. One exception: a
  * last line without its newline that is not complete JSON is a truncated
  * recording (a crash mid-write); it is reported through `warning` and
- * skipped. Blank lines are skipped.
+ * skipped. Blank lines are skipped. Unknown keys are ignored, and warned of
+ * through `warning`: in the header every time, in messages once per
+ * message type and file (a typo such as "margn" would otherwise leave a
+ * default in force without a word).
  *
  * Ownership: the caller owns the reader and the header; the header's
  * polygons live in its own polyset (lc_scenario_header_free). Frames
@@ -61,6 +65,7 @@ void lc_scenario_sensor_default(lc_scenario_sensor *s);
 typedef struct lc_scenario_control {
     bool present;
     double period, dt_min, dt_max, first_dt;
+    int watchdog_ms; /* the recording server's watchdog, for information (0: absent) */
 } lc_scenario_control;
 
 typedef struct lc_scenario_header {
@@ -92,6 +97,9 @@ double lc_scenario_first_dt(const lc_scenario_header *h);
 typedef struct lc_scenario_error {
     int line;
     char message[LC_WIRE_MESSAGE_MAX + 64];
+    /* On success of lc_scenario_parse_header: the header's unknown keys
+     * (ignored), "" when none; so that a typo can be warned of. */
+    char ignored[LC_WIRE_KEY_SHOWN + 64];
 } lc_scenario_error;
 
 /* Decode a header line of len bytes. 0, or -1 with err->message filled. */
@@ -106,6 +114,7 @@ typedef struct lc_scenario_reader {
     lc_wire_buffers buf;
     void (*warning)(void *data, int line, const char *message); /* NULL: none */
     void *warning_data;
+    unsigned warned; /* message types already warned of for unknown keys */
 } lc_scenario_reader;
 
 /* text stays the caller's; NULL alloc: lc_alloc_default(). */

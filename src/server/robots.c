@@ -57,6 +57,7 @@ struct lc_conn {
     double tokens, tokens_at;
     queue replies, views;
     bool paused; /* receive flow: not read until its replies drain (lc_conn_reading) */
+    unsigned warned_ignored; /* message types logged for unknown keys (once each) */
     bool closing;
     double close_at; /* kill when the peer has not let us close by then */
     int close_status;
@@ -702,11 +703,32 @@ static void refuse(lc_hub *hub, lc_conn *c, lc_wire_code code, const lc_wire_msg
     send_error(hub, c, &e, now);
 }
 
+/*
+ * Unknown keys are ignored (PROTOCOL.md), but a typo ("margn") would leave a
+ * default in force without a word: log it, once per connection and message
+ * type. A frame with an unknown key also misses the codec's fast path.
+ */
+static void log_ignored(lc_conn *c, const lc_wire_msg *m, const lc_wire_error *err)
+{
+    if (!err->ignored || (c->warned_ignored & (1u << m->type)))
+        return;
+    c->warned_ignored |= 1u << m->type;
+    bool frame = m->type == LC_MSG_SCAN || m->type == LC_MSG_POINTS;
+    char text[LC_WIRE_KEY_SHOWN + 64];
+    lc_wire_ignored_text(err, text, sizeof text);
+    lc_log(LC_LOG_WARN, "%s %s: %s message: %s%s (said once per connection and message type)",
+           c->bot ? "robot" : "client", c->bot ? c->bot->name : (c->addr[0] ? c->addr : "?"),
+           lc_msg_type_name(m->type), text,
+           frame ? "; frames with unknown keys take the slower decoder" : "");
+}
+
 static void message(lc_hub *hub, lc_conn *c, const char *text, size_t len, double now)
 {
     lc_wire_error err;
     lc_wire_msg *m = &hub->in;
     int rc = lc_wire_decode(text, len, &hub->limits, &hub->buf, m, &err);
+    if (rc == 0)
+        log_ignored(c, m, &err);
     if (c->role == ROLE_NONE) {
         if (rc < 0)
             send_error_close(hub, c, &err, now);

@@ -111,6 +111,11 @@ int lc_tool_plan(int argc, char **argv)
         lc_wire_buffers_free(&buf);
         return lc_cli_usage_error("plan", "%s: %s", path, err.message);
     }
+    if (err.ignored) {
+        char ignored[LC_WIRE_KEY_SHOWN + 64];
+        lc_wire_ignored_text(&err, ignored, sizeof ignored);
+        fprintf(stderr, "lacuna plan: %s: %s\n", path, ignored);
+    }
     lc_session *s = lc_plan_session_new(&req);
     lc_wire_text out;
     lc_wire_text_init(&out, NULL);

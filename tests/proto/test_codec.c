@@ -542,9 +542,13 @@ static void test_examples_decode(void **state)
             if (decode_exact(text, len, NULL, &buf, &msg, &err) != 0)
                 fail_msg("%s: %s", examples[i].file, err.message);
             assert_int_equal(msg.type, examples[i].type);
+            if (err.ignored) /* the examples use only keys the codec knows */
+                fail_msg("%s: %s", examples[i].file, err.ignored_keys);
         } else if (strstr(examples[i].file, "plan_request")) {
             if (plan_exact(text, len, NULL, &buf, &req, &err) != 0)
                 fail_msg("%s: %s", examples[i].file, err.message);
+            if (err.ignored)
+                fail_msg("%s: %s", examples[i].file, err.ignored_keys);
         } else {
             cJSON *j = cJSON_ParseWithLength(text, len);
             assert_non_null(j);
@@ -923,6 +927,7 @@ static void test_roundtrip_messages(void **state)
     assert_int_equal(msg.u.welcome.watchdog_ms, 200);
     assert_int_equal(msg.u.welcome.max_points, 5000);
     assert_true(msg.u.welcome.view_hz == 20.0);
+    assert_int_equal(msg.u.welcome.max_waypoints, LC_ROUTE_MAX);
     lc_wire_text_free(&t);
     lc_wire_buffers_free(&buf);
 }
@@ -1580,6 +1585,78 @@ static void test_fuzz_random_bytes(void **state)
     lc_wire_buffers_free(&buf);
 }
 
+/* Unknown keys: ignored, counted and named so that a typo can be warned of. */
+static void test_unknown_keys(void **state)
+{
+    (void)state;
+    lc_wire_buffers buf;
+    lc_wire_buffers_init(&buf, NULL);
+    static lc_wire_msg msg;
+    static lc_wire_plan_request req;
+    lc_wire_error err;
+    char text[4096], said[LC_WIRE_KEY_SHOWN + 64];
+
+    /* none: nothing said */
+    char *t = unquote("{'type':'robot','model':'point','radius':0.3,'margin':0.1}");
+    assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
+    assert_int_equal(err.ignored, 0);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_string_equal(said, "");
+    free(t);
+
+    /* a typo: the default margin stays, and the key is named */
+    t = unquote("{'type':'robot','model':'point','radius':0.3,'margn':0.2}");
+    assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
+    lc_robot def;
+    lc_robot_default(&def);
+    assert_true(msg.u.robot.margin == def.margin);
+    assert_int_equal(err.ignored, 1);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_string_equal(said, "unknown key 'margn' ignored");
+    free(t);
+
+    /* nested: named with its path, in the order met */
+    size_t len;
+    char *req_text = read_text("proto/examples/plan_request.json", &len);
+    char *brace = strchr(req_text, '{'), *robot = strstr(req_text, "\"robot\"");
+    assert_non_null(brace);
+    assert_non_null(robot);
+    char *open = strchr(robot, '{');
+    assert_non_null(open);
+    snprintf(text, sizeof text, "{\"extra\":1,%.*s\"margn\":0.2,%s", (int)(open + 1 - brace - 1),
+             brace + 1, open + 1);
+    assert_int_equal(plan_exact(text, strlen(text), NULL, &buf, &req, &err), 0);
+    assert_int_equal(err.ignored, 2);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_string_equal(said, "unknown keys 'extra', 'robot.margn' ignored");
+    free(req_text);
+
+    /* many: as many named as fit, the rest counted; odd bytes shown as '?' */
+    int n = snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"viewer\",\"k\\u00e9\":1");
+    for (int i = 0; i < 40; i++)
+        n += snprintf(text + n, sizeof text - (size_t)n, ",\"unknown_key_%02d\":%d", i, i);
+    snprintf(text + n, sizeof text - (size_t)n, "}");
+    assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
+    assert_int_equal(err.ignored, 41);
+    assert_true(err.ignored_named > 3 && err.ignored_named < 41);
+    assert_true(strncmp(err.ignored_keys, "'k?" "?', 'unknown_key_00'", 23) == 0);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    char tail[64];
+    snprintf(tail, sizeof tail, " and %d more ignored", 41 - err.ignored_named);
+    assert_non_null(strstr(said, tail));
+    assert_true(strlen(said) < sizeof said - 1);
+
+    /* a scan with an extra key leaves the fast path and is still decoded */
+    t = unquote("{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'angle_start':0,"
+                "'angle_step':0.1,'range_min':0.1,'range_max':10,'ranges':[1,2],"
+                "'intensities':[5,6]}");
+    assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
+    assert_int_equal(msg.u.frame.n_ranges, 2);
+    assert_int_equal(err.ignored, 1);
+    free(t);
+    lc_wire_buffers_free(&buf);
+}
+
 static void test_names(void **state)
 {
     (void)state;
@@ -1624,6 +1701,7 @@ int main(void)
         cmocka_unit_test(test_fuzz),
         cmocka_unit_test(test_fuzz_tree),
         cmocka_unit_test(test_fuzz_random_bytes),
+        cmocka_unit_test(test_unknown_keys),
         cmocka_unit_test(test_names),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -3,11 +3,13 @@
  * defaults, an exact round trip of the header (numbers parse back bit for
  * bit), bad lines reported with their line numbers, a truncated last line
  * skipped with a warning, and degenerate files (empty, header only, blank
- * lines, a second header, huge numbers).
+ * lines, a second header, huge numbers); unknown keys warned of (the header
+ * every time, messages once per type) and none in the shipped scenarios.
  */
 #include "testutil.h"
 
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "scenario.h"
@@ -239,6 +241,75 @@ static void test_header_only(void **state)
     assert_int_equal(w.count, 0);
 }
 
+static void test_unknown_keys_warned(void **state)
+{
+    (void)state;
+    char text[4096];
+    /* a typo in the header's robot: the default margin stays, and it is said */
+    snprintf(text, sizeof text,
+             "{\"type\":\"scenario\",\"version\":1,\"robot\":{\"radius\":0.3,\"margn\":0.2}}\n"
+             "%s\n%s\n%s\n", scan_line, scan_line, setpoint_line);
+    warnings w = {0};
+    lc_scenario_error err;
+    assert_int_equal(read_all(text, &w, &err, NULL), 3);
+    assert_int_equal(w.count, 1);
+    assert_int_equal(w.line, 1);
+    assert_string_equal(w.last, "scenario header: unknown key 'robot.margn' ignored");
+
+    /* in messages: once per message type, on the line where it first appears */
+    char odd_scan[sizeof scan_line + 32];
+    snprintf(odd_scan, sizeof odd_scan, "%.*s,\"intensities\":[1]}",
+             (int)(sizeof scan_line - 2), scan_line);
+    snprintf(text, sizeof text, "%s\n%s\n%s\n%s\n", header_full, odd_scan, odd_scan,
+             setpoint_line);
+    w = (warnings){0};
+    assert_int_equal(read_all(text, &w, &err, NULL), 3);
+    assert_int_equal(w.count, 1);
+    assert_int_equal(w.line, 2);
+    assert_string_equal(w.last, "scan message: unknown key 'intensities' ignored (said once "
+                                "per message type)");
+
+    /* a recording's header, as lacuna serve writes it: every key known */
+    const char *rec = "{\"type\":\"scenario\",\"version\":1,\"control\":{\"period\":0,"
+                      "\"dt_min\":0.0001,\"dt_max\":1,\"first_dt\":0.05,\"watchdog_ms\":200}}";
+    lc_scenario_header h;
+    lc_scenario_header_init(&h);
+    assert_int_equal(lc_scenario_parse_header(rec, strlen(rec), &h, &err), 0);
+    assert_string_equal(err.ignored, "");
+    assert_true(h.control.present);
+    assert_int_equal(h.control.watchdog_ms, 200);
+    lc_scenario_header_free(&h);
+}
+
+/* The shipped scenarios use only keys the reader knows. */
+static void test_shipped_scenarios_clean(void **state)
+{
+    (void)state;
+    static char paths[64][LC_TEST_PATH_MAX];
+    const char *dirs[] = {"scenarios", "tests/tools/untuned"};
+    int total = 0;
+    for (int d = 0; d < 2; d++) {
+        int n = lc_test_jsonl_files(dirs[d], paths, 64);
+        assert_true(n > 0);
+        for (int i = 0; i < n; i++) {
+            FILE *f = fopen(paths[i], "rb");
+            assert_non_null(f);
+            static char text[1 << 20];
+            size_t len = fread(text, 1, sizeof text - 1, f);
+            fclose(f);
+            text[len] = '\0';
+            warnings w = {0};
+            lc_scenario_error err;
+            if (read_all(text, &w, &err, NULL) < 0)
+                fail_msg("%s:%d: %s", paths[i], err.line, err.message);
+            if (w.count)
+                fail_msg("%s:%d: %s", paths[i], w.line, w.last);
+            total++;
+        }
+    }
+    assert_true(total >= 10);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -250,6 +321,8 @@ int main(void)
         cmocka_unit_test(test_truncated_last_line_skipped),
         cmocka_unit_test(test_bad_headers),
         cmocka_unit_test(test_header_only),
+        cmocka_unit_test(test_unknown_keys_warned),
+        cmocka_unit_test(test_shipped_scenarios_clean),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -322,6 +322,28 @@ async def test_catalogue(srv):
     await good.close()
 
 
+async def test_unknown_keys(srv):
+    """Unknown keys are ignored but logged once per connection and type (a typo
+    such as "margn" would otherwise leave the default margin in force)."""
+    ws, m = await hello(srv.url, "typo")
+    check(m["type"] == "welcome", "typo robot welcome")
+    robot = dict(example.ROBOT, type="robot", margn=0.2)
+    for _ in range(2):
+        await ws.send(json.dumps(robot))
+    frame = far_scan(1, 0.05)
+    frame["intensities"] = [1.0] * len(frame["ranges"])
+    await ws.send(json.dumps(frame))
+    got = await recv_type(ws, "setpoint")
+    check(got["seq"] == 1, "a frame with an unknown key is still planned")
+    check(await srv.logged("robot typo: robot message: unknown key 'margn' ignored"),
+          "the log names the unknown robot key")
+    check(await srv.logged("robot typo: scan message: unknown key 'intensities' ignored; "
+                           "frames with unknown keys take the slower decoder"),
+          "the log names the unknown scan key and what it costs")
+    await ws.close()
+    check(srv.log().count("unknown key 'margn'") == 1, "said once per connection and type")
+
+
 async def test_sigterm():
     srv = Server()
     ws, m = await hello(srv.url, "sig")
@@ -394,6 +416,8 @@ async def test_recording(tmp):
     check(r.returncode == 0 and out.get("mismatches") == 0 and out.get("compared") == 20,
           "replay of the recording: exit %d, %s %s" % (r.returncode, r.stdout.strip(),
                                                         r.stderr.strip()[-500:]))
+    check("unknown key" not in r.stderr,
+          "the recording uses only keys the reader knows: %s" % r.stderr.strip()[-300:])
 
 
 def test_loopback_trap(srv):
@@ -495,6 +519,7 @@ async def main():
             await test_closed_loop_and_watchdog(srv)
             await test_views(srv)
             await test_catalogue(srv)
+            await test_unknown_keys(srv)
             test_client_example(srv)
         finally:
             check(srv.stop() == 0, "main server exits 0 on SIGTERM")
