@@ -59,9 +59,17 @@
     done: { title: 'Route done', cls: 'calm',
       words: function () { return 'The route is finished. The robot stands still until it gets a new one.'; } },
     blocked: { title: 'Blocked', cls: 'bad',
-      words: function (v) { return 'It has not got closer' + toWaypoint(v) + ' for the blocked time. ' +
-        'It holds still and keeps looking; it moves again as soon as a way opens ' +
-        '(or gives the waypoint up, if the route says skip).'; } },
+      words: function (v) {
+        var r = v.route || {}, time = finite(r.blocked_time) ? ' (' + fmt(r.blocked_time, 0) + ' s)' : '';
+        var head = 'It has not got closer' + toWaypoint(v) + ' for the blocked time' + time + '. ';
+        if (r.on_blocked === 'skip')
+          return head + 'The route says skip: it gives this waypoint up and goes on to the next.';
+        if (r.on_blocked === 'wait')
+          return head + 'The route says wait: it holds still and keeps looking, and moves again ' +
+            'as soon as a way opens.';
+        return head + 'It holds still and keeps looking; it moves again as soon as a way opens ' +
+          '(or gives the waypoint up, if the route says skip).';
+      } },
     stale: { title: 'No sensor data', cls: 'bad',
       words: function () { return 'Stopped by the watchdog: lacuna has had no sensor frame from the robot for ' +
         (conn.watchdogMs ? conn.watchdogMs + ' ms' : 'the watchdog time') +
@@ -73,15 +81,26 @@
       words: function () { return 'Connected, but it has no route: it waits for one.'; } }
   };
 
-  /* "Why this speed?": what bound the setpoint (src/core/motion.h). */
+  /* " 0.80 m/s" after a limit's name when the view carries its value. */
+  function limitValue(x, unit) {
+    return finite(x) ? ' ' + fmt(x, 2) + ' ' + unit : '';
+  }
+
+  /* "Why this speed?": what bound the setpoint (src/core/motion.h); a
+   * function of the view where the robot's own limit can be named. */
   var LIMITS = {
     none: 'Nothing asks it to move.',
     goal: 'It eases off as it nears the target.',
-    top_speed: 'It is at its top speed (v_max).',
+    top_speed: function (v) { return 'It is at its top speed (v_max' + limitValue(v.v_max, 'm/s') + ').'; },
     braking: 'It keeps room to stop inside the free region: an obstacle, or the edge of what the sensor has seen, is close ahead.',
-    accel: 'Its acceleration limit (a_max) holds the change of speed.',
+    accel: function (v) {
+      return 'Its acceleration limit (a_max' + limitValue(v.a_max, 'm/s\u00b2') + ') holds the change of speed.';
+    },
     turning: 'It turns on the spot first: the target is too far off its heading to drive.',
-    turn_rate: 'It turns as fast as it may (w_max, or its turn acceleration dw_max).',
+    turn_rate: function (v) {
+      return 'It turns as fast as it may (w_max' + limitValue(v.w_max, 'rad/s') +
+        ', or its turn acceleration dw_max' + limitValue(v.dw_max, 'rad/s\u00b2') + ').';
+    },
     too_close: 'It may not drive: an obstacle is inside radius + margin.',
     stale: 'Stopped: no fresh sensor frame.',
     blocked: 'Stopped: no progress toward the waypoint.',
@@ -1007,6 +1026,8 @@
     setText('state-code', silent ? '' : String(v.state || ''));
     setText('state-words', st.words(v));
     var lw = LIMITS[v.limit] || '';
+    if (typeof lw === 'function')
+      lw = lw(v);
     $('limit-line').hidden = !lw || silent;
     setText('limit-words', lw);
     setText('limit-code', String(v.limit || ''));

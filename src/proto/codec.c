@@ -1780,6 +1780,8 @@ static void w_view_route(lc_wire_text *t, const lc_route *route, int current)
     w_vec2_list(t, route->waypoints, n, LC_WIRE_VIEW_DECIMALS);
     kv_bool(t, "loop", route->loop);
     kv_num(t, "tolerance", route->tolerance, LC_WIRE_VIEW_DECIMALS);
+    kv_str(t, "on_blocked", route->on_blocked == LC_BLOCKED_SKIP ? policy_names[1] : policy_names[0]);
+    kv_num(t, "blocked_time", route->blocked_time, LC_WIRE_VIEW_DECIMALS);
     kv_index(t, "current", current);
     w_close(t, '}');
 }
@@ -1836,6 +1838,11 @@ int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m)
     kv_model(t, model);
     kv_num(t, "radius", m->desc ? m->desc->radius : NAN, dec);
     kv_num(t, "margin", m->desc ? m->desc->margin : NAN, dec);
+    /* the limits the panel's "why this speed" names */
+    kv_num(t, "v_max", m->desc ? m->desc->v_max : NAN, dec);
+    kv_num(t, "a_max", m->desc ? m->desc->a_max : NAN, dec);
+    kv_num(t, "w_max", m->desc ? m->desc->w_max : NAN, dec);
+    kv_num(t, "dw_max", m->desc ? m->desc->dw_max : NAN, dec);
     w_key(t, "pose");
     if (m->result)
         w_pose(t, m->pose, dec);

@@ -209,6 +209,11 @@ async def test_views(srv):
         for key in ("pose", "obstacles", "region", "ellipse", "route", "target", "setpoint"):
             check(key in last and last[key] is not None, "view has %s" % key)
         check(last["robot"] == "viewed", "view names its robot")
+        # the robot's limits and the route's policy, for the panel's words (defaults here)
+        check([last.get(k) for k in ("v_max", "a_max", "w_max", "dw_max")] == [0.8, 0.5, 1.0, 2.0],
+              "view carries the robot's limits: %s" % {k: last.get(k) for k in ("v_max", "a_max")})
+        check(last["route"].get("on_blocked") == "wait" and last["route"].get("blocked_time") == 10,
+              "view carries the route's blocked policy: %s" % last["route"])
     await r.close()
     await v.close()
 

@@ -358,6 +358,9 @@ async function main() {
     check(STATES.includes(panel.code) && panel.state.length > 0 && panel.words.length > 20,
           'panel shows the state in words', JSON.stringify(panel));
     check(/m\/s$/.test(panel.setpoint), 'panel shows the setpoint in m/s', panel.setpoint);
+    /* a limit named by the panel comes with the robot's own value */
+    check(!/\((v_max|a_max|w_max)\)/.test(panel.limit), 'panel gives the limit its value',
+          panel.limit);
     check(/\/s$/.test(panel.rate), 'panel shows the robot frame rate', panel.rate);
 
     /* ---- 5: hidden tab: no drawing, views still counted */
