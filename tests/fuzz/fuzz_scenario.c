@@ -8,6 +8,9 @@
  * - the reader returns 1, 0 or -1 and stops; line numbers only grow and
  *   never exceed the number of lines in the input; every -1 names a line
  *   and a reason; nothing crashes or leaks;
+ * - warnings are of two kinds only: a truncated last line (at most one) and
+ *   unknown keys (the header's at most once, messages' at most once per
+ *   message type);
  * - a header that was accepted encodes (lc_scenario_encode_header) to text
  *   that parses back and encodes to the same text again.
  */
@@ -17,11 +20,22 @@
 
 #include "scenario.h"
 
+typedef struct warned {
+    int truncated, unknown_header, unknown_messages;
+} warned;
+
 static void count_warning(void *data, int line, const char *message)
 {
-    int *n = data;
-    (*n)++;
+    warned *w = data;
     LC_FUZZ_CHECK(line >= 1 && message && message[0], "warning at line %d without text", line);
+    if (strcmp(message, "truncated last line skipped") == 0)
+        w->truncated++;
+    else if (strncmp(message, "scenario header: unknown key", 28) == 0 && line == 1)
+        w->unknown_header++;
+    else if (strstr(message, " message: unknown key") && strstr(message, "(said once per"))
+        w->unknown_messages++;
+    else
+        LC_FUZZ_CHECK(0, "unexpected warning at line %d: %s", line, message);
 }
 
 static void check_header_round_trip(const lc_scenario_header *h)
@@ -54,7 +68,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 
     lc_scenario_reader r;
     lc_scenario_reader_init(&r, text, size, NULL);
-    int warnings = 0;
+    warned warnings = {0};
     r.warning = count_warning;
     r.warning_data = &warnings;
     lc_scenario_header h;
@@ -78,8 +92,10 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
             LC_FUZZ_CHECK(err.line > last && err.line <= lines && err.message[0],
                           "error at line %d (last good %d of %d): %s", err.line, last, lines,
                           err.message);
-        LC_FUZZ_CHECK(warnings <= 1, "%d warnings: only a truncated last line warns",
-                      warnings);
+        LC_FUZZ_CHECK(warnings.truncated <= 1 && warnings.unknown_header <= 1 &&
+                          warnings.unknown_messages <= LC_MSG_COUNT,
+                      "warnings: %d truncated, %d header, %d messages", warnings.truncated,
+                      warnings.unknown_header, warnings.unknown_messages);
     } else {
         LC_FUZZ_CHECK(err.line >= 1 && err.message[0], "header error at line %d: '%s'",
                       err.line, err.message);
