@@ -404,21 +404,25 @@ static int index_field(const cJSON *obj, const char *path, const char *key, int 
     return 0;
 }
 
-/* An unknown key: counted, and named while the list has room. */
+/* An unknown key: counted, and named in order while the list has room (the
+ * first one always, cut to fit). */
 static void note_ignored(lc_wire_error *err, const char *path, const char *key)
 {
-    err->ignored++;
+    if (err->ignored++ > err->ignored_named)
+        return; /* an earlier one did not fit: keep the list in order */
     char name[LC_WIRE_KEY_SHOWN];
-    join_name(name, sizeof name, path, key);
+    join_name(name, sizeof name, path, key[0] ? key : "\"\"");
     for (char *c = name; *c; c++)
         if (*c < 0x20 || *c > 0x7e || *c == '\'' || *c == '\\')
             *c = '?';
-    size_t used = strlen(err->ignored_keys);
-    /* room for ", 'name'" and the NUL */
-    if (used + strlen(name) + 5 > sizeof err->ignored_keys)
-        return;
-    snprintf(err->ignored_keys + used, sizeof err->ignored_keys - used, "%s'%s'",
-             used ? ", " : "", name);
+    size_t used = strlen(err->ignored_keys), room = sizeof err->ignored_keys - used;
+    /* ", 'name'" and the NUL */
+    if (strlen(name) + 5 > room) {
+        if (used > 0)
+            return;
+        name[room - 5] = '\0'; /* the first: cut, never left out */
+    }
+    snprintf(err->ignored_keys + used, room, "%s'%s'", used ? ", " : "", name);
     err->ignored_named++;
 }
 
@@ -449,7 +453,10 @@ int lc_wire_check_duplicates(const cJSON *obj, const char *path, const char *con
         while (k < 64 && keys[k] && strcmp(it->string, keys[k]) != 0)
             k++;
         if (k == 64 || !keys[k]) {
-            note_ignored(err, path, it->string);
+            /* a message's seq is read whatever its type (peek_seq echoes it
+             * in errors), so it is known at the top level of every message */
+            if (!(path == NULL && strcmp(it->string, "seq") == 0))
+                note_ignored(err, path, it->string);
             continue;
         }
         if (seen & (1ul << k))
@@ -1156,6 +1163,8 @@ int lc_wire_decode(const char *text, size_t len, const lc_wire_limits *lim,
     lim = limits_or_default(lim, &storage);
     if (len <= lim->max_message && lc_wire_decode_frame_fast(text, len, lim, buf, out)) {
         error_clear(err);
+        err->has_seq = true; /* as peek_seq leaves it on the cJSON path */
+        err->seq = out->u.frame.seq;
         return 0;
     }
     return lc_wire_decode_slow(text, len, lim, buf, out, err);

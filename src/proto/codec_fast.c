@@ -11,7 +11,9 @@
  *   (an unknown key, ignored there, and a repeated one, an error there,
  *   decline here).
  * - Numbers: strict JSON grammar (cJSON also takes "01", "1." and "+1",
- *   which decline here) of at most 63 characters (the most cJSON reads).
+ *   which decline here) of at most 63 characters (cJSON 1.7.15 as first
+ *   released read no more; Debian's patched build reads any length, so
+ *   longer tokens merely decline).
  *   cJSON's value is the C library's strtod of the token, correctly rounded
  *   (glibc). Here a token whose digits fit an exact integer w < 2^53 with a
  *   decimal exponent |e| <= 22 is w * 10^e or w / 10^-e: both operands
@@ -35,7 +37,7 @@
 
 #define MAG LC_WIRE_MAGNITUDE_MAX
 #define TWO_PI (2.0 * LC_PI)
-#define TOKEN_MAX 63 /* cJSON copies at most 63 characters of a number */
+#define TOKEN_MAX 63 /* longer numbers decline (see the top of this file) */
 
 enum key {
     K_TYPE, K_SEQ, K_STAMP, K_POSE, K_MOUNT,                              /* both */
@@ -57,7 +59,7 @@ static const char *const key_names[K_COUNT] = {
 
 typedef struct cursor {
     const char *p, *end;
-    char point; /* the locale's decimal point, looked up on first need */
+    char point; /* the locale's decimal point (one byte) */
 } cursor;
 
 static void skip_ws(cursor *c)
@@ -135,14 +137,10 @@ static bool type_value(cursor *c, lc_msg_type *type)
 }
 
 /* The token [s, e) through strtod, as cJSON reads it. */
-static bool strtod_token(cursor *c, const char *s, const char *e, double *out)
+static bool strtod_token(const cursor *c, const char *s, const char *e, double *out)
 {
     char tmp[TOKEN_MAX + 1];
     size_t n = (size_t)(e - s);
-    if (!c->point) {
-        const struct lconv *lc = localeconv();
-        c->point = lc && lc->decimal_point && lc->decimal_point[0] ? lc->decimal_point[0] : '.';
-    }
     for (size_t i = 0; i < n; i++)
         tmp[i] = s[i] == '.' ? c->point : s[i];
     tmp[n] = '\0';
@@ -255,7 +253,7 @@ static bool triple(cursor *c, double v[3])
 static bool number_list(cursor *c, const lc_alloc *alloc, double **arr, int *cap, long max,
                         bool nulls, int *count)
 {
-    if (!expect(c, '['))
+    if (!expect(c, '[') || max < 0)
         return false;
     int n = 0;
     skip_ws(c);
@@ -364,7 +362,13 @@ int lc_wire_decode_frame_fast(const char *text, size_t len, const lc_wire_limits
 {
     if (!text || len == 0)
         return 0;
-    cursor c = {text, text + len, 0};
+    /* cJSON puts the first byte of the locale's decimal point where '.' was:
+     * with a point of more bytes it refuses "1.5"; so does this path */
+    const struct lconv *lc = localeconv();
+    const char *point = lc && lc->decimal_point && lc->decimal_point[0] ? lc->decimal_point : ".";
+    if (point[1])
+        return 0;
+    cursor c = {text, text + len, point[0]};
     fields f = {.seen = 0};
     if (!expect(&c, '{'))
         return 0;

@@ -11,11 +11,13 @@
  * the same. The first WARMUP frames are not counted. Times are
  * lc_mono_us() microseconds; a setpoint is matched to its frame by seq.
  *
- * The machine's own share is measured in the same run: how late the client
- * woke to send each frame against its schedule (wake lag). On a shared or
- * virtual machine the operating system or the hypervisor takes the CPU
- * away for milliseconds at a time; a round trip cannot beat the wake lag
- * of the machine it runs on, so both are printed side by side. --runs
+ * The machine's share is measured in the same run: how late the client
+ * woke to send each frame against its schedule (wake lag: the machine's
+ * scheduling, plus the client's own reading of setpoints that arrive just
+ * before). On a shared or virtual machine the operating system or the
+ * hypervisor takes the CPU away for milliseconds at a time, and the server
+ * waits on the same machine as the client: so both are printed side by
+ * side. --runs
  * repeats the measurement (a new connection each time) and prints the
  * spread: single runs on a shared machine differ several-fold.
  */
@@ -132,8 +134,12 @@ static int start_server(const rt_opts *o, child *c)
     char rate[32];
     snprintf(rate, sizeof rate, "%.0f", o->rate * 4 + 100);
     c->pid = fork();
-    if (c->pid < 0)
-        return lc_cli_fail("bench", "fork: %s", strerror(errno));
+    if (c->pid < 0) {
+        int e = errno;
+        close(fds[0]);
+        close(fds[1]);
+        return lc_cli_fail("bench", "fork: %s", strerror(e));
+    }
     if (c->pid == 0) {
         dup2(fds[1], STDERR_FILENO);
         close(fds[0]);
@@ -311,8 +317,10 @@ static int run(rt_run *r, const rt_opts *o, const char *url, char *token, int in
         if (k >= WARMUP && r->rtt_us[k] >= 0)
             r->rtt_us[n++] = r->rtt_us[k];
     }
-    spread(r->rtt_us, n, &res->p50, &res->p99, &res->max);
-    spread(r->lag_us + WARMUP, frames - WARMUP, &res->lag_p50, &res->lag_p99, &res->lag_max);
+    if (rc == 0) {
+        spread(r->rtt_us, n, &res->p50, &res->p99, &res->max);
+        spread(r->lag_us + WARMUP, frames - WARMUP, &res->lag_p50, &res->lag_p99, &res->lag_max);
+    }
     return rc;
 }
 
@@ -323,7 +331,7 @@ static int prepare(rt_run *r, const rt_opts *o)
     double *ranges = calloc((size_t)o->beams, sizeof *ranges);
     r->sent_us = calloc((size_t)frames, sizeof *r->sent_us);
     r->rtt_us = malloc((size_t)frames * sizeof *r->rtt_us);
-    r->lag_us = malloc((size_t)frames * sizeof *r->lag_us);
+    r->lag_us = calloc((size_t)frames, sizeof *r->lag_us);
     lc_frame f;
     if (ranges)
         room_scan(ranges, o->beams, &f);
@@ -400,8 +408,8 @@ static void print(const rt_opts *o, const char *url, bool own, const rt_result *
                median_of(res, o->runs, offsetof(rt_result, p99), v),
                median_of(res, o->runs, offsetof(rt_result, lag_p99), v));
     }
-    printf("  wake lag: how late this client woke to send against its schedule; the machine's\n"
-           "  own delay, which no round trip on it can beat\n");
+    printf("  wake lag: how late this client woke to send against its schedule (the machine's\n"
+           "  scheduling, the server's stalls come from the same machine)\n");
 }
 
 int lc_bench_roundtrip(int argc, char **argv)

@@ -215,16 +215,19 @@ static void quiet_log(int level, const char *line)
 /* ---------------------------------------------------------------- API */
 
 /*
- * Waits up to us microseconds for the socket to have something to read,
- * with ppoll's microsecond resolution; returns at once when lws has work of
- * its own (a message to write, buffered input: "forced service").
+ * Waits until deadline_us at the latest for the socket to have something to
+ * read, or, while a message waits to go out (ours or a partial write inside
+ * lws), to take more: ppoll's microsecond resolution. Returns at once when
+ * lws has work of its own ("forced service").
  */
-static void wait_readable(lc_wsclient *c, double us)
+static void wait_socket(lc_wsclient *c, double deadline_us)
 {
     int fd = c->wsi ? (int)lws_get_socket_fd(c->wsi) : -1;
-    if (fd < 0 || c->out.head || lws_service_adjust_timeout(c->ctx, 1, 0) == 0)
+    double us = deadline_us - lc_mono_us();
+    if (fd < 0 || us <= 0 || lws_service_adjust_timeout(c->ctx, 1, 0) == 0)
         return;
-    struct pollfd p = {.fd = fd, .events = POLLIN};
+    bool sending = c->out.head || lws_partial_buffered(c->wsi);
+    struct pollfd p = {.fd = fd, .events = (short)(POLLIN | (sending ? POLLOUT : 0))};
     struct timespec ts = {(time_t)(us / 1e6), (long)fmod(us, 1e6) * 1000};
     (void)ppoll(&p, 1, &ts, NULL);
 }
@@ -242,8 +245,8 @@ static void service(lc_wsclient *c, double deadline_us)
     double us = deadline_us - lc_mono_us();
     if (us < 1000) {
         lws_service(c->ctx, -1);
-        if (!c->in.head && us > 0)
-            wait_readable(c, us);
+        if (!c->in.head)
+            wait_socket(c, deadline_us);
         return;
     }
     lws_sul_schedule(c->ctx, 0, &c->wake, on_wake, (lws_usec_t)us);

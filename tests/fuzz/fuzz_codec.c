@@ -111,8 +111,10 @@ static void check_fast_path(const char *text, size_t size, const lc_wire_limits 
                           same_doubles(ha, hb, 11),
                       "fast path header differs");
         LC_FUZZ_CHECK(a->n_ranges == b->n_ranges && a->n_points == b->n_points &&
-                          (a->z == NULL) == (b->z == NULL),
+                          (a->ranges == NULL) == (b->ranges == NULL) &&
+                          (a->xy == NULL) == (b->xy == NULL) && (a->z == NULL) == (b->z == NULL),
                       "fast path counts differ");
+        LC_FUZZ_CHECK(err.ignored == 0, "the fast path accepted a message with unknown keys");
         LC_FUZZ_CHECK(!a->ranges || same_doubles(a->ranges, b->ranges, a->n_ranges),
                       "fast path ranges differ");
         LC_FUZZ_CHECK(!a->xy || same_doubles(a->xy, b->xy, 2 * a->n_points),

@@ -1646,6 +1646,36 @@ static void test_unknown_keys(void **state)
     assert_non_null(strstr(said, tail));
     assert_true(strlen(said) < sizeof said - 1);
 
+    /* a key too long for the list is cut, never left out; later ones keep the order */
+    char longkey[200];
+    memset(longkey, 'x', 150);
+    longkey[150] = '\0';
+    snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"viewer\",\"%s\":1,\"b\":2}", longkey);
+    assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
+    assert_int_equal(err.ignored, 2);
+    assert_int_equal(err.ignored_named, 1);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_true(strncmp(said, "unknown keys 'xxxx", 18) == 0);
+    assert_non_null(strstr(said, "' and 1 more ignored"));
+    snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"viewer\",\"a\":0,\"%s\":1,\"b\":2}",
+             longkey);
+    assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_string_equal(said, "unknown keys 'a' and 2 more ignored");
+
+    /* an empty key is named as such, with its path */
+    t = unquote("{'type':'route','waypoints':[[1,2]],'':3}");
+    assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_string_equal(said, "unknown key '\"\"' ignored");
+    free(t);
+
+    /* seq is read from every message (errors echo it): known at the top level */
+    t = unquote("{'type':'robot','seq':5,'radius':0.3}");
+    assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
+    assert_int_equal(err.ignored, 0);
+    free(t);
+
     /* a scan with an extra key leaves the fast path and is still decoded */
     t = unquote("{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'angle_start':0,"
                 "'angle_step':0.1,'range_min':0.1,'range_max':10,'ranges':[1,2],"

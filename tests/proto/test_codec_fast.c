@@ -245,6 +245,11 @@ static void test_random_frames_agree(void **state)
         random_frame(&t, &r, i % 2 == 0);
         if (!compare(&p, t.s, t.len, &lim))
             fail_msg("frame %d declined (a plain sensor message):\n%.*s", i, (int)t.len, t.s);
+        /* the entry point leaves err as the cJSON path does (seq kept, nothing ignored) */
+        lc_wire_error e;
+        assert_int_equal(lc_wire_decode(t.s, t.len, &lim, &p.fast, &p.mf, &e), 0);
+        assert_true(e.code == p.err.code && e.has_seq == p.err.has_seq && e.seq == p.err.seq &&
+                    e.ignored == 0 && p.err.ignored == 0);
     }
     pair_free(&p);
     free(t.s);
@@ -381,6 +386,11 @@ static void test_declined_like_cjson(void **state)
             s[k] = over[i][k] == '\'' ? '"' : over[i][k];
         assert_int_equal(compare(&p, s, n, &tight), accepted[i]);
     }
+    /* limits below zero (only through the API): an empty list is over them too */
+    tight.max_points = -1;
+    const char *empty = "{\"type\":\"points\",\"seq\":3,\"stamp\":1.5,\"pose\":[0,0,0],\"xy\":[]}";
+    assert_int_equal(compare(&p, empty, strlen(empty), &tight), 0);
+    assert_int_equal(lc_wire_decode_slow(empty, strlen(empty), &tight, &p.slow, &p.ms, &p.err), -1);
     lc_wire_buffers_free(&buf);
     pair_free(&p);
 }
