@@ -37,20 +37,12 @@ static char *unquote(const char *s)
     return out;
 }
 
+/* A file of the source tree, whole (free it); its length in *len. */
 static char *read_text(const char *rel, size_t *len)
 {
-    FILE *f = fopen(lc_test_source_path(rel), "rb");
-    if (!f)
-        fail_msg("cannot open %s", lc_test_source_path(rel));
-    fseek(f, 0, SEEK_END);
-    long n = ftell(f);
-    fseek(f, 0, SEEK_SET);
-    char *buf = xmalloc((size_t)n + 1);
-    assert_non_null(buf);
-    assert_int_equal(fread(buf, 1, (size_t)n, f), (size_t)n);
-    buf[n] = '\0';
-    fclose(f);
-    *len = (size_t)n;
+    char *buf = lc_test_slurp_len(lc_test_source_path(rel), len);
+    if (!buf)
+        fail_msg("cannot read %s", lc_test_source_path(rel));
     return buf;
 }
 

@@ -670,17 +670,6 @@ static void test_hub_recording_fails(void **state)
 
 /* ----------------------------------------------------------- recorder */
 
-static char *slurp(const char *path)
-{
-    FILE *f = fopen(path, "rb");
-    assert_non_null(f);
-    static char buf[8192];
-    size_t n = fread(buf, 1, sizeof buf - 1, f);
-    buf[n] = '\0';
-    fclose(f);
-    return buf;
-}
-
 static const lc_record_control rec_ctl = {0, 0.005, 0.2, 0.05, 200};
 
 /* A fresh directory in dir (a "/tmp/lacuna-rec-XXXXXX" buffer), default robot and route. */
@@ -704,7 +693,8 @@ static void test_recorder(void **state)
     assert_int_equal(lc_recorder_open(&rec, dir, "r-1", &robot, &route, &ctl), 0);
     assert_int_equal(lc_recorder_line(&rec, "{\"type\":\"x\"}", 12), 0);
     /* every line is on disk before close (flushed per line) */
-    char *text = slurp(rec.path);
+    char *text = lc_test_slurp(rec.path);
+    assert_non_null(text);
     char *nl = strchr(text, '\n');
     assert_non_null(nl);
     cJSON *h = cJSON_ParseWithLength(text, (size_t)(nl - text));
@@ -718,14 +708,17 @@ static void test_recorder(void **state)
     assert_near(num(c, "dt_max"), 0.2, 0);
     cJSON_Delete(h);
     assert_string_equal(nl + 1, "{\"type\":\"x\"}\n");
+    free(text);
     /* rotated away: the reopened file starts with the header again */
     char moved[4200];
     snprintf(moved, sizeof moved, "%s.1", rec.path);
     assert_int_equal(rename(rec.path, moved), 0);
     assert_int_equal(lc_recorder_reopen(&rec, &robot, &route), 0);
     assert_int_equal(lc_recorder_line(&rec, "{}", 2), 0);
-    text = slurp(rec.path);
+    text = lc_test_slurp(rec.path);
+    assert_non_null(text);
     assert_true(strncmp(text, "{\"type\":\"scenario\",", 19) == 0);
+    free(text);
     char path[4200];
     snprintf(path, sizeof path, "%s", rec.path);
     lc_recorder_close(&rec);

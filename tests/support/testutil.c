@@ -2,6 +2,7 @@
 #include "testutil.h"
 
 #include <dirent.h>
+#include <sys/wait.h>
 
 #include <stdio.h>
 #include <stdlib.h>
@@ -87,4 +88,100 @@ int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int ma
     closedir(d);
     qsort(paths, (size_t)n, sizeof *paths, cmp_path);
     return n;
+}
+
+/* The temporary directory: empty until lc_test_tmpdir_setup made one. */
+static char tmpdir[256];
+
+int lc_test_tmpdir_setup(const char *prefix)
+{
+    int n = snprintf(tmpdir, sizeof tmpdir, "%sXXXXXX", prefix);
+    if (n < 0 || (size_t)n >= sizeof tmpdir || strchr(prefix, '\'') || !mkdtemp(tmpdir)) {
+        tmpdir[0] = '\0';
+        return -1;
+    }
+    return 0;
+}
+
+int lc_test_tmpdir_teardown(void **state)
+{
+    if (!tmpdir[0])
+        return 0;
+    char cmd[sizeof tmpdir + 16];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", tmpdir);
+    tmpdir[0] = '\0';
+    return system(cmd) == 0 ? 0 : -1;
+}
+
+/* name inside the temporary directory into buf; fails the test when cut. */
+static void tmp_path(char *buf, size_t size, const char *name)
+{
+    if (!tmpdir[0])
+        fail_msg("no temporary directory: lc_test_tmpdir_setup first");
+    int n = snprintf(buf, size, "%s/%s", tmpdir, name);
+    if (n < 0 || (size_t)n >= size)
+        fail_msg("temporary path too long: %s/%s", tmpdir, name);
+}
+
+const char *lc_test_tmp(const char *name)
+{
+    static char buf[4][LC_TEST_PATH_MAX];
+    static int k;
+    k = (k + 1) % 4;
+    tmp_path(buf[k], sizeof buf[k], name);
+    return buf[k];
+}
+
+int lc_test_lacuna(const char *args)
+{
+    const char *exe = getenv("LACUNA_EXE");
+    assert_non_null(exe);
+    char out[LC_TEST_PATH_MAX], err[LC_TEST_PATH_MAX], cmd[4096];
+    tmp_path(out, sizeof out, "out.json");
+    tmp_path(err, sizeof err, "err.txt");
+    int n = snprintf(cmd, sizeof cmd, "'%s' %s >'%s' 2>'%s'", exe, args, out, err);
+    if (n < 0 || (size_t)n >= sizeof cmd)
+        fail_msg("command line too long (%d characters): %.200s ...", n, cmd);
+    int rc = system(cmd);
+    assert_true(WIFEXITED(rc));
+    return WEXITSTATUS(rc);
+}
+
+char *lc_test_slurp_len(const char *path, size_t *len)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return NULL;
+    char *s = NULL;
+    long n = -1;
+    if (fseek(f, 0, SEEK_END) == 0)
+        n = ftell(f);
+    if (n >= 0 && fseek(f, 0, SEEK_SET) == 0)
+        s = malloc((size_t)n + 1);
+    size_t got = s ? fread(s, 1, (size_t)n, f) : 0;
+    if (s && ferror(f)) {
+        free(s);
+        s = NULL;
+    }
+    fclose(f);
+    if (!s)
+        return NULL;
+    s[got] = '\0';
+    if (len)
+        *len = got;
+    return s;
+}
+
+char *lc_test_slurp(const char *path) { return lc_test_slurp_len(path, NULL); }
+
+void lc_test_write_file(const char *path, const char *text, size_t n)
+{
+    FILE *f = fopen(path, "wb");
+    if (!f)
+        fail_msg("cannot write %s", path);
+    size_t put = fwrite(text, 1, n, f);
+    int closed = fclose(f); /* a buffered write may fail only here */
+    if (put != n || closed != 0)
+        fail_msg("%s: not written whole (%zu of %zu bytes taken, close %d)", path, put, n,
+                 closed);
 }

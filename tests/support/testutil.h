@@ -1,8 +1,10 @@
 /*
  * testutil.h - what every lacuna test shares: cmocka's includes in the order
  * 1.1.5 needs, a tolerance assertion (1.1.5 has no assert_float_equal), a
- * seeded random source, and a counting allocator for the "no allocation per
- * frame once warm" checks.
+ * seeded random source, a counting allocator for the "no allocation per
+ * frame once warm" checks, and, for the tests that run the built command, a
+ * per-test temporary directory, the command itself and whole-file reads and
+ * writes.
  */
 #ifndef LC_TESTUTIL_H
 #define LC_TESTUTIL_H
@@ -51,5 +53,43 @@ const char *lc_test_source_path(const char *rel);
  * paths (at most max); the count, or -1 when the directory cannot be read. */
 #define LC_TEST_PATH_MAX 1024
 int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int max);
+
+/* One temporary directory per test executable (one at a time), made from
+ * prefix + "XXXXXX" by mkdtemp (prefix such as "/tmp/lacuna_test_sim_",
+ * under 250 characters, no single quote), so a run left behind says whose it
+ * was. Returns 0, or -1 when it cannot be made: the shape of a cmocka group
+ * setup's result. */
+int lc_test_tmpdir_setup(const char *prefix);
+
+/* Removes the directory and everything in it (rm -rf); 0, or -1 when that
+ * fails. Has a cmocka group teardown's signature, so it can be passed as one;
+ * does nothing when no directory was made. */
+int lc_test_tmpdir_teardown(void **state);
+
+/* The path of name inside the temporary directory. The result lives in one of
+ * four static buffers used in turn: at most four results may be in use at
+ * once, and a path longer than LC_TEST_PATH_MAX - 1 fails the test. */
+const char *lc_test_tmp(const char *name);
+
+/* Runs `$LACUNA_EXE ARGS` through the shell (args is shell text: quote paths
+ * in it), stdout to out.json and stderr to err.txt in the temporary directory,
+ * and returns its exit status. Fails the test when LACUNA_EXE is not set, the
+ * command line is longer than 4095 characters, or the shell did not exit
+ * normally (killed by a signal); a command killed by a signal under the shell
+ * may instead show as status 128 + its number. Uses none of lc_test_tmp's
+ * buffers. */
+int lc_test_lacuna(const char *args);
+
+/* The whole file into a malloc'd string with a NUL after the last byte read
+ * (free it); the byte count in *len when len is not NULL (the file may hold NUL
+ * bytes of its own). NULL, without failing the test, when the file cannot be
+ * opened, sized (a pipe or a terminal: ftell fails) or read, or the memory
+ * cannot be had. A file that grows while read is cut at the size it had. */
+char *lc_test_slurp_len(const char *path, size_t *len);
+char *lc_test_slurp(const char *path);
+
+/* Writes the n bytes of text to path (created or truncated); fails the test
+ * when the file cannot be opened or not all of it written. */
+void lc_test_write_file(const char *path, const char *text, size_t n);
 
 #endif

@@ -11,59 +11,12 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/wait.h>
-#include <unistd.h>
 
 #include <cjson/cJSON.h>
 
-static char tmpdir[256];
-
-static const char *tmp(const char *name)
-{
-    static char buf[4][512];
-    static int k;
-    k = (k + 1) % 4;
-    snprintf(buf[k], sizeof buf[k], "%s/%s", tmpdir, name);
-    return buf[k];
-}
-
-static int lacuna(const char *args)
-{
-    const char *exe = getenv("LACUNA_EXE");
-    assert_non_null(exe);
-    char cmd[4096];
-    snprintf(cmd, sizeof cmd, "'%s' %s >'%s' 2>'%s'", exe, args, tmp("out.json"), tmp("err.txt"));
-    int rc = system(cmd);
-    assert_true(WIFEXITED(rc));
-    return WEXITSTATUS(rc);
-}
-
-static char *slurp(const char *path)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return NULL;
-    fseek(f, 0, SEEK_END);
-    long n = ftell(f);
-    fseek(f, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    size_t got = fread(s, 1, (size_t)n, f);
-    s[got] = '\0';
-    fclose(f);
-    return s;
-}
-
-static void write_file(const char *path, const char *text, size_t n)
-{
-    FILE *f = fopen(path, "wb");
-    assert_non_null(f);
-    fwrite(text, 1, n, f);
-    fclose(f);
-}
-
 static double result_num(const char *key)
 {
-    char *s = slurp(tmp("out.json"));
+    char *s = lc_test_slurp(lc_test_tmp("out.json"));
     cJSON *j = s ? cJSON_Parse(s) : NULL;
     if (!j)
         fail_msg("not JSON: %s", s ? s : "(none)");
@@ -78,7 +31,7 @@ static double result_num(const char *key)
 
 static bool err_has(const char *piece)
 {
-    char *s = slurp(tmp("err.txt"));
+    char *s = lc_test_slurp(lc_test_tmp("err.txt"));
     bool has = s && strstr(s, piece);
     free(s);
     return has;
@@ -89,26 +42,18 @@ static long frames_uni, frames_point;
 
 static int setup(void **state)
 {
-    snprintf(tmpdir, sizeof tmpdir, "/tmp/lacuna_test_replay_XXXXXX");
-    if (!mkdtemp(tmpdir))
+    if (lc_test_tmpdir_setup("/tmp/lacuna_test_replay_") != 0)
         return -1;
     char args[2048];
     snprintf(args, sizeof args, "sim '%s' --json --max-time 12 --out '%s'",
-             lc_test_source_path("scenarios/office_round.jsonl"), tmp("uni.jsonl"));
-    lacuna(args);
+             lc_test_source_path("scenarios/office_round.jsonl"), lc_test_tmp("uni.jsonl"));
+    lc_test_lacuna(args);
     frames_uni = (long)result_num("frames");
     snprintf(args, sizeof args, "sim '%s' --json --max-time 12 --seed 5 --out '%s'",
-             lc_test_source_path("scenarios/warehouse_aisles.jsonl"), tmp("point.jsonl"));
-    lacuna(args);
+             lc_test_source_path("scenarios/warehouse_aisles.jsonl"), lc_test_tmp("point.jsonl"));
+    lc_test_lacuna(args);
     frames_point = (long)result_num("frames");
     return frames_uni > 100 && frames_point > 100 ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    char cmd[512];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", tmpdir);
-    return system(cmd) == 0 ? 0 : -1;
 }
 
 static void test_sim_recording_replays_exactly(void **state)
@@ -117,8 +62,8 @@ static void test_sim_recording_replays_exactly(void **state)
     long frames[2] = {frames_uni, frames_point};
     for (int i = 0; i < 2; i++) {
         char args[1024];
-        snprintf(args, sizeof args, "replay '%s' --json --tolerance 0", tmp(files[i]));
-        assert_int_equal(lacuna(args), 0);
+        snprintf(args, sizeof args, "replay '%s' --json --tolerance 0", lc_test_tmp(files[i]));
+        assert_int_equal(lc_test_lacuna(args), 0);
         assert_int_equal((long)result_num("frames"), frames[i]);
         assert_int_equal((long)result_num("compared"), frames[i]);
         assert_int_equal((long)result_num("mismatches"), 0);
@@ -133,7 +78,7 @@ static void test_sim_recording_replays_exactly(void **state)
 static int edit_copy(const char *src, const char *dst, int from, const char *find,
                      const char *repl)
 {
-    char *s = slurp(src);
+    char *s = lc_test_slurp(src);
     assert_non_null(s);
     size_t n = strlen(s), cap = n + 256;
     char *out = malloc(cap);
@@ -164,7 +109,7 @@ static int edit_copy(const char *src, const char *dst, int from, const char *fin
         p += len;
         line++;
     }
-    write_file(dst, out, o);
+    lc_test_write_file(dst, out, o);
     free(out);
     free(s);
     assert_true(edited > 0);
@@ -174,33 +119,35 @@ static int edit_copy(const char *src, const char *dst, int from, const char *fin
 static void test_changed_setpoint_reported(void **state)
 {
     /* the unicycle run's setpoints have "v":; change the digits after it */
-    int line = edit_copy(tmp("uni.jsonl"), tmp("changed.jsonl"), 40, "\"v\":", "\"v\":1e-3+");
+    int line = edit_copy(lc_test_tmp("uni.jsonl"), lc_test_tmp("changed.jsonl"), 40, "\"v\":",
+                         "\"v\":1e-3+");
     (void)line;
     /* "1e-3+0.5" is not JSON: that is a bad line, exit 2 with its number */
     char args[1024], where[64];
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("changed.jsonl"));
-    assert_int_equal(lacuna(args), 2);
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("changed.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 2);
     snprintf(where, sizeof where, "changed.jsonl:%d:", line);
     assert_true(err_has(where));
 
     /* a real change: a velocity replaced by another number */
-    line = edit_copy(tmp("uni.jsonl"), tmp("changed.jsonl"), 40, "\"w\":", "\"w\":0.123456,\"x\":");
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("changed.jsonl"));
-    assert_int_equal(lacuna(args), 1);
+    line = edit_copy(lc_test_tmp("uni.jsonl"), lc_test_tmp("changed.jsonl"), 40, "\"w\":",
+                     "\"w\":0.123456,\"x\":");
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("changed.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 1);
     assert_int_equal((long)result_num("mismatches"), 1);
     assert_int_equal((long)result_num("compared"), frames_uni);
     assert_true(result_num("max_diff") > 0);
     snprintf(where, sizeof where, "changed.jsonl:%d:", line);
     assert_true(err_has(where));
     /* within a loose tolerance it is accepted (w is at most w_max = 1 apart) */
-    snprintf(args, sizeof args, "replay '%s' --json --tolerance 3", tmp("changed.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "replay '%s' --json --tolerance 3", lc_test_tmp("changed.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
 
     /* a changed state differs at any tolerance */
-    line = edit_copy(tmp("point.jsonl"), tmp("state.jsonl"), 30, "\"state\":\"tracking\"",
-                     "\"state\":\"blocked\"");
-    snprintf(args, sizeof args, "replay '%s' --json --tolerance 100", tmp("state.jsonl"));
-    assert_int_equal(lacuna(args), 1);
+    line = edit_copy(lc_test_tmp("point.jsonl"), lc_test_tmp("state.jsonl"), 30,
+                     "\"state\":\"tracking\"", "\"state\":\"blocked\"");
+    snprintf(args, sizeof args, "replay '%s' --json --tolerance 100", lc_test_tmp("state.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 1);
     assert_int_equal((long)result_num("mismatches"), 1);
     snprintf(where, sizeof where, "state.jsonl:%d:", line);
     assert_true(err_has(where));
@@ -209,7 +156,8 @@ static void test_changed_setpoint_reported(void **state)
 /* The frames alone (header, scan lines) of a recording. */
 static void frames_only(const char *src, const char *dst)
 {
-    char *s = slurp(src);
+    char *s = lc_test_slurp(src);
+    assert_non_null(s);
     FILE *f = fopen(dst, "w");
     assert_non_null(f);
     int line = 0;
@@ -227,27 +175,27 @@ static void frames_only(const char *src, const char *dst)
 
 static void test_expect_file(void **state)
 {
-    frames_only(tmp("point.jsonl"), tmp("frames.jsonl"));
+    frames_only(lc_test_tmp("point.jsonl"), lc_test_tmp("frames.jsonl"));
     char args[1024];
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("frames.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("frames.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     assert_int_equal((long)result_num("compared"), 0);
-    snprintf(args, sizeof args, "replay '%s' --json --expect '%s'", tmp("frames.jsonl"),
-             tmp("point.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "replay '%s' --json --expect '%s'", lc_test_tmp("frames.jsonl"),
+             lc_test_tmp("point.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     assert_int_equal((long)result_num("compared"), frames_point);
-    int line = edit_copy(tmp("point.jsonl"), tmp("exp2.jsonl"), 100, "\"limit\":\"",
+    int line = edit_copy(lc_test_tmp("point.jsonl"), lc_test_tmp("exp2.jsonl"), 100, "\"limit\":\"",
                          "\"vx\":9,\"limit\":\"");
     (void)line; /* a duplicate vx: a bad line of the expect file */
-    snprintf(args, sizeof args, "replay '%s' --json --expect '%s'", tmp("frames.jsonl"),
-             tmp("exp2.jsonl"));
-    assert_int_equal(lacuna(args), 2);
+    snprintf(args, sizeof args, "replay '%s' --json --expect '%s'", lc_test_tmp("frames.jsonl"),
+             lc_test_tmp("exp2.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 2);
     assert_true(err_has("exp2.jsonl:"));
-    line = edit_copy(tmp("point.jsonl"), tmp("exp3.jsonl"), 100, "\"waypoint\":",
+    line = edit_copy(lc_test_tmp("point.jsonl"), lc_test_tmp("exp3.jsonl"), 100, "\"waypoint\":",
                      "\"waypoint\":7,\"x\":");
-    snprintf(args, sizeof args, "replay '%s' --json --expect '%s'", tmp("frames.jsonl"),
-             tmp("exp3.jsonl"));
-    assert_int_equal(lacuna(args), 1);
+    snprintf(args, sizeof args, "replay '%s' --json --expect '%s'", lc_test_tmp("frames.jsonl"),
+             lc_test_tmp("exp3.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 1);
     char where[64];
     snprintf(where, sizeof where, "exp3.jsonl:%d:", line);
     assert_true(err_has(where));
@@ -256,9 +204,12 @@ static void test_expect_file(void **state)
 static void test_out_rerecords(void **state)
 {
     char args[1024];
-    snprintf(args, sizeof args, "replay '%s' --json --out '%s'", tmp("uni.jsonl"), tmp("re.jsonl"));
-    assert_int_equal(lacuna(args), 0);
-    char *a = slurp(tmp("uni.jsonl")), *b = slurp(tmp("re.jsonl"));
+    snprintf(args, sizeof args, "replay '%s' --json --out '%s'", lc_test_tmp("uni.jsonl"),
+             lc_test_tmp("re.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
+    char *a = lc_test_slurp(lc_test_tmp("uni.jsonl")), *b = lc_test_slurp(lc_test_tmp("re.jsonl"));
+    assert_non_null(a);
+    assert_non_null(b);
     assert_string_equal(a, b); /* same header, frames, setpoints and events */
     free(a);
     free(b);
@@ -266,13 +217,14 @@ static void test_out_rerecords(void **state)
 
 static void test_truncated_last_line(void **state)
 {
-    char *s = slurp(tmp("point.jsonl"));
+    char *s = lc_test_slurp(lc_test_tmp("point.jsonl"));
+    assert_non_null(s);
     size_t n = strlen(s);
-    write_file(tmp("trunc.jsonl"), s, n - 30);
+    lc_test_write_file(lc_test_tmp("trunc.jsonl"), s, n - 30);
     free(s);
     char args[1024];
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("trunc.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("trunc.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     assert_true(err_has("truncated"));
     assert_true((long)result_num("frames") >= frames_point - 1);
 }
@@ -280,10 +232,10 @@ static void test_truncated_last_line(void **state)
 static void test_bad_input(void **state)
 {
     const char *hdr = "{\"type\":\"scenario\",\"version\":1}\n";
-    write_file(tmp("header.jsonl"), hdr, strlen(hdr));
+    lc_test_write_file(lc_test_tmp("header.jsonl"), hdr, strlen(hdr));
     char args[1024];
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("header.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("header.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     assert_int_equal((long)result_num("frames"), 0);
 
     char text[512];
@@ -291,23 +243,23 @@ static void test_bad_input(void **state)
              "%s{\"type\":\"setpoint\",\"seq\":1,\"stamp\":0,\"vx\":0,\"vy\":0,"
              "\"state\":\"idle\",\"limit\":\"idle\",\"waypoint\":null}\n",
              hdr);
-    write_file(tmp("lone.jsonl"), text, strlen(text));
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("lone.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    lc_test_write_file(lc_test_tmp("lone.jsonl"), text, strlen(text));
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("lone.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     assert_true(err_has("lone.jsonl:2: setpoint without a frame"));
 
     snprintf(text, sizeof text, "%s\n{\"type\":\"scan\"}\n", hdr);
-    write_file(tmp("bad.jsonl"), text, strlen(text));
-    snprintf(args, sizeof args, "replay '%s' --json", tmp("bad.jsonl"));
-    assert_int_equal(lacuna(args), 2);
+    lc_test_write_file(lc_test_tmp("bad.jsonl"), text, strlen(text));
+    snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("bad.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 2);
     assert_true(err_has("bad.jsonl:3:"));
 
     const char *usage[] = {"replay", "replay a b", "replay '%s' --tolerance x",
                            "replay '%s' --tolerance -1", "replay '%s' --bogus",
                            "replay '%s' --expect", "replay /nonexistent/file.jsonl"};
     for (size_t i = 0; i < sizeof usage / sizeof usage[0]; i++) {
-        snprintf(args, sizeof args, usage[i], tmp("header.jsonl"));
-        if (lacuna(args) != 2)
+        snprintf(args, sizeof args, usage[i], lc_test_tmp("header.jsonl"));
+        if (lc_test_lacuna(args) != 2)
             fail_msg("'%s' did not exit 2", args);
     }
 }
@@ -322,5 +274,5 @@ int main(void)
         cmocka_unit_test(test_truncated_last_line),
         cmocka_unit_test(test_bad_input),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, setup, lc_test_tmpdir_teardown);
 }

@@ -16,67 +16,16 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/wait.h>
-#include <unistd.h>
 
 #include <cjson/cJSON.h>
 
 #include "scenario.h"
 
-static char tmpdir[256];
-
-static int setup(void **state)
-{
-    snprintf(tmpdir, sizeof tmpdir, "/tmp/lacuna_test_sim_XXXXXX");
-    return mkdtemp(tmpdir) ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    char cmd[512];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", tmpdir);
-    return system(cmd) == 0 ? 0 : -1;
-}
-
-static const char *tmp(const char *name)
-{
-    static char buf[4][512];
-    static int k;
-    k = (k + 1) % 4;
-    snprintf(buf[k], sizeof buf[k], "%s/%s", tmpdir, name);
-    return buf[k];
-}
-
-/* Runs `lacuna ARGS`, stdout to out.json and stderr to err.txt: the exit status. */
-static int lacuna(const char *args)
-{
-    const char *exe = getenv("LACUNA_EXE");
-    assert_non_null(exe);
-    char cmd[4096];
-    snprintf(cmd, sizeof cmd, "'%s' %s >'%s' 2>'%s'", exe, args, tmp("out.json"), tmp("err.txt"));
-    int rc = system(cmd);
-    assert_true(WIFEXITED(rc));
-    return WEXITSTATUS(rc);
-}
-
-static char *slurp(const char *path)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return NULL;
-    fseek(f, 0, SEEK_END);
-    long n = ftell(f);
-    fseek(f, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    size_t got = fread(s, 1, (size_t)n, f);
-    s[got] = '\0';
-    fclose(f);
-    return s;
-}
+static int setup(void **state) { return lc_test_tmpdir_setup("/tmp/lacuna_test_sim_"); }
 
 static cJSON *result(void)
 {
-    char *s = slurp(tmp("out.json"));
+    char *s = lc_test_slurp(lc_test_tmp("out.json"));
     assert_non_null(s);
     cJSON *j = cJSON_Parse(s);
     if (!j)
@@ -112,7 +61,7 @@ static const char *str(const cJSON *j, const char *key)
 /* The header of a scenario file (first line). */
 static void read_header(const char *path, lc_scenario_header *h)
 {
-    char *s = slurp(path);
+    char *s = lc_test_slurp(path);
     assert_non_null(s);
     char *nl = strchr(s, '\n');
     size_t n = nl ? (size_t)(nl - s) : strlen(s);
@@ -140,7 +89,7 @@ static void test_every_shipped_scenario(void **state)
         }
         assert_true(h.description[0] != '\0'); /* each says what it exercises */
         snprintf(args, sizeof args, "sim '%.1023s' --json", path);
-        int rc = lacuna(args);
+        int rc = lc_test_lacuna(args);
         cJSON *j = result();
         print_message("%-24s %s done=%d reached=%.0f collisions=%.0f min_clearance=%.3f "
                       "path=%.1f time=%.1f\n",
@@ -170,14 +119,6 @@ static void test_every_shipped_scenario(void **state)
     assert_true(blocked > 0);
 }
 
-static void write_file(const char *path, const char *text)
-{
-    FILE *f = fopen(path, "w");
-    assert_non_null(f);
-    fputs(text, f);
-    fclose(f);
-}
-
 /* A corridor along x: inner faces at y = -1.5 and 1.5, ends far away. */
 static void corridor_route(const char *path, const char *model, const char *start,
                            const char *route)
@@ -193,7 +134,7 @@ static void corridor_route(const char *path, const char *model, const char *star
              "\"sensor\":{\"beams\":181,\"fov\":4.71238898038469,\"range_min\":0.05,"
              "\"range_max\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},\"max_time\":60}\n",
              model, route, start);
-    write_file(path, text);
+    lc_test_write_file(path, text, strlen(text));
 }
 
 static void corridor(const char *path, const char *model, const char *start, double goal_x)
@@ -221,7 +162,7 @@ static void test_untuned_scenes(void **state)
             read_header(path, &h);
             const char *model = (h.robot.model == LC_MODEL_UNICYCLE) != other ? "unicycle" : "point";
             snprintf(args, sizeof args, "sim '%.1023s' --json --model %s", path, model);
-            lacuna(args);
+            lc_test_lacuna(args);
             cJSON *j = result();
             print_message("%-18s %-8s %s reached=%.0f collisions=%.0f min_clearance=%.3f\n",
                           name, model, str(j, "outcome"), num(j, "waypoints_reached"),
@@ -241,10 +182,10 @@ static void test_untuned_scenes(void **state)
 
 static void test_corridor_closed_form(void **state)
 {
-    corridor(tmp("corridor.jsonl"), "point", "[0,0,0]", 6);
+    corridor(lc_test_tmp("corridor.jsonl"), "point", "[0,0,0]", 6);
     char args[1024];
-    snprintf(args, sizeof args, "sim '%s' --json", tmp("corridor.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "sim '%s' --json", lc_test_tmp("corridor.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     cJSON *j = result();
     assert_true(flag(j, "done"));
     assert_int_equal((int)num(j, "collisions"), 0);
@@ -260,10 +201,10 @@ static void test_corridor_closed_form(void **state)
 static void test_unicycle_turns_and_arrives(void **state)
 {
     /* facing +y, waypoint ahead along +x: a turn, then the corridor */
-    corridor(tmp("turn.jsonl"), "unicycle", "[0,0,1.5707963267948966]", 5);
+    corridor(lc_test_tmp("turn.jsonl"), "unicycle", "[0,0,1.5707963267948966]", 5);
     char args[1024];
-    snprintf(args, sizeof args, "sim '%s' --json", tmp("turn.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "sim '%s' --json", lc_test_tmp("turn.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     cJSON *j = result();
     assert_true(flag(j, "done"));
     /* no path shorter than the straight line less the tolerance (triangle inequality) */
@@ -274,11 +215,11 @@ static void test_unicycle_turns_and_arrives(void **state)
 
 static void test_looping_route_ends_after_one_lap(void **state)
 {
-    corridor_route(tmp("loop.jsonl"), "unicycle", "[0,0,0]",
+    corridor_route(lc_test_tmp("loop.jsonl"), "unicycle", "[0,0,0]",
                    "{\"waypoints\":[[3,0],[6,0.5],[1,-0.5]],\"loop\":true}");
     char args[1024];
-    snprintf(args, sizeof args, "sim '%s' --json", tmp("loop.jsonl"));
-    assert_int_equal(lacuna(args), 0);
+    snprintf(args, sizeof args, "sim '%s' --json", lc_test_tmp("loop.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 0);
     cJSON *j = result();
     assert_true(flag(j, "done"));
     assert_int_equal((int)num(j, "waypoints_reached"), 3);
@@ -288,10 +229,10 @@ static void test_looping_route_ends_after_one_lap(void **state)
 static void test_start_in_contact_is_a_collision(void **state)
 {
     /* 0.2 m from the inner face of the lower wall: clearance 0.2 - 0.3 */
-    corridor(tmp("contact.jsonl"), "point", "[0,-1.3,0]", 4);
+    corridor(lc_test_tmp("contact.jsonl"), "point", "[0,-1.3,0]", 4);
     char args[1024];
-    snprintf(args, sizeof args, "sim '%s' --json --max-time 2", tmp("contact.jsonl"));
-    assert_int_equal(lacuna(args), 1);
+    snprintf(args, sizeof args, "sim '%s' --json --max-time 2", lc_test_tmp("contact.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 1);
     cJSON *j = result();
     assert_true(num(j, "collisions") >= 1);
     assert_near(num(j, "min_clearance"), -0.1, 1e-9);
@@ -308,9 +249,9 @@ static void test_seed_repeats(void **state)
     char *text[3];
     for (int i = 0; i < 3; i++) {
         snprintf(args, sizeof args, "sim '%s' --json --seed %s --max-time 3 --out '%s'", scen,
-                 seeds[i], tmp(runs[i]));
-        lacuna(args);
-        text[i] = slurp(tmp(runs[i]));
+                 seeds[i], lc_test_tmp(runs[i]));
+        lc_test_lacuna(args);
+        text[i] = lc_test_slurp(lc_test_tmp(runs[i]));
         assert_non_null(text[i]);
     }
     assert_string_equal(text[0], text[1]);
@@ -322,9 +263,11 @@ static void test_seed_repeats(void **state)
 static void test_usage_errors(void **state)
 {
     const char *scen = lc_test_source_path("scenarios/office_round.jsonl");
-    write_file(tmp("noworld.jsonl"), "{\"type\":\"scenario\",\"version\":1,\"route\":"
-                                     "{\"waypoints\":[[1,1]]},\"start\":[0,0,0]}\n");
-    write_file(tmp("bad.jsonl"), "{\"type\":\"scenario\",\"version\":1,\"world\":7}\n");
+    const char *noworld = "{\"type\":\"scenario\",\"version\":1,\"route\":"
+                          "{\"waypoints\":[[1,1]]},\"start\":[0,0,0]}\n";
+    const char *bad = "{\"type\":\"scenario\",\"version\":1,\"world\":7}\n";
+    lc_test_write_file(lc_test_tmp("noworld.jsonl"), noworld, strlen(noworld));
+    lc_test_write_file(lc_test_tmp("bad.jsonl"), bad, strlen(bad));
     const char *cases[] = {
         "sim", "sim --json", "sim '%s' --connect http://127.0.0.1:7640",
         "sim '%s' --laps 2", "sim '%s' --connect ws://127.0.0.1:7640 --out /dev/null",
@@ -334,18 +277,19 @@ static void test_usage_errors(void **state)
     char args[2048];
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
         snprintf(args, sizeof args, cases[i], scen);
-        if (lacuna(args) != 2)
+        if (lc_test_lacuna(args) != 2)
             fail_msg("'%s' did not exit 2", args);
     }
-    snprintf(args, sizeof args, "sim '%s'", tmp("noworld.jsonl"));
-    assert_int_equal(lacuna(args), 2);
-    snprintf(args, sizeof args, "sim '%s'", tmp("bad.jsonl"));
-    assert_int_equal(lacuna(args), 2);
-    char *err = slurp(tmp("err.txt"));
+    snprintf(args, sizeof args, "sim '%s'", lc_test_tmp("noworld.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 2);
+    snprintf(args, sizeof args, "sim '%s'", lc_test_tmp("bad.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 2);
+    char *err = lc_test_slurp(lc_test_tmp("err.txt"));
+    assert_non_null(err);
     assert_non_null(strstr(err, "bad.jsonl:1:"));
     free(err);
-    snprintf(args, sizeof args, "sim '%s'", tmp("missing.jsonl"));
-    assert_int_equal(lacuna(args), 2);
+    snprintf(args, sizeof args, "sim '%s'", lc_test_tmp("missing.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 2);
 }
 
 int main(void)
@@ -360,5 +304,5 @@ int main(void)
         cmocka_unit_test(test_seed_repeats),
         cmocka_unit_test(test_usage_errors),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, setup, lc_test_tmpdir_teardown);
 }

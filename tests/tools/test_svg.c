@@ -11,48 +11,10 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/wait.h>
-#include <unistd.h>
 
 #include "svg.h"
 
-static char tmpdir[256];
-
-static int setup(void **state)
-{
-    snprintf(tmpdir, sizeof tmpdir, "/tmp/lacuna_test_svg_XXXXXX");
-    return mkdtemp(tmpdir) ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    char cmd[512];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", tmpdir);
-    return system(cmd) == 0 ? 0 : -1;
-}
-
-static const char *tmp(const char *name)
-{
-    static char buf[4][512];
-    static int k;
-    k = (k + 1) % 4;
-    snprintf(buf[k], sizeof buf[k], "%s/%s", tmpdir, name);
-    return buf[k];
-}
-
-static char *slurp(const char *path)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return NULL;
-    fseek(f, 0, SEEK_END);
-    long n = ftell(f);
-    fseek(f, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    size_t got = fread(s, 1, (size_t)n, f);
-    s[got] = '\0';
-    fclose(f);
-    return s;
-}
+static int setup(void **state) { return lc_test_tmpdir_setup("/tmp/lacuna_test_svg_"); }
 
 static bool have_xmllint(void) { return system("command -v xmllint >/dev/null 2>&1") == 0; }
 
@@ -74,7 +36,7 @@ static void assert_layers(const char *path, bool world)
 {
     static const char *const ids[] = {"seen", "regions", "trajectory", "route", "robot",
                                       "clearance"};
-    char *s = slurp(path);
+    char *s = lc_test_slurp(path);
     assert_non_null(s);
     for (size_t i = 0; i < sizeof ids / sizeof ids[0]; i++) {
         char want[64];
@@ -135,10 +97,11 @@ static void test_synthetic_run(void **state)
     lc_polyset world = {0};
     lc_polyset_push(&world, NULL, wall, 2, 0);
     lc_svg_scene sc = {.title = "synthetic", .world = &world, .route = &route, .radius = 0.3};
-    write_svg(tmp("synthetic.svg"), &run, &sc);
-    assert_valid_xml(tmp("synthetic.svg"));
-    assert_layers(tmp("synthetic.svg"), true);
-    char *s = slurp(tmp("synthetic.svg"));
+    write_svg(lc_test_tmp("synthetic.svg"), &run, &sc);
+    assert_valid_xml(lc_test_tmp("synthetic.svg"));
+    assert_layers(lc_test_tmp("synthetic.svg"), true);
+    char *s = lc_test_slurp(lc_test_tmp("synthetic.svg"));
+    assert_non_null(s);
     assert_non_null(strstr(s, "<title>synthetic</title>"));
     free(s);
     lc_polyset_free(&world, NULL);
@@ -151,60 +114,54 @@ static void test_degenerate_runs(void **state)
     lc_svg_run run;
 
     lc_svg_run_init(&run, 0); /* no frame at all */
-    write_svg(tmp("empty.svg"), &run, &sc);
-    assert_valid_xml(tmp("empty.svg"));
-    assert_layers(tmp("empty.svg"), false);
-    char *s = slurp(tmp("empty.svg"));
+    write_svg(lc_test_tmp("empty.svg"), &run, &sc);
+    assert_valid_xml(lc_test_tmp("empty.svg"));
+    assert_layers(lc_test_tmp("empty.svg"), false);
+    char *s = lc_test_slurp(lc_test_tmp("empty.svg"));
+    assert_non_null(s);
     assert_non_null(strstr(s, "&lt;site&gt; &amp; &quot;quotes&quot;"));
     free(s);
     lc_svg_run_free(&run);
 
     lc_svg_run_init(&run, 1); /* one frame, unknown clearance */
     fill_run(&run, 1, 1.0, NAN);
-    write_svg(tmp("one.svg"), &run, &sc);
-    assert_valid_xml(tmp("one.svg"));
-    s = slurp(tmp("one.svg"));
+    write_svg(lc_test_tmp("one.svg"), &run, &sc);
+    assert_valid_xml(lc_test_tmp("one.svg"));
+    s = lc_test_slurp(lc_test_tmp("one.svg"));
+    assert_non_null(s);
     assert_null(strstr(s, "nan"));
     free(s);
     lc_svg_run_free(&run);
 
     lc_svg_run_init(&run, 1); /* huge coordinates, many frames: thinned, still finite */
     fill_run(&run, 5000, 1e6, INFINITY);
-    write_svg(tmp("huge.svg"), &run, &sc);
-    assert_valid_xml(tmp("huge.svg"));
-    s = slurp(tmp("huge.svg"));
+    write_svg(lc_test_tmp("huge.svg"), &run, &sc);
+    assert_valid_xml(lc_test_tmp("huge.svg"));
+    s = lc_test_slurp(lc_test_tmp("huge.svg"));
+    assert_non_null(s);
     assert_null(strstr(s, "nan"));
     assert_null(strstr(s, "inf"));
     free(s);
     lc_svg_run_free(&run);
 }
 
-static int lacuna(const char *args)
-{
-    const char *exe = getenv("LACUNA_EXE");
-    assert_non_null(exe);
-    char cmd[4096];
-    snprintf(cmd, sizeof cmd, "'%s' %s >/dev/null 2>'%s'", exe, args, tmp("err.txt"));
-    int rc = system(cmd);
-    assert_true(WIFEXITED(rc));
-    return WEXITSTATUS(rc);
-}
-
 static void test_sim_and_replay_pictures(void **state)
 {
     char args[2048];
     snprintf(args, sizeof args, "sim '%s' --json --max-time 8 --svg '%s' --out '%s'",
-             lc_test_source_path("scenarios/plant_room.jsonl"), tmp("sim.svg"), tmp("run.jsonl"));
-    lacuna(args);
-    assert_valid_xml(tmp("sim.svg"));
-    assert_layers(tmp("sim.svg"), true);
-    snprintf(args, sizeof args, "replay '%s' --json --svg '%s'", tmp("run.jsonl"),
-             tmp("replay.svg"));
-    assert_int_equal(lacuna(args), 0);
-    assert_valid_xml(tmp("replay.svg"));
-    assert_layers(tmp("replay.svg"), false); /* replay draws what was seen */
-    snprintf(args, sizeof args, "replay '%s' --svg /nonexistent/dir/x.svg", tmp("run.jsonl"));
-    assert_int_equal(lacuna(args), 1);
+             lc_test_source_path("scenarios/plant_room.jsonl"), lc_test_tmp("sim.svg"),
+             lc_test_tmp("run.jsonl"));
+    lc_test_lacuna(args);
+    assert_valid_xml(lc_test_tmp("sim.svg"));
+    assert_layers(lc_test_tmp("sim.svg"), true);
+    snprintf(args, sizeof args, "replay '%s' --json --svg '%s'", lc_test_tmp("run.jsonl"),
+             lc_test_tmp("replay.svg"));
+    assert_int_equal(lc_test_lacuna(args), 0);
+    assert_valid_xml(lc_test_tmp("replay.svg"));
+    assert_layers(lc_test_tmp("replay.svg"), false); /* replay draws what was seen */
+    snprintf(args, sizeof args, "replay '%s' --svg /nonexistent/dir/x.svg",
+             lc_test_tmp("run.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 1);
 }
 
 int main(void)
@@ -214,5 +171,5 @@ int main(void)
         cmocka_unit_test(test_degenerate_runs),
         cmocka_unit_test(test_sim_and_replay_pictures),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, setup, lc_test_tmpdir_teardown);
 }
