@@ -1053,6 +1053,8 @@
     setClass('f-minclear', clearanceClass(r.minClear, v));
     var fr = frameRate(r, t), vr = rate(r.arrivals, t);
     setText('f-rate', finite(fr) ? fr.toFixed(1) + ' /s' : '\u2013');
+    setText('f-plan', silent || !finite(v.plan_us) ? '\u2013' : Math.round(v.plan_us) + ' \u00b5s' +
+      (finite(v.plan_max_us) && v.plan_max_us > v.plan_us ? ' (up to ' + Math.round(v.plan_max_us) + ')' : ''));
     setText('f-views', finite(vr) ? vr.toFixed(1) + ' /s' : '\u2013');
     setText('f-age', fmtAge(t - r.lastArrival));
     setClass('f-age', silent ? 'bad' : '');

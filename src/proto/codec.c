@@ -1852,6 +1852,8 @@ int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m)
     kv_num(t, "a_max", m->desc ? m->desc->a_max : NAN, dec);
     kv_num(t, "w_max", m->desc ? m->desc->w_max : NAN, dec);
     kv_num(t, "dw_max", m->desc ? m->desc->dw_max : NAN, dec);
+    kv_num(t, "plan_us", m->plan_us > 0 ? m->plan_us : NAN, 1);
+    kv_num(t, "plan_max_us", m->plan_max_us > 0 ? m->plan_max_us : NAN, 1);
     w_key(t, "pose");
     if (m->result)
         w_pose(t, m->pose, dec);

@@ -308,6 +308,9 @@ typedef struct lc_wire_view {
     int64_t seq;                    /* of the last accepted frame, -1 none */
     double stamp;
     const lc_wire_setpoint *setpoint; /* last sent; NULL: none yet */
+    /* us the last frame's plan took, and the longest of it and the frames
+     * since the previous view; 0 (or less): not measured, written as null */
+    double plan_us, plan_max_us;
 } lc_wire_view;
 
 /*

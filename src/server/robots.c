@@ -79,6 +79,7 @@ struct bot {
     double stamp;
     lc_pose pose;
     lc_plan_result result;
+    double plan_max_us;   /* the longest plan since the last view (0: none) */
     lc_wire_setpoint last_sp;
     bool has_sp;
     double watchdog_at;   /* INFINITY: not armed */
@@ -372,6 +373,8 @@ static bot *bot_new(lc_hub *hub, lc_conn *c, const char *name)
     lc_robot_default(&b->desc);
     lc_route_default(&b->route);
     b->core = lc_session_new(&b->desc, &hub->plan, NULL);
+    if (b->core && hub->cfg.clock)
+        lc_session_set_clock(b->core, hub->cfg.clock);
     if (!b->core) {
         free(b);
         return NULL;
@@ -631,6 +634,7 @@ static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
         b->resting = false;
     }
     int rc = lc_session_step(b->core, f, dt, &b->result);
+    b->plan_max_us = fmax(b->plan_max_us, b->result.total_us);
     b->has_frame = true;
     b->seq = f->seq;
     b->stamp = f->stamp;
@@ -891,7 +895,11 @@ static void broadcast_view(lc_hub *hub, bot *b, double now)
                       .route = b->has_route ? &b->route : NULL,
                       .result = b->has_frame ? &b->result : NULL,
                       .pose = b->pose, .seq = b->seq, .stamp = b->stamp,
-                      .setpoint = b->has_sp ? &b->last_sp : NULL};
+                      .setpoint = b->has_sp ? &b->last_sp : NULL,
+                      .plan_us = b->has_frame ? b->result.total_us : 0.0};
+    /* the longest of the frames since the previous view, the last one among them */
+    v.plan_max_us = fmax(b->plan_max_us, v.plan_us);
+    b->plan_max_us = 0.0;
     if (lc_wire_encode_view(&hub->text, &v) < 0)
         return;
     msg *m = msg_new(hub, hub->text.s, (size_t)hub->text.len);

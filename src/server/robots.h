@@ -54,6 +54,9 @@ typedef struct lc_hub_config {
     const char *viewer_token; /* NULL: viewers need none */
     size_t headroom;          /* bytes before every outgoing message */
     const lc_plan_config *plan; /* NULL: defaults */
+    /* Times each plan (the view's plan_us, for field tests on a small
+     * computer); timing never changes a result. NULL: not timed. */
+    const lc_clock *clock;
     lc_hub_io io;
 } lc_hub_config;
 

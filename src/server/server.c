@@ -54,6 +54,15 @@ static double now_s(void)
     return (double)ts.tv_sec + ts.tv_nsec * 1e-9;
 }
 
+/* The same clock in microseconds, for timing each plan. */
+static double now_us(void *data)
+{
+    (void)data;
+    return now_s() * 1e6;
+}
+
+static const lc_clock plan_clock = {now_us, NULL};
+
 int lc_listen_parse(const char *text, lc_listen_addr *out, char *err, size_t n)
 {
     memset(out, 0, sizeof *out);
@@ -436,6 +445,7 @@ int lc_server_run(const lc_server_params *p)
     server s = {.p = p};
     lc_hub_config hc = {.opts = *p->cfg, .robot_token = p->robot_token,
                         .viewer_token = p->viewer_token, .headroom = LWS_PRE,
+                        .clock = &plan_clock,
                         .io = {.wake = hub_wake, .kill = hub_kill, .data = &s}};
     s.hub = lc_hub_new(&hc);
     if (!s.hub)

@@ -1151,7 +1151,7 @@ static void test_view(void **state)
     sent.sp = lc_setpoint_stop(LC_LIMIT_STALE);
     lc_wire_view v = {.robot = "rover \"7\"", .desc = &robot, .route = &route,
                       .result = &s.r, .pose = {1.23456789, 0, 0.1}, .seq = 41,
-                      .stamp = 12.35, .setpoint = &sent};
+                      .stamp = 12.35, .setpoint = &sent, .plan_us = 48.25, .plan_max_us = 71.5};
     lc_wire_text t;
     lc_wire_text_init(&t, NULL);
     assert_int_equal(lc_wire_encode_view(&t, &v), 0);
@@ -1177,6 +1177,14 @@ static void test_view(void **state)
     assert_int_equal(cJSON_GetObjectItemCaseSensitive(rt, "current")->valuedouble, 1);
     assert_non_null(cJSON_GetObjectItemCaseSensitive(j, "region"));
     assert_non_null(cJSON_GetObjectItemCaseSensitive(j, "grown"));
+    /* the robot's limits, the route's policy and the plan time (0.1 us) for the panel */
+    assert_true(cJSON_GetObjectItemCaseSensitive(j, "v_max")->valuedouble == robot.v_max);
+    assert_true(cJSON_GetObjectItemCaseSensitive(j, "dw_max")->valuedouble == robot.dw_max);
+    assert_string_equal(cJSON_GetObjectItemCaseSensitive(rt, "on_blocked")->valuestring,
+                        route.on_blocked == LC_BLOCKED_SKIP ? "skip" : "wait");
+    assert_true(cJSON_GetObjectItemCaseSensitive(j, "plan_us")->valuedouble == 48.3 ||
+                cJSON_GetObjectItemCaseSensitive(j, "plan_us")->valuedouble == 48.2);
+    assert_true(cJSON_GetObjectItemCaseSensitive(j, "plan_max_us")->valuedouble == 71.5);
     cJSON_Delete(j);
 
     /* before any frame: geometry null, no route */
@@ -1188,6 +1196,8 @@ static void test_view(void **state)
     assert_true(cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(j, "region")));
     assert_true(cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(j, "route")));
     assert_true(cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(j, "seq")));
+    assert_true(cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(j, "plan_us")));
+    assert_true(cJSON_IsNull(cJSON_GetObjectItemCaseSensitive(j, "v_max")));
     assert_string_equal(cJSON_GetObjectItemCaseSensitive(j, "state")->valuestring, "idle");
     cJSON_Delete(j);
     lc_wire_text_free(&t);

@@ -214,6 +214,11 @@ async def test_views(srv):
               "view carries the robot's limits: %s" % {k: last.get(k) for k in ("v_max", "a_max")})
         check(last["route"].get("on_blocked") == "wait" and last["route"].get("blocked_time") == 10,
               "view carries the route's blocked policy: %s" % last["route"])
+        # the server times each plan: a positive figure, the longest at least the last
+        plan, most = last.get("plan_us"), last.get("plan_max_us")
+        check(isinstance(plan, (int, float)) and plan > 0 and isinstance(most, (int, float))
+              and most >= plan, "view carries the plan time: %s, %s" % (plan, most))
+        FIGURES["view_plan_us"] = plan
     await r.close()
     await v.close()
 

@@ -352,6 +352,7 @@ async function main() {
       setpoint: document.getElementById('f-setpoint').textContent,
       rate: document.getElementById('f-rate').textContent,
       age: document.getElementById('f-age').textContent,
+      plan: document.getElementById('f-plan').textContent,
     }));
     log('panel: ' + JSON.stringify(panel));
     check(panel.name === ROBOT_NAME, 'panel names the robot', panel.name);
@@ -362,6 +363,7 @@ async function main() {
     check(!/\((v_max|a_max|w_max)\)/.test(panel.limit), 'panel gives the limit its value',
           panel.limit);
     check(/\/s$/.test(panel.rate), 'panel shows the robot frame rate', panel.rate);
+    check(/^\d+ \u00b5s/.test(panel.plan), 'panel shows the plan time in microseconds', panel.plan);
 
     /* ---- 5: hidden tab: no drawing, views still counted */
     const before = await dataset(page);
