@@ -1,5 +1,6 @@
 #!/usr/bin/env bash
-# dev.sh - the README's quick start: `./dev.sh demo` and `./dev.sh test`.
+# dev.sh - the README's quick start: `./dev.sh demo` and `./dev.sh test`;
+# `./dev.sh bench` measures the README's performance figures again.
 #
 # Each command does its own set-up on a fresh Debian 12 machine: installs the
 # Debian packages that are missing (as root, or through sudo), configures
@@ -78,11 +79,24 @@ cmd_test() {
     say "all tests passed (normal and ASan+UBSan builds, fuzzing)"
 }
 
+# The README's performance figures, measured again on this machine: every
+# stage, the ellipse solver beside Ipopt, decoding, then the websocket round
+# trip (five runs). Prints figures; never a pass or fail on time.
+cmd_bench() {
+    ensure_packages "${RUNTIME_PKGS[@]}" coinor-libipopt-dev
+    build build -Dipopt=enabled
+    say "lacuna bench (about 15 s)"
+    build/lacuna bench
+    say "lacuna bench --roundtrip --runs 5 (about 30 s)"
+    build/lacuna bench --roundtrip --runs 5
+}
+
 case "${1:-}" in
 demo) cmd_demo ;;
 test) cmd_test ;;
+bench) cmd_bench ;;
 *)
-    echo "usage: ./dev.sh demo | ./dev.sh test" >&2
+    echo "usage: ./dev.sh demo | ./dev.sh test | ./dev.sh bench" >&2
     exit 2
     ;;
 esac
