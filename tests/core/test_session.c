@@ -46,6 +46,17 @@ static lc_frame scan_of(const lc_world *w, const lc_sensor *s, lc_pose pose, dou
                       .range_max = s->range_max, .ranges = ranges, .n_ranges = s->beams};
 }
 
+/* Frame k of a closed loop: a scan at pose, stamped k dt, planned by ses. */
+static void step_frame(lc_session *ses, const lc_world *w, const lc_sensor *s, lc_pose pose,
+                       double *ranges, lc_sim_rng *rng, int k, double dt, lc_frame *f,
+                       lc_plan_result *r)
+{
+    *f = scan_of(w, s, pose, ranges, rng);
+    f->seq = k;
+    f->stamp = k * dt;
+    assert_int_equal(lc_session_step(ses, f, dt, r), 0);
+}
+
 /* The robot follows sp exactly for dt (the simulator's kinematics). */
 static lc_pose follow(lc_pose pose, const lc_setpoint *sp, lc_model model, double dt)
 {
@@ -157,11 +168,9 @@ static void test_promises_on_shipped_scenarios(void **state)
         lc_sim_rng g = {1};
         lc_pose pose = h.start;
         for (int k = 0; k < 600; k++) {
-            lc_frame f = scan_of(&w, &sen, pose, ranges, &g);
-            f.seq = k;
-            f.stamp = k * dt;
+            lc_frame f;
             lc_plan_result r;
-            assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+            step_frame(ses, &w, &sen, pose, ranges, &g, k, dt, &f, &r);
             if (r.state == LC_STATE_DONE)
                 break;
             if (k % 3 == 0 && r.state != LC_STATE_TOO_CLOSE && r.has_waypoint) {
@@ -344,11 +353,9 @@ static void test_standoff_at_blocked_waypoint(void **state)
         int too_close = 0;
         double nearest = INFINITY, dt = 0.05;
         for (int k = 0; k < 400; k++) {
-            lc_frame f = scan_of(&w, &sen, pose, ranges, &noise);
-            f.seq = k;
-            f.stamp = k * dt;
+            lc_frame f;
             lc_plan_result r;
-            assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+            step_frame(ses, &w, &sen, pose, ranges, &noise, k, dt, &f, &r);
             too_close += r.state == LC_STATE_TOO_CLOSE;
             pose = follow(pose, &r.setpoint, robot.model, dt);
             nearest = fmin(nearest, 2.0 - pose.x);
@@ -434,11 +441,9 @@ static void run_patrol(const lc_route *route, double seconds, patrol_run *out)
     memset(out, 0, sizeof *out);
     bool blocked_seen = false;
     for (int k = 0; k * dt < seconds; k++) {
-        lc_frame f = scan_of(&w, &sen, pose, ranges, &g);
-        f.seq = k;
-        f.stamp = k * dt;
+        lc_frame f;
         lc_plan_result r;
-        assert_int_equal(lc_session_step(ses, &f, dt, &r), 0);
+        step_frame(ses, &w, &sen, pose, ranges, &g, k, dt, &f, &r);
         for (int i = 0; i < r.n_events && out->n < 32; i++, out->n++) {
             out->kinds[out->n] = r.events[i].kind;
             out->waypoints[out->n] = r.events[i].waypoint;
