@@ -162,6 +162,12 @@ static void error_clear(lc_wire_error *err)
     err->ignored_keys[0] = '\0';
 }
 
+/* c as a message shows it between quote characters: printable ASCII, else '?'. */
+static char shown_char(char c, char quote)
+{
+    return c >= 0x20 && c < 0x7f && c != quote && c != '\\' ? c : '?';
+}
+
 /* "path.key", or "key" without a path, or "path" without a key. */
 static void join_name(char *buf, size_t n, const char *path, const char *key)
 {
@@ -413,8 +419,7 @@ static void note_ignored(lc_wire_error *err, const char *path, const char *key)
     char name[LC_WIRE_KEY_SHOWN];
     join_name(name, sizeof name, path, key[0] ? key : "\"\"");
     for (char *c = name; *c; c++)
-        if (*c < 0x20 || *c > 0x7e || *c == '\'' || *c == '\\')
-            *c = '?';
+        *c = shown_char(*c, '\'');
     size_t used = strlen(err->ignored_keys), room = sizeof err->ignored_keys - used;
     /* ", 'name'" and the NUL */
     if (strlen(name) + 5 > room) {
@@ -1117,7 +1122,7 @@ static int message_type(const cJSON *root, lc_msg_type *type, lc_wire_error *err
         char shown[33];
         size_t k = 0;
         for (const char *s = it->valuestring; *s && k < sizeof shown - 1; s++)
-            shown[k++] = (*s >= 0x20 && *s < 0x7f && *s != '"' && *s != '\\') ? *s : '?';
+            shown[k++] = shown_char(*s, '"');
         shown[k] = '\0';
         return fail(err, LC_WIRE_UNKNOWN_TYPE, NULL, "type", "unknown type \"%s\"", shown);
     }
