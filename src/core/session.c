@@ -33,6 +33,12 @@ struct lc_session {
     lc_region_ws rws;
     lc_halfspace *motion_h; /* the region as the motion law sees it (drive) */
     int cap_motion_h;
+    /* the frame driver (lc_session_drive) */
+    lc_control control;
+    bool driven;     /* a frame has been driven: prev_stamp and last_reply hold */
+    double prev_stamp;
+    bool resting;    /* stopped outside a frame: the next one starts from rest */
+    lc_reply last_reply;
 };
 
 static const char *const stage_names[LC_STAGE_COUNT] = {
@@ -77,6 +83,8 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
         lc_plan_config_default(&s->cfg);
     lc_route_default(&s->route);
     lc_patrol_reset(&s->patrol);
+    lc_control_default(&s->control);
+    s->last_reply = (lc_reply){.seq = -1, .waypoint = -1};
     s->hull = lc_hull_new(&s->alloc);
     if (!s->hull) {
         alloc->realloc(alloc->data, s, 0);
@@ -492,4 +500,41 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     stamp_stage(s, out, LC_STAGE_SETPOINT, &t);
     out->total_us = lc_clock_now(&s->clock) - t_start;
     return 0;
+}
+
+/* ------------------------------------------------------- frame driver */
+
+void lc_session_set_control(lc_session *s, const lc_control *control) { s->control = *control; }
+const lc_control *lc_session_control(const lc_session *s) { return &s->control; }
+
+int lc_session_drive(lc_session *s, const lc_frame *frame, lc_plan_result *out,
+                     lc_reply *reply)
+{
+    double dt = lc_control_dt(&s->control, !s->driven, s->prev_stamp, frame->stamp);
+    if (s->resting) {
+        s->last = lc_setpoint_stop(LC_LIMIT_STALE);
+        s->resting = false;
+    }
+    int rc = lc_session_step(s, frame, dt, out);
+    s->driven = true;
+    s->prev_stamp = frame->stamp;
+    s->last_reply = (lc_reply){.seq = frame->seq,
+                               .stamp = frame->stamp,
+                               .model = s->robot.model,
+                               .sp = out->setpoint,
+                               .state = out->state,
+                               .waypoint = out->has_waypoint ? out->waypoint_index : -1};
+    *reply = s->last_reply;
+    return rc;
+}
+
+void lc_session_stop(lc_session *s, lc_state state, lc_limit limit, lc_reply *out)
+{
+    s->resting = true;
+    if (!out)
+        return;
+    *out = s->last_reply;
+    out->model = s->robot.model;
+    out->sp = lc_setpoint_stop(limit);
+    out->state = state;
 }

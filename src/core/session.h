@@ -24,6 +24,7 @@
 #include "robot.h"
 #include "segment.h"
 #include "clock.h"
+#include "control.h"
 
 
 typedef struct lc_plan_config {
@@ -102,7 +103,32 @@ void lc_session_set_goal(lc_session *s, lc_vec2 goal_world);
 /*
  * One frame: plan and produce the setpoint for control period dt (s).
  * Returns 0, or -1 when out of memory (then the result holds a stop).
+ * `lacuna plan` and the bench call it with their own dt; a stream of frames
+ * goes through lc_session_drive.
  */
 int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_result *out);
+
+/*
+ * The frame driver: the one way a stream of frames is stepped (lacuna
+ * serve, replay, sim), so that what is replayed is what ran. It takes the
+ * step's period from the control settings (control.h), starts from rest
+ * after lc_session_stop, steps the session and fills the reply that answers
+ * the frame. Returns what lc_session_step returns; the reply is filled
+ * either way (a stop when out of memory).
+ */
+int lc_session_drive(lc_session *s, const lc_frame *frame, lc_plan_result *out,
+                     lc_reply *reply);
+
+/* The settings lc_session_drive uses (default: lc_control_default). */
+void lc_session_set_control(lc_session *s, const lc_control *control);
+const lc_control *lc_session_control(const lc_session *s);
+
+/*
+ * The robot was told to stop outside a frame (the server's watchdog, or
+ * shutdown): out (may be NULL) gets the stop reply with `state` and
+ * `limit`, echoing the last driven frame's seq and stamp and its waypoint;
+ * the next driven frame starts from rest.
+ */
+void lc_session_stop(lc_session *s, lc_state state, lc_limit limit, lc_reply *out);
 
 #endif

@@ -157,15 +157,9 @@ typedef struct lc_wire_welcome {
     int max_waypoints; /* 0 when absent */
 } lc_wire_welcome;
 
-/* One setpoint message; `model` says which pair is on the wire. */
-typedef struct lc_wire_setpoint {
-    int64_t seq;
-    double stamp;
-    lc_model model;    /* point: vx, vy; unicycle: v, w */
-    lc_setpoint sp;    /* sp.limit is "limit" */
-    lc_state state;
-    int waypoint;      /* current waypoint index, -1 (null) when none */
-} lc_wire_setpoint;
+/* One setpoint message: the core's reply to a frame (control.h); `model`
+ * says which pair is on the wire, sp.limit is "limit", waypoint -1 is null. */
+typedef lc_reply lc_wire_setpoint;
 
 typedef struct lc_wire_event {
     lc_event ev;       /* ev.waypoint -1 (null) when none */

@@ -15,7 +15,7 @@
 
 #include <cjson/cJSON.h>
 
-static int read_control(const cJSON *o, lc_scenario_control *c, lc_wire_error *we);
+static int read_control(const cJSON *o, lc_control *c, lc_wire_error *we);
 
 static const char *const expect_names[] = {"done", "blocked"};
 
@@ -52,6 +52,15 @@ double lc_scenario_first_dt(const lc_scenario_header *h)
     if (h->has_sensor && h->sensor.rate > 0 && isfinite(h->sensor.rate))
         return 1.0 / h->sensor.rate;
     return 0.05;
+}
+
+lc_control lc_scenario_control(const lc_scenario_header *h)
+{
+    lc_control c;
+    if (h->has_control)
+        return h->control;
+    lc_control_stamps(&c, lc_scenario_first_dt(h));
+    return c;
 }
 
 static int fail_wire(lc_scenario_error *err, int line, const lc_wire_error *we)
@@ -234,13 +243,16 @@ static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_
             return -1;
         h->has_sensor = true;
     }
-    if ((it = cJSON_GetObjectItemCaseSensitive(root, "control")) && read_control(it, &h->control, we) < 0)
-        return -1;
+    if ((it = cJSON_GetObjectItemCaseSensitive(root, "control"))) {
+        if (read_control(it, &h->control, we) < 0)
+            return -1;
+        h->has_control = true;
+    }
     return 0;
 }
 
 /* The recording server's control-period rule (see scenario.h). */
-static int read_control(const cJSON *o, lc_scenario_control *c, lc_wire_error *we)
+static int read_control(const cJSON *o, lc_control *c, lc_wire_error *we)
 {
     const lc_wire_bounds nonneg = {0, 10, false, false}, pos = {0, 10, true, false};
     if (!cJSON_IsObject(o)) {
@@ -250,7 +262,7 @@ static int read_control(const cJSON *o, lc_scenario_control *c, lc_wire_error *w
     static const char *const keys[] = {"period", "dt_min", "dt_max", "first_dt",
                                        "watchdog_ms", NULL};
     const lc_wire_bounds ms = {0, 1e6, false, false};
-    *c = (lc_scenario_control){.present = true, .dt_min = 1e-4, .dt_max = 1.0, .first_dt = 0.05};
+    *c = (lc_control){.dt_min = 1e-4, .dt_max = 1.0, .first_dt = 0.05};
     if (lc_wire_check_duplicates(o, "control", keys, we) ||
         lc_wire_number_field(o, "control", "period", false, &nonneg, &c->period, we) < 0 ||
         lc_wire_number_field(o, "control", "dt_min", false, &pos, &c->dt_min, we) < 0 ||
@@ -504,6 +516,18 @@ static void put_sensor(lc_wire_text *t, const lc_scenario_sensor *s)
     put(t, "}", 1);
 }
 
+/* The recording server's control settings, as read_control reads them. */
+static void put_control(lc_wire_text *t, const lc_control *c)
+{
+    puts_(t, ",\"control\":{\"period\":");
+    put_num(t, c->period);
+    put_key_num(t, "dt_min", c->dt_min);
+    put_key_num(t, "dt_max", c->dt_max);
+    put_key_num(t, "first_dt", c->first_dt);
+    put_key_num(t, "watchdog_ms", c->watchdog_ms);
+    put(t, "}", 1);
+}
+
 static void put_robot_route(lc_wire_text *t, const lc_scenario_header *h)
 {
     lc_wire_text part;
@@ -539,6 +563,8 @@ int lc_scenario_encode_header(lc_wire_text *t, const lc_scenario_header *h)
     put_string(t, lc_scenario_expect_name(h->expect));
     if (h->max_time > 0)
         put_key_num(t, "max_time", h->max_time);
+    if (h->has_control)
+        put_control(t, &h->control);
     put(t, "}", 1);
     if (t->failed) {
         t->len = 0;

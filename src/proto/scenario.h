@@ -5,7 +5,7 @@
  * Header: {"type":"scenario","version":1,"description":s,"robot":{...},
  * "route":{...},"start":[x,y,yaw],"world":{"polygons":[[[x,y],...],...]},
  * "sensor":{"beams","fov","range_min","range_max","rate","noise","mount"},
- * "expect":"done"|"blocked","max_time":s}. Every field but type and version
+ * "expect":"done"|"blocked","max_time":s,"control":{...}} (control.h). Every field but type and version
  * is optional; `expect` (default "done") is what `lacuna sim` takes for
  * success, `max_time` (s) bounds a sim run. Unknown header keys are ignored
  * (and warned of, below).
@@ -59,18 +59,13 @@ typedef struct lc_scenario_sensor {
 /* 541 beams over 270 degrees, 0.05..12 m, 20 Hz, 0.01 m noise, mount at zero. */
 void lc_scenario_sensor_default(lc_scenario_sensor *s);
 
-/* How the recording server chose each frame's control period (lacuna serve
- * writes it; absent in simulator files). period > 0 fixes dt; otherwise the
- * stamp difference clamped to [dt_min, dt_max], first_dt for the first frame. */
-typedef struct lc_scenario_control {
-    bool present;
-    double period, dt_min, dt_max, first_dt;
-    int watchdog_ms; /* the recording server's watchdog, for information (0: absent) */
-} lc_scenario_control;
-
 typedef struct lc_scenario_header {
     int version;
-    lc_scenario_control control;
+    /* How the recording server chose each frame's control period (lacuna
+     * serve writes it; control.h). Absent in simulator files: the frames
+     * are then stepped by lc_control_stamps with lc_scenario_first_dt. */
+    lc_control control;
+    bool has_control;
     char description[LC_SCENARIO_TEXT_MAX];
     lc_robot robot;   /* defaults when absent */
     bool has_robot;
@@ -92,6 +87,10 @@ void lc_scenario_header_free(lc_scenario_header *h);
 
 /* The control period the first frame of a run uses: 1 / sensor rate, else 0.05 s. */
 double lc_scenario_first_dt(const lc_scenario_header *h);
+
+/* The control settings the file's frames are stepped with: its "control"
+ * object, else the simulator's rule (lc_control_stamps, first_dt above). */
+lc_control lc_scenario_control(const lc_scenario_header *h);
 
 /* Where a read failed: line 0 means the file as a whole. */
 typedef struct lc_scenario_error {

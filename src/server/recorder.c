@@ -25,7 +25,7 @@ static int write_member(FILE *f, const char *key, const char *obj)
     return fprintf(f, ",\"%s\":{%s", key, body) < 0 ? -1 : 0;
 }
 
-static int write_control(FILE *f, const lc_record_control *c)
+static int write_control(FILE *f, const lc_control *c)
 {
     char p[LC_WIRE_NUMBER_MAX], lo[LC_WIRE_NUMBER_MAX], hi[LC_WIRE_NUMBER_MAX],
         first[LC_WIRE_NUMBER_MAX];
@@ -42,7 +42,7 @@ static int write_control(FILE *f, const lc_record_control *c)
 }
 
 static int write_header(FILE *f, const lc_robot *robot, const lc_route *route,
-                        const lc_record_control *control)
+                        const lc_control *control)
 {
     lc_wire_text t;
     lc_wire_text_init(&t, NULL);
@@ -81,7 +81,7 @@ static FILE *create_file(char *path, size_t n, const char *dir, const char *name
 
 int lc_recorder_open(lc_recorder *rec, const char *dir, const char *robot_name,
                      const lc_robot *robot, const lc_route *route,
-                     const lc_record_control *control)
+                     const lc_control *control)
 {
     memset(rec, 0, sizeof *rec);
     rec->control = *control;

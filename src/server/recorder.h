@@ -21,17 +21,12 @@
 #include <stdbool.h>
 #include <stdio.h>
 
+#include "control.h"
 #include "robot.h"
-
-/* How the server steps a session: written into the header. */
-typedef struct lc_record_control {
-    double period, dt_min, dt_max, first_dt; /* s */
-    int watchdog_ms;
-} lc_record_control;
 
 typedef struct lc_recorder {
     FILE *file;
-    lc_record_control control;
+    lc_control control; /* how the server steps the session: written into the header */
     char path[4096];
     bool failed; /* a write failed: recording stopped, logged once */
     int error;   /* errno of that failure (ENOSPC for a full disk) */
@@ -43,7 +38,7 @@ typedef struct lc_recorder {
  */
 int lc_recorder_open(lc_recorder *rec, const char *dir, const char *robot_name,
                      const lc_robot *robot, const lc_route *route,
-                     const lc_record_control *control);
+                     const lc_control *control);
 bool lc_recorder_is_open(const lc_recorder *rec);
 
 /* Append one line (text of len bytes, a newline is added) and flush; 0 or -1. */

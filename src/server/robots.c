@@ -74,7 +74,6 @@ struct bot {
     lc_route route;
     bool has_route;
     bool has_frame;       /* at least one accepted frame */
-    bool resting;         /* the watchdog stopped it: rate limits restart at rest */
     int64_t seq;          /* of the last accepted frame */
     double stamp;
     lc_pose pose;
@@ -95,6 +94,7 @@ struct lc_hub {
     char viewer_token[LC_WIRE_TOKEN_MAX + 1];
     bool need_robot_token, need_viewer_token;
     lc_plan_config plan;
+    lc_control control; /* how frames become steps (the options' period, dt_min, ...) */
     lc_wire_limits limits;
     lc_wire_buffers buf;
     lc_wire_text text;
@@ -375,6 +375,8 @@ static bot *bot_new(lc_hub *hub, lc_conn *c, const char *name)
     b->core = lc_session_new(&b->desc, &hub->plan, NULL);
     if (b->core && hub->cfg.clock)
         lc_session_set_clock(b->core, hub->cfg.clock);
+    if (b->core)
+        lc_session_set_control(b->core, &hub->control);
     if (!b->core) {
         free(b);
         return NULL;
@@ -469,6 +471,11 @@ lc_hub *lc_hub_new(const lc_hub_config *cfg)
         hub->plan = *cfg->plan;
     else
         lc_plan_config_default(&hub->plan);
+    lc_control_default(&hub->control); /* its first_dt: the first frame of a session */
+    hub->control.period = cfg->opts.period;
+    hub->control.dt_min = cfg->opts.dt_min;
+    hub->control.dt_max = cfg->opts.dt_max;
+    hub->control.watchdog_ms = cfg->opts.watchdog_ms;
     lc_wire_limits_default(&hub->limits);
     hub->limits.max_message = (size_t)cfg->opts.max_message;
     hub->limits.max_beams = cfg->opts.max_beams;
@@ -579,39 +586,19 @@ static void hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
 
 /* ------------------------------------------------------------- frames */
 
-/* dt of the first frame of a session (no stamp difference yet), s. */
-#define FIRST_DT 0.05
-
-static double control_period(const lc_hub *hub, const bot *b, double stamp)
-{
-    const lc_server_config *o = &hub->cfg.opts;
-    if (o->period > 0)
-        return o->period;
-    double dt = b->has_frame ? stamp - b->stamp : FIRST_DT;
-    if (!(dt >= o->dt_min))
-        dt = o->dt_min;
-    return dt > o->dt_max ? o->dt_max : dt;
-}
-
 static void start_recording(lc_hub *hub, bot *b)
 {
     if (!hub->cfg.opts.record[0] || lc_recorder_is_open(&b->rec) || b->rec.failed)
         return;
     const lc_server_config *o = &hub->cfg.opts;
-    lc_record_control ctl = {.period = o->period, .dt_min = o->dt_min, .dt_max = o->dt_max,
-                             .first_dt = FIRST_DT, .watchdog_ms = o->watchdog_ms};
-    if (lc_recorder_open(&b->rec, o->record, b->name, &b->desc, &b->route, &ctl) < 0) {
+    if (lc_recorder_open(&b->rec, o->record, b->name, &b->desc, &b->route,
+                         lc_session_control(b->core)) < 0) {
         b->rec.error = errno;
         lc_log(LC_LOG_ERROR, "robot %s: cannot record in %s: %s", b->name, o->record,
                strerror(errno));
         b->rec.failed = true;
         b->rec_failed_unsent = true;
     }
-}
-
-static int current_waypoint(const lc_plan_result *r)
-{
-    return r->has_waypoint ? r->waypoint_index : -1;
 }
 
 static void send_events(lc_hub *hub, bot *b, double now)
@@ -627,21 +614,12 @@ static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
     start_recording(hub, b);
     if (lc_recorder_is_open(&b->rec) && lc_wire_encode_frame(&hub->text, f) == 0)
         record(b, hub->text.s, (size_t)hub->text.len);
-    double dt = control_period(hub, b, f->stamp);
-    if (b->resting) {
-        lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_STALE);
-        lc_session_set_velocity(b->core, &rest);
-        b->resting = false;
-    }
-    int rc = lc_session_step(b->core, f, dt, &b->result);
+    int rc = lc_session_drive(b->core, f, &b->result, &b->last_sp);
     b->plan_max_us = fmax(b->plan_max_us, b->result.total_us);
     b->has_frame = true;
     b->seq = f->seq;
     b->stamp = f->stamp;
     b->pose = f->pose;
-    b->last_sp = (lc_wire_setpoint){.seq = f->seq, .stamp = f->stamp, .model = b->desc.model,
-                                    .sp = b->result.setpoint, .state = b->result.state,
-                                    .waypoint = current_waypoint(&b->result)};
     b->has_sp = true;
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
     if (rc < 0) {
@@ -837,11 +815,7 @@ int lc_hub_receive(lc_hub *hub, lc_conn *c, const void *data, size_t len, bool f
 static void watchdog(lc_hub *hub, bot *b, double now)
 {
     double period = hub->cfg.opts.watchdog_ms / 1000.0;
-    b->last_sp = (lc_wire_setpoint){.seq = b->seq, .stamp = b->stamp, .model = b->desc.model,
-                                    .sp = lc_setpoint_stop(LC_LIMIT_STALE),
-                                    .state = LC_STATE_STALE,
-                                    .waypoint = b->last_sp.waypoint};
-    b->resting = true;
+    lc_session_stop(b->core, LC_STATE_STALE, LC_LIMIT_STALE, &b->last_sp);
     b->view_dirty = true;
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
     b->watchdog_at += period;
@@ -960,10 +934,7 @@ void lc_hub_shutdown(lc_hub *hub, double now)
     for (bot *b = hub->bots; b; b = b->next) {
         if (!b->has_frame || b->conn->closing)
             continue;
-        b->last_sp = (lc_wire_setpoint){.seq = b->seq, .stamp = b->stamp,
-                                        .model = b->desc.model,
-                                        .sp = lc_setpoint_stop(LC_LIMIT_IDLE),
-                                        .state = LC_STATE_IDLE, .waypoint = b->last_sp.waypoint};
+        lc_session_stop(b->core, LC_STATE_IDLE, LC_LIMIT_IDLE, &b->last_sp);
         send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
     }
     for (lc_conn *c = hub->conns; c; c = c->next) {

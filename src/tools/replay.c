@@ -48,25 +48,13 @@ const char lc_replay_usage[] =
 lc_session *lc_replay_session(const lc_scenario_header *h)
 {
     lc_session *s = lc_session_new(&h->robot, NULL, NULL);
-    if (s && h->has_route)
+    if (!s)
+        return NULL;
+    if (h->has_route)
         lc_session_set_route(s, &h->route);
+    lc_control c = lc_scenario_control(h);
+    lc_session_set_control(s, &c);
     return s;
-}
-
-double lc_replay_dt(bool first, double prev, double stamp, double first_dt)
-{
-    double dt = stamp - prev;
-    return !first && isfinite(dt) && dt > 0 ? dt : first_dt;
-}
-
-lc_wire_setpoint lc_replay_setpoint(const lc_frame *f, const lc_plan_result *r, lc_model model)
-{
-    return (lc_wire_setpoint){.seq = f->seq,
-                              .stamp = f->stamp,
-                              .model = model,
-                              .sp = r->setpoint,
-                              .state = r->state,
-                              .waypoint = r->has_waypoint ? r->waypoint_index : -1};
 }
 
 static double wall_us(void *data)
@@ -147,11 +135,6 @@ typedef struct expected {
 typedef struct replay {
     const replay_opts *o;
     lc_session *s;
-    lc_model model;
-    double first_dt, prev_stamp;
-    lc_scenario_control ctl; /* the recording server's dt rule, when present */
-    bool resting;            /* the watchdog stopped the robot: restart from rest */
-    bool first;
     bool pending;        /* a produced setpoint waits for its recorded line */
     lc_wire_setpoint produced;
     expected *exp;       /* --expect setpoints, in order */
@@ -266,34 +249,12 @@ static void progress(replay *r)
     fprintf(stderr, "\rlacuna replay: %ld frames", r->frames);
 }
 
-/* lacuna serve's rule (recorded in the header's "control"): a fixed period,
- * or the stamp difference clamped to [dt_min, dt_max]. */
-static double server_dt(const lc_scenario_control *c, bool first, double prev, double stamp)
-{
-    if (c->period > 0)
-        return c->period;
-    double dt = first ? c->first_dt : stamp - prev;
-    if (!(dt >= c->dt_min))
-        dt = c->dt_min;
-    return dt > c->dt_max ? c->dt_max : dt;
-}
-
 static int on_frame(replay *r, const lc_frame *f)
 {
-    double dt = r->ctl.present ? server_dt(&r->ctl, r->first, r->prev_stamp, f->stamp)
-                               : lc_replay_dt(r->first, r->prev_stamp, f->stamp, r->first_dt);
-    if (r->resting) {
-        lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_STALE);
-        lc_session_set_velocity(r->s, &rest);
-        r->resting = false;
-    }
-    r->first = false;
-    r->prev_stamp = f->stamp;
     lc_plan_result res;
-    if (lc_session_step(r->s, f, dt, &res) < 0)
+    if (lc_session_drive(r->s, f, &res, &r->produced) < 0)
         return lc_cli_fail("replay", "out of memory");
     r->frames++;
-    r->produced = lc_replay_setpoint(f, &res, r->model);
     r->pending = true;
     if (r->o->svg)
         lc_svg_run_add(&r->svg, f, &res, res.clearance);
@@ -324,15 +285,14 @@ static int on_message(replay *r, const lc_wire_msg *m, int line)
             return 0;
         if (r->pending)
             compare(r, r->o->file, line, &m->u.setpoint);
-        else if (m->u.setpoint.state == LC_STATE_STALE)
-            r->resting = true; /* the server's watchdog: the next frame starts from rest */
+        else if (m->u.setpoint.state == LC_STATE_STALE) /* the server's watchdog */
+            lc_session_stop(r->s, LC_STATE_STALE, LC_LIMIT_STALE, NULL);
         else if (r->unpaired++ == 0)
             fprintf(stderr, "lacuna replay: %s:%d: setpoint without a frame before it\n",
                     r->o->file, line);
         return 0;
     case LC_MSG_ROBOT:
         lc_session_set_robot(r->s, &m->u.robot);
-        r->model = m->u.robot.model;
         return write_text(r, lc_wire_encode_robot(&r->text, &m->u.robot)) < 0
                    ? lc_cli_fail("replay", "cannot write %s", r->o->out)
                    : 0;
@@ -438,10 +398,6 @@ static int replay_run(replay *r, lc_scenario_reader *rd, const lc_scenario_heade
     r->s = lc_replay_session(h);
     if (!r->s)
         return lc_cli_fail("replay", "out of memory");
-    r->model = h->robot.model;
-    r->first_dt = lc_scenario_first_dt(h);
-    r->ctl = h->control;
-    r->first = true;
     r->t_start = wall_us(NULL);
     int rc = 0;
     if (r->o->expect)

@@ -1,13 +1,9 @@
 /*
  * replay.h - what `lacuna replay` and `lacuna sim` share, so that a sim run
  * and its replay take the same steps: the session built from a scenario
- * header, the control period of each frame, the setpoint message of a plan
- * result, the wall clock for timing, and line output.
- *
- * The dt rule: the first frame of a run uses lc_scenario_first_dt (1 /
- * sensor rate, else 0.05 s); every later one the difference of consecutive
- * stamps, or the first-frame period again when that difference is not
- * positive and finite (a restarted or repeated stamp).
+ * header (its robot, route and control settings: the frames are then
+ * stepped with lc_session_drive, control.h's dt rule), the wall clock for
+ * timing, and line output.
  */
 #ifndef LC_REPLAY_H
 #define LC_REPLAY_H
@@ -20,14 +16,9 @@
 #include "scenario.h"
 #include "session.h"
 
-/* A session with the header's robot and route and the default plan config. */
+/* A session with the header's robot, route and control settings
+ * (lc_scenario_control) and the default plan config. */
 lc_session *lc_replay_session(const lc_scenario_header *h);
-
-/* dt for a frame at stamp after one at prev (first: no frame before). */
-double lc_replay_dt(bool first, double prev, double stamp, double first_dt);
-
-/* The setpoint message that answers frame f (seq and stamp echo it). */
-lc_wire_setpoint lc_replay_setpoint(const lc_frame *f, const lc_plan_result *r, lc_model model);
 
 /* CLOCK_MONOTONIC in microseconds. */
 lc_clock lc_replay_wall_clock(void);

@@ -331,13 +331,12 @@ static lc_frame make_frame(sim *sm, long k, double stamp)
                       .n_ranges = sm->sensor.beams};
 }
 
-static int record(sim *sm, const lc_frame *f, const lc_plan_result *res)
+static int record(sim *sm, const lc_frame *f, const lc_plan_result *res, const lc_reply *sp)
 {
     if (!sm->out)
         return 0;
-    lc_wire_setpoint sp = lc_replay_setpoint(f, res, sm->h->robot.model);
     if (lc_wire_encode_frame(&sm->text, f) < 0 || lc_replay_put_line(sm->out, &sm->text) < 0 ||
-        lc_wire_encode_setpoint(&sm->text, &sp) < 0 ||
+        lc_wire_encode_setpoint(&sm->text, sp) < 0 ||
         lc_replay_put_line(sm->out, &sm->text) < 0)
         return -1;
     for (int i = 0; i < res->n_events; i++) {
@@ -375,13 +374,13 @@ static void count(sim *sm, const lc_plan_result *res)
  * server (paced: frame k leaves at t0 + k periods of wall time). 0, -1 out
  * of memory, -3 the link failed or was interrupted (sm->why).
  */
-static int plan(sim *sm, const lc_frame *f, double dt, lc_plan_result *res)
+static int plan(sim *sm, const lc_frame *f, lc_plan_result *res, lc_reply *reply)
 {
     if (!sm->link)
-        return lc_session_step(sm->s, f, dt, res) < 0 ? -1 : 0;
+        return lc_session_drive(sm->s, f, res, reply) < 0 ? -1 : 0;
     double at = sm->t0_us + f->stamp * 1e6;
     if (lc_simlink_idle(sm->link, at, sm->why, sizeof sm->why) < 0 ||
-        lc_simlink_step(sm->link, f, res, sm->why, sizeof sm->why) < 0)
+        lc_simlink_step(sm->link, f, res, reply, sm->why, sizeof sm->why) < 0)
         return -3;
     return 0;
 }
@@ -404,20 +403,19 @@ static int route_finished(sim *sm, bool looping)
 }
 
 /* One control period; 1 when the run ends, 0 to go on, <0 on failure. */
-static int period_step(sim *sm, long k, double period, double *blocked_since, double *prev)
+static int period_step(sim *sm, long k, double period, double *blocked_since)
 {
     double stamp = (double)k / sm->sensor.rate;
     lc_frame f = make_frame(sm, k, stamp);
-    double dt = lc_replay_dt(k == 0, *prev, stamp, lc_scenario_first_dt(sm->h));
-    *prev = stamp;
     lc_plan_result res;
-    int rc = plan(sm, &f, dt, &res);
+    lc_reply reply;
+    int rc = plan(sm, &f, &res, &reply);
     if (rc < 0)
         return rc;
     count(sm, &res);
     if (sm->o->svg)
         lc_svg_run_add(&sm->svg, &f, &res, clearance_at(sm, f.pose));
-    if (record(sm, &f, &res) < 0)
+    if (record(sm, &f, &res, &reply) < 0)
         return -2;
     sm->m.sim_time = stamp;
     if (res.state == LC_STATE_DONE || sm->m.lapped) {
@@ -449,13 +447,13 @@ static int period_step(sim *sm, long k, double period, double *blocked_since, do
 
 static int run_loop(sim *sm, double max_time)
 {
-    double period = 1.0 / sm->sensor.rate, blocked_since = -1, prev = 0;
+    double period = 1.0 / sm->sensor.rate, blocked_since = -1;
     sm->m.end = OUT_TIMEOUT;
     check_contact(sm);
     lc_clock wall = lc_replay_wall_clock();
     double t_start = lc_clock_now(&wall), t_progress = 0;
     for (long k = 0; (double)k / sm->sensor.rate <= max_time; k++) {
-        int rc = period_step(sm, k, period, &blocked_since, &prev);
+        int rc = period_step(sm, k, period, &blocked_since);
         if (rc == -1)
             return lc_cli_fail("sim", "out of memory");
         if (rc == -2)

@@ -149,8 +149,8 @@ static void fill_result(const lc_wire_setpoint *sp, double round_trip_us, lc_pla
     res->clearance = NAN;
 }
 
-int lc_simlink_step(lc_simlink *l, const lc_frame *f, lc_plan_result *res, char *err,
-                    size_t n)
+int lc_simlink_step(lc_simlink *l, const lc_frame *f, lc_plan_result *res, lc_reply *reply,
+                    char *err, size_t n)
 {
     double sent = lc_mono_us();
     if (send_text(l, lc_wire_encode_frame(&l->text, f), err, n) < 0)
@@ -169,6 +169,7 @@ int lc_simlink_step(lc_simlink *l, const lc_frame *f, lc_plan_result *res, char 
             break;
     }
     fill_result(&m.u.setpoint, lc_mono_us() - sent, res);
+    *reply = m.u.setpoint;
     hand_over_events(l, res);
     return 0;
 }

@@ -49,13 +49,13 @@ int lc_simlink_send_route(lc_simlink *l, const lc_route *route, char *err, size_
 int lc_simlink_idle(lc_simlink *l, double until_us, char *err, size_t n);
 
 /*
- * Sends frame f and waits for its setpoint. Fills res: setpoint, state,
- * waypoint_index/has_waypoint, the events received since the last step,
- * total_us = round trip (send to setpoint), geometry pointers NULL.
- * 0, or -1 with a reason.
+ * Sends frame f and waits for its setpoint (into *reply). Fills res:
+ * setpoint, state, waypoint_index/has_waypoint, the events received since
+ * the last step, total_us = round trip (send to setpoint), geometry
+ * pointers NULL. 0, or -1 with a reason.
  */
-int lc_simlink_step(lc_simlink *l, const lc_frame *f, lc_plan_result *res, char *err,
-                    size_t n);
+int lc_simlink_step(lc_simlink *l, const lc_frame *f, lc_plan_result *res, lc_reply *reply,
+                    char *err, size_t n);
 
 /* Waits up to wait_s for events still in flight (they join res->events). */
 void lc_simlink_drain(lc_simlink *l, double wait_s, lc_plan_result *res);

@@ -276,8 +276,32 @@ static void test_unknown_keys_warned(void **state)
     lc_scenario_header_init(&h);
     assert_int_equal(lc_scenario_parse_header(rec, strlen(rec), &h, &err), 0);
     assert_string_equal(err.ignored, "");
-    assert_true(h.control.present);
+    assert_true(h.has_control);
     assert_int_equal(h.control.watchdog_ms, 200);
+    /* written back (replay --out of a recording keeps how it was stepped) */
+    lc_wire_text t;
+    lc_wire_text_init(&t, NULL);
+    assert_int_equal(lc_scenario_encode_header(&t, &h), 0);
+    lc_scenario_header back;
+    lc_scenario_header_init(&back);
+    assert_int_equal(lc_scenario_parse_header(t.s, (size_t)t.len, &back, &err), 0);
+    assert_true(back.has_control);
+    assert_true(back.control.period == h.control.period &&
+                back.control.dt_min == h.control.dt_min &&
+                back.control.dt_max == h.control.dt_max &&
+                back.control.first_dt == h.control.first_dt);
+    assert_int_equal(back.control.watchdog_ms, h.control.watchdog_ms);
+    lc_control c = lc_scenario_control(&back);
+    assert_true(c.dt_min == 0.0001 && c.dt_max == 1 && c.first_dt == 0.05);
+    lc_scenario_header_free(&back);
+    lc_wire_text_free(&t);
+    lc_scenario_header_free(&h);
+    /* no control: the simulator's rule, first_dt from the sensor's rate */
+    lc_scenario_header_init(&h);
+    h.has_sensor = true;
+    h.sensor.rate = 40;
+    c = lc_scenario_control(&h);
+    assert_true(c.period == 0 && c.dt_min == 0 && isinf(c.dt_max) && c.first_dt == 1.0 / 40);
     lc_scenario_header_free(&h);
 }
 

@@ -670,7 +670,7 @@ static void test_hub_recording_fails(void **state)
 
 /* ----------------------------------------------------------- recorder */
 
-static const lc_record_control rec_ctl = {0, 0.005, 0.2, 0.05, 200};
+static const lc_control rec_ctl = {0, 0.005, 0.2, 0.05, 200};
 
 /* A fresh directory in dir (a "/tmp/lacuna-rec-XXXXXX" buffer), default robot and route. */
 static void recorder_setup(char *dir, lc_robot *robot, lc_route *route)
@@ -688,7 +688,7 @@ static void test_recorder(void **state)
     recorder_setup(dir, &robot, &route);
     route.count = 1;
     route.waypoints[0] = lc_v2(2.5, -1.0);
-    const lc_record_control ctl = rec_ctl;
+    const lc_control ctl = rec_ctl;
     lc_recorder rec;
     assert_int_equal(lc_recorder_open(&rec, dir, "r-1", &robot, &route, &ctl), 0);
     assert_int_equal(lc_recorder_line(&rec, "{\"type\":\"x\"}", 12), 0);
