@@ -13,6 +13,7 @@
 
 #include "grow.h"
 #include "hull.h"
+#include "steer.h"
 
 struct lc_session {
     lc_alloc alloc;
@@ -31,8 +32,7 @@ struct lc_session {
     int cap_gather;
     lc_region region;
     lc_region_ws rws;
-    lc_halfspace *motion_h; /* the region as the motion law sees it (drive) */
-    int cap_motion_h;
+    lc_steer_ws steer; /* the braking region the motion law sees */
     /* the frame driver (lc_session_drive) */
     lc_control control;
     bool driven;     /* a frame has been driven: prev_stamp and last_reply hold */
@@ -111,7 +111,7 @@ void lc_session_free(lc_session *s)
     lc_polyset_free(&s->obstacles, a);
     lc_polyset_free(&s->grown, a);
     LC_RELEASE(a, s->gather, s->cap_gather);
-    LC_RELEASE(a, s->motion_h, s->cap_motion_h);
+    lc_steer_ws_free(&s->steer, a);
     lc_region_free(&s->region, a);
     lc_region_ws_free(&s->rws, a);
     lc_alloc keep = s->alloc;
@@ -238,169 +238,25 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
     return rc;
 }
 
-/*
- * too_close for a unicycle: no translation, but turning in place moves no
- * part of a disc footprint, so it turns toward the target (rate limited)
- * and the sensor gets a new look at the way out.
- */
-static void turn_in_place(const lc_session *s, const lc_frame *f, double dt, lc_vec2 target,
-                          lc_plan_result *out)
-{
-    lc_vec2 d = lc_sub(target, lc_v2(f->pose.x, f->pose.y));
-    if (s->robot.model != LC_MODEL_UNICYCLE || !(lc_len(d) > 1e-6) || !(dt > 0))
-        return;
-    double alpha = lc_wrap_angle(atan2(d.y, d.x) - f->pose.yaw);
-    double w = s->cfg.motion.k_alpha * alpha, w_max = s->robot.w_max, step = s->robot.dw_max * dt;
-    w = w > w_max ? w_max : (w < -w_max ? -w_max : w);
-    /* From a last w beyond w_max start at w_max, as the motion laws do. */
-    double w0 = s->last.w > w_max ? w_max : (s->last.w < -w_max ? -w_max : s->last.w);
-    double lo = w0 - step, hi = w0 + step;
-    out->setpoint.w = w < lo ? lo : (w > hi ? hi : w);
-}
-
 static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
 {
     out->state = state;
     out->setpoint = lc_setpoint_stop(limit);
 }
 
-/*
- * The setpoint is held for a whole control period before the next one can
- * brake, so braking room is judged with at least dt of latency: then the
- * promise "can stop inside the region" holds from step to step.
- */
-/*
- * The region the motion law brakes in: the region, and for each grown
- * obstacle within reach a line across the direction to its nearest point,
- * the standoff short of it, or through the robot when the robot is nearer
- * than that (it may slide along, not come nearer). A robot that stopped or
- * slid exactly on the edge of a grown obstacle would flicker into
- * too_close with range noise, and a corner the scanner had not yet seen
- * would put it inside at once; this keeps it the standoff off. The
- * region's own lines cannot do it: they are placed for area, tangent
- * anywhere on an obstacle, and sliding along one can close in on it. Only
- * the motion sees this region: the region reported is the full one.
- * A unicycle cannot slide: held nearest-point lines left it stuck between
- * pipes (plant_room). It gets the region's own lines moved in by the
- * standoff (held at the robot when nearer), and only within PARK_REACH of
- * where it aims: held lines made a unicycle that skims a long wall at speed
- * stop and start. NULL when out of memory.
- */
-#define PARK_REACH 1.0 /* m */
-
-/*
- * Distance from c to the bounding box of v[0..n): a lower bound of the
- * distance to the polygon for the price of a min/max pass. The exact
- * distance to every grown obstacle was 71k of a 1081-beam bench frame's
- * 600k instructions; most obstacles lie beyond the robot's reach.
- */
-static double box_distance(const lc_vec2 *v, int n, lc_vec2 c)
-{
-    double x0 = v[0].x, x1 = v[0].x, y0 = v[0].y, y1 = v[0].y;
-    for (int i = 1; i < n; i++) {
-        x0 = lc_min(x0, v[i].x);
-        x1 = lc_max(x1, v[i].x);
-        y0 = lc_min(y0, v[i].y);
-        y1 = lc_max(y1, v[i].y);
-    }
-    double dx = lc_max(0.0, lc_max(x0 - c.x, c.x - x1)), dy = lc_max(0.0, lc_max(y0 - c.y, c.y - y1));
-    return sqrt(dx * dx + dy * dy);
-}
-
-static const lc_region *motion_region(lc_session *s, lc_vec2 c, lc_vec2 aim, lc_region *out)
-{
-    const lc_region *r = &s->region;
-    double standoff = s->cfg.standoff;
-    if (!(standoff > 0) || (s->robot.model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
-        return r;
-    if (LC_GROW(&s->alloc, s->motion_h, s->cap_motion_h, r->nh + s->grown.np) < 0)
-        return NULL;
-    int n = r->nh;
-    if (s->robot.model == LC_MODEL_UNICYCLE) {
-        /* parking: the region's lines moved in, held at the robot */
-        for (int i = 0; i < n; i++) {
-            double slack = r->h[i].b - lc_dot(r->h[i].a, c);
-            s->motion_h[i] = (lc_halfspace){r->h[i].a,
-                                            r->h[i].b - lc_min(standoff, lc_max(slack, 0.0))};
-        }
-        *out = *r;
-        out->h = s->motion_h;
-        return out;
-    }
-    memcpy(s->motion_h, r->h, sizeof *r->h * (size_t)n);
-    /* farther than the robot can go before it stops, no line can bind */
-    double v = s->robot.v_max, reach = standoff + v * v / (2 * s->robot.a_max) + v;
-    for (int j = 0; j < s->grown.np; j++) {
-        int nv;
-        const lc_vec2 *pv = lc_polyset_at(&s->grown, j, &nv);
-        if (box_distance(pv, nv, c) > reach)
-            continue; /* the exact distance is at least this */
-        lc_vec2 q;
-        double d = lc_convex_distance(pv, nv, c, &q);
-        if (!(d > 1e-9) || d > reach)
-            continue; /* inside: too_close, decided elsewhere */
-        lc_vec2 a = lc_scale(lc_sub(q, c), 1.0 / d);
-        s->motion_h[n++] = (lc_halfspace){a, lc_dot(a, q) - lc_min(standoff, d)};
-    }
-    *out = *r;
-    out->h = s->motion_h;
-    out->nh = n;
-    return out;
-}
-
-/*
- * Where the robot heads: the target, or, when the target is the waypoint's
- * projection onto the region's edge, a point standoff further in, toward
- * the ellipse centre (inside by convexity), so that it stops by the goal
- * term rather than by the braking room of the motion region.
- */
-static lc_vec2 aim_point(const lc_session *s, lc_vec2 target, lc_vec2 waypoint)
-{
-    lc_vec2 in = lc_sub(s->region.ellipse.d, target);
-    double len = lc_len(in);
-    if (!(s->cfg.standoff > 0) || lc_dist(target, waypoint) <= 1e-9 || !(len > 1e-9))
-        return target;
-    return lc_add(target, lc_scale(in, lc_min(s->cfg.standoff, len) / len));
-}
-
-/*
- * The aim pulled back onto the lines of the motion region the robot sits
- * on (twice round, for a corner), so that it slides along them: heading a
- * hair into one (such lines tilt a little from frame to frame) would find
- * no braking room at all and freeze the robot there.
- */
-#define SLIDE_SLACK 1e-3 /* m: a line this near the robot is one it sits on */
-
-static lc_vec2 slide_aim(const lc_region *mr, lc_vec2 c, lc_vec2 aim)
-{
-    for (int pass = 0; pass < 2; pass++)
-        for (int i = 0; i < mr->nh; i++) {
-            const lc_halfspace *h = &mr->h[i];
-            double over = lc_dot(h->a, aim) - h->b;
-            if (h->b - lc_dot(h->a, c) <= SLIDE_SLACK && over > 0)
-                aim = lc_sub(aim, lc_scale(h->a, over));
-        }
-    return aim;
-}
-
 static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
 {
-    lc_motion_params mp = s->cfg.motion;
-    mp.latency = fmax(mp.latency, dt);
-    lc_vec2 aim = aim_point(s, out->target, out->waypoint);
-    lc_region shrunk;
-    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
-    const lc_region *mr = motion_region(s, c, aim, &shrunk);
-    if (mr && mr != &s->region)
-        aim = slide_aim(mr, c, aim);
-    int rc = !mr                                  ? -1
-             : s->robot.model == LC_MODEL_UNICYCLE ? lc_motion_unicycle(&s->robot, &mp, mr, f->pose,
-                                                                       aim, &s->last, dt,
-                                                                       &out->setpoint)
-                                                   : lc_motion_point(&s->robot, &mp, mr, f->pose, aim,
-                                                                     &s->last, dt, &out->setpoint);
-    if (rc < 0)
-        out->setpoint = lc_setpoint_stop(LC_LIMIT_NONE);
+    lc_steer_input in = {.robot = &s->robot,
+                         .params = &s->cfg.motion,
+                         .standoff = s->cfg.standoff,
+                         .region = &s->region,
+                         .grown = &s->grown,
+                         .pose = f->pose,
+                         .target = out->target,
+                         .waypoint = out->waypoint,
+                         .last = &s->last,
+                         .dt = dt};
+    lc_steer_drive(&in, &s->steer, &s->alloc, &out->setpoint);
 }
 
 /* The route-level decision for this frame, and the target it implies. */
@@ -492,7 +348,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->waypoint_index = s->patrol.current;
         stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
         if (out->has_target)
-            turn_in_place(s, frame, dt, out->target, out);
+            lc_steer_turn_in_place(&s->robot, &s->cfg.motion, frame->pose, out->target,
+                                   &s->last, dt, &out->setpoint);
     } else {
         decide(s, frame, dt, out);
     }

@@ -1,0 +1,167 @@
+/*
+ * steer.c - the motion policy (see steer.h).
+ *
+ * The setpoint is held for a whole control period before the next one can
+ * brake, so braking room is judged with at least dt of latency: then the
+ * promise "can stop inside the region" holds from step to step.
+ */
+#include "steer.h"
+
+#include <string.h>
+
+void lc_steer_ws_free(lc_steer_ws *ws, const lc_alloc *alloc)
+{
+    LC_RELEASE(alloc, ws->h, ws->cap_h);
+}
+
+void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *params,
+                            lc_pose pose, lc_vec2 target, const lc_setpoint *last, double dt,
+                            lc_setpoint *out)
+{
+    lc_vec2 d = lc_sub(target, lc_v2(pose.x, pose.y));
+    if (robot->model != LC_MODEL_UNICYCLE || !(lc_len(d) > 1e-6) || !(dt > 0))
+        return;
+    double alpha = lc_wrap_angle(atan2(d.y, d.x) - pose.yaw);
+    double w = params->k_alpha * alpha, w_max = robot->w_max, step = robot->dw_max * dt;
+    w = w > w_max ? w_max : (w < -w_max ? -w_max : w);
+    /* From a last w beyond w_max start at w_max, as the motion laws do. */
+    double w0 = last->w > w_max ? w_max : (last->w < -w_max ? -w_max : last->w);
+    double lo = w0 - step, hi = w0 + step;
+    out->w = w < lo ? lo : (w > hi ? hi : w);
+}
+
+/*
+ * The region the motion law brakes in: the region, and for each grown
+ * obstacle within reach a line across the direction to its nearest point,
+ * the standoff short of it, or through the robot when the robot is nearer
+ * than that (it may slide along, not come nearer). A robot that stopped or
+ * slid exactly on the edge of a grown obstacle would flicker into
+ * too_close with range noise, and a corner the scanner had not yet seen
+ * would put it inside at once; this keeps it the standoff off. The
+ * region's own lines cannot do it: they are placed for area, tangent
+ * anywhere on an obstacle, and sliding along one can close in on it. Only
+ * the motion sees this region: the region reported is the full one.
+ * A unicycle cannot slide: held nearest-point lines left it stuck between
+ * pipes (plant_room). It gets the region's own lines moved in by the
+ * standoff (held at the robot when nearer), and only within PARK_REACH of
+ * where it aims: held lines made a unicycle that skims a long wall at speed
+ * stop and start. NULL when out of memory.
+ */
+#define PARK_REACH 1.0 /* m */
+
+/*
+ * Distance from c to the bounding box of v[0..n): a lower bound of the
+ * distance to the polygon for the price of a min/max pass (most obstacles
+ * lie beyond the robot's reach; the exact distance to each was a tenth of
+ * a bench frame's instructions).
+ */
+static double box_distance(const lc_vec2 *v, int n, lc_vec2 c)
+{
+    double x0 = v[0].x, x1 = v[0].x, y0 = v[0].y, y1 = v[0].y;
+    for (int i = 1; i < n; i++) {
+        x0 = lc_min(x0, v[i].x);
+        x1 = lc_max(x1, v[i].x);
+        y0 = lc_min(y0, v[i].y);
+        y1 = lc_max(y1, v[i].y);
+    }
+    double dx = lc_max(0.0, lc_max(x0 - c.x, c.x - x1)), dy = lc_max(0.0, lc_max(y0 - c.y, c.y - y1));
+    return sqrt(dx * dx + dy * dy);
+}
+
+static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
+                                      const lc_alloc *alloc, lc_vec2 c, lc_vec2 aim,
+                                      lc_region *out)
+{
+    const lc_region *r = in->region;
+    const lc_robot *robot = in->robot;
+    double standoff = in->standoff;
+    if (!(standoff > 0) || (robot->model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
+        return r;
+    if (LC_GROW(alloc, ws->h, ws->cap_h, r->nh + in->grown->np) < 0)
+        return NULL;
+    int n = r->nh;
+    if (robot->model == LC_MODEL_UNICYCLE) {
+        /* parking: the region's lines moved in, held at the robot */
+        for (int i = 0; i < n; i++) {
+            double slack = r->h[i].b - lc_dot(r->h[i].a, c);
+            ws->h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - lc_min(standoff, lc_max(slack, 0.0))};
+        }
+        *out = *r;
+        out->h = ws->h;
+        return out;
+    }
+    memcpy(ws->h, r->h, sizeof *r->h * (size_t)n);
+    /* farther than the robot can go before it stops, no line can bind */
+    double v = robot->v_max, reach = standoff + v * v / (2 * robot->a_max) + v;
+    for (int j = 0; j < in->grown->np; j++) {
+        int nv;
+        const lc_vec2 *pv = lc_polyset_at(in->grown, j, &nv);
+        if (box_distance(pv, nv, c) > reach)
+            continue; /* the exact distance is at least this */
+        lc_vec2 q;
+        double d = lc_convex_distance(pv, nv, c, &q);
+        if (!(d > 1e-9) || d > reach)
+            continue; /* inside: too_close, decided elsewhere */
+        lc_vec2 a = lc_scale(lc_sub(q, c), 1.0 / d);
+        ws->h[n++] = (lc_halfspace){a, lc_dot(a, q) - lc_min(standoff, d)};
+    }
+    *out = *r;
+    out->h = ws->h;
+    out->nh = n;
+    return out;
+}
+
+/*
+ * Where the robot heads: the target, or, when the target is the waypoint's
+ * projection onto the region's edge, a point standoff further in, toward
+ * the ellipse centre (inside by convexity), so that it stops by the goal
+ * term rather than by the braking room of the motion region.
+ */
+static lc_vec2 aim_point(const lc_steer_input *in)
+{
+    lc_vec2 to_centre = lc_sub(in->region->ellipse.d, in->target);
+    double len = lc_len(to_centre);
+    if (!(in->standoff > 0) || lc_dist(in->target, in->waypoint) <= 1e-9 || !(len > 1e-9))
+        return in->target;
+    return lc_add(in->target, lc_scale(to_centre, lc_min(in->standoff, len) / len));
+}
+
+/*
+ * The aim pulled back onto the lines of the motion region the robot sits
+ * on (twice round, for a corner), so that it slides along them: heading a
+ * hair into one (such lines tilt a little from frame to frame) would find
+ * no braking room at all and freeze the robot there.
+ */
+#define SLIDE_SLACK 1e-3 /* m: a line this near the robot is one it sits on */
+
+static lc_vec2 slide_aim(const lc_region *mr, lc_vec2 c, lc_vec2 aim)
+{
+    for (int pass = 0; pass < 2; pass++)
+        for (int i = 0; i < mr->nh; i++) {
+            const lc_halfspace *h = &mr->h[i];
+            double over = lc_dot(h->a, aim) - h->b;
+            if (h->b - lc_dot(h->a, c) <= SLIDE_SLACK && over > 0)
+                aim = lc_sub(aim, lc_scale(h->a, over));
+        }
+    return aim;
+}
+
+int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, const lc_alloc *alloc,
+                   lc_setpoint *out)
+{
+    lc_motion_params mp = *in->params;
+    mp.latency = fmax(mp.latency, in->dt);
+    lc_vec2 aim = aim_point(in);
+    lc_region shrunk;
+    lc_vec2 c = lc_v2(in->pose.x, in->pose.y);
+    const lc_region *mr = motion_region(in, ws, alloc, c, aim, &shrunk);
+    if (mr && mr != in->region)
+        aim = slide_aim(mr, c, aim);
+    int rc = !mr ? -1
+             : in->robot->model == LC_MODEL_UNICYCLE
+                 ? lc_motion_unicycle(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out)
+                 : lc_motion_point(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out);
+    if (rc < 0)
+        *out = lc_setpoint_stop(LC_LIMIT_NONE);
+    return rc < 0 ? -1 : 0;
+}

@@ -1,0 +1,61 @@
+/*
+ * steer.h - the motion policy: from the region and the target to one
+ * setpoint. Which region the motion law brakes in (the region, kept a
+ * standoff off the grown obstacles), the point it heads for, sliding along
+ * lines the robot sits on, and turning in place when the robot may not
+ * translate. The laws themselves (braking promise, rate limits) are
+ * motion.h's; this module decides what they are asked.
+ *
+ * Frames: pose, region, obstacles and points are in the world frame; the
+ * setpoints (last, out) in the robot frame. Units SI.
+ *
+ * Ownership: lc_steer_ws holds the braking region's halfspaces, grown
+ * through the caller's allocator and reused (no allocation once warm).
+ */
+#ifndef LC_STEER_H
+#define LC_STEER_H
+
+#include "alloc.h"
+#include "motion.h"
+#include "polyset.h"
+#include "region.h"
+#include "robot.h"
+
+typedef struct lc_steer_ws {
+    lc_halfspace *h; /* the braking region's lines */
+    int cap_h;
+} lc_steer_ws;
+
+void lc_steer_ws_free(lc_steer_ws *ws, const lc_alloc *alloc);
+
+typedef struct lc_steer_input {
+    const lc_robot *robot;
+    const lc_motion_params *params;
+    double standoff;           /* m, how far off the grown obstacles it keeps (plan config) */
+    const lc_region *region;   /* the free region of this frame */
+    const lc_polyset *grown;   /* the obstacles grown by radius + margin */
+    lc_pose pose;              /* robot in the world */
+    lc_vec2 target;            /* the waypoint or its closest point in the region */
+    lc_vec2 waypoint;
+    const lc_setpoint *last;   /* the previous setpoint (rate limits start there) */
+    double dt;                 /* s, the control period */
+} lc_steer_input;
+
+/*
+ * The setpoint toward the target. Returns 0, or -1 when out of memory or
+ * the motion law refused its arguments (then *out is a stop, limit none).
+ */
+int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, const lc_alloc *alloc,
+                   lc_setpoint *out);
+
+/*
+ * too_close for a unicycle: no translation, but turning in place moves no
+ * part of a disc footprint, so it turns toward the target, rate limited
+ * from last->w: writes out->w and leaves the rest of *out. Nothing for the
+ * point model, a target at the robot, or dt <= 0.
+ */
+void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *params,
+                            lc_pose pose, lc_vec2 target, const lc_setpoint *last, double dt,
+                            lc_setpoint *out);
+
+#endif
