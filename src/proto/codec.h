@@ -24,6 +24,13 @@
  * become null. Printing assumes the C locale (the decimal point is '.').
  *
  * Not thread safe: cJSON keeps its error pointer and hooks in globals.
+ *
+ * The files behind this header, one job each: codec_names.c (wire names),
+ * json_read.c (the cJSON field readers and errors), codec_decode.c (text to
+ * message; robot -> server objects, plan requests), codec_client.c (server
+ * -> client messages), codec_fast.c (the one-pass scan and points reader),
+ * json_write.c (the JSON writer and number format), codec_encode.c
+ * (message encoders), codec_view.c (views and plan results).
  */
 #ifndef LC_CODEC_H
 #define LC_CODEC_H

@@ -325,14 +325,14 @@ static bool value(cursor *c, int k, const lc_wire_limits *lim, lc_wire_buffers *
     }
 }
 
-/* seq, stamp, pose, mount as frame_header in codec.c checks them. */
+/* seq, stamp, pose, mount as frame_header in codec_decode.c checks them. */
 static bool header_ok(const fields *f)
 {
     return (f->seen & HEADER) == HEADER && isfinite(f->seq) && f->seq == floor(f->seq) &&
            f->seq >= 0.0 && f->seq <= LC_WIRE_SEQ_MAX && isfinite(f->stamp);
 }
 
-/* scan_angles, scan_limits and scan_ranges in codec.c. */
+/* scan_angles, scan_limits and scan_ranges in codec_decode.c. */
 static bool scan_ok(const fields *f, const lc_wire_limits *lim)
 {
     unsigned need = SCAN_ONLY;
@@ -345,7 +345,7 @@ static bool scan_ok(const fields *f, const lc_wire_limits *lim)
            !(fabs(f->angle_step) * (n - 1) > TWO_PI * (1.0 + 1e-9));
 }
 
-/* points_from_json and points_z in codec.c. */
+/* points_from_json and points_z in codec_decode.c. */
 static bool points_ok(const fields *f, lc_wire_buffers *b)
 {
     if (!(f->seen & BIT(K_XY)) || (f->seen & SCAN_ONLY) || f->n_xy % 2 != 0 ||

@@ -3,9 +3,10 @@
  * the codec's field readers, every later line through lc_wire_decode.
  *
  * The header's robot and route are read and written by the codec, so a
- * scenario holds exactly what the wire would; numbers are printed so that
- * they parse back to the same double (lc_wire_format_number), which is what
- * lets `lacuna replay` reproduce a recorded run bit for bit.
+ * scenario holds exactly what the wire would; the header is written with
+ * the codec's JSON writer (json_write.h), numbers so that they parse back
+ * to the same double, which is what lets `lacuna replay` reproduce a
+ * recorded run bit for bit.
  */
 #include "scenario.h"
 
@@ -14,6 +15,10 @@
 #include <string.h>
 
 #include <cjson/cJSON.h>
+
+#include "codec_encode.h"
+#include "json_read.h"
+#include "json_write.h"
 
 static int read_control(const cJSON *o, lc_control *c, lc_wire_error *we);
 
@@ -80,8 +85,6 @@ static int fail_msg(lc_scenario_error *err, int line, const char *msg)
 
 /* ------------------------------------------------------------ header */
 
-static const lc_wire_bounds B_POS = {0.0, 1e9, true, false};
-static const lc_wire_bounds B_NONNEG = {0.0, 1e9, false, false};
 static const lc_wire_bounds B_FOV = {0.0, 2.0 * LC_PI, true, false};
 static const lc_wire_bounds B_BEAMS = {1.0, 100000.0, false, false};
 static const lc_wire_bounds B_RATE = {0.0, 1000.0, true, false};
@@ -99,10 +102,10 @@ static int read_sensor(const cJSON *obj, lc_scenario_sensor *s, lc_wire_error *w
     if (lc_wire_check_duplicates(obj, p, keys, we) ||
         lc_wire_int_field(obj, p, "beams", false, &B_BEAMS, &s->beams, we) < 0 ||
         lc_wire_number_field(obj, p, "fov", false, &B_FOV, &s->fov, we) < 0 ||
-        lc_wire_number_field(obj, p, "range_min", false, &B_POS, &s->range_min, we) < 0 ||
-        lc_wire_number_field(obj, p, "range_max", false, &B_POS, &s->range_max, we) < 0 ||
+        lc_wire_number_field(obj, p, "range_min", false, &lc_jr_pos, &s->range_min, we) < 0 ||
+        lc_wire_number_field(obj, p, "range_max", false, &lc_jr_pos, &s->range_max, we) < 0 ||
         lc_wire_number_field(obj, p, "rate", false, &B_RATE, &s->rate, we) < 0 ||
-        lc_wire_number_field(obj, p, "noise", false, &B_NONNEG, &s->noise, we) < 0)
+        lc_wire_number_field(obj, p, "noise", false, &lc_jr_nonneg, &s->noise, we) < 0)
         return -1;
     const cJSON *m = cJSON_GetObjectItemCaseSensitive(obj, "mount");
     if (m && lc_wire_pose_from_json(m, "sensor.mount", &s->mount, we) < 0)
@@ -215,7 +218,7 @@ static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_
     }
     if (lc_wire_check_duplicates(root, NULL, keys, we) || read_type_version(root, h, we) ||
         read_text_fields(root, h, we) ||
-        lc_wire_number_field(root, NULL, "max_time", false, &B_NONNEG, &h->max_time, we) < 0)
+        lc_wire_number_field(root, NULL, "max_time", false, &lc_jr_nonneg, &h->max_time, we) < 0)
         return -1;
     const cJSON *it;
     if ((it = cJSON_GetObjectItemCaseSensitive(root, "robot"))) {
@@ -412,163 +415,80 @@ int lc_scenario_next(lc_scenario_reader *r, lc_wire_msg *msg, lc_scenario_error 
 
 /* ------------------------------------------------------------ writer */
 
-static void put(lc_wire_text *t, const char *s, size_t n)
-{
-    if (t->failed)
-        return;
-    if (LC_GROW(t->alloc, t->s, t->cap, t->len + (int)n + 1) != 0) {
-        t->failed = true;
-        return;
-    }
-    memcpy(t->s + t->len, s, n);
-    t->len += (int)n;
-    t->s[t->len] = '\0';
-}
-
-static void puts_(lc_wire_text *t, const char *s) { put(t, s, strlen(s)); }
-
-static void put_num(lc_wire_text *t, double x)
-{
-    char buf[LC_WIRE_NUMBER_MAX];
-    put(t, buf, (size_t)lc_wire_format_number(buf, x, -1));
-}
-
-static void put_key_num(lc_wire_text *t, const char *key, double x)
-{
-    put(t, ",\"", 2);
-    puts_(t, key);
-    put(t, "\":", 2);
-    put_num(t, x);
-}
-
-static void put_doubles(lc_wire_text *t, const double *v, int n)
-{
-    put(t, "[", 1);
-    for (int i = 0; i < n; i++) {
-        if (i)
-            put(t, ",", 1);
-        put_num(t, v[i]);
-    }
-    put(t, "]", 1);
-}
-
-static void put_string(lc_wire_text *t, const char *s)
-{
-    put(t, "\"", 1);
-    for (; *s; s++) {
-        unsigned char c = (unsigned char)*s;
-        if (c == '"' || c == '\\') {
-            char esc[2] = {'\\', (char)c};
-            put(t, esc, 2);
-        } else if (c < 0x20) {
-            char esc[8];
-            put(t, esc, (size_t)snprintf(esc, sizeof esc, "\\u%04x", c));
-        } else {
-            put(t, s, 1);
-        }
-    }
-    put(t, "\"", 1);
-}
-
-/* A codec encoder's output spliced in as a member value. */
-static void put_encoded(lc_wire_text *t, const char *key, int rc, const lc_wire_text *part)
-{
-    if (rc < 0) {
-        t->failed = true;
-        return;
-    }
-    put(t, ",\"", 2);
-    puts_(t, key);
-    put(t, "\":", 2);
-    put(t, part->s, (size_t)part->len);
-}
-
 static void put_world(lc_wire_text *t, const lc_polyset *w)
 {
-    puts_(t, ",\"world\":{\"polygons\":[");
-    for (int i = 0; i < w->np; i++) {
-        int n;
-        const lc_vec2 *v = lc_polyset_at(w, i, &n);
-        put(t, i ? ",[" : "[", i ? 2 : 1);
-        for (int j = 0; j < n; j++) {
-            double xy[2] = {v[j].x, v[j].y};
-            if (j)
-                put(t, ",", 1);
-            put_doubles(t, xy, 2);
-        }
-        put(t, "]", 1);
-    }
-    puts_(t, "]}");
+    lc_jw_key(t, "world");
+    lc_jw_open(t, '{');
+    lc_jw_key(t, "polygons");
+    lc_jw_polyset(t, w, -1);
+    lc_jw_close(t, '}');
 }
 
 static void put_sensor(lc_wire_text *t, const lc_scenario_sensor *s)
 {
-    puts_(t, ",\"sensor\":{\"beams\":");
-    put_num(t, s->beams);
-    put_key_num(t, "fov", s->fov);
-    put_key_num(t, "range_min", s->range_min);
-    put_key_num(t, "range_max", s->range_max);
-    put_key_num(t, "rate", s->rate);
-    put_key_num(t, "noise", s->noise);
-    double m[3] = {s->mount.x, s->mount.y, s->mount.yaw};
-    puts_(t, ",\"mount\":");
-    put_doubles(t, m, 3);
-    put(t, "}", 1);
+    lc_jw_key(t, "sensor");
+    lc_jw_open(t, '{');
+    lc_jw_kv_int(t, "beams", s->beams);
+    lc_jw_kv_num(t, "fov", s->fov, -1);
+    lc_jw_kv_num(t, "range_min", s->range_min, -1);
+    lc_jw_kv_num(t, "range_max", s->range_max, -1);
+    lc_jw_kv_num(t, "rate", s->rate, -1);
+    lc_jw_kv_num(t, "noise", s->noise, -1);
+    lc_jw_key(t, "mount");
+    lc_jw_pose(t, s->mount, -1);
+    lc_jw_close(t, '}');
 }
 
 /* The recording server's control settings, as read_control reads them. */
 static void put_control(lc_wire_text *t, const lc_control *c)
 {
-    puts_(t, ",\"control\":{\"period\":");
-    put_num(t, c->period);
-    put_key_num(t, "dt_min", c->dt_min);
-    put_key_num(t, "dt_max", c->dt_max);
-    put_key_num(t, "first_dt", c->first_dt);
-    put_key_num(t, "watchdog_ms", c->watchdog_ms);
-    put(t, "}", 1);
+    lc_jw_key(t, "control");
+    lc_jw_open(t, '{');
+    lc_jw_kv_num(t, "period", c->period, -1);
+    lc_jw_kv_num(t, "dt_min", c->dt_min, -1);
+    lc_jw_kv_num(t, "dt_max", c->dt_max, -1);
+    lc_jw_kv_num(t, "first_dt", c->first_dt, -1);
+    lc_jw_kv_int(t, "watchdog_ms", c->watchdog_ms);
+    lc_jw_close(t, '}');
 }
 
+/* The robot and route as their wire messages write them, "type" and all. */
 static void put_robot_route(lc_wire_text *t, const lc_scenario_header *h)
 {
-    lc_wire_text part;
-    lc_wire_text_init(&part, t->alloc);
-    if (h->has_robot)
-        put_encoded(t, "robot", lc_wire_encode_robot(&part, &h->robot), &part);
-    if (h->has_route)
-        put_encoded(t, "route", lc_wire_encode_route(&part, &h->route), &part);
-    lc_wire_text_free(&part);
+    if (h->has_robot) {
+        lc_jw_key(t, "robot");
+        lc_jw_open(t, '{');
+        lc_wire_robot_members(t, &h->robot);
+        lc_jw_close(t, '}');
+    }
+    if (h->has_route) {
+        lc_jw_key(t, "route");
+        lc_jw_open(t, '{');
+        lc_wire_route_members(t, &h->route);
+        lc_jw_close(t, '}');
+    }
 }
 
 int lc_scenario_encode_header(lc_wire_text *t, const lc_scenario_header *h)
 {
-    t->len = 0;
-    t->failed = false;
-    puts_(t, "{\"type\":\"scenario\",\"version\":");
-    put_num(t, LC_SCENARIO_VERSION);
-    if (h->description[0]) {
-        puts_(t, ",\"description\":");
-        put_string(t, h->description);
-    }
+    lc_jw_begin(t);
+    lc_jw_kv_str(t, "type", "scenario");
+    lc_jw_kv_int(t, "version", LC_SCENARIO_VERSION);
+    if (h->description[0])
+        lc_jw_kv_str(t, "description", h->description);
     put_robot_route(t, h);
     if (h->has_start) {
-        double p[3] = {h->start.x, h->start.y, h->start.yaw};
-        puts_(t, ",\"start\":");
-        put_doubles(t, p, 3);
+        lc_jw_key(t, "start");
+        lc_jw_pose(t, h->start, -1);
     }
     if (h->has_world)
         put_world(t, &h->world);
     if (h->has_sensor)
         put_sensor(t, &h->sensor);
-    puts_(t, ",\"expect\":");
-    put_string(t, lc_scenario_expect_name(h->expect));
+    lc_jw_kv_str(t, "expect", lc_scenario_expect_name(h->expect));
     if (h->max_time > 0)
-        put_key_num(t, "max_time", h->max_time);
+        lc_jw_kv_num(t, "max_time", h->max_time, -1);
     if (h->has_control)
         put_control(t, &h->control);
-    put(t, "}", 1);
-    if (t->failed) {
-        t->len = 0;
-        return -1;
-    }
-    return 0;
+    return lc_jw_end(t);
 }

@@ -1,0 +1,225 @@
+/*
+ * codec_view.c - the two encoders that show a planning step rather than
+ * carry a command (see codec.h): the view message the server broadcasts to
+ * viewers, and the `lacuna plan` result.
+ *
+ * Both write the same step geometry (obstacles, grown obstacles, region,
+ * ellipse, target, goal, kept points, clearance). A plan result is exact;
+ * a view rounds its geometry to LC_WIRE_VIEW_DECIMALS to stay small, and
+ * writes null for what it does not have yet (no frame, no route, nothing
+ * sent).
+ */
+#include "codec_encode.h"
+#include "json_write.h"
+
+#include <math.h>
+
+/* The kept points, flat [x0, y0, x1, y1, ...]. */
+static void w_cloud(lc_wire_text *t, const lc_cloud *c, int decimals)
+{
+    lc_jw_open(t, '[');
+    for (int i = 0; c && i < c->n; i++) {
+        lc_jw_num(t, c->world[i].x, decimals);
+        lc_jw_num(t, c->world[i].y, decimals);
+    }
+    lc_jw_close(t, ']');
+}
+
+static void w_region(lc_wire_text *t, const lc_region *r, int decimals)
+{
+    lc_jw_open(t, '{');
+    lc_jw_key(t, "halfspaces");
+    lc_jw_open(t, '[');
+    for (int i = 0; i < r->nh; i++) {
+        double h[3] = {r->h[i].a.x, r->h[i].a.y, r->h[i].b};
+        lc_jw_doubles(t, h, 3, decimals);
+    }
+    lc_jw_close(t, ']');
+    lc_jw_key(t, "vertices");
+    lc_jw_vec2_list(t, r->v, r->nv, decimals);
+    lc_jw_close(t, '}');
+}
+
+/* E = {L u + d : |u| <= 1}; L is symmetric. */
+static void w_ellipse(lc_wire_text *t, const lc_ellipse *e, int decimals)
+{
+    double row0[2] = {e->l11, e->l12}, row1[2] = {e->l12, e->l22};
+    lc_jw_open(t, '{');
+    lc_jw_key(t, "center");
+    lc_jw_vec2(t, e->d, decimals);
+    lc_jw_key(t, "matrix");
+    lc_jw_open(t, '[');
+    lc_jw_doubles(t, row0, 2, decimals);
+    lc_jw_doubles(t, row1, 2, decimals);
+    lc_jw_close(t, ']');
+    lc_jw_close(t, '}');
+}
+
+static void kv_region_ellipse(lc_wire_text *t, const lc_region *r, int decimals)
+{
+    lc_jw_key(t, "region");
+    if (r)
+        w_region(t, r, decimals);
+    else
+        lc_jw_null(t);
+    lc_jw_key(t, "ellipse");
+    if (r)
+        w_ellipse(t, &r->ellipse, decimals);
+    else
+        lc_jw_null(t);
+}
+
+static void kv_point_or_null(lc_wire_text *t, const char *k, bool has, lc_vec2 p, int decimals)
+{
+    lc_jw_key(t, k);
+    if (has)
+        lc_jw_vec2(t, p, decimals);
+    else
+        lc_jw_null(t);
+}
+
+static void w_events(lc_wire_text *t, const lc_event *ev, int n)
+{
+    lc_jw_open(t, '[');
+    for (int i = 0; i < n && i < LC_PATROL_MAX_EVENTS; i++) {
+        lc_jw_open(t, '{');
+        lc_wire_kv_event(t, &ev[i]);
+        lc_jw_close(t, '}');
+    }
+    lc_jw_close(t, ']');
+}
+
+static void w_timing(lc_wire_text *t, const lc_plan_result *r)
+{
+    lc_jw_open(t, '{');
+    lc_jw_kv_num(t, "total", r->total_us, LC_WIRE_TIMING_DECIMALS);
+    for (int s = 0; s < LC_STAGE_COUNT; s++) {
+        const char *name = lc_stage_name((lc_stage)s);
+        if (name)
+            lc_jw_kv_num(t, name, r->stage_us[s], LC_WIRE_TIMING_DECIMALS);
+    }
+    lc_jw_close(t, '}');
+}
+
+/* What plan results and views share: the geometry of one step. */
+static void w_step_geometry(lc_wire_text *t, const lc_plan_result *r, int decimals)
+{
+    lc_jw_key(t, "obstacles");
+    lc_jw_polyset(t, r->obstacles, decimals);
+    lc_jw_key(t, "grown");
+    lc_jw_polyset(t, r->grown, decimals);
+    kv_region_ellipse(t, r->region, decimals);
+    kv_point_or_null(t, "target", r->has_target, r->target, decimals);
+    kv_point_or_null(t, "goal", r->has_waypoint, r->waypoint, decimals);
+    lc_jw_key(t, "points");
+    w_cloud(t, r->cloud, decimals);
+    lc_jw_kv_num(t, "clearance", r->clearance, decimals);
+}
+
+int lc_wire_encode_plan_result(lc_wire_text *t, const lc_plan_result *r, lc_model model)
+{
+    lc_jw_begin(t);
+    w_step_geometry(t, r, -1);
+    lc_jw_key(t, "setpoint");
+    lc_wire_put_setpoint(t, &r->setpoint, model);
+    lc_wire_kv_state(t, r->state);
+    lc_wire_kv_limit(t, r->setpoint.limit);
+    lc_jw_kv_index(t, "waypoint", r->has_waypoint ? r->waypoint_index : -1);
+    lc_jw_key(t, "events");
+    w_events(t, r->events, r->n_events);
+    lc_jw_kv_int(t, "ellipse_iterations", r->ellipse_iterations);
+    lc_jw_key(t, "timing_us");
+    w_timing(t, r);
+    return lc_jw_end(t);
+}
+
+static void w_view_route(lc_wire_text *t, const lc_route *route, int current)
+{
+    if (!route) {
+        lc_jw_null(t);
+        return;
+    }
+    lc_jw_open(t, '{');
+    lc_wire_route_common(t, route, LC_WIRE_VIEW_DECIMALS);
+    lc_jw_kv_index(t, "current", current);
+    lc_jw_close(t, '}');
+}
+
+/* State, limit, setpoint and waypoint: what was sent, else what was planned. */
+static void w_view_status(lc_wire_text *t, const lc_wire_view *m, lc_model model)
+{
+    const lc_wire_setpoint *sp = m->setpoint;
+    const lc_plan_result *r = m->result;
+    if (sp) {
+        lc_wire_kv_state(t, sp->state);
+        lc_wire_kv_limit(t, sp->sp.limit);
+        lc_jw_key(t, "setpoint");
+        lc_wire_put_setpoint(t, &sp->sp, model);
+        lc_jw_kv_index(t, "waypoint", sp->waypoint);
+    } else if (r) {
+        lc_wire_kv_state(t, r->state);
+        lc_wire_kv_limit(t, r->setpoint.limit);
+        lc_jw_key(t, "setpoint");
+        lc_wire_put_setpoint(t, &r->setpoint, model);
+        lc_jw_kv_index(t, "waypoint", r->has_waypoint ? r->waypoint_index : -1);
+    } else {
+        lc_wire_kv_state(t, LC_STATE_IDLE);
+        lc_wire_kv_limit(t, LC_LIMIT_IDLE);
+        lc_jw_key(t, "setpoint");
+        lc_jw_null(t);
+        lc_jw_kv_index(t, "waypoint", -1);
+    }
+}
+
+static void w_view_geometry_null(lc_wire_text *t)
+{
+    static const char *const keys[] = {"obstacles", "grown", "region", "ellipse", "target",
+                                       "goal", "points", "clearance"};
+    for (size_t i = 0; i < sizeof keys / sizeof keys[0]; i++) {
+        lc_jw_key(t, keys[i]);
+        lc_jw_null(t);
+    }
+}
+
+int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m)
+{
+    const int dec = LC_WIRE_VIEW_DECIMALS;
+    lc_model model = m->desc ? m->desc->model : LC_MODEL_POINT;
+    lc_jw_begin(t);
+    lc_jw_kv_str(t, "type", "view");
+    lc_jw_kv_str(t, "robot", m->robot ? m->robot : "");
+    lc_jw_key(t, "seq");
+    if (m->seq >= 0)
+        lc_jw_int(t, m->seq);
+    else
+        lc_jw_null(t);
+    lc_jw_kv_num(t, "stamp", m->result ? m->stamp : NAN, -1);
+    lc_wire_kv_model(t, model);
+    lc_jw_kv_num(t, "radius", m->desc ? m->desc->radius : NAN, dec);
+    lc_jw_kv_num(t, "margin", m->desc ? m->desc->margin : NAN, dec);
+    /* the limits the panel's "why this speed" names */
+    lc_jw_kv_num(t, "v_max", m->desc ? m->desc->v_max : NAN, dec);
+    lc_jw_kv_num(t, "a_max", m->desc ? m->desc->a_max : NAN, dec);
+    lc_jw_kv_num(t, "w_max", m->desc ? m->desc->w_max : NAN, dec);
+    lc_jw_kv_num(t, "dw_max", m->desc ? m->desc->dw_max : NAN, dec);
+    lc_jw_kv_num(t, "plan_us", m->plan_us > 0 ? m->plan_us : NAN, 1);
+    lc_jw_kv_num(t, "plan_max_us", m->plan_max_us > 0 ? m->plan_max_us : NAN, 1);
+    lc_jw_key(t, "pose");
+    if (m->result)
+        lc_jw_pose(t, m->pose, dec);
+    else
+        lc_jw_null(t);
+    w_view_status(t, m, model);
+    lc_jw_key(t, "route");
+    int current = -1;
+    if (m->setpoint)
+        current = m->setpoint->waypoint;
+    else if (m->result && m->result->has_waypoint)
+        current = m->result->waypoint_index;
+    w_view_route(t, m->route, current);
+    if (m->result)
+        w_step_geometry(t, m->result, dec);
+    else
+        w_view_geometry_null(t);
+    return lc_jw_end(t);
+}
