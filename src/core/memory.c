@@ -141,7 +141,6 @@ void lc_memory_clear(lc_memory *m)
     size_t cells = (size_t)m->n * (size_t)m->n;
     memset(m->seen, 0, cells * sizeof *m->seen);
     memset(m->ev, 0, cells * sizeof *m->ev);
-    m->now = 0;
 }
 
 /* ------------------------------------------------------------ lattice */
@@ -219,6 +218,7 @@ static void advance_clock(lc_memory *m, double stamp)
                         stamp > m->last_stamp + LC_MEMORY_JUMP)) {
         lc_memory_clear(m);
         m->clears++;
+        m->now = 0; /* start the clock over from this stamp */
     }
     if (m->now == 0) {
         m->base = stamp;
@@ -327,8 +327,28 @@ static int scan_polygon(lc_memory *m, const lc_frame *f, lc_vec2 sensor)
 /*
  * A points frame's view: the nearest kept point of each 1-degree bearing
  * bin, pulled back; a bin without a point ends at the sensor (nothing is
- * known to be free there).
+ * known to be free there), unless points lie within POINT_GAP bins on both
+ * sides (sparse points, not a gap in the view): then the nearer of those.
  */
+#define POINT_GAP 3
+
+static void fill_point_gaps(double *r)
+{
+    double was[POINT_BINS];
+    memcpy(was, r, sizeof was);
+    for (int b = 0; b < POINT_BINS; b++) {
+        if (isfinite(was[b]))
+            continue;
+        double left = INFINITY, right = INFINITY;
+        for (int k = 1; k <= POINT_GAP && !isfinite(left); k++)
+            left = was[(b - k + POINT_BINS) % POINT_BINS];
+        for (int k = 1; k <= POINT_GAP && !isfinite(right); k++)
+            right = was[(b + k) % POINT_BINS];
+        if (isfinite(left) && isfinite(right))
+            r[b] = lc_min(left, right);
+    }
+}
+
 static int points_polygon(lc_memory *m, const lc_frame *f, const lc_cloud *cloud, lc_vec2 sensor)
 {
     for (int b = 0; b < POINT_BINS; b++)
@@ -339,6 +359,7 @@ static int points_polygon(lc_memory *m, const lc_frame *f, const lc_cloud *cloud
         b = b < POINT_BINS ? b : POINT_BINS - 1;
         m->bin_range[b] = lc_min(m->bin_range[b], cloud->range[i]);
     }
+    fill_point_gaps(m->bin_range);
     if (poly_room(m, POINT_BINS) < 0)
         return -1;
     double back = PULL_BACK * m->c, yaw = f->pose.yaw + f->mount.yaw;
