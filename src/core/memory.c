@@ -14,13 +14,18 @@
  */
 #include "memory.h"
 
+#include <limits.h>
 #include <stdlib.h>
 #include <string.h>
+#ifdef __SSE2__
+#include <emmintrin.h>
+#endif
 
 #define PULL_BACK 1.5       /* cells a return's end is pulled back toward the sensor */
 #define BACK_TOLERANCE 1.0  /* s a stamp may go back (another sensor's older frame) */
 #define TICK_LIMIT 2000000000u /* ticks (ms, 23 days) before the memory starts over */
 #define POINT_BINS 360      /* bearing bins of a points frame's view */
+#define REANCHOR 64         /* beams between exact directions (scan_polygon) */
 
 struct lc_memory {
     lc_alloc alloc;
@@ -315,11 +320,18 @@ static int scan_polygon(lc_memory *m, const lc_frame *f, lc_vec2 sensor)
     double reach = m->cfg.reach, back = PULL_BACK * m->c;
     double far = isfinite(f->range_max) ? lc_min(f->range_max, reach) : reach;
     double yaw = f->pose.yaw + f->mount.yaw;
+    /* beam directions by rotation from one to the next, re-anchored every
+     * REANCHOR beams (one sincos per 64 beams, round-off below 1e-14 rad) */
+    lc_vec2 u = lc_v2(1, 0), rot = lc_unit_angle(f->angle_step);
     for (int i = 0; i < n; i++) {
+        if (i % REANCHOR == 0)
+            u = lc_unit_angle(yaw + f->angle_start + f->angle_step * i);
+        else
+            u = lc_v2(rot.x * u.x - rot.y * u.y, rot.y * u.x + rot.x * u.y);
         double r = f->ranges[i];
         double free = isfinite(r) && r >= f->range_min && r <= f->range_max ? r - back : far;
         free = lc_max(0.0, lc_min(free, reach));
-        m->poly[k++] = lc_add(sensor, lc_scale(lc_unit_angle(yaw + f->angle_start + f->angle_step * i), free));
+        m->poly[k++] = lc_add(sensor, lc_scale(u, free));
     }
     return k;
 }
@@ -372,10 +384,10 @@ static int points_polygon(lc_memory *m, const lc_frame *f, const lc_cloud *cloud
     return POINT_BINS;
 }
 
-/* The x where edge (p, q) crosses the height y (p.y != q.y). */
-static inline double cross_x(lc_vec2 p, lc_vec2 q, double y)
+/* The x where an edge from p with slope dx/dy crosses the height y. */
+static inline double cross_x(lc_vec2 p, double slope, double y)
 {
-    return p.x + (y - p.y) * (q.x - p.x) / (q.y - p.y);
+    return p.x + (y - p.y) * slope;
 }
 
 /* Rows [ja, jb) of a window starting at row j0 whose centre line the edge
@@ -418,8 +430,9 @@ static void fill_crossings(lc_memory *m, int nv)
             continue;
         long ja, jb;
         edge_rows(m, m->j0, p, q, &ja, &jb);
+        double slope = (q.x - p.x) / (q.y - p.y);
         for (long j = ja; j < jb; j++)
-            m->xs[m->row_count[j - m->j0]++] = cross_x(p, q, ((double)j + 0.5) * m->c);
+            m->xs[m->row_count[j - m->j0]++] = cross_x(p, slope, ((double)j + 0.5) * m->c);
     }
     /* the ends moved one row down: shift back to starts */
     for (int r = m->n; r > 0; r--)
@@ -427,8 +440,20 @@ static void fill_crossings(lc_memory *m, int nv)
     m->row_count[0] = 0;
 }
 
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* A row's crossings in order: insertion sort for the few a row usually
+ * has, the C library's for a jagged view's many. */
 static void sort_doubles(double *v, int n)
 {
+    if (n > 24) {
+        qsort(v, (size_t)n, sizeof *v, cmp_double);
+        return;
+    }
     for (int i = 1; i < n; i++) {
         double t = v[i];
         int k = i;
@@ -438,15 +463,34 @@ static void sort_doubles(double *v, int n)
     }
 }
 
-/* Seen now, one see-through off the evidence: stored cells [a, b) of a row. */
+/*
+ * Seen now, one see-through off the evidence: stored cells [a, b) of a row.
+ * Most of an update's time is here (tens of thousands of cells a frame):
+ * sixteen cells a step with SSE2 where the compiler has it (a saturating
+ * byte subtraction and four stores of the tick), the same in plain C
+ * otherwise.
+ */
 static void see_through(lc_memory *m, size_t a, size_t b)
 {
     uint32_t now = m->now;
-    for (size_t k = a; k < b; k++)
-        m->seen[k] = now;
+    uint32_t *seen = m->seen;
     uint8_t *ev = m->ev;
-    for (size_t k = a; k < b; k++)
-        ev[k] = ev[k] ? (uint8_t)(ev[k] - 1) : 0;
+    size_t k = a;
+#ifdef __SSE2__
+    __m128i one = _mm_set1_epi8(1), tick = _mm_set1_epi32((int)now);
+    for (; k + 16 <= b; k += 16) {
+        __m128i v = _mm_loadu_si128((const __m128i *)(ev + k));
+        _mm_storeu_si128((__m128i *)(ev + k), _mm_subs_epu8(v, one));
+        _mm_storeu_si128((__m128i *)(seen + k), tick);
+        _mm_storeu_si128((__m128i *)(seen + k + 4), tick);
+        _mm_storeu_si128((__m128i *)(seen + k + 8), tick);
+        _mm_storeu_si128((__m128i *)(seen + k + 12), tick);
+    }
+#endif
+    for (; k < b; k++) {
+        seen[k] = now;
+        ev[k] = (uint8_t)(ev[k] - (ev[k] != 0));
+    }
 }
 
 /* Lattice cells [ia, ib) of row j (inside the window) seen through. */
@@ -539,6 +583,55 @@ int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
     mark_body(m, centre, body_radius);
     m->updates++;
     return 0;
+}
+
+/* ------------------------------------------------------- bulk queries */
+
+double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
+                       lc_cell_state *state, lc_vec2 *cell)
+{
+    *state = LC_CELL_FREE;
+    if (!lc_vec2_finite(from) || !lc_vec2_finite(dir) || !(max >= 0) || !m->placed)
+        return INFINITY;
+    long i, j;
+    lc_memory_cell_of(m, from, &i, &j);
+    /* Amanatides and Woo: the ray's t at the next vertical and horizontal
+     * cell borders, and the t between borders; the stored row and column
+     * follow i and j without a division */
+    int si = dir.x > 0 ? 1 : -1, sj = dir.y > 0 ? 1 : -1;
+    double bx = (double)(si > 0 ? i + 1 : i) * m->c, by = (double)(sj > 0 ? j + 1 : j) * m->c;
+    double tx = dir.x != 0 ? (bx - from.x) / dir.x : INFINITY;
+    double ty = dir.y != 0 ? (by - from.y) / dir.y : INFINITY;
+    double dtx = dir.x != 0 ? m->c / fabs(dir.x) : INFINITY;
+    double dty = dir.y != 0 ? m->c / fabs(dir.y) : INFINITY;
+    int col = wrap(i, m->n), row = wrap(j, m->n);
+    double t = 0.0; /* where the ray entered cell (i, j) */
+    while (t <= max) {
+        if (t >= body) {
+            lc_cell_state st = in_window(m, i, j)
+                                   ? state_at(m, (size_t)row * (size_t)m->n + (size_t)col)
+                                   : LC_CELL_UNKNOWN;
+            if (st != LC_CELL_FREE) {
+                *state = st;
+                *cell = lc_memory_cell_centre(m, i, j);
+                return t;
+            }
+        }
+        if (tx < ty) {
+            t = tx;
+            tx += dtx;
+            i += si;
+            col += si;
+            col = col == m->n ? 0 : (col < 0 ? m->n - 1 : col);
+        } else {
+            t = ty;
+            ty += dty;
+            j += sj;
+            row += sj;
+            row = row == m->n ? 0 : (row < 0 ? m->n - 1 : row);
+        }
+    }
+    return INFINITY;
 }
 
 void lc_memory_get_stats(const lc_memory *m, lc_memory_stats *out)

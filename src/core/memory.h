@@ -124,6 +124,28 @@ void lc_memory_cell_of(const lc_memory *m, lc_vec2 p, long *i, long *j);
 /* The centre of lattice cell (i, j), world frame. */
 lc_vec2 lc_memory_cell_centre(const lc_memory *m, long i, long j);
 
+/* Cone of directions from apex: `width` radians counter-clockwise from
+ * the world direction `from` (width >= 2 pi: every direction). */
+typedef struct lc_cone {
+    lc_vec2 apex;
+    double from, width; /* rad */
+} lc_cone;
+
+/* True when the direction of p from the cone's apex lies in the cone. */
+bool lc_cone_holds(const lc_cone *cone, lc_vec2 p);
+
+
+/*
+ * March from `from` along the unit direction dir through every cell the
+ * ray crosses (Amanatides and Woo's traversal), up to `max` metres: the
+ * distance at which the ray enters the first cell that is not known free
+ * (cells the ray crosses within `body` of `from` count as free); its state
+ * and centre go to *state and *cell. INFINITY (and *state LC_CELL_FREE)
+ * when every cell up to max is known free.
+ */
+double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
+                       lc_cell_state *state, lc_vec2 *cell);
+
 /* Counts for tests, the bench and the viewer. */
 typedef struct lc_memory_stats {
     long occupied, free, unknown; /* cells of the window in each state */

@@ -13,6 +13,7 @@
 
 #include "grow.h"
 #include "hull.h"
+#include "recall.h"
 #include "steer.h"
 
 struct lc_session {
@@ -27,6 +28,10 @@ struct lc_session {
     lc_grow_rule grow_rule; /* cfg.grow_step's rotations, computed once */
     lc_cloud cloud;
     lc_segment_ws seg;
+    lc_memory *mem;           /* NULL: memory off */
+    lc_recall recall;
+    lc_segment_ws seg_recall;
+    lc_polyset frontier;      /* convex pieces of the frontier (not obstacles) */
     lc_polyset obstacles, grown;
     lc_vec2 *gather;
     int cap_gather;
@@ -42,7 +47,7 @@ struct lc_session {
 };
 
 static const char *const stage_names[LC_STAGE_COUNT] = {
-    "ingest", "segment", "hull", "grow", "region", "ellipse", "target", "setpoint",
+    "ingest", "memory", "segment", "hull", "grow", "region", "ellipse", "target", "setpoint",
 };
 
 const char *lc_stage_name(lc_stage stage)
@@ -60,6 +65,8 @@ void lc_plan_config_default(lc_plan_config *cfg)
     lc_region_config_default(&cfg->region);
     lc_ellipse_opts_default(&cfg->ellipse);
     lc_motion_params_default(&cfg->motion);
+    lc_memory_config_default(&cfg->memory);
+    cfg->recall = 5.0;
     cfg->standoff = 0.04;
 }
 
@@ -97,6 +104,13 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
     }
     if (s->cfg.hull_small_max >= 0)
         lc_hull_set_small_max(s->hull, s->cfg.hull_small_max);
+    if (s->cfg.memory.enabled) {
+        s->mem = lc_memory_new(&s->cfg.memory, &s->alloc);
+        if (!s->mem) {
+            lc_session_free(s);
+            return NULL;
+        }
+    }
     return s;
 }
 
@@ -108,6 +122,10 @@ void lc_session_free(lc_session *s)
     lc_hull_free(s->hull);
     lc_cloud_free(&s->cloud, a);
     lc_segment_ws_free(&s->seg, a);
+    lc_memory_free(s->mem);
+    lc_recall_free(&s->recall, a);
+    lc_segment_ws_free(&s->seg_recall, a);
+    lc_polyset_free(&s->frontier, a);
     lc_polyset_free(&s->obstacles, a);
     lc_polyset_free(&s->grown, a);
     LC_RELEASE(a, s->gather, s->cap_gather);
@@ -149,52 +167,127 @@ void lc_session_set_goal(lc_session *s, lc_vec2 goal_world)
     lc_patrol_reset(&s->patrol);
 }
 
-/* Hull of every piece into s->obstacles; 0 or -1. */
-static int hull_pieces(lc_session *s)
+/* The hull of every piece of seg (over cloud) appended to out, each with
+ * src = src0 + its piece index; 0 or -1. */
+static int hull_pieces(lc_session *s, const lc_cloud *cloud, const lc_segment_ws *seg,
+                       lc_polyset *out, int src0)
 {
-    lc_polyset_clear(&s->obstacles);
-    for (int k = 0; k < s->seg.n_pieces; k++) {
-        int start = s->seg.piece_start[k], n = s->seg.piece_count[k];
+    for (int k = 0; k < seg->n_pieces; k++) {
+        int start = seg->piece_start[k], n = seg->piece_count[k];
         if (LC_GROW(&s->alloc, s->gather, s->cap_gather, n) < 0 ||
-            lc_polyset_reserve(&s->obstacles, &s->alloc, n) < 0)
+            lc_polyset_reserve(out, &s->alloc, n) < 0)
             return -1;
         for (int i = 0; i < n; i++)
-            s->gather[i] = s->cloud.world[s->seg.order[start + i]];
-        int m = lc_hull_compute(s->hull, s->gather, n, s->obstacles.v + s->obstacles.nv);
+            s->gather[i] = cloud->world[seg->order[start + i]];
+        int m = lc_hull_compute(s->hull, s->gather, n, out->v + out->nv);
         if (m == -1)
             return -1;
         if (m <= 0)
             continue; /* finite input by construction: no other failure is expected */
-        if (lc_polyset_commit(&s->obstacles, &s->alloc, m, k) < 0)
+        if (lc_polyset_commit(out, &s->alloc, m, src0 + k) < 0)
             return -1;
     }
     return 0;
 }
 
-static int grow_obstacles(lc_session *s)
+/* Each polygon of set [from, set->np) grown by r, appended to s->grown
+ * with src = src0 + its index in set (src0 < 0: src0 - index). */
+static int grow_set(lc_session *s, const lc_polyset *set, int from, double r, int src0)
 {
-    double r = lc_robot_clearance(&s->robot);
-    lc_polyset_clear(&s->grown);
-    for (int j = 0; j < s->obstacles.np; j++) {
+    for (int j = from; j < set->np; j++) {
         int n;
-        const lc_vec2 *v = lc_polyset_at(&s->obstacles, j, &n);
+        const lc_vec2 *v = lc_polyset_at(set, j, &n);
         int cap = n + s->grow_rule.extra; /* lc_grow_max_vertices */
         if (lc_polyset_reserve(&s->grown, &s->alloc, cap) < 0)
             return -1;
         int m = lc_grow_polygon_rule(v, n, r, &s->grow_rule, s->grown.v + s->grown.nv, cap);
-        if (m > 0 && lc_polyset_commit(&s->grown, &s->alloc, m, j) < 0)
+        int src = src0 >= 0 ? src0 + j : src0 - j;
+        if (m > 0 && lc_polyset_commit(&s->grown, &s->alloc, m, src) < 0)
             return -1;
     }
     return 0;
 }
 
+/* Half a cell's diagonal: a remembered cell is a square, not its centre. */
+static double cell_reach(const lc_session *s)
+{
+    return s->mem ? 0.5 * sqrt(2.0) * s->cfg.memory.cell : 0.0;
+}
+
+/*
+ * The obstacles seen now grown by radius + margin; remembered ones and the
+ * frontier of the unknown (not obstacles: their src is -1 - index) by half
+ * a cell's diagonal more.
+ */
+static int grow_obstacles(lc_session *s, int n_seen)
+{
+    double r = lc_robot_clearance(&s->robot);
+    lc_polyset seen = s->obstacles;
+    seen.np = n_seen;
+    lc_polyset_clear(&s->grown);
+    if (grow_set(s, &seen, 0, r, 0) < 0 ||
+        grow_set(s, &s->obstacles, n_seen, r + cell_reach(s), 0) < 0 ||
+        grow_set(s, &s->frontier, 0, r + cell_reach(s), -1) < 0)
+        return -1;
+    return 0;
+}
+
+/* The region's window: the sensor's range (capped), with memory no larger
+ * than the box whose remembered obstacles are taken into account. */
 static double window_half_side(const lc_session *s, const lc_frame *f)
 {
     const lc_region_config *rc = &s->cfg.region;
-    if (rc->window > 0)
-        return rc->window;
-    double range = f->kind == LC_FRAME_SCAN ? f->range_max : s->cfg.ingest.range_cap;
-    return range > 0 && range < rc->window_max ? range : rc->window_max;
+    double w = rc->window;
+    if (!(w > 0)) {
+        double range = f->kind == LC_FRAME_SCAN ? f->range_max : s->cfg.ingest.range_cap;
+        w = range > 0 && range < rc->window_max ? range : rc->window_max;
+    }
+    return s->mem && s->cfg.recall > 0 ? lc_min(w, s->cfg.recall) : w;
+}
+
+/* The frame's view: fov (rad) about the world direction mid. */
+static void frame_view(const lc_session *s, const lc_frame *f, double *fov, double *mid)
+{
+    *fov = f->kind == LC_FRAME_POINTS && s->cfg.region.points_fov > 0 ? s->cfg.region.points_fov
+                                                                      : s->cloud.fov;
+    *mid = f->pose.yaw + s->cloud.fov_mid;
+}
+
+/*
+ * The memory: this frame into it, then what it adds to the plan
+ * (recall.h): remembered obstacles appended to s->obstacles, the frontier
+ * into s->frontier, the view widened where the memory knows the space near
+ * the robot. Nothing without memory. 0 or -1 (out of memory).
+ */
+static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
+{
+    frame_view(s, f, &out->view_fov, &out->view_mid);
+    lc_polyset_clear(&s->frontier);
+    if (!s->mem)
+        return 0;
+    if (lc_memory_update(s->mem, f, &s->cloud, s->robot.radius) < 0)
+        return -1;
+    out->memory = s->mem;
+    double cell = s->cfg.memory.cell;
+    lc_recall_input in = {.mem = s->mem,
+                          .centre = lc_v2(f->pose.x, f->pose.y),
+                          .body = s->robot.radius,
+                          .fov = out->view_fov,
+                          .view_mid = out->view_mid,
+                          .reach = s->cfg.recall,
+                          /* unknown cells farther than this, grown, leave the centre out */
+                          .near = 1.05 * lc_robot_clearance(&s->robot) + 2.0 * cell};
+    if (lc_recall_collect(&in, &s->recall, &s->alloc) < 0 ||
+        lc_segment(&s->recall.occupied, &s->cfg.segment, &s->seg_recall, &s->alloc) < 0 ||
+        hull_pieces(s, &s->recall.occupied, &s->seg_recall, &s->obstacles, 0) < 0 ||
+        lc_segment(&s->recall.frontier, &s->cfg.segment, &s->seg_recall, &s->alloc) < 0 ||
+        hull_pieces(s, &s->recall.frontier, &s->seg_recall, &s->frontier, 0) < 0)
+        return -1;
+    if (s->cfg.region.blind_line) {
+        out->view_fov = s->recall.fov;
+        out->view_mid = s->recall.view_mid;
+    }
+    return 0;
 }
 
 static double nearest_clearance(const lc_session *s, lc_vec2 c)
@@ -214,10 +307,7 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
                           .waypoint = wp,
                           .window = window_half_side(s, f)};
     if (s->cfg.region.blind_line) {
-        double fov = f->kind == LC_FRAME_POINTS && s->cfg.region.points_fov > 0
-                         ? s->cfg.region.points_fov
-                         : s->cloud.fov;
-        double view_mid = f->pose.yaw + s->cloud.fov_mid;
+        double fov = out->view_fov, view_mid = out->view_mid;
         /* A robot that slides sideways must keep its whole footprint in
          * seen space, not only its centre: the view wedge. A unicycle
          * drives along its heading, inside the seen half plane. */
@@ -304,6 +394,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     out->cloud = &s->cloud;
     out->obstacles = &s->obstacles;
     out->grown = &s->grown;
+    lc_polyset_clear(&s->obstacles);
+    lc_polyset_clear(&s->grown);
     out->state = LC_STATE_IDLE;
     out->setpoint = lc_setpoint_stop(LC_LIMIT_NONE);
     double t_start = lc_clock_now(&s->clock), t = t_start;
@@ -319,10 +411,14 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg, &s->alloc) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_SEGMENT, &t);
-    if (hull_pieces(s) < 0)
+    if (hull_pieces(s, &s->cloud, &s->seg, &s->obstacles, 0) < 0)
         return -1;
+    out->n_seen = s->obstacles.np;
     stamp_stage(s, out, LC_STAGE_HULL, &t);
-    if (grow_obstacles(s) < 0)
+    if (remember(s, frame, out) < 0)
+        return -1;
+    stamp_stage(s, out, LC_STAGE_MEMORY, &t);
+    if (grow_obstacles(s, out->n_seen) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_GROW, &t);
 

@@ -17,6 +17,7 @@
 #include "ellipse.h"
 #include "frame.h"
 #include "ingest.h"
+#include "memory.h"
 #include "motion.h"
 #include "patrol.h"
 #include "polyset.h"
@@ -35,6 +36,10 @@ typedef struct lc_plan_config {
     lc_region_config region;
     lc_ellipse_opts ellipse;
     lc_motion_params motion;
+    lc_memory_config memory; /* what the robot remembers (memory.h); on by default */
+    double recall;        /* m, with memory: half side of the box about the robot whose
+                             remembered obstacles the region avoids, and the region's
+                             window (default 5) */
     double standoff;      /* m, how far inside the region the robot aims when the
                              waypoint lies outside it (target stays the closest
                              point); keeps a robot parked at a blocked waypoint off
@@ -46,6 +51,7 @@ void lc_plan_config_default(lc_plan_config *cfg);
 
 typedef enum lc_stage {
     LC_STAGE_INGEST = 0,
+    LC_STAGE_MEMORY,  /* the memory's update and what it adds to this plan */
     LC_STAGE_SEGMENT,
     LC_STAGE_HULL,
     LC_STAGE_GROW,
@@ -62,8 +68,15 @@ const char *lc_stage_name(lc_stage stage);
 /* What one step produced. Pointers stay valid until the next step. */
 typedef struct lc_plan_result {
     const lc_cloud *cloud;       /* kept points, world frame */
-    const lc_polyset *obstacles; /* convex pieces as seen, world frame, CCW */
-    const lc_polyset *grown;     /* the same grown by radius + margin */
+    const lc_polyset *obstacles; /* convex pieces, world frame, CCW: [0, n_seen) from this
+                                    frame, the rest remembered (recall.h) */
+    int n_seen;
+    const lc_polyset *grown;     /* the obstacles grown by radius + margin (remembered ones
+                                    by half a cell's diagonal more), then the frontier of
+                                    the unknown grown the same way */
+    const lc_memory *memory;     /* NULL when the session remembers nothing */
+    double view_fov, view_mid;   /* rad, the view the region was given: the frame's,
+                                    widened by the memory (world direction of its middle) */
     const lc_region *region;     /* NULL when there is none (see state) */
     bool has_target;
     lc_vec2 target;              /* world frame */

@@ -60,12 +60,18 @@ static int reference_polygon(const lc_frame *f, const lc_memory_config *cfg, lc_
     if (!(fabs(f->angle_step) * n >= 2.0 * LC_PI - 1e-9))
         out[k++] = sensor;
     double far = lc_min(f->range_max, cfg->reach), back = 1.5 * cfg->cell;
+    /* directions as memory.c steps them: a rotation per beam, exact every
+     * 64th (within 1e-14 rad of the exact angle: checked below) */
+    lc_vec2 u = lc_v2(1, 0), rot = lc_unit_angle(f->angle_step);
     for (int i = 0; i < n; i++) {
+        double a = f->pose.yaw + f->mount.yaw + f->angle_start + f->angle_step * i;
+        u = i % 64 == 0 ? lc_unit_angle(a)
+                        : lc_v2(rot.x * u.x - rot.y * u.y, rot.y * u.x + rot.x * u.y);
+        assert_true(fabs(lc_wrap_angle(atan2(u.y, u.x) - a)) < 1e-13);
         double r = f->ranges[i];
         double free = isfinite(r) && r >= f->range_min && r <= f->range_max ? r - back : far;
         free = lc_max(0.0, lc_min(free, cfg->reach));
-        double a = f->pose.yaw + f->mount.yaw + f->angle_start + f->angle_step * i;
-        out[k++] = lc_add(sensor, lc_scale(lc_unit_angle(a), free));
+        out[k++] = lc_add(sensor, lc_scale(u, free));
     }
     return k;
 }
@@ -79,7 +85,8 @@ static bool inside(const lc_vec2 *v, int n, lc_vec2 p)
         double lo = lc_min(s.y, t.y), hi = lc_max(s.y, t.y);
         if (s.y == t.y || !(p.y >= lo && p.y < hi))
             continue;
-        double x = s.x + (p.y - s.y) * (t.x - s.x) / (t.y - s.y);
+        double slope = (t.x - s.x) / (t.y - s.y); /* memory.c: one slope per edge */
+        double x = s.x + (p.y - s.y) * slope;
         if (x <= p.x)
             in = !in;
     }

@@ -1,0 +1,81 @@
+/*
+ * recall.c - what the memory adds to one frame's plan (see recall.h).
+ */
+#include "recall.h"
+
+#include <string.h>
+
+void lc_recall_free(lc_recall *r, const lc_alloc *alloc)
+{
+    lc_cloud_free(&r->occupied, alloc);
+    lc_cloud_free(&r->frontier, alloc);
+}
+
+static int reset(lc_cloud *c, const lc_alloc *alloc, int n, lc_vec2 origin)
+{
+    memset(&c->dropped_invalid, 0, sizeof *c - offsetof(lc_cloud, dropped_invalid));
+    c->n = 0;
+    c->ordered = true;
+    c->angle_step = LC_RECALL_RAY_STEP;
+    c->sensor_world = origin;
+    c->fov = 2.0 * LC_PI;
+    c->fov_mid = 0.0;
+    int cw = c->cap, cr = c->cap, cb = c->cap;
+    if (LC_GROW(alloc, c->world, cw, n) < 0 || LC_GROW(alloc, c->range, cr, n) < 0 ||
+        LC_GROW(alloc, c->bearing, cb, n) < 0)
+        return -1;
+    c->cap = cw < cr ? (cw < cb ? cw : cb) : (cr < cb ? cr : cb);
+    return 0;
+}
+
+static void push(lc_cloud *c, lc_vec2 p, double range, double bearing)
+{
+    c->world[c->n] = p;
+    c->range[c->n] = range;
+    c->bearing[c->n] = bearing;
+    c->n++;
+}
+
+int lc_recall_collect(const lc_recall_input *in, lc_recall *out, const lc_alloc *alloc)
+{
+    out->fov = in->fov;
+    out->view_mid = in->view_mid;
+    out->rays = out->rays_known = 0;
+    double blind = 2.0 * LC_PI - in->fov, a0 = in->view_mid + 0.5 * in->fov;
+    int rays = blind > 1e-9 ? (int)ceil(blind / LC_RECALL_RAY_STEP) + 1 : 0;
+    if (reset(&out->occupied, alloc, rays + 1, in->centre) < 0 ||
+        reset(&out->frontier, alloc, rays + 1, in->centre) < 0)
+        return -1;
+    if (!in->mem || rays == 0)
+        return 0;
+    double step = blind / (rays - 1);
+    int first = -1, last = -1;
+    for (int k = 0; k < rays; k++) {
+        double a = a0 + step * k;
+        lc_cell_state st;
+        lc_vec2 cell;
+        double d = lc_memory_march(in->mem, in->centre, lc_unit_angle(a), in->reach, in->body,
+                                   &st, &cell);
+        if (st == LC_CELL_UNKNOWN && d < in->near) {
+            first = first < 0 ? k : first;
+            last = k;
+            continue;
+        }
+        out->rays_known++;
+        if (st == LC_CELL_OCCUPIED)
+            push(&out->occupied, cell, lc_dist(cell, in->centre), a);
+        else if (st == LC_CELL_UNKNOWN)
+            push(&out->frontier, cell, lc_dist(cell, in->centre), a);
+    }
+    out->rays = rays;
+    if (first < 0) {
+        out->fov = 2.0 * LC_PI;
+        return 0;
+    }
+    /* the cone that stays: rays first..last and the step beyond each (the
+     * directions between a known ray and an unknown one are not known) */
+    double lo = lc_max(a0 + step * (first - 1), a0), hi = lc_min(a0 + step * (last + 1), a0 + blind);
+    out->fov = 2.0 * LC_PI - (hi - lo);
+    out->view_mid = lc_wrap_angle(0.5 * (lo + hi) + LC_PI);
+    return 0;
+}
