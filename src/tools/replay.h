@@ -2,7 +2,7 @@
  * replay.h - what `lacuna replay` and `lacuna sim` share, so that a sim run
  * and its replay take the same steps: the session built from a scenario
  * header, the control period of each frame, the setpoint message of a plan
- * result, the wall clock for timing, and line output.
+ * result, and line output.
  *
  * The dt rule: the first frame of a run uses lc_scenario_first_dt (1 /
  * sensor rate, else 0.05 s); every later one the difference of consecutive
@@ -15,7 +15,6 @@
 #include <stdbool.h>
 #include <stdio.h>
 
-#include "clock.h"
 #include "codec.h"
 #include "scenario.h"
 #include "session.h"
@@ -28,9 +27,6 @@ double lc_replay_dt(bool first, double prev, double stamp, double first_dt);
 
 /* The setpoint message that answers frame f (seq and stamp echo it). */
 lc_wire_setpoint lc_replay_setpoint(const lc_frame *f, const lc_plan_result *r, lc_model model);
-
-/* CLOCK_MONOTONIC in microseconds. */
-lc_clock lc_replay_wall_clock(void);
 
 /* t's text and a newline; 0 or -1. */
 int lc_replay_put_line(FILE *out, const lc_wire_text *t);
