@@ -1,0 +1,229 @@
+/*
+ * hub_bot.c - one robot's session in the hub: its description and route,
+ * each frame's step (the control period dt, the session step, the setpoint,
+ * errors and events), the watchdog's stop setpoints, the last stop at
+ * shutdown, and its recording. A robot session lives as long as its robot's
+ * connection.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "hub_internal.h"
+#include "log.h"
+
+bot *lc_hub_find_bot(const lc_hub *hub, const char *name)
+{
+    for (bot *b = hub->bots; b; b = b->next)
+        if (strcmp(b->name, name) == 0)
+            return b;
+    return NULL;
+}
+
+bot *lc_hub_bot_new(lc_hub *hub, lc_conn *c, const char *name)
+{
+    bot *b = calloc(1, sizeof *b);
+    if (!b)
+        return NULL;
+    lc_robot_default(&b->desc);
+    lc_route_default(&b->route);
+    b->core = lc_session_new(&b->desc, &hub->plan, NULL);
+    if (b->core && hub->cfg.clock)
+        lc_session_set_clock(b->core, hub->cfg.clock);
+    if (!b->core) {
+        free(b);
+        return NULL;
+    }
+    snprintf(b->name, sizeof b->name, "%s", name);
+    b->id = ++hub->next_bot_id;
+    b->conn = c;
+    b->seq = -1;
+    b->watchdog_at = INFINITY;
+    b->next = hub->bots;
+    hub->bots = b;
+    return b;
+}
+
+void lc_hub_bot_free(lc_hub *hub, bot *b)
+{
+    for (bot **p = &hub->bots; *p; p = &(*p)->next) {
+        if (*p == b) {
+            *p = b->next;
+            break;
+        }
+    }
+    lc_recorder_close(&b->rec);
+    lc_session_free(b->core);
+    free(b);
+}
+
+/* A line of the robot's recording, when it is being recorded. */
+static void record(bot *b, const char *text, size_t len)
+{
+    if (lc_recorder_is_open(&b->rec) && lc_recorder_line(&b->rec, text, len) < 0)
+        b->rec_failed_unsent = true; /* told after the message at hand (it is in hub->text) */
+}
+
+/* The robot learns once that its recording stopped (the log has said so already). */
+static void tell_recording_failed(lc_hub *hub, bot *b, double now)
+{
+    if (!b->rec_failed_unsent)
+        return;
+    b->rec_failed_unsent = false;
+    lc_wire_error e = {0};
+    lc_wire_error_set(&e, LC_WIRE_RECORDING_FAILED,
+                      "record: %s; recording stopped, control goes on", strerror(b->rec.error));
+    e.has_seq = b->has_frame;
+    e.seq = b->seq;
+    lc_hub_send_error(hub, b->conn, &e, now);
+}
+
+/* Send what hub->text holds to the robot and record it. */
+static void send_to_robot(lc_hub *hub, bot *b, int rc, double now)
+{
+    if (rc == 0)
+        record(b, hub->text.s, (size_t)hub->text.len);
+    lc_hub_send_encoded(hub, b->conn, rc, now);
+    tell_recording_failed(hub, b, now);
+}
+
+/* dt of the first frame of a session (no stamp difference yet), s. */
+#define FIRST_DT 0.05
+
+static double control_period(const lc_hub *hub, const bot *b, double stamp)
+{
+    const lc_server_config *o = &hub->cfg.opts;
+    if (o->period > 0)
+        return o->period;
+    double dt = b->has_frame ? stamp - b->stamp : FIRST_DT;
+    if (!(dt >= o->dt_min))
+        dt = o->dt_min;
+    return dt > o->dt_max ? o->dt_max : dt;
+}
+
+static void start_recording(lc_hub *hub, bot *b)
+{
+    if (!hub->cfg.opts.record[0] || lc_recorder_is_open(&b->rec) || b->rec.failed)
+        return;
+    const lc_server_config *o = &hub->cfg.opts;
+    lc_record_control ctl = {.period = o->period, .dt_min = o->dt_min, .dt_max = o->dt_max,
+                             .first_dt = FIRST_DT, .watchdog_ms = o->watchdog_ms};
+    if (lc_recorder_open(&b->rec, o->record, b->name, &b->desc, &b->route, &ctl) < 0) {
+        b->rec.error = errno;
+        lc_log(LC_LOG_ERROR, "robot %s: cannot record in %s: %s", b->name, o->record,
+               strerror(errno));
+        b->rec.failed = true;
+        b->rec_failed_unsent = true;
+    }
+}
+
+static int current_waypoint(const lc_plan_result *r)
+{
+    return r->has_waypoint ? r->waypoint_index : -1;
+}
+
+static void send_events(lc_hub *hub, bot *b, double now)
+{
+    for (int i = 0; i < b->result.n_events; i++) {
+        lc_wire_event ev = {.ev = b->result.events[i], .seq = b->seq};
+        send_to_robot(hub, b, lc_wire_encode_event(&hub->text, &ev), now);
+    }
+}
+
+static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
+{
+    start_recording(hub, b);
+    if (lc_recorder_is_open(&b->rec) && lc_wire_encode_frame(&hub->text, f) == 0)
+        record(b, hub->text.s, (size_t)hub->text.len);
+    double dt = control_period(hub, b, f->stamp);
+    if (b->resting) {
+        lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_STALE);
+        lc_session_set_velocity(b->core, &rest);
+        b->resting = false;
+    }
+    int rc = lc_session_step(b->core, f, dt, &b->result);
+    b->plan_max_us = fmax(b->plan_max_us, b->result.total_us);
+    b->has_frame = true;
+    b->seq = f->seq;
+    b->stamp = f->stamp;
+    b->pose = f->pose;
+    b->last_sp = (lc_wire_setpoint){.seq = f->seq, .stamp = f->stamp, .model = b->desc.model,
+                                    .sp = b->result.setpoint, .state = b->result.state,
+                                    .waypoint = current_waypoint(&b->result)};
+    b->has_sp = true;
+    send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
+    if (rc < 0) {
+        lc_wire_error e = {0};
+        lc_wire_error_set(&e, LC_WIRE_INTERNAL, "frame: out of memory while planning (stop sent)");
+        e.has_seq = true;
+        e.seq = f->seq;
+        lc_hub_send_error(hub, b->conn, &e, now);
+    }
+    send_events(hub, b, now);
+    b->watchdog_at = now + hub->cfg.opts.watchdog_ms / 1000.0;
+    b->view_dirty = true;
+}
+
+void lc_hub_watchdog(lc_hub *hub, bot *b, double now)
+{
+    double period = hub->cfg.opts.watchdog_ms / 1000.0;
+    b->last_sp = (lc_wire_setpoint){.seq = b->seq, .stamp = b->stamp, .model = b->desc.model,
+                                    .sp = lc_setpoint_stop(LC_LIMIT_STALE),
+                                    .state = LC_STATE_STALE,
+                                    .waypoint = b->last_sp.waypoint};
+    b->resting = true;
+    b->view_dirty = true;
+    send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
+    b->watchdog_at += period;
+    if (b->watchdog_at <= now)
+        b->watchdog_at = now + period; /* the loop was late: do not send a burst */
+}
+
+/* Shutdown: a last stop setpoint to a robot that has had a frame. */
+void lc_hub_bot_stop(lc_hub *hub, bot *b, double now)
+{
+    if (!b->has_frame || b->conn->closing)
+        return;
+    b->last_sp = (lc_wire_setpoint){.seq = b->seq, .stamp = b->stamp,
+                                    .model = b->desc.model,
+                                    .sp = lc_setpoint_stop(LC_LIMIT_IDLE),
+                                    .state = LC_STATE_IDLE, .waypoint = b->last_sp.waypoint};
+    send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
+}
+
+void lc_hub_robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double now)
+{
+    bot *b = c->bot;
+    switch (m->type) {
+    case LC_MSG_ROBOT:
+        b->desc = m->u.robot;
+        lc_session_set_robot(b->core, &b->desc);
+        if (lc_wire_encode_robot(&hub->text, &b->desc) == 0)
+            record(b, hub->text.s, (size_t)hub->text.len);
+        b->view_dirty = true;
+        break;
+    case LC_MSG_ROUTE:
+        b->route = m->u.route;
+        b->has_route = true;
+        lc_session_set_route(b->core, &b->route);
+        if (lc_wire_encode_route(&hub->text, &b->route) == 0)
+            record(b, hub->text.s, (size_t)hub->text.len);
+        b->view_dirty = true;
+        break;
+    case LC_MSG_SCAN:
+    case LC_MSG_POINTS:
+        frame(hub, b, &m->u.frame, now);
+        break;
+    default:
+        break;
+    }
+    tell_recording_failed(hub, b, now);
+}
+
+void lc_hub_reopen(lc_hub *hub)
+{
+    for (bot *b = hub->bots; b; b = b->next)
+        lc_recorder_reopen(&b->rec, &b->desc, &b->route);
+}
