@@ -80,11 +80,17 @@ static void tell_recording_failed(lc_hub *hub, bot *b, double now)
     lc_hub_send_error(hub, b->conn, &e, now);
 }
 
-/* Send what hub->text holds to the robot and record it. */
-static void send_to_robot(lc_hub *hub, bot *b, int rc, double now)
+/* Record what hub->text holds, when its encoding (rc) succeeded. */
+static void record_encoded(lc_hub *hub, bot *b, int rc)
 {
     if (rc == 0)
         record(b, hub->text.s, (size_t)hub->text.len);
+}
+
+/* Send what hub->text holds to the robot and record it. */
+static void send_to_robot(lc_hub *hub, bot *b, int rc, double now)
+{
+    record_encoded(hub, b, rc);
     lc_hub_send_encoded(hub, b->conn, rc, now);
     tell_recording_failed(hub, b, now);
 }
@@ -200,16 +206,14 @@ void lc_hub_robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double 
     case LC_MSG_ROBOT:
         b->desc = m->u.robot;
         lc_session_set_robot(b->core, &b->desc);
-        if (lc_wire_encode_robot(&hub->text, &b->desc) == 0)
-            record(b, hub->text.s, (size_t)hub->text.len);
+        record_encoded(hub, b, lc_wire_encode_robot(&hub->text, &b->desc));
         b->view_dirty = true;
         break;
     case LC_MSG_ROUTE:
         b->route = m->u.route;
         b->has_route = true;
         lc_session_set_route(b->core, &b->route);
-        if (lc_wire_encode_route(&hub->text, &b->route) == 0)
-            record(b, hub->text.s, (size_t)hub->text.len);
+        record_encoded(hub, b, lc_wire_encode_route(&hub->text, &b->route));
         b->view_dirty = true;
         break;
     case LC_MSG_SCAN:
