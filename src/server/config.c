@@ -13,8 +13,8 @@
 #include <string.h>
 #include <strings.h>
 
-#include "cli.h"
 #include "codec.h"
+#include "file.h"
 #include "log.h"
 
 typedef enum opt_type { OPT_STR, OPT_LIST, OPT_INT, OPT_NUM } opt_type;
@@ -342,7 +342,7 @@ int lc_server_config_parse(lc_server_config *cfg, const char *text, size_t len, 
 int lc_server_config_load(lc_server_config *cfg, const char *path, char *err, size_t n)
 {
     size_t len = 0;
-    char *text = lc_cli_read_file(path, &len);
+    char *text = lc_file_read(path, &len);
     if (!text) {
         snprintf(err, n, "%s: %s", path, strerror(errno));
         return -1;

@@ -3,6 +3,8 @@
  * server loop (server.h). The option list of --help is printed from the
  * option table (config.c), the one place options are declared.
  */
+#include "serve.h"
+
 #include <errno.h>
 #include <limits.h>
 #include <stdlib.h>
@@ -13,13 +15,11 @@
 #include "cli.h"
 #include "codec.h"
 #include "config.h"
+#include "file.h"
 #include "log.h"
 #include "server.h"
 
 #define CMD "serve"
-
-/* Filled once before main from the option table (see build_usage). */
-char lc_serve_usage[16384];
 
 static const char usage_head[] =
     "usage: lacuna serve [--listen HOST:PORT] [--config FILE] [--web DIR] [--record DIR]\n"
@@ -53,15 +53,11 @@ static const char usage_head[] =
     "  --print-config\n"
     "      print the effective configuration as JSON and exit\n";
 
-__attribute__((constructor)) static void build_usage(void)
+void lc_serve_help(FILE *out)
 {
-    FILE *f = fmemopen(lc_serve_usage, sizeof lc_serve_usage - 1, "w");
-    if (!f)
-        return;
-    fputs(usage_head, f);
-    lc_server_config_help(f);
-    fputs("\nexit status: 0 after a signal, 1 when it cannot listen, 2 on bad usage.\n", f);
-    fclose(f);
+    fputs(usage_head, out);
+    lc_server_config_help(out);
+    fputs("\nexit status: 0 after a signal, 1 when it cannot listen, 2 on bad usage.\n", out);
 }
 
 static bool is_flag(const char *a, const char *name, const char **value)
@@ -194,10 +190,12 @@ int lc_serve(int argc, char **argv)
     char err[256];
     if (lc_listen_parse(cfg.listen, &p.listen, err, sizeof err) < 0)
         return lc_cli_usage_error(CMD, "%s", err);
-    if (cfg.token_file[0] && (rc = lc_cli_read_token(CMD, cfg.token_file, robot_token, sizeof robot_token)))
+    if (cfg.token_file[0] && (rc = lc_file_read_token(CMD, cfg.token_file, LC_WIRE_TOKEN_MAX, robot_token,
+                                                       sizeof robot_token)))
         return rc;
     if (cfg.viewer_token_file[0] &&
-        (rc = lc_cli_read_token(CMD, cfg.viewer_token_file, viewer_token, sizeof viewer_token)))
+        (rc = lc_file_read_token(CMD, cfg.viewer_token_file, LC_WIRE_TOKEN_MAX, viewer_token,
+                                   sizeof viewer_token)))
         return rc;
     if (!p.listen.loopback && !cfg.token_file[0])
         return lc_cli_usage_error(CMD,

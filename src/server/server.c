@@ -18,11 +18,12 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/socket.h>
-#include <time.h>
 
+#include "clock_mono.h"
 #include "codec.h"
 #include "log.h"
 #include "robots.h"
+#include "signals.h"
 
 typedef struct server {
     const lc_server_params *p;
@@ -47,21 +48,9 @@ struct pss {
 static volatile sig_atomic_t got_stop, got_hup;
 static struct lws_context *volatile signal_ctx;
 
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec + ts.tv_nsec * 1e-9;
-}
-
-/* The same clock in microseconds, for timing each plan. */
-static double now_us(void *data)
-{
-    (void)data;
-    return now_s() * 1e6;
-}
-
-static const lc_clock plan_clock = {now_us, NULL};
+/* The hub's time: the monotonic clock in seconds (the plans are timed on
+ * the same clock, lc_mono_clock). */
+static double now_s(void) { return lc_mono_us() * 1e-6; }
 
 int lc_listen_parse(const char *text, lc_listen_addr *out, char *err, size_t n)
 {
@@ -334,13 +323,8 @@ static void on_signal(int sig)
 
 static void install_signals(void)
 {
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigemptyset(&sa.sa_mask);
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
-    sigaction(SIGHUP, &sa, NULL);
+    static const int sigs[] = {SIGINT, SIGTERM, SIGHUP};
+    lc_signals_catch(on_signal, sigs, 3);
 }
 
 static void lws_to_log(int level, const char *line)
@@ -445,7 +429,7 @@ int lc_server_run(const lc_server_params *p)
     server s = {.p = p};
     lc_hub_config hc = {.opts = *p->cfg, .robot_token = p->robot_token,
                         .viewer_token = p->viewer_token, .headroom = LWS_PRE,
-                        .clock = &plan_clock,
+                        .clock = lc_mono_clock(),
                         .io = {.wake = hub_wake, .kill = hub_kill, .data = &s}};
     s.hub = lc_hub_new(&hc);
     if (!s.hub)

@@ -28,9 +28,10 @@
 #include "lc_config.h"
 #include "ref_mvie.h"
 #include "session.h"
+#include "tools.h"
 #include "world.h"
 
-const char lc_bench_usage[] =
+static const char usage[] =
     "usage: lacuna bench [--json] [--frames N] [--case NAME] [--quick]\n"
     "\n"
     "Times the per-frame plan on synthetic clutter: 360 to 4320 beams, 10 to 400\n"
@@ -57,6 +58,8 @@ const char lc_bench_usage[] =
     "  stalls hold up the server too). --runs N (1 to 20) repeats it on a new\n"
     "  connection each time and prints every run and the medians.\n"
     "  Without --connect it starts its own `lacuna serve` on loopback.\n";
+
+void lc_bench_help(FILE *out) { fputs(usage, out); }
 
 #define BENCH_FRAME_SETS 8 /* distinct noisy frames cycled through per case */
 

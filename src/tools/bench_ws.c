@@ -35,6 +35,8 @@
 #include "cli.h"
 #include "clock_mono.h"
 #include "codec.h"
+#include "file.h"
+#include "tools.h"
 #include "wsclient.h"
 
 #define WARMUP 200
@@ -419,7 +421,8 @@ int lc_bench_roundtrip(int argc, char **argv)
     if (rc)
         return rc;
     static char token[LC_WIRE_TOKEN_MAX + 2];
-    if (o.token_file && (rc = lc_cli_read_token("bench", o.token_file, token, sizeof token)))
+    if (o.token_file && (rc = lc_file_read_token("bench", o.token_file, LC_WIRE_TOKEN_MAX, token,
+                                                     sizeof token)))
         return rc;
     child c = {0};
     if (!o.connect && (rc = start_server(&o, &c)))

@@ -14,8 +14,9 @@
 #include "cli.h"
 #include "motion.h"
 #include "robot.h"
+#include "tools.h"
 
-const char lc_check_usage[] =
+static const char usage[] =
     "usage: lacuna check [--v-max M/S] [--a-max M/S2] [--latency S] [--range M]\n"
     "                    [--warn-fraction F] [--strict]\n"
     "\n"
@@ -33,6 +34,8 @@ const char lc_check_usage[] =
     "This is advice, not a safety function. lacuna is not a safety-rated\n"
     "component: separation distances are set by a risk assessment under the\n"
     "standards that apply (for example ISO 13855) and local rules.\n";
+
+void lc_check_help(FILE *out) { fputs(usage, out); }
 
 static int number_arg(const char *opt, const char *text, double lo, double *out)
 {

@@ -11,9 +11,12 @@
 #include "cli.h"
 #include "clock_mono.h"
 #include "codec.h"
+#include "file.h"
+#include "plan.h"
 #include "session.h"
+#include "tools.h"
 
-const char lc_plan_usage[] =
+static const char usage[] =
     "usage: lacuna plan [FILE|-] [--pretty | --json]\n"
     "\n"
     "Plans one frame. FILE (or standard input for '-' or no FILE) holds one plan\n"
@@ -29,6 +32,8 @@ const char lc_plan_usage[] =
     "\n"
     "Example: lacuna plan scenarios/requests/office-corner.json\n"
     "Exit status: 0 planned, 1 runtime failure, 2 bad usage or bad request.\n";
+
+void lc_plan_help(FILE *out) { fputs(usage, out); }
 
 static void print_pretty(FILE *out, const lc_plan_result *r, const lc_wire_plan_request *req)
 {
@@ -98,7 +103,7 @@ int lc_tool_plan(int argc, char **argv)
     if (rc)
         return rc;
     size_t len = 0;
-    char *text = lc_cli_read_file(path, &len);
+    char *text = lc_file_read(path, &len);
     if (!text)
         return lc_cli_usage_error("plan", "cannot read '%s': %m", path);
 

@@ -15,13 +15,15 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 #include <unistd.h>
 
 #include "cli.h"
+#include "clock_mono.h"
+#include "file.h"
 #include "svg.h"
+#include "tools.h"
 
-const char lc_replay_usage[] =
+static const char usage[] =
     "usage: lacuna replay FILE [--out FILE] [--svg FILE] [--expect FILE]\n"
     "                     [--tolerance X] [--json]\n"
     "\n"
@@ -41,6 +43,8 @@ const char lc_replay_usage[] =
     "mismatch is reported on stderr with its line number.\n"
     "exit status: 0 nothing differs, 1 a setpoint differs, 2 bad usage or file.\n";
 
+void lc_replay_help(FILE *out) { fputs(usage, out); }
+
 #define MAX_REPORTS 10
 
 /* ------------------------------------------------------- shared helpers */
@@ -57,15 +61,6 @@ lc_session *lc_replay_session(const lc_scenario_header *h)
     return s;
 }
 
-static double wall_us(void *data)
-{
-    (void)data;
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return (double)ts.tv_sec * 1e6 + (double)ts.tv_nsec * 1e-3;
-}
-
-lc_clock lc_replay_wall_clock(void) { return (lc_clock){wall_us, NULL}; }
 
 int lc_replay_put_line(FILE *out, const lc_wire_text *t)
 {
@@ -99,7 +94,7 @@ static void print_warning(void *data, int line, const char *message)
 int lc_replay_load(const char *cmd, const char *path, char **text, size_t *len,
                    lc_scenario_reader *rd, lc_scenario_header *h)
 {
-    *text = lc_cli_read_file(path, len);
+    *text = lc_file_read(path, len);
     if (!*text)
         return lc_cli_usage_error(cmd, "cannot read %s: %s", path, strerror(errno));
     lc_scenario_reader_init(rd, *text, *len, NULL);
@@ -242,7 +237,7 @@ static void progress(replay *r)
 {
     if (!isatty(STDERR_FILENO))
         return;
-    double now = wall_us(NULL);
+    double now = lc_mono_us();
     if (now - r->t_start < 1e6 || now - r->t_progress < 5e5)
         return;
     r->t_progress = now;
@@ -398,7 +393,7 @@ static int replay_run(replay *r, lc_scenario_reader *rd, const lc_scenario_heade
     r->s = lc_replay_session(h);
     if (!r->s)
         return lc_cli_fail("replay", "out of memory");
-    r->t_start = wall_us(NULL);
+    r->t_start = lc_mono_us();
     int rc = 0;
     if (r->o->expect)
         rc = load_expect(r);

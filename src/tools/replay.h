@@ -2,8 +2,7 @@
  * replay.h - what `lacuna replay` and `lacuna sim` share, so that a sim run
  * and its replay take the same steps: the session built from a scenario
  * header (its robot, route and control settings: the frames are then
- * stepped with lc_session_drive, control.h's dt rule), the wall clock for
- * timing, and line output.
+ * stepped with lc_session_drive, control.h's dt rule), and line output.
  */
 #ifndef LC_REPLAY_H
 #define LC_REPLAY_H
@@ -11,7 +10,6 @@
 #include <stdbool.h>
 #include <stdio.h>
 
-#include "clock.h"
 #include "codec.h"
 #include "scenario.h"
 #include "session.h"
@@ -20,8 +18,6 @@
  * (lc_scenario_control) and the default plan config. */
 lc_session *lc_replay_session(const lc_scenario_header *h);
 
-/* CLOCK_MONOTONIC in microseconds. */
-lc_clock lc_replay_wall_clock(void);
 
 /* t's text and a newline; 0 or -1. */
 int lc_replay_put_line(FILE *out, const lc_wire_text *t);

@@ -42,13 +42,16 @@
 
 #include "cli.h"
 #include "clock_mono.h"
+#include "file.h"
 #include "replay.h"
+#include "signals.h"
 #include "simlink.h"
-#include "wsclient.h"
 #include "svg.h"
+#include "tools.h"
 #include "world.h"
+#include "wsclient.h"
 
-const char lc_sim_usage[] =
+static const char usage[] =
     "usage: lacuna sim FILE [--model point|unicycle] [--seed N] [--out FILE]\n"
     "                  [--svg FILE] [--json] [--max-time S]\n"
     "       lacuna sim FILE --connect ws://HOST:PORT/ [--token-file FILE]\n"
@@ -85,6 +88,8 @@ const char lc_sim_usage[] =
     "the default, or \"blocked\": the run ended blocked without a collision).\n"
     "With --connect, round_trip_us replaces compute_us, and the exit is 1 also\n"
     "when the server cannot be reached or refuses a message, or on Ctrl-C.\n";
+
+void lc_sim_help(FILE *out) { fputs(usage, out); }
 
 #define SUBSTEP_MAX 0.001 /* s */
 #define BLOCKED_HOLD 3.0  /* s */
@@ -450,8 +455,7 @@ static int run_loop(sim *sm, double max_time)
     double period = 1.0 / sm->sensor.rate, blocked_since = -1;
     sm->m.end = OUT_TIMEOUT;
     check_contact(sm);
-    lc_clock wall = lc_replay_wall_clock();
-    double t_start = lc_clock_now(&wall), t_progress = 0;
+    double t_start = lc_mono_us(), t_progress = 0;
     for (long k = 0; (double)k / sm->sensor.rate <= max_time; k++) {
         int rc = period_step(sm, k, period, &blocked_since);
         if (rc == -1)
@@ -466,7 +470,7 @@ static int run_loop(sim *sm, double max_time)
             return lc_cli_fail("sim", "%s: %s", sm->o->connect, sm->why);
         if (rc == 1)
             break;
-        double now = lc_clock_now(&wall);
+        double now = lc_mono_us();
         /* --connect runs in real time: the viewer page is its progress */
         if (!sm->link && isatty(STDERR_FILENO) && now - t_start > 1e6 &&
             now - t_progress > 5e5) {
@@ -642,7 +646,7 @@ static void catch_signals(lc_simlink *link)
 {
     static const int sigs[] = {SIGINT, SIGTERM};
     signal_link = link;
-    lc_cli_catch_signals(on_signal, sigs, 2);
+    lc_signals_catch(on_signal, sigs, 2);
 }
 
 static int open_link(sim *sm)
@@ -651,7 +655,8 @@ static int open_link(sim *sm)
     char name[LC_WIRE_NAME_MAX + 1];
     int rc;
     if (sm->o->token_file &&
-        (rc = lc_cli_read_token("sim", sm->o->token_file, token, sizeof token)))
+        (rc = lc_file_read_token("sim", sm->o->token_file, LC_WIRE_TOKEN_MAX, token,
+                                  sizeof token)))
         return rc;
     if (sm->o->name)
         snprintf(name, sizeof name, "%s", sm->o->name);
@@ -695,8 +700,7 @@ static int sim_run(sim *sm)
     sm->s = lc_replay_session(h);
     if (!sm->ranges || !sm->s)
         return lc_cli_fail("sim", "out of memory");
-    lc_clock wall = lc_replay_wall_clock();
-    lc_session_set_clock(sm->s, &wall);
+    lc_session_set_clock(sm->s, lc_mono_clock());
     int rc = open_outputs(sm);
     if (!rc && sm->o->connect)
         rc = open_link(sm);

@@ -9,12 +9,12 @@
  */
 #include "testutil.h"
 
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "geos_oracle.h"
 #include "lc_config.h"
-#include "replay.h"
 #include "scenario.h"
 #include "session.h"
 #include "world.h"
@@ -164,7 +164,9 @@ static void test_promises_on_shipped_scenarios(void **state)
                          .range_min = h.sensor.range_min, .range_max = h.sensor.range_max,
                          .rate = h.sensor.rate, .noise = h.sensor.noise, .mount = h.sensor.mount};
         double *ranges = calloc((size_t)sen.beams, sizeof *ranges), dt = 1.0 / sen.rate;
-        lc_session *ses = lc_replay_session(&h);
+        lc_session *ses = lc_session_new(&h.robot, NULL, NULL);
+        if (ses && h.has_route)
+            lc_session_set_route(ses, &h.route);
         lc_sim_rng g = {1};
         lc_pose pose = h.start;
         for (int k = 0; k < 600; k++) {

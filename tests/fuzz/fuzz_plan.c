@@ -39,8 +39,8 @@
 
 #include <cjson/cJSON.h>
 
-#include "cli.h"
 #include "codec.h"
+#include "plan.h"
 #include "session.h"
 
 /* The codec's default beam and point limit: what a server would accept. */

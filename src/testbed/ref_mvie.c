@@ -13,6 +13,7 @@
  */
 #include "ref_mvie.h"
 
+#include "clock_mono.h"
 #include "lc_config.h"
 
 #include <math.h>
@@ -21,7 +22,6 @@
 #if LC_HAVE_IPOPT
 
 #include <stdlib.h>
-#include <time.h>
 
 #include <IpStdCInterface.h>
 #include <IpoptConfig.h>
@@ -33,13 +33,6 @@ typedef struct ref_problem {
 } ref_problem;
 
 enum { NV = 5, NH = 15 };
-
-static double now_usec(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec * 1e6 + ts.tv_nsec * 1e-3;
-}
 
 static Bool eval_f(Index n, Number *x, Bool new_x, Number *f, UserDataPtr data)
 {
@@ -349,7 +342,7 @@ int lc_ref_mvie_solve(const lc_halfspace *h, int n, lc_ellipse *out, double *log
 {
     if (n < 3 || !h || !out)
         return LC_REF_MVIE_BAD_INPUT;
-    double t0 = now_usec();
+    double t0 = lc_mono_us();
     ref_problem p = {n, malloc(3 * sizeof(double) * (size_t)n), NULL, NULL};
     if (!p.a1)
         return LC_REF_MVIE_FAILED;
@@ -358,7 +351,7 @@ int lc_ref_mvie_solve(const lc_halfspace *h, int n, lc_ellipse *out, double *log
     int st = ref_normalise(h, n, &p) ? ref_run(&p, out, logdet) : LC_REF_MVIE_BAD_INPUT;
     free(p.a1);
     if (usec)
-        *usec = now_usec() - t0;
+        *usec = lc_mono_us() - t0;
     return st;
 }
 

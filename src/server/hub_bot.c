@@ -1,0 +1,199 @@
+/*
+ * hub_bot.c - one robot's session in the hub: its description and route,
+ * each frame's step (the control period dt, the session step, the setpoint,
+ * errors and events: lc_session_drive), the watchdog's stop setpoints, the last stop at
+ * shutdown, and its recording. A robot session lives as long as its robot's
+ * connection.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "hub_internal.h"
+#include "log.h"
+
+bot *lc_hub_find_bot(const lc_hub *hub, const char *name)
+{
+    for (bot *b = hub->bots; b; b = b->next)
+        if (strcmp(b->name, name) == 0)
+            return b;
+    return NULL;
+}
+
+bot *lc_hub_bot_new(lc_hub *hub, lc_conn *c, const char *name)
+{
+    bot *b = calloc(1, sizeof *b);
+    if (!b)
+        return NULL;
+    lc_robot_default(&b->desc);
+    lc_route_default(&b->route);
+    b->core = lc_session_new(&b->desc, &hub->plan, NULL);
+    if (b->core && hub->cfg.clock)
+        lc_session_set_clock(b->core, hub->cfg.clock);
+    if (b->core)
+        lc_session_set_control(b->core, &hub->control);
+    if (!b->core) {
+        free(b);
+        return NULL;
+    }
+    snprintf(b->name, sizeof b->name, "%s", name);
+    b->id = ++hub->next_bot_id;
+    b->conn = c;
+    b->seq = -1;
+    b->watchdog_at = INFINITY;
+    b->next = hub->bots;
+    hub->bots = b;
+    return b;
+}
+
+void lc_hub_bot_free(lc_hub *hub, bot *b)
+{
+    for (bot **p = &hub->bots; *p; p = &(*p)->next) {
+        if (*p == b) {
+            *p = b->next;
+            break;
+        }
+    }
+    lc_recorder_close(&b->rec);
+    lc_session_free(b->core);
+    free(b);
+}
+
+/* A line of the robot's recording, when it is being recorded. */
+static void record(bot *b, const char *text, size_t len)
+{
+    if (lc_recorder_is_open(&b->rec) && lc_recorder_line(&b->rec, text, len) < 0)
+        b->rec_failed_unsent = true; /* told after the message at hand (it is in hub->text) */
+}
+
+/* The robot learns once that its recording stopped (the log has said so already). */
+static void tell_recording_failed(lc_hub *hub, bot *b, double now)
+{
+    if (!b->rec_failed_unsent)
+        return;
+    b->rec_failed_unsent = false;
+    lc_wire_error e = {0};
+    lc_wire_error_set(&e, LC_WIRE_RECORDING_FAILED,
+                      "record: %s; recording stopped, control goes on", strerror(b->rec.error));
+    e.has_seq = b->has_frame;
+    e.seq = b->seq;
+    lc_hub_send_error(hub, b->conn, &e, now);
+}
+
+/* Record what hub->text holds, when its encoding (rc) succeeded. */
+static void record_encoded(lc_hub *hub, bot *b, int rc)
+{
+    if (rc == 0)
+        record(b, hub->text.s, (size_t)hub->text.len);
+}
+
+/* Send what hub->text holds to the robot and record it. */
+static void send_to_robot(lc_hub *hub, bot *b, int rc, double now)
+{
+    record_encoded(hub, b, rc);
+    lc_hub_send_encoded(hub, b->conn, rc, now);
+    tell_recording_failed(hub, b, now);
+}
+
+static void start_recording(lc_hub *hub, bot *b)
+{
+    if (!hub->cfg.opts.record[0] || lc_recorder_is_open(&b->rec) || b->rec.failed)
+        return;
+    const lc_server_config *o = &hub->cfg.opts;
+    if (lc_recorder_open(&b->rec, o->record, b->name, &b->desc, &b->route,
+                         lc_session_control(b->core)) < 0) {
+        b->rec.error = errno;
+        lc_log(LC_LOG_ERROR, "robot %s: cannot record in %s: %s", b->name, o->record,
+               strerror(errno));
+        b->rec.failed = true;
+        b->rec_failed_unsent = true;
+    }
+}
+
+static void send_events(lc_hub *hub, bot *b, double now)
+{
+    for (int i = 0; i < b->result.n_events; i++) {
+        lc_wire_event ev = {.ev = b->result.events[i], .seq = b->seq};
+        send_to_robot(hub, b, lc_wire_encode_event(&hub->text, &ev), now);
+    }
+}
+
+static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
+{
+    start_recording(hub, b);
+    if (lc_recorder_is_open(&b->rec) && lc_wire_encode_frame(&hub->text, f) == 0)
+        record(b, hub->text.s, (size_t)hub->text.len);
+    int rc = lc_session_drive(b->core, f, &b->result, &b->last_sp);
+    b->plan_max_us = fmax(b->plan_max_us, b->result.total_us);
+    b->has_frame = true;
+    b->seq = f->seq;
+    b->stamp = f->stamp;
+    b->pose = f->pose;
+    b->has_sp = true;
+    send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
+    if (rc < 0) {
+        lc_wire_error e = {0};
+        lc_wire_error_set(&e, LC_WIRE_INTERNAL, "frame: out of memory while planning (stop sent)");
+        e.has_seq = true;
+        e.seq = f->seq;
+        lc_hub_send_error(hub, b->conn, &e, now);
+    }
+    send_events(hub, b, now);
+    b->watchdog_at = now + hub->cfg.opts.watchdog_ms / 1000.0;
+    b->view_dirty = true;
+}
+
+void lc_hub_watchdog(lc_hub *hub, bot *b, double now)
+{
+    double period = hub->cfg.opts.watchdog_ms / 1000.0;
+    lc_session_stop(b->core, LC_STATE_STALE, LC_LIMIT_STALE, &b->last_sp);
+    b->view_dirty = true;
+    send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
+    b->watchdog_at += period;
+    if (b->watchdog_at <= now)
+        b->watchdog_at = now + period; /* the loop was late: do not send a burst */
+}
+
+/* Shutdown: a last stop setpoint to a robot that has had a frame. */
+void lc_hub_bot_stop(lc_hub *hub, bot *b, double now)
+{
+    if (!b->has_frame || b->conn->closing)
+        return;
+    lc_session_stop(b->core, LC_STATE_IDLE, LC_LIMIT_IDLE, &b->last_sp);
+    send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
+}
+
+void lc_hub_robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double now)
+{
+    bot *b = c->bot;
+    switch (m->type) {
+    case LC_MSG_ROBOT:
+        b->desc = m->u.robot;
+        lc_session_set_robot(b->core, &b->desc);
+        record_encoded(hub, b, lc_wire_encode_robot(&hub->text, &b->desc));
+        b->view_dirty = true;
+        break;
+    case LC_MSG_ROUTE:
+        b->route = m->u.route;
+        b->has_route = true;
+        lc_session_set_route(b->core, &b->route);
+        record_encoded(hub, b, lc_wire_encode_route(&hub->text, &b->route));
+        b->view_dirty = true;
+        break;
+    case LC_MSG_SCAN:
+    case LC_MSG_POINTS:
+        frame(hub, b, &m->u.frame, now);
+        break;
+    default:
+        break;
+    }
+    tell_recording_failed(hub, b, now);
+}
+
+void lc_hub_reopen(lc_hub *hub)
+{
+    for (bot *b = hub->bots; b; b = b->next)
+        lc_recorder_reopen(&b->rec, &b->desc, &b->route);
+}
