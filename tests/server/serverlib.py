@@ -293,7 +293,7 @@ class Streamer:
         while (count is None or k < count) and not (stop and stop.is_set()) and not self.closed:
             delay = t0 + k / hz - time.monotonic()
             if delay > 0:
-                await asyncio.sleep(delay)
+                await asyncio.sleep(delay)  # kept: the fixed send schedule is the point
             seq = len(self.sent) + 1
             self.sent[seq] = time.monotonic()
             try:
