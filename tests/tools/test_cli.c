@@ -13,7 +13,7 @@
  *     too small), each refusal exit code 2 with a one-line reason naming
  *     the file.
  *
- * Exit codes as docs and README promise: 0 success, 1 runtime failure, 2 bad
+ * Exit codes as `lacuna --help` states them: 0 success, 1 runtime failure, 2 bad
  * usage or bad input.
  */
 #include "testutil.h"
