@@ -367,21 +367,16 @@ static void test_rejects_bad_input(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-#if LC_HAVE_GEOS
-        cmocka_unit_test(test_random_convex_polygons),
-        cmocka_unit_test(test_triangles),
-        cmocka_unit_test(test_point),
-        cmocka_unit_test(test_segment),
-        cmocka_unit_test(test_square_with_repeats),
-        cmocka_unit_test(test_near_repeat_stays_conservative),
-#endif
+        LC_GEOS_TEST(test_random_convex_polygons),
+        LC_GEOS_TEST(test_triangles),
+        LC_GEOS_TEST(test_point),
+        LC_GEOS_TEST(test_segment),
+        LC_GEOS_TEST(test_square_with_repeats),
+        LC_GEOS_TEST(test_near_repeat_stays_conservative),
         cmocka_unit_test(test_excess_bound_closed_form),
         cmocka_unit_test(test_rejects_bad_input),
     };
-#if !LC_HAVE_GEOS
-    fprintf(stderr, "test_grow: GEOS not found, the comparisons with GEOS are not run\n");
-#endif
-    int rc = cmocka_run_group_tests(tests, NULL, NULL);
+    int rc = LC_RUN_TESTS(tests, NULL, NULL);
 #if LC_HAVE_GEOS
     oracle_finish();
 #endif

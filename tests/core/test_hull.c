@@ -239,6 +239,7 @@ static void test_random_sets_against_geos(void **state)
     assert_true(checked[2] > 800);
     lc_hull_free(ctx);
 }
+#endif
 
 /* A piece larger than small_max goes to qhull, a smaller one does not. */
 static void test_dispatch_and_stats(void **state)
@@ -252,14 +253,18 @@ static void test_dispatch_and_stats(void **state)
     lc_rng_seed(&rng, 77);
     for (int i = 0; i < MAXN; i++)
         p[i] = lc_v2(lc_rng_uniform(&rng, -1, 1), lc_rng_uniform(&rng, -1, 1));
-    geos_hull g;
     assert_true(lc_hull_compute(ctx, p, 64, h) >= 3);
     assert_int_equal(st->small_calls, 1);
     assert_int_equal(st->qhull_calls, 0);
     int k = lc_hull_compute(ctx, p, 65, h);
     assert_int_equal(st->qhull_calls, 1);
+#if LC_HAVE_GEOS
+    geos_hull g;
     geos_of(p, 65, &g);
     check_hull(p, 65, h, k, &g, false);
+#else
+    (void)k;
+#endif
     lc_hull_set_small_max(ctx, 0);
     assert_true(lc_hull_compute(ctx, p, 3, h) == 3);
     assert_int_equal(st->qhull_calls, 2);
@@ -269,8 +274,8 @@ static void test_dispatch_and_stats(void **state)
     assert_true(lc_hull_compute(ctx, p, MAXN, h) >= 3);
     assert_int_equal(st->small_calls, 2);
     lc_hull_free(ctx);
+    LC_GEOS_CHECKED();
 }
-#endif
 
 /* ---- degenerate input ------------------------------------------------------ */
 
@@ -457,20 +462,15 @@ static void test_no_allocation_once_warm(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-#if LC_HAVE_GEOS
-        cmocka_unit_test(test_geos_collinear_behaviour),
-        cmocka_unit_test(test_random_sets_against_geos),
+        LC_GEOS_TEST(test_geos_collinear_behaviour),
+        LC_GEOS_TEST(test_random_sets_against_geos),
         cmocka_unit_test(test_dispatch_and_stats),
-#endif
         cmocka_unit_test(test_degenerate_never_reach_qhull),
         cmocka_unit_test(test_non_finite),
         cmocka_unit_test(test_qhull_failure_is_silent_and_recoverable),
         cmocka_unit_test(test_no_allocation_once_warm),
     };
-#if !LC_HAVE_GEOS
-    fprintf(stderr, "test_hull: GEOS not found, the comparisons with GEOS are not run\n");
-#endif
-    int rc = cmocka_run_group_tests(tests, NULL, NULL);
+    int rc = LC_RUN_TESTS(tests, NULL, NULL);
 #if LC_HAVE_GEOS
     oracle_finish();
 #endif

@@ -161,6 +161,7 @@ static void test_random_scenes(void **state)
     lc_region_free(&rg, NULL);
     lc_region_ws_free(&ws, NULL);
     lc_hull_free(hc);
+    LC_GEOS_CHECKED();
 }
 
 /* No returns: the window is the region (no blind sector for full views). */
@@ -387,6 +388,7 @@ static void test_projection_and_determinism(void **state)
     lc_region_free(&b, NULL);
     lc_region_ws_free(&ws, NULL);
     lc_hull_free(hc);
+    LC_GEOS_CHECKED();
 }
 
 static void test_bad_input(void **state)
@@ -413,16 +415,6 @@ static int setup(void **state)
 {
 #if LC_HAVE_GEOS
     oracle_init();
-#else
-    print_message("NOTICE: GEOS not found at build time: the GEOS checks are skipped\n");
-#endif
-    return 0;
-}
-
-static int teardown(void **state)
-{
-#if LC_HAVE_GEOS
-    oracle_finish();
 #endif
     return 0;
 }
@@ -439,5 +431,5 @@ int main(void)
         cmocka_unit_test(test_projection_and_determinism),
         cmocka_unit_test(test_bad_input),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return LC_RUN_TESTS(tests, setup, lc_test_geos_teardown);
 }

@@ -75,8 +75,8 @@ static void check_promises(const lc_robot *robot, const lc_frame *f, const lc_pl
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
     assert_non_null(rg);
     assert_true(lc_region_margin(rg, c) >= -1e-9);
-    double need = lc_robot_clearance(robot);
 #if LC_HAVE_GEOS
+    double need = lc_robot_clearance(robot);
     /* every valid return at least radius + margin from the region (GEOS) */
     for (int i = 0; i < r->cloud->n; i++)
         assert_true(oracle_point_distance(rg->v, rg->nv, r->cloud->world[i]) >= need - 1e-7);
@@ -134,6 +134,7 @@ static void test_promises_random(void **state)
     }
     assert_true(checked > 80);
     free(ranges);
+    LC_GEOS_CHECKED();
 }
 
 /*
@@ -196,6 +197,7 @@ static void test_promises_on_shipped_scenarios(void **state)
     assert_true(scenarios >= 6);
     print_message("%d frames of %d scenarios checked\n", checked, scenarios);
     assert_true(checked > 6 * 100);
+    LC_GEOS_CHECKED();
 }
 
 /* Warm session: a run of frames allocates nothing through the core's hook. */
@@ -538,14 +540,6 @@ static int setup(void **state)
     return 0;
 }
 
-static int teardown(void **state)
-{
-#if LC_HAVE_GEOS
-    oracle_finish();
-#endif
-    return 0;
-}
-
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -560,5 +554,5 @@ int main(void)
         cmocka_unit_test(test_scripted_patrol),
         cmocka_unit_test(test_names),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return LC_RUN_TESTS(tests, setup, lc_test_geos_teardown);
 }

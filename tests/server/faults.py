@@ -34,10 +34,10 @@ import sys
 import tempfile
 import time
 
-import websockets
 
 from serverlib import (FIGURES, MEASURE_RSS, SLOW, T, RawWS, Server, Streamer, check, far_scan, finish,
-                       frame_template, hello, recv, recv_type, set_exe, wait_until)
+                       frame_template, hello, hello_again, recv, recv_type, set_exe, wait_until,
+                       websockets)
 
 RSS_BOUND_KB = 2048  # growth of the server's resident size during one fault
 # Scans of 1081 beams make big views (they fill a stuck viewer's buffers fast)
@@ -48,17 +48,6 @@ BEAMS = 181 if SLOW else 1081
 def rss_check(before, after, what):
     if MEASURE_RSS:
         check(after - before <= RSS_BOUND_KB, "RSS %s: %d -> %d kB" % (what, before, after))
-
-
-async def hello_again(url, name):
-    """Hello until the name is free (the server sees the dropped socket close)."""
-    end = time.monotonic() + T
-    while True:
-        ws, m = await hello(url, name)
-        if m["type"] == "welcome" or time.monotonic() > end:
-            return ws, m
-        await ws.close()
-        await asyncio.sleep(0.05)
 
 
 class Steady:
@@ -92,8 +81,7 @@ def raw_robot(port, name, **kw):
 async def test_drop_mid_message(tmp):
     srv = Server("--record", os.path.join(tmp, "drop-rec"))
     try:
-        await asyncio.sleep(0.1)
-        fds0 = srv.fds()
+        fds0 = srv.fds()  # settled: the server says it listens once every descriptor is open
         steady = await Steady().start(srv.url, "steady")
         text = json.dumps(far_scan(1, 0.0)).encode()
         cuts = {
@@ -266,7 +254,7 @@ async def test_flood_no_read(srv):
             await loop.run_in_executor(None, raw.s.sendall, frame * 50)
             sent += 50
         except socket.timeout:
-            await asyncio.sleep(0.05)  # the server stopped reading for now
+            pass  # not writable for 0.2 s: the server stopped reading for now; again
         except OSError as e:
             ended = type(e).__name__
             break

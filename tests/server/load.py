@@ -68,9 +68,10 @@ async def run_robot(r, hz, seconds):
     await r.close()
 
 
-async def run_viewer(url, i, stop, counts):
+async def run_viewer(url, i, stop, counts, ready):
     ws, m = await hello(url, "", "viewer")
     check(m["type"] == "welcome", "viewer %d welcome" % i)
+    ready.append(i)
     views = nbytes = 0
     while not stop.is_set():
         try:
@@ -87,7 +88,7 @@ async def sample_rss(srv, stop, samples):
     t0 = time.monotonic()
     while not stop.is_set():
         samples.append((time.monotonic() - t0, srv.rss_kb()))
-        await asyncio.sleep(0.25)
+        await asyncio.sleep(0.25)  # kept: the sampling period
 
 
 async def one_cycle(srv, k):
@@ -120,17 +121,18 @@ async def one_cycle(srv, k):
 async def main(args):
     set_exe([None, args.exe])
     srv = Server("--log-level", "info", *args.serve)
-    await asyncio.sleep(0.2)
-    fds_before = srv.fds()
+    fds_before = srv.fds()  # settled: the server says it listens once every descriptor is open
     rss_idle = srv.rss_kb()
     robots = [robot(srv.url, i, args.beams) for i in range(args.robots)]
     stop = asyncio.Event()
     counts = {}
     samples = []
+    ready = []
     sampler = asyncio.ensure_future(sample_rss(srv, stop, samples))
-    viewers = [asyncio.ensure_future(run_viewer(srv.url, i, stop, counts))
+    viewers = [asyncio.ensure_future(run_viewer(srv.url, i, stop, counts, ready))
                for i in range(args.viewers)]
-    await asyncio.sleep(0.3)
+    # every viewer welcomed before the first frame, so each sees the whole run
+    check(await wait_until(lambda: len(ready) == args.viewers, T), "every viewer connected")
     cpu0, t0, client0 = srv.cpu_s(), time.monotonic(), time.process_time()
     await asyncio.gather(*[run_robot(r, args.hz, args.seconds) for r in robots])
     run_s = time.monotonic() - t0

@@ -61,6 +61,26 @@ void lc_counting_alloc_init(lc_counting_alloc *c)
     c->calls = c->frees = c->live = 0;
 }
 
+/* Tests skipped so far in this process (cmocka runs them one after another). */
+static size_t skipped;
+
+void lc_test_count_skip(const char *why)
+{
+    fprintf(stderr, "skipped: %s\n", why);
+    skipped++;
+}
+
+int lc_test_group_result(int failed, size_t tests)
+{
+    return failed == 0 && tests > 0 && skipped == tests ? 77 : failed;
+}
+
+void lc_test_skip_without_geos(void **state)
+{
+    LC_TEST_SKIP("GEOS not found at build time: this comparison with GEOS did not run");
+}
+
+
 const char *lc_test_source_path(const char *rel)
 {
     static char buf[4096];
@@ -71,7 +91,7 @@ const char *lc_test_source_path(const char *rel)
 
 static int cmp_path(const void *a, const void *b) { return strcmp(a, b); }
 
-int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int max)
+int lc_test_files(const char *rel, const char *suffix, char (*paths)[LC_TEST_PATH_MAX], int max)
 {
     char dir[LC_TEST_PATH_MAX];
     snprintf(dir, sizeof dir, "%s", lc_test_source_path(rel));
@@ -79,15 +99,21 @@ int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int ma
     if (!d)
         return -1;
     int n = 0;
+    size_t k = strlen(suffix);
     struct dirent *e;
     while ((e = readdir(d)) && n < max) {
         size_t len = strlen(e->d_name);
-        if (len >= 6 && strcmp(e->d_name + len - 6, ".jsonl") == 0)
+        if (len >= k && strcmp(e->d_name + len - k, suffix) == 0)
             snprintf(paths[n++], LC_TEST_PATH_MAX, "%.700s/%.300s", dir, e->d_name);
     }
     closedir(d);
     qsort(paths, (size_t)n, sizeof *paths, cmp_path);
     return n;
+}
+
+int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int max)
+{
+    return lc_test_files(rel, ".jsonl", paths, max);
 }
 
 /* The temporary directory: empty until lc_test_tmpdir_setup made one. */
@@ -145,6 +171,20 @@ int lc_test_lacuna(const char *args)
     int rc = system(cmd);
     assert_true(WIFEXITED(rc));
     return WEXITSTATUS(rc);
+}
+
+void lc_test_refused(const char *args, const char *want)
+{
+    int rc = lc_test_lacuna(args);
+    char *out = lc_test_slurp(lc_test_tmp("out.json")), *err = lc_test_slurp(lc_test_tmp("err.txt"));
+    assert_true(out && err);
+    size_t nl = strcspn(err, "\n");
+    if (rc != 2 || out[0] || strncmp(err, want, strlen(want)) != 0 || err[nl] != '\n' ||
+        err[nl + 1] != '\0')
+        fail_msg("lacuna %s: exit %d, stdout '%.200s', stderr '%s' (want exit 2 and one line "
+                 "'%s...')", args, rc, out, err, want);
+    free(out);
+    free(err);
 }
 
 char *lc_test_slurp_len(const char *path, size_t *len)

@@ -2,9 +2,10 @@
  * testutil.h - what every lacuna test shares: cmocka's includes in the order
  * 1.1.5 needs, a tolerance assertion (1.1.5 has no assert_float_equal), a
  * seeded random source, a counting allocator for the "no allocation per
- * frame once warm" checks, and, for the tests that run the built command, a
- * per-test temporary directory, the command itself and whole-file reads and
- * writes.
+ * frame once warm" checks, skips that say so (a check whose outside
+ * reference is missing from the build is skipped, never passed), and, for
+ * the tests that run the built command, a per-test temporary directory, the
+ * command itself and whole-file reads and writes.
  */
 #ifndef LC_TESTUTIL_H
 #define LC_TESTUTIL_H
@@ -17,6 +18,7 @@
 
 #include "alloc.h"
 #include "geom.h"
+#include "lc_config.h"
 
 /* Fails the test, printing both values, when |a - b| > tol. */
 #define assert_near(a, b, tol) lc_test_assert_near((a), (b), (tol), #a, #b, __FILE__, __LINE__)
@@ -46,12 +48,65 @@ typedef struct lc_counting_alloc {
 } lc_counting_alloc;
 void lc_counting_alloc_init(lc_counting_alloc *c);
 
+/*
+ * Skips. LC_TEST_SKIP prints why on stderr, counts the skip and ends the
+ * test as cmocka's skip() does (reported SKIPPED, not passed). LC_RUN_TESTS
+ * runs a group as cmocka_run_group_tests does and returns its result, except
+ * that a group whose every test was skipped returns 77, which meson shows as
+ * SKIP: an executable that checked nothing does not pass.
+ */
+#define LC_TEST_SKIP(why) \
+    do { \
+        lc_test_count_skip(why); \
+        skip(); \
+    } while (0)
+void lc_test_count_skip(const char *why);
+int lc_test_group_result(int failed, size_t tests);
+#define LC_RUN_TESTS(tests, setup, teardown) \
+    lc_test_group_result(cmocka_run_group_tests(tests, setup, teardown), \
+                         sizeof(tests) / sizeof((tests)[0]))
+
+/*
+ * Checks against GEOS (geos_oracle.h) exist only when meson found GEOS.
+ * LC_GEOS_TEST(f) registers a test that is all GEOS: without GEOS it is
+ * listed under its own name and skipped (its body may then be left out of
+ * the build). A test that checks GEOS beside other things ends with
+ * LC_GEOS_CHECKED(): without GEOS, once the other checks have passed, it is
+ * skipped, since part of what it promises was not checked.
+ */
+void lc_test_skip_without_geos(void **state);
+
+/* A group teardown that ends the GEOS oracle's context (nothing without
+ * GEOS), so that the leak checkers see it freed. Inline, so that only the
+ * tests that use it link the oracle. */
+#if LC_HAVE_GEOS
+#include "geos_oracle.h"
+#endif
+static inline int lc_test_geos_teardown(void **state)
+{
+    (void)state;
+#if LC_HAVE_GEOS
+    oracle_finish();
+#endif
+    return 0;
+}
+#if LC_HAVE_GEOS
+#define LC_GEOS_TEST(f) cmocka_unit_test(f)
+#define LC_GEOS_CHECKED() ((void)0)
+#else
+#define LC_GEOS_TEST(f) {#f, lc_test_skip_without_geos, NULL, NULL, NULL}
+#define LC_GEOS_CHECKED() \
+    LC_TEST_SKIP("GEOS not found at build time: the checks against GEOS did not run")
+#endif
+
 /* Path of a file under the source tree (LACUNA_SOURCE_ROOT), static buffer. */
 const char *lc_test_source_path(const char *rel);
 
-/* The .jsonl files of the source tree's directory rel, sorted by name, into
- * paths (at most max); the count, or -1 when the directory cannot be read. */
+/* The files of the source tree's directory rel whose names end in suffix
+ * (".json"), sorted by name, into paths (at most max); the count, or -1 when
+ * the directory cannot be read. lc_test_jsonl_files: the ".jsonl" ones. */
 #define LC_TEST_PATH_MAX 1024
+int lc_test_files(const char *rel, const char *suffix, char (*paths)[LC_TEST_PATH_MAX], int max);
 int lc_test_jsonl_files(const char *rel, char (*paths)[LC_TEST_PATH_MAX], int max);
 
 /* One temporary directory per test executable (one at a time), made from
@@ -79,6 +134,11 @@ const char *lc_test_tmp(const char *name);
  * may instead show as status 128 + its number. Uses none of lc_test_tmp's
  * buffers. */
 int lc_test_lacuna(const char *args);
+
+/* Runs `$LACUNA_EXE ARGS` as lc_test_lacuna does and wants it refused as
+ * bad usage or bad input: exit status 2, nothing on stdout, and on stderr
+ * one line that starts with want. Fails the test otherwise, showing both. */
+void lc_test_refused(const char *args, const char *want);
 
 /* The whole file into a malloc'd string with a NUL after the last byte read
  * (free it); the byte count in *len when len is not NULL (the file may hold NUL

@@ -23,6 +23,7 @@ import json
 import os
 import re
 import signal
+import socket
 import subprocess
 import sys
 import tempfile
@@ -42,6 +43,17 @@ def check(ok, what):
     print(("ok   " if ok else "FAIL ") + what)
     if not ok:
         failures.append(what)
+
+
+def wait_for(pred, timeout):
+    """Poll pred() until it holds or timeout s pass; returns its last value.
+    Every wait of this script is one of these, on a condition."""
+    end = time.monotonic() + timeout
+    while True:
+        v = pred()
+        if v or time.monotonic() > end:
+            return v
+        time.sleep(0.05)  # the poll interval of this wait
 
 
 def box(x0, y0, x1, y1):
@@ -68,16 +80,15 @@ class Server:
         self.log = open(os.path.join(tmp, "serve-%d.log" % time.monotonic_ns()), "w+")
         self.proc = subprocess.Popen([EXE, "serve", "--listen", "127.0.0.1:0", *args],
                                      stdout=subprocess.DEVNULL, stderr=self.log)
-        self.port = None
-        for _ in range(100):
-            self.log.seek(0)
-            m = re.search(r"listening on http://127\.0\.0\.1:(\d+)/", self.log.read())
-            if m:
-                self.port = int(m.group(1))
-                break
-            time.sleep(0.05)
+        self.port = wait_for(self.listening, 15.0)
         assert self.port, "the server did not start"
         self.url = "ws://127.0.0.1:%d/" % self.port
+
+    def listening(self):
+        """The port of the server's "listening on" line, None before it."""
+        self.log.seek(0)
+        m = re.search(r"listening on http://127\.0\.0\.1:(\d+)/", self.log.read())
+        return int(m.group(1)) if m else None
 
     def stop(self):
         self.proc.send_signal(signal.SIGTERM)
@@ -157,7 +168,10 @@ def test_interrupt(tmp, scen):
     srv = Server(tmp)
     p = subprocess.Popen([EXE, "sim", scen, "--json", "--connect", srv.url, "--laps", "0"],
                          stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    time.sleep(2.0)
+    # under way: the server has planned frame 15 (seq from 0), so the sim has
+    # more than 10 frames to report
+    seq = asyncio.run(view_seq(srv.url, 15, 30.0))
+    check(seq is not None and seq >= 15, "the sim's frames reach the server (seq %s)" % seq)
     t = time.monotonic()
     p.send_signal(signal.SIGINT)
     out, err = p.communicate(timeout=10)
@@ -170,9 +184,9 @@ def test_interrupt(tmp, scen):
     srv.stop()
 
 
-async def watch(url, seconds):
-    """Robot names seen in view messages during `seconds`."""
-    seen = set()
+async def views(url, done, seconds):
+    """Reads view messages as a viewer until done(view) holds or `seconds`
+    pass; returns done's last value."""
     async with websockets.connect(url, subprotocols=["lacuna.v1"], max_size=None) as ws:
         await ws.send(json.dumps({"type": "hello", "role": "viewer"}))
         end = time.monotonic() + seconds
@@ -181,9 +195,38 @@ async def watch(url, seconds):
                 m = json.loads(await asyncio.wait_for(ws.recv(), end - time.monotonic()))
             except asyncio.TimeoutError:
                 break
-            if m.get("type") == "view" and m.get("setpoint"):
-                seen.add(m.get("robot"))
+            if m.get("type") == "view":
+                v = done(m)
+                if v:
+                    return v
+    return done(None)
+
+
+async def view_seq(url, seq, seconds):
+    """The seq of the first view at or past seq, None if none comes."""
+    return await views(url, lambda m: m and m.get("seq") is not None and m["seq"] >= seq
+                       and m["seq"], seconds)
+
+
+async def watch(url, names, seconds):
+    """Robot names seen in views with a setpoint, until all of names are."""
+    seen = set()
+
+    def note(m):
+        if m and m.get("setpoint"):
+            seen.add(m.get("robot"))
+        return names <= seen
+
+    await views(url, note, seconds)
     return seen
+
+
+def port_open(port):
+    try:
+        socket.create_connection(("127.0.0.1", port), 1.0).close()
+        return True
+    except OSError:
+        return False
 
 
 def test_demo(tmp):
@@ -195,17 +238,14 @@ def test_demo(tmp):
                          stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env,
                          start_new_session=True)
     url = "http://127.0.0.1:%d/" % port
+    robots = {"office_round", "warehouse_aisles"}
     seen = set()
-    for _ in range(30):  # the demo's server is up once the port answers
-        try:
-            seen = asyncio.run(watch("ws://127.0.0.1:%d/" % port, 3.0))
-            break
-        except OSError:
-            time.sleep(0.2)
+    if wait_for(lambda: port_open(port), 15.0):  # the demo's server is up
+        seen = asyncio.run(watch("ws://127.0.0.1:%d/" % port, robots, 5.0))
     out, err = p.communicate(timeout=30)
     check(p.returncode == 0, "demo exits 0 when its time is up (%s: %s)" % (p.returncode, err.strip()))
     check(url in out, "demo prints the viewer URL %s" % url)
-    check({"office_round", "warehouse_aisles"} <= seen,
+    check(robots <= seen,
           "a viewer sees both demo robots live (%s)" % sorted(seen))
     left = subprocess.run(["pgrep", "-f", "ws://127.0.0.1:%d/" % port], capture_output=True)
     check(left.returncode == 1, "no demo process left behind")

@@ -66,6 +66,7 @@ function check(ok, what, detail) {
   return ok;
 }
 
+/* Only for "nothing happens within ms" checks: every other wait is waitFor. */
 function sleep(ms) { return new Promise((r) => setTimeout(r, ms)); }
 
 function track(child, name, logFile) {
@@ -138,6 +139,8 @@ function startPatrol(port, name, scenario) {
     state.starts++;
     state.child = track(spawn(EXE, args, { stdio: ['ignore', 'pipe', 'pipe'] }),
                         'patrol', path.join(SHOTS, 'patrol-' + name + '.log'));
+    /* a pause between restarts while the server is away (no wait for anything:
+     * a sim that cannot connect ends at once, and would otherwise spin) */
     state.child.on('exit', () => { if (!state.stopped) setTimeout(run, 300); });
   };
   run();
@@ -160,6 +163,15 @@ async function waitFor(page, fn, arg, what) {
     check(false, what, 'not within ' + WAIT / 1000 + ' s');
     throw new Error('stopped at: ' + what);
   }
+}
+
+/* Waits until the page has drawn the map n more times than it had when
+ * called: what the test reads next (robot position, pixels, a screenshot)
+ * comes from a drawing made after whatever it did before. */
+async function drawnAgain(page, n, what) {
+  const d0 = Number(await page.getAttribute('#map', 'data-draws') || 0);
+  await waitFor(page, (want) => Number(document.getElementById('map').dataset.draws) >= want,
+                d0 + n, what);
 }
 
 /* Pixel statistics of the map canvas, read in the page: how many pixels
@@ -404,9 +416,9 @@ async function main() {
     await page.mouse.move(mx - 150, my - 100, { steps: 4 });
     await page.mouse.up();
     check(await page.getAttribute('#follow', 'aria-pressed') === 'false', 'dragging the map stops following');
-    await sleep(300);
+    await drawnAgain(page, 1, 'the map drawn after the drag');
     const dragged = await dataset(page);
-    /* the robot keeps driving; by less than the 180 px drag in this time */
+    /* the robot keeps driving; by less than the 180 px drag in one drawing */
     check(Math.hypot(dragged.robotX - mx, dragged.robotY - my) > 90, 'the map moved with the drag',
           JSON.stringify({ robot: [dragged.robotX, dragged.robotY], centre: [mx, my] }));
     await page.click('#follow');
@@ -423,7 +435,7 @@ async function main() {
     await phone.goto(origin + '/#robot=' + ROBOT_NAME, { waitUntil: 'load' });
     await waitFor(phone, () => document.getElementById('map').dataset.robotX !== undefined &&
                   document.getElementById('state-code').textContent !== '', null, 'phone: robot drawn');
-    await sleep(300);
+    await drawnAgain(phone, 3, 'phone: the map drawn on, following the robot');
     await phone.screenshot({ path: path.join(SHOTS, 'phone-360.png') });
     await phone.screenshot({ path: path.join(SHOTS, 'phone-360-full.png'), fullPage: true });
     const pd = await dataset(phone);
@@ -455,7 +467,7 @@ async function main() {
                   document.getElementById('state-code').textContent !== '' &&
                   /vx .* vy /.test(document.getElementById('f-setpoint-detail').textContent), null,
                   'picking the second robot shows it, with its vx, vy setpoint');
-    await sleep(500);
+    await drawnAgain(page, 3, 'the second robot drawn');
     await page.screenshot({ path: path.join(SHOTS, 'two-robots.png') });
     await page.selectOption('#picker', ROBOT_NAME);
     await waitFor(page, (n) => document.getElementById('robot-name').textContent === n, ROBOT_NAME,
@@ -472,7 +484,8 @@ async function main() {
     patrol.child.kill('SIGSTOP');
     await waitFor(page, () => document.getElementById('state-code').textContent === 'stale', null,
                   'a paused robot shows as stale');
-    await sleep(300);
+    /* the watchdog's stops keep views coming: a drawing of the stale state */
+    await drawnAgain(page, 1, 'the stale robot drawn');
     await page.screenshot({ path: path.join(SHOTS, 'stale.png') });
     const staleWords = await page.textContent('#state-words');
     check(/watchdog/.test(staleWords) && /no sensor frame/.test(staleWords),
@@ -526,7 +539,7 @@ async function main() {
                   'page asks for the viewer token');
     await page.screenshot({ path: path.join(SHOTS, 'token-asked.png') });
     const socketsBefore = w.sockets;
-    await sleep(1500);
+    await sleep(1500); /* kept: that nothing happens in this time is the check */
     check(w.sockets === socketsBefore, 'no retries while the token is missing',
           `${w.sockets - socketsBefore} more`);
     await page.fill('#token', 'quiet-heron-58');
