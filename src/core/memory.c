@@ -40,6 +40,7 @@ struct lc_memory {
     double base;       /* stamp of tick 0 */
     double last_stamp;
     uint32_t hold_occ, hold_free; /* ticks */
+    int sweep_row;     /* the next stored row the ageing sweep visits */
     long updates, clears;
     /* scan-line scratch, grown to a high-water mark */
     lc_vec2 *poly;
@@ -561,6 +562,26 @@ static void mark_body(lc_memory *m, lc_vec2 centre, double radius)
         }
 }
 
+/*
+ * Occupied cells whose hold has run out lose their evidence, SWEEP_ROWS
+ * stored rows an update (the whole window every n / SWEEP_ROWS updates),
+ * so that for the fast queries below ev != 0 means occupied (a forgotten
+ * cell may count as occupied there until the sweep passes: the safe side).
+ * lc_memory_cell and lc_memory_state judge the age exactly.
+ */
+#define SWEEP_ROWS 8
+
+static void sweep(lc_memory *m)
+{
+    for (int r = 0; r < SWEEP_ROWS; r++) {
+        size_t row = (size_t)m->sweep_row * (size_t)m->n;
+        for (int k = 0; k < m->n; k++)
+            if (m->ev[row + (size_t)k] && m->now - m->seen[row + (size_t)k] > m->hold_occ)
+                m->ev[row + (size_t)k] = 0;
+        m->sweep_row = m->sweep_row + 1 == m->n ? 0 : m->sweep_row + 1;
+    }
+}
+
 int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
                      double body_radius)
 {
@@ -581,6 +602,7 @@ int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
     fill_polygon(m);
     mark_returns(m, cloud);
     mark_body(m, centre, body_radius);
+    sweep(m);
     m->updates++;
     return 0;
 }
@@ -632,6 +654,58 @@ double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max
         }
     }
     return INFINITY;
+}
+
+/* Least squared distance from p to an occupied cell centre of stored row
+ * `row` (lattice row j), columns [a, b) (lattice column of a: ia). */
+static double row_nearest2(const lc_memory *m, size_t row, int a, int b, long ia, long j,
+                           lc_vec2 p, double best)
+{
+    const uint8_t *ev = m->ev + row;
+    double dy = ((double)j + 0.5) * m->c - p.y;
+    for (int k = a; k < b; k++) {
+        if (k + 8 <= b) {
+            uint64_t w;
+            memcpy(&w, ev + k, sizeof w);
+            if (w == 0) {
+                k += 7;
+                continue;
+            }
+        }
+        if (ev[k]) {
+            double dx = ((double)(ia + (k - a)) + 0.5) * m->c - p.x;
+            best = lc_min(best, dx * dx + dy * dy);
+        }
+    }
+    return best;
+}
+
+double lc_memory_nearest(const lc_memory *m, lc_vec2 p, double radius)
+{
+    if (!m->placed || !lc_vec2_finite(p) || !(radius >= 0))
+        return INFINITY;
+    long ia = floor_div(p.x - radius, m->c), ib = floor_div(p.x + radius, m->c) + 1;
+    long ja = floor_div(p.y - radius, m->c), jb = floor_div(p.y + radius, m->c) + 1;
+    ia = ia > m->i0 ? ia : m->i0;
+    ja = ja > m->j0 ? ja : m->j0;
+    ib = ib < m->i0 + m->n ? ib : m->i0 + m->n;
+    jb = jb < m->j0 + m->n ? jb : m->j0 + m->n;
+    double best = radius * radius;
+    bool found = false;
+    for (long j = ja; j < jb; j++) {
+        size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
+        int ca = wrap(ia, m->n);
+        long len = ib - ia;
+        if (len <= 0)
+            break;
+        int end = ca + len <= m->n ? ca + (int)len : m->n;
+        double b = row_nearest2(m, row, ca, end, ia, j, p, best);
+        if (ca + len > m->n)
+            b = row_nearest2(m, row, 0, (int)(ca + len - m->n), ia + (m->n - ca), j, p, b);
+        found = found || b < best;
+        best = b;
+    }
+    return found ? sqrt(best) : INFINITY;
 }
 
 void lc_memory_get_stats(const lc_memory *m, lc_memory_stats *out)

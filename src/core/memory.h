@@ -146,6 +146,15 @@ bool lc_cone_holds(const lc_cone *cone, lc_vec2 p);
 double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
                        lc_cell_state *state, lc_vec2 *cell);
 
+/*
+ * The distance from p to the nearest occupied cell centre within `radius`
+ * metres of p; INFINITY when there is none. Occupied here means evidence
+ * not yet swept away: a cell whose hold ran out counts until the ageing
+ * sweep (SWEEP_ROWS rows an update) reaches it. Cheap: a box of bytes,
+ * eight at a time.
+ */
+double lc_memory_nearest(const lc_memory *m, lc_vec2 p, double radius);
+
 /* Counts for tests, the bench and the viewer. */
 typedef struct lc_memory_stats {
     long occupied, free, unknown; /* cells of the window in each state */

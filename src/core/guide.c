@@ -1,0 +1,552 @@
+/*
+ * guide.c - guidance by A* over the remembered space (see guide.h).
+ *
+ * The search grid is laid on the memory's window at each search (its
+ * origin follows the window), `n` cells of `cell` metres a side. Cells are
+ * classified lazily, once per search, from the memory: closed within the
+ * clearance R of an occupied cell, "soft" within R + soft, and unknown when
+ * the memory does not know the cell under their centre. A waypoint outside
+ * the window is a goal node of its own, reached from the cells of the
+ * window's border at the unknown-space cost of the straight line: the path
+ * leaves the window where the rest of the way looks cheapest.
+ */
+#include "guide.h"
+
+#include <float.h>
+#include <stdint.h>
+#include <string.h>
+
+enum {
+    CLS_TODO = 0, /* not classified in this search */
+    CLS_FREE = 1,
+    CLS_SOFT = 2,
+    CLS_CLOSED = 3,
+    CLS_UNKNOWN = 0x10, /* or'ed: the memory does not know the cell */
+};
+
+enum { ST_OPEN = 1, ST_DONE = 2 };
+
+#define LOS_STEP 0.5 /* memory cells between line-of-sight samples */
+
+struct lc_guide {
+    lc_alloc alloc;
+    lc_guide_config cfg;
+    double mem_cell;
+    int n;             /* search cells along a side */
+    double x0, y0;     /* world corner of the grid of the current search */
+    float *g;          /* n * n + 1: the last one is the outside goal */
+    int *parent;
+    uint8_t *state, *cls;
+    int *heap, *pos;   /* indexed binary heap by f */
+    float *f;
+    int heap_n;
+    int *raw;          /* the search's path, cell by cell, goal first */
+    lc_guide_path path, cand;
+    long frame, last_search, searches;
+    bool has_goal;
+    lc_vec2 goal;
+};
+
+void lc_guide_config_default(lc_guide_config *cfg)
+{
+    *cfg = (lc_guide_config){.enabled = true,
+                             .cell = 0.1,
+                             .every = 10,
+                             .unknown_cost = 3.0,
+                             .soft = 0.2,
+                             .soft_cost = 2.0,
+                             .hysteresis = 0.15,
+                             .check_ahead = 4.0};
+}
+
+int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
+{
+    const char *bad = NULL;
+    if (!(cfg->cell >= 0.02 && cfg->cell <= 1.0))
+        bad = "cell";
+    else if (!(cfg->every >= 1 && cfg->every <= 10000))
+        bad = "every";
+    else if (!(cfg->unknown_cost >= 1 && cfg->unknown_cost <= 100))
+        bad = "unknown_cost";
+    else if (!(cfg->soft >= 0 && cfg->soft <= 5))
+        bad = "soft";
+    else if (!(cfg->soft_cost >= 1 && cfg->soft_cost <= 100))
+        bad = "soft_cost";
+    else if (!(cfg->hysteresis >= 0 && cfg->hysteresis < 1))
+        bad = "hysteresis";
+    else if (!(cfg->check_ahead >= 0 && cfg->check_ahead <= 100))
+        bad = "check_ahead";
+    if (field)
+        *field = bad;
+    return bad ? -1 : 0;
+}
+
+static void *take(const lc_alloc *a, size_t bytes)
+{
+    void *p = a->realloc(a->data, NULL, bytes);
+    if (p)
+        memset(p, 0, bytes);
+    return p;
+}
+
+lc_guide *lc_guide_new(const lc_guide_config *cfg, const lc_memory_config *mem_cfg,
+                       const lc_alloc *alloc)
+{
+    if (!alloc)
+        alloc = lc_alloc_default();
+    if (!cfg || !mem_cfg || lc_guide_config_check(cfg, NULL) < 0 ||
+        lc_memory_config_check(mem_cfg, NULL) < 0)
+        return NULL;
+    int n = (int)ceil(lc_memory_side(mem_cfg) * mem_cfg->cell / cfg->cell - 1e-9);
+    if (n < 4 || n > 4096)
+        return NULL;
+    lc_guide *g = take(alloc, sizeof *g);
+    if (!g)
+        return NULL;
+    g->alloc = *alloc;
+    g->cfg = *cfg;
+    g->mem_cell = mem_cfg->cell;
+    g->n = n;
+    size_t cells = (size_t)n * (size_t)n + 1;
+    g->g = take(alloc, cells * sizeof *g->g);
+    g->f = take(alloc, cells * sizeof *g->f);
+    g->parent = take(alloc, cells * sizeof *g->parent);
+    g->state = take(alloc, cells);
+    g->cls = take(alloc, cells);
+    g->heap = take(alloc, cells * sizeof *g->heap);
+    g->pos = take(alloc, cells * sizeof *g->pos);
+    g->raw = take(alloc, cells * sizeof *g->raw);
+    if (!g->g || !g->f || !g->parent || !g->state || !g->cls || !g->heap || !g->pos || !g->raw) {
+        lc_guide_free(g);
+        return NULL;
+    }
+    return g;
+}
+
+void lc_guide_free(lc_guide *g)
+{
+    if (!g)
+        return;
+    lc_alloc a = g->alloc;
+    void *bufs[] = {g->g, g->f, g->parent, g->state, g->cls, g->heap, g->pos, g->raw};
+    for (size_t i = 0; i < sizeof bufs / sizeof bufs[0]; i++)
+        a.realloc(a.data, bufs[i], 0);
+    a.realloc(a.data, g, 0);
+}
+
+void lc_guide_reset(lc_guide *g)
+{
+    g->path.status = LC_GUIDE_NONE;
+    g->path.n = 0;
+    g->has_goal = false;
+}
+
+/* ------------------------------------------------------------------ grid */
+
+static lc_vec2 centre_of(const lc_guide *g, int k)
+{
+    return lc_v2(g->x0 + ((k % g->n) + 0.5) * g->cfg.cell, g->y0 + ((k / g->n) + 0.5) * g->cfg.cell);
+}
+
+static int cell_of(const lc_guide *g, lc_vec2 p)
+{
+    double u = floor((p.x - g->x0) / g->cfg.cell), v = floor((p.y - g->y0) / g->cfg.cell);
+    if (!(u >= 0 && u < g->n && v >= 0 && v < g->n))
+        return -1;
+    return (int)v * g->n + (int)u;
+}
+
+typedef struct search_ctx {
+    const lc_memory *m;
+    double R;        /* m, clearance */
+    lc_vec2 start;
+    double escape;   /* m, closed cells this near the start are passable */
+} search_ctx;
+
+/* A point's class from the memory: closed, soft or free, and unknown. */
+static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
+{
+    double d = lc_memory_nearest(c->m, p, c->R + g->cfg.soft);
+    int cls = d < c->R ? CLS_CLOSED : (d < c->R + g->cfg.soft ? CLS_SOFT : CLS_FREE);
+    if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
+        cls |= CLS_UNKNOWN;
+    return cls;
+}
+
+static int cls_at(lc_guide *g, const search_ctx *c, int k)
+{
+    if (g->cls[k] == CLS_TODO) {
+        lc_vec2 p = centre_of(g, k);
+        int cls = classify_point(g, c, p);
+        if ((cls & 0x0f) == CLS_CLOSED && lc_dist(p, c->start) <= c->escape)
+            cls = (cls & CLS_UNKNOWN) | CLS_SOFT; /* the robot stands here: let it out */
+        g->cls[k] = (uint8_t)cls;
+    }
+    return g->cls[k];
+}
+
+static double factor(const lc_guide *g, int cls)
+{
+    double f = (cls & 0x0f) == CLS_SOFT ? g->cfg.soft_cost : 1.0;
+    return cls & CLS_UNKNOWN ? f * g->cfg.unknown_cost : f;
+}
+
+/* ------------------------------------------------------------------ heap */
+
+static bool heap_less(const lc_guide *g, int a, int b)
+{
+    return g->f[a] < g->f[b] || (g->f[a] == g->f[b] && a < b); /* ties: deterministic */
+}
+
+static void heap_up(lc_guide *g, int i)
+{
+    int k = g->heap[i];
+    while (i > 0 && heap_less(g, k, g->heap[(i - 1) / 2])) {
+        g->heap[i] = g->heap[(i - 1) / 2];
+        g->pos[g->heap[i]] = i;
+        i = (i - 1) / 2;
+    }
+    g->heap[i] = k;
+    g->pos[k] = i;
+}
+
+static void heap_down(lc_guide *g, int i)
+{
+    int k = g->heap[i];
+    for (;;) {
+        int c = 2 * i + 1;
+        if (c >= g->heap_n)
+            break;
+        if (c + 1 < g->heap_n && heap_less(g, g->heap[c + 1], g->heap[c]))
+            c++;
+        if (!heap_less(g, g->heap[c], k))
+            break;
+        g->heap[i] = g->heap[c];
+        g->pos[g->heap[i]] = i;
+        i = c;
+    }
+    g->heap[i] = k;
+    g->pos[k] = i;
+}
+
+/* Open k with cost gk and estimate h, or lower its cost. */
+static void relax(lc_guide *g, int k, int from, double gk, double h)
+{
+    if (g->state[k] == ST_DONE || (g->state[k] == ST_OPEN && !(gk < g->g[k])))
+        return;
+    g->g[k] = (float)gk;
+    g->f[k] = (float)(gk + h);
+    g->parent[k] = from;
+    if (g->state[k] == ST_OPEN) {
+        heap_up(g, g->pos[k]);
+        return;
+    }
+    g->state[k] = ST_OPEN;
+    g->heap[g->heap_n] = k;
+    heap_up(g, g->heap_n++);
+}
+
+static int pop(lc_guide *g)
+{
+    int top = g->heap[0];
+    g->heap[0] = g->heap[--g->heap_n];
+    if (g->heap_n > 0) {
+        g->pos[g->heap[0]] = 0;
+        heap_down(g, 0);
+    }
+    g->state[top] = ST_DONE;
+    return top;
+}
+
+/* ---------------------------------------------------------------- search */
+
+static double octile(lc_vec2 a, lc_vec2 b)
+{
+    double dx = fabs(a.x - b.x), dy = fabs(a.y - b.y);
+    return fmax(dx, dy) + (sqrt(2.0) - 1.0) * fmin(dx, dy);
+}
+
+static bool on_border(const lc_guide *g, int k)
+{
+    int u = k % g->n, v = k / g->n;
+    return u == 0 || v == 0 || u == g->n - 1 || v == g->n - 1;
+}
+
+/*
+ * A* from the robot's cell. The goal: a passable cell within `reach` of
+ * the goal point when it lies in the grid, else the outside node (index
+ * n * n) through the border. Returns the goal's index, or -1 (no path).
+ */
+static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, int *expanded)
+{
+    int n = g->n, total = n * n, outside = total;
+    size_t cells = (size_t)total + 1;
+    memset(g->state, 0, cells);
+    memset(g->cls, 0, cells);
+    g->heap_n = 0;
+    *expanded = 0;
+    int s = cell_of(g, c->start);
+    if (s < 0)
+        return -1;
+    bool inside = cell_of(g, goal) >= 0;
+    relax(g, s, -1, 0.0, octile(centre_of(g, s), goal));
+    static const int du[8] = {1, -1, 0, 0, 1, 1, -1, -1}, dv[8] = {0, 0, 1, -1, 1, -1, 1, -1};
+    double step = g->cfg.cell;
+    while (g->heap_n > 0) {
+        int k = pop(g);
+        if (k == outside)
+            return k;
+        (*expanded)++;
+        lc_vec2 p = centre_of(g, k);
+        if (inside && lc_dist(p, goal) <= reach)
+            return k;
+        if (!inside && on_border(g, k)) /* leave the window toward the goal */
+            relax(g, outside, k, g->g[k] + g->cfg.unknown_cost * lc_dist(p, goal), 0.0);
+        int u = k % n, v = k / n;
+        bool open[4] = {false, false, false, false};
+        for (int d = 0; d < 8; d++) {
+            int uu = u + du[d], vv = v + dv[d];
+            if (uu < 0 || vv < 0 || uu >= n || vv >= n)
+                continue;
+            if (d >= 4 && !(open[d < 6 ? 0 : 1] && open[(d & 1) ? 3 : 2]))
+                continue; /* no cutting a closed corner */
+            int q = vv * n + uu, cls = cls_at(g, c, q);
+            if ((cls & 0x0f) == CLS_CLOSED)
+                continue;
+            if (d < 4)
+                open[d] = true;
+            double len = d < 4 ? step : step * sqrt(2.0);
+            double h = inside ? octile(centre_of(g, q), goal) : octile(centre_of(g, q), goal);
+            relax(g, q, k, g->g[k] + len * factor(g, cls), h);
+        }
+    }
+    return -1;
+}
+
+/* ------------------------------------------------------------ the path */
+
+/* Is the segment [a, b] clear of obstacles (samples every LOS_STEP memory
+ * cells)? */
+static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b)
+{
+    double len = lc_dist(a, b), step = LOS_STEP * g->mem_cell;
+    int k = (int)ceil(len / step);
+    for (int i = 1; i <= k; i++) {
+        lc_vec2 p = lc_lerp(a, b, (double)i / k);
+        if (lc_memory_nearest(c->m, p, c->R) < c->R && lc_dist(p, c->start) > c->escape)
+            return false;
+    }
+    return true;
+}
+
+/* The raw cell path (goal first) into cand as a shortened polyline. */
+static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, double cost)
+{
+    int n_raw = 0, total = g->n * g->n;
+    for (int k = end; k >= 0 && n_raw < total + 1; k = g->parent[k])
+        g->raw[n_raw++] = k;
+    /* points, robot first: the robot, the cells, the goal point */
+    lc_guide_path *p = &g->cand;
+    p->n = 0;
+    p->status = LC_GUIDE_PATH;
+    p->goal = goal;
+    p->projected = end == total;
+    p->cost = cost;
+    p->found_at = g->frame;
+    p->seg = 0;
+    lc_vec2 anchor = c->start;
+    p->v[p->n++] = anchor;
+    /* raw[n_raw-1] is the robot's cell, raw[0] the end (or outside) */
+    int i = n_raw - 2; /* the next cell after the robot's */
+    int last_cell = end == total ? 1 : 0;
+    while (i >= last_cell && p->n < LC_GUIDE_PATH_MAX - 1) {
+        /* the farthest cell in sight of the anchor, by halving */
+        int lo = i, hi = last_cell;
+        if (line_of_sight(g, c, anchor, centre_of(g, g->raw[hi]))) {
+            lo = hi;
+        } else {
+            while (lo - hi > 1) {
+                int mid = (lo + hi) / 2;
+                if (line_of_sight(g, c, anchor, centre_of(g, g->raw[mid])))
+                    lo = mid;
+                else
+                    hi = mid;
+            }
+        }
+        anchor = centre_of(g, g->raw[lo]);
+        p->v[p->n++] = anchor;
+        i = lo - 1;
+    }
+    if (lc_dist(p->v[p->n - 1], goal) > 1e-9)
+        p->v[p->n++] = goal;
+    p->length = 0;
+    for (int k = 1; k < p->n; k++)
+        p->length += lc_dist(p->v[k - 1], p->v[k]);
+}
+
+/* The rest of path p from `from`, near segment *seg (moved on to the
+ * nearest segment among those ahead within reach): the point nearest and
+ * its segment. */
+static lc_vec2 nearest_ahead(const lc_guide_path *p, lc_vec2 from, int *seg)
+{
+    if (p->n < 2) {
+        *seg = 0;
+        return p->n ? p->v[0] : from;
+    }
+    int best = *seg < p->n - 1 ? *seg : p->n - 2;
+    lc_vec2 bq = p->v[best];
+    double bd = INFINITY, walked = 0.0;
+    for (int k = best; k < p->n - 1 && walked < 3.0; k++) {
+        lc_vec2 q;
+        double d = lc_segment_distance(from, p->v[k], p->v[k + 1], &q);
+        if (d < bd - 1e-12) {
+            bd = d;
+            bq = q;
+            best = k;
+        }
+        walked += lc_dist(p->v[k], p->v[k + 1]);
+    }
+    *seg = best;
+    return bq;
+}
+
+static double rest_from(const lc_guide_path *p, int seg, lc_vec2 q)
+{
+    double r = lc_dist(q, p->v[seg + 1 < p->n ? seg + 1 : seg]);
+    for (int k = seg + 1; k < p->n - 1; k++)
+        r += lc_dist(p->v[k], p->v[k + 1]);
+    return r;
+}
+
+lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double *rest)
+{
+    int seg = p->seg;
+    lc_vec2 q = nearest_ahead(p, from, &seg);
+    if (rest)
+        *rest = lc_dist(from, q) + (p->n >= 2 ? rest_from(p, seg, q) : 0.0);
+    if (p->n < 2)
+        return q;
+    double left = dist;
+    lc_vec2 at = q;
+    for (int k = seg; k < p->n - 1; k++) {
+        lc_vec2 next = p->v[k + 1];
+        double d = lc_dist(at, next);
+        if (d >= left)
+            return lc_add(at, lc_scale(lc_sub(next, at), d > 0 ? left / d : 0.0));
+        left -= d;
+        at = next;
+    }
+    return p->v[p->n - 1];
+}
+
+/* What the rest of path p costs now from `from`, sampled every search
+ * cell; INFINITY when a sample is closed. */
+static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_path *p,
+                       lc_vec2 from, int seg)
+{
+    lc_vec2 q = nearest_ahead(p, from, &seg);
+    double cost = 0.0, step = g->cfg.cell;
+    lc_vec2 a = from;
+    for (int k = seg; k <= p->n - 1; k++) {
+        lc_vec2 b = k == seg ? q : p->v[k];
+        double len = lc_dist(a, b);
+        int m = (int)ceil(len / step);
+        for (int i = 1; i <= m; i++) {
+            lc_vec2 s = lc_lerp(a, b, (double)i / m);
+            if (cell_of(g, s) < 0) { /* outside the window: unknown */
+                cost += len / m * g->cfg.unknown_cost;
+                continue;
+            }
+            int cls = classify_point(g, c, s);
+            if ((cls & 0x0f) == CLS_CLOSED && lc_dist(s, c->start) > c->escape)
+                return INFINITY;
+            cost += len / m * factor(g, cls);
+        }
+        a = b;
+    }
+    return cost;
+}
+
+/* Is an obstacle within the clearance of the followed path's next
+ * check_ahead metres? */
+static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
+{
+    const lc_guide_path *p = &g->path;
+    int seg = p->seg;
+    lc_vec2 q = nearest_ahead(p, from, &seg);
+    double walked = 0.0, step = 0.5 * g->cfg.cell;
+    lc_vec2 a = q;
+    for (int k = seg + 1; k < p->n && walked < g->cfg.check_ahead; k++) {
+        lc_vec2 b = p->v[k];
+        double len = lc_dist(a, b);
+        int m = (int)ceil(len / step);
+        for (int i = 1; i <= m && walked < g->cfg.check_ahead; i++) {
+            lc_vec2 s = lc_lerp(a, b, (double)i / m);
+            walked += len / m;
+            if (lc_dist(s, c->start) > c->escape && lc_memory_nearest(c->m, s, c->R) < c->R)
+                return true;
+        }
+        a = b;
+    }
+    return false;
+}
+
+static void place_grid(lc_guide *g, const lc_memory *m)
+{
+    lc_memory_window w = lc_memory_get_window(m);
+    g->x0 = (double)w.i0 * w.cell;
+    g->y0 = (double)w.j0 * w.cell;
+}
+
+int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 waypoint,
+                    double clearance, double tolerance, const lc_guide_path **out,
+                    lc_guide_info *info)
+{
+    lc_guide_info local;
+    if (!info)
+        info = &local;
+    memset(info, 0, sizeof *info);
+    g->frame++;
+    search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell};
+    bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
+    bool due = g->frame - g->last_search >= g->cfg.every;
+    if (g->path.status == LC_GUIDE_PATH && !new_goal) {
+        nearest_ahead(&g->path, robot, &g->path.seg);
+        info->blocked_ahead = blocked_ahead(g, &c, robot);
+    }
+    if (new_goal || due || g->path.status != LC_GUIDE_PATH || info->blocked_ahead) {
+        place_grid(g, m);
+        int expanded;
+        double reach = fmax(tolerance, 0.5 * g->cfg.cell);
+        int end = astar(g, &c, waypoint, reach, &expanded);
+        info->searched = true;
+        info->expanded = expanded;
+        g->searches++;
+        g->last_search = g->frame;
+        if (end < 0) {
+            g->cand.status = LC_GUIDE_NO_PATH;
+            g->cand.n = 0;
+            g->cand.goal = waypoint;
+            g->cand.found_at = g->frame;
+            g->cand.seg = 0;
+            g->path = g->cand;
+        } else {
+            lc_vec2 goal_pt = end == g->n * g->n ? waypoint : centre_of(g, end);
+            if (lc_dist(goal_pt, waypoint) <= reach)
+                goal_pt = waypoint;
+            build_path(g, &c, end, goal_pt, g->g[end]);
+            double old = !new_goal && g->path.status == LC_GUIDE_PATH && !info->blocked_ahead
+                             ? cost_now(g, &c, &g->path, robot, g->path.seg)
+                             : INFINITY;
+            if (!(g->cand.cost >= old * (1.0 - g->cfg.hysteresis))) {
+                g->path = g->cand;
+                info->replaced = true;
+            }
+        }
+        g->has_goal = true;
+        g->goal = waypoint;
+    }
+    info->searches = g->searches;
+    *out = &g->path;
+    return 0;
+}

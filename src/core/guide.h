@@ -1,0 +1,124 @@
+/*
+ * guide.h - guidance: a path through the remembered space from the robot
+ * to its waypoint, for the robot's size.
+ *
+ * The region (region.h) is convex and local: in a cul-de-sac, behind a
+ * wall with an offset doorway, at the closed end of a corridor, the point
+ * of the region nearest the waypoint lies in a pocket and the robot stops
+ * there. Guidance looks further: an A* search (Hart, Nilsson and Raphael
+ * 1968) over a grid of `cell`-metre cells laid on the memory's window
+ * (memory.h), 8-connected, octile heuristic (admissible: no step costs less
+ * than its length):
+ *   - a cell whose centre lies within the clearance (radius + margin, plus
+ *     half a memory cell's diagonal) of a remembered occupied cell is
+ *     closed;
+ *   - a step costs its length, times `soft_cost` within `soft` metres more
+ *     of an obstacle (the path keeps off walls where it can), times
+ *     `unknown_cost` through space the memory does not know (never seen, or
+ *     forgotten), so that the robot goes to look rather than through the
+ *     unknown when a known way is not much longer;
+ *   - a waypoint outside the window is approached through its projection
+ *     into the window (one cell in from the edge).
+ * The path found is shortened where the straight line is free (line of
+ * sight in steps of half a memory cell) and kept as a polyline in the
+ * world frame.
+ *
+ * Cadence (never a clock, so a replay plans exactly as the live run did):
+ * a search every `every` frames, and at once when the goal changes, when
+ * there is no path yet, or when the memory now holds an obstacle within the
+ * clearance of the path ahead (checked every frame along the first
+ * `check_ahead` metres). Steadiness: a new path replaces the one being
+ * followed only when the old one is blocked or the new one costs less than
+ * (1 - hysteresis) times what the rest of the old one costs now, so the
+ * robot does not flip between two ways round an obstacle of nearly equal
+ * cost.
+ *
+ * No path (the waypoint enclosed, inside an obstacle, or every way closed
+ * within the window) is an answer of its own: LC_GUIDE_NO_PATH.
+ *
+ * Ownership: lc_guide_new allocates the search grid once through the given
+ * allocator (kept in the struct); nothing is allocated per frame.
+ */
+#ifndef LC_GUIDE_H
+#define LC_GUIDE_H
+
+#include <stdbool.h>
+
+#include "alloc.h"
+#include "geom.h"
+#include "memory.h"
+
+typedef struct lc_guide_config {
+    bool enabled;        /* search for paths at all (default true; needs memory) */
+    double cell;         /* m, search cell (default 0.1) */
+    int every;           /* frames between searches (default 10) */
+    double unknown_cost; /* cost factor through unknown space (default 3) */
+    double soft;         /* m beyond the clearance where steps cost more (default 0.2) */
+    double soft_cost;    /* that factor (default 2) */
+    double hysteresis;   /* share a new path must save to replace the old (default 0.15) */
+    double check_ahead;  /* m of the path checked for new obstacles every frame (default 4) */
+} lc_guide_config;
+
+void lc_guide_config_default(lc_guide_config *cfg);
+
+/* 0 when cfg is usable, else -1 with the offending field in *field. */
+int lc_guide_config_check(const lc_guide_config *cfg, const char **field);
+
+#define LC_GUIDE_PATH_MAX 256 /* polyline vertices kept */
+
+typedef enum lc_guide_status {
+    LC_GUIDE_NONE = 0,    /* nothing asked yet */
+    LC_GUIDE_PATH = 1,    /* a path to the goal */
+    LC_GUIDE_NO_PATH = 2, /* no way to the goal within the window */
+} lc_guide_status;
+
+typedef struct lc_guide_path {
+    lc_guide_status status;
+    lc_vec2 v[LC_GUIDE_PATH_MAX]; /* world frame, v[0] the robot when found */
+    int n;
+    double length;  /* m, along v */
+    double cost;    /* the search's cost of it */
+    lc_vec2 goal;   /* the goal it leads to (the waypoint, or its projection) */
+    bool projected; /* the waypoint lies outside the window */
+    long found_at;  /* frame count of the search that found it */
+    int seg;        /* the robot was last nearest segment [v[seg], v[seg + 1]] */
+} lc_guide_path;
+
+typedef struct lc_guide lc_guide;
+
+/* NULL when a config is unusable or out of memory. NULL alloc: default. */
+lc_guide *lc_guide_new(const lc_guide_config *cfg, const lc_memory_config *mem_cfg,
+                       const lc_alloc *alloc);
+void lc_guide_free(lc_guide *g);
+
+/* Forget the path (a new route, a new robot description). */
+void lc_guide_reset(lc_guide *g);
+
+/* What the last lc_guide_update did (for the bench and the viewer). */
+typedef struct lc_guide_info {
+    bool searched;      /* a search ran this frame */
+    bool replaced;      /* and its path replaced the one followed */
+    bool blocked_ahead; /* the path ahead was found closed */
+    int expanded;       /* cells the search expanded */
+    long searches;      /* searches so far */
+} lc_guide_info;
+
+/*
+ * One frame: keep, check or search the path from `robot` to `waypoint`
+ * through memory m for a robot of the given clearance (m, radius + margin).
+ * tolerance (m): the goal counts as reached within it (the route's). The
+ * path (valid until the next call) is *out. Returns 0.
+ */
+int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 waypoint,
+                    double clearance, double tolerance, const lc_guide_path **out,
+                    lc_guide_info *info);
+
+/*
+ * Along path p from the point nearest `from` (among the segments from
+ * p->seg on): the point `dist` metres further (the end when the path is
+ * shorter), and the length of the rest of the path from `from` (its
+ * distance to that nearest point included).
+ */
+lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double *rest);
+
+#endif
