@@ -11,6 +11,7 @@
 
 #include <setjmp.h>
 #include <stdarg.h>
+#include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
 #include <cmocka.h>
@@ -91,5 +92,17 @@ char *lc_test_slurp(const char *path);
 /* Writes the n bytes of text to path (created or truncated); fails the test
  * when the file cannot be opened or not all of it written. */
 void lc_test_write_file(const char *path, const char *text, size_t n);
+
+/* The command's JSON result (stdout of the last lc_test_lacuna, out.json in
+ * the temporary directory), parsed: free it with cJSON_Delete. Fails the test
+ * when it is not JSON. */
+struct cJSON;
+struct cJSON *lc_test_result(void);
+
+/* The member key of j, of the type named; each fails the test when key is
+ * missing or of another type. */
+double lc_test_num(const struct cJSON *j, const char *key);
+bool lc_test_flag(const struct cJSON *j, const char *key);
+const char *lc_test_str(const struct cJSON *j, const char *key);
 
 #endif
