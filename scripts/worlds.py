@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """worlds.py - seeded families of invented sites for `lacuna sim`.
 
-    worlds.py --family NAME|all --count N --seed S --out DIR
+    worlds.py --family NAME|all --count N --seed S --out DIR [--slack S]
     worlds.py --check FILE...
 
 Writes one scenario file per world (a JSON Lines header only, the format of
@@ -32,7 +32,10 @@ radius + margin of one (exact distance to each edge, rasterised row by row),
 and a path of free cells (16-neighbour moves, no corner cutting) must lead
 from the start through every waypoint in order. An unreachable draw is
 discarded and drawn again from the next attempt's seed, so the output is a
-function of (family, seed, index) alone.
+function of (family, seed, index) alone. --slack S checks with obstacles
+grown by S more: every passage is then at least 2 S wider than the robot
+with its margin (with S = 0, the default, a passage may be as narrow as the
+robot with its margin plus a cell).
 
 Shortest path. The header's "shortest_path" (m) is the length of that grid
 path (A*, Hart, Nilsson and Raphael 1968, with the Euclidean heuristic),
@@ -588,15 +591,16 @@ class World:
     the header's fields, and notes (the family's named features, moved
     into the world frame)."""
 
-    def __init__(self, family, seed, index):
+    def __init__(self, family, seed, index, slack=0.0):
         for attempt in range(ATTEMPTS):
-            rng = random.Random("%s:%d:%d:%d" % (family, seed, index, attempt))
-            if self._draw(family, rng):
+            key = "%s:%d:%d:%d" % (family, seed, index, attempt)
+            rng = random.Random(key + (":slack%r" % slack if slack else ""))
+            if self._draw(family, rng, slack):
                 self.attempts = attempt + 1
                 return
         raise RuntimeError("%s: no reachable world in %d draws" % (family, ATTEMPTS))
 
-    def _draw(self, family, rng):
+    def _draw(self, family, rng, slack):
         polys, start, wps, desc, notes = FAMILIES[family](rng)
         a, tx, ty = u(rng, -math.pi, math.pi), u(rng, -20, 20), u(rng, -20, 20)
         self.polys = [place(p, a, tx, ty) for p in polys]
@@ -611,14 +615,15 @@ class World:
         self.robot = dict(ROBOT)
         if "v_max" in notes:
             self.robot["v_max"] = notes["v_max"]
-        grow = self.robot["radius"] + self.robot["margin"]
+        r, m = self.robot["radius"], self.robot["margin"]
         # the start clear of everything, waypoints reachable within tolerance
-        if distance(self.start, self.polys) < grow + 0.15:
+        if distance(self.start, self.polys) < r + m + max(0.15, slack + 0.05):
             return False
-        if any(distance(w, self.polys) < grow + 0.05 for w in self.waypoints):
+        if any(distance(w, self.polys) < r + m + slack + 0.05 for w in self.waypoints):
             return False
-        self.shortest = check_route(self.polys, self.robot["radius"], self.robot["margin"],
-                                    self.start, self.waypoints)
+        if slack and check_route(self.polys, r, m + slack, self.start, self.waypoints) is None:
+            return False
+        self.shortest = check_route(self.polys, r, m, self.start, self.waypoints)
         return self.shortest is not None
 
     def header(self):
@@ -642,15 +647,25 @@ def text(header):
     return json.dumps(header, separators=(",", ":")) + "\n"
 
 
-def generate(families, count, seed, out):
+def generate(families, count, seed, out, log=None, slack=0.0):
+    """Writes the worlds; their paths. log: a stream for each family's count
+    of draws discarded as unreachable (or too close to an obstacle). slack:
+    the check's extra growth (m), so that every passage is 2 slack wider than
+    the robot with its margin."""
     os.makedirs(out, exist_ok=True)
     paths = []
     for fam in families:
+        discarded = 0
         for i in range(count):
             path = os.path.join(out, "%s_%02d.jsonl" % (fam, i))
+            w = World(fam, seed, i, slack)
+            discarded += w.attempts - 1
             with open(path, "w", encoding="utf-8") as f:
-                f.write(text(World(fam, seed, i).header()))
+                f.write(text(w.header()))
             paths.append(path)
+        if log:
+            print("worlds.py: %s: %d worlds, %d draws discarded" % (fam, count, discarded),
+                  file=log)
     return paths
 
 
@@ -673,6 +688,10 @@ def main(argv):
     ap.add_argument("--family", help="one of %s, or all" % ", ".join(FAMILIES))
     ap.add_argument("--count", type=int, default=20, help="worlds per family (default 20)")
     ap.add_argument("--seed", type=int, default=1, help="seed (default 1)")
+    ap.add_argument("--slack", type=float, default=0.0,
+                    help="m: check reachability with obstacles grown by radius + margin + "
+                    "SLACK, so that no passage is narrower than the robot with its margin "
+                    "plus 2 SLACK (default 0; the shortest path is for radius + margin)")
     ap.add_argument("--out", help="directory to write the scenario files to")
     ap.add_argument("--check", nargs="+", metavar="FILE",
                     help="check scenario files instead: the shortest path, exit 1 when a "
@@ -696,10 +715,12 @@ def main(argv):
         ap.error("--family: one of %s or all, not %s" % (", ".join(FAMILIES), a.family))
     if a.count < 1 or a.count > 1000:
         ap.error("--count: 1 to 1000, not %d" % a.count)
+    if not 0 <= a.slack <= 1:
+        ap.error("--slack: 0 to 1 m, not %g" % a.slack)
     if a.seed < 0:
         ap.error("--seed: a whole number >= 0, not %d" % a.seed)
     fams = list(FAMILIES) if a.family == "all" else [a.family]
-    for p in generate(fams, a.count, a.seed, a.out):
+    for p in generate(fams, a.count, a.seed, a.out, sys.stderr, a.slack):
         print(p)
     return 0
 
