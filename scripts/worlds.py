@@ -420,12 +420,11 @@ def clutter(rng, x, y):
 
 
 def fam_posts(rng):
-    L, W = u(rng, 14, 20), u(rng, 8, 12)
-    start = (1.0, u(rng, -W / 2 + 1.5, W / 2 - 1.5))
-    goal = (L - 1.0, u(rng, -W / 2 + 1.5, W / 2 - 1.5))
+    L, W = u(rng, 13, 18), u(rng, 8, 12)
+    start, goal = (1.0, u(rng, -1.5, 1.5)), (L - 1.0, u(rng, -1.5, 1.5))
     n = 22 + rng.randrange(13)
-    posts = scatter(rng, n, (2.0, -W / 2 + 0.5, L - 2.0, W / 2 - 0.5),
-                    [(start, 1.0), (goal, 1.0)], post)
+    band = min(u(rng, 3.0, 4.0), W / 2 - 0.5)   # the field: a band along the way
+    posts = scatter(rng, n, (2.5, -band, L - 2.5, band), [(start, 1.0), (goal, 1.0)], post)
     polys = room(0 - 0.5, -W / 2, L + 0.5, W / 2, 0.2) + posts
     desc = ("Invented hall with a field of %d posts (square and round) between the robot and its "
             "goal %.1f m away: exercises gaps between posts that are not lanes and pockets "
