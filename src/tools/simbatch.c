@@ -102,6 +102,12 @@ static bool is_dir(const char *path)
     return stat(path, &st) == 0 && S_ISDIR(st.st_mode);
 }
 
+static bool has_suffix(const char *s, const char *suffix)
+{
+    size_t n = strlen(s), k = strlen(suffix);
+    return n > k && strcmp(s + n - k, suffix) == 0;
+}
+
 bool lc_sim_batch_wanted(int argc, char **argv)
 {
     int files = 0;
@@ -239,9 +245,8 @@ static int load_world(batch *b, const char *path, const char *rel)
         memcpy(w->family, h.family, sizeof w->family);
         for (char *c = w->name; c && *c; c++)
             *c = *c == '/' ? '_' : *c;
-        size_t n = w->name ? strlen(w->name) : 0;
-        if (n > 6 && strcmp(w->name + n - 6, ".jsonl") == 0)
-            w->name[n - 6] = '\0';
+        if (w->name && has_suffix(w->name, ".jsonl"))
+            w->name[strlen(w->name) - 6] = '\0';
         b->n_w++;
         if (!w->path || !w->name)
             rc = lc_cli_fail("sim", "out of memory");
@@ -252,58 +257,30 @@ static int load_world(batch *b, const char *path, const char *rel)
     return rc;
 }
 
-/* The names in dir, sorted, without those starting with '.'; NULL on failure. */
-static char **dir_names(const char *dir, int *n)
-{
-    DIR *d = opendir(dir);
-    if (!d)
-        return NULL;
-    char **names = NULL;
-    int cap = 0;
-    *n = 0;
-    struct dirent *e;
-    bool ok = true;
-    while (ok && (e = readdir(d))) {
-        if (e->d_name[0] == '.')
-            continue;
-        ok = LC_GROW(NULL, names, cap, *n + 1) == 0 && (names[*n] = strdup(e->d_name));
-        *n += ok;
-    }
-    closedir(d);
-    if (ok && *n)
-        qsort(names, (size_t)*n, sizeof *names, cmp_str);
-    if (!ok || !names) {
-        for (int i = 0; i < *n; i++)
-            free(names[i]);
-        free(names);
-        *n = 0;
-        return ok ? calloc(1, sizeof(char *)) : NULL;
-    }
-    return names;
-}
+static int visible(const struct dirent *e) { return e->d_name[0] != '.'; }
 
-/* Every *.jsonl below dir (rel: its path below the DIR given). */
+/* Every *.jsonl below dir, in byte order of the names (the C locale's
+ * alphasort); rel: dir's path below the DIR given. */
 static int scan_dir(batch *b, const char *dir, const char *rel)
 {
-    int n, rc = 0;
-    char **names = dir_names(dir, &n);
-    if (!names)
+    struct dirent **e;
+    int n = scandir(dir, &e, visible, alphasort), rc = 0;
+    if (n < 0)
         return lc_cli_usage_error("sim", "cannot read %s: %s", dir, strerror(errno));
-    for (int i = 0; i < n && !rc; i++) {
-        char *path = joined(dir, names[i]), *sub = joined(rel, names[i]);
-        size_t len = strlen(names[i]);
-        if (!path || !sub)
+    for (int i = 0; i < n; i++) {
+        const char *name = e[i]->d_name;
+        char *path = NULL, *sub = NULL;
+        if (!rc && (!(path = joined(dir, name)) || !(sub = joined(rel, name))))
             rc = lc_cli_fail("sim", "out of memory");
-        else if (is_dir(path))
+        else if (!rc && is_dir(path))
             rc = scan_dir(b, path, sub);
-        else if (len > 6 && strcmp(names[i] + len - 6, ".jsonl") == 0)
+        else if (!rc && has_suffix(name, ".jsonl"))
             rc = load_world(b, path, sub);
         free(path);
         free(sub);
+        free(e[i]);
     }
-    for (int i = 0; i < n; i++)
-        free(names[i]);
-    free(names);
+    free(e);
     return rc;
 }
 
