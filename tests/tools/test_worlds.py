@@ -43,6 +43,7 @@ def check(ok, what):
 
 
 def load_module():
+    sys.dont_write_bytecode = True  # no __pycache__ in the source tree
     spec = importlib.util.spec_from_file_location("worlds", SCRIPT)
     mod = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(mod)
