@@ -645,9 +645,9 @@ static void print_table(const batch *b, const char **fam, int n_fam, double *scr
         }
     for (int i = 0; i < b->n_r; i++)
         ok += b->r[i].ok;
-    printf("%d runs: %d met their expectation without a collision, %d did not.\n"
+    printf("%d run%s: %d met their expectation without a collision, %d did not.\n"
            "Medians over the runs done; ratio = time / (shortest_path / v_max).\n",
-           b->n_r, ok, b->n_r - ok);
+           b->n_r, b->n_r == 1 ? "" : "s", ok, b->n_r - ok);
 }
 
 /* x rounded to 6 decimals as `lacuna sim` prints it; null for NAN. */

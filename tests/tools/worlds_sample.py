@@ -34,7 +34,7 @@ def parse_table(text):
         raise ValueError("header line %r" % (lines[0] if lines else ""))
     rows, footer = {}, None
     for line in lines[1:]:
-        m = re.match(r"(\d+) runs: (\d+) met their expectation without a collision, (\d+) did "
+        m = re.match(r"(\d+) runs?: (\d+) met their expectation without a collision, (\d+) did "
                      r"not\.$", line)
         if m:
             footer = tuple(int(g) for g in m.groups())
