@@ -207,11 +207,34 @@ static int read_type_version(const cJSON *root, lc_scenario_header *h, lc_wire_e
     return 0;
 }
 
+/* A generated world's family and shortest path (see scenario.h). */
+static int read_suite_fields(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
+{
+    const cJSON *f = cJSON_GetObjectItemCaseSensitive(root, "family");
+    if (f) {
+        const char *s = cJSON_IsString(f) ? f->valuestring : NULL;
+        size_t n = s ? strlen(s) : 0;
+        bool ok = n > 0 && n < sizeof h->family;
+        for (size_t i = 0; ok && i < n; i++)
+            ok = s[i] == '_' || s[i] == '.' || s[i] == '-' || (s[i] >= '0' && s[i] <= '9') ||
+                 (s[i] >= 'a' && s[i] <= 'z') || (s[i] >= 'A' && s[i] <= 'Z');
+        if (!ok) {
+            lc_wire_error_set(we, LC_WIRE_BAD_FIELD,
+                              "family: 1 to %d of A-Z a-z 0-9 _ . -",
+                              (int)sizeof h->family - 1);
+            return -1;
+        }
+        memcpy(h->family, s, n + 1);
+    }
+    return lc_wire_number_field(root, NULL, "shortest_path", false, &lc_jr_nonneg,
+                                &h->shortest_path, we) < 0 ? -1 : 0;
+}
+
 static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
 {
     static const char *const keys[] = {"type", "version", "description", "robot", "route",
                                        "start", "world", "sensor", "expect", "max_time",
-                                       "control", NULL};
+                                       "control", "family", "shortest_path", NULL};
     if (!cJSON_IsObject(root)) {
         lc_wire_error_set(we, LC_WIRE_BAD_MESSAGE, "header: not a JSON object");
         return -1;
@@ -251,7 +274,7 @@ static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_
             return -1;
         h->has_control = true;
     }
-    return 0;
+    return read_suite_fields(root, h, we);
 }
 
 /* The recording server's control-period rule (see scenario.h). */
@@ -469,6 +492,14 @@ static void put_robot_route(lc_wire_text *t, const lc_scenario_header *h)
     }
 }
 
+static void put_suite(lc_wire_text *t, const lc_scenario_header *h)
+{
+    if (h->family[0])
+        lc_jw_kv_str(t, "family", h->family);
+    if (h->shortest_path > 0)
+        lc_jw_kv_num(t, "shortest_path", h->shortest_path, -1);
+}
+
 int lc_scenario_encode_header(lc_wire_text *t, const lc_scenario_header *h)
 {
     lc_jw_begin(t);
@@ -488,6 +519,7 @@ int lc_scenario_encode_header(lc_wire_text *t, const lc_scenario_header *h)
     lc_jw_kv_str(t, "expect", lc_scenario_expect_name(h->expect));
     if (h->max_time > 0)
         lc_jw_kv_num(t, "max_time", h->max_time, -1);
+    put_suite(t, h);
     if (h->has_control)
         put_control(t, &h->control);
     return lc_jw_end(t);

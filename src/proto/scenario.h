@@ -5,10 +5,14 @@
  * Header: {"type":"scenario","version":1,"description":s,"robot":{...},
  * "route":{...},"start":[x,y,yaw],"world":{"polygons":[[[x,y],...],...]},
  * "sensor":{"beams","fov","range_min","range_max","rate","noise","mount"},
- * "expect":"done"|"blocked","max_time":s,"control":{...}} (control.h). Every field but type and version
- * is optional; `expect` (default "done") is what `lacuna sim` takes for
- * success, `max_time` (s) bounds a sim run. Unknown header keys are ignored
- * (and warned of, below).
+ * "expect":"done"|"blocked","max_time":s,"family":name,"shortest_path":m,
+ * "control":{...}} (control.h).
+ * Every field but type and version is optional; `expect` (default "done")
+ * is what `lacuna sim` takes for success, `max_time` (s) bounds a sim run.
+ * `family` names the kind of world a generated suite drew it from
+ * (scripts/worlds.py) and `shortest_path` is the length of the shortest path
+ * through the route for the robot's size: `lacuna sim` groups and scores a
+ * batch by them. Unknown header keys are ignored (and warned of, below).
  *
  * Reading is strict: a line that is not one valid wire message is an error
  * that names its line number (1-based) and the reason. One exception: a
@@ -37,6 +41,7 @@
 
 #define LC_SCENARIO_VERSION 1
 #define LC_SCENARIO_TEXT_MAX 512 /* bytes of description kept (longer: cut) */
+#define LC_SCENARIO_FAMILY_MAX 64 /* bytes of a family name, with its NUL */
 
 typedef enum lc_scenario_expect {
     LC_EXPECT_DONE = 0, /* "done": the route is finished without a collision */
@@ -79,6 +84,8 @@ typedef struct lc_scenario_header {
     bool has_sensor;
     lc_scenario_expect expect;
     double max_time;  /* s, 0 when absent */
+    char family[LC_SCENARIO_FAMILY_MAX]; /* [A-Za-z0-9_.-], "" when absent */
+    double shortest_path; /* m, 0 when absent */
 } lc_scenario_header;
 
 /* An empty header (defaults, no polygons). */

@@ -46,6 +46,7 @@
 #include "replay.h"
 #include "signals.h"
 #include "simlink.h"
+#include "simbatch.h"
 #include "svg.h"
 #include "tools.h"
 #include "world.h"
@@ -56,6 +57,8 @@ static const char usage[] =
     "                  [--svg FILE] [--json] [--max-time S]\n"
     "       lacuna sim FILE --connect ws://HOST:PORT/ [--token-file FILE]\n"
     "                  [--name NAME] [--laps N] [--model M] [--seed N] [--svg FILE]\n"
+    "       lacuna sim FILE... | DIR [--jobs N] [--model point|unicycle|both]\n"
+    "                  [--svg-dir DIR] [--json] [--seed N] [--max-time S]\n"
     "\n"
     "Closed loop in the world of the scenario FILE: a ray-cast scanner (its\n"
     "header's sensor), the robot following each setpoint exactly for one\n"
@@ -79,6 +82,20 @@ static const char usage[] =
     "  --laps N       with --connect: drive the route N times, 0 until\n"
     "                 interrupted (default 1)\n"
     "  --timeout S    with --connect: longest wait for a setpoint (default 2)\n"
+    "\n"
+    "  Several FILEs or a DIR (its *.jsonl files at any depth, sorted): a batch,\n"
+    "  each run a `lacuna sim FILE --json` of its own, and a table per family\n"
+    "  (the header's \"family\") and model: runs, done, collisions, blocked, other\n"
+    "  outcomes, median time and median time / (shortest_path / v_max) of the\n"
+    "  runs done. The table is printed even when stdout is not a terminal.\n"
+    "  --jobs N       runs at once (default: the number of online CPUs)\n"
+    "  --model M      point, unicycle or both (default: each header's model)\n"
+    "  --svg-dir DIR  an SVG of each run that failed, DIR/NAME.MODEL.svg\n"
+    "  --json         one object instead: \"groups\" and \"totals\" with the\n"
+    "                 table's figures, \"runs\" with file, family, model, outcome,\n"
+    "                 ok, collisions, sim_time, shortest_path and ratio of each run\n"
+    "  A batch exits 0 when every run met its header's expectation without a\n"
+    "  collision, 1 otherwise.\n"
     "\n"
     "stdout: {\"done\":b,\"waypoints_reached\":n,\"collisions\":n,\n"
     "\"min_clearance\":m,\"path_length\":m,\"sim_time\":s,\"frames\":n,...}\n"
@@ -723,6 +740,8 @@ static int sim_run(sim *sm)
 
 int lc_tool_sim(int argc, char **argv)
 {
+    if (lc_sim_batch_wanted(argc, argv))
+        return lc_sim_batch(argc, argv);
     sim_opts o;
     int rc = parse_args(argc, argv, &o);
     if (rc)

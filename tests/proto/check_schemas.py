@@ -81,6 +81,8 @@ def refused_cases(examples):
     variant("plan_request", "goal of 3", lambda m: m.update(goal=[1, 2, 3]))
     variant("plan_result", "no setpoint", lambda m: m.pop("setpoint"))
     variant("scenario", "version 2", lambda m: m.update(version=2))
+    variant("scenario", "a family of two words", lambda m: m.update(family="two words"))
+    variant("scenario", "a negative shortest path", lambda m: m.update(shortest_path=-1))
     return cases
 
 

@@ -22,7 +22,7 @@ static const char header_full[] =
     "\"world\":{\"polygons\":[[[2,-0.6],[2.6,-0.6],[2.6,0.3]],[[0,5],[6,5]]]},"
     "\"sensor\":{\"beams\":181,\"fov\":3.141592653589793,\"range_min\":0.05,"
     "\"range_max\":8,\"rate\":10,\"noise\":0.01,\"mount\":[0.1,0,0]},"
-    "\"expect\":\"blocked\",\"max_time\":30}";
+    "\"expect\":\"blocked\",\"max_time\":30,\"family\":\"cul_de_sac\",\"shortest_path\":12.5}";
 
 static const char scan_line[] =
     "{\"type\":\"scan\",\"seq\":1,\"stamp\":0.1,\"pose\":[0,0,0],\"angle_start\":-1,"
@@ -90,6 +90,8 @@ static void test_header_fields(void **state)
     assert_near(h.sensor.mount.x, 0.1, 0);
     assert_int_equal(h.expect, LC_EXPECT_BLOCKED);
     assert_near(h.max_time, 30, 0);
+    assert_string_equal(h.family, "cul_de_sac");
+    assert_near(h.shortest_path, 12.5, 0);
     assert_near(lc_scenario_first_dt(&h), 0.1, 0);
     lc_scenario_header_free(&h);
 }
@@ -105,6 +107,8 @@ static void test_header_defaults(void **state)
     assert_int_equal(h.robot.model, LC_MODEL_POINT);
     assert_near(h.robot.v_max, 0.8, 0);
     assert_int_equal(h.expect, LC_EXPECT_DONE);
+    assert_string_equal(h.family, "");
+    assert_near(h.shortest_path, 0, 0);
     assert_near(lc_scenario_first_dt(&h), 0.05, 0);
     lc_scenario_header_free(&h);
 }
@@ -131,6 +135,8 @@ static void test_header_round_trip(void **state)
     assert_int_equal(b.world.nv, a.world.nv);
     assert_int_equal(b.sensor.beams, a.sensor.beams);
     assert_true(b.sensor.fov == a.sensor.fov);
+    assert_string_equal(b.family, "cul_de_sac");
+    assert_true(b.shortest_path == 12.5);
     lc_wire_text_free(&t1);
     lc_wire_text_free(&t2);
     lc_scenario_header_free(&a);
@@ -221,6 +227,13 @@ static void test_bad_headers(void **state)
         {"{\"type\":\"scenario\",\"version\":1,\"start\":[0,1e400,0]}\n", "start"},
         {"{\"type\":\"scenario\",\"version\":1,\"expect\":\"maybe\"}\n", "expect"},
         {"{\"type\":\"scenario\",\"version\":1,\"version\":1}\n", "version"},
+        {"{\"type\":\"scenario\",\"version\":1,\"family\":\"\"}\n", "family"},
+        {"{\"type\":\"scenario\",\"version\":1,\"family\":\"two words\"}\n", "family"},
+        {"{\"type\":\"scenario\",\"version\":1,\"family\":7}\n", "family"},
+        {"{\"type\":\"scenario\",\"version\":1,\"family\":\"a123456789b123456789c123456789"
+         "d123456789e123456789f123456789g123\"}\n", "family"},
+        {"{\"type\":\"scenario\",\"version\":1,\"shortest_path\":-1}\n", "shortest_path"},
+        {"{\"type\":\"scenario\",\"version\":1,\"shortest_path\":\"far\"}\n", "shortest_path"},
         {"{\"type\":\"scenario\",\"version\":1} x\n", "after"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {

@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+
 void lc_test_assert_near(double a, double b, double tol, const char *sa, const char *sb,
                          const char *file, int line)
 {

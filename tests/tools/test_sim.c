@@ -12,6 +12,7 @@
  *   - bad usage and bad files exit 2.
  */
 #include "testutil.h"
+#include "jsonutil.h"
 
 #include <stdio.h>
 #include <stdlib.h>
@@ -22,41 +23,6 @@
 #include "scenario.h"
 
 static int setup(void **state) { return lc_test_tmpdir_setup("/tmp/lacuna_test_sim_"); }
-
-static cJSON *result(void)
-{
-    char *s = lc_test_slurp(lc_test_tmp("out.json"));
-    assert_non_null(s);
-    cJSON *j = cJSON_Parse(s);
-    if (!j)
-        fail_msg("not JSON: %s", s);
-    free(s);
-    return j;
-}
-
-static double num(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    if (!cJSON_IsNumber(it))
-        fail_msg("no number %s", key);
-    return it->valuedouble;
-}
-
-static bool flag(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    if (!cJSON_IsBool(it))
-        fail_msg("no boolean %s", key);
-    return cJSON_IsTrue(it);
-}
-
-static const char *str(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    if (!cJSON_IsString(it))
-        fail_msg("no string %s", key);
-    return it->valuestring;
-}
 
 /* The header of a scenario file (first line). */
 static void read_header(const char *path, lc_scenario_header *h)
@@ -90,24 +56,25 @@ static void test_every_shipped_scenario(void **state)
         assert_true(h.description[0] != '\0'); /* each says what it exercises */
         snprintf(args, sizeof args, "sim '%.1023s' --json", path);
         int rc = lc_test_lacuna(args);
-        cJSON *j = result();
+        cJSON *j = lc_test_result();
         print_message("%-24s %s done=%d reached=%.0f collisions=%.0f min_clearance=%.3f "
                       "path=%.1f time=%.1f\n",
-                      name, str(j, "outcome"), flag(j, "done"), num(j, "waypoints_reached"),
-                      num(j, "collisions"), num(j, "min_clearance"), num(j, "path_length"),
-                      num(j, "sim_time"));
+                      name, lc_test_str(j, "outcome"), lc_test_flag(j, "done"),
+                      lc_test_num(j, "waypoints_reached"), lc_test_num(j, "collisions"),
+                      lc_test_num(j, "min_clearance"), lc_test_num(j, "path_length"),
+                      lc_test_num(j, "sim_time"));
         /* CONTRACT.md: exit 0 only when the route was done without a
          * collision; "ok" says whether the header's expectation was met */
         int want = h.expect == LC_EXPECT_DONE ? 0 : 1;
         if (rc != want)
-            fail_msg("%s: exit %d, outcome %s", name, rc, str(j, "outcome"));
-        assert_true(flag(j, "ok"));
-        assert_int_equal((int)num(j, "collisions"), 0);
-        assert_true(num(j, "min_clearance") > 0);
-        assert_string_equal(str(j, "outcome"), lc_scenario_expect_name(h.expect));
-        assert_true(flag(j, "done") == (h.expect == LC_EXPECT_DONE));
+            fail_msg("%s: exit %d, outcome %s", name, rc, lc_test_str(j, "outcome"));
+        assert_true(lc_test_flag(j, "ok"));
+        assert_int_equal((int)lc_test_num(j, "collisions"), 0);
+        assert_true(lc_test_num(j, "min_clearance") > 0);
+        assert_string_equal(lc_test_str(j, "outcome"), lc_scenario_expect_name(h.expect));
+        assert_true(lc_test_flag(j, "done") == (h.expect == LC_EXPECT_DONE));
         if (h.expect == LC_EXPECT_DONE)
-            assert_int_equal((int)num(j, "waypoints_reached"), h.route.count);
+            assert_int_equal((int)lc_test_num(j, "waypoints_reached"), h.route.count);
         models[h.robot.model == LC_MODEL_UNICYCLE]++;
         blocked += h.expect == LC_EXPECT_BLOCKED;
         n++;
@@ -163,16 +130,17 @@ static void test_untuned_scenes(void **state)
             const char *model = (h.robot.model == LC_MODEL_UNICYCLE) != other ? "unicycle" : "point";
             snprintf(args, sizeof args, "sim '%.1023s' --json --model %s", path, model);
             lc_test_lacuna(args);
-            cJSON *j = result();
+            cJSON *j = lc_test_result();
             print_message("%-18s %-8s %s reached=%.0f collisions=%.0f min_clearance=%.3f\n",
-                          name, model, str(j, "outcome"), num(j, "waypoints_reached"),
-                          num(j, "collisions"), num(j, "min_clearance"));
-            assert_int_equal((int)num(j, "collisions"), 0);
+                          name, model, lc_test_str(j, "outcome"),
+                          lc_test_num(j, "waypoints_reached"), lc_test_num(j, "collisions"),
+                          lc_test_num(j, "min_clearance"));
+            assert_int_equal((int)lc_test_num(j, "collisions"), 0);
             if (!other)
-                assert_true(flag(j, "ok"));
-            else if (strcmp(str(j, "outcome"), "done") != 0 &&
-                     strcmp(str(j, "outcome"), "blocked") != 0)
-                fail_msg("%s as %s: outcome %s", name, model, str(j, "outcome"));
+                assert_true(lc_test_flag(j, "ok"));
+            else if (strcmp(lc_test_str(j, "outcome"), "done") != 0 &&
+                     strcmp(lc_test_str(j, "outcome"), "blocked") != 0)
+                fail_msg("%s as %s: outcome %s", name, model, lc_test_str(j, "outcome"));
             cJSON_Delete(j);
             lc_scenario_header_free(&h);
         }
@@ -186,14 +154,14 @@ static void test_corridor_closed_form(void **state)
     char args[1024];
     snprintf(args, sizeof args, "sim '%s' --json", lc_test_tmp("corridor.jsonl"));
     assert_int_equal(lc_test_lacuna(args), 0);
-    cJSON *j = result();
-    assert_true(flag(j, "done"));
-    assert_int_equal((int)num(j, "collisions"), 0);
+    cJSON *j = lc_test_result();
+    assert_true(lc_test_flag(j, "done"));
+    assert_int_equal((int)lc_test_num(j, "collisions"), 0);
     /* half width 1.5 minus radius 0.3; the walls' ends are farther */
-    assert_near(num(j, "min_clearance"), 1.2, 1e-3);
+    assert_near(lc_test_num(j, "min_clearance"), 1.2, 1e-3);
     /* stops once within tolerance 0.25 of x = 6, at most one period (0.05 s
      * at 0.8 m/s) later */
-    double s = num(j, "path_length");
+    double s = lc_test_num(j, "path_length");
     assert_true(s >= 6 - 0.25 - 1e-9 && s <= 6 - 0.25 + 0.8 * 0.05 + 1e-9);
     cJSON_Delete(j);
 }
@@ -205,11 +173,11 @@ static void test_unicycle_turns_and_arrives(void **state)
     char args[1024];
     snprintf(args, sizeof args, "sim '%s' --json", lc_test_tmp("turn.jsonl"));
     assert_int_equal(lc_test_lacuna(args), 0);
-    cJSON *j = result();
-    assert_true(flag(j, "done"));
+    cJSON *j = lc_test_result();
+    assert_true(lc_test_flag(j, "done"));
     /* no path shorter than the straight line less the tolerance (triangle inequality) */
-    assert_true(num(j, "path_length") >= 5 - 0.25 - 1e-9);
-    assert_true(num(j, "min_clearance") > 0);
+    assert_true(lc_test_num(j, "path_length") >= 5 - 0.25 - 1e-9);
+    assert_true(lc_test_num(j, "min_clearance") > 0);
     cJSON_Delete(j);
 }
 
@@ -220,9 +188,9 @@ static void test_looping_route_ends_after_one_lap(void **state)
     char args[1024];
     snprintf(args, sizeof args, "sim '%s' --json", lc_test_tmp("loop.jsonl"));
     assert_int_equal(lc_test_lacuna(args), 0);
-    cJSON *j = result();
-    assert_true(flag(j, "done"));
-    assert_int_equal((int)num(j, "waypoints_reached"), 3);
+    cJSON *j = lc_test_result();
+    assert_true(lc_test_flag(j, "done"));
+    assert_int_equal((int)lc_test_num(j, "waypoints_reached"), 3);
     cJSON_Delete(j);
 }
 
@@ -233,10 +201,10 @@ static void test_start_in_contact_is_a_collision(void **state)
     char args[1024];
     snprintf(args, sizeof args, "sim '%s' --json --max-time 2", lc_test_tmp("contact.jsonl"));
     assert_int_equal(lc_test_lacuna(args), 1);
-    cJSON *j = result();
-    assert_true(num(j, "collisions") >= 1);
-    assert_near(num(j, "min_clearance"), -0.1, 1e-9);
-    assert_false(flag(j, "ok"));
+    cJSON *j = lc_test_result();
+    assert_true(lc_test_num(j, "collisions") >= 1);
+    assert_near(lc_test_num(j, "min_clearance"), -0.1, 1e-9);
+    assert_false(lc_test_flag(j, "ok"));
     cJSON_Delete(j);
 }
 
