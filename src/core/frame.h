@@ -3,7 +3,9 @@
  *
  * The frame does not own its arrays: the codec (or a simulator) keeps them
  * alive for the duration of the call. `pose` is the robot in the world
- * frame; `mount` is the sensor in the robot frame.
+ * frame; `mount` is the sensor in the robot frame when has_mount, else the
+ * sensor's mount from the robot description (robot.h) is used. `sensor`
+ * names the sensor the frame comes from ("" : the robot's first, or only).
  *
  * scan:   beam i has bearing angle_start + i * angle_step in the sensor
  *         frame; ranges[i] is NAN for "no return" (the codec maps null and
@@ -13,6 +15,7 @@
 #ifndef LC_FRAME_H
 #define LC_FRAME_H
 
+#include <stdbool.h>
 #include <stdint.h>
 #include "geom.h"
 
@@ -21,8 +24,12 @@ typedef enum lc_frame_kind {
     LC_FRAME_POINTS = 1,
 } lc_frame_kind;
 
+#define LC_FRAME_SENSOR_MAX 32 /* = LC_SENSOR_NAME_MAX */
+
 typedef struct lc_frame {
     lc_frame_kind kind;
+    char sensor[LC_FRAME_SENSOR_MAX + 1];
+    bool has_mount;
     int64_t seq;
     double stamp;   /* s */
     lc_pose pose;   /* robot in world */

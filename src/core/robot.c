@@ -1,8 +1,9 @@
 /*
  * robot.c - default robot description and route (see robot.h).
  *
- * The values are the ones CONTRACT.md promises for a field a client leaves
- * out; the codec starts from these and overwrites what the message gives.
+ * The values are the ones docs/INTERFACES.md promises for a field a client
+ * leaves out; the codec starts from these and overwrites what the message
+ * gives.
  */
 #include "robot.h"
 
@@ -35,4 +36,21 @@ void lc_route_default(lc_route *route)
     route->on_blocked = LC_BLOCKED_WAIT;
     route->blocked_time = 10.0;
     route->progress = 0.10;
+}
+
+void lc_sensor_desc_default(lc_sensor_desc *s, lc_frame_kind kind)
+{
+    *s = (lc_sensor_desc){.kind = kind, .fov = 0.0, .z_min = -INFINITY, .z_max = INFINITY};
+}
+
+const lc_sensor_desc *lc_robot_sensor(const lc_robot *robot, const lc_frame *f)
+{
+    if (robot->n_sensors <= 0)
+        return NULL;
+    if (!f->sensor[0])
+        return &robot->sensors[0];
+    for (int i = 0; i < robot->n_sensors && i < LC_SENSORS_MAX; i++)
+        if (strcmp(robot->sensors[i].name, f->sensor) == 0)
+            return &robot->sensors[i];
+    return NULL;
 }

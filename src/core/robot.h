@@ -9,12 +9,33 @@
 #define LC_ROBOT_H
 
 #include <stdbool.h>
+#include "frame.h"
 #include "geom.h"
 
 typedef enum lc_model {
     LC_MODEL_POINT = 0,    /* holonomic point mass: setpoint (vx, vy) robot frame */
     LC_MODEL_UNICYCLE = 1, /* differential drive: setpoint (v, w) */
 } lc_model;
+
+/*
+ * One of the robot's sensors (a front and a rear scanner, a depth camera
+ * given as points). A frame names its sensor (lc_frame.sensor); a frame that
+ * names none is from the first one, so that a robot with one sensor need
+ * not name it. mount is the sensor in the robot frame, used for the frames
+ * that carry no mount of their own. For points sensors, fov (rad, 0: judged
+ * from the points) and the height band [z_min, z_max] (sensor frame; +-inf:
+ * none) say what the sensor sees.
+ */
+#define LC_SENSORS_MAX 8
+#define LC_SENSOR_NAME_MAX 32
+
+typedef struct lc_sensor_desc {
+    char name[LC_SENSOR_NAME_MAX + 1]; /* [A-Za-z0-9_.-], unique in the robot */
+    lc_frame_kind kind;
+    lc_pose mount;
+    double fov;
+    double z_min, z_max;
+} lc_sensor_desc;
 
 typedef struct lc_robot {
     lc_model model;
@@ -27,11 +48,22 @@ typedef struct lc_robot {
     bool reverse;   /* unicycle may drive backwards */
     double z_min;   /* m, height band of `points` frames: points whose z (sensor */
     double z_max;   /* frame) lies outside [z_min, z_max] are not obstacles; +-inf: all */
+    lc_sensor_desc sensors[LC_SENSORS_MAX];
+    int n_sensors;  /* 0: frames carry their own mount (one unnamed sensor) */
 } lc_robot;
 
-/* CONTRACT.md defaults: point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0, no reversing;
- * no height band. */
+/* The defaults (docs/INTERFACES.md): point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0,
+ * no reversing; no height band; no sensors named. */
 void lc_robot_default(lc_robot *robot);
+
+/* A sensor with no name, of the kind given, at the robot's centre, seeing
+ * everything (no fov, no height band). */
+void lc_sensor_desc_default(lc_sensor_desc *s, lc_frame_kind kind);
+
+/* The sensor a frame comes from: the one it names, else (a frame naming
+ * none) the first; NULL when the robot names no sensors or none by that
+ * name. */
+const lc_sensor_desc *lc_robot_sensor(const lc_robot *robot, const lc_frame *f);
 
 /* Radius the obstacles are grown by: radius + margin. */
 static inline double lc_robot_clearance(const lc_robot *robot)

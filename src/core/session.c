@@ -245,12 +245,32 @@ static double window_half_side(const lc_session *s, const lc_frame *f)
     return s->mem && s->cfg.recall > 0 ? lc_min(w, s->cfg.recall) : w;
 }
 
-/* The frame's view: fov (rad) about the world direction mid. */
+/* The frame's view: fov (rad) about the world direction mid; a points
+ * sensor's own fov, else the configured one, else judged from the points. */
 static void frame_view(const lc_session *s, const lc_frame *f, double *fov, double *mid)
 {
-    *fov = f->kind == LC_FRAME_POINTS && s->cfg.region.points_fov > 0 ? s->cfg.region.points_fov
-                                                                      : s->cloud.fov;
+    const lc_sensor_desc *sd = lc_robot_sensor(&s->robot, f);
+    double pfov = sd && sd->fov > 0 ? sd->fov : s->cfg.region.points_fov;
+    *fov = f->kind == LC_FRAME_POINTS && pfov > 0 ? pfov : s->cloud.fov;
     *mid = f->pose.yaw + s->cloud.fov_mid;
+}
+
+/*
+ * The frame as the plan sees it: from the robot's sensor of that name, the
+ * mount when the frame has none of its own; the height band narrowed to the
+ * sensor's.
+ */
+static lc_frame resolve_frame(const lc_session *s, const lc_frame *f, lc_ingest_config *icfg)
+{
+    lc_frame fr = *f;
+    const lc_sensor_desc *sd = lc_robot_sensor(&s->robot, f);
+    if (sd && !f->has_mount)
+        fr.mount = sd->mount;
+    if (sd) { /* the narrower band wins */
+        icfg->z_min = fmax(icfg->z_min, sd->z_min);
+        icfg->z_max = fmin(icfg->z_max, sd->z_max);
+    }
+    return fr;
 }
 
 /*
@@ -405,6 +425,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         icfg.self_radius = s->robot.radius;
     icfg.z_min = fmax(icfg.z_min, s->robot.z_min); /* the narrower band wins */
     icfg.z_max = fmin(icfg.z_max, s->robot.z_max);
+    lc_frame resolved = resolve_frame(s, frame, &icfg);
+    frame = &resolved;
     if (lc_ingest(frame, &icfg, &s->cloud, &s->alloc) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_INGEST, &t);
