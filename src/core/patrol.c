@@ -44,6 +44,14 @@ const char *lc_event_name(lc_event_kind kind)
     return names[kind];
 }
 
+const char *lc_block_reason_name(lc_block_reason reason)
+{
+    static const char *const names[LC_BLOCK_REASON_COUNT] = {"", "no_progress", "no_path"};
+    if ((int)reason < 0 || reason >= LC_BLOCK_REASON_COUNT)
+        return "unknown";
+    return names[reason];
+}
+
 void lc_patrol_reset(lc_patrol *patrol)
 {
     *patrol = (lc_patrol){0};
@@ -55,11 +63,17 @@ typedef struct event_sink {
     double stamp;
 } event_sink;
 
-static void emit(const event_sink *sink, lc_event_kind kind, int waypoint)
+static void emit_why(const event_sink *sink, lc_event_kind kind, int waypoint,
+                     lc_block_reason why)
 {
     if (!sink->events || !sink->n || *sink->n < 0 || *sink->n >= LC_PATROL_MAX_EVENTS)
         return;
-    sink->events[(*sink->n)++] = (lc_event){kind, waypoint, sink->stamp};
+    sink->events[(*sink->n)++] = (lc_event){kind, waypoint, sink->stamp, why};
+}
+
+static void emit(const event_sink *sink, lc_event_kind kind, int waypoint)
+{
+    emit_why(sink, kind, waypoint, LC_BLOCK_NONE);
 }
 
 /* A fresh progress reference: distance from pos to the current waypoint now. */
@@ -104,6 +118,27 @@ lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
                           lc_vec2 target, double stamp, lc_event *events,
                           int *n_events)
 {
+    return lc_patrol_update_way(patrol, route, pos, target, NULL, stamp, events, n_events);
+}
+
+/* Blocked: raise the event, then the route's policy. */
+static lc_state block(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
+                      const event_sink *sink, lc_block_reason why)
+{
+    emit_why(sink, LC_EVENT_BLOCKED, patrol->current, why);
+    if (route->on_blocked == LC_BLOCKED_SKIP) {
+        emit(sink, LC_EVENT_SKIPPED, patrol->current);
+        advance(patrol, route, pos, sink);
+    } else {
+        patrol->blocked = true;
+    }
+    return LC_STATE_BLOCKED;
+}
+
+lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
+                              lc_vec2 target, const lc_patrol_way *way, double stamp,
+                              lc_event *events, int *n_events)
+{
     if (!route || route->count <= 0)
         return LC_STATE_IDLE;
     if (patrol->current < 0 || patrol->current >= route->count)
@@ -116,9 +151,12 @@ lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
     event_sink sink = {events, n_events, stamp};
     lc_vec2 wp = route->waypoints[patrol->current];
     double d = lc_dist(pos, wp);
+    bool guided = way && way->guided && isfinite(way->to_go);
+    double go = guided ? way->to_go : d; /* the progress measure */
     if (!patrol->started) {
         patrol->started = true;
         restart_progress(patrol, route, pos, stamp);
+        patrol->ref_dist = go;
     }
     if (d <= route->tolerance) {
         if (patrol->blocked)
@@ -129,28 +167,30 @@ lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
     }
     if (stamp < patrol->ref_stamp)
         patrol->ref_stamp = stamp;
+    bool no_path = way && way->no_path;
     if (patrol->blocked) {
-        if (!progress_possible(route, wp, target, d))
+        bool possible = !no_path && (guided ? way->to_go_target < go - route->progress
+                                            : progress_possible(route, wp, target, d));
+        if (!possible)
             return LC_STATE_BLOCKED;
         patrol->blocked = false;
         emit(&sink, LC_EVENT_UNBLOCKED, patrol->current);
-        restart_progress(patrol, route, pos, stamp);
+        patrol->ref_dist = go;
+        patrol->ref_stamp = stamp;
         return LC_STATE_TRACKING;
     }
-    if (d <= patrol->ref_dist - route->progress) {
-        patrol->ref_dist = d;
+    if (no_path)
+        return block(patrol, route, pos, &sink, LC_BLOCK_NO_PATH);
+    if (guided && way->new_way && go > patrol->ref_dist) {
+        patrol->ref_dist = go; /* a longer way round: progress counts from here */
         patrol->ref_stamp = stamp;
     }
-    if (blocked_check_enabled(route) && stamp - patrol->ref_stamp >= route->blocked_time) {
-        emit(&sink, LC_EVENT_BLOCKED, patrol->current);
-        if (route->on_blocked == LC_BLOCKED_SKIP) {
-            emit(&sink, LC_EVENT_SKIPPED, patrol->current);
-            advance(patrol, route, pos, &sink);
-        } else {
-            patrol->blocked = true;
-        }
-        return LC_STATE_BLOCKED;
+    if (go <= patrol->ref_dist - route->progress) {
+        patrol->ref_dist = go;
+        patrol->ref_stamp = stamp;
     }
+    if (blocked_check_enabled(route) && stamp - patrol->ref_stamp >= route->blocked_time)
+        return block(patrol, route, pos, &sink, LC_BLOCK_NO_PROGRESS);
     return LC_STATE_TRACKING;
 }
 

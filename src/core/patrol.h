@@ -37,10 +37,21 @@ typedef enum lc_event_kind {
 
 const char *lc_event_name(lc_event_kind kind);
 
+/* Why a waypoint was found blocked. */
+typedef enum lc_block_reason {
+    LC_BLOCK_NONE = 0,        /* "" (events other than blocked) */
+    LC_BLOCK_NO_PROGRESS = 1, /* "no_progress": no progress for the blocked time */
+    LC_BLOCK_NO_PATH = 2,     /* "no_path": no way to the waypoint through what is known */
+    LC_BLOCK_REASON_COUNT
+} lc_block_reason;
+
+const char *lc_block_reason_name(lc_block_reason reason);
+
 typedef struct lc_event {
     lc_event_kind kind;
     int waypoint;
     double stamp;
+    lc_block_reason reason; /* LC_EVENT_BLOCKED only */
 } lc_event;
 
 #define LC_PATROL_MAX_EVENTS 8
@@ -68,6 +79,32 @@ void lc_patrol_reset(lc_patrol *patrol);
 lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
                           lc_vec2 target, double stamp, lc_event *events,
                           int *n_events);
+
+/*
+ * What guidance (guide.h) tells the patrol about the way to the current
+ * waypoint. Progress is then measured along the path (a detour round a
+ * cul-de-sac takes the robot farther from the waypoint as the crow flies
+ * while it gets nearer along the way), and a missing way blocks at once.
+ */
+typedef struct lc_patrol_way {
+    bool guided;         /* false: the straight line (as lc_patrol_update) */
+    double to_go;        /* m, along the path from the robot */
+    double to_go_target; /* m, along the path from the planned target */
+    bool new_way;        /* the path was replaced this frame */
+    bool no_path;        /* there is no way to the waypoint within what is known */
+} lc_patrol_way;
+
+/*
+ * lc_patrol_update with guidance's view of the way (way may be NULL: the
+ * straight line). With a way: progress is to_go shrinking by
+ * route->progress; a new way that is longer than the reference starts the
+ * progress over from it; no_path raises "blocked" (reason no_path) at once,
+ * and a robot held blocked (policy WAIT) stays so while there is no path;
+ * "unblocked" when to_go_target < to_go - route->progress.
+ */
+lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
+                              lc_vec2 target, const lc_patrol_way *way, double stamp,
+                              lc_event *events, int *n_events);
 
 /* The current waypoint, or false when there is none (idle or done). */
 bool lc_patrol_waypoint(const lc_patrol *patrol, const lc_route *route, lc_vec2 *out);

@@ -29,6 +29,7 @@ struct lc_session {
     lc_cloud cloud;
     lc_segment_ws seg;
     lc_memory *mem;           /* NULL: memory off */
+    lc_guide *guide;          /* NULL: guidance off */
     lc_recall recall;
     lc_segment_ws seg_recall;
     lc_polyset frontier;      /* convex pieces of the frontier (not obstacles) */
@@ -47,7 +48,8 @@ struct lc_session {
 };
 
 static const char *const stage_names[LC_STAGE_COUNT] = {
-    "ingest", "memory", "segment", "hull", "grow", "region", "ellipse", "target", "setpoint",
+    "ingest", "memory", "guide", "segment", "hull", "grow", "region", "ellipse", "target",
+    "setpoint",
 };
 
 const char *lc_stage_name(lc_stage stage)
@@ -66,6 +68,7 @@ void lc_plan_config_default(lc_plan_config *cfg)
     lc_ellipse_opts_default(&cfg->ellipse);
     lc_motion_params_default(&cfg->motion);
     lc_memory_config_default(&cfg->memory);
+    lc_guide_config_default(&cfg->guide);
     cfg->recall = 5.0;
     cfg->standoff = 0.04;
 }
@@ -106,7 +109,9 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
         lc_hull_set_small_max(s->hull, s->cfg.hull_small_max);
     if (s->cfg.memory.enabled) {
         s->mem = lc_memory_new(&s->cfg.memory, &s->alloc);
-        if (!s->mem) {
+        if (s->mem && s->cfg.guide.enabled)
+            s->guide = lc_guide_new(&s->cfg.guide, &s->cfg.memory, &s->alloc);
+        if (!s->mem || (s->cfg.guide.enabled && !s->guide)) {
             lc_session_free(s);
             return NULL;
         }
@@ -123,6 +128,7 @@ void lc_session_free(lc_session *s)
     lc_cloud_free(&s->cloud, a);
     lc_segment_ws_free(&s->seg, a);
     lc_memory_free(s->mem);
+    lc_guide_free(s->guide);
     lc_recall_free(&s->recall, a);
     lc_segment_ws_free(&s->seg_recall, a);
     lc_polyset_free(&s->frontier, a);
@@ -145,6 +151,8 @@ void lc_session_set_route(lc_session *s, const lc_route *route)
 {
     s->route = *route;
     lc_patrol_reset(&s->patrol);
+    if (s->guide)
+        lc_guide_reset(s->guide);
 }
 
 void lc_session_set_clock(lc_session *s, const lc_clock *clock)
@@ -165,6 +173,8 @@ void lc_session_set_goal(lc_session *s, lc_vec2 goal_world)
     s->route.waypoints[0] = goal_world;
     s->route.count = 1;
     lc_patrol_reset(&s->patrol);
+    if (s->guide)
+        lc_guide_reset(s->guide);
 }
 
 /* The hull of every piece of seg (over cloud) appended to out, each with
@@ -369,15 +379,93 @@ static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *o
     lc_steer_drive(&in, &s->steer, &s->alloc, &out->setpoint);
 }
 
+/* The clearance guidance keeps: the grown obstacles' (remembered cells are
+ * grown by half a cell's diagonal more). */
+static double guide_clearance(const lc_session *s)
+{
+    return lc_robot_clearance(&s->robot) + cell_reach(s);
+}
+
+/*
+ * Guidance for this frame: the path to wp, and the point a goal_step
+ * along it that the region reaches toward (*seek; wp without a path). Fills
+ * out->path and what the patrol will be told of the way.
+ */
+static void guide_frame(lc_session *s, lc_vec2 c, lc_vec2 wp, lc_vec2 *seek, lc_patrol_way *way,
+                        lc_plan_result *out)
+{
+    *seek = wp;
+    memset(way, 0, sizeof *way);
+    if (!s->guide)
+        return;
+    const lc_guide_path *p;
+    lc_guide_update(s->guide, s->mem, c, wp, guide_clearance(s), s->route.tolerance, &p,
+                    &out->guide);
+    out->path = p;
+    way->no_path = p->status == LC_GUIDE_NO_PATH;
+    way->new_way = out->guide.replaced;
+    if (p->status != LC_GUIDE_PATH)
+        return;
+    way->guided = true;
+    *seek = lc_guide_ahead(p, c, s->cfg.region.goal_step, &way->to_go);
+}
+
+/* Where the segment from a (inside the region) along d leaves it, as a
+ * share of d (1: it does not). */
+static double exit_share(const lc_region *r, lc_vec2 a, lc_vec2 d)
+{
+    double t = 1.0;
+    for (int i = 0; i < r->nh; i++) {
+        double ad = lc_dot(r->h[i].a, d);
+        if (ad > 1e-15)
+            t = lc_min(t, lc_max(0.0, (r->h[i].b - lc_dot(r->h[i].a, a)) / ad));
+    }
+    return t;
+}
+
+/*
+ * The target on the path: the farthest point of it, from where the robot
+ * is along it, that the region holds (the path's first exit from the
+ * region; its end when it stays inside). *rest gets the path's length from
+ * there on.
+ */
+static lc_vec2 path_target(const lc_region *r, const lc_guide_path *p, lc_vec2 c,
+                           double to_go, double *rest)
+{
+    lc_vec2 q = lc_guide_ahead(p, c, 0.0, NULL);
+    double along = to_go - lc_dist(c, q); /* from q to the end */
+    if (!lc_region_contains(r, q, 1e-9)) {
+        *rest = along;
+        return lc_region_project(r, q);
+    }
+    lc_vec2 a = q;
+    for (int k = p->seg + 1; k < p->n; k++) {
+        lc_vec2 d = lc_sub(p->v[k], a);
+        double t = exit_share(r, a, d);
+        if (t < 1.0) {
+            along -= t * lc_len(d);
+            *rest = lc_max(along, 0.0);
+            return lc_add(a, lc_scale(d, t));
+        }
+        along -= lc_len(d);
+        a = p->v[k];
+    }
+    *rest = 0.0;
+    return a;
+}
+
 /* The route-level decision for this frame, and the target it implies. */
-static void decide(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
+static void decide(lc_session *s, const lc_frame *f, double dt, const lc_patrol_way *way,
+                   lc_plan_result *out)
 {
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
-    lc_state st = lc_patrol_update(&s->patrol, &s->route, c, out->target, f->stamp, out->events,
-                                   &out->n_events);
+    int before = s->patrol.current;
+    lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->target, way, f->stamp,
+                                       out->events, &out->n_events);
     out->has_waypoint = lc_patrol_waypoint(&s->patrol, &s->route, &out->waypoint);
     out->waypoint_index = s->patrol.current;
-    if (out->has_waypoint) {
+    if (out->has_waypoint && (!way->guided || s->patrol.current != before)) {
+        /* no path to this waypoint (yet): its closest point in the region */
         out->target = lc_region_project(&s->region, out->waypoint);
         out->has_target = true;
     }
@@ -444,9 +532,13 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         return -1;
     stamp_stage(s, out, LC_STAGE_GROW, &t);
 
-    lc_vec2 c = lc_v2(frame->pose.x, frame->pose.y), wp = c;
+    lc_vec2 c = lc_v2(frame->pose.x, frame->pose.y), wp = c, seek = c;
     bool has_wp = lc_patrol_waypoint(&s->patrol, &s->route, &wp);
-    int rc = plan_region(s, frame, has_wp, wp, out);
+    lc_patrol_way way = {0};
+    if (has_wp)
+        guide_frame(s, c, wp, &seek, &way, out);
+    stamp_stage(s, out, LC_STAGE_GUIDE, &t);
+    int rc = plan_region(s, frame, has_wp, seek, out);
     stamp_stage(s, out, LC_STAGE_REGION, &t);
     out->stage_us[LC_STAGE_REGION] -= out->stage_us[LC_STAGE_ELLIPSE];
     if (rc == LC_REGION_NO_MEMORY)
@@ -456,6 +548,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->region = &s->region;
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
         out->has_target = has_wp;
+        if (has_wp && way.guided)
+            out->target = path_target(&s->region, out->path, c, way.to_go, &way.to_go_target);
     }
     stamp_stage(s, out, LC_STAGE_TARGET, &t);
 
@@ -469,7 +563,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
             lc_steer_turn_in_place(&s->robot, &s->cfg.motion, frame->pose, out->target,
                                    &s->last, dt, &out->setpoint);
     } else {
-        decide(s, frame, dt, out);
+        decide(s, frame, dt, &way, out);
     }
     s->last = out->setpoint;
     stamp_stage(s, out, LC_STAGE_SETPOINT, &t);

@@ -15,6 +15,7 @@
 #include <stdbool.h>
 #include "alloc.h"
 #include "ellipse.h"
+#include "guide.h"
 #include "frame.h"
 #include "ingest.h"
 #include "memory.h"
@@ -37,6 +38,7 @@ typedef struct lc_plan_config {
     lc_ellipse_opts ellipse;
     lc_motion_params motion;
     lc_memory_config memory; /* what the robot remembers (memory.h); on by default */
+    lc_guide_config guide;   /* guidance through the memory (guide.h); on by default */
     double recall;        /* m, with memory: half side of the box about the robot whose
                              remembered obstacles the region avoids, and the region's
                              window (default 5) */
@@ -52,6 +54,7 @@ void lc_plan_config_default(lc_plan_config *cfg);
 typedef enum lc_stage {
     LC_STAGE_INGEST = 0,
     LC_STAGE_MEMORY,  /* the memory's update and what it adds to this plan */
+    LC_STAGE_GUIDE,   /* guidance: the check of the path ahead, and its searches */
     LC_STAGE_SEGMENT,
     LC_STAGE_HULL,
     LC_STAGE_GROW,
@@ -75,6 +78,9 @@ typedef struct lc_plan_result {
                                     by half a cell's diagonal more), then the frontier of
                                     the unknown grown the same way */
     const lc_memory *memory;     /* NULL when the session remembers nothing */
+    const lc_guide_path *path;   /* guidance's way to the waypoint; NULL without guidance or
+                                    waypoint (status LC_GUIDE_NO_PATH: there is none) */
+    lc_guide_info guide;         /* what guidance did this frame */
     double view_fov, view_mid;   /* rad, the view the region was given: the frame's,
                                     widened by the memory (world direction of its middle) */
     const lc_region *region;     /* NULL when there is none (see state) */

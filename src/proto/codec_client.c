@@ -106,7 +106,8 @@ int lc_wire_setpoint_from_json(const cJSON *obj, lc_wire_setpoint *out, lc_wire_
     return 0;
 }
 
-static const char *const event_keys[] = {"type", "event", "waypoint", "stamp", "seq", NULL};
+static const char *const event_keys[] = {"type", "event", "waypoint", "stamp", "seq",
+                                         "reason", NULL};
 
 int lc_wire_event_from_json(const cJSON *obj, lc_wire_event *out, lc_wire_error *err)
 {
@@ -120,6 +121,12 @@ int lc_wire_event_from_json(const cJSON *obj, lc_wire_event *out, lc_wire_error 
         lc_jr_seq(obj, NULL, false, &out->seq, err) < 0)
         return -1;
     out->ev.kind = (lc_event_kind)kind;
+    if (cJSON_GetObjectItemCaseSensitive(obj, "reason")) {
+        int why = 0;
+        if (core_name_field(obj, "reason", lc_wire_reason_index, &why, err))
+            return -1;
+        out->ev.reason = (lc_block_reason)why;
+    }
     return 0;
 }
 

@@ -59,6 +59,8 @@ void lc_wire_kv_event(lc_wire_text *t, const lc_event *ev)
     lc_jw_str(t, (int)k >= 0 && k < LC_EVENT_COUNT ? lc_event_name(k) : NULL);
     lc_jw_kv_index(t, "waypoint", ev->waypoint);
     lc_jw_kv_num(t, "stamp", ev->stamp, -1);
+    if (k == LC_EVENT_BLOCKED && ev->reason > LC_BLOCK_NONE && ev->reason < LC_BLOCK_REASON_COUNT)
+        lc_jw_kv_str(t, "reason", lc_block_reason_name(ev->reason));
 }
 
 void lc_wire_robot_members(lc_wire_text *t, const lc_robot *m)

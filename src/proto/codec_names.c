@@ -104,3 +104,12 @@ static int core_index(const char *s, const char *(*name)(int), int n)
 int lc_wire_state_index(const char *s) { return core_index(s, state_at, LC_STATE_COUNT); }
 int lc_wire_limit_index(const char *s) { return core_index(s, limit_at, LC_LIMIT_COUNT); }
 int lc_wire_event_index(const char *s) { return core_index(s, event_at, LC_EVENT_COUNT); }
+
+static const char *reason_at(int i) { return lc_block_reason_name((lc_block_reason)i); }
+
+/* "no_progress" or "no_path" (never the empty name of LC_BLOCK_NONE). */
+int lc_wire_reason_index(const char *s)
+{
+    int i = core_index(s, reason_at, LC_BLOCK_REASON_COUNT);
+    return i > 0 ? i : -1;
+}

@@ -28,5 +28,6 @@ lc_msg_type lc_wire_msg_type_from_name(const char *s);
 int lc_wire_state_index(const char *s);
 int lc_wire_limit_index(const char *s);
 int lc_wire_event_index(const char *s);
+int lc_wire_reason_index(const char *s);
 
 #endif

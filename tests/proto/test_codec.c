@@ -1051,7 +1051,7 @@ static void fake_step_init(fake_step *s)
     s->r.waypoint_index = 2;
     s->r.setpoint = (lc_setpoint){.vx = 0.1 + 0.2, .vy = -1e-17, .limit = LC_LIMIT_BRAKING};
     s->r.state = LC_STATE_TRACKING;
-    s->r.events[0] = (lc_event){LC_EVENT_REACHED, 1, 12.5};
+    s->r.events[0] = (lc_event){LC_EVENT_REACHED, 1, 12.5, LC_BLOCK_NONE};
     s->r.n_events = 1;
     s->r.clearance = 2.35;
     for (int i = 0; i < LC_STAGE_COUNT; i++)
