@@ -20,11 +20,15 @@
 #define LC_ELLIPSE_H
 
 #include "geom.h"
+#include "sym2.h"
 
 typedef struct lc_ellipse {
     double l11, l12, l22; /* L = [[l11, l12], [l12, l22]] */
     lc_vec2 d;            /* centre */
 } lc_ellipse;
+
+/* L as a symmetric 2x2 matrix. */
+static inline lc_sym2 lc_ellipse_shape(const lc_ellipse *e) { return (lc_sym2){e->l11, e->l12, e->l22}; }
 
 typedef struct lc_ellipse_opts {
     double gap_tol; /* default 1e-9 */

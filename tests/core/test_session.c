@@ -523,22 +523,6 @@ static void test_names(void **state)
     assert_string_equal(lc_stage_name(LC_STAGE_COUNT), "unknown");
 }
 
-static int setup(void **state)
-{
-#if LC_HAVE_GEOS
-    oracle_init();
-#endif
-    return 0;
-}
-
-static int teardown(void **state)
-{
-#if LC_HAVE_GEOS
-    oracle_finish();
-#endif
-    return 0;
-}
-
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -553,5 +537,5 @@ int main(void)
         cmocka_unit_test(test_scripted_patrol),
         cmocka_unit_test(test_names),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, lc_test_geos_setup, lc_test_geos_teardown);
 }

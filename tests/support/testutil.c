@@ -8,6 +8,11 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lc_config.h"
+#if LC_HAVE_GEOS
+#include "geos_oracle.h"
+#endif
+
 void lc_test_assert_near(double a, double b, double tol, const char *sa, const char *sb,
                          const char *file, int line)
 {
@@ -23,6 +28,40 @@ uint64_t lc_rng_next(lc_rng *r)
     z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
     z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
     return z ^ (z >> 31);
+}
+
+void lc_test_random_convex(lc_rng *g, lc_vec2 c, double r, int n, lc_vec2 *v)
+{
+    double ang[256];
+    assert_true(n >= 0 && n <= 256);
+    for (int i = 0; i < n; i++)
+        ang[i] = lc_rng_uniform(g, 0.0, 2.0 * LC_PI);
+    for (int i = 1; i < n; i++)
+        for (int j = i; j > 0 && ang[j - 1] > ang[j]; j--) {
+            double t = ang[j];
+            ang[j] = ang[j - 1];
+            ang[j - 1] = t;
+        }
+    for (int i = 0; i < n; i++)
+        v[i] = lc_add(c, lc_scale(lc_unit_angle(ang[i]), r));
+}
+
+int lc_test_geos_setup(void **state)
+{
+#if LC_HAVE_GEOS
+    oracle_init();
+#else
+    print_message("NOTICE: GEOS not found at build time: the GEOS checks are skipped\n");
+#endif
+    return 0;
+}
+
+int lc_test_geos_teardown(void **state)
+{
+#if LC_HAVE_GEOS
+    oracle_finish();
+#endif
+    return 0;
 }
 
 double lc_rng_uniform(lc_rng *r, double lo, double hi)

@@ -37,6 +37,16 @@ uint64_t lc_rng_next(lc_rng *r);
 double lc_rng_uniform(lc_rng *r, double lo, double hi); /* [lo, hi) */
 double lc_rng_normal(lc_rng *r);                        /* standard normal */
 
+/* A random convex CCW polygon of n (<= 256) vertices: sorted angles drawn
+ * on the circle of radius r about c (two may fall close together). */
+void lc_test_random_convex(lc_rng *g, lc_vec2 c, double r, int n, lc_vec2 *v);
+
+/* cmocka group setup and teardown for the tests that ask GEOS
+ * (geos_oracle.h): start and finish it, or say once that the GEOS checks are
+ * skipped when it was not found at build time. */
+int lc_test_geos_setup(void **state);
+int lc_test_geos_teardown(void **state);
+
 /* A counting allocator around the C library's. */
 typedef struct lc_counting_alloc {
     lc_alloc alloc;
