@@ -11,6 +11,8 @@
 
 #include <stddef.h>
 
+#include "status.h"
+
 typedef struct lc_alloc {
     /* realloc semantics: n == 0 frees p and returns NULL. */
     void *(*realloc)(void *data, void *p, size_t n);
@@ -22,7 +24,7 @@ const lc_alloc *lc_alloc_default(void);
 
 /*
  * Make *p hold at least need elements of size elem, growing *cap
- * geometrically. Returns 0, or -1 when out of memory (then *p and *cap are
+ * geometrically. Returns LC_OK, or LC_ERR_NO_MEMORY (then *p and *cap are
  * unchanged). A NULL alloc means lc_alloc_default().
  */
 int lc_grow(const lc_alloc *alloc, void **p, int *cap, int need, size_t elem);

@@ -178,11 +178,11 @@ int lc_clip_all(lc_clip *c, double bmax)
     clip_init_box(c, 1e9 * (bmax > 0.0 ? bmax : 1.0));
     for (int i = 0; i < c->h.n; i++)
         if (!clip_by(c, i))
-            return LC_CLIP_EMPTY;
+            return LC_ERR_DEGENERATE;
     for (int k = 0; k < c->m; k++)
         if (c->edge[k] >= c->h.n)
-            return LC_CLIP_UNBOUNDED;
-    return LC_CLIP_OK;
+            return LC_ERR_UNBOUNDED;
+    return LC_OK;
 }
 
 /* Pseudo-angle of a unit vector in [0, 4): monotone in its angle, no trig. */

@@ -32,6 +32,7 @@
 #include <stdbool.h>
 
 #include "geom.h"
+#include "status.h"
 
 /* A polygon with an owner per edge: edge i runs from v[i] to v[i+1]. */
 typedef struct lc_clip_poly {
@@ -74,17 +75,11 @@ typedef struct lc_clip {
 /* Binds c's arrays to work (LC_CLIP_WORK(h.n) doubles), c empty. */
 void lc_clip_bind(lc_clip *c, lc_hrows h, double *work);
 
-/* Outcomes of lc_clip_all; the values are those of lc_ellipse_status. */
-enum {
-    LC_CLIP_OK = 0,
-    LC_CLIP_EMPTY = -1,     /* nothing of the polygon is left */
-    LC_CLIP_UNBOUNDED = -2, /* an edge of the box is left */
-};
-
 /*
  * Clips a box far larger than any sensible polygon (1e9 times bmax, the
  * largest |b|, or 1e9 when that is 0) by every row of c->h: O(n^2). Returns
- * LC_CLIP_OK with the polygon in c, LC_CLIP_EMPTY or LC_CLIP_UNBOUNDED.
+ * LC_OK with the polygon in c, LC_ERR_DEGENERATE (nothing is left) or
+ * LC_ERR_UNBOUNDED (an edge of the box is left).
  */
 int lc_clip_all(lc_clip *c, double bmax);
 

@@ -190,25 +190,25 @@ static int cold_start(lc_hrows r, double *work, start *st)
         lc_clip c;
         lc_clip_bind(&c, loc, work + m);
         if (!lc_clip_fast(&c, bmax)) {
-            int status = lc_clip_all(&c, bmax); /* LC_CLIP_* are lc_ellipse_status values */
-            if (status != LC_CLIP_OK)
+            int status = lc_clip_all(&c, bmax);
+            if (status != LC_OK)
                 return status;
         }
         lc_vec2 g;
         lc_sym2 cov;
         double diam;
         if (!clip_moments(&c, &g, &cov, &diam))
-            return LC_ELLIPSE_EMPTY;
+            return LC_ERR_DEGENERATE;
         if (pass == 0 && clip_far(&c, diam)) {
             ref = lc_add(ref, g);
             continue;
         }
         if (!(min_slack(loc, g) > ZERO_AREA_REL * diam))
-            return LC_ELLIPSE_EMPTY;
+            return LC_ERR_DEGENERATE;
         st->p0 = lc_add(ref, g);
         st->t = lc_sym2_pd(cov) ? lc_sym2_sqrt(cov) : (lc_sym2){diam, 0.0, diam};
         st->warm = 0;
-        return LC_ELLIPSE_OK;
+        return LC_OK;
     }
 }
 
@@ -372,7 +372,7 @@ static bool try_warm(const lc_halfspace *h, lc_hrows r, double *c, const lc_elli
     start st = {lc_ellipse_shape(warm), warm->d, 1};
     if (!(to_frame(r, c, &st) >= 1.0 - WARM_TOUCH_REL))
         return false;
-    return solve_in_frame(h, r, c, &st, work, o, out, lambda, info) == LC_ELLIPSE_OK;
+    return solve_in_frame(h, r, c, &st, work, o, out, lambda, info) == LC_OK;
 }
 
 static lc_ellipse_opts opts_or_default(const lc_ellipse_opts *opts)
@@ -397,25 +397,25 @@ int lc_ellipse_solve(const lc_halfspace *h, int n, const lc_ellipse *warm,
         info = &dummy;
     *info = (lc_ellipse_info){0, INFINITY, 0};
     if (n < 3)
-        return LC_ELLIPSE_BAD_INPUT;
+        return LC_ERR_BAD_INPUT;
 
     int m = n + LC_CLIP_BOX_EDGES;
     lc_hrows r = {scratch, scratch + m, scratch + 2 * m, n};
     double *c = scratch + 3 * m, *work = c + n;
     if (!normalise(h, n, r, c))
-        return LC_ELLIPSE_BAD_INPUT;
+        return LC_ERR_BAD_INPUT;
     if (warm && warm_valid(warm) && normals_surround(r)) {
         if (try_warm(h, r, c, warm, work, &o, out, lambda, info))
-            return LC_ELLIPSE_OK;
+            return LC_OK;
         normalise(h, n, r, c); /* the attempt rewrote the rows */
         *info = (lc_ellipse_info){0, INFINITY, 0};
     }
     start st;
     int status = cold_start(r, work, &st);
-    if (status != LC_ELLIPSE_OK)
+    if (status != LC_OK)
         return status;
     if (!(to_frame(r, c, &st) > 0.0))
-        return LC_ELLIPSE_EMPTY;
+        return LC_ERR_DEGENERATE;
     return solve_in_frame(h, r, c, &st, work, &o, out, lambda, info);
 }
 

@@ -20,7 +20,7 @@ static int reserve(lc_cloud *c, const lc_alloc *alloc, int n)
     int cw = c->cap, cr = c->cap, cb = c->cap;
     if (LC_GROW(alloc, c->world, cw, n) < 0 || LC_GROW(alloc, c->range, cr, n) < 0 ||
         LC_GROW(alloc, c->bearing, cb, n) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     c->cap = cw < cr ? (cw < cb ? cw : cb) : (cr < cb ? cr : cb);
     return 0;
 }
@@ -158,8 +158,10 @@ int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *clou
     cloud->ordered = frame->kind == LC_FRAME_SCAN;
     cloud->angle_step = frame->kind == LC_FRAME_SCAN ? frame->angle_step : 0.0;
     cloud->sensor_world = lc_pose_apply(frame->pose, lc_v2(frame->mount.x, frame->mount.y));
-    if (total < 0 || reserve(cloud, alloc, total > 0 ? total : 1) < 0)
-        return -1;
+    if (total < 0)
+        return LC_ERR_BAD_INPUT;
+    if (reserve(cloud, alloc, total > 0 ? total : 1) < 0)
+        return LC_ERR_NO_MEMORY;
     if (frame->kind == LC_FRAME_SCAN)
         ingest_scan(frame, cfg, cloud);
     else

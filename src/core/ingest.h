@@ -37,7 +37,8 @@ typedef struct lc_cloud {
     int dropped_invalid, dropped_range, dropped_self, dropped_height;
 } lc_cloud;
 
-/* Returns the number of kept points, or -1 when out of memory. */
+/* Returns the number of kept points, LC_ERR_NO_MEMORY, or LC_ERR_BAD_INPUT
+ * when the frame claims a negative count. */
 int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud,
               const lc_alloc *alloc);
 

@@ -407,13 +407,13 @@ static int ipm_run(ipm *w, const lc_ellipse_opts *o, bool warm, lc_ellipse_info 
     for (;;) {
         evaluate(w, alpha, &k);
         if (k.gap <= o->gap_tol && k.rpmax <= ptol && absmax5(k.rd) <= dtol) {
-            status = LC_ELLIPSE_OK;
+            status = LC_OK;
             break;
         }
         if (it >= o->max_iter || (warm && it >= WARM_MAX_ITER))
             break;
         if (warm && lc_max(w->x[0], w->x[2]) > WARM_GROWTH_MAX)
-            return LC_ELLIPSE_UNBOUNDED;
+            return LC_ERR_UNBOUNDED;
         newton_matrix(w, &k);
         alpha = ipm_step(w, &k);
         if (!(alpha > 0.0))

@@ -39,10 +39,10 @@ typedef struct lc_ipm_result {
  * warm, 0.92 cold), then shrinks the ellipse about its centre until every
  * constraint holds at the last evaluation (out->feasible false when no
  * shrink does). A warm solve gives up early (more than 30 iterations), or
- * when the ellipse grows a millionfold (LC_ELLIPSE_UNBOUNDED: the polygon
- * is unbounded or the warm start far too small). Returns LC_ELLIPSE_OK,
+ * when the ellipse grows a millionfold (LC_ERR_UNBOUNDED: the polygon
+ * is unbounded or the warm start far too small). Returns LC_OK,
  * LC_ELLIPSE_MAX_ITER (also on a numerical breakdown: the last iterate
- * stays) or LC_ELLIPSE_UNBOUNDED; info gets the iterations and the gap.
+ * stays) or LC_ERR_UNBOUNDED; info gets the iterations and the gap.
  * work: LC_IPM_WORK(r.n) doubles.
  */
 int lc_ipm_solve(lc_hrows r, double *work, const lc_ellipse_opts *o, bool warm,

@@ -11,16 +11,16 @@ int lc_polyset_reserve(lc_polyset *s, const lc_alloc *alloc, int extra)
 int lc_polyset_commit(lc_polyset *s, const lc_alloc *alloc, int n, int src)
 {
     if (LC_GROW(alloc, s->span, s->cap_p, s->np + 1) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     s->span[s->np++] = (lc_span){s->nv, n, src};
     s->nv += n;
-    return 0;
+    return LC_OK;
 }
 
 int lc_polyset_push(lc_polyset *s, const lc_alloc *alloc, const lc_vec2 *v, int n, int src)
 {
     if (lc_polyset_reserve(s, alloc, n) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     memcpy(s->v + s->nv, v, sizeof *v * (size_t)n);
     return lc_polyset_commit(s, alloc, n, src);
 }

@@ -26,10 +26,10 @@ typedef struct lc_polyset {
 
 static inline void lc_polyset_clear(lc_polyset *s) { s->nv = 0; s->np = 0; }
 
-/* Room for `extra` more vertices; 0 or -1 (out of memory). */
+/* Room for `extra` more vertices; LC_OK or LC_ERR_NO_MEMORY. */
 int lc_polyset_reserve(lc_polyset *s, const lc_alloc *alloc, int extra);
 
-/* Append a polygon of n vertices (copied); 0 or -1. */
+/* Append a polygon of n vertices (copied); LC_OK or LC_ERR_NO_MEMORY. */
 int lc_polyset_push(lc_polyset *s, const lc_alloc *alloc, const lc_vec2 *v, int n, int src);
 
 /* Start a polygon whose vertices the caller writes at s->v + s->nv after

@@ -198,8 +198,8 @@ static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_h
         LC_GROW(alloc, ws->own_b, ws->cap_ob, max_v) < 0 ||
         LC_GROW(alloc, ws->scratch, ws->cap_scratch, LC_ELLIPSE_SCRATCH(max_hs)) < 0 ||
         LC_GROW(alloc, ws->lambda, ws->cap_lambda, max_hs) < 0)
-        return -1;
-    return 0;
+        return LC_ERR_NO_MEMORY;
+    return LC_OK;
 }
 
 /* Insertion sort of order[0..n) by dist[]: linear on the nearly sorted
@@ -250,11 +250,11 @@ static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc 
         oa[m++] = oa[i];
     }
     if (m < 3)
-        return LC_REGION_DEGENERATE;
+        return LC_ERR_DEGENERATE;
     int cv = r->cap_v, ch = r->cap_h, cs = r->cap_src;
     if (LC_GROW(alloc, r->v, cv, m) < 0 || LC_GROW(alloc, r->h, ch, m) < 0 ||
         LC_GROW(alloc, r->h_src, cs, m) < 0)
-        return LC_REGION_NO_MEMORY;
+        return LC_ERR_NO_MEMORY;
     r->cap_v = cv;
     r->cap_h = ch;
     r->cap_src = cs;
@@ -272,7 +272,7 @@ static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc 
     }
     memcpy(r->v, va, sizeof *va * (size_t)m);
     r->nv = m;
-    return LC_REGION_OK;
+    return LC_OK;
 }
 
 static lc_ellipse seed_ellipse(const lc_vec2 *seeds, int ns, double eps)
@@ -291,7 +291,7 @@ static void copy_region(lc_region *dst, const lc_region *src, const lc_alloc *al
     int cv = dst->cap_v, ch = dst->cap_h, cs = dst->cap_src;
     if (LC_GROW(alloc, dst->v, cv, src->nv) < 0 || LC_GROW(alloc, dst->h, ch, src->nh) < 0 ||
         LC_GROW(alloc, dst->h_src, cs, src->nh) < 0) {
-        *rc = LC_REGION_NO_MEMORY;
+        *rc = LC_ERR_NO_MEMORY;
         return;
     }
     dst->cap_v = cv;
@@ -444,12 +444,12 @@ static int exact_distance(const lc_region_input *in, lc_region_ws *ws, lc_sym2 i
     int n;
     const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
     if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     for (int i = 0; i < n; i++)
         ws->tv[i] = lc_sym2_apply(inv, lc_sub(v[i], e->d));
     ws->xstar[j] = lc_polygon_nearest_origin(ws->tv, n);
     ws->dist[j] = lc_len(ws->xstar[j]);
-    return 0;
+    return LC_OK;
 }
 
 /*
@@ -492,8 +492,8 @@ static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, lc_sym2 
  * circle over the smallest semi-axis), exact ones wait in a heap until no
  * lower bound below them is left, so the order is exactly the sorted one
  * while an obstacle already cut off costs only its circle test.
- * Returns nh (the lines into ws->hs[nbase..nh)), -1 when out of memory,
- * -2 when no line keeps the seeds inside.
+ * Returns nh (the lines into ws->hs[nbase..nh)), LC_ERR_NO_MEMORY, or
+ * LC_ERR_DEGENERATE when no line keeps the seeds inside.
  */
 static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, const lc_ellipse *e,
                        bool warm, const lc_vec2 *seeds, int ns, lc_region_info *info,
@@ -515,7 +515,7 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
             if (excluded(ws->hs, nbase, nh, v, n, ws->circle + 3 * j))
                 continue;
             if (exact_distance(in, ws, inv, e, j, alloc) < 0)
-                return -1;
+                return LC_ERR_NO_MEMORY;
             heap_push(ws, &nheap, j);
             continue;
         }
@@ -524,7 +524,7 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
             continue;
         lc_halfspace h;
         if (!obstacle_line(e, inv, v, n, ws->xstar[j], seeds, ns, &h, &info->fallback_lines))
-            return -2;
+            return LC_ERR_DEGENERATE;
         ws->hs[nh] = h;
         ws->hs_src[nh++] = j;
     }
@@ -554,12 +554,12 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     out->rounds = 0;
     out->has_goal_seed = false;
     if (!lc_vec2_finite(in->centre) || !(in->window > 0) || !isfinite(in->window))
-        return LC_REGION_BAD_INPUT;
+        return LC_ERR_BAD_INPUT;
     int n_obs = in->grown->np;
     int max_hs = 4 + in->n_blind + n_obs;
     int max_v = max_hs + 4; /* each clip adds at most one vertex */
     if (grow_ws(ws, alloc, n_obs, max_hs, max_v) < 0)
-        return LC_REGION_NO_MEMORY;
+        return LC_ERR_NO_MEMORY;
 
     lc_vec2 c = in->centre;
     double w = in->window;
@@ -586,22 +586,22 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
 
     /* Round 1 builds a region from the seed; later rounds keep the best. */
     lc_region *cand = &ws->cand;
-    int rc = LC_REGION_OK;
+    int rc = LC_OK;
     double best_area = -1;
     for (int round = 1; round <= cfg->max_rounds && round <= LC_REGION_MAX_ROUNDS; round++) {
         int nh = place_lines(in, ws, nbase, &e, round > 1, seeds, ns, info, alloc);
         if (nh < 0) {
-            rc = nh == -1 ? LC_REGION_NO_MEMORY : LC_REGION_DEGENERATE;
+            rc = nh;
             break;
         }
         int st = build_polygon(ws, nh, round == 1 ? out : cand, alloc);
-        if (st != LC_REGION_OK) {
+        if (st != LC_OK) {
             rc = st;
             break;
         }
         lc_region *r = round == 1 ? out : cand;
         if (solve_ellipse(r, round == 1 ? NULL : &e, eopts, ws, info, clock) < 0) {
-            rc = round == 1 ? LC_REGION_DEGENERATE : LC_REGION_OK;
+            rc = round == 1 ? LC_ERR_DEGENERATE : LC_OK;
             break;
         }
         double area = lc_ellipse_area(&r->ellipse);
@@ -615,11 +615,11 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
         bool converged = round > 1 && area <= best_area * (1.0 + cfg->area_tol);
         best_area = area;
         e = out->ellipse;
-        if (converged || rc != LC_REGION_OK)
+        if (converged || rc != LC_OK)
             break;
     }
     info->area[0] = lc_ellipse_area(&(lc_ellipse){eps, 0, eps, c});
-    if (rc == LC_REGION_OK && info->too_close)
+    if (rc == LC_OK && info->too_close)
         rc = LC_REGION_TOO_CLOSE;
     return rc;
 }

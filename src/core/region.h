@@ -62,13 +62,10 @@ typedef struct lc_region_input {
     lc_halfspace blind[2];
 } lc_region_input;
 
-typedef enum lc_region_status {
-    LC_REGION_OK = 0,
+/* lc_region_inflate's one positive outcome (its errors are lc_status). */
+enum {
     LC_REGION_TOO_CLOSE = 1, /* centre inside a grown obstacle: those were left out */
-    LC_REGION_NO_MEMORY = -1,
-    LC_REGION_BAD_INPUT = -2,
-    LC_REGION_DEGENERATE = -3, /* no region of positive area holds the centre */
-} lc_region_status;
+};
 
 typedef struct lc_region_info {
     int rounds;
@@ -104,7 +101,9 @@ void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc);
 
 /*
  * Iterative region inflation. Fills out (buffers grown through alloc) and
- * info (may be NULL). clock may be NULL. Returns an lc_region_status.
+ * info (may be NULL). clock may be NULL. Returns LC_OK, LC_REGION_TOO_CLOSE,
+ * or LC_ERR_NO_MEMORY, LC_ERR_BAD_INPUT (a non-finite centre, a window not
+ * above 0), LC_ERR_DEGENERATE (no region of positive area holds the centre).
  */
 int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
                       const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,

@@ -34,7 +34,7 @@ static int push_piece(lc_segment_ws *ws, const lc_alloc *alloc, int start, int c
     int c2 = ws->cap_pieces;
     if (LC_GROW(alloc, ws->piece_start, ws->cap_pieces, ws->n_pieces + 1) < 0 ||
         LC_GROW(alloc, ws->piece_count, c2, ws->n_pieces + 1) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     ws->piece_start[ws->n_pieces] = start;
     ws->piece_count[ws->n_pieces] = count;
     ws->n_pieces++;
@@ -61,7 +61,7 @@ static int farthest_from_chord(const lc_vec2 *p, const int *order, int s, int e,
 static int stack_push(lc_segment_ws *ws, const lc_alloc *alloc, int *top, int s, int e)
 {
     if (LC_GROW(alloc, ws->stack, ws->cap_stack, *top + 2) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     ws->stack[(*top)++] = s;
     ws->stack[(*top)++] = e;
     return 0;
@@ -73,7 +73,7 @@ static int split_ordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment_c
 {
     int top = 0;
     if (stack_push(ws, alloc, &top, s0, e0) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     while (top > 0) {
         int e = ws->stack[--top], s = ws->stack[--top];
         double d = 0;
@@ -82,12 +82,12 @@ static int split_ordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment_c
             k = s + (e - s) / 2;
         else if (!(d > cfg->split_width)) {
             if (push_piece(ws, alloc, s, e - s + 1) < 0)
-                return -1;
+                return LC_ERR_NO_MEMORY;
             continue;
         }
         /* Right half first on the stack so pieces come out in beam order. */
         if (stack_push(ws, alloc, &top, k, e) < 0 || stack_push(ws, alloc, &top, s, k) < 0)
-            return -1;
+            return LC_ERR_NO_MEMORY;
     }
     return 0;
 }
@@ -129,7 +129,7 @@ static int ordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_
         }
         if (brk) {
             if (split_ordered(c->world, ws, cfg, alloc, start, i - 1) < 0)
-                return -1;
+                return LC_ERR_NO_MEMORY;
             start = i;
         }
     }
@@ -188,7 +188,7 @@ static int split_unordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment
 {
     int top = 0;
     if (stack_push(ws, alloc, &top, s0, e0) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     while (top > 0) {
         int e = ws->stack[--top], s = ws->stack[--top];
         if (e - s >= 1)
@@ -198,7 +198,7 @@ static int split_unordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment
         bool too_long = e - s + 1 > cfg->max_piece;
         if (!(d > cfg->split_width) && !too_long) {
             if (push_piece(ws, alloc, s, e - s + 1) < 0)
-                return -1;
+                return LC_ERR_NO_MEMORY;
             continue;
         }
         lc_vec2 a = p[ws->order[s]], b = p[ws->order[e]], kp = p[ws->order[k]];
@@ -216,11 +216,11 @@ static int split_unordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment
         /* lo is the first index of the far side; both sides hold a chord end. */
         if (lo <= s || lo > e) {
             if (push_piece(ws, alloc, s, e - s + 1) < 0)
-                return -1;
+                return LC_ERR_NO_MEMORY;
             continue;
         }
         if (stack_push(ws, alloc, &top, lo, e) < 0 || stack_push(ws, alloc, &top, s, lo - 1) < 0)
-            return -1;
+            return LC_ERR_NO_MEMORY;
     }
     return 0;
 }
@@ -241,7 +241,7 @@ static int unordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, l
         cells *= 2;
     if (LC_GROW(alloc, ws->cell_head, ws->cap_cells, (int)cells) < 0 ||
         LC_GROW(alloc, ws->next, ws->cap_next, 2 * n) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     int *next = ws->next, *done = ws->next + n;
     double h = cfg->cluster_dist > 0 ? cfg->cluster_dist : 0.15;
     for (uint32_t i = 0; i < cells; i++)
@@ -273,7 +273,7 @@ static int unordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, l
                         }
         }
         if (split_unordered(c->world, ws, cfg, alloc, start, filled - 1) < 0)
-            return -1;
+            return LC_ERR_NO_MEMORY;
     }
     return 0;
 }
@@ -283,14 +283,14 @@ int lc_segment(const lc_cloud *cloud, const lc_segment_config *cfg, lc_segment_w
 {
     ws->n_pieces = 0;
     if (LC_GROW(alloc, ws->order, ws->cap_order, cloud->n > 0 ? cloud->n : 1) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     if (cloud->n == 0)
         return 0;
     for (int i = 0; i < cloud->n; i++)
         ws->order[i] = i;
     int rc = cloud->ordered ? ordered_clusters(cloud, cfg, ws, alloc)
                             : unordered_clusters(cloud, cfg, ws, alloc);
-    return rc < 0 ? -1 : ws->n_pieces;
+    return rc < 0 ? LC_ERR_NO_MEMORY : ws->n_pieces;
 }
 
 void lc_segment_ws_free(lc_segment_ws *ws, const lc_alloc *alloc)

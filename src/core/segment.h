@@ -44,7 +44,7 @@ typedef struct lc_segment_ws {
     int cap_stack;
 } lc_segment_ws;
 
-/* Returns the number of pieces, or -1 when out of memory. */
+/* Returns the number of pieces, or LC_ERR_NO_MEMORY. */
 int lc_segment(const lc_cloud *cloud, const lc_segment_config *cfg, lc_segment_ws *ws,
                const lc_alloc *alloc);
 

@@ -467,17 +467,17 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     int rc = plan_region(s, frame, has_wp, wp, out);
     stamp_stage(s, out, LC_STAGE_REGION, &t);
     out->stage_us[LC_STAGE_REGION] -= out->stage_us[LC_STAGE_ELLIPSE];
-    if (rc == LC_REGION_NO_MEMORY)
+    if (rc == LC_ERR_NO_MEMORY)
         return -1;
     out->clearance = nearest_clearance(s, c);
-    if (rc == LC_REGION_OK || rc == LC_REGION_TOO_CLOSE) {
+    if (rc == LC_OK || rc == LC_REGION_TOO_CLOSE) {
         out->region = &s->region;
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
         out->has_target = has_wp;
     }
     stamp_stage(s, out, LC_STAGE_TARGET, &t);
 
-    if (rc != LC_REGION_OK) {
+    if (rc != LC_OK) {
         /* Centre inside a grown obstacle, or no region holds it: no translation. */
         out->has_waypoint = has_wp;
         out->waypoint = wp;

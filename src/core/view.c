@@ -93,14 +93,12 @@ int lc_region_view_wedge(lc_vec2 centre, lc_vec2 sensor_offset, double fov, doub
 {
     if (!(fov < 2.0 * LC_PI - 1e-9))
         return 0;
-    if (!(fov > LC_PI) || !lc_vec2_finite(sensor_offset) || !(radius >= 0) ||
-        !sweep_sees(lc_unit_angle(view_mid), sensor_offset,
-                    (lc_vec2[2]){lc_unit_angle(view_mid + 0.5 * fov),
-                                 lc_unit_angle(view_mid - 0.5 * fov)},
-                    radius))
-        return -1;
+    if (!lc_vec2_finite(sensor_offset) || !(radius >= 0))
+        return LC_ERR_BAD_INPUT;
     /* the blind cone's edges run from the sensor at view_mid +- fov/2 */
     lc_vec2 e[2] = {lc_unit_angle(view_mid + 0.5 * fov), lc_unit_angle(view_mid - 0.5 * fov)};
+    if (!(fov > LC_PI) || !sweep_sees(lc_unit_angle(view_mid), sensor_offset, e, radius))
+        return LC_ERR_DEGENERATE;
     double left = wedge_reach(view_mid, 1.0, sensor_offset, e, radius);
     double right = wedge_reach(view_mid, -1.0, sensor_offset, e, radius);
     out[0] = hs_through(lc_unit_angle(view_mid + left + 0.5 * LC_PI), centre);

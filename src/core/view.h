@@ -15,6 +15,7 @@
 #include <stdbool.h>
 
 #include "geom.h"
+#include "status.h"
 
 /*
  * Lines bounding a scanner's blind sector, through the centre: the view
@@ -37,9 +38,10 @@ int lc_region_blind_lines(lc_vec2 centre, double fov, double view_mid, bool has_
  * fov/2 - pi/2 with the sensor at the centre; narrower or wider with a
  * mount offset), returned as two lines through c (the region then stays in
  * the wedge and every straight braking path from c does too). Returns 2;
- * 0 when fov >= 2 pi; -1 when no direction qualifies (the sensor outside the
- * footprint, or fov <= pi, where a half plane always reaches unseen space:
- * callers fall back to lc_region_blind_lines).
+ * 0 when fov >= 2 pi; LC_ERR_DEGENERATE when no direction qualifies (the
+ * sensor outside the footprint, or fov <= pi, where a half plane always
+ * reaches unseen space), LC_ERR_BAD_INPUT for a non-finite sensor_offset or
+ * a radius not >= 0: on either, callers fall back to lc_region_blind_lines.
  */
 int lc_region_view_wedge(lc_vec2 centre, lc_vec2 sensor_offset, double fov, double view_mid,
                          double radius, lc_halfspace out[2]);

@@ -148,7 +148,7 @@ static void test_random_scenes(void **state)
                                                in.waypoint, in.blind);
         lc_region_info info;
         int st = lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL, NULL);
-        assert_int_equal(st, LC_REGION_OK);
+        assert_int_equal(st, LC_OK);
         check_region(&s, &in, &rg, &info);
         done++;
         fallback += info.fallback_lines;
@@ -174,7 +174,7 @@ static void test_empty_frame_is_window(void **state)
     lc_region_ws ws = {0};
     lc_region rg = {0};
     lc_region_input in = {.grown = &none, .centre = {5, -2}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL), LC_REGION_OK);
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL), LC_OK);
     assert_int_equal(rg.nv, 4);
     assert_near(lc_polygon_area2(rg.v, rg.nv) / 2, 64.0, 1e-9);
     /* The inscribed ellipse of a square is its incircle (REFERENCES.md). */
@@ -288,11 +288,11 @@ static void test_bad_input(void **state)
     lc_region rg = {0};
     lc_region_input in = {.grown = &none, .centre = {NAN, 0}, .window = 4.0};
     assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL),
-                     LC_REGION_BAD_INPUT);
+                     LC_ERR_BAD_INPUT);
     in.centre = lc_v2(0, 0);
     in.window = 0;
     assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL),
-                     LC_REGION_BAD_INPUT);
+                     LC_ERR_BAD_INPUT);
     lc_region_free(&rg, NULL);
     lc_region_ws_free(&ws, NULL);
 }

@@ -100,7 +100,7 @@ static void test_view_wedge(void **state)
         lc_vec2 o = lc_scale(lc_unit_angle(lc_rng_uniform(&rng, -LC_PI, LC_PI)),
                              lc_rng_uniform(&rng, 0, 0.8 * r));
         int n = lc_region_view_wedge(c, o, fov, mid, r, b);
-        assert_true(n == 2 || n == -1);
+        assert_true(n == 2 || n == LC_ERR_DEGENERATE);
         if (n < 0)
             continue;
         for (int k = 0; k < 72; k++) {
@@ -120,9 +120,12 @@ static void test_view_wedge(void **state)
     /* A full view needs no wedge; a narrow view, or a sensor ahead of the
      * footprint, leaves no qualifying direction (callers fall back). */
     assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 2 * LC_PI, 0, 0.3, b), 0);
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 0.9 * LC_PI, 0, 0.3, b), -1);
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(0.5, 0), 1.5 * LC_PI, 0, 0.3, b), -1);
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(NAN, 0), 1.5 * LC_PI, 0, 0.3, b), -1);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 0.9 * LC_PI, 0, 0.3, b),
+                     LC_ERR_DEGENERATE);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(0.5, 0), 1.5 * LC_PI, 0, 0.3, b),
+                     LC_ERR_DEGENERATE);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(NAN, 0), 1.5 * LC_PI, 0, 0.3, b),
+                     LC_ERR_BAD_INPUT);
 }
 
 /* No view, a full view, and bad numbers: no lines, or the fallback. */
@@ -142,10 +145,13 @@ static void test_view_degenerate(void **state)
     assert_near(b[0].a.x, -1.0, 1e-12);
     assert_near(b[1].a.x, -1.0, 1e-12);
     assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), NAN, 0, 0.3, b), 0);
-    assert_true(lc_region_view_wedge(c, lc_v2(0, 0), 1.5 * LC_PI, 0, -0.1, b) < 0);
-    assert_true(lc_region_view_wedge(c, lc_v2(0, 0), 1.5 * LC_PI, 0, NAN, b) < 0);
-    assert_true(lc_region_view_wedge(c, lc_v2(0, INFINITY), 1.5 * LC_PI, 0, 0.3, b) < 0);
-    assert_true(lc_region_view_wedge(c, lc_v2(0, 0), LC_PI, 0, 0.3, b) < 0);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 1.5 * LC_PI, 0, -0.1, b),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 1.5 * LC_PI, 0, NAN, b),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, INFINITY), 1.5 * LC_PI, 0, 0.3, b),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), LC_PI, 0, 0.3, b), LC_ERR_DEGENERATE);
     /* a sensor on the footprint's edge, looking out: still a wedge */
     assert_int_equal(lc_region_view_wedge(c, lc_v2(-0.3, 0), 1.5 * LC_PI, 0, 0.3, b), 2);
 }
