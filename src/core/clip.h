@@ -61,7 +61,8 @@ enum { LC_CLIP_BOX_EDGES = 4 };
  * edge k+1; edge[k] is the row of h the edge lies on (stored as a double:
  * the arrays are the caller's scratch of doubles). sd, te, tx and ty are
  * work arrays. Every array holds h.n + LC_CLIP_BOX_EDGES entries; h's rows
- * need room for h.n + LC_CLIP_BOX_EDGES too.
+ * need room for h.n + LC_CLIP_BOX_EDGES too. No two arrays overlap, the
+ * rows' included.
  */
 typedef struct lc_clip {
     lc_hrows h;
