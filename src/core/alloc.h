@@ -5,6 +5,12 @@
  * lc_alloc, so that a test can count allocations and show that a warm
  * workspace allocates nothing per frame. Buffers grow to a high-water mark
  * and are reused; nothing shrinks until the owner releases it.
+ *
+ * A struct that owns buffers keeps its allocator (`const lc_alloc *alloc`):
+ * its ..._init(x, alloc) empties it and sets the allocator (NULL: the
+ * default), a zeroed struct is the same with the default, and ..._free(x)
+ * releases its buffers through that allocator, which must outlive it; the
+ * struct stays usable, empty.
  */
 #ifndef LC_ALLOC_H
 #define LC_ALLOC_H

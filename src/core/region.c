@@ -180,8 +180,9 @@ static bool obstacle_line(const lc_ellipse *e, lc_sym2 inv, const lc_vec2 *v, in
     return separate(v, n, keep, nk, out);
 }
 
-static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_hs, int max_v)
+static int grow_ws(lc_region_ws *ws, int n_obs, int max_hs, int max_v)
 {
+    const lc_alloc *alloc = ws->alloc;
     if (LC_GROW(alloc, ws->order, ws->cap_order, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->dist, ws->cap_dist, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->flags, ws->cap_flags, n_obs + 1) < 0 ||
@@ -228,7 +229,7 @@ static void sort_by_dist(int *order, const double *dist, int n)
 }
 
 /* The window clipped by hs[0..nh): vertices into r (non-redundant lines kept). */
-static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc *alloc)
+static int build_polygon(lc_region_ws *ws, int nh, lc_region *r)
 {
     /* hs[0..4) are the window box, E N W S, so its corners are known. */
     double xe = ws->hs[0].b, yn = ws->hs[1].b, xw = -ws->hs[2].b, ys = -ws->hs[3].b;
@@ -252,8 +253,8 @@ static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc 
     if (m < 3)
         return LC_ERR_DEGENERATE;
     int cv = r->cap_v, ch = r->cap_h, cs = r->cap_src;
-    if (LC_GROW(alloc, r->v, cv, m) < 0 || LC_GROW(alloc, r->h, ch, m) < 0 ||
-        LC_GROW(alloc, r->h_src, cs, m) < 0)
+    if (LC_GROW(r->alloc, r->v, cv, m) < 0 || LC_GROW(r->alloc, r->h, ch, m) < 0 ||
+        LC_GROW(r->alloc, r->h_src, cs, m) < 0)
         return LC_ERR_NO_MEMORY;
     r->cap_v = cv;
     r->cap_h = ch;
@@ -286,11 +287,12 @@ static lc_ellipse seed_ellipse(const lc_vec2 *seeds, int ns, double eps)
                         lc_lerp(seeds[0], seeds[1], 0.5)};
 }
 
-static void copy_region(lc_region *dst, const lc_region *src, const lc_alloc *alloc, int *rc)
+static void copy_region(lc_region *dst, const lc_region *src, int *rc)
 {
     int cv = dst->cap_v, ch = dst->cap_h, cs = dst->cap_src;
-    if (LC_GROW(alloc, dst->v, cv, src->nv) < 0 || LC_GROW(alloc, dst->h, ch, src->nh) < 0 ||
-        LC_GROW(alloc, dst->h_src, cs, src->nh) < 0) {
+    const lc_alloc *a = dst->alloc;
+    if (LC_GROW(a, dst->v, cv, src->nv) < 0 || LC_GROW(a, dst->h, ch, src->nh) < 0 ||
+        LC_GROW(a, dst->h_src, cs, src->nh) < 0) {
         *rc = LC_ERR_NO_MEMORY;
         return;
     }
@@ -439,11 +441,11 @@ static int heap_pop(lc_region_ws *ws, int *n)
 
 /* Nearest point of grown obstacle j to the ellipse centre, ellipse frame. */
 static int exact_distance(const lc_region_input *in, lc_region_ws *ws, lc_sym2 inv,
-                          const lc_ellipse *e, int j, const lc_alloc *alloc)
+                          const lc_ellipse *e, int j)
 {
     int n;
     const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-    if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
+    if (LC_GROW(ws->alloc, ws->tv, ws->cap_tv, n) < 0)
         return LC_ERR_NO_MEMORY;
     for (int i = 0; i < n; i++)
         ws->tv[i] = lc_sym2_apply(inv, lc_sub(v[i], e->d));
@@ -496,8 +498,7 @@ static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, lc_sym2 
  * LC_ERR_DEGENERATE when no line keeps the seeds inside.
  */
 static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, const lc_ellipse *e,
-                       bool warm, const lc_vec2 *seeds, int ns, lc_region_info *info,
-                       const lc_alloc *alloc)
+                       bool warm, const lc_vec2 *seeds, int ns, lc_region_info *info)
 {
     lc_sym2 inv = lc_sym2_inverse(lc_ellipse_shape(e));
     int na = order_obstacles(in, ws, inv, e, warm);
@@ -514,7 +515,7 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
             /* Lines only accumulate: an obstacle cut off now stays cut off. */
             if (excluded(ws->hs, nbase, nh, v, n, ws->circle + 3 * j))
                 continue;
-            if (exact_distance(in, ws, inv, e, j, alloc) < 0)
+            if (exact_distance(in, ws, inv, e, j) < 0)
                 return LC_ERR_NO_MEMORY;
             heap_push(ws, &nheap, j);
             continue;
@@ -544,7 +545,7 @@ static int solve_ellipse(lc_region *r, const lc_ellipse *warm, const lc_ellipse_
 
 int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
                       const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,
-                      lc_region_info *info, const lc_clock *clock, const lc_alloc *alloc)
+                      lc_region_info *info, const lc_clock *clock)
 {
     lc_region_info local;
     if (!info)
@@ -558,7 +559,7 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     int n_obs = in->grown->np;
     int max_hs = 4 + in->n_blind + n_obs;
     int max_v = max_hs + 4; /* each clip adds at most one vertex */
-    if (grow_ws(ws, alloc, n_obs, max_hs, max_v) < 0)
+    if (grow_ws(ws, n_obs, max_hs, max_v) < 0)
         return LC_ERR_NO_MEMORY;
 
     lc_vec2 c = in->centre;
@@ -589,12 +590,12 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     int rc = LC_OK;
     double best_area = -1;
     for (int round = 1; round <= cfg->max_rounds && round <= LC_REGION_MAX_ROUNDS; round++) {
-        int nh = place_lines(in, ws, nbase, &e, round > 1, seeds, ns, info, alloc);
+        int nh = place_lines(in, ws, nbase, &e, round > 1, seeds, ns, info);
         if (nh < 0) {
             rc = nh;
             break;
         }
-        int st = build_polygon(ws, nh, round == 1 ? out : cand, alloc);
+        int st = build_polygon(ws, nh, round == 1 ? out : cand);
         if (st != LC_OK) {
             rc = st;
             break;
@@ -610,7 +611,7 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
         if (round > 1 && area < best_area)
             break; /* a moved line cost area: keep the previous round */
         if (round > 1)
-            copy_region(out, cand, alloc, &rc);
+            copy_region(out, cand, &rc);
         out->rounds = round;
         bool converged = round > 1 && area <= best_area * (1.0 + cfg->area_tol);
         best_area = area;
@@ -624,32 +625,45 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     return rc;
 }
 
-void lc_region_free(lc_region *r, const lc_alloc *alloc)
+void lc_region_init(lc_region *r, const lc_alloc *alloc)
 {
-    LC_RELEASE(alloc, r->h, r->cap_h);
-    LC_RELEASE(alloc, r->h_src, r->cap_src);
-    LC_RELEASE(alloc, r->v, r->cap_v);
+    memset(r, 0, sizeof *r);
+    r->alloc = alloc;
+}
+
+void lc_region_ws_init(lc_region_ws *ws, const lc_alloc *alloc)
+{
+    memset(ws, 0, sizeof *ws);
+    ws->alloc = alloc;
+    lc_region_init(&ws->cand, alloc);
+}
+
+void lc_region_free(lc_region *r)
+{
+    LC_RELEASE(r->alloc, r->h, r->cap_h);
+    LC_RELEASE(r->alloc, r->h_src, r->cap_src);
+    LC_RELEASE(r->alloc, r->v, r->cap_v);
     r->nh = r->nv = 0;
 }
 
-void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc)
+void lc_region_ws_free(lc_region_ws *ws)
 {
-    LC_RELEASE(alloc, ws->order, ws->cap_order);
-    LC_RELEASE(alloc, ws->dist, ws->cap_dist);
-    LC_RELEASE(alloc, ws->flags, ws->cap_flags);
-    LC_RELEASE(alloc, ws->box, ws->cap_box);
-    LC_RELEASE(alloc, ws->xstar, ws->cap_xstar);
-    LC_RELEASE(alloc, ws->circle, ws->cap_circle);
-    LC_RELEASE(alloc, ws->lower, ws->cap_lower);
-    LC_RELEASE(alloc, ws->heap, ws->cap_heap);
-    LC_RELEASE(alloc, ws->hs, ws->cap_hs);
-    LC_RELEASE(alloc, ws->hs_src, ws->cap_hs_src);
-    LC_RELEASE(alloc, ws->tv, ws->cap_tv);
-    lc_region_free(&ws->cand, alloc);
-    LC_RELEASE(alloc, ws->clip_a, ws->cap_ca);
-    LC_RELEASE(alloc, ws->clip_b, ws->cap_cb);
-    LC_RELEASE(alloc, ws->own_a, ws->cap_oa);
-    LC_RELEASE(alloc, ws->own_b, ws->cap_ob);
-    LC_RELEASE(alloc, ws->scratch, ws->cap_scratch);
-    LC_RELEASE(alloc, ws->lambda, ws->cap_lambda);
+    LC_RELEASE(ws->alloc, ws->order, ws->cap_order);
+    LC_RELEASE(ws->alloc, ws->dist, ws->cap_dist);
+    LC_RELEASE(ws->alloc, ws->flags, ws->cap_flags);
+    LC_RELEASE(ws->alloc, ws->box, ws->cap_box);
+    LC_RELEASE(ws->alloc, ws->xstar, ws->cap_xstar);
+    LC_RELEASE(ws->alloc, ws->circle, ws->cap_circle);
+    LC_RELEASE(ws->alloc, ws->lower, ws->cap_lower);
+    LC_RELEASE(ws->alloc, ws->heap, ws->cap_heap);
+    LC_RELEASE(ws->alloc, ws->hs, ws->cap_hs);
+    LC_RELEASE(ws->alloc, ws->hs_src, ws->cap_hs_src);
+    LC_RELEASE(ws->alloc, ws->tv, ws->cap_tv);
+    lc_region_free(&ws->cand);
+    LC_RELEASE(ws->alloc, ws->clip_a, ws->cap_ca);
+    LC_RELEASE(ws->alloc, ws->clip_b, ws->cap_cb);
+    LC_RELEASE(ws->alloc, ws->own_a, ws->cap_oa);
+    LC_RELEASE(ws->alloc, ws->own_b, ws->cap_ob);
+    LC_RELEASE(ws->alloc, ws->scratch, ws->cap_scratch);
+    LC_RELEASE(ws->alloc, ws->lambda, ws->cap_lambda);
 }

@@ -31,7 +31,12 @@ typedef struct lc_region {
     int rounds;
     bool has_goal_seed;
     lc_vec2 goal_seed;
+    const lc_alloc *alloc; /* the buffers grow through it (alloc.h) */
 } lc_region;
+
+/* Init and free as alloc.h says. */
+void lc_region_init(lc_region *r, const lc_alloc *alloc);
+void lc_region_free(lc_region *r);
 
 #define LC_REGION_SRC_WINDOW (-1)
 #define LC_REGION_SRC_BLIND (-2)
@@ -76,7 +81,7 @@ typedef struct lc_region_info {
     double ellipse_us;     /* solver time, when a clock is given */
 } lc_region_info;
 
-/* Scratch reused across frames; zero it before first use. */
+/* Scratch reused across frames. */
 typedef struct lc_region_ws {
     int *order;  int cap_order; /* obstacles in order of distance */
     int n_order;                 /* how many are in order (this frame's) */
@@ -94,20 +99,23 @@ typedef struct lc_region_ws {
     int *own_a, *own_b; int cap_oa, cap_ob;
     double *scratch; int cap_scratch;
     double *lambda; int cap_lambda;
-    struct lc_region cand;       /* the round being built */
+    struct lc_region cand;       /* the round being built (the same allocator) */
+    const lc_alloc *alloc;       /* the buffers grow through it (alloc.h) */
 } lc_region_ws;
 
-void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc);
+/* Init and free as alloc.h says; init gives cand the same allocator. */
+void lc_region_ws_init(lc_region_ws *ws, const lc_alloc *alloc);
+void lc_region_ws_free(lc_region_ws *ws);
 
 /*
- * Iterative region inflation. Fills out (buffers grown through alloc) and
- * info (may be NULL). clock may be NULL. Returns LC_OK, LC_REGION_TOO_CLOSE,
+ * Iterative region inflation. Fills out (its buffers grown through its
+ * allocator, ws's through ws's) and info (may be NULL). clock may be NULL. Returns LC_OK, LC_REGION_TOO_CLOSE,
  * or LC_ERR_NO_MEMORY, LC_ERR_BAD_INPUT (a non-finite centre, a window not
  * above 0), LC_ERR_DEGENERATE (no region of positive area holds the centre).
  */
 int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
                       const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,
-                      lc_region_info *info, const lc_clock *clock, const lc_alloc *alloc);
+                      lc_region_info *info, const lc_clock *clock);
 
 /* True when p satisfies every halfspace within eps metres. */
 bool lc_region_contains(const lc_region *r, lc_vec2 p, double eps);
@@ -123,7 +131,5 @@ double lc_region_ray_exit(const lc_region *r, lc_vec2 p, lc_vec2 dir);
 
 /* The closest point of the region to p (p itself when inside). */
 lc_vec2 lc_region_project(const lc_region *r, lc_vec2 p);
-
-void lc_region_free(lc_region *r, const lc_alloc *alloc);
 
 #endif

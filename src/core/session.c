@@ -67,6 +67,12 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
         return NULL;
     memset(s, 0, sizeof *s);
     s->alloc = *alloc;
+    lc_cloud_init(&s->cloud, &s->alloc);
+    lc_segment_ws_init(&s->seg, &s->alloc);
+    lc_polyset_init(&s->obstacles, &s->alloc);
+    lc_polyset_init(&s->grown, &s->alloc);
+    lc_region_init(&s->region, &s->alloc);
+    lc_region_ws_init(&s->rws, &s->alloc);
     if (robot)
         s->robot = *robot;
     else
@@ -98,14 +104,14 @@ void lc_session_free(lc_session *s)
         return;
     const lc_alloc *a = &s->alloc;
     lc_hull_free(s->hull);
-    lc_cloud_free(&s->cloud, a);
-    lc_segment_ws_free(&s->seg, a);
-    lc_polyset_free(&s->obstacles, a);
-    lc_polyset_free(&s->grown, a);
+    lc_cloud_free(&s->cloud);
+    lc_segment_ws_free(&s->seg);
+    lc_polyset_free(&s->obstacles);
+    lc_polyset_free(&s->grown);
     LC_RELEASE(a, s->gather, s->cap_gather);
     LC_RELEASE(a, s->motion_h, s->cap_motion_h);
-    lc_region_free(&s->region, a);
-    lc_region_ws_free(&s->rws, a);
+    lc_region_free(&s->region);
+    lc_region_ws_free(&s->rws);
     lc_alloc keep = s->alloc;
     keep.realloc(keep.data, s, 0);
 }
@@ -148,7 +154,7 @@ static int hull_pieces(lc_session *s)
     for (int k = 0; k < s->seg.n_pieces; k++) {
         int start = s->seg.piece_start[k], n = s->seg.piece_count[k];
         if (LC_GROW(&s->alloc, s->gather, s->cap_gather, n) < 0 ||
-            lc_polyset_reserve(&s->obstacles, &s->alloc, n) < 0)
+            lc_polyset_reserve(&s->obstacles, n) < 0)
             return -1;
         for (int i = 0; i < n; i++)
             s->gather[i] = s->cloud.world[s->seg.order[start + i]];
@@ -157,7 +163,7 @@ static int hull_pieces(lc_session *s)
             return -1;
         if (m <= 0)
             continue; /* finite input by construction: no other failure is expected */
-        if (lc_polyset_commit(&s->obstacles, &s->alloc, m, k) < 0)
+        if (lc_polyset_commit(&s->obstacles, m, k) < 0)
             return -1;
     }
     return 0;
@@ -171,10 +177,10 @@ static int grow_obstacles(lc_session *s)
         int n;
         const lc_vec2 *v = lc_polyset_at(&s->obstacles, j, &n);
         int cap = n + s->grow_rule.extra; /* lc_grow_max_vertices */
-        if (lc_polyset_reserve(&s->grown, &s->alloc, cap) < 0)
+        if (lc_polyset_reserve(&s->grown, cap) < 0)
             return -1;
         int m = lc_grow_polygon_rule(v, n, r, &s->grow_rule, s->grown.v + s->grown.nv, cap);
-        if (m > 0 && lc_polyset_commit(&s->grown, &s->alloc, m, j) < 0)
+        if (m > 0 && lc_polyset_commit(&s->grown, m, j) < 0)
             return -1;
     }
     return 0;
@@ -224,7 +230,7 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
     }
     lc_region_info info;
     int rc = lc_region_inflate(&in, &s->cfg.region, &s->cfg.ellipse, &s->rws, &s->region, &info,
-                               &s->clock, &s->alloc);
+                               &s->clock);
     out->stage_us[LC_STAGE_ELLIPSE] = info.ellipse_us;
     out->ellipse_iterations = info.ellipse_iterations;
     return rc;
@@ -449,10 +455,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         icfg.self_radius = s->robot.radius;
     icfg.z_min = fmax(icfg.z_min, s->robot.z_min); /* the narrower band wins */
     icfg.z_max = fmin(icfg.z_max, s->robot.z_max);
-    if (lc_ingest(frame, &icfg, &s->cloud, &s->alloc) < 0)
+    if (lc_ingest(frame, &icfg, &s->cloud) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_INGEST, &t);
-    if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg, &s->alloc) < 0)
+    if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_SEGMENT, &t);
     if (hull_pieces(s) < 0)

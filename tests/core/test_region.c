@@ -25,8 +25,8 @@ typedef struct scene {
 
 static void scene_free(scene *s)
 {
-    lc_polyset_free(&s->raw, NULL);
-    lc_polyset_free(&s->grown, NULL);
+    lc_polyset_free(&s->raw);
+    lc_polyset_free(&s->grown);
 }
 
 static void scene_add(scene *s, lc_hull_ctx *hc, const lc_vec2 *pts, int n)
@@ -34,10 +34,10 @@ static void scene_add(scene *s, lc_hull_ctx *hc, const lc_vec2 *pts, int n)
     lc_vec2 hull[256], g[512];
     int m = lc_hull_compute(hc, pts, n, hull);
     assert_true(m > 0);
-    lc_polyset_push(&s->raw, NULL, hull, m, s->raw.np);
+    lc_polyset_push(&s->raw, hull, m, s->raw.np);
     int k = lc_grow_polygon(hull, m, s->r, LC_GROW_DEFAULT_STEP, g, 512);
     assert_true(k >= 3);
-    lc_polyset_push(&s->grown, NULL, g, k, s->grown.np);
+    lc_polyset_push(&s->grown, g, k, s->grown.np);
 }
 
 /* Random clutter: small blobs, thin walls and single points around the origin. */
@@ -147,7 +147,7 @@ static void test_random_scenes(void **state)
                                                lc_rng_uniform(&rng, -3, 3), in.has_waypoint,
                                                in.waypoint, in.blind);
         lc_region_info info;
-        int st = lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL, NULL);
+        int st = lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL);
         assert_int_equal(st, LC_OK);
         check_region(&s, &in, &rg, &info);
         done++;
@@ -158,8 +158,8 @@ static void test_random_scenes(void **state)
     assert_true(done > 300);
     print_message("region: %d random scenes, %.2f rounds each, %d moved lines\n", done,
                   (double)rounds / done, fallback);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
     lc_hull_free(hc);
 }
 
@@ -174,13 +174,13 @@ static void test_empty_frame_is_window(void **state)
     lc_region_ws ws = {0};
     lc_region rg = {0};
     lc_region_input in = {.grown = &none, .centre = {5, -2}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL), LC_OK);
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
     assert_int_equal(rg.nv, 4);
     assert_near(lc_polygon_area2(rg.v, rg.nv) / 2, 64.0, 1e-9);
     /* The inscribed ellipse of a square is its incircle (REFERENCES.md). */
     assert_near(lc_ellipse_area(&rg.ellipse), LC_PI * 16.0, 1e-5);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
 }
 
 /*
@@ -203,6 +203,56 @@ static void test_ray_exit_along_edge(void **state)
     }
 }
 
+/*
+ * Every buffer grows through its own struct's allocator and goes back to
+ * it on free (no second argument): a counting allocator given to the
+ * region, its workspace and the grown obstacles sees them all grow, sees
+ * no call once warm, and holds nothing after the frees.
+ */
+static void test_buffers_keep_their_allocator(void **state)
+{
+    lc_counting_alloc ca;
+    lc_counting_alloc_init(&ca);
+    lc_hull_ctx *hc = lc_hull_new(NULL);
+    lc_rng rng;
+    lc_rng_seed(&rng, 808);
+    scene s;
+    random_scene(&s, hc, &rng, 25);
+    lc_polyset grown;
+    lc_polyset_init(&grown, &ca.alloc);
+    for (int j = 0; j < s.grown.np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(&s.grown, j, &n);
+        assert_int_equal(lc_polyset_push(&grown, v, n, j), LC_OK);
+    }
+    long after_polyset = ca.calls;
+    assert_true(after_polyset > 0);
+    lc_region_config cfg;
+    lc_region_config_default(&cfg);
+    lc_ellipse_opts eo;
+    lc_ellipse_opts_default(&eo);
+    lc_region_ws ws;
+    lc_region rg;
+    lc_region_ws_init(&ws, &ca.alloc);
+    lc_region_init(&rg, &ca.alloc);
+    lc_region_input in = {.grown = &grown, .centre = {9, 9}, .window = 6.0};
+    assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL) >= 0);
+    assert_true(ca.calls > after_polyset);
+    long warm = ca.calls;
+    assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL) >= 0);
+    assert_int_equal(ca.calls, warm);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
+    lc_polyset_free(&grown);
+    assert_int_equal(ca.live, 0);
+    /* freed twice: nothing left to release, nothing breaks */
+    lc_region_free(&rg);
+    lc_polyset_free(&grown);
+    assert_int_equal(ca.live, 0);
+    scene_free(&s);
+    lc_hull_free(hc);
+}
+
 /* Centre inside a grown obstacle: too close, the region still holds it. */
 static void test_too_close(void **state)
 {
@@ -220,14 +270,14 @@ static void test_too_close(void **state)
     lc_region rg = {0};
     lc_region_info info;
     lc_region_input in = {.grown = &s.grown, .centre = {0, 0}, .window = 5.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL, NULL),
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL),
                      LC_REGION_TOO_CLOSE);
     assert_int_equal(info.too_close, 1);
     assert_true(lc_region_contains(&rg, in.centre, 1e-9));
     /* the other wall is still kept out */
     assert_true(lc_region_margin(&rg, lc_v2(-3 + 0.4, 0)) <= 1e-9);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
     scene_free(&s);
     lc_hull_free(hc);
 }
@@ -254,8 +304,8 @@ static void test_projection_and_determinism(void **state)
         }
         lc_region_input in = {.grown = &s.grown, .centre = c, .window = 7.0, .has_waypoint = true,
                               .waypoint = lc_v2(lc_rng_uniform(&rng, -9, 9), lc_rng_uniform(&rng, -9, 9))};
-        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &a, NULL, NULL, NULL) >= 0);
-        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &b, NULL, NULL, NULL) >= 0);
+        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &a, NULL, NULL) >= 0);
+        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &b, NULL, NULL) >= 0);
         assert_int_equal(a.nv, b.nv);
         assert_int_equal(a.nh, b.nh);
         assert_memory_equal(a.v, b.v, sizeof *a.v * (size_t)a.nv);
@@ -271,9 +321,9 @@ static void test_projection_and_determinism(void **state)
 #endif
         scene_free(&s);
     }
-    lc_region_free(&a, NULL);
-    lc_region_free(&b, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&a);
+    lc_region_free(&b);
+    lc_region_ws_free(&ws);
     lc_hull_free(hc);
 }
 
@@ -287,14 +337,14 @@ static void test_bad_input(void **state)
     lc_region_ws ws = {0};
     lc_region rg = {0};
     lc_region_input in = {.grown = &none, .centre = {NAN, 0}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL),
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL),
                      LC_ERR_BAD_INPUT);
     in.centre = lc_v2(0, 0);
     in.window = 0;
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL),
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL),
                      LC_ERR_BAD_INPUT);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
 }
 
 int main(void)
@@ -304,6 +354,7 @@ int main(void)
         cmocka_unit_test(test_empty_frame_is_window),
         cmocka_unit_test(test_ray_exit_along_edge),
         cmocka_unit_test(test_too_close),
+        cmocka_unit_test(test_buffers_keep_their_allocator),
         cmocka_unit_test(test_projection_and_determinism),
         cmocka_unit_test(test_bad_input),
     };
