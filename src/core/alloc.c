@@ -22,20 +22,20 @@ const lc_alloc *lc_alloc_default(void) { return &libc_alloc; }
 int lc_grow(const lc_alloc *alloc, void **p, int *cap, int need, size_t elem)
 {
     if (need <= *cap)
-        return 0;
+        return LC_OK;
     if (!alloc)
         alloc = &libc_alloc;
     long want = *cap < 16 ? 16 : (long)*cap;
     while (want < need)
         want *= 2;
     if (want > INT_MAX || (size_t)want > SIZE_MAX / elem)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     void *q = alloc->realloc(alloc->data, *p, (size_t)want * elem);
     if (!q)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     *p = q;
     *cap = (int)want;
-    return 0;
+    return LC_OK;
 }
 
 void lc_release(const lc_alloc *alloc, void **p, int *cap)

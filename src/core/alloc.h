@@ -5,11 +5,19 @@
  * lc_alloc, so that a test can count allocations and show that a warm
  * workspace allocates nothing per frame. Buffers grow to a high-water mark
  * and are reused; nothing shrinks until the owner releases it.
+ *
+ * A struct that owns buffers keeps its allocator (`const lc_alloc *alloc`):
+ * its ..._init(x, alloc) empties it and sets the allocator (NULL: the
+ * default), a zeroed struct is the same with the default, and ..._free(x)
+ * releases its buffers through that allocator, which must outlive it; the
+ * struct stays usable, empty.
  */
 #ifndef LC_ALLOC_H
 #define LC_ALLOC_H
 
 #include <stddef.h>
+
+#include "status.h"
 
 typedef struct lc_alloc {
     /* realloc semantics: n == 0 frees p and returns NULL. */
@@ -22,7 +30,7 @@ const lc_alloc *lc_alloc_default(void);
 
 /*
  * Make *p hold at least need elements of size elem, growing *cap
- * geometrically. Returns 0, or -1 when out of memory (then *p and *cap are
+ * geometrically. Returns LC_OK, or LC_ERR_NO_MEMORY (then *p and *cap are
  * unchanged). A NULL alloc means lc_alloc_default().
  */
 int lc_grow(const lc_alloc *alloc, void **p, int *cap, int need, size_t elem);

@@ -20,24 +20,26 @@
 #define LC_ELLIPSE_H
 
 #include "geom.h"
+#include "status.h"
+#include "sym2.h"
 
 typedef struct lc_ellipse {
     double l11, l12, l22; /* L = [[l11, l12], [l12, l22]] */
     lc_vec2 d;            /* centre */
 } lc_ellipse;
 
+/* L as a symmetric 2x2 matrix. */
+static inline lc_sym2 lc_ellipse_shape(const lc_ellipse *e) { return (lc_sym2){e->l11, e->l12, e->l22}; }
+
 typedef struct lc_ellipse_opts {
     double gap_tol; /* default 1e-9 */
     int max_iter;   /* default 60 */
 } lc_ellipse_opts;
 
-typedef enum lc_ellipse_status {
-    LC_ELLIPSE_OK = 0,
-    LC_ELLIPSE_MAX_ITER = 1,   /* best iterate returned, gap above gap_tol */
-    LC_ELLIPSE_EMPTY = -1,     /* polygon empty or of zero area */
-    LC_ELLIPSE_UNBOUNDED = -2, /* polygon unbounded */
-    LC_ELLIPSE_BAD_INPUT = -3, /* n < 3, non-finite or zero normal */
-} lc_ellipse_status;
+/* lc_ellipse_solve's one positive outcome (its errors are lc_status). */
+enum {
+    LC_ELLIPSE_MAX_ITER = 1, /* best iterate returned, gap above gap_tol */
+};
 
 typedef struct lc_ellipse_info {
     int iterations;
@@ -51,7 +53,10 @@ void lc_ellipse_opts_default(lc_ellipse_opts *opts);
 
 /*
  * Solve for h[0..n). warm may be NULL. lambda (n doubles) may be NULL.
- * info may be NULL. Returns an lc_ellipse_status.
+ * info may be NULL. Returns LC_OK, LC_ELLIPSE_MAX_ITER, or
+ * LC_ERR_BAD_INPUT (n < 3, a non-finite or zero normal, a non-finite
+ * offset), LC_ERR_DEGENERATE (the polygon is empty or of zero area),
+ * LC_ERR_UNBOUNDED (the polygon is unbounded).
  */
 int lc_ellipse_solve(const lc_halfspace *h, int n, const lc_ellipse *warm,
                      const lc_ellipse_opts *opts, lc_ellipse *out, double *lambda,

@@ -29,6 +29,13 @@ typedef struct lc_halfspace {
     double b;
 } lc_halfspace;
 
+/* Halfspaces a1[i] x + a2[i] y <= b[i], i < n, as rows: a structure of
+ * arrays in a caller's scratch, for the ellipse solver's inner loops. */
+typedef struct lc_hrows {
+    double *a1, *a2, *b;
+    int n;
+} lc_hrows;
+
 /* min and max that the compiler inlines (libm's fmin/fmax are calls); for
  * finite values only. */
 static inline double lc_min(double a, double b) { return a < b ? a : b; }

@@ -90,13 +90,13 @@ int lc_grow_rule_init(lc_grow_rule *rule, double max_step)
 {
     int extra = lc_grow_max_vertices(1, max_step) - 1;
     if (extra <= 0)
-        return -1;
+        return LC_ERR_BAD_INPUT;
     double ch = cos(0.5 * max_step), sh = sin(0.5 * max_step);
     lc_vec2 rot = lc_v2(2.0 * ch * ch - 1.0, 2.0 * sh * ch);
     *rule = (lc_grow_rule){.step = max_step, .extra = extra, .sec_half = 1.0 / ch, .rot = rot,
                            .half = lc_v2(ch, sh),
                            .two = lc_v2(rot.x * rot.x - rot.y * rot.y, 2.0 * rot.x * rot.y)};
-    return 0;
+    return LC_OK;
 }
 
 /* The arcs of one polygon: the rule and the radius. */
@@ -146,8 +146,8 @@ static bool turns_beyond(lc_vec2 n, lc_vec2 n1, lc_vec2 cs)
  * Appends the circumscribed arc about centre c from unit normal n0 to n1
  * (counter-clockwise, at most pi) in ceil(turn / step) steps: full steps
  * while more than two are left, then what is left in one step, or in two
- * even ones when it exceeds one step. Returns the new count, or -1 when cap
- * is too small.
+ * even ones when it exceeds one step. Returns the new count, or
+ * LC_ERR_BAD_INPUT when cap is too small.
  */
 static int emit_arc(const arc_rule *a, lc_vec2 c, lc_vec2 n0, lc_vec2 n1, lc_vec2 *out,
                     int count, int cap)
@@ -155,17 +155,17 @@ static int emit_arc(const arc_rule *a, lc_vec2 c, lc_vec2 n0, lc_vec2 n1, lc_vec
     lc_vec2 n = n0;
     for (; turns_beyond(n, n1, a->two); n = turn_by(n, a->rot)) {
         if (count >= cap)
-            return -1;
+            return LC_ERR_BAD_INPUT;
         out[count++] = lc_add(c, lc_scale(turn_by(n, a->half), a->rho));
     }
     if (!turns_beyond(n, n1, a->rot)) {
         if (count >= cap)
-            return -1;
+            return LC_ERR_BAD_INPUT;
         out[count++] = tangent_meet(c, a->r, n, n1);
         return count;
     }
     if (count + 2 > cap)
-        return -1;
+        return LC_ERR_BAD_INPUT;
     lc_vec2 mid = halfway(n, n1);
     double k = a->r / (1.0 + lc_dot(n, mid)); /* the same for both halves */
     out[count++] = lc_add(c, lc_scale(lc_add(n, mid), k));
@@ -211,7 +211,7 @@ int lc_grow_polygon(const lc_vec2 *poly, int n, double r, double max_step,
 {
     lc_grow_rule rule;
     if (lc_grow_rule_init(&rule, max_step) < 0)
-        return -1;
+        return LC_ERR_BAD_INPUT;
     return lc_grow_polygon_rule(poly, n, r, &rule, out, cap);
 }
 
@@ -220,13 +220,13 @@ int lc_grow_polygon_rule(const lc_vec2 *poly, int n, double r, const lc_grow_rul
 {
     grow_scales s;
     if (n < 1 || !(r > 0) || !isfinite(r) || !input_scales(poly, n, &s))
-        return -1;
+        return LC_ERR_BAD_INPUT;
     double skipped;
     int last = last_real_edge(poly, n, s.tiny, &skipped);
     arc_rule a = arc_rule_of(r + skipped, rule);
     if (last < 0) { /* a point: two half turns */
         int count = emit_arc(&a, poly[0], lc_v2(1, 0), lc_v2(-1, 0), out, 0, cap);
-        return count < 0 ? -1 : emit_arc(&a, poly[0], lc_v2(-1, 0), lc_v2(1, 0), out, count, cap);
+        return count < 0 ? count : emit_arc(&a, poly[0], lc_v2(-1, 0), lc_v2(1, 0), out, count, cap);
     }
     lc_vec2 e = edge(poly, n, last);
     double lprev = lc_len(e), wound = 0;
@@ -241,7 +241,7 @@ int lc_grow_polygon_rule(const lc_vec2 *poly, int n, double r, const lc_grow_rul
         double sine = lc_cross(dprev, d);
         /* a b sin / (a + b) is at most the vertex's distance from the chord */
         if (-sine * lprev * l > s.dent * (lprev + l))
-            return -1;
+            return LC_ERR_BAD_INPUT;
         /* sine <= 0 within the dent tolerance is collinear (no turn), or
          * exactly reversed (a segment's end: a turn of pi). */
         lc_vec2 n0 = outward(dprev), n1 = outward(d);
@@ -262,6 +262,6 @@ int lc_grow_polygon_rule(const lc_vec2 *poly, int n, double r, const lc_grow_rul
      * dents let through move that by a hair); twice or more is a
      * self-overlapping input. */
     if (count >= 0 && wound > 6.0)
-        return -1;
+        return LC_ERR_BAD_INPUT;
     return count;
 }

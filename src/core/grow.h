@@ -15,6 +15,7 @@
 #define LC_GROW_H
 
 #include "geom.h"
+#include "status.h"
 
 #define LC_GROW_DEFAULT_STEP (LC_PI / 8.0)
 
@@ -36,15 +37,15 @@ typedef struct lc_grow_rule {
     lc_vec2 rot, half, two; /* (cos, sin) of step, step / 2 and 2 step */
 } lc_grow_rule;
 
-/* Fills rule for max_step; -1 when max_step is not in (0, pi/2] (or so
- * small that the vertex bound overflows). */
+/* Fills rule for max_step; LC_OK, or LC_ERR_BAD_INPUT when max_step is not
+ * in (0, pi/2] (or so small that the vertex bound overflows). */
 int lc_grow_rule_init(lc_grow_rule *rule, double max_step);
 
 /*
  * poly[0..n) is CCW convex (n >= 3), a segment (n == 2) or a point (n == 1).
  * Writes the grown CCW convex polygon to out (capacity cap) and returns its
- * vertex count, or -1 when n < 1, r <= 0, max_step is not in (0, pi/2],
- * cap is too small, a value is not finite, or poly is visibly not convex
+ * vertex count, or LC_ERR_BAD_INPUT when n < 1, r <= 0, max_step is not in
+ * (0, pi/2], cap is too small, a value is not finite, or poly is visibly not convex
  * counter-clockwise (a vertex dented inward by more than 1e-9 of its extent,
  * or turning more than once). Repeated and collinear vertices are fine.
  */

@@ -188,7 +188,7 @@ static extremes find_extremes(const lc_vec2 *pts, int n)
 /*
  * The degenerate cases: writes 1 point (all equal) or the 2 extreme points
  * (collinear within LC_HULL_FLAT_REL, or two distinct points) and returns
- * the count; returns -1 when the set spans an area. n >= 1. *along_x tells
+ * the count; returns 0 when the set spans an area. n >= 1. *along_x tells
  * whether the set is at least as wide as it is tall.
  */
 static int degenerate_hull(const lc_vec2 *pts, int n, lc_vec2 *out, bool *along_x)
@@ -208,7 +208,7 @@ static int degenerate_hull(const lc_vec2 *pts, int n, lc_vec2 *out, bool *along_
     for (int i = 0; i < n; i++) {
         lc_vec2 d = lc_sub(pts[i], a);
         if (fabs(lc_cross(u, d)) > limit)
-            return -1;
+            return 0;
         double t = lc_dot(u, d);
         if (t < tmin) {
             tmin = t;
@@ -324,7 +324,7 @@ static int monotone_chain(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, bool alon
         return 0;
     if (LC_GROW(&ctx->alloc, ctx->sorted, ctx->cap_sorted, n) < 0 ||
         LC_GROW(&ctx->alloc, ctx->chain, ctx->cap_chain, 2 * n) < 0) /* Andrew's bound */
-        return -1;
+        return LC_ERR_NO_MEMORY;
     ctx->stats.small_calls++;
     int m = sorted_distinct(ctx, pts, n, along_x);
     const lc_vec2 *s = ctx->sorted;
@@ -368,11 +368,11 @@ static void record_failure(lc_hull_ctx *ctx, int code, int msgcode)
     ctx->message[len] = '\0';
 }
 
-/* Centred coordinates for qhull in ctx->coords; 0 or -1 out of memory. */
+/* Centred coordinates for qhull in ctx->coords; LC_OK or LC_ERR_NO_MEMORY. */
 static int load_coords(lc_hull_ctx *ctx, const lc_vec2 *pts, int n)
 {
     if (LC_GROW(&ctx->alloc, ctx->coords, ctx->cap_coords, 2 * n) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     lc_vec2 lo, hi;
     bounding_box(pts, n, &lo, &hi);
     lc_vec2 c = lc_scale(lc_add(lo, hi), 0.5);
@@ -380,14 +380,15 @@ static int load_coords(lc_hull_ctx *ctx, const lc_vec2 *pts, int n)
         ctx->coords[2 * i] = pts[i].x - c.x;
         ctx->coords[2 * i + 1] = pts[i].y - c.y;
     }
-    return 0;
+    return LC_OK;
 }
 
 /*
  * Walks qhull's 2-d facet ring the way qh_printextremes_2d does (facet
  * orientation picks which vertex comes first and which neighbour is next),
- * which gives the vertices counter-clockwise. Returns the count, or -1 when
- * the ring is not the closed loop of at most n facets it must be.
+ * which gives the vertices counter-clockwise. Returns the count, or
+ * LC_ERR_LIBRARY when the ring is not the closed loop of at most n facets it
+ * must be.
  */
 static int walk_facets(qhT *qh, const lc_vec2 *pts, int n, lc_vec2 *out)
 {
@@ -395,13 +396,13 @@ static int walk_facets(qhT *qh, const lc_vec2 *pts, int n, lc_vec2 *out)
     int k = 0;
     do {
         if (!f || k >= n)
-            return -1;
+            return LC_ERR_LIBRARY;
         bool forward = f->toporient ^ qh_ORIENTclock;
         vertexT *v = forward ? SETfirstt_(f->vertices, vertexT)
                              : SETsecondt_(f->vertices, vertexT);
         int id = v ? qh_pointid(qh, v->point) : -1;
         if (id < 0 || id >= n)
-            return -1;
+            return LC_ERR_LIBRARY;
         out[k++] = pts[id];
         f = forward ? SETfirstt_(f->neighbors, facetT) : SETsecondt_(f->neighbors, facetT);
     } while (f != start);
@@ -411,18 +412,18 @@ static int walk_facets(qhT *qh, const lc_vec2 *pts, int n, lc_vec2 *out)
 static int qhull_hull(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
 {
     if (load_coords(ctx, pts, n) < 0)
-        return -1;
+        return LC_ERR_NO_MEMORY;
     if (ftello(ctx->errlog) > 0)
         fseeko(ctx->errlog, 0, SEEK_SET);
     qhT *qh = &ctx->qh;
     ctx->stats.qhull_calls++;
     int code = qh_new_qhull(qh, 2, n, ctx->coords, False, ctx->cmd, NULL, ctx->errlog);
-    int k = code ? -3 : walk_facets(qh, pts, n, out);
+    int k = code ? LC_ERR_LIBRARY : walk_facets(qh, pts, n, out);
     if (code)
         record_failure(ctx, code, qh->last_errcode); /* read before the free clears it */
     else if (k < 0) {
         record_failure(ctx, qh_ERRqhull, 0);
-        k = -3;
+        k = LC_ERR_LIBRARY;
     }
     qh_freeqhull(qh, !qh_ALL); /* the only qhull call allowed after a failure */
     return k;
@@ -433,7 +434,7 @@ static int qhull_hull(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
 int lc_hull_compute_small(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
 {
     if (!all_finite(pts, n))
-        return -2;
+        return LC_ERR_BAD_INPUT;
     return monotone_chain(ctx, pts, n, true, out);
 }
 
@@ -442,7 +443,7 @@ int lc_hull_compute_qhull(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *
     if (n <= 0)
         return 0;
     if (!all_finite(pts, n))
-        return -2;
+        return LC_ERR_BAD_INPUT;
     return qhull_hull(ctx, pts, n, out);
 }
 
@@ -451,7 +452,7 @@ int lc_hull_compute(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
     if (n <= 0)
         return 0;
     if (!all_finite(pts, n))
-        return -2;
+        return LC_ERR_BAD_INPUT;
     bool along_x;
     int k = degenerate_hull(pts, n, out, &along_x);
     if (k > 0)
@@ -461,5 +462,5 @@ int lc_hull_compute(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out)
     k = qhull_hull(ctx, pts, n, out);
     /* An obstacle must not vanish because qhull rejected it: the failure is
      * counted in the stats and the small path answers instead. */
-    return k == -3 ? monotone_chain(ctx, pts, n, along_x, out) : k;
+    return k == LC_ERR_LIBRARY ? monotone_chain(ctx, pts, n, along_x, out) : k;
 }

@@ -40,8 +40,8 @@ int lc_hull_small_max(const lc_hull_ctx *ctx);
 
 /*
  * Hull of pts[0..n). Writes at most n vertices to out (CCW) and returns their
- * count (0..n). Returns a negative value on failure: -1 out of memory, -2
- * non-finite input. When qhull fails (counted in the stats, stats.last_error
+ * count (0..n). Returns a negative lc_status on failure: LC_ERR_NO_MEMORY,
+ * LC_ERR_BAD_INPUT (a non-finite point). When qhull fails (counted in the stats, stats.last_error
  * holds its code) the small path answers instead, so a piece never vanishes.
  */
 int lc_hull_compute(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);
@@ -50,7 +50,7 @@ int lc_hull_compute(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);
  * The same through one path only, for tests and the bench, without the
  * degenerate-input filter: the small path handles degenerate input itself
  * (0, 1 or 2 points); qhull rejects it, and then lc_hull_compute_qhull
- * returns -3 (stats.last_error holds qhull's code).
+ * returns LC_ERR_LIBRARY (stats.last_error holds qhull's code).
  */
 int lc_hull_compute_qhull(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);
 int lc_hull_compute_small(lc_hull_ctx *ctx, const lc_vec2 *pts, int n, lc_vec2 *out);

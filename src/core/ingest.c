@@ -7,6 +7,8 @@
  */
 #include "ingest.h"
 
+#include <string.h>
+
 void lc_ingest_config_default(lc_ingest_config *cfg)
 {
     cfg->self_radius = 0.0;
@@ -15,14 +17,20 @@ void lc_ingest_config_default(lc_ingest_config *cfg)
     cfg->range_cap = 0.0;
 }
 
-static int reserve(lc_cloud *c, const lc_alloc *alloc, int n)
+void lc_cloud_init(lc_cloud *cloud, const lc_alloc *alloc)
+{
+    memset(cloud, 0, sizeof *cloud);
+    cloud->alloc = alloc;
+}
+
+static int reserve(lc_cloud *c, int n)
 {
     int cw = c->cap, cr = c->cap, cb = c->cap;
-    if (LC_GROW(alloc, c->world, cw, n) < 0 || LC_GROW(alloc, c->range, cr, n) < 0 ||
-        LC_GROW(alloc, c->bearing, cb, n) < 0)
-        return -1;
+    if (LC_GROW(c->alloc, c->world, cw, n) < 0 || LC_GROW(c->alloc, c->range, cr, n) < 0 ||
+        LC_GROW(c->alloc, c->bearing, cb, n) < 0)
+        return LC_ERR_NO_MEMORY;
     c->cap = cw < cr ? (cw < cb ? cw : cb) : (cr < cb ? cr : cb);
-    return 0;
+    return LC_OK;
 }
 
 /* A pose as a rotation matrix and offset, so that no point pays for a cos. */
@@ -148,8 +156,7 @@ static void ingest_points(const lc_frame *f, const lc_ingest_config *cfg, lc_clo
     points_view(c, f->mount.yaw);
 }
 
-int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud,
-              const lc_alloc *alloc)
+int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud)
 {
     int total = frame->kind == LC_FRAME_SCAN ? frame->n_ranges : frame->n_points;
     cloud->n = 0;
@@ -158,8 +165,10 @@ int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *clou
     cloud->ordered = frame->kind == LC_FRAME_SCAN;
     cloud->angle_step = frame->kind == LC_FRAME_SCAN ? frame->angle_step : 0.0;
     cloud->sensor_world = lc_pose_apply(frame->pose, lc_v2(frame->mount.x, frame->mount.y));
-    if (total < 0 || reserve(cloud, alloc, total > 0 ? total : 1) < 0)
-        return -1;
+    if (total < 0)
+        return LC_ERR_BAD_INPUT;
+    if (reserve(cloud, total > 0 ? total : 1) < 0)
+        return LC_ERR_NO_MEMORY;
     if (frame->kind == LC_FRAME_SCAN)
         ingest_scan(frame, cfg, cloud);
     else
@@ -167,11 +176,11 @@ int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *clou
     return cloud->n;
 }
 
-void lc_cloud_free(lc_cloud *cloud, const lc_alloc *alloc)
+void lc_cloud_free(lc_cloud *cloud)
 {
     int c1 = cloud->cap, c2 = cloud->cap;
-    LC_RELEASE(alloc, cloud->world, cloud->cap);
-    LC_RELEASE(alloc, cloud->range, c1);
-    LC_RELEASE(alloc, cloud->bearing, c2);
+    LC_RELEASE(cloud->alloc, cloud->world, cloud->cap);
+    LC_RELEASE(cloud->alloc, cloud->range, c1);
+    LC_RELEASE(cloud->alloc, cloud->bearing, c2);
     cloud->n = 0;
 }

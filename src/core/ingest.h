@@ -35,12 +35,15 @@ typedef struct lc_cloud {
                        * points frames: judged from the points' bearings */
     double fov_mid;   /* rad, robot frame direction of the middle of the view */
     int dropped_invalid, dropped_range, dropped_self, dropped_height;
+    const lc_alloc *alloc; /* the buffers grow through it (alloc.h) */
 } lc_cloud;
 
-/* Returns the number of kept points, or -1 when out of memory. */
-int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud,
-              const lc_alloc *alloc);
+/* Init and free as alloc.h says. */
+void lc_cloud_init(lc_cloud *cloud, const lc_alloc *alloc);
+void lc_cloud_free(lc_cloud *cloud);
 
-void lc_cloud_free(lc_cloud *cloud, const lc_alloc *alloc);
+/* Returns the number of kept points, LC_ERR_NO_MEMORY, or LC_ERR_BAD_INPUT
+ * when the frame claims a negative count. */
+int lc_ingest(const lc_frame *frame, const lc_ingest_config *cfg, lc_cloud *cloud);
 
 #endif

@@ -231,6 +231,19 @@ static bool args_ok(const lc_robot *robot, const lc_motion_params *params,
            params->latency >= 0.0 && isfinite(params->latency);
 }
 
+/* What every step does first: *out becomes a stop; LC_ERR_BAD_INPUT when an
+ * argument is unusable. */
+static int start_step(const lc_robot *robot, const lc_motion_params *params,
+                      const lc_region *region, lc_pose pose, lc_vec2 target,
+                      const lc_setpoint *last, double dt, bool point, lc_setpoint *out)
+{
+    if (!out)
+        return LC_ERR_BAD_INPUT;
+    *out = lc_setpoint_stop(LC_LIMIT_NONE);
+    return args_ok(robot, params, region, pose, target, last, dt, point) ? LC_OK
+                                                                          : LC_ERR_BAD_INPUT;
+}
+
 /* Path length from speed to rest, latency included. */
 static double brake_length(const lc_robot *robot, const lc_motion_params *params, double speed)
 {
@@ -326,11 +339,9 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
                     const lc_region *region, lc_pose pose, lc_vec2 target_world,
                     const lc_setpoint *last, double dt, lc_setpoint *out)
 {
-    if (!out)
-        return -1;
-    *out = lc_setpoint_stop(LC_LIMIT_NONE);
-    if (!args_ok(robot, params, region, pose, target_world, last, dt, true))
-        return -1;
+    int rc = start_step(robot, params, region, pose, target_world, last, dt, true, out);
+    if (rc < 0)
+        return rc;
     lc_vec2 p = {pose.x, pose.y};
     lc_vec2 v0 = last ? lc_rotate(lc_v2(last->vx, last->vy), pose.yaw) : lc_v2(0, 0);
     /* From beyond v_max start at v_max (see rate_window): the fallback's
@@ -375,7 +386,7 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
     out->vx = v_robot.x;
     out->vy = v_robot.y;
     out->limit = limit;
-    return 0;
+    return LC_OK;
 }
 
 /* ---- unicycle -------------------------------------------------------- */
@@ -526,11 +537,9 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
                        const lc_region *region, lc_pose pose, lc_vec2 target_world,
                        const lc_setpoint *last, double dt, lc_setpoint *out)
 {
-    if (!out)
-        return -1;
-    *out = lc_setpoint_stop(LC_LIMIT_NONE);
-    if (!args_ok(robot, params, region, pose, target_world, last, dt, false))
-        return -1;
+    int rc = start_step(robot, params, region, pose, target_world, last, dt, false, out);
+    if (rc < 0)
+        return rc;
     uni_ctx c = {robot, params, region, pose};
     double v0 = last ? last->v : 0.0, w0 = last ? last->w : 0.0;
     double v_d, w_d;
@@ -558,5 +567,5 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
     out->v = v;
     out->w = w;
     out->limit = limit;
-    return 0;
+    return LC_OK;
 }

@@ -57,8 +57,8 @@ lc_setpoint lc_setpoint_stop(lc_limit why);
 /*
  * One control step. pose is the robot in the world frame, target_world the
  * point to head for (inside the region), last the previous setpoint (zero
- * at rest), dt > 0 the control period. Writes *out; returns 0, or -1 when
- * an argument is unusable (then *out is a stop).
+ * at rest), dt > 0 the control period. Writes *out; returns LC_OK, or
+ * LC_ERR_BAD_INPUT when an argument is unusable (then *out is a stop).
  */
 int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
                     const lc_region *region, lc_pose pose, lc_vec2 target_world,

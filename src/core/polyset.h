@@ -5,7 +5,8 @@
  * one vertex is a point, of two a segment; three or more are convex and CCW
  * wherever the pipeline stores them. `src` is free for the producer (the
  * obstacle a grown polygon came from, the first point index of a piece).
- * Buffers grow through lc_alloc and are reused across frames.
+ * Buffers grow through the set's own lc_alloc (alloc.h) and are reused
+ * across frames.
  */
 #ifndef LC_POLYSET_H
 #define LC_POLYSET_H
@@ -22,26 +23,29 @@ typedef struct lc_polyset {
     int nv, cap_v;
     lc_span *span;
     int np, cap_p;
+    const lc_alloc *alloc; /* the buffers grow through it (alloc.h) */
 } lc_polyset;
+
+/* Init and free as alloc.h says. */
+void lc_polyset_init(lc_polyset *s, const lc_alloc *alloc);
+void lc_polyset_free(lc_polyset *s);
 
 static inline void lc_polyset_clear(lc_polyset *s) { s->nv = 0; s->np = 0; }
 
-/* Room for `extra` more vertices; 0 or -1 (out of memory). */
-int lc_polyset_reserve(lc_polyset *s, const lc_alloc *alloc, int extra);
+/* Room for `extra` more vertices; LC_OK or LC_ERR_NO_MEMORY. */
+int lc_polyset_reserve(lc_polyset *s, int extra);
 
-/* Append a polygon of n vertices (copied); 0 or -1. */
-int lc_polyset_push(lc_polyset *s, const lc_alloc *alloc, const lc_vec2 *v, int n, int src);
+/* Append a polygon of n vertices (copied); LC_OK or LC_ERR_NO_MEMORY. */
+int lc_polyset_push(lc_polyset *s, const lc_vec2 *v, int n, int src);
 
 /* Start a polygon whose vertices the caller writes at s->v + s->nv after
  * lc_polyset_reserve; lc_polyset_commit(s, n, src) closes it. */
-int lc_polyset_commit(lc_polyset *s, const lc_alloc *alloc, int n, int src);
+int lc_polyset_commit(lc_polyset *s, int n, int src);
 
 static inline const lc_vec2 *lc_polyset_at(const lc_polyset *s, int i, int *n)
 {
     *n = s->span[i].count;
     return s->v + s->span[i].start;
 }
-
-void lc_polyset_free(lc_polyset *s, const lc_alloc *alloc);
 
 #endif

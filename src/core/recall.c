@@ -5,15 +5,23 @@
 
 #include <string.h>
 
-void lc_recall_free(lc_recall *r, const lc_alloc *alloc)
+void lc_recall_init(lc_recall *r, const lc_alloc *alloc)
 {
-    lc_cloud_free(&r->occupied, alloc);
-    lc_cloud_free(&r->frontier, alloc);
+    memset(r, 0, sizeof *r);
+    lc_cloud_init(&r->occupied, alloc);
+    lc_cloud_init(&r->frontier, alloc);
 }
 
-static int reset(lc_cloud *c, const lc_alloc *alloc, int n, lc_vec2 origin)
+void lc_recall_free(lc_recall *r)
 {
-    memset(&c->dropped_invalid, 0, sizeof *c - offsetof(lc_cloud, dropped_invalid));
+    lc_cloud_free(&r->occupied);
+    lc_cloud_free(&r->frontier);
+}
+
+static int reset(lc_cloud *c, int n, lc_vec2 origin)
+{
+    const lc_alloc *alloc = c->alloc;
+    c->dropped_invalid = c->dropped_range = c->dropped_self = c->dropped_height = 0;
     c->n = 0;
     c->ordered = true;
     c->angle_step = LC_RECALL_RAY_STEP;
@@ -36,15 +44,15 @@ static void push(lc_cloud *c, lc_vec2 p, double range, double bearing)
     c->n++;
 }
 
-int lc_recall_collect(const lc_recall_input *in, lc_recall *out, const lc_alloc *alloc)
+int lc_recall_collect(const lc_recall_input *in, lc_recall *out)
 {
     out->fov = in->fov;
     out->view_mid = in->view_mid;
     out->rays = out->rays_known = 0;
     double blind = 2.0 * LC_PI - in->fov, a0 = in->view_mid + 0.5 * in->fov;
     int rays = blind > 1e-9 ? (int)ceil(blind / LC_RECALL_RAY_STEP) + 1 : 0;
-    if (reset(&out->occupied, alloc, rays + 1, in->centre) < 0 ||
-        reset(&out->frontier, alloc, rays + 1, in->centre) < 0)
+    if (reset(&out->occupied, rays + 1, in->centre) < 0 ||
+        reset(&out->frontier, rays + 1, in->centre) < 0)
         return -1;
     if (!in->mem || rays == 0)
         return 0;

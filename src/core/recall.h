@@ -23,8 +23,9 @@
  * cell along a ray is left out, as a frame leaves out what its nearer
  * returns hide.
  *
- * Ownership: the clouds' buffers grow through the allocator passed in and
- * are reused (no allocation once warm); lc_recall_free releases them.
+ * Ownership: the clouds' buffers grow through the allocator given to
+ * lc_recall_init and are reused (no allocation once warm); lc_recall_free
+ * releases them.
  */
 #ifndef LC_RECALL_H
 #define LC_RECALL_H
@@ -54,9 +55,12 @@ typedef struct lc_recall {
     int rays, rays_known;
 } lc_recall;
 
-/* Fills out; 0, or -1 when out of memory. */
-int lc_recall_collect(const lc_recall_input *in, lc_recall *out, const lc_alloc *alloc);
+/* An empty recall whose buffers grow through alloc (NULL: the default). */
+void lc_recall_init(lc_recall *r, const lc_alloc *alloc);
 
-void lc_recall_free(lc_recall *r, const lc_alloc *alloc);
+/* Fills out; 0, or -1 when out of memory. */
+int lc_recall_collect(const lc_recall_input *in, lc_recall *out);
+
+void lc_recall_free(lc_recall *r);
 
 #endif

@@ -18,6 +18,10 @@
 
 #include <string.h>
 
+#include "clip.h"
+#include "polygon.h"
+#include "sym2.h"
+
 enum {
     FLAG_SKIP = 1, /* obstacle holds the centre or lies off the window */
     FLAG_BASE = 2, /* beyond a blind line: cut off in every round (see mark_obstacles) */
@@ -35,155 +39,6 @@ void lc_region_config_default(lc_region_config *cfg)
     cfg->goal_step = 1.0;
     cfg->blind_line = true;
     cfg->points_fov = 0.0;
-}
-
-static lc_halfspace hs_through(lc_vec2 normal, lc_vec2 p)
-{
-    double l = lc_len(normal);
-    lc_vec2 a = lc_scale(normal, 1.0 / l);
-    return (lc_halfspace){a, lc_dot(a, p)};
-}
-
-int lc_region_blind_lines(lc_vec2 centre, double fov, double view_mid, bool has_waypoint,
-                          lc_vec2 waypoint, lc_halfspace out[2])
-{
-    if (!(fov < 2.0 * LC_PI - 1e-9) || !(fov > 0))
-        return 0;
-    double half = 0.5 * fov;
-    if (fov <= LC_PI) {
-        /* The seen cone is convex: the region stays between its edges. */
-        out[0] = hs_through(lc_unit_angle(view_mid + half + 0.5 * LC_PI), centre);
-        out[1] = hs_through(lc_unit_angle(view_mid - half - 0.5 * LC_PI), centre);
-        return 2;
-    }
-    /* Normals n with n . u >= 0 over the blind cone lie within
-     * (half - pi/2) of the blind axis; the region is n . (p - c) <= 0. */
-    double blind_axis = view_mid + LC_PI, spread = half - 0.5 * LC_PI;
-    double nang = blind_axis;
-    if (has_waypoint && lc_dist(waypoint, centre) > 0) {
-        lc_vec2 g = lc_sub(waypoint, centre);
-        double want = atan2(-g.y, -g.x); /* n = -g leaves the most room toward g */
-        double off = lc_wrap_angle(want - blind_axis);
-        nang = blind_axis + (off > spread ? spread : (off < -spread ? -spread : off));
-    }
-    out[0] = hs_through(lc_unit_angle(nang), centre);
-    return 1;
-}
-
-/* May the footprint move along u (see lc_region_view_wedge)? e[] are the
- * blind cone's edge directions, o the sensor relative to the centre. */
-static bool sweep_sees(lc_vec2 u, lc_vec2 o, const lc_vec2 e[2], double radius)
-{
-    const double tol = 1e-12;
-    double ou = lc_dot(o, u);
-    for (int k = 0; k < 2; k++) {
-        double eu = lc_dot(e[k], u);
-        if (ou <= 0) {
-            if (eu > tol)
-                return false;
-            continue;
-        }
-        /* the apex lies ahead: the cone must leave the half plane again
-         * (eu < 0) and the stretch of its edge ahead stays in the disc */
-        if (!(eu < -tol))
-            return false;
-        lc_vec2 exit = lc_add(o, lc_scale(e[k], -ou / eu));
-        if (lc_len(exit) > radius)
-            return false;
-    }
-    return ou <= 0 || lc_len(o) <= radius;
-}
-
-/* The largest angle in [0, pi/2] that directions view_mid + side * a keep
- * qualifying for every a up to it (bisection; qualifying shrinks with a). */
-static double wedge_reach(double view_mid, double side, lc_vec2 o, const lc_vec2 e[2],
-                          double radius)
-{
-    double lo = 0.0, hi = 0.5 * LC_PI;
-    lc_vec2 ulo = lc_unit_angle(view_mid), uhi = lc_unit_angle(view_mid + side * hi);
-    if (sweep_sees(uhi, o, e, radius))
-        return hi;
-    /* The directions are halved as unit vectors (the normalised sum of the
-     * two ends) beside the angles: a square root per step, not a sincos
-     * (the two sides' 80 sincos were 14k of the 600k instructions of a
-     * 1081-beam bench frame, callgrind). */
-    for (int i = 0; i < 40; i++) {
-        double mid = 0.5 * (lo + hi);
-        lc_vec2 sum = lc_add(ulo, uhi), umid = lc_scale(sum, 1.0 / lc_len(sum));
-        if (sweep_sees(umid, o, e, radius)) {
-            lo = mid;
-            ulo = umid;
-        } else {
-            hi = mid;
-            uhi = umid;
-        }
-    }
-    return lo;
-}
-
-int lc_region_view_wedge(lc_vec2 centre, lc_vec2 sensor_offset, double fov, double view_mid,
-                         double radius, lc_halfspace out[2])
-{
-    if (!(fov < 2.0 * LC_PI - 1e-9))
-        return 0;
-    if (!(fov > LC_PI) || !lc_vec2_finite(sensor_offset) || !(radius >= 0) ||
-        !sweep_sees(lc_unit_angle(view_mid), sensor_offset,
-                    (lc_vec2[2]){lc_unit_angle(view_mid + 0.5 * fov),
-                                 lc_unit_angle(view_mid - 0.5 * fov)},
-                    radius))
-        return -1;
-    /* the blind cone's edges run from the sensor at view_mid +- fov/2 */
-    lc_vec2 e[2] = {lc_unit_angle(view_mid + 0.5 * fov), lc_unit_angle(view_mid - 0.5 * fov)};
-    double left = wedge_reach(view_mid, 1.0, sensor_offset, e, radius);
-    double right = wedge_reach(view_mid, -1.0, sensor_offset, e, radius);
-    out[0] = hs_through(lc_unit_angle(view_mid + left + 0.5 * LC_PI), centre);
-    out[1] = hs_through(lc_unit_angle(view_mid - right - 0.5 * LC_PI), centre);
-    return 2;
-}
-
-/* 2x2 symmetric inverse of the ellipse's L. */
-static void l_inverse(const lc_ellipse *e, double inv[3])
-{
-    double det = e->l11 * e->l22 - e->l12 * e->l12;
-    inv[0] = e->l22 / det;
-    inv[1] = -e->l12 / det;
-    inv[2] = e->l11 / det;
-}
-
-static lc_vec2 sym_mul(const double m[3], lc_vec2 p)
-{
-    return lc_v2(m[0] * p.x + m[1] * p.y, m[1] * p.x + m[2] * p.y);
-}
-
-/* The segments [a, b] and [c, d] cross at a point inside both. (Touching
- * shows as a distance of 0 in seg_poly_distance.) */
-static bool segments_cross(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
-{
-    double d1 = lc_cross(lc_sub(b, a), lc_sub(c, a)), d2 = lc_cross(lc_sub(b, a), lc_sub(d, a));
-    double d3 = lc_cross(lc_sub(d, c), lc_sub(a, c)), d4 = lc_cross(lc_sub(d, c), lc_sub(b, c));
-    return ((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0));
-}
-
-/*
- * Distance between the segment [a, b] and the convex polygon v[0..n): 0 when
- * they meet, else the least of the distances from a and b to the edges and
- * from the vertices to [a, b] (each vertex once: it starts one edge).
- */
-static double seg_poly_distance(lc_vec2 a, lc_vec2 b, const lc_vec2 *v, int n)
-{
-    if (lc_convex_contains(v, n, a, 0.0) || lc_convex_contains(v, n, b, 0.0))
-        return 0.0;
-    double best = n < 3 ? lc_segment_distance2(v[n - 1], a, b) : INFINITY;
-    int edges = n >= 3 ? n : 1;
-    for (int i = 0; i < edges; i++) {
-        lc_vec2 p = v[i], q = v[i + 1 == n ? 0 : i + 1];
-        if (segments_cross(a, b, p, q))
-            return 0.0;
-        double d = lc_min(lc_segment_distance2(p, a, b),
-                          lc_min(lc_segment_distance2(a, p, q), lc_segment_distance2(b, p, q)));
-        best = lc_min(best, d);
-    }
-    return sqrt(best);
 }
 
 static bool inside_all(const lc_halfspace *h, int n, lc_vec2 p, double eps)
@@ -283,7 +138,7 @@ static int keep_set(const lc_ellipse *e, const lc_vec2 *seeds, int ns, lc_vec2 *
         double grow = 1.0 / cos(LC_PI / 32.0);
         for (int k = 0; k < 32; k++) {
             lc_vec2 u = lc_scale(lc_unit_angle(2.0 * LC_PI * (k + 0.5) / 32.0), grow);
-            out[n++] = lc_add(e->d, lc_v2(e->l11 * u.x + e->l12 * u.y, e->l12 * u.x + e->l22 * u.y));
+            out[n++] = lc_add(e->d, lc_sym2_apply(lc_ellipse_shape(e), u));
         }
     }
     for (int i = 0; i < ns; i++)
@@ -297,13 +152,13 @@ static int keep_set(const lc_ellipse *e, const lc_vec2 *seeds, int ns, lc_vec2 *
  * line); when that would cut a seed off, the widest line that keeps the
  * ellipse (circumscribed) and the seeds, or at least the seeds.
  */
-static bool obstacle_line(const lc_ellipse *e, const double inv[3], const lc_vec2 *v, int n,
+static bool obstacle_line(const lc_ellipse *e, lc_sym2 inv, const lc_vec2 *v, int n,
                           lc_vec2 xstar, const lc_vec2 *seeds, int ns, lc_halfspace *out,
                           int *fallback)
 {
     double r = lc_len(xstar);
     if (r > 0) {
-        lc_vec2 a = sym_mul(inv, lc_scale(xstar, 1.0 / r));
+        lc_vec2 a = lc_sym2_apply(inv, lc_scale(xstar, 1.0 / r));
         double la = lc_len(a);
         lc_halfspace h = {lc_scale(a, 1.0 / la), (r + lc_dot(a, e->d)) / la};
         /* Touch the obstacle exactly: its support along a. */
@@ -325,72 +180,9 @@ static bool obstacle_line(const lc_ellipse *e, const double inv[3], const lc_vec
     return separate(v, n, keep, nk, out);
 }
 
-/*
- * The point of the convex CCW polygon v[0..n) (n >= 3) nearest the origin;
- * the origin itself when it lies inside. The nearest is a vertex or the foot
- * on an edge whose projection falls inside it, at squared distance
- * cross(a, e)^2 / |e|^2: candidates are compared as fractions, and only the
- * winner's point is computed, so no edge costs a division.
- */
-static lc_vec2 nearest_to_origin(const lc_vec2 *v, int n)
+static int grow_ws(lc_region_ws *ws, int n_obs, int max_hs, int max_v)
 {
-    double num = INFINITY, den = 1.0, tn_best = 0.0, l2_best = 1.0;
-    int best = 0;
-    bool inside = true;
-    for (int i = 0, j = n - 1; i < n; j = i++) {
-        lc_vec2 a = v[j], e = lc_sub(v[i], a);
-        double cr = lc_cross(a, e), a2 = lc_len2(a), tn = -lc_dot(a, e), l2 = lc_len2(e);
-        inside = inside && !(cr < 0);
-        if (a2 * den < num) { /* vertex a: |a|^2 */
-            num = a2;
-            den = 1.0;
-            best = j;
-            tn_best = 0.0;
-        }
-        if (tn > 0 && tn < l2 && cr * cr * den < num * l2) { /* the foot on edge j */
-            num = cr * cr;
-            den = l2;
-            best = j;
-            tn_best = tn;
-            l2_best = l2;
-        }
-    }
-    if (inside)
-        return lc_v2(0, 0);
-    lc_vec2 a = v[best];
-    if (tn_best == 0.0)
-        return a;
-    lc_vec2 e = lc_sub(v[best + 1 == n ? 0 : best + 1], a);
-    return lc_add(a, lc_scale(e, tn_best / l2_best));
-}
-
-/* Sutherland-Hodgman step: clip the CCW polygon (v, own) by h (owner k). */
-static int clip(const lc_vec2 *v, const int *own, int n, lc_halfspace h, int k, lc_vec2 *ov, int *oo)
-{
-    int m = 0;
-    for (int i = 0; i < n; i++) {
-        lc_vec2 p = v[i], q = v[(i + 1) % n];
-        double sp = lc_dot(h.a, p) - h.b, sq = lc_dot(h.a, q) - h.b;
-        if (sp <= 0) {
-            if (sq > 0 && sp < 0) {
-                ov[m] = p;
-                oo[m++] = own[i];
-                ov[m] = lc_lerp(p, q, sp / (sp - sq));
-                oo[m++] = k;
-            } else {
-                ov[m] = p;
-                oo[m++] = sq > 0 ? k : own[i];
-            }
-        } else if (sq < 0) {
-            ov[m] = lc_lerp(p, q, sp / (sp - sq));
-            oo[m++] = own[i];
-        }
-    }
-    return m;
-}
-
-static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_hs, int max_v)
-{
+    const lc_alloc *alloc = ws->alloc;
     if (LC_GROW(alloc, ws->order, ws->cap_order, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->dist, ws->cap_dist, n_obs + 1) < 0 ||
         LC_GROW(alloc, ws->flags, ws->cap_flags, n_obs + 1) < 0 ||
@@ -407,8 +199,8 @@ static int grow_ws(lc_region_ws *ws, const lc_alloc *alloc, int n_obs, int max_h
         LC_GROW(alloc, ws->own_b, ws->cap_ob, max_v) < 0 ||
         LC_GROW(alloc, ws->scratch, ws->cap_scratch, LC_ELLIPSE_SCRATCH(max_hs)) < 0 ||
         LC_GROW(alloc, ws->lambda, ws->cap_lambda, max_hs) < 0)
-        return -1;
-    return 0;
+        return LC_ERR_NO_MEMORY;
+    return LC_OK;
 }
 
 /* Insertion sort of order[0..n) by dist[]: linear on the nearly sorted
@@ -437,22 +229,18 @@ static void sort_by_dist(int *order, const double *dist, int n)
 }
 
 /* The window clipped by hs[0..nh): vertices into r (non-redundant lines kept). */
-static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc *alloc)
+static int build_polygon(lc_region_ws *ws, int nh, lc_region *r)
 {
-    lc_vec2 *va = ws->clip_a, *vb = ws->clip_b;
-    int *oa = ws->own_a, *ob = ws->own_b;
     /* hs[0..4) are the window box, E N W S, so its corners are known. */
     double xe = ws->hs[0].b, yn = ws->hs[1].b, xw = -ws->hs[2].b, ys = -ws->hs[3].b;
     lc_vec2 box[4] = {{xe, ys}, {xe, yn}, {xw, yn}, {xw, ys}};
     int bown[4] = {0, 1, 2, 3};
-    memcpy(va, box, sizeof box);
-    memcpy(oa, bown, sizeof bown);
-    int n = 4;
-    for (int k = 4; k < nh && n > 0; k++) {
-        n = clip(va, oa, n, ws->hs[k], k, vb, ob);
-        lc_vec2 *tv = va; va = vb; vb = tv;
-        int *to = oa; oa = ob; ob = to;
-    }
+    lc_clip_poly p = {ws->clip_a, ws->own_a, 4}, spare = {ws->clip_b, ws->own_b, 0};
+    memcpy(p.v, box, sizeof box);
+    memcpy(p.own, bown, sizeof bown);
+    lc_clip_owned(&p, &spare, ws->hs, 4, nh);
+    lc_vec2 *va = p.v;
+    int *oa = p.own, n = p.n;
     /* Drop repeated vertices and the zero-length edges they make. */
     int m = 0;
     for (int i = 0; i < n; i++) {
@@ -463,11 +251,11 @@ static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc 
         oa[m++] = oa[i];
     }
     if (m < 3)
-        return LC_REGION_DEGENERATE;
+        return LC_ERR_DEGENERATE;
     int cv = r->cap_v, ch = r->cap_h, cs = r->cap_src;
-    if (LC_GROW(alloc, r->v, cv, m) < 0 || LC_GROW(alloc, r->h, ch, m) < 0 ||
-        LC_GROW(alloc, r->h_src, cs, m) < 0)
-        return LC_REGION_NO_MEMORY;
+    if (LC_GROW(r->alloc, r->v, cv, m) < 0 || LC_GROW(r->alloc, r->h, ch, m) < 0 ||
+        LC_GROW(r->alloc, r->h_src, cs, m) < 0)
+        return LC_ERR_NO_MEMORY;
     r->cap_v = cv;
     r->cap_h = ch;
     r->cap_src = cs;
@@ -485,7 +273,7 @@ static int build_polygon(lc_region_ws *ws, int nh, lc_region *r, const lc_alloc 
     }
     memcpy(r->v, va, sizeof *va * (size_t)m);
     r->nv = m;
-    return LC_REGION_OK;
+    return LC_OK;
 }
 
 static lc_ellipse seed_ellipse(const lc_vec2 *seeds, int ns, double eps)
@@ -499,12 +287,13 @@ static lc_ellipse seed_ellipse(const lc_vec2 *seeds, int ns, double eps)
                         lc_lerp(seeds[0], seeds[1], 0.5)};
 }
 
-static void copy_region(lc_region *dst, const lc_region *src, const lc_alloc *alloc, int *rc)
+static void copy_region(lc_region *dst, const lc_region *src, int *rc)
 {
     int cv = dst->cap_v, ch = dst->cap_h, cs = dst->cap_src;
-    if (LC_GROW(alloc, dst->v, cv, src->nv) < 0 || LC_GROW(alloc, dst->h, ch, src->nh) < 0 ||
-        LC_GROW(alloc, dst->h_src, cs, src->nh) < 0) {
-        *rc = LC_REGION_NO_MEMORY;
+    const lc_alloc *a = dst->alloc;
+    if (LC_GROW(a, dst->v, cv, src->nv) < 0 || LC_GROW(a, dst->h, ch, src->nh) < 0 ||
+        LC_GROW(a, dst->h_src, cs, src->nh) < 0) {
+        *rc = LC_ERR_NO_MEMORY;
         return;
     }
     dst->cap_v = cv;
@@ -589,7 +378,7 @@ static int goal_seed(const lc_region_input *in, const lc_region_config *cfg, lc_
             int n;
             const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
             free = (ws->flags[j] & FLAG_SKIP) || box_gap(ws, j, in->centre, g) > 2e-6 ||
-                   seg_poly_distance(in->centre, g, v, n) > 2e-6;
+                   lc_segment_polygon_distance(in->centre, g, v, n) > 2e-6;
         }
         if (free) {
             *seed = g;
@@ -608,12 +397,11 @@ static double seed_clearance(const lc_region_input *in, const lc_region_ws *ws, 
             continue;
         int n;
         const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-        best = lc_min(best, seg_poly_distance(s[0], s[ns - 1], v, n));
+        best = lc_min(best, lc_segment_polygon_distance(s[0], s[ns - 1], v, n));
     }
     return best;
 }
 
-/* One round: lines for the current ellipse, then the polygon. Returns nh. */
 /* Smallest eigenvalue of the symmetric 2x2 L: |L^-1 w| <= |w| / sigma. */
 static double l_sigma_min(const lc_ellipse *e)
 {
@@ -652,29 +440,20 @@ static int heap_pop(lc_region_ws *ws, int *n)
 }
 
 /* Nearest point of grown obstacle j to the ellipse centre, ellipse frame. */
-static int exact_distance(const lc_region_input *in, lc_region_ws *ws, const double inv[3],
-                          const lc_ellipse *e, int j, const lc_alloc *alloc)
+static int exact_distance(const lc_region_input *in, lc_region_ws *ws, lc_sym2 inv,
+                          const lc_ellipse *e, int j)
 {
     int n;
     const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-    if (LC_GROW(alloc, ws->tv, ws->cap_tv, n) < 0)
-        return -1;
+    if (LC_GROW(ws->alloc, ws->tv, ws->cap_tv, n) < 0)
+        return LC_ERR_NO_MEMORY;
     for (int i = 0; i < n; i++)
-        ws->tv[i] = sym_mul(inv, lc_sub(v[i], e->d));
-    ws->xstar[j] = nearest_to_origin(ws->tv, n);
+        ws->tv[i] = lc_sym2_apply(inv, lc_sub(v[i], e->d));
+    ws->xstar[j] = lc_polygon_nearest_origin(ws->tv, n);
     ws->dist[j] = lc_len(ws->xstar[j]);
-    return 0;
+    return LC_OK;
 }
 
-/*
- * One round's lines. Obstacles are taken in increasing distance in the
- * metric of the current ellipse, each skipped when a line already placed
- * has it outside. The exact distance (all vertices transformed) is computed
- * lazily: obstacles are walked in order of a cheap lower bound (bounding
- * circle over the smallest semi-axis), exact ones wait in a heap until no
- * lower bound below them is left, so the order is exactly the sorted one
- * while an obstacle already cut off costs only its circle test.
- */
 /*
  * The obstacles taken into account (not FLAG_SKIP) into ws->order by their
  * lower bound of distance. The set is the same in every round of a frame, so
@@ -682,7 +461,7 @@ static int exact_distance(const lc_region_input *in, lc_region_ws *ws, const dou
  * ellipse grows smoothly and that order is nearly right (1081-beam bench
  * frame: the sorting fell from 35k to 16k instructions). Returns the count.
  */
-static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, const double inv[3],
+static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, lc_sym2 inv,
                            const lc_ellipse *e, bool warm)
 {
     double sigma = l_sigma_min(e);
@@ -697,7 +476,7 @@ static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, const do
     for (int q = 0; q < na; q++) {
         int j = ws->order[q];
         const double *cc = ws->circle + 3 * j;
-        double centre = lc_len(sym_mul(inv, lc_sub(lc_v2(cc[0], cc[1]), e->d)));
+        double centre = lc_len(lc_sym2_apply(inv, lc_sub(lc_v2(cc[0], cc[1]), e->d)));
         ws->lower[j] = lc_max(0.0, centre - cc[2] / sigma) * (1.0 - 1e-12);
     }
     if (warm)
@@ -707,12 +486,21 @@ static int order_obstacles(const lc_region_input *in, lc_region_ws *ws, const do
     return na;
 }
 
+/*
+ * One round's lines. Obstacles are taken in increasing distance in the
+ * metric of the current ellipse, each skipped when a line already placed
+ * has it outside. The exact distance (all vertices transformed) is computed
+ * lazily: obstacles are walked in order of a cheap lower bound (bounding
+ * circle over the smallest semi-axis), exact ones wait in a heap until no
+ * lower bound below them is left, so the order is exactly the sorted one
+ * while an obstacle already cut off costs only its circle test.
+ * Returns nh (the lines into ws->hs[nbase..nh)), LC_ERR_NO_MEMORY, or
+ * LC_ERR_DEGENERATE when no line keeps the seeds inside.
+ */
 static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, const lc_ellipse *e,
-                       bool warm, const lc_vec2 *seeds, int ns, lc_region_info *info,
-                       const lc_alloc *alloc)
+                       bool warm, const lc_vec2 *seeds, int ns, lc_region_info *info)
 {
-    double inv[3];
-    l_inverse(e, inv);
+    lc_sym2 inv = lc_sym2_inverse(lc_ellipse_shape(e));
     int na = order_obstacles(in, ws, inv, e, warm);
     int nh = nbase, q = 0, nheap = 0;
     while (q < na || nheap > 0) {
@@ -727,8 +515,8 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
             /* Lines only accumulate: an obstacle cut off now stays cut off. */
             if (excluded(ws->hs, nbase, nh, v, n, ws->circle + 3 * j))
                 continue;
-            if (exact_distance(in, ws, inv, e, j, alloc) < 0)
-                return -1;
+            if (exact_distance(in, ws, inv, e, j) < 0)
+                return LC_ERR_NO_MEMORY;
             heap_push(ws, &nheap, j);
             continue;
         }
@@ -737,7 +525,7 @@ static int place_lines(const lc_region_input *in, lc_region_ws *ws, int nbase, c
             continue;
         lc_halfspace h;
         if (!obstacle_line(e, inv, v, n, ws->xstar[j], seeds, ns, &h, &info->fallback_lines))
-            return -2;
+            return LC_ERR_DEGENERATE;
         ws->hs[nh] = h;
         ws->hs_src[nh++] = j;
     }
@@ -757,7 +545,7 @@ static int solve_ellipse(lc_region *r, const lc_ellipse *warm, const lc_ellipse_
 
 int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
                       const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,
-                      lc_region_info *info, const lc_clock *clock, const lc_alloc *alloc)
+                      lc_region_info *info, const lc_clock *clock)
 {
     lc_region_info local;
     if (!info)
@@ -767,12 +555,12 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
     out->rounds = 0;
     out->has_goal_seed = false;
     if (!lc_vec2_finite(in->centre) || !(in->window > 0) || !isfinite(in->window))
-        return LC_REGION_BAD_INPUT;
+        return LC_ERR_BAD_INPUT;
     int n_obs = in->grown->np;
     int max_hs = 4 + in->n_blind + n_obs;
     int max_v = max_hs + 4; /* each clip adds at most one vertex */
-    if (grow_ws(ws, alloc, n_obs, max_hs, max_v) < 0)
-        return LC_REGION_NO_MEMORY;
+    if (grow_ws(ws, n_obs, max_hs, max_v) < 0)
+        return LC_ERR_NO_MEMORY;
 
     lc_vec2 c = in->centre;
     double w = in->window;
@@ -799,22 +587,22 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
 
     /* Round 1 builds a region from the seed; later rounds keep the best. */
     lc_region *cand = &ws->cand;
-    int rc = LC_REGION_OK;
+    int rc = LC_OK;
     double best_area = -1;
     for (int round = 1; round <= cfg->max_rounds && round <= LC_REGION_MAX_ROUNDS; round++) {
-        int nh = place_lines(in, ws, nbase, &e, round > 1, seeds, ns, info, alloc);
+        int nh = place_lines(in, ws, nbase, &e, round > 1, seeds, ns, info);
         if (nh < 0) {
-            rc = nh == -1 ? LC_REGION_NO_MEMORY : LC_REGION_DEGENERATE;
+            rc = nh;
             break;
         }
-        int st = build_polygon(ws, nh, round == 1 ? out : cand, alloc);
-        if (st != LC_REGION_OK) {
+        int st = build_polygon(ws, nh, round == 1 ? out : cand);
+        if (st != LC_OK) {
             rc = st;
             break;
         }
         lc_region *r = round == 1 ? out : cand;
         if (solve_ellipse(r, round == 1 ? NULL : &e, eopts, ws, info, clock) < 0) {
-            rc = round == 1 ? LC_REGION_DEGENERATE : LC_REGION_OK;
+            rc = round == 1 ? LC_ERR_DEGENERATE : LC_OK;
             break;
         }
         double area = lc_ellipse_area(&r->ellipse);
@@ -823,46 +611,59 @@ int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
         if (round > 1 && area < best_area)
             break; /* a moved line cost area: keep the previous round */
         if (round > 1)
-            copy_region(out, cand, alloc, &rc);
+            copy_region(out, cand, &rc);
         out->rounds = round;
         bool converged = round > 1 && area <= best_area * (1.0 + cfg->area_tol);
         best_area = area;
         e = out->ellipse;
-        if (converged || rc != LC_REGION_OK)
+        if (converged || rc != LC_OK)
             break;
     }
     info->area[0] = lc_ellipse_area(&(lc_ellipse){eps, 0, eps, c});
-    if (rc == LC_REGION_OK && info->too_close)
+    if (rc == LC_OK && info->too_close)
         rc = LC_REGION_TOO_CLOSE;
     return rc;
 }
 
-void lc_region_free(lc_region *r, const lc_alloc *alloc)
+void lc_region_init(lc_region *r, const lc_alloc *alloc)
 {
-    LC_RELEASE(alloc, r->h, r->cap_h);
-    LC_RELEASE(alloc, r->h_src, r->cap_src);
-    LC_RELEASE(alloc, r->v, r->cap_v);
+    memset(r, 0, sizeof *r);
+    r->alloc = alloc;
+}
+
+void lc_region_ws_init(lc_region_ws *ws, const lc_alloc *alloc)
+{
+    memset(ws, 0, sizeof *ws);
+    ws->alloc = alloc;
+    lc_region_init(&ws->cand, alloc);
+}
+
+void lc_region_free(lc_region *r)
+{
+    LC_RELEASE(r->alloc, r->h, r->cap_h);
+    LC_RELEASE(r->alloc, r->h_src, r->cap_src);
+    LC_RELEASE(r->alloc, r->v, r->cap_v);
     r->nh = r->nv = 0;
 }
 
-void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc)
+void lc_region_ws_free(lc_region_ws *ws)
 {
-    LC_RELEASE(alloc, ws->order, ws->cap_order);
-    LC_RELEASE(alloc, ws->dist, ws->cap_dist);
-    LC_RELEASE(alloc, ws->flags, ws->cap_flags);
-    LC_RELEASE(alloc, ws->box, ws->cap_box);
-    LC_RELEASE(alloc, ws->xstar, ws->cap_xstar);
-    LC_RELEASE(alloc, ws->circle, ws->cap_circle);
-    LC_RELEASE(alloc, ws->lower, ws->cap_lower);
-    LC_RELEASE(alloc, ws->heap, ws->cap_heap);
-    LC_RELEASE(alloc, ws->hs, ws->cap_hs);
-    LC_RELEASE(alloc, ws->hs_src, ws->cap_hs_src);
-    LC_RELEASE(alloc, ws->tv, ws->cap_tv);
-    lc_region_free(&ws->cand, alloc);
-    LC_RELEASE(alloc, ws->clip_a, ws->cap_ca);
-    LC_RELEASE(alloc, ws->clip_b, ws->cap_cb);
-    LC_RELEASE(alloc, ws->own_a, ws->cap_oa);
-    LC_RELEASE(alloc, ws->own_b, ws->cap_ob);
-    LC_RELEASE(alloc, ws->scratch, ws->cap_scratch);
-    LC_RELEASE(alloc, ws->lambda, ws->cap_lambda);
+    LC_RELEASE(ws->alloc, ws->order, ws->cap_order);
+    LC_RELEASE(ws->alloc, ws->dist, ws->cap_dist);
+    LC_RELEASE(ws->alloc, ws->flags, ws->cap_flags);
+    LC_RELEASE(ws->alloc, ws->box, ws->cap_box);
+    LC_RELEASE(ws->alloc, ws->xstar, ws->cap_xstar);
+    LC_RELEASE(ws->alloc, ws->circle, ws->cap_circle);
+    LC_RELEASE(ws->alloc, ws->lower, ws->cap_lower);
+    LC_RELEASE(ws->alloc, ws->heap, ws->cap_heap);
+    LC_RELEASE(ws->alloc, ws->hs, ws->cap_hs);
+    LC_RELEASE(ws->alloc, ws->hs_src, ws->cap_hs_src);
+    LC_RELEASE(ws->alloc, ws->tv, ws->cap_tv);
+    lc_region_free(&ws->cand);
+    LC_RELEASE(ws->alloc, ws->clip_a, ws->cap_ca);
+    LC_RELEASE(ws->alloc, ws->clip_b, ws->cap_cb);
+    LC_RELEASE(ws->alloc, ws->own_a, ws->cap_oa);
+    LC_RELEASE(ws->alloc, ws->own_b, ws->cap_ob);
+    LC_RELEASE(ws->alloc, ws->scratch, ws->cap_scratch);
+    LC_RELEASE(ws->alloc, ws->lambda, ws->cap_lambda);
 }

@@ -18,6 +18,7 @@
 #include "geom.h"
 #include "polyset.h"
 #include "clock.h"
+#include "view.h" /* the lines of lc_region_input.blind */
 
 typedef struct lc_region {
     lc_halfspace *h; /* non-redundant, |a| = 1 */
@@ -30,7 +31,12 @@ typedef struct lc_region {
     int rounds;
     bool has_goal_seed;
     lc_vec2 goal_seed;
+    const lc_alloc *alloc; /* the buffers grow through it (alloc.h) */
 } lc_region;
+
+/* Init and free as alloc.h says. */
+void lc_region_init(lc_region *r, const lc_alloc *alloc);
+void lc_region_free(lc_region *r);
 
 #define LC_REGION_SRC_WINDOW (-1)
 #define LC_REGION_SRC_BLIND (-2)
@@ -61,13 +67,10 @@ typedef struct lc_region_input {
     lc_halfspace blind[2];
 } lc_region_input;
 
-typedef enum lc_region_status {
-    LC_REGION_OK = 0,
+/* lc_region_inflate's one positive outcome (its errors are lc_status). */
+enum {
     LC_REGION_TOO_CLOSE = 1, /* centre inside a grown obstacle: those were left out */
-    LC_REGION_NO_MEMORY = -1,
-    LC_REGION_BAD_INPUT = -2,
-    LC_REGION_DEGENERATE = -3, /* no region of positive area holds the centre */
-} lc_region_status;
+};
 
 typedef struct lc_region_info {
     int rounds;
@@ -78,7 +81,7 @@ typedef struct lc_region_info {
     double ellipse_us;     /* solver time, when a clock is given */
 } lc_region_info;
 
-/* Scratch reused across frames; zero it before first use. */
+/* Scratch reused across frames. */
 typedef struct lc_region_ws {
     int *order;  int cap_order; /* obstacles in order of distance */
     int n_order;                 /* how many are in order (this frame's) */
@@ -96,46 +99,23 @@ typedef struct lc_region_ws {
     int *own_a, *own_b; int cap_oa, cap_ob;
     double *scratch; int cap_scratch;
     double *lambda; int cap_lambda;
-    struct lc_region cand;       /* the round being built */
+    struct lc_region cand;       /* the round being built (the same allocator) */
+    const lc_alloc *alloc;       /* the buffers grow through it (alloc.h) */
 } lc_region_ws;
 
-void lc_region_ws_free(lc_region_ws *ws, const lc_alloc *alloc);
+/* Init and free as alloc.h says; init gives cand the same allocator. */
+void lc_region_ws_init(lc_region_ws *ws, const lc_alloc *alloc);
+void lc_region_ws_free(lc_region_ws *ws);
 
 /*
- * Lines bounding a scanner's blind sector, through the centre: the view
- * covers fov radians about the world direction view_mid. fov >= 2 pi: none.
- * fov > pi: one line, the supporting line of the blind cone that leaves most
- * room toward the waypoint (or perpendicular to the blind axis without one);
- * fov <= pi: the two edges of the seen cone. Returns the count (0..2).
- */
-int lc_region_blind_lines(lc_vec2 centre, double fov, double view_mid, bool has_waypoint,
-                          lc_vec2 waypoint, lc_halfspace out[2]);
-
-/*
- * The directions a robot that can slide sideways (the point model) may move
- * in without its footprint sweeping space the scanner did not see. Moving
- * from the centre c along u, every point the disc of radius `radius` newly
- * covers lies in the half plane (p - c) . u >= 0; that half plane may meet
- * the blind cone (apex at the sensor, c + sensor_offset, world frame) only
- * inside the disc the robot occupies now, which is free. For fov > pi that
- * holds for the directions of a wedge about the view axis (half angle
- * fov/2 - pi/2 with the sensor at the centre; narrower or wider with a
- * mount offset), returned as two lines through c (the region then stays in
- * the wedge and every straight braking path from c does too). Returns 2;
- * 0 when fov >= 2 pi; -1 when no direction qualifies (the sensor outside the
- * footprint, or fov <= pi, where a half plane always reaches unseen space:
- * callers fall back to lc_region_blind_lines).
- */
-int lc_region_view_wedge(lc_vec2 centre, lc_vec2 sensor_offset, double fov, double view_mid,
-                         double radius, lc_halfspace out[2]);
-
-/*
- * Iterative region inflation. Fills out (buffers grown through alloc) and
- * info (may be NULL). clock may be NULL. Returns an lc_region_status.
+ * Iterative region inflation. Fills out (its buffers grown through its
+ * allocator, ws's through ws's) and info (may be NULL). clock may be NULL. Returns LC_OK, LC_REGION_TOO_CLOSE,
+ * or LC_ERR_NO_MEMORY, LC_ERR_BAD_INPUT (a non-finite centre, a window not
+ * above 0), LC_ERR_DEGENERATE (no region of positive area holds the centre).
  */
 int lc_region_inflate(const lc_region_input *in, const lc_region_config *cfg,
                       const lc_ellipse_opts *eopts, lc_region_ws *ws, lc_region *out,
-                      lc_region_info *info, const lc_clock *clock, const lc_alloc *alloc);
+                      lc_region_info *info, const lc_clock *clock);
 
 /* True when p satisfies every halfspace within eps metres. */
 bool lc_region_contains(const lc_region *r, lc_vec2 p, double eps);
@@ -151,7 +131,5 @@ double lc_region_ray_exit(const lc_region *r, lc_vec2 p, lc_vec2 dir);
 
 /* The closest point of the region to p (p itself when inside). */
 lc_vec2 lc_region_project(const lc_region *r, lc_vec2 p);
-
-void lc_region_free(lc_region *r, const lc_alloc *alloc);
 
 #endif

@@ -11,6 +11,7 @@
 #include "segment.h"
 
 #include <stdint.h>
+#include <string.h>
 
 void lc_segment_config_default(lc_segment_config *cfg)
 {
@@ -29,12 +30,12 @@ double lc_breakpoint_threshold(double r_prev, double dphi, double lambda, double
     return r_prev * sin(dphi) / sin(lambda - dphi) + 3.0 * sigma_r;
 }
 
-static int push_piece(lc_segment_ws *ws, const lc_alloc *alloc, int start, int count)
+static int push_piece(lc_segment_ws *ws, int start, int count)
 {
     int c2 = ws->cap_pieces;
-    if (LC_GROW(alloc, ws->piece_start, ws->cap_pieces, ws->n_pieces + 1) < 0 ||
-        LC_GROW(alloc, ws->piece_count, c2, ws->n_pieces + 1) < 0)
-        return -1;
+    if (LC_GROW(ws->alloc, ws->piece_start, ws->cap_pieces, ws->n_pieces + 1) < 0 ||
+        LC_GROW(ws->alloc, ws->piece_count, c2, ws->n_pieces + 1) < 0)
+        return LC_ERR_NO_MEMORY;
     ws->piece_start[ws->n_pieces] = start;
     ws->piece_count[ws->n_pieces] = count;
     ws->n_pieces++;
@@ -58,10 +59,10 @@ static int farthest_from_chord(const lc_vec2 *p, const int *order, int s, int e,
     return best;
 }
 
-static int stack_push(lc_segment_ws *ws, const lc_alloc *alloc, int *top, int s, int e)
+static int stack_push(lc_segment_ws *ws, int *top, int s, int e)
 {
-    if (LC_GROW(alloc, ws->stack, ws->cap_stack, *top + 2) < 0)
-        return -1;
+    if (LC_GROW(ws->alloc, ws->stack, ws->cap_stack, *top + 2) < 0)
+        return LC_ERR_NO_MEMORY;
     ws->stack[(*top)++] = s;
     ws->stack[(*top)++] = e;
     return 0;
@@ -69,11 +70,11 @@ static int stack_push(lc_segment_ws *ws, const lc_alloc *alloc, int *top, int s,
 
 /* Iterative end-point fit over order[s..e] in order; neighbours share the split point. */
 static int split_ordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment_config *cfg,
-                         const lc_alloc *alloc, int s0, int e0)
+                         int s0, int e0)
 {
     int top = 0;
-    if (stack_push(ws, alloc, &top, s0, e0) < 0)
-        return -1;
+    if (stack_push(ws, &top, s0, e0) < 0)
+        return LC_ERR_NO_MEMORY;
     while (top > 0) {
         int e = ws->stack[--top], s = ws->stack[--top];
         double d = 0;
@@ -81,13 +82,13 @@ static int split_ordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment_c
         if (e - s + 1 > cfg->max_piece && !(d > cfg->split_width))
             k = s + (e - s) / 2;
         else if (!(d > cfg->split_width)) {
-            if (push_piece(ws, alloc, s, e - s + 1) < 0)
-                return -1;
+            if (push_piece(ws, s, e - s + 1) < 0)
+                return LC_ERR_NO_MEMORY;
             continue;
         }
         /* Right half first on the stack so pieces come out in beam order. */
-        if (stack_push(ws, alloc, &top, k, e) < 0 || stack_push(ws, alloc, &top, s, k) < 0)
-            return -1;
+        if (stack_push(ws, &top, k, e) < 0 || stack_push(ws, &top, s, k) < 0)
+            return LC_ERR_NO_MEMORY;
     }
     return 0;
 }
@@ -108,8 +109,7 @@ static double neighbour_threshold(const lc_cloud *c, const lc_segment_config *cf
     return lc_breakpoint_threshold(c->range[i - 1], dphi, cfg->lambda, cfg->sigma_r);
 }
 
-static int ordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_segment_ws *ws,
-                            const lc_alloc *alloc)
+static int ordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_segment_ws *ws)
 {
     double step = fabs(c->angle_step);
     double step_ratio = step > 0 && step < cfg->lambda ? sin(step) / sin(cfg->lambda - step) : -1;
@@ -128,8 +128,8 @@ static int ordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_
             }
         }
         if (brk) {
-            if (split_ordered(c->world, ws, cfg, alloc, start, i - 1) < 0)
-                return -1;
+            if (split_ordered(c->world, ws, cfg, start, i - 1) < 0)
+                return LC_ERR_NO_MEMORY;
             start = i;
         }
     }
@@ -184,11 +184,11 @@ static bool near_side(lc_vec2 q, lc_vec2 a, lc_vec2 b, lc_vec2 k, bool thin)
  * point, so each side is a cluster of its own with fresh chord ends.
  */
 static int split_unordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment_config *cfg,
-                           const lc_alloc *alloc, int s0, int e0)
+                           int s0, int e0)
 {
     int top = 0;
-    if (stack_push(ws, alloc, &top, s0, e0) < 0)
-        return -1;
+    if (stack_push(ws, &top, s0, e0) < 0)
+        return LC_ERR_NO_MEMORY;
     while (top > 0) {
         int e = ws->stack[--top], s = ws->stack[--top];
         if (e - s >= 1)
@@ -197,8 +197,8 @@ static int split_unordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment
         int k = e - s >= 2 ? farthest_from_chord(p, ws->order, s, e, &d) : s;
         bool too_long = e - s + 1 > cfg->max_piece;
         if (!(d > cfg->split_width) && !too_long) {
-            if (push_piece(ws, alloc, s, e - s + 1) < 0)
-                return -1;
+            if (push_piece(ws, s, e - s + 1) < 0)
+                return LC_ERR_NO_MEMORY;
             continue;
         }
         lc_vec2 a = p[ws->order[s]], b = p[ws->order[e]], kp = p[ws->order[k]];
@@ -215,12 +215,12 @@ static int split_unordered(const lc_vec2 *p, lc_segment_ws *ws, const lc_segment
         }
         /* lo is the first index of the far side; both sides hold a chord end. */
         if (lo <= s || lo > e) {
-            if (push_piece(ws, alloc, s, e - s + 1) < 0)
-                return -1;
+            if (push_piece(ws, s, e - s + 1) < 0)
+                return LC_ERR_NO_MEMORY;
             continue;
         }
-        if (stack_push(ws, alloc, &top, lo, e) < 0 || stack_push(ws, alloc, &top, s, lo - 1) < 0)
-            return -1;
+        if (stack_push(ws, &top, lo, e) < 0 || stack_push(ws, &top, s, lo - 1) < 0)
+            return LC_ERR_NO_MEMORY;
     }
     return 0;
 }
@@ -232,16 +232,15 @@ static uint32_t cell_hash(long ix, long iy, uint32_t mask)
 }
 
 /* Grid-hashed Euclidean clustering: clusters become contiguous runs of order[]. */
-static int unordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_segment_ws *ws,
-                              const lc_alloc *alloc)
+static int unordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, lc_segment_ws *ws)
 {
     int n = c->n;
     uint32_t cells = 16;
     while (cells < 2u * (uint32_t)n)
         cells *= 2;
-    if (LC_GROW(alloc, ws->cell_head, ws->cap_cells, (int)cells) < 0 ||
-        LC_GROW(alloc, ws->next, ws->cap_next, 2 * n) < 0)
-        return -1;
+    if (LC_GROW(ws->alloc, ws->cell_head, ws->cap_cells, (int)cells) < 0 ||
+        LC_GROW(ws->alloc, ws->next, ws->cap_next, 2 * n) < 0)
+        return LC_ERR_NO_MEMORY;
     int *next = ws->next, *done = ws->next + n;
     double h = cfg->cluster_dist > 0 ? cfg->cluster_dist : 0.15;
     for (uint32_t i = 0; i < cells; i++)
@@ -272,35 +271,40 @@ static int unordered_clusters(const lc_cloud *c, const lc_segment_config *cfg, l
                             ws->order[filled++] = j;
                         }
         }
-        if (split_unordered(c->world, ws, cfg, alloc, start, filled - 1) < 0)
-            return -1;
+        if (split_unordered(c->world, ws, cfg, start, filled - 1) < 0)
+            return LC_ERR_NO_MEMORY;
     }
     return 0;
 }
 
-int lc_segment(const lc_cloud *cloud, const lc_segment_config *cfg, lc_segment_ws *ws,
-               const lc_alloc *alloc)
+void lc_segment_ws_init(lc_segment_ws *ws, const lc_alloc *alloc)
+{
+    memset(ws, 0, sizeof *ws);
+    ws->alloc = alloc;
+}
+
+int lc_segment(const lc_cloud *cloud, const lc_segment_config *cfg, lc_segment_ws *ws)
 {
     ws->n_pieces = 0;
-    if (LC_GROW(alloc, ws->order, ws->cap_order, cloud->n > 0 ? cloud->n : 1) < 0)
-        return -1;
+    if (LC_GROW(ws->alloc, ws->order, ws->cap_order, cloud->n > 0 ? cloud->n : 1) < 0)
+        return LC_ERR_NO_MEMORY;
     if (cloud->n == 0)
         return 0;
     for (int i = 0; i < cloud->n; i++)
         ws->order[i] = i;
-    int rc = cloud->ordered ? ordered_clusters(cloud, cfg, ws, alloc)
-                            : unordered_clusters(cloud, cfg, ws, alloc);
-    return rc < 0 ? -1 : ws->n_pieces;
+    int rc = cloud->ordered ? ordered_clusters(cloud, cfg, ws)
+                            : unordered_clusters(cloud, cfg, ws);
+    return rc < 0 ? LC_ERR_NO_MEMORY : ws->n_pieces;
 }
 
-void lc_segment_ws_free(lc_segment_ws *ws, const lc_alloc *alloc)
+void lc_segment_ws_free(lc_segment_ws *ws)
 {
     int c2 = ws->cap_pieces;
-    LC_RELEASE(alloc, ws->order, ws->cap_order);
-    LC_RELEASE(alloc, ws->piece_start, ws->cap_pieces);
-    LC_RELEASE(alloc, ws->piece_count, c2);
-    LC_RELEASE(alloc, ws->cell_head, ws->cap_cells);
-    LC_RELEASE(alloc, ws->next, ws->cap_next);
-    LC_RELEASE(alloc, ws->stack, ws->cap_stack);
+    LC_RELEASE(ws->alloc, ws->order, ws->cap_order);
+    LC_RELEASE(ws->alloc, ws->piece_start, ws->cap_pieces);
+    LC_RELEASE(ws->alloc, ws->piece_count, c2);
+    LC_RELEASE(ws->alloc, ws->cell_head, ws->cap_cells);
+    LC_RELEASE(ws->alloc, ws->next, ws->cap_next);
+    LC_RELEASE(ws->alloc, ws->stack, ws->cap_stack);
     ws->n_pieces = 0;
 }

@@ -42,12 +42,14 @@ typedef struct lc_segment_ws {
     int cap_cells, cap_next;
     int *stack;
     int cap_stack;
+    const lc_alloc *alloc; /* the buffers grow through it (alloc.h) */
 } lc_segment_ws;
 
-/* Returns the number of pieces, or -1 when out of memory. */
-int lc_segment(const lc_cloud *cloud, const lc_segment_config *cfg, lc_segment_ws *ws,
-               const lc_alloc *alloc);
+/* Init and free as alloc.h says. */
+void lc_segment_ws_init(lc_segment_ws *ws, const lc_alloc *alloc);
+void lc_segment_ws_free(lc_segment_ws *ws);
 
-void lc_segment_ws_free(lc_segment_ws *ws, const lc_alloc *alloc);
+/* Returns the number of pieces, or LC_ERR_NO_MEMORY. */
+int lc_segment(const lc_cloud *cloud, const lc_segment_config *cfg, lc_segment_ws *ws);
 
 #endif

@@ -83,6 +83,16 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
         return NULL;
     memset(s, 0, sizeof *s);
     s->alloc = *alloc;
+    lc_cloud_init(&s->cloud, &s->alloc);
+    lc_segment_ws_init(&s->seg, &s->alloc);
+    lc_polyset_init(&s->obstacles, &s->alloc);
+    lc_polyset_init(&s->grown, &s->alloc);
+    lc_region_init(&s->region, &s->alloc);
+    lc_region_ws_init(&s->rws, &s->alloc);
+    lc_segment_ws_init(&s->seg_recall, &s->alloc);
+    lc_polyset_init(&s->frontier, &s->alloc);
+    lc_recall_init(&s->recall, &s->alloc);
+    lc_steer_ws_init(&s->steer, &s->alloc);
     if (robot)
         s->robot = *robot;
     else
@@ -125,19 +135,19 @@ void lc_session_free(lc_session *s)
         return;
     const lc_alloc *a = &s->alloc;
     lc_hull_free(s->hull);
-    lc_cloud_free(&s->cloud, a);
-    lc_segment_ws_free(&s->seg, a);
+    lc_cloud_free(&s->cloud);
+    lc_segment_ws_free(&s->seg);
     lc_memory_free(s->mem);
     lc_guide_free(s->guide);
-    lc_recall_free(&s->recall, a);
-    lc_segment_ws_free(&s->seg_recall, a);
-    lc_polyset_free(&s->frontier, a);
-    lc_polyset_free(&s->obstacles, a);
-    lc_polyset_free(&s->grown, a);
+    lc_recall_free(&s->recall);
+    lc_segment_ws_free(&s->seg_recall);
+    lc_polyset_free(&s->frontier);
+    lc_polyset_free(&s->obstacles);
+    lc_polyset_free(&s->grown);
     LC_RELEASE(a, s->gather, s->cap_gather);
-    lc_steer_ws_free(&s->steer, a);
-    lc_region_free(&s->region, a);
-    lc_region_ws_free(&s->rws, a);
+    lc_steer_ws_free(&s->steer);
+    lc_region_free(&s->region);
+    lc_region_ws_free(&s->rws);
     lc_alloc keep = s->alloc;
     keep.realloc(keep.data, s, 0);
 }
@@ -185,7 +195,7 @@ static int hull_pieces(lc_session *s, const lc_cloud *cloud, const lc_segment_ws
     for (int k = 0; k < seg->n_pieces; k++) {
         int start = seg->piece_start[k], n = seg->piece_count[k];
         if (LC_GROW(&s->alloc, s->gather, s->cap_gather, n) < 0 ||
-            lc_polyset_reserve(out, &s->alloc, n) < 0)
+            lc_polyset_reserve(out, n) < 0)
             return -1;
         for (int i = 0; i < n; i++)
             s->gather[i] = cloud->world[seg->order[start + i]];
@@ -194,7 +204,7 @@ static int hull_pieces(lc_session *s, const lc_cloud *cloud, const lc_segment_ws
             return -1;
         if (m <= 0)
             continue; /* finite input by construction: no other failure is expected */
-        if (lc_polyset_commit(out, &s->alloc, m, src0 + k) < 0)
+        if (lc_polyset_commit(out, m, src0 + k) < 0)
             return -1;
     }
     return 0;
@@ -208,11 +218,11 @@ static int grow_set(lc_session *s, const lc_polyset *set, int from, double r, in
         int n;
         const lc_vec2 *v = lc_polyset_at(set, j, &n);
         int cap = n + s->grow_rule.extra; /* lc_grow_max_vertices */
-        if (lc_polyset_reserve(&s->grown, &s->alloc, cap) < 0)
+        if (lc_polyset_reserve(&s->grown, cap) < 0)
             return -1;
         int m = lc_grow_polygon_rule(v, n, r, &s->grow_rule, s->grown.v + s->grown.nv, cap);
         int src = src0 >= 0 ? src0 + j : src0 - j;
-        if (m > 0 && lc_polyset_commit(&s->grown, &s->alloc, m, src) < 0)
+        if (m > 0 && lc_polyset_commit(&s->grown, m, src) < 0)
             return -1;
     }
     return 0;
@@ -307,10 +317,10 @@ static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
                           .reach = s->cfg.recall,
                           /* unknown cells farther than this, grown, leave the centre out */
                           .near = 1.05 * lc_robot_clearance(&s->robot) + 2.0 * cell};
-    if (lc_recall_collect(&in, &s->recall, &s->alloc) < 0 ||
-        lc_segment(&s->recall.occupied, &s->cfg.segment, &s->seg_recall, &s->alloc) < 0 ||
+    if (lc_recall_collect(&in, &s->recall) < 0 ||
+        lc_segment(&s->recall.occupied, &s->cfg.segment, &s->seg_recall) < 0 ||
         hull_pieces(s, &s->recall.occupied, &s->seg_recall, &s->obstacles, 0) < 0 ||
-        lc_segment(&s->recall.frontier, &s->cfg.segment, &s->seg_recall, &s->alloc) < 0 ||
+        lc_segment(&s->recall.frontier, &s->cfg.segment, &s->seg_recall) < 0 ||
         hull_pieces(s, &s->recall.frontier, &s->seg_recall, &s->frontier, 0) < 0)
         return -1;
     if (s->cfg.region.blind_line) {
@@ -352,7 +362,7 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
     }
     lc_region_info info;
     int rc = lc_region_inflate(&in, &s->cfg.region, &s->cfg.ellipse, &s->rws, &s->region, &info,
-                               &s->clock, &s->alloc);
+                               &s->clock);
     out->stage_us[LC_STAGE_ELLIPSE] = info.ellipse_us;
     out->ellipse_iterations = info.ellipse_iterations;
     return rc;
@@ -376,7 +386,7 @@ static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *o
                          .waypoint = out->waypoint,
                          .last = &s->last,
                          .dt = dt};
-    lc_steer_drive(&in, &s->steer, &s->alloc, &out->setpoint);
+    lc_steer_drive(&in, &s->steer, &out->setpoint);
 }
 
 /* The clearance guidance keeps: the grown obstacles' (remembered cells are
@@ -515,10 +525,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     icfg.z_max = fmin(icfg.z_max, s->robot.z_max);
     lc_frame resolved = resolve_frame(s, frame, &icfg);
     frame = &resolved;
-    if (lc_ingest(frame, &icfg, &s->cloud, &s->alloc) < 0)
+    if (lc_ingest(frame, &icfg, &s->cloud) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_INGEST, &t);
-    if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg, &s->alloc) < 0)
+    if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_SEGMENT, &t);
     if (hull_pieces(s, &s->cloud, &s->seg, &s->obstacles, 0) < 0)
@@ -541,10 +551,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     int rc = plan_region(s, frame, has_wp, seek, out);
     stamp_stage(s, out, LC_STAGE_REGION, &t);
     out->stage_us[LC_STAGE_REGION] -= out->stage_us[LC_STAGE_ELLIPSE];
-    if (rc == LC_REGION_NO_MEMORY)
+    if (rc == LC_ERR_NO_MEMORY)
         return -1;
     out->clearance = nearest_clearance(s, c);
-    if (rc == LC_REGION_OK || rc == LC_REGION_TOO_CLOSE) {
+    if (rc == LC_OK || rc == LC_REGION_TOO_CLOSE) {
         out->region = &s->region;
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
         out->has_target = has_wp;
@@ -553,7 +563,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     }
     stamp_stage(s, out, LC_STAGE_TARGET, &t);
 
-    if (rc != LC_REGION_OK) {
+    if (rc != LC_OK) {
         /* Centre inside a grown obstacle, or no region holds it: no translation. */
         out->has_waypoint = has_wp;
         out->waypoint = wp;

@@ -9,9 +9,14 @@
 
 #include <string.h>
 
-void lc_steer_ws_free(lc_steer_ws *ws, const lc_alloc *alloc)
+void lc_steer_ws_init(lc_steer_ws *ws, const lc_alloc *alloc)
 {
-    LC_RELEASE(alloc, ws->h, ws->cap_h);
+    *ws = (lc_steer_ws){.alloc = alloc};
+}
+
+void lc_steer_ws_free(lc_steer_ws *ws)
+{
+    LC_RELEASE(ws->alloc, ws->h, ws->cap_h);
 }
 
 void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *params,
@@ -68,16 +73,15 @@ static double box_distance(const lc_vec2 *v, int n, lc_vec2 c)
     return sqrt(dx * dx + dy * dy);
 }
 
-static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
-                                      const lc_alloc *alloc, lc_vec2 c, lc_vec2 aim,
-                                      lc_region *out)
+static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c,
+                                      lc_vec2 aim, lc_region *out)
 {
     const lc_region *r = in->region;
     const lc_robot *robot = in->robot;
     double standoff = in->standoff;
     if (!(standoff > 0) || (robot->model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
         return r;
-    if (LC_GROW(alloc, ws->h, ws->cap_h, r->nh + in->grown->np) < 0)
+    if (LC_GROW(ws->alloc, ws->h, ws->cap_h, r->nh + in->grown->np) < 0)
         return NULL;
     int n = r->nh;
     if (robot->model == LC_MODEL_UNICYCLE) {
@@ -146,15 +150,14 @@ static lc_vec2 slide_aim(const lc_region *mr, lc_vec2 c, lc_vec2 aim)
     return aim;
 }
 
-int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, const lc_alloc *alloc,
-                   lc_setpoint *out)
+int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
 {
     lc_motion_params mp = *in->params;
     mp.latency = fmax(mp.latency, in->dt);
     lc_vec2 aim = aim_point(in);
     lc_region shrunk;
     lc_vec2 c = lc_v2(in->pose.x, in->pose.y);
-    const lc_region *mr = motion_region(in, ws, alloc, c, aim, &shrunk);
+    const lc_region *mr = motion_region(in, ws, c, aim, &shrunk);
     if (mr && mr != in->region)
         aim = slide_aim(mr, c, aim);
     int rc = !mr ? -1

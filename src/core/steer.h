@@ -10,7 +10,8 @@
  * setpoints (last, out) in the robot frame. Units SI.
  *
  * Ownership: lc_steer_ws holds the braking region's halfspaces, grown
- * through the caller's allocator and reused (no allocation once warm).
+ * through the allocator it was given (lc_steer_ws_init; a zeroed one uses
+ * the default) and reused (no allocation once warm).
  */
 #ifndef LC_STEER_H
 #define LC_STEER_H
@@ -22,11 +23,13 @@
 #include "robot.h"
 
 typedef struct lc_steer_ws {
+    const lc_alloc *alloc;
     lc_halfspace *h; /* the braking region's lines */
     int cap_h;
 } lc_steer_ws;
 
-void lc_steer_ws_free(lc_steer_ws *ws, const lc_alloc *alloc);
+void lc_steer_ws_init(lc_steer_ws *ws, const lc_alloc *alloc);
+void lc_steer_ws_free(lc_steer_ws *ws);
 
 typedef struct lc_steer_input {
     const lc_robot *robot;
@@ -45,8 +48,7 @@ typedef struct lc_steer_input {
  * The setpoint toward the target. Returns 0, or -1 when out of memory or
  * the motion law refused its arguments (then *out is a stop, limit none).
  */
-int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, const lc_alloc *alloc,
-                   lc_setpoint *out);
+int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
 
 /*
  * too_close for a unicycle: no translation, but turning in place moves no

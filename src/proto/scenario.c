@@ -50,7 +50,7 @@ void lc_scenario_header_init(lc_scenario_header *h)
     h->expect = LC_EXPECT_DONE;
 }
 
-void lc_scenario_header_free(lc_scenario_header *h) { lc_polyset_free(&h->world, NULL); }
+void lc_scenario_header_free(lc_scenario_header *h) { lc_polyset_free(&h->world); }
 
 double lc_scenario_first_dt(const lc_scenario_header *h)
 {
@@ -125,7 +125,7 @@ static int read_polygon(const cJSON *poly, int i, lc_polyset *out, lc_wire_error
                           "world.polygons[%d]: not an array of at least 2 points", i);
         return -1;
     }
-    if (lc_polyset_reserve(out, NULL, n) < 0) {
+    if (lc_polyset_reserve(out, n) < 0) {
         lc_wire_error_set(we, LC_WIRE_INTERNAL, "world.polygons[%d]: out of memory", i);
         return -1;
     }
@@ -138,7 +138,7 @@ static int read_polygon(const cJSON *poly, int i, lc_polyset *out, lc_wire_error
             return -1;
         j++;
     }
-    if (lc_polyset_commit(out, NULL, n, i) < 0) {
+    if (lc_polyset_commit(out, n, i) < 0) {
         lc_wire_error_set(we, LC_WIRE_INTERNAL, "world.polygons[%d]: out of memory", i);
         return -1;
     }

@@ -31,13 +31,13 @@ double lc_sim_rng_normal(lc_sim_rng *r)
 
 void lc_world_init(lc_world *w) { *w = (lc_world){0}; }
 
-void lc_world_free(lc_world *w) { lc_polyset_free(&w->polys, NULL); }
+void lc_world_free(lc_world *w) { lc_polyset_free(&w->polys); }
 
 int lc_world_add(lc_world *w, const lc_vec2 *v, int n)
 {
     if (n < 2)
         return -1;
-    return lc_polyset_push(&w->polys, NULL, v, n, w->polys.np);
+    return lc_polyset_push(&w->polys, v, n, w->polys.np);
 }
 
 /* Ray origin + t dir against segment [a, b]: t >= 0 of the hit or INFINITY. */

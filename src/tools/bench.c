@@ -246,7 +246,7 @@ static void run_ellipse(ellipse_cmp *e, int sides, int polygons)
         lc_ellipse_info info;
         const int reps = 50;
         double t0 = lc_mono_us();
-        int st = LC_ELLIPSE_OK;
+        int st = LC_OK;
         for (int k = 0; k < reps; k++)
             st = lc_ellipse_solve(h, sides, NULL, &opts, &mine, lambda, scratch, &info);
         tl[p] = (lc_mono_us() - t0) / reps;

@@ -31,8 +31,8 @@ void lc_svg_run_free(lc_svg_run *r)
     free(r->pose);
     free(r->stamp);
     free(r->clearance);
-    lc_polyset_free(&r->regions, NULL);
-    lc_polyset_free(&r->seen, NULL);
+    lc_polyset_free(&r->regions);
+    lc_polyset_free(&r->seen);
     memset(r, 0, sizeof *r);
 }
 
@@ -58,12 +58,12 @@ static int grow_frames(lc_svg_run *r)
 static void snapshot(lc_svg_run *r, const lc_plan_result *res, int id)
 {
     if (res->region && res->region->nv >= 3 &&
-        lc_polyset_push(&r->regions, NULL, res->region->v, res->region->nv, id) < 0)
+        lc_polyset_push(&r->regions, res->region->v, res->region->nv, id) < 0)
         r->failed = 1;
     for (int i = 0; res->obstacles && i < res->obstacles->np; i++) {
         int n;
         const lc_vec2 *v = lc_polyset_at(res->obstacles, i, &n);
-        if (lc_polyset_push(&r->seen, NULL, v, n, id) < 0)
+        if (lc_polyset_push(&r->seen, v, n, id) < 0)
             r->failed = 1;
     }
 }

@@ -338,30 +338,30 @@ static void test_rejects_bad_input(void **state)
     const lc_vec2 twice[6] = {{1, 0}, {-0.5, 0.866}, {-0.5, -0.866},
                               {1, 0}, {-0.5, 0.866}, {-0.5, -0.866}};
     double s = LC_GROW_DEFAULT_STEP;
-    assert_int_equal(lc_grow_polygon(tri, 0, 0.3, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.0, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, -1.0, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, NAN, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, INFINITY, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, 0.0, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, LC_PI / 2 + 1e-9, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, NAN, g, MAXV), -1);
+    assert_int_equal(lc_grow_polygon(tri, 0, 0.3, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.0, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, -1.0, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, NAN, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, INFINITY, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, 0.0, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, LC_PI / 2 + 1e-9, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, NAN, g, MAXV), LC_ERR_BAD_INPUT);
     lc_vec2 bad[3] = {{0, 0}, {1, NAN}, {0, 1}};
-    assert_int_equal(lc_grow_polygon(bad, 3, 0.3, s, g, MAXV), -1);
+    assert_int_equal(lc_grow_polygon(bad, 3, 0.3, s, g, MAXV), LC_ERR_BAD_INPUT);
     bad[1] = lc_v2(INFINITY, 0);
-    assert_int_equal(lc_grow_polygon(bad, 3, 0.3, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(cw, 3, 0.3, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(dent, 4, 0.3, s, g, MAXV), -1);
-    assert_int_equal(lc_grow_polygon(twice, 6, 0.3, s, g, MAXV), -1);
+    assert_int_equal(lc_grow_polygon(bad, 3, 0.3, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(cw, 3, 0.3, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(dent, 4, 0.3, s, g, MAXV), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(twice, 6, 0.3, s, g, MAXV), LC_ERR_BAD_INPUT);
     /* cap: exactly enough works, one less does not (the triangle's exterior
      * arcs: pi/2 at the right angle, 4 steps of pi/8; 3pi/4 twice, 6 steps) */
     int need = lc_grow_polygon(tri, 3, 0.3, s, g, MAXV);
     assert_int_equal(need, 4 + 6 + 6);
     assert_int_equal(lc_grow_polygon(tri, 3, 0.3, s, g, need), need);
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, s, g, need - 1), -1);
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, s, g, 0), -1);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, s, g, need - 1), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, s, g, 0), LC_ERR_BAD_INPUT);
     /* a tiny step needs more room than a small buffer */
-    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, 1e-6, g, MAXV), -1);
+    assert_int_equal(lc_grow_polygon(tri, 3, 0.3, 1e-6, g, MAXV), LC_ERR_BAD_INPUT);
 }
 
 int main(void)

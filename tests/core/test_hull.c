@@ -336,9 +336,9 @@ static void test_non_finite(void **state)
                 q[at].y = bad[b];
             else
                 q[at].x = bad[b];
-            assert_int_equal(lc_hull_compute(ctx, q, 4, h), -2);
-            assert_int_equal(lc_hull_compute_small(ctx, q, 4, h), -2);
-            assert_int_equal(lc_hull_compute_qhull(ctx, q, 4, h), -2);
+            assert_int_equal(lc_hull_compute(ctx, q, 4, h), LC_ERR_BAD_INPUT);
+            assert_int_equal(lc_hull_compute_small(ctx, q, 4, h), LC_ERR_BAD_INPUT);
+            assert_int_equal(lc_hull_compute_qhull(ctx, q, 4, h), LC_ERR_BAD_INPUT);
         }
     assert_int_equal(st->qhull_calls, 0);
     assert_int_equal(st->small_calls, 0);
@@ -401,7 +401,7 @@ static void test_qhull_failure_is_silent_and_recoverable(void **state)
     assert_string_equal(lc_hull_last_message(ctx), "");
     assert_int_equal(captured_output(run_failing_inputs, ctx), 0);
     for (int i = 0; i < 3; i++)
-        assert_int_equal(failing_result[i], -3);
+        assert_int_equal(failing_result[i], LC_ERR_LIBRARY);
     assert_int_equal(st->errors, 3);
     assert_int_equal(st->qhull_calls, 3);
     assert_int_equal(failing_code[0], 2);
@@ -412,7 +412,7 @@ static void test_qhull_failure_is_silent_and_recoverable(void **state)
     lc_vec2 line[30], h[30];
     for (int i = 0; i < 30; i++)
         line[i] = lc_v2(0.1 * i, 5 - 0.2 * i);
-    assert_int_equal(lc_hull_compute_qhull(ctx, line, 30, h), -3);
+    assert_int_equal(lc_hull_compute_qhull(ctx, line, 30, h), LC_ERR_LIBRARY);
     assert_int_equal(st->last_error, 2);
     assert_int_equal(st->last_message_code, 6154);
     assert_true(strncmp(lc_hull_last_message(ctx), "QH6154", 6) == 0);

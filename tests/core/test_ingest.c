@@ -32,14 +32,14 @@ static void test_scan_transforms(void **state)
     f.mount = (lc_pose){0.5, 0.0, LC_PI / 2};
     lc_cloud c = {0};
     lc_ingest_config cfg = cfg_default();
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 1);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 1);
     /* robot frame: (0.5, 0) + R(90)(2, 0) = (0.5, 2); world: R(90)(0.5, 2) + (3, -1) = (1, -0.5) */
     assert_near(c.world[0].x, 1.0, 1e-12);
     assert_near(c.world[0].y, -0.5, 1e-12);
     assert_near(c.sensor_world.x, 3.0, 1e-12);
     assert_near(c.sensor_world.y, -0.5, 1e-12);
     assert_true(c.ordered);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 static void test_scan_drops(void **state)
@@ -48,13 +48,13 @@ static void test_scan_drops(void **state)
     lc_frame f = scan_frame(r, 7, -0.3, 0.1);
     lc_cloud c = {0};
     lc_ingest_config cfg = cfg_default();
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 2);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 2);
     assert_int_equal(c.dropped_invalid, 2);
     assert_int_equal(c.dropped_range, 3);
     /* kept points keep beam order and their bearing */
     assert_near(c.bearing[0], -0.3 + 0.4, 1e-12);
     assert_near(c.range[1], 10.0, 0);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 static void test_scan_no_returns(void **state)
@@ -63,10 +63,10 @@ static void test_scan_no_returns(void **state)
     lc_frame f = scan_frame(r, 5, 0, 0.1);
     lc_cloud c = {0};
     lc_ingest_config cfg = cfg_default();
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 0);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 0);
     assert_int_equal(c.n, 0);
     assert_near(c.fov, 0.5, 1e-12);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 static void test_self_hits(void **state)
@@ -79,10 +79,10 @@ static void test_self_hits(void **state)
     lc_cloud c = {0};
     lc_ingest_config cfg = cfg_default();
     cfg.self_radius = 0.3;
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 1);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 1);
     assert_int_equal(c.dropped_self, 1);
     assert_near(c.world[0].x, 0.2 - 3.0 * cos(0.001), 1e-9);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 static void test_points_height_band(void **state)
@@ -95,15 +95,15 @@ static void test_points_height_band(void **state)
     lc_ingest_config cfg = cfg_default();
     cfg.z_min = 0.1;
     cfg.z_max = 2.0;
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 1);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 1);
     assert_int_equal(c.dropped_height, 2);
     assert_int_equal(c.dropped_invalid, 1);
     assert_near(c.world[0].x, 12.0, 0);
     assert_false(c.ordered);
     /* Without z the band does not apply. */
     f.z = NULL;
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 3);
-    lc_cloud_free(&c, NULL);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 3);
+    lc_cloud_free(&c);
 }
 
 static void test_huge_coordinates(void **state)
@@ -113,9 +113,9 @@ static void test_huge_coordinates(void **state)
     f.pose = (lc_pose){1e7, -1e7, 0};
     lc_cloud c = {0};
     lc_ingest_config cfg = cfg_default();
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 1);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 1);
     assert_near(c.world[0].x, 1e7 + 5.0, 1e-8);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 /* A depth camera's points span +-40 degrees about a mount turned 90 deg:
@@ -132,7 +132,7 @@ static void test_points_view_from_bearings(void **state)
                   .mount = {0, 0, LC_PI / 2}};
     lc_cloud c = {0};
     lc_ingest_config cfg = cfg_default();
-    assert_int_equal(lc_ingest(&f, &cfg, &c, NULL), 81);
+    assert_int_equal(lc_ingest(&f, &cfg, &c), 81);
     assert_near(c.fov, 81.0 * LC_PI / 180.0, 2.0 * LC_PI / 180.0);
     assert_near(lc_wrap_angle(c.fov_mid - LC_PI / 2), 0.0, 1.5 * LC_PI / 180.0);
     /* Points all around: a full view. */
@@ -141,9 +141,9 @@ static void test_points_view_from_bearings(void **state)
         xy[2 * i] = 3 * cos(a);
         xy[2 * i + 1] = 3 * sin(a);
     }
-    lc_ingest(&f, &cfg, &c, NULL);
+    lc_ingest(&f, &cfg, &c);
     assert_near(c.fov, 2 * LC_PI, 0);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 /* Warm buffers: a second frame of the same size allocates nothing. */
@@ -155,14 +155,15 @@ static void test_no_alloc_when_warm(void **state)
     lc_frame f = scan_frame(r, 100, -1, 0.02);
     lc_counting_alloc ca;
     lc_counting_alloc_init(&ca);
-    lc_cloud c = {0};
+    lc_cloud c;
+    lc_cloud_init(&c, &ca.alloc);
     lc_ingest_config cfg = cfg_default();
-    lc_ingest(&f, &cfg, &c, &ca.alloc);
+    lc_ingest(&f, &cfg, &c);
     long before = ca.calls;
     for (int k = 0; k < 10; k++)
-        lc_ingest(&f, &cfg, &c, &ca.alloc);
+        lc_ingest(&f, &cfg, &c);
     assert_int_equal(ca.calls, before);
-    lc_cloud_free(&c, &ca.alloc);
+    lc_cloud_free(&c);
     assert_int_equal(ca.live, 0);
 }
 

@@ -145,7 +145,7 @@ static void ingest(const lc_frame *f, lc_cloud *cloud, double body)
     lc_ingest_config ic;
     lc_ingest_config_default(&ic);
     ic.self_radius = body;
-    assert_true(lc_ingest(f, &ic, cloud, NULL) >= 0);
+    assert_true(lc_ingest(f, &ic, cloud) >= 0);
 }
 
 static void test_config(void **state)
@@ -225,7 +225,7 @@ static void test_against_brute_force(void **state)
         lc_memory_free(m);
     }
     assert_true(free_cells > cells / 20); /* the test looked at real views */
-    lc_cloud_free(&cloud, NULL);
+    lc_cloud_free(&cloud);
 }
 
 /* Every cell a beam crosses well inside its neighbours' reach is free
@@ -286,7 +286,7 @@ static void test_beam_cells(void **state)
         lc_memory_free(m);
     }
     assert_true(checked > 1000);
-    lc_cloud_free(&cloud, NULL);
+    lc_cloud_free(&cloud);
 }
 
 /* A full turn of 720 beams at a wall ring of the given radius about pose
@@ -325,7 +325,7 @@ static void test_clearing(void **state)
     }
     assert_int_equal(lc_memory_state(m, lc_v2(4.02, 0.02)), LC_CELL_OCCUPIED);
     lc_memory_free(m);
-    lc_cloud_free(&cloud, NULL);
+    lc_cloud_free(&cloud);
 }
 
 /* Evidence nobody refreshes is forgotten after its hold time. */
@@ -364,8 +364,8 @@ static void test_ageing(void **state)
         assert_int_equal(lc_memory_state(m, lc_v2(-2.02, 0.02)), oc[k]);
     }
     lc_memory_free(m);
-    lc_cloud_free(&cloud, NULL);
-    lc_cloud_free(&none, NULL);
+    lc_cloud_free(&cloud);
+    lc_cloud_free(&none);
 }
 
 /* The window follows the robot: what stays in it is kept, what comes in
@@ -414,8 +414,8 @@ static void test_window_follows(void **state)
     lc_memory_get_stats(m, &st);
     assert_int_equal(st.occupied, 0);
     lc_memory_free(m);
-    lc_cloud_free(&cloud, NULL);
-    lc_cloud_free(&empty, NULL);
+    lc_cloud_free(&cloud);
+    lc_cloud_free(&empty);
 }
 
 /* A clock that goes back more than a second, or jumps ahead by more than
@@ -449,7 +449,7 @@ static void test_stamps(void **state)
     f.pose.x = NAN;
     assert_int_equal(lc_memory_update(m, &f, &cloud, 0.3), 0);
     lc_memory_free(m);
-    lc_cloud_free(&cloud, NULL);
+    lc_cloud_free(&cloud);
 }
 
 /* A points frame: free up to the nearest point of each bearing bin. */
@@ -476,7 +476,7 @@ static void test_points(void **state)
     assert_int_equal(lc_memory_state(m, lc_v2(1.0, 0.0)), LC_CELL_UNKNOWN); /* behind */
     assert_int_equal(lc_memory_state(m, lc_v2(2.5, 2.0)), LC_CELL_UNKNOWN); /* no point there */
     lc_memory_free(m);
-    lc_cloud_free(&cloud, NULL);
+    lc_cloud_free(&cloud);
 }
 
 /* Same frames, same memory; a warm update allocates nothing; out of
@@ -520,7 +520,7 @@ static void test_determinism_and_allocation(void **state)
     lc_memory_free(a);
     lc_memory_free(b);
     assert_int_equal(ca.live, 0);
-    lc_cloud_free(&cloud, NULL);
+    lc_cloud_free(&cloud);
 }
 
 static void *refuse_after(void *data, void *p, size_t n)
@@ -562,7 +562,7 @@ static void test_out_of_memory(void **state)
             assert_true(st.occupied > 0);
         }
         lc_memory_free(m);
-        lc_cloud_free(&cloud, NULL);
+        lc_cloud_free(&cloud);
     }
 }
 

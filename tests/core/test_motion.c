@@ -558,31 +558,38 @@ static void test_point_degenerate(void **state)
     const double bad[] = {0.0, -0.05, NAN, INFINITY, -INFINITY};
     for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
         last.vx = 0.3;
-        assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, tg, &last, bad[i], &out), -1);
+        assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, tg, &last, bad[i], &out),
+                         LC_ERR_BAD_INPUT);
         assert_true(out.vx == 0 && out.vy == 0 && out.v == 0 && out.w == 0);
     }
-    assert_int_equal(lc_motion_point(&r, &p, &t.r, (lc_pose){NAN, 0, 0}, tg, &last, 0.05, &out), -1);
-    assert_int_equal(lc_motion_point(&r, &p, &t.r, (lc_pose){0, 0, INFINITY}, tg, &last, 0.05, &out), -1);
-    assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, lc_v2(NAN, 0), &last, 0.05, &out), -1);
+    assert_int_equal(lc_motion_point(&r, &p, &t.r, (lc_pose){NAN, 0, 0}, tg, &last, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_motion_point(&r, &p, &t.r, (lc_pose){0, 0, INFINITY}, tg, &last, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, lc_v2(NAN, 0), &last, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
     last.vy = NAN;
-    assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, tg, &last, 0.05, &out), -1);
+    assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, tg, &last, 0.05, &out), LC_ERR_BAD_INPUT);
     assert_true(out.vx == 0 && out.vy == 0);
     last.vy = 0;
     lc_region empty = {0};
-    assert_int_equal(lc_motion_point(&r, &p, &empty, pose, tg, &last, 0.05, &out), -1);
-    assert_int_equal(lc_motion_point(NULL, &p, &t.r, pose, tg, &last, 0.05, &out), -1);
-    assert_int_equal(lc_motion_point(&r, NULL, &t.r, pose, tg, &last, 0.05, &out), -1);
-    assert_int_equal(lc_motion_point(&r, &p, NULL, pose, tg, &last, 0.05, &out), -1);
-    assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, tg, &last, 0.05, NULL), -1);
+    assert_int_equal(lc_motion_point(&r, &p, &empty, pose, tg, &last, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_motion_point(NULL, &p, &t.r, pose, tg, &last, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_motion_point(&r, NULL, &t.r, pose, tg, &last, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_motion_point(&r, &p, NULL, pose, tg, &last, 0.05, &out), LC_ERR_BAD_INPUT);
+    assert_int_equal(lc_motion_point(&r, &p, &t.r, pose, tg, &last, 0.05, NULL), LC_ERR_BAD_INPUT);
     lc_robot r0 = r;
     r0.a_max = 0;
-    assert_int_equal(lc_motion_point(&r0, &p, &t.r, pose, tg, &last, 0.05, &out), -1);
+    assert_int_equal(lc_motion_point(&r0, &p, &t.r, pose, tg, &last, 0.05, &out), LC_ERR_BAD_INPUT);
     r0 = r;
     r0.v_max = NAN;
-    assert_int_equal(lc_motion_point(&r0, &p, &t.r, pose, tg, &last, 0.05, &out), -1);
+    assert_int_equal(lc_motion_point(&r0, &p, &t.r, pose, tg, &last, 0.05, &out), LC_ERR_BAD_INPUT);
     lc_motion_params p0 = p;
     p0.latency = -1;
-    assert_int_equal(lc_motion_point(&r, &p0, &t.r, pose, tg, &last, 0.05, &out), -1);
+    assert_int_equal(lc_motion_point(&r, &p0, &t.r, pose, tg, &last, 0.05, &out), LC_ERR_BAD_INPUT);
 
     /* v_max 0: no motion, still valid */
     r0 = r;
@@ -861,17 +868,21 @@ static void test_unicycle_examples(void **state)
 
     /* degenerate */
     make_box(&t, -1, -1, 1, 1);
-    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), 0.2, 0, 0.0, &out), -1);
+    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), 0.2, 0, 0.0, &out),
+                     LC_ERR_BAD_INPUT);
     assert_true(out.v == 0 && out.w == 0);
-    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, NAN}, lc_v2(0.5, 0), 0.2, 0, 0.05, &out), -1);
-    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), 0.2, INFINITY, 0.05, &out), -1);
+    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, NAN}, lc_v2(0.5, 0), 0.2, 0, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), 0.2, INFINITY, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
     assert_true(out.v == 0 && out.w == 0);
     lc_robot r0 = r;
     r0.dw_max = NAN;
-    assert_int_equal(uni_step(&r0, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), 0, 0, 0.05, &out), -1);
+    assert_int_equal(uni_step(&r0, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), 0, 0, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
     lc_region empty = {0};
     assert_int_equal(lc_motion_unicycle(&r, &p, &empty, (lc_pose){0, 0, 0}, lc_v2(1, 0), NULL,
-                                        0.05, &out), -1);
+                                        0.05, &out), LC_ERR_BAD_INPUT);
     /* at the target, at rest */
     assert_int_equal(lc_motion_unicycle(&r, &p, &t.r, (lc_pose){0.2, 0.2, 1}, lc_v2(0.2, 0.2),
                                         NULL, 0.05, &out), 0);

@@ -25,8 +25,8 @@ typedef struct scene {
 
 static void scene_free(scene *s)
 {
-    lc_polyset_free(&s->raw, NULL);
-    lc_polyset_free(&s->grown, NULL);
+    lc_polyset_free(&s->raw);
+    lc_polyset_free(&s->grown);
 }
 
 static void scene_add(scene *s, lc_hull_ctx *hc, const lc_vec2 *pts, int n)
@@ -34,10 +34,10 @@ static void scene_add(scene *s, lc_hull_ctx *hc, const lc_vec2 *pts, int n)
     lc_vec2 hull[256], g[512];
     int m = lc_hull_compute(hc, pts, n, hull);
     assert_true(m > 0);
-    lc_polyset_push(&s->raw, NULL, hull, m, s->raw.np);
+    lc_polyset_push(&s->raw, hull, m, s->raw.np);
     int k = lc_grow_polygon(hull, m, s->r, LC_GROW_DEFAULT_STEP, g, 512);
     assert_true(k >= 3);
-    lc_polyset_push(&s->grown, NULL, g, k, s->grown.np);
+    lc_polyset_push(&s->grown, g, k, s->grown.np);
 }
 
 /* Random clutter: small blobs, thin walls and single points around the origin. */
@@ -147,8 +147,8 @@ static void test_random_scenes(void **state)
                                                lc_rng_uniform(&rng, -3, 3), in.has_waypoint,
                                                in.waypoint, in.blind);
         lc_region_info info;
-        int st = lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL, NULL);
-        assert_int_equal(st, LC_REGION_OK);
+        int st = lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL);
+        assert_int_equal(st, LC_OK);
         check_region(&s, &in, &rg, &info);
         done++;
         fallback += info.fallback_lines;
@@ -158,8 +158,8 @@ static void test_random_scenes(void **state)
     assert_true(done > 300);
     print_message("region: %d random scenes, %.2f rounds each, %d moved lines\n", done,
                   (double)rounds / done, fallback);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
     lc_hull_free(hc);
     LC_GEOS_CHECKED();
 }
@@ -175,125 +175,13 @@ static void test_empty_frame_is_window(void **state)
     lc_region_ws ws = {0};
     lc_region rg = {0};
     lc_region_input in = {.grown = &none, .centre = {5, -2}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL), LC_REGION_OK);
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
     assert_int_equal(rg.nv, 4);
     assert_near(lc_polygon_area2(rg.v, rg.nv) / 2, 64.0, 1e-9);
     /* The inscribed ellipse of a square is its incircle (REFERENCES.md). */
     assert_near(lc_ellipse_area(&rg.ellipse), LC_PI * 16.0, 1e-5);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
-}
-
-/* A 270 degree scanner looking +x: one line through the centre bounds the
- * blind cone behind it; the region lies on the seen side. */
-static void test_blind_sector(void **state)
-{
-    lc_halfspace b[2];
-    int n = lc_region_blind_lines(lc_v2(0, 0), 1.5 * LC_PI, 0.0, false, lc_v2(0, 0), b);
-    assert_int_equal(n, 1);
-    assert_near(b[0].a.x, -1.0, 1e-12); /* normal toward the blind axis (-x) */
-    assert_near(b[0].b, 0.0, 1e-12);
-    /* With a waypoint behind-left, the line tilts to leave room toward it but
-     * still has the whole blind cone (angles 135..225 deg) outside. */
-    n = lc_region_blind_lines(lc_v2(0, 0), 1.5 * LC_PI, 0.0, true, lc_v2(-3, 3), b);
-    assert_int_equal(n, 1);
-    for (int k = 0; k <= 20; k++) {
-        lc_vec2 u = lc_unit_angle(0.75 * LC_PI + 0.5 * LC_PI * k / 20.0);
-        assert_true(lc_dot(b[0].a, u) >= -1e-12);
-    }
-    /* A 120 degree view: the two edges of the seen cone. */
-    n = lc_region_blind_lines(lc_v2(1, 1), 2.0 * LC_PI / 3, LC_PI / 2, false, lc_v2(0, 0), b);
-    assert_int_equal(n, 2);
-    lc_vec2 ahead = lc_v2(1, 3);
-    assert_true(lc_dot(b[0].a, ahead) <= b[0].b && lc_dot(b[1].a, ahead) <= b[1].b);
-    lc_vec2 side = lc_v2(3, 1);
-    assert_false(lc_dot(b[0].a, side) <= b[0].b && lc_dot(b[1].a, side) <= b[1].b);
-    /* Full view: nothing. */
-    assert_int_equal(lc_region_blind_lines(lc_v2(0, 0), 2 * LC_PI, 0, false, lc_v2(0, 0), b), 0);
-}
-
-/* Does the disc of radius r swept from c along u (over [0, len]) cover a
- * point the sensor at o (view fov about view_mid) does not see, outside
- * the disc at c? Brute force over the swept discs' boundaries. */
-static bool sweep_touches_unseen(lc_vec2 c, lc_vec2 u, double len, lc_vec2 o, double fov,
-                                 double view_mid, double r)
-{
-    for (int i = 0; i <= 60; i++) {
-        lc_vec2 at = lc_add(c, lc_scale(u, len * i / 60.0));
-        for (int k = 0; k < 360; k++) {
-            lc_vec2 q = lc_add(at, lc_scale(lc_unit_angle(2 * LC_PI * k / 360.0), r));
-            if (lc_dist(q, c) <= r + 1e-9)
-                continue;
-            lc_vec2 d = lc_sub(q, o);
-            double off = lc_wrap_angle(atan2(d.y, d.x) - view_mid);
-            if (fabs(off) > 0.5 * fov + 1e-9)
-                return true;
-        }
-    }
-    return false;
-}
-
-static bool in_wedge(const lc_halfspace b[2], lc_vec2 c, lc_vec2 u)
-{
-    lc_vec2 p = lc_add(c, u);
-    return lc_dot(b[0].a, p) <= b[0].b + 1e-12 && lc_dot(b[1].a, p) <= b[1].b + 1e-12;
-}
-
-/*
- * The view wedge of a robot that slides sideways. Closed form (region.h):
- * with the sensor at the centre the wedge's half angle is fov/2 - pi/2.
- * Then, on random mounts and views, a brute-force sweep of the footprint
- * (not the module's own algebra): no direction inside the wedge reaches
- * unseen space beyond the robot's own disc, and directions 2 degrees
- * outside do (unless the wedge is already a half plane).
- */
-static void test_view_wedge(void **state)
-{
-    lc_halfspace b[2];
-    lc_vec2 c = lc_v2(1, -2);
-    for (int k = 0; k < 3; k++) {
-        double fov = (double[]){1.5 * LC_PI, 5.0 * LC_PI / 3.0, 1.2 * LC_PI}[k];
-        double half = 0.5 * fov - 0.5 * LC_PI, mid = 0.3;
-        assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), fov, mid, 0.3, b), 2);
-        assert_true(in_wedge(b, c, lc_unit_angle(mid + half - 1e-6)));
-        assert_true(in_wedge(b, c, lc_unit_angle(mid - half + 1e-6)));
-        assert_false(in_wedge(b, c, lc_unit_angle(mid + half + 1e-6)));
-        assert_false(in_wedge(b, c, lc_unit_angle(mid - half - 1e-6)));
-        /* the robot centre is on both lines */
-        assert_near(lc_dot(b[0].a, c), b[0].b, 1e-12);
-        assert_near(lc_dot(b[1].a, c), b[1].b, 1e-12);
-    }
-    lc_rng rng;
-    lc_rng_seed(&rng, 4711);
-    for (int t = 0; t < 40; t++) {
-        double r = lc_rng_uniform(&rng, 0.15, 0.5), fov = lc_rng_uniform(&rng, 1.05, 1.95) * LC_PI;
-        double mid = lc_rng_uniform(&rng, -LC_PI, LC_PI);
-        lc_vec2 o = lc_scale(lc_unit_angle(lc_rng_uniform(&rng, -LC_PI, LC_PI)),
-                             lc_rng_uniform(&rng, 0, 0.8 * r));
-        int n = lc_region_view_wedge(c, o, fov, mid, r, b);
-        assert_true(n == 2 || n == -1);
-        if (n < 0)
-            continue;
-        for (int k = 0; k < 72; k++) {
-            lc_vec2 u = lc_unit_angle(2 * LC_PI * k / 72.0);
-            if (in_wedge(b, c, u))
-                assert_false(sweep_touches_unseen(c, u, 3.0, lc_add(c, o), fov, mid, r));
-        }
-        for (int side = 0; side < 2; side++) {
-            /* the wedge edge direction of line `side`, 2 degrees further out */
-            lc_vec2 edge = side == 0 ? lc_v2(-b[0].a.y, b[0].a.x) : lc_v2(b[1].a.y, -b[1].a.x);
-            double ang = atan2(edge.y, edge.x) + (side == 0 ? 1 : -1) * 2.0 * LC_PI / 180;
-            if (fabs(lc_wrap_angle(atan2(edge.y, edge.x) - mid)) < 0.5 * LC_PI - 1e-6)
-                assert_true(sweep_touches_unseen(c, lc_unit_angle(ang), 3.0, lc_add(c, o), fov,
-                                                 mid, r));
-        }
-    }
-    /* A full view needs no wedge; a narrow view, or a sensor ahead of the
-     * footprint, leaves no qualifying direction (callers fall back). */
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 2 * LC_PI, 0, 0.3, b), 0);
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(0, 0), 0.9 * LC_PI, 0, 0.3, b), -1);
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(0.5, 0), 1.5 * LC_PI, 0, 0.3, b), -1);
-    assert_int_equal(lc_region_view_wedge(c, lc_v2(NAN, 0), 1.5 * LC_PI, 0, 0.3, b), -1);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
 }
 
 /*
@@ -316,6 +204,56 @@ static void test_ray_exit_along_edge(void **state)
     }
 }
 
+/*
+ * Every buffer grows through its own struct's allocator and goes back to
+ * it on free (no second argument): a counting allocator given to the
+ * region, its workspace and the grown obstacles sees them all grow, sees
+ * no call once warm, and holds nothing after the frees.
+ */
+static void test_buffers_keep_their_allocator(void **state)
+{
+    lc_counting_alloc ca;
+    lc_counting_alloc_init(&ca);
+    lc_hull_ctx *hc = lc_hull_new(NULL);
+    lc_rng rng;
+    lc_rng_seed(&rng, 808);
+    scene s;
+    random_scene(&s, hc, &rng, 25);
+    lc_polyset grown;
+    lc_polyset_init(&grown, &ca.alloc);
+    for (int j = 0; j < s.grown.np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(&s.grown, j, &n);
+        assert_int_equal(lc_polyset_push(&grown, v, n, j), LC_OK);
+    }
+    long after_polyset = ca.calls;
+    assert_true(after_polyset > 0);
+    lc_region_config cfg;
+    lc_region_config_default(&cfg);
+    lc_ellipse_opts eo;
+    lc_ellipse_opts_default(&eo);
+    lc_region_ws ws;
+    lc_region rg;
+    lc_region_ws_init(&ws, &ca.alloc);
+    lc_region_init(&rg, &ca.alloc);
+    lc_region_input in = {.grown = &grown, .centre = {9, 9}, .window = 6.0};
+    assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL) >= 0);
+    assert_true(ca.calls > after_polyset);
+    long warm = ca.calls;
+    assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL) >= 0);
+    assert_int_equal(ca.calls, warm);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
+    lc_polyset_free(&grown);
+    assert_int_equal(ca.live, 0);
+    /* freed twice: nothing left to release, nothing breaks */
+    lc_region_free(&rg);
+    lc_polyset_free(&grown);
+    assert_int_equal(ca.live, 0);
+    scene_free(&s);
+    lc_hull_free(hc);
+}
+
 /* Centre inside a grown obstacle: too close, the region still holds it. */
 static void test_too_close(void **state)
 {
@@ -333,14 +271,14 @@ static void test_too_close(void **state)
     lc_region rg = {0};
     lc_region_info info;
     lc_region_input in = {.grown = &s.grown, .centre = {0, 0}, .window = 5.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL, NULL),
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL),
                      LC_REGION_TOO_CLOSE);
     assert_int_equal(info.too_close, 1);
     assert_true(lc_region_contains(&rg, in.centre, 1e-9));
     /* the other wall is still kept out */
     assert_true(lc_region_margin(&rg, lc_v2(-3 + 0.4, 0)) <= 1e-9);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
     scene_free(&s);
     lc_hull_free(hc);
 }
@@ -367,8 +305,8 @@ static void test_projection_and_determinism(void **state)
         }
         lc_region_input in = {.grown = &s.grown, .centre = c, .window = 7.0, .has_waypoint = true,
                               .waypoint = lc_v2(lc_rng_uniform(&rng, -9, 9), lc_rng_uniform(&rng, -9, 9))};
-        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &a, NULL, NULL, NULL) >= 0);
-        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &b, NULL, NULL, NULL) >= 0);
+        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &a, NULL, NULL) >= 0);
+        assert_true(lc_region_inflate(&in, &cfg, &eo, &ws, &b, NULL, NULL) >= 0);
         assert_int_equal(a.nv, b.nv);
         assert_int_equal(a.nh, b.nh);
         assert_memory_equal(a.v, b.v, sizeof *a.v * (size_t)a.nv);
@@ -384,9 +322,9 @@ static void test_projection_and_determinism(void **state)
 #endif
         scene_free(&s);
     }
-    lc_region_free(&a, NULL);
-    lc_region_free(&b, NULL);
-    lc_region_ws_free(&ws, NULL);
+    lc_region_free(&a);
+    lc_region_free(&b);
+    lc_region_ws_free(&ws);
     lc_hull_free(hc);
     LC_GEOS_CHECKED();
 }
@@ -401,22 +339,14 @@ static void test_bad_input(void **state)
     lc_region_ws ws = {0};
     lc_region rg = {0};
     lc_region_input in = {.grown = &none, .centre = {NAN, 0}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL),
-                     LC_REGION_BAD_INPUT);
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL),
+                     LC_ERR_BAD_INPUT);
     in.centre = lc_v2(0, 0);
     in.window = 0;
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL, NULL),
-                     LC_REGION_BAD_INPUT);
-    lc_region_free(&rg, NULL);
-    lc_region_ws_free(&ws, NULL);
-}
-
-static int setup(void **state)
-{
-#if LC_HAVE_GEOS
-    oracle_init();
-#endif
-    return 0;
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL),
+                     LC_ERR_BAD_INPUT);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
 }
 
 int main(void)
@@ -424,12 +354,11 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_random_scenes),
         cmocka_unit_test(test_empty_frame_is_window),
-        cmocka_unit_test(test_blind_sector),
-        cmocka_unit_test(test_view_wedge),
         cmocka_unit_test(test_ray_exit_along_edge),
         cmocka_unit_test(test_too_close),
+        cmocka_unit_test(test_buffers_keep_their_allocator),
         cmocka_unit_test(test_projection_and_determinism),
         cmocka_unit_test(test_bad_input),
     };
-    return LC_RUN_TESTS(tests, setup, lc_test_geos_teardown);
+    return LC_RUN_TESTS(tests, lc_test_geos_setup, lc_test_geos_teardown);
 }

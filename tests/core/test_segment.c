@@ -105,7 +105,7 @@ static void test_room_corner_split(void **state)
     lc_segment_config cfg;
     lc_segment_config_default(&cfg);
     lc_segment_ws ws = {0};
-    int n = lc_segment(&c, &cfg, &ws, NULL);
+    int n = lc_segment(&c, &cfg, &ws);
     assert_true(n >= 2);
     assert_thin(&c, &ws, cfg.split_width);
     assert_covered(&c, &ws);
@@ -118,8 +118,8 @@ static void test_room_corner_split(void **state)
         assert_true(on_x || on_y);
         assert_true(m <= cfg.max_piece);
     }
-    lc_segment_ws_free(&ws, NULL);
-    lc_cloud_free(&c, NULL);
+    lc_segment_ws_free(&ws);
+    lc_cloud_free(&c);
 }
 
 /* Two walls at different depths: the breakpoint between them is found. */
@@ -141,11 +141,11 @@ static void test_depth_jump_breaks(void **state)
     cfg.split_width = 10; /* only the breakpoint can separate them */
     cfg.max_piece = 1000;
     lc_segment_ws ws = {0};
-    assert_int_equal(lc_segment(&c, &cfg, &ws, NULL), 2);
+    assert_int_equal(lc_segment(&c, &cfg, &ws), 2);
     assert_int_equal(ws.piece_count[0], 100);
     assert_int_equal(ws.piece_count[1], 100);
-    lc_segment_ws_free(&ws, NULL);
-    lc_cloud_free(&c, NULL);
+    lc_segment_ws_free(&ws);
+    lc_cloud_free(&c);
 }
 
 /* Two returns 9 degrees apart with the beams between them empty: the
@@ -170,9 +170,9 @@ static void test_empty_beams_break(void **state)
     assert_true(lc_breakpoint_threshold(10.0, 36 * step, cfg.lambda, cfg.sigma_r) >
                 lc_dist(c.world[0], c.world[1]));
     lc_segment_ws ws = {0};
-    assert_int_equal(lc_segment(&c, &cfg, &ws, NULL), 2);
-    lc_segment_ws_free(&ws, NULL);
-    lc_cloud_free(&c, NULL);
+    assert_int_equal(lc_segment(&c, &cfg, &ws), 2);
+    lc_segment_ws_free(&ws);
+    lc_cloud_free(&c);
 }
 
 static void test_degenerate(void **state)
@@ -185,11 +185,11 @@ static void test_degenerate(void **state)
     for (int ordered = 0; ordered < 2; ordered++) {
         c.ordered = ordered;
         c.n = 0;
-        assert_int_equal(lc_segment(&c, &cfg, &ws, NULL), 0);
+        assert_int_equal(lc_segment(&c, &cfg, &ws), 0);
         c.n = 1;
         c.world[0] = lc_v2(1, 1);
         c.range[0] = 1.4;
-        assert_int_equal(lc_segment(&c, &cfg, &ws, NULL), 1);
+        assert_int_equal(lc_segment(&c, &cfg, &ws), 1);
         /* 50 duplicates: one piece (ordered: pieces of at most max_piece) */
         for (int i = 0; i < 50; i++) {
             c.world[i] = lc_v2(2, 2);
@@ -197,19 +197,19 @@ static void test_degenerate(void **state)
             c.bearing[i] = 0.785 + 1e-4 * i;
         }
         c.n = 50;
-        int n = lc_segment(&c, &cfg, &ws, NULL);
+        int n = lc_segment(&c, &cfg, &ws);
         assert_true(n >= 1);
         assert_covered(&c, &ws);
         /* collinear: a straight wall stays thin */
         for (int i = 0; i < 50; i++)
             c.world[i] = lc_v2(2, -1 + 0.04 * i);
-        n = lc_segment(&c, &cfg, &ws, NULL);
+        n = lc_segment(&c, &cfg, &ws);
         assert_true(n >= 1);
         assert_thin(&c, &ws, cfg.split_width);
         assert_covered(&c, &ws);
     }
-    lc_segment_ws_free(&ws, NULL);
-    lc_cloud_free(&c, NULL);
+    lc_segment_ws_free(&ws);
+    lc_cloud_free(&c);
 }
 
 /* Unordered points: random blobs and arcs, seeded. Clusters never link
@@ -234,7 +234,7 @@ static void test_unordered_random(void **state)
         }
         c.n = n;
         c.ordered = false;
-        int np = lc_segment(&c, &cfg, &ws, NULL);
+        int np = lc_segment(&c, &cfg, &ws);
         assert_true(np >= 1);
         /* unordered pieces partition the points */
         int total = 0;
@@ -244,8 +244,8 @@ static void test_unordered_random(void **state)
         assert_covered(&c, &ws);
         assert_thin(&c, &ws, cfg.split_width);
     }
-    lc_segment_ws_free(&ws, NULL);
-    lc_cloud_free(&c, NULL);
+    lc_segment_ws_free(&ws);
+    lc_cloud_free(&c);
 }
 
 static void test_no_alloc_when_warm(void **state)
@@ -258,18 +258,19 @@ static void test_no_alloc_when_warm(void **state)
     lc_segment_config_default(&cfg);
     lc_counting_alloc ca;
     lc_counting_alloc_init(&ca);
-    lc_segment_ws ws = {0};
+    lc_segment_ws ws;
+    lc_segment_ws_init(&ws, &ca.alloc);
     for (int ordered = 1; ordered >= 0; ordered--) {
         c.ordered = ordered;
-        lc_segment(&c, &cfg, &ws, &ca.alloc);
+        lc_segment(&c, &cfg, &ws);
         long before = ca.calls;
         for (int k = 0; k < 5; k++)
-            lc_segment(&c, &cfg, &ws, &ca.alloc);
+            lc_segment(&c, &cfg, &ws);
         assert_int_equal(ca.calls, before);
     }
-    lc_segment_ws_free(&ws, &ca.alloc);
+    lc_segment_ws_free(&ws);
     assert_int_equal(ca.live, 0);
-    lc_cloud_free(&c, NULL);
+    lc_cloud_free(&c);
 }
 
 int main(void)

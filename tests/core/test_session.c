@@ -532,14 +532,6 @@ static void test_names(void **state)
     assert_string_equal(lc_stage_name(LC_STAGE_COUNT), "unknown");
 }
 
-static int setup(void **state)
-{
-#if LC_HAVE_GEOS
-    oracle_init();
-#endif
-    return 0;
-}
-
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -554,5 +546,5 @@ int main(void)
         cmocka_unit_test(test_scripted_patrol),
         cmocka_unit_test(test_names),
     };
-    return LC_RUN_TESTS(tests, setup, lc_test_geos_teardown);
+    return LC_RUN_TESTS(tests, lc_test_geos_setup, lc_test_geos_teardown);
 }

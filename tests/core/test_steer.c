@@ -82,7 +82,7 @@ static void test_standoff_point(void **state)
     lc_polyset grown = {0};
     /* a square whose left edge is 0.02 m ahead of the robot */
     const lc_vec2 sq[4] = {{0.02, -1}, {1.02, -1}, {1.02, 1}, {0.02, 1}};
-    assert_int_equal(lc_polyset_push(&grown, NULL, sq, 4, 0), 0);
+    assert_int_equal(lc_polyset_push(&grown, sq, 4, 0), 0);
     lc_region r = box_region(lc_v2(0, 0), 5);
     /* at rest (a robot already moving at it brakes as hard as it may:
      * motion.h's fallback) */
@@ -91,12 +91,12 @@ static void test_standoff_point(void **state)
                          .grown = &grown, .pose = {0, 0, 0}, .target = lc_v2(3, 2),
                          .waypoint = lc_v2(3, 2), .last = &last, .dt = 0.05};
     lc_steer_ws ws = {0};
-    assert_int_equal(lc_steer_drive(&in, &ws, NULL, &out), 0);
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
     assert_true(out.vx <= 1e-12); /* no nearer to the obstacle */
     assert_true(out.vy > 0);      /* but along it, toward the target's side */
     /* standoff 0: only the region binds, and it lets the robot go on */
     in.standoff = 0;
-    assert_int_equal(lc_steer_drive(&in, &ws, NULL, &out), 0);
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
     assert_true(out.vx > 0);
     /* far from everything the standoff changes nothing */
     in.standoff = 0.04;
@@ -104,12 +104,12 @@ static void test_standoff_point(void **state)
     in.target = in.waypoint = lc_v2(-3, 3);
     lc_setpoint a, b;
     last = lc_setpoint_stop(LC_LIMIT_NONE);
-    assert_int_equal(lc_steer_drive(&in, &ws, NULL, &a), 0);
+    assert_int_equal(lc_steer_drive(&in, &ws, &a), 0);
     in.standoff = 0;
-    assert_int_equal(lc_steer_drive(&in, &ws, NULL, &b), 0);
+    assert_int_equal(lc_steer_drive(&in, &ws, &b), 0);
     assert_true(a.vx == b.vx && a.vy == b.vy && a.limit == b.limit);
-    lc_steer_ws_free(&ws, NULL);
-    lc_polyset_free(&grown, NULL);
+    lc_steer_ws_free(&ws);
+    lc_polyset_free(&grown);
 }
 
 static void *refuse(void *data, void *p, size_t n)
@@ -130,17 +130,18 @@ static void test_no_memory(void **state)
     lc_motion_params_default(&mp);
     lc_polyset grown = {0};
     const lc_vec2 sq[4] = {{1, -1}, {2, -1}, {2, 1}, {1, 1}};
-    lc_polyset_push(&grown, NULL, sq, 4, 0);
+    lc_polyset_push(&grown, sq, 4, 0);
     lc_region r = box_region(lc_v2(0, 0), 5);
     lc_setpoint last = {.vx = 0.3}, out;
     lc_steer_input in = {.robot = &robot, .params = &mp, .standoff = 0.04, .region = &r,
                          .grown = &grown, .pose = {0, 0, 0}, .target = lc_v2(0, 3),
                          .waypoint = lc_v2(0, 3), .last = &last, .dt = 0.05};
     lc_alloc none = {refuse, NULL};
-    lc_steer_ws ws = {0};
-    assert_int_equal(lc_steer_drive(&in, &ws, &none, &out), -1);
+    lc_steer_ws ws;
+    lc_steer_ws_init(&ws, &none);
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), -1);
     assert_true(out.vx == 0 && out.vy == 0 && out.limit == LC_LIMIT_NONE);
-    lc_polyset_free(&grown, NULL);
+    lc_polyset_free(&grown);
 }
 
 int main(void)

@@ -1024,8 +1024,8 @@ static void fake_step_init(fake_step *s)
     memcpy(s->obst_v, ov, sizeof ov);
     s->obst_span[0] = (lc_span){0, 4, 0};
     s->obst_span[1] = (lc_span){4, 3, 1};
-    s->obstacles = (lc_polyset){s->obst_v, 7, 7, s->obst_span, 2, 2};
-    s->grown = (lc_polyset){s->obst_v, 4, 4, s->obst_span, 1, 1};
+    s->obstacles = (lc_polyset){s->obst_v, 7, 7, s->obst_span, 2, 2, NULL};
+    s->grown = (lc_polyset){s->obst_v, 4, 4, s->obst_span, 1, 1, NULL};
     const lc_halfspace h[4] = {{{1, 0}, 2.65}, {{0, 1}, 1.65}, {{-1, 0}, 2.0}, {{0, -1}, 3.0}};
     memcpy(s->h, h, sizeof h);
     const lc_vec2 rv[4] = {{2.65, -3}, {2.65, 1.65}, {-2, 1.65}, {-2, -3}};

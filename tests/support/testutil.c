@@ -26,6 +26,24 @@ uint64_t lc_rng_next(lc_rng *r)
     return z ^ (z >> 31);
 }
 
+void lc_test_random_convex(lc_rng *g, lc_vec2 c, double r, int n, lc_vec2 *v)
+{
+    double ang[256];
+    assert_true(n >= 0 && n <= 256);
+    for (int i = 0; i < n; i++)
+        ang[i] = lc_rng_uniform(g, 0.0, 2.0 * LC_PI);
+    for (int i = 1; i < n; i++)
+        for (int j = i; j > 0 && ang[j - 1] > ang[j]; j--) {
+            double t = ang[j];
+            ang[j] = ang[j - 1];
+            ang[j - 1] = t;
+        }
+    for (int i = 0; i < n; i++)
+        v[i] = lc_add(c, lc_scale(lc_unit_angle(ang[i]), r));
+}
+
+
+
 double lc_rng_uniform(lc_rng *r, double lo, double hi)
 {
     return lo + (hi - lo) * ((double)(lc_rng_next(r) >> 11) * 0x1.0p-53);

@@ -40,6 +40,11 @@ uint64_t lc_rng_next(lc_rng *r);
 double lc_rng_uniform(lc_rng *r, double lo, double hi); /* [lo, hi) */
 double lc_rng_normal(lc_rng *r);                        /* standard normal */
 
+/* A random convex CCW polygon of n (<= 256) vertices: sorted angles drawn
+ * on the circle of radius r about c (two may fall close together). */
+void lc_test_random_convex(lc_rng *g, lc_vec2 c, double r, int n, lc_vec2 *v);
+
+
 /* A counting allocator around the C library's. */
 typedef struct lc_counting_alloc {
     lc_alloc alloc;
@@ -88,6 +93,19 @@ static inline int lc_test_geos_teardown(void **state)
     (void)state;
 #if LC_HAVE_GEOS
     oracle_finish();
+#endif
+    return 0;
+}
+
+/* The group setup of the tests that ask GEOS: start it, or say once that
+ * the GEOS checks are skipped (GEOS not found at build time). */
+static inline int lc_test_geos_setup(void **state)
+{
+    (void)state;
+#if LC_HAVE_GEOS
+    oracle_init();
+#else
+    print_message("NOTICE: GEOS not found at build time: the GEOS checks are skipped\n");
 #endif
     return 0;
 }

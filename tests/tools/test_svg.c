@@ -54,7 +54,7 @@ static void fill_run(lc_svg_run *run, int n, double scale, double clearance)
     lc_vec2 sq[4] = {{-1, -1}, {1, -1}, {1, 1}, {-1, 1}};
     lc_vec2 ob[3] = {{2, 0}, {3, 0}, {2.5, 1}};
     lc_polyset obstacles = {0};
-    assert_int_equal(lc_polyset_push(&obstacles, NULL, ob, 3, 0), 0);
+    assert_int_equal(lc_polyset_push(&obstacles, ob, 3, 0), 0);
     for (int i = 0; i < n; i++) {
         lc_vec2 v[4];
         for (int k = 0; k < 4; k++)
@@ -70,7 +70,7 @@ static void fill_run(lc_svg_run *run, int n, double scale, double clearance)
         f.stamp = 0.05 * i;
         lc_svg_run_add(run, &f, &res, clearance);
     }
-    lc_polyset_free(&obstacles, NULL);
+    lc_polyset_free(&obstacles);
 }
 
 static void write_svg(const char *path, const lc_svg_run *run, const lc_svg_scene *sc)
@@ -95,7 +95,7 @@ static void test_synthetic_run(void **state)
     route.waypoints[1] = lc_v2(10, 2);
     lc_vec2 wall[2] = {{-2, -2}, {12, -2}};
     lc_polyset world = {0};
-    lc_polyset_push(&world, NULL, wall, 2, 0);
+    lc_polyset_push(&world, wall, 2, 0);
     lc_svg_scene sc = {.title = "synthetic", .world = &world, .route = &route, .radius = 0.3};
     write_svg(lc_test_tmp("synthetic.svg"), &run, &sc);
     assert_valid_xml(lc_test_tmp("synthetic.svg"));
@@ -104,7 +104,7 @@ static void test_synthetic_run(void **state)
     assert_non_null(s);
     assert_non_null(strstr(s, "<title>synthetic</title>"));
     free(s);
-    lc_polyset_free(&world, NULL);
+    lc_polyset_free(&world);
     lc_svg_run_free(&run);
 }
 
