@@ -161,6 +161,9 @@ typedef struct search_ctx {
     double R;        /* m, clearance */
     lc_vec2 start;
     double escape;   /* m, closed cells this near the start are passable */
+    double graze;    /* m, how far into the clearance a path ahead may be found before
+                        it counts as closed (half a memory cell: cells flicker at the
+                        edge of the clearance as they are seen again) */
 } search_ctx;
 
 /* A point's class from the memory: closed, soft or free, and unknown. */
@@ -325,15 +328,18 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
 
 /* ------------------------------------------------------------ the path */
 
-/* Is the segment [a, b] clear of obstacles (samples every LOS_STEP memory
- * cells)? */
+/* Is the segment [a, b] clear of obstacles by the clearance and half the
+ * soft margin (samples every LOS_STEP memory cells)? A shortcut that grazes
+ * an obstacle at the bare clearance would lead the robot along the edge of
+ * its region, where the region's lines cut the path off at once. */
 static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b)
 {
     double len = lc_dist(a, b), step = LOS_STEP * g->mem_cell;
+    double keep = c->R + 0.5 * g->cfg.soft;
     int k = (int)ceil(len / step);
     for (int i = 1; i <= k; i++) {
         lc_vec2 p = lc_lerp(a, b, (double)i / k);
-        if (lc_memory_nearest(c->m, p, c->R) < c->R && lc_dist(p, c->start) > c->escape)
+        if (lc_memory_nearest(c->m, p, keep) < keep && lc_dist(p, c->start) > c->escape)
             return false;
     }
     return true;
@@ -440,7 +446,10 @@ lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double
 }
 
 /* What the rest of path p costs now from `from`, sampled every search
- * cell; INFINITY when a sample is closed. */
+ * cell. A closed sample costs as the search's dearest step would (a path
+ * found closed ahead is replaced anyway, by blocked_ahead): the robot that
+ * has come close to a corner its path rounds does not drop the path for
+ * every cell its clearance now touches. */
 static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_path *p,
                        lc_vec2 from, int seg)
 {
@@ -458,8 +467,8 @@ static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_pa
                 continue;
             }
             int cls = classify_point(g, c, s);
-            if ((cls & 0x0f) == CLS_CLOSED && lc_dist(s, c->start) > c->escape)
-                return INFINITY;
+            if ((cls & 0x0f) == CLS_CLOSED)
+                cls = (cls & CLS_UNKNOWN) | CLS_SOFT;
             cost += len / m * factor(g, cls);
         }
         a = b;
@@ -483,7 +492,7 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
         for (int i = 1; i <= m && walked < g->cfg.check_ahead; i++) {
             lc_vec2 s = lc_lerp(a, b, (double)i / m);
             walked += len / m;
-            if (lc_dist(s, c->start) > c->escape && lc_memory_nearest(c->m, s, c->R) < c->R)
+            if (lc_dist(s, c->start) > c->escape && lc_memory_nearest(c->m, s, c->R) < c->R - c->graze)
                 return true;
         }
         a = b;
@@ -507,7 +516,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         info = &local;
     memset(info, 0, sizeof *info);
     g->frame++;
-    search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell};
+    search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell};
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
     bool due = g->frame - g->last_search >= g->cfg.every;
     if (g->path.status == LC_GUIDE_PATH && !new_goal) {
@@ -535,10 +544,13 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             if (lc_dist(goal_pt, waypoint) <= reach)
                 goal_pt = waypoint;
             build_path(g, &c, end, goal_pt, g->g[end]);
+            /* both ways priced the same way, along their polylines as the
+             * memory is now (the search's own cost counts grid steps) */
             double old = !new_goal && g->path.status == LC_GUIDE_PATH && !info->blocked_ahead
                              ? cost_now(g, &c, &g->path, robot, g->path.seg)
                              : INFINITY;
-            if (!(g->cand.cost >= old * (1.0 - g->cfg.hysteresis))) {
+            double now = isfinite(old) ? cost_now(g, &c, &g->cand, robot, 0) : 0.0;
+            if (!(now >= old * (1.0 - g->cfg.hysteresis))) {
                 g->path = g->cand;
                 info->replaced = true;
             }

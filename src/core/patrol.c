@@ -169,7 +169,10 @@ lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 
         patrol->ref_stamp = stamp;
     bool no_path = way && way->no_path;
     if (patrol->blocked) {
-        bool possible = !no_path && (guided ? way->to_go_target < go - route->progress
+        /* guided: a new way that leads nearer than the robot ever got (the
+         * way it was stuck on does not count again) */
+        bool possible = !no_path && (guided ? way->new_way &&
+                                                  way->to_go_target < patrol->ref_dist - route->progress
                                             : progress_possible(route, wp, target, d));
         if (!possible)
             return LC_STATE_BLOCKED;
@@ -181,11 +184,16 @@ lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 
     }
     if (no_path)
         return block(patrol, route, pos, &sink, LC_BLOCK_NO_PATH);
-    if (guided && way->new_way && go > patrol->ref_dist) {
-        patrol->ref_dist = go; /* a longer way round: progress counts from here */
-        patrol->ref_stamp = stamp;
-    }
-    if (go <= patrol->ref_dist - route->progress) {
+    if (guided && way->new_way) {
+        /* a new way is not progress by itself: only a way round (longer by
+         * more than the detour) starts the count over */
+        if (go > patrol->ref_dist + LC_PATROL_DETOUR) {
+            patrol->ref_dist = go;
+            patrol->ref_stamp = stamp;
+        } else if (go < patrol->ref_dist) {
+            patrol->ref_dist = go;
+        }
+    } else if (go <= patrol->ref_dist - route->progress) {
         patrol->ref_dist = go;
         patrol->ref_stamp = stamp;
     }

@@ -86,6 +86,8 @@ lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
  * cul-de-sac takes the robot farther from the waypoint as the crow flies
  * while it gets nearer along the way), and a missing way blocks at once.
  */
+#define LC_PATROL_DETOUR 1.0 /* m */
+
 typedef struct lc_patrol_way {
     bool guided;         /* false: the straight line (as lc_patrol_update) */
     double to_go;        /* m, along the path from the robot */
@@ -97,10 +99,14 @@ typedef struct lc_patrol_way {
 /*
  * lc_patrol_update with guidance's view of the way (way may be NULL: the
  * straight line). With a way: progress is to_go shrinking by
- * route->progress; a new way that is longer than the reference starts the
- * progress over from it; no_path raises "blocked" (reason no_path) at once,
- * and a robot held blocked (policy WAIT) stays so while there is no path;
- * "unblocked" when to_go_target < to_go - route->progress.
+ * route->progress; a new way longer than the reference by more than
+ * LC_PATROL_DETOUR (a way round an obstacle found, not a robot dithering
+ * between two ways of about the same length) starts the progress over from
+ * it, while a new way that is not (or is shorter) is no progress by itself;
+ * no_path raises "blocked" (reason no_path) at once; a robot held blocked
+ * (policy WAIT) is "unblocked" only by a new way (new_way) whose target
+ * lies nearer the waypoint, along it, than the robot ever got (by
+ * route->progress): the way it got stuck on does not unblock it again.
  */
 lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
                               lc_vec2 target, const lc_patrol_way *way, double stamp,

@@ -10,6 +10,7 @@
 
 #include <stdlib.h>
 #include <string.h>
+#include <stdio.h>
 
 #include "grow.h"
 #include "hull.h"
@@ -389,11 +390,13 @@ static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *o
     lc_steer_drive(&in, &s->steer, &out->setpoint);
 }
 
-/* The clearance guidance keeps: the grown obstacles' (remembered cells are
- * grown by half a cell's diagonal more). */
+/* The clearance guidance keeps, from remembered cells' centres: the
+ * robot's. The region keeps exact clearance from what is seen; guidance
+ * only finds the way, and a way it finds up to half a cell too narrow is
+ * given up when no progress follows. */
 static double guide_clearance(const lc_session *s)
 {
-    return lc_robot_clearance(&s->robot) + cell_reach(s);
+    return lc_robot_clearance(&s->robot);
 }
 
 /*
@@ -433,31 +436,33 @@ static double exit_share(const lc_region *r, lc_vec2 a, lc_vec2 d)
     return t;
 }
 
+/* The length of path p from point a on segment k - 1 (a up to v[k]) on. */
+static double path_rest(const lc_guide_path *p, lc_vec2 a, int k)
+{
+    double r = k < p->n ? lc_dist(a, p->v[k]) : 0.0;
+    for (int i = k; i + 1 < p->n; i++)
+        r += lc_dist(p->v[i], p->v[i + 1]);
+    return r;
+}
+
 /*
  * The target on the path: the farthest point of it, from where the robot
  * is along it, that the region holds (the path's first exit from the
- * region; its end when it stays inside). *rest gets the path's length from
- * there on.
+ * region; its end when it stays inside). The walk starts at the robot
+ * centre (inside the region by construction) toward the end of the segment
+ * the robot is at. *rest gets the path's length from the target on.
  */
-static lc_vec2 path_target(const lc_region *r, const lc_guide_path *p, lc_vec2 c,
-                           double to_go, double *rest)
+static lc_vec2 path_target(const lc_region *r, const lc_guide_path *p, lc_vec2 c, double *rest)
 {
-    lc_vec2 q = lc_guide_ahead(p, c, 0.0, NULL);
-    double along = to_go - lc_dist(c, q); /* from q to the end */
-    if (!lc_region_contains(r, q, 1e-9)) {
-        *rest = along;
-        return lc_region_project(r, q);
-    }
-    lc_vec2 a = q;
+    lc_vec2 a = c;
     for (int k = p->seg + 1; k < p->n; k++) {
         lc_vec2 d = lc_sub(p->v[k], a);
         double t = exit_share(r, a, d);
         if (t < 1.0) {
-            along -= t * lc_len(d);
-            *rest = lc_max(along, 0.0);
-            return lc_add(a, lc_scale(d, t));
+            lc_vec2 e = lc_add(a, lc_scale(d, t));
+            *rest = path_rest(p, e, k);
+            return e;
         }
-        along -= lc_len(d);
         a = p->v[k];
     }
     *rest = 0.0;
@@ -559,7 +564,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
         out->has_target = has_wp;
         if (has_wp && way.guided)
-            out->target = path_target(&s->region, out->path, c, way.to_go, &way.to_go_target);
+            out->target = path_target(&s->region, out->path, c, &way.to_go_target);
     }
     stamp_stage(s, out, LC_STAGE_TARGET, &t);
 
@@ -576,6 +581,19 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         decide(s, frame, dt, &way, out);
     }
     s->last = out->setpoint;
+    if (getenv("LC_DEBUG")) {
+        fprintf(stderr, "t=%.2f pose=(%.2f,%.2f,%.2f) st=%s lim=%s sp=(%.3f,%.3f|%.3f,%.3f) tgt=(%.2f,%.2f) path=%d n=%d len=%.2f seek=(%.2f,%.2f) rc=%d rnv=%d togo=%.2f/%.2f srch=%d repl=%d blk=%d fov=%.2f\n",
+            frame->stamp, frame->pose.x, frame->pose.y, frame->pose.yaw, lc_state_name(out->state), lc_limit_name(out->setpoint.limit),
+            out->setpoint.vx, out->setpoint.vy, out->setpoint.v, out->setpoint.w, out->target.x, out->target.y,
+            out->path ? (int)out->path->status : -1, out->path ? out->path->n : 0, out->path ? out->path->length : 0, seek.x, seek.y, rc, s->region.nv,
+            way.to_go, way.to_go_target, out->guide.searched, out->guide.replaced, out->guide.blocked_ahead, out->view_fov);
+        if (getenv("LC_DEBUG_PATH") && out->path) {
+            for (int k = 0; k < out->path->n; k++) fprintf(stderr, " (%.3f,%.3f)", out->path->v[k].x, out->path->v[k].y);
+            fprintf(stderr, " seg=%d\n region:", out->path->seg);
+            for (int k = 0; k < s->region.nh; k++) fprintf(stderr, " [%.3f %.3f %.3f]", s->region.h[k].a.x, s->region.h[k].a.y, s->region.h[k].b);
+            fprintf(stderr, "\n");
+        }
+    }
     stamp_stage(s, out, LC_STAGE_SETPOINT, &t);
     out->total_us = lc_clock_now(&s->clock) - t_start;
     return 0;

@@ -87,7 +87,13 @@ static int parse_args(int argc, char **argv, const char **path, int *pretty)
 
 lc_session *lc_plan_session_new(const lc_wire_plan_request *req)
 {
-    lc_session *s = lc_session_new(&req->robot, NULL, NULL);
+    /* One request, planned on its own: no guidance, so that the target is
+     * what docs/INTERFACES.md promises (the goal or its closest point in the
+     * region); the memory holds the request's frames. */
+    lc_plan_config cfg;
+    lc_plan_config_default(&cfg);
+    cfg.guide.enabled = false;
+    lc_session *s = lc_session_new(&req->robot, &cfg, NULL);
     if (s) {
         lc_session_set_goal(s, req->goal);
         lc_session_set_velocity(s, &req->velocity);

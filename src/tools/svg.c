@@ -33,6 +33,10 @@ void lc_svg_run_free(lc_svg_run *r)
     free(r->clearance);
     lc_polyset_free(&r->regions);
     lc_polyset_free(&r->seen);
+    lc_polyset_free(&r->paths);
+    lc_polyset_free(&r->last_region);
+    lc_polyset_free(&r->last_grown);
+    lc_polyset_free(&r->last_path);
     memset(r, 0, sizeof *r);
 }
 
@@ -55,8 +59,37 @@ static int grow_frames(lc_svg_run *r)
     return 0;
 }
 
+static bool has_path(const lc_plan_result *res)
+{
+    return res->path && res->path->status == LC_GUIDE_PATH && res->path->n >= 2;
+}
+
+/* The last frame's region, grown obstacles, path and target. */
+static void keep_last(lc_svg_run *r, const lc_plan_result *res)
+{
+    lc_polyset_clear(&r->last_region);
+    lc_polyset_clear(&r->last_grown);
+    lc_polyset_clear(&r->last_path);
+    bool ok = true;
+    if (res->region && res->region->nv >= 3)
+        ok = lc_polyset_push(&r->last_region, res->region->v, res->region->nv, 0) == 0;
+    for (int i = 0; ok && res->grown && i < res->grown->np; i++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(res->grown, i, &n);
+        ok = lc_polyset_push(&r->last_grown, v, n, 0) == 0;
+    }
+    if (ok && has_path(res))
+        ok = lc_polyset_push(&r->last_path, res->path->v, res->path->n, 0) == 0;
+    r->has_last_target = res->has_target;
+    r->last_target = res->target;
+    if (!ok)
+        r->failed = 1;
+}
+
 static void snapshot(lc_svg_run *r, const lc_plan_result *res, int id)
 {
+    if (has_path(res) && lc_polyset_push(&r->paths, res->path->v, res->path->n, id) < 0)
+        r->failed = 1;
     if (res->region && res->region->nv >= 3 &&
         lc_polyset_push(&r->regions, res->region->v, res->region->nv, id) < 0)
         r->failed = 1;
@@ -80,6 +113,7 @@ void lc_svg_run_add(lc_svg_run *r, const lc_frame *f, const lc_plan_result *res,
     r->clearance[r->n] = clearance;
     if (r->n % r->every == 0)
         snapshot(r, res, r->n / r->every);
+    keep_last(r, res);
     r->n++;
 }
 
@@ -168,6 +202,38 @@ static void put_set(FILE *out, const view *v, const lc_polyset *s, int keep_ever
         const lc_vec2 *p = lc_polyset_at(s, i, &n);
         put_polygon(out, v, p, n);
     }
+}
+
+static void put_polylines(FILE *out, const view *v, const lc_polyset *s, int keep_every)
+{
+    for (int i = 0; s && i < s->np; i++) {
+        if (keep_every > 1 && s->span[i].src % keep_every != 0)
+            continue;
+        int n;
+        const lc_vec2 *p = lc_polyset_at(s, i, &n);
+        fputs("<polyline points=\"", out);
+        put_points(out, v, p, n);
+        fputs("\"/>\n", out);
+    }
+}
+
+/* Where the run ended: the last frame's grown obstacles, region, path and
+ * target, drawn over the snapshots. */
+static void put_last(FILE *out, const view *v, const lc_svg_run *run)
+{
+    fputs("<g id=\"last\">\n<g fill=\"#cf222e\" fill-opacity=\"0.08\" stroke=\"#cf222e\" "
+          "stroke-opacity=\"0.5\" stroke-width=\"0.6\">\n", out);
+    put_set(out, v, &run->last_grown, 0);
+    fputs("</g>\n<g fill=\"#0969da\" fill-opacity=\"0.12\" stroke=\"#0969da\" "
+          "stroke-width=\"1.5\">\n", out);
+    put_set(out, v, &run->last_region, 0);
+    fputs("</g>\n<g fill=\"none\" stroke=\"#8250df\" stroke-width=\"2\">\n", out);
+    put_polylines(out, v, &run->last_path, 0);
+    fputs("</g>\n", out);
+    if (run->has_last_target)
+        fprintf(out, "<circle cx=\"%.2f\" cy=\"%.2f\" r=\"4\" fill=\"#8250df\"/>\n",
+                px(v, run->last_target.x), py(v, run->last_target.y));
+    fputs("</g>\n", out);
 }
 
 static void put_trajectory(FILE *out, const view *v, const lc_svg_run *run)
@@ -283,7 +349,11 @@ int lc_svg_write(FILE *out, const lc_svg_run *run, const lc_svg_scene *sc)
     fputs("</g>\n<g id=\"regions\" fill=\"#0969da\" fill-opacity=\"0.04\" stroke=\"#0969da\" "
           "stroke-opacity=\"0.5\" stroke-width=\"0.8\">\n", out);
     put_set(out, &v, &run->regions, stride);
+    fputs("</g>\n<g id=\"paths\" fill=\"none\" stroke=\"#8250df\" stroke-opacity=\"0.35\" "
+          "stroke-dasharray=\"4 3\" stroke-width=\"1\">\n", out);
+    put_polylines(out, &v, &run->paths, stride);
     fputs("</g>\n", out);
+    put_last(out, &v, run);
     put_trajectory(out, &v, run);
     put_route(out, &v, sc->route);
     put_robot(out, &v, run, sc->radius);

@@ -4,8 +4,10 @@
  * waypoints, and a clearance-over-time plot under the map.
  *
  * Layers are groups with fixed ids, so tests and people can find them:
- * "world" (only with a world), "seen", "regions", "trajectory", "route",
- * "robot" (footprint at start and end), "clearance". World coordinates are
+ * "world" (only with a world), "seen", "regions", "paths" (guidance),
+ * "last" (the last frame's region, grown obstacles, path and target: where a
+ * run that did not arrive ended), "trajectory", "route", "robot" (footprint
+ * at start and end), "clearance". World coordinates are
  * metres (y up); the picture flips them into SVG's y-down pixels.
  *
  * Ownership: the recorder owns copies of what it keeps (malloc); the scene's
@@ -29,6 +31,12 @@ typedef struct lc_svg_run {
     int n, cap;
     lc_polyset regions; /* region polygons of the snapshots */
     lc_polyset seen;    /* obstacles of the snapshots, as seen */
+    lc_polyset paths;   /* guidance paths of the snapshots (polylines) */
+    /* the last frame in full: region, grown obstacles (the frontier of the
+     * unknown among them), path and target */
+    lc_polyset last_region, last_grown, last_path;
+    lc_vec2 last_target;
+    bool has_last_target;
     int failed;         /* out of memory once: the picture is partial */
 } lc_svg_run;
 
