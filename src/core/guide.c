@@ -41,10 +41,22 @@ struct lc_guide {
     float *f;
     int heap_n;
     int *raw;          /* the search's path, cell by cell, goal first */
+    /* the remembered obstacles of the current search, bucketed by search
+     * cell: the returns of cell k are pts[start[k] .. start[k + 1]) */
+    int *start;        /* n * n + 1 */
+    uint8_t *occ;      /* n * n: cell k holds a return */
+    lc_vec2 *pts, *tmp;
+    int *tmp_cell;
+    int n_pts, cap_pts, cap_tmp, cap_tmp_cell;
     lc_guide_path path, cand;
     long frame, last_search, searches;
+    lc_vec2 searched_at; /* the robot at the last search */
     bool has_goal;
     lc_vec2 goal;
+    lc_vec2 refused[LC_GUIDE_REFUSED]; /* spots the robot could not get past */
+    double refused_r[LC_GUIDE_REFUSED];
+    int n_refused, next_refused;
+    bool search_now;
 };
 
 void lc_guide_config_default(lc_guide_config *cfg)
@@ -52,11 +64,14 @@ void lc_guide_config_default(lc_guide_config *cfg)
     *cfg = (lc_guide_config){.enabled = true,
                              .cell = 0.1,
                              .every = 10,
-                             .unknown_cost = 3.0,
+                             .travel = 0.5,
+                             .unknown_cost = 2.0,
                              .soft = 0.2,
                              .soft_cost = 2.0,
                              .hysteresis = 0.15,
-                             .check_ahead = 4.0};
+                             .check_ahead = 3.0,
+                             .stall = 4.0,
+                             .greed = 2.0};
 }
 
 int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
@@ -66,6 +81,8 @@ int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
         bad = "cell";
     else if (!(cfg->every >= 1 && cfg->every <= 10000))
         bad = "every";
+    else if (!(cfg->travel >= 0 && cfg->travel <= 100))
+        bad = "travel";
     else if (!(cfg->unknown_cost >= 1 && cfg->unknown_cost <= 100))
         bad = "unknown_cost";
     else if (!(cfg->soft >= 0 && cfg->soft <= 5))
@@ -76,6 +93,10 @@ int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
         bad = "hysteresis";
     else if (!(cfg->check_ahead >= 0 && cfg->check_ahead <= 100))
         bad = "check_ahead";
+    else if (!(cfg->stall >= 0 && cfg->stall <= 3600))
+        bad = "stall";
+    else if (!(cfg->greed >= 1 && cfg->greed <= 10))
+        bad = "greed";
     if (field)
         *field = bad;
     return bad ? -1 : 0;
@@ -116,7 +137,10 @@ lc_guide *lc_guide_new(const lc_guide_config *cfg, const lc_memory_config *mem_c
     g->heap = take(alloc, cells * sizeof *g->heap);
     g->pos = take(alloc, cells * sizeof *g->pos);
     g->raw = take(alloc, cells * sizeof *g->raw);
-    if (!g->g || !g->f || !g->parent || !g->state || !g->cls || !g->heap || !g->pos || !g->raw) {
+    g->start = take(alloc, (cells + 1) * sizeof *g->start);
+    g->occ = take(alloc, cells);
+    if (!g->g || !g->f || !g->parent || !g->state || !g->cls || !g->heap || !g->pos || !g->raw ||
+        !g->start || !g->occ) {
         lc_guide_free(g);
         return NULL;
     }
@@ -128,9 +152,13 @@ void lc_guide_free(lc_guide *g)
     if (!g)
         return;
     lc_alloc a = g->alloc;
-    void *bufs[] = {g->g, g->f, g->parent, g->state, g->cls, g->heap, g->pos, g->raw};
+    void *bufs[] = {g->g, g->f, g->parent, g->state, g->cls, g->heap, g->pos, g->raw,
+                    g->start, g->occ};
     for (size_t i = 0; i < sizeof bufs / sizeof bufs[0]; i++)
         a.realloc(a.data, bufs[i], 0);
+    LC_RELEASE(&a, g->pts, g->cap_pts);
+    LC_RELEASE(&a, g->tmp, g->cap_tmp);
+    LC_RELEASE(&a, g->tmp_cell, g->cap_tmp_cell);
     a.realloc(a.data, g, 0);
 }
 
@@ -139,6 +167,30 @@ void lc_guide_reset(lc_guide *g)
     g->path.status = LC_GUIDE_NONE;
     g->path.n = 0;
     g->has_goal = false;
+    g->n_refused = g->next_refused = 0;
+}
+
+void lc_guide_refuse(lc_guide *g, lc_vec2 at, double radius)
+{
+    if (!lc_vec2_finite(at) || !(radius > 0))
+        return;
+    g->refused[g->next_refused] = at;
+    g->refused_r[g->next_refused] = radius;
+    g->next_refused = (g->next_refused + 1) % LC_GUIDE_REFUSED;
+    if (g->n_refused < LC_GUIDE_REFUSED)
+        g->n_refused++;
+    g->search_now = true;
+}
+
+/* p lies in a refused spot; a spot that (with the escape) holds the robot
+ * no longer counts: the robot has got there after all. */
+static bool refused_at(const lc_guide *g, lc_vec2 start, double escape, lc_vec2 p)
+{
+    for (int i = 0; i < g->n_refused; i++)
+        if (lc_dist(p, g->refused[i]) < g->refused_r[i] &&
+            lc_dist(start, g->refused[i]) >= g->refused_r[i] + escape)
+            return true;
+    return false;
 }
 
 /* ------------------------------------------------------------------ grid */
@@ -156,6 +208,97 @@ static int cell_of(const lc_guide *g, lc_vec2 p)
     return (int)v * g->n + (int)u;
 }
 
+/* ------------------------------------------------ obstacles of a search */
+
+typedef struct collect_ctx {
+    lc_guide *g;
+    int failed;
+} collect_ctx;
+
+static int collect_one(void *data, lc_vec2 p)
+{
+    collect_ctx *cc = data;
+    lc_guide *g = cc->g;
+    int k = cell_of(g, p);
+    if (k < 0)
+        return 0;
+    if (LC_GROW(&g->alloc, g->tmp, g->cap_tmp, g->n_pts + 1) < 0 ||
+        LC_GROW(&g->alloc, g->tmp_cell, g->cap_tmp_cell, g->n_pts + 1) < 0) {
+        cc->failed = 1;
+        return 1;
+    }
+    g->tmp[g->n_pts] = p;
+    g->tmp_cell[g->n_pts++] = k;
+    return 0;
+}
+
+/*
+ * The memory's occupied cells (their returns) bucketed by search cell, for
+ * the nearest-obstacle queries of one search: built once, then each query
+ * reads the few search cells around it. -1 when out of memory.
+ */
+static int bucket_obstacles(lc_guide *g, const lc_memory *m)
+{
+    int total = g->n * g->n;
+    g->n_pts = 0;
+    collect_ctx cc = {g, 0};
+    lc_memory_each_occupied(m, collect_one, &cc);
+    if (cc.failed || LC_GROW(&g->alloc, g->pts, g->cap_pts, g->n_pts + 1) < 0)
+        return -1;
+    memset(g->start, 0, (size_t)(total + 1) * sizeof *g->start);
+    for (int i = 0; i < g->n_pts; i++)
+        g->start[g->tmp_cell[i] + 1]++;
+    for (int k = 0; k < total; k++) {
+        g->occ[k] = g->start[k + 1] > 0;
+        g->start[k + 1] += g->start[k];
+    }
+    for (int i = 0; i < g->n_pts; i++) /* start[k] runs to the end of bucket k */
+        g->pts[g->start[g->tmp_cell[i]]++] = g->tmp[i];
+    for (int k = total; k > 0; k--)
+        g->start[k] = g->start[k - 1];
+    g->start[0] = 0;
+    return 0;
+}
+
+/* The distance from p to the nearest bucketed return within radius;
+ * INFINITY when there is none. */
+static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
+{
+    double cs = g->cfg.cell;
+    int u0 = (int)floor((p.x - radius - g->x0) / cs), u1 = (int)floor((p.x + radius - g->x0) / cs);
+    int v0 = (int)floor((p.y - radius - g->y0) / cs), v1 = (int)floor((p.y + radius - g->y0) / cs);
+    u0 = u0 < 0 ? 0 : u0;
+    v0 = v0 < 0 ? 0 : v0;
+    u1 = u1 >= g->n ? g->n - 1 : u1;
+    v1 = v1 >= g->n ? g->n - 1 : v1;
+    double best = radius * radius;
+    bool found = false;
+    for (int v = v0; v <= v1; v++) {
+        const uint8_t *occ = g->occ + (size_t)v * (size_t)g->n;
+        for (int u = u0; u <= u1; u++) {
+            if (u + 8 <= u1 + 1) {
+                uint64_t w;
+                memcpy(&w, occ + u, sizeof w);
+                if (w == 0) {
+                    u += 7;
+                    continue;
+                }
+            }
+            if (!occ[u])
+                continue;
+            int k = v * g->n + u;
+            for (int i = g->start[k]; i < g->start[k + 1]; i++) {
+                double d2 = lc_len2(lc_sub(g->pts[i], p));
+                if (d2 < best) {
+                    best = d2;
+                    found = true;
+                }
+            }
+        }
+    }
+    return found ? sqrt(best) : INFINITY;
+}
+
 typedef struct search_ctx {
     const lc_memory *m;
     double R;        /* m, clearance */
@@ -169,7 +312,9 @@ typedef struct search_ctx {
 /* A point's class from the memory: closed, soft or free, and unknown. */
 static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
 {
-    double d = lc_memory_nearest(c->m, p, c->R + g->cfg.soft);
+    if (refused_at(g, c->start, c->escape, p))
+        return CLS_CLOSED;
+    double d = bucket_nearest(g, p, c->R + g->cfg.soft);
     int cls = d < c->R ? CLS_CLOSED : (d < c->R + g->cfg.soft ? CLS_SOFT : CLS_FREE);
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         cls |= CLS_UNKNOWN;
@@ -292,7 +437,8 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
     if (s < 0)
         return -1;
     bool inside = cell_of(g, goal) >= 0;
-    relax(g, s, -1, 0.0, octile(centre_of(g, s), goal));
+    double w = g->cfg.greed;
+    relax(g, s, -1, 0.0, w * octile(centre_of(g, s), goal));
     static const int du[8] = {1, -1, 0, 0, 1, 1, -1, -1}, dv[8] = {0, 0, 1, -1, 1, -1, 1, -1};
     double step = g->cfg.cell;
     while (g->heap_n > 0) {
@@ -319,8 +465,7 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
             if (d < 4)
                 open[d] = true;
             double len = d < 4 ? step : step * sqrt(2.0);
-            double h = inside ? octile(centre_of(g, q), goal) : octile(centre_of(g, q), goal);
-            relax(g, q, k, g->g[k] + len * factor(g, cls), h);
+            relax(g, q, k, g->g[k] + len * factor(g, cls), w * octile(centre_of(g, q), goal));
         }
     }
     return -1;
@@ -339,19 +484,44 @@ static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_
     int k = (int)ceil(len / step);
     for (int i = 1; i <= k; i++) {
         lc_vec2 p = lc_lerp(a, b, (double)i / k);
-        if (lc_memory_nearest(c->m, p, keep) < keep && lc_dist(p, c->start) > c->escape)
+        if ((refused_at(g, c->start, c->escape, p) || bucket_nearest(g, p, keep) < keep) &&
+            lc_dist(p, c->start) > c->escape)
             return false;
     }
     return true;
 }
 
-/* The raw cell path (goal first) into cand as a shortened polyline. */
+/*
+ * The search's way as points: k = 0 the robot, then its cells in order
+ * (not the robot's own, not the outside node), the goal point last (k =
+ * count - 1). raw[] holds the cells goal first, the robot's cell at
+ * raw[n_raw - 1].
+ */
+typedef struct way_points {
+    const lc_guide *g;
+    lc_vec2 start, goal;
+    int n_raw, first_cell, count;
+} way_points;
+
+static lc_vec2 way_point(const way_points *w, int k)
+{
+    if (k == 0)
+        return w->start;
+    if (k == w->count - 1)
+        return w->goal;
+    return centre_of(w->g, w->g->raw[w->n_raw - 1 - k]);
+}
+
+/* The raw cell path into cand as a polyline shortened where the straight
+ * line is clear: from each anchor, the farthest point in sight (the goal
+ * first, then by halving). */
 static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, double cost)
 {
     int n_raw = 0, total = g->n * g->n;
     for (int k = end; k >= 0 && n_raw < total + 1; k = g->parent[k])
         g->raw[n_raw++] = k;
-    /* points, robot first: the robot, the cells, the goal point */
+    int cells = n_raw - 1 - (end == total ? 1 : 0); /* after the robot's, before the end */
+    way_points w = {g, c->start, goal, n_raw, 0, cells + 2};
     lc_guide_path *p = &g->cand;
     p->n = 0;
     p->status = LC_GUIDE_PATH;
@@ -360,31 +530,25 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
     p->cost = cost;
     p->found_at = g->frame;
     p->seg = 0;
-    lc_vec2 anchor = c->start;
-    p->v[p->n++] = anchor;
-    /* raw[n_raw-1] is the robot's cell, raw[0] the end (or outside) */
-    int i = n_raw - 2; /* the next cell after the robot's */
-    int last_cell = end == total ? 1 : 0;
-    while (i >= last_cell && p->n < LC_GUIDE_PATH_MAX - 1) {
-        /* the farthest cell in sight of the anchor, by halving */
-        int lo = i, hi = last_cell;
-        if (line_of_sight(g, c, anchor, centre_of(g, g->raw[hi]))) {
+    p->v[p->n++] = c->start;
+    int a = 0, last = w.count - 1;
+    while (a < last && p->n < LC_GUIDE_PATH_MAX) {
+        int lo = a + 1, hi = last;
+        lc_vec2 from = way_point(&w, a);
+        if (line_of_sight(g, c, from, way_point(&w, hi))) {
             lo = hi;
         } else {
-            while (lo - hi > 1) {
+            while (hi - lo > 1) { /* lo in sight (a neighbour), hi not */
                 int mid = (lo + hi) / 2;
-                if (line_of_sight(g, c, anchor, centre_of(g, g->raw[mid])))
+                if (line_of_sight(g, c, from, way_point(&w, mid)))
                     lo = mid;
                 else
                     hi = mid;
             }
         }
-        anchor = centre_of(g, g->raw[lo]);
-        p->v[p->n++] = anchor;
-        i = lo - 1;
+        a = p->n == LC_GUIDE_PATH_MAX - 1 ? last : lo; /* room for the goal at the end */
+        p->v[p->n++] = way_point(&w, a);
     }
-    if (lc_dist(p->v[p->n - 1], goal) > 1e-9)
-        p->v[p->n++] = goal;
     p->length = 0;
     for (int k = 1; k < p->n; k++)
         p->length += lc_dist(p->v[k - 1], p->v[k]);
@@ -483,7 +647,7 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
     const lc_guide_path *p = &g->path;
     int seg = p->seg;
     lc_vec2 q = nearest_ahead(p, from, &seg);
-    double walked = 0.0, step = 0.5 * g->cfg.cell;
+    double walked = 0.0, step = g->cfg.cell;
     lc_vec2 a = q;
     for (int k = seg + 1; k < p->n && walked < g->cfg.check_ahead; k++) {
         lc_vec2 b = p->v[k];
@@ -492,7 +656,8 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
         for (int i = 1; i <= m && walked < g->cfg.check_ahead; i++) {
             lc_vec2 s = lc_lerp(a, b, (double)i / m);
             walked += len / m;
-            if (lc_dist(s, c->start) > c->escape && lc_memory_nearest(c->m, s, c->R) < c->R - c->graze)
+            if (lc_dist(s, c->start) > c->escape &&
+                (refused_at(g, c->start, c->escape, s) || lc_memory_nearest(c->m, s, c->R) < c->R - c->graze))
                 return true;
         }
         a = b;
@@ -515,16 +680,25 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
     if (!info)
         info = &local;
     memset(info, 0, sizeof *info);
+    *out = &g->path;
     g->frame++;
     search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell};
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
-    bool due = g->frame - g->last_search >= g->cfg.every;
+    if (new_goal)
+        g->n_refused = g->next_refused = 0;
+    long since = g->frame - g->last_search;
+    bool due = since >= g->cfg.every && (lc_dist(robot, g->searched_at) >= g->cfg.travel ||
+                                         since >= 10L * g->cfg.every);
     if (g->path.status == LC_GUIDE_PATH && !new_goal) {
         nearest_ahead(&g->path, robot, &g->path.seg);
         info->blocked_ahead = blocked_ahead(g, &c, robot);
     }
-    if (new_goal || due || g->path.status != LC_GUIDE_PATH || info->blocked_ahead) {
+    if (new_goal || due || g->search_now || g->path.status != LC_GUIDE_PATH ||
+        info->blocked_ahead) {
+        g->search_now = false;
         place_grid(g, m);
+        if (bucket_obstacles(g, m) < 0)
+            return -1;
         int expanded;
         double reach = fmax(tolerance, 0.5 * g->cfg.cell);
         int end = astar(g, &c, waypoint, reach, &expanded);
@@ -532,6 +706,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         info->expanded = expanded;
         g->searches++;
         g->last_search = g->frame;
+        g->searched_at = robot;
         if (end < 0) {
             g->cand.status = LC_GUIDE_NO_PATH;
             g->cand.n = 0;

@@ -8,7 +8,9 @@
  * there. Guidance looks further: an A* search (Hart, Nilsson and Raphael
  * 1968) over a grid of `cell`-metre cells laid on the memory's window
  * (memory.h), 8-connected, octile heuristic (admissible: no step costs less
- * than its length):
+ * than its length), the heuristic weighted by `greed` (weighted A*, Pohl
+ * 1970: through unknown space, which costs several times its length, plain
+ * A* would open most of the window):
  *   - a cell whose centre lies within the clearance (radius + margin, plus
  *     half a memory cell's diagonal) of a remembered occupied cell is
  *     closed;
@@ -24,17 +26,22 @@
  * world frame.
  *
  * Cadence (never a clock, so a replay plans exactly as the live run did):
- * a search every `every` frames, and at once when the goal changes, when
- * there is no path yet, or when the memory now holds an obstacle within the
- * clearance of the path ahead (checked every frame along the first
- * `check_ahead` metres). Steadiness: a new path replaces the one being
+ * a periodic search once `every` frames have passed and the robot has
+ * moved `travel` metres since the last one (or 10 x `every` frames have
+ * passed: a robot that stays put), so the cost follows the robot's motion,
+ * not the frame rate; and at once when the goal changes, when there is no
+ * path yet, when a stretch was refused, or when the memory now holds an
+ * obstacle within the clearance of the path ahead (checked every frame
+ * along the first `check_ahead` metres). Steadiness: a new path replaces the one being
  * followed only when the old one is blocked or the new one costs less than
  * (1 - hysteresis) times what the rest of the old one costs now, so the
  * robot does not flip between two ways round an obstacle of nearly equal
  * cost.
  *
  * No path (the waypoint enclosed, inside an obstacle, or every way closed
- * within the window) is an answer of its own: LC_GUIDE_NO_PATH.
+ * within the window) is an answer of its own: LC_GUIDE_NO_PATH. A way the
+ * robot cannot follow can be refused (lc_guide_refuse); the searches then
+ * look for another.
  *
  * Ownership: lc_guide_new allocates the search grid once through the given
  * allocator (kept in the struct); nothing is allocated per frame.
@@ -51,12 +58,18 @@
 typedef struct lc_guide_config {
     bool enabled;        /* search for paths at all (default true; needs memory) */
     double cell;         /* m, search cell (default 0.1) */
-    int every;           /* frames between searches (default 10) */
+    int every;           /* frames at least between periodic searches (default 10) */
+    double travel;       /* m the robot moves between periodic searches (default 0.5);
+                            a robot that stays put searches every 10 x `every` frames */
     double unknown_cost; /* cost factor through unknown space (default 3) */
     double soft;         /* m beyond the clearance where steps cost more (default 0.2) */
     double soft_cost;    /* that factor (default 2) */
     double hysteresis;   /* share a new path must save to replace the old (default 0.15) */
-    double check_ahead;  /* m of the path checked for new obstacles every frame (default 4) */
+    double check_ahead;  /* m of the path checked for new obstacles every frame (default 3) */
+    double stall;        /* s without progress along a path before its next stretch is
+                            refused and another way sought (default 4; 0: never) */
+    double greed;        /* weight of the heuristic (weighted A*, Pohl 1970): a path
+                            found costs at most this times the least (default 1.5) */
 } lc_guide_config;
 
 void lc_guide_config_default(lc_guide_config *cfg);
@@ -91,8 +104,19 @@ lc_guide *lc_guide_new(const lc_guide_config *cfg, const lc_memory_config *mem_c
                        const lc_alloc *alloc);
 void lc_guide_free(lc_guide *g);
 
-/* Forget the path (a new route, a new robot description). */
+/* Forget the path and the refused spots (a new route, a new robot
+ * description). */
 void lc_guide_reset(lc_guide *g);
+
+/*
+ * The robot could not follow the path past `at` (a gap the search took to
+ * be wide enough, by the memory's cells, that the region does not pass):
+ * the cells within `radius` of it are closed to the searches until the goal
+ * changes (at most LC_GUIDE_REFUSED of them, the oldest forgotten first),
+ * and the next update searches again.
+ */
+#define LC_GUIDE_REFUSED 16
+void lc_guide_refuse(lc_guide *g, lc_vec2 at, double radius);
 
 /* What the last lc_guide_update did (for the bench and the viewer). */
 typedef struct lc_guide_info {
@@ -107,7 +131,8 @@ typedef struct lc_guide_info {
  * One frame: keep, check or search the path from `robot` to `waypoint`
  * through memory m for a robot of the given clearance (m, radius + margin).
  * tolerance (m): the goal counts as reached within it (the route's). The
- * path (valid until the next call) is *out. Returns 0.
+ * path (valid until the next call) is *out. Returns 0, or -1 when out of
+ * memory (the path is then the one before).
  */
 int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 waypoint,
                     double clearance, double tolerance, const lc_guide_path **out,

@@ -32,10 +32,13 @@ struct lc_memory {
     lc_memory_config cfg;
     int n;             /* cells along a side */
     double c;          /* m, cell side */
+    double inv_c;      /* 1 / c */
     long i0, j0;       /* window: lattice cells [i0, i0 + n) x [j0, j0 + n) */
     bool placed;       /* the window has been placed (first update) */
     uint32_t *seen;    /* n * n */
     uint8_t *ev;       /* n * n */
+    uint16_t *at;      /* n * n: where in an occupied cell its last return fell, x in
+                          the low byte, y in the high one, in 256ths of the cell */
     uint32_t now;      /* tick of the last update (0: none yet) */
     double base;       /* stamp of tick 0 */
     double last_stamp;
@@ -56,7 +59,7 @@ void lc_memory_config_default(lc_memory_config *cfg)
     *cfg = (lc_memory_config){.enabled = true,
                               .cell = 0.05,
                               .size = 20.0,
-                              .reach = 8.0,
+                              .reach = 6.0,
                               .hold_occupied = 30.0,
                               .hold_free = 30.0,
                               .clear_frames = 2};
@@ -90,7 +93,7 @@ int lc_memory_side(const lc_memory_config *cfg)
 size_t lc_memory_grid_bytes(const lc_memory_config *cfg)
 {
     size_t n = (size_t)lc_memory_side(cfg);
-    return n * n * (sizeof(uint32_t) + sizeof(uint8_t));
+    return n * n * (sizeof(uint32_t) + sizeof(uint8_t) + sizeof(uint16_t));
 }
 
 static void *take(const lc_alloc *a, size_t bytes)
@@ -114,14 +117,16 @@ lc_memory *lc_memory_new(const lc_memory_config *cfg, const lc_alloc *alloc)
     m->cfg = *cfg;
     m->n = lc_memory_side(cfg);
     m->c = cfg->cell;
+    m->inv_c = 1.0 / cfg->cell;
     m->hold_occ = (uint32_t)llround(cfg->hold_occupied * 1000.0);
     m->hold_free = (uint32_t)llround(cfg->hold_free * 1000.0);
     size_t cells = (size_t)m->n * (size_t)m->n;
     m->seen = take(alloc, cells * sizeof *m->seen);
     m->ev = take(alloc, cells * sizeof *m->ev);
+    m->at = take(alloc, cells * sizeof *m->at);
     m->row_count = take(alloc, (size_t)(m->n + 1) * sizeof *m->row_count);
     m->bin_range = take(alloc, POINT_BINS * sizeof *m->bin_range);
-    if (!m->seen || !m->ev || !m->row_count || !m->bin_range) {
+    if (!m->seen || !m->ev || !m->at || !m->row_count || !m->bin_range) {
         lc_memory_free(m);
         return NULL;
     }
@@ -135,6 +140,7 @@ void lc_memory_free(lc_memory *m)
     lc_alloc a = m->alloc;
     a.realloc(a.data, m->seen, 0);
     a.realloc(a.data, m->ev, 0);
+    a.realloc(a.data, m->at, 0);
     a.realloc(a.data, m->row_count, 0);
     a.realloc(a.data, m->bin_range, 0);
     LC_RELEASE(&a, m->poly, m->cap_poly);
@@ -151,12 +157,23 @@ void lc_memory_clear(lc_memory *m)
 
 /* ------------------------------------------------------------ lattice */
 
-static long floor_div(double x, double c) { return (long)floor(x / c); }
+/* floor and ceil as integers without a call to the C library (its floor
+ * is a call on the baseline x86-64 instruction set, and the fill and the
+ * returns take thousands a frame); finite x of magnitude below 2^62. */
+static inline long lfloor(double x)
+{
+    long i = (long)x;
+    return i - (x < (double)i);
+}
+
+static inline long lceil(double x) { return -lfloor(-x); }
+
+static long floor_div(double x, double c) { return lfloor(x / c); }
 
 void lc_memory_cell_of(const lc_memory *m, lc_vec2 p, long *i, long *j)
 {
-    *i = floor_div(p.x, m->c);
-    *j = floor_div(p.y, m->c);
+    *i = lfloor(p.x * m->inv_c);
+    *j = lfloor(p.y * m->inv_c);
 }
 
 lc_vec2 lc_memory_cell_centre(const lc_memory *m, long i, long j)
@@ -396,7 +413,7 @@ static inline double cross_x(lc_vec2 p, double slope, double y)
 static void edge_rows(const lc_memory *m, long j0, lc_vec2 p, lc_vec2 q, long *ja, long *jb)
 {
     double lo = lc_min(p.y, q.y), hi = lc_max(p.y, q.y);
-    long a = (long)ceil(lo / m->c - 0.5), b = (long)ceil(hi / m->c - 0.5);
+    long a = lceil(lo * m->inv_c - 0.5), b = lceil(hi * m->inv_c - 0.5);
     *ja = a > j0 ? a : j0;
     *jb = b < j0 + m->n ? b : j0 + m->n;
 }
@@ -522,13 +539,27 @@ static void fill_polygon(lc_memory *m)
         sort_doubles(m->xs + a, b - a);
         long j = m->j0 + r;
         for (int k = a; k + 1 < b; k += 2) {
-            long ia = (long)ceil(m->xs[k] / m->c - 0.5), ib = (long)ceil(m->xs[k + 1] / m->c - 0.5);
+            long ia = lceil(m->xs[k] * m->inv_c - 0.5), ib = lceil(m->xs[k + 1] * m->inv_c - 0.5);
             see_span(m, j, ia, ib);
         }
     }
 }
 
 /* ---------------------------------------------------------------- update */
+
+/* A share in [0, 1) of a cell in 256ths (rounding keeps it in range). */
+static uint16_t fraction(double f)
+{
+    int q = (int)(f * 256.0);
+    return (uint16_t)(q < 0 ? 0 : (q > 255 ? 255 : q));
+}
+
+/* Where occupied cell (i, j) (stored at k) had its last return. */
+static lc_vec2 return_at(const lc_memory *m, size_t k, long i, long j)
+{
+    double fx = ((m->at[k] & 0xff) + 0.5) / 256.0, fy = ((m->at[k] >> 8) + 0.5) / 256.0;
+    return lc_v2(((double)i + fx) * m->c, ((double)j + fy) * m->c);
+}
 
 static void mark_returns(lc_memory *m, const lc_cloud *cloud)
 {
@@ -541,6 +572,8 @@ static void mark_returns(lc_memory *m, const lc_cloud *cloud)
         size_t k = slot(m, i, j);
         m->ev[k] = full;
         m->seen[k] = m->now;
+        m->at[k] = fraction(cloud->world[p].x * m->inv_c - (double)i) |
+                   (uint16_t)(fraction(cloud->world[p].y * m->inv_c - (double)j) << 8);
     }
 }
 
@@ -549,8 +582,13 @@ static void mark_body(lc_memory *m, lc_vec2 centre, double radius)
 {
     if (!(radius > 0))
         return;
-    long ia = floor_div(centre.x - radius, m->c), ib = floor_div(centre.x + radius, m->c);
-    long ja = floor_div(centre.y - radius, m->c), jb = floor_div(centre.y + radius, m->c);
+    /* Only the disc's part inside the window (a huge radius must not loop
+     * over cells the window does not hold). */
+    double x0 = (double)m->i0 * m->c, y0 = (double)m->j0 * m->c, side = (double)m->n * m->c;
+    long ia = floor_div(lc_min(lc_max(centre.x - radius, x0), x0 + side), m->c);
+    long ib = floor_div(lc_min(lc_max(centre.x + radius, x0), x0 + side), m->c);
+    long ja = floor_div(lc_min(lc_max(centre.y - radius, y0), y0 + side), m->c);
+    long jb = floor_div(lc_min(lc_max(centre.y + radius, y0), y0 + side), m->c);
     for (long j = ja; j <= jb; j++)
         for (long i = ia; i <= ib; i++) {
             if (!in_window(m, i, j) ||
@@ -635,7 +673,9 @@ double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max
                                    : LC_CELL_UNKNOWN;
             if (st != LC_CELL_FREE) {
                 *state = st;
-                *cell = lc_memory_cell_centre(m, i, j);
+                *cell = st == LC_CELL_OCCUPIED
+                            ? return_at(m, (size_t)row * (size_t)m->n + (size_t)col, i, j)
+                            : lc_memory_cell_centre(m, i, j);
                 return t;
             }
         }
@@ -662,7 +702,6 @@ static double row_nearest2(const lc_memory *m, size_t row, int a, int b, long ia
                            lc_vec2 p, double best)
 {
     const uint8_t *ev = m->ev + row;
-    double dy = ((double)j + 0.5) * m->c - p.y;
     for (int k = a; k < b; k++) {
         if (k + 8 <= b) {
             uint64_t w;
@@ -673,8 +712,8 @@ static double row_nearest2(const lc_memory *m, size_t row, int a, int b, long ia
             }
         }
         if (ev[k]) {
-            double dx = ((double)(ia + (k - a)) + 0.5) * m->c - p.x;
-            best = lc_min(best, dx * dx + dy * dy);
+            lc_vec2 q = return_at(m, row + (size_t)k, ia + (k - a), j);
+            best = lc_min(best, lc_len2(lc_sub(q, p)));
         }
     }
     return best;
@@ -708,6 +747,34 @@ double lc_memory_nearest(const lc_memory *m, lc_vec2 p, double radius)
     return found ? sqrt(best) : INFINITY;
 }
 
+int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p), void *data)
+{
+    if (!m->placed)
+        return 0;
+    for (long j = m->j0; j < m->j0 + m->n; j++) {
+        size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
+        const uint8_t *ev = m->ev + row;
+        for (int k = 0; k < m->n; k++) {
+            if (k + 8 <= m->n && (k & 7) == 0) {
+                uint64_t w;
+                memcpy(&w, ev + k, sizeof w);
+                if (w == 0) {
+                    k += 7;
+                    continue;
+                }
+            }
+            if (!ev[k])
+                continue;
+            /* stored column k is lattice column i with i = k (mod n) in the window */
+            long i = m->i0 + (long)wrap((long)k - m->i0, m->n);
+            int rc = fn(data, return_at(m, row + (size_t)k, i, j));
+            if (rc)
+                return rc;
+        }
+    }
+    return 0;
+}
+
 void lc_memory_get_stats(const lc_memory *m, lc_memory_stats *out)
 {
     memset(out, 0, sizeof *out);
@@ -718,7 +785,7 @@ void lc_memory_get_stats(const lc_memory *m, lc_memory_stats *out)
         out->free += s == LC_CELL_FREE;
         out->unknown += s == LC_CELL_UNKNOWN;
     }
-    out->bytes = sizeof *m + cells * (sizeof *m->seen + sizeof *m->ev) +
+    out->bytes = sizeof *m + cells * (sizeof *m->seen + sizeof *m->ev + sizeof *m->at) +
                  (size_t)(m->n + 1) * sizeof *m->row_count + POINT_BINS * sizeof *m->bin_range +
                  (size_t)m->cap_poly * sizeof *m->poly + (size_t)m->cap_xs * sizeof *m->xs;
     out->updates = m->updates;

@@ -19,7 +19,9 @@
  *     (scan-line fill of the polygon instead of a traversal per ray: the
  *     same cells up to the polygon's interpolation between neighbouring
  *     beams, at a fraction of the cost);
- *   - occupied: a kept return (ingest.h) lies in the cell;
+ *   - occupied: a kept return (ingest.h) lies in the cell; the cell keeps
+ *     where its last return fell (to 1/256 of the cell), so that what is
+ *     remembered stands where it was seen, not at the cell's centre;
  *   - the robot's own disc is free (it stands there).
  * A return sets the cell occupied for `clear_frames` see-throughs: each
  * frame whose view polygon holds the cell's centre takes one away, so a
@@ -140,20 +142,29 @@ bool lc_cone_holds(const lc_cone *cone, lc_vec2 p);
  * ray crosses (Amanatides and Woo's traversal), up to `max` metres: the
  * distance at which the ray enters the first cell that is not known free
  * (cells the ray crosses within `body` of `from` count as free); its state
- * and centre go to *state and *cell. INFINITY (and *state LC_CELL_FREE)
- * when every cell up to max is known free.
+ * goes to *state, and to *cell where its last return fell (occupied) or
+ * its centre (unknown). INFINITY (and *state LC_CELL_FREE) when every cell
+ * up to max is known free.
  */
 double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
                        lc_cell_state *state, lc_vec2 *cell);
 
 /*
- * The distance from p to the nearest occupied cell centre within `radius`
- * metres of p; INFINITY when there is none. Occupied here means evidence
+ * The distance from p to the nearest occupied cell's last return within
+ * `radius` metres of p (to a cell's side of p, and farther, it may miss);
+ * INFINITY when there is none. Occupied here means evidence
  * not yet swept away: a cell whose hold ran out counts until the ageing
  * sweep (SWEEP_ROWS rows an update) reaches it. Cheap: a box of bytes,
  * eight at a time.
  */
 double lc_memory_nearest(const lc_memory *m, lc_vec2 p, double radius);
+
+/*
+ * Calls fn(data, p) for the last return p of every occupied cell of the
+ * window (evidence not yet swept away, as lc_memory_nearest), row by row.
+ * Returns the first non-zero value fn returns (and stops), else 0.
+ */
+int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p), void *data);
 
 /* Counts for tests, the bench and the viewer. */
 typedef struct lc_memory_stats {

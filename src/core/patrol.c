@@ -101,6 +101,7 @@ static void advance(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
         return;
     }
     restart_progress(patrol, route, pos, sink->stamp);
+    patrol->fresh = true;
 }
 
 static bool blocked_check_enabled(const lc_route *route)
@@ -153,8 +154,9 @@ lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 
     double d = lc_dist(pos, wp);
     bool guided = way && way->guided && isfinite(way->to_go);
     double go = guided ? way->to_go : d; /* the progress measure */
-    if (!patrol->started) {
+    if (!patrol->started || patrol->fresh) {
         patrol->started = true;
+        patrol->fresh = false;
         restart_progress(patrol, route, pos, stamp);
         patrol->ref_dist = go;
     }

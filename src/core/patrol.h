@@ -62,6 +62,8 @@ typedef struct lc_patrol {
     bool done;
     bool blocked;
     bool started;
+    bool fresh;       /* a new waypoint: the next frame sets the reference (its way's
+                         length may differ from the straight line) */
     double ref_dist;  /* distance to the waypoint at the last progress */
     double ref_stamp; /* stamp of the last progress */
 } lc_patrol;

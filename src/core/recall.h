@@ -34,7 +34,7 @@
 #include "ingest.h"
 #include "memory.h"
 
-#define LC_RECALL_RAY_STEP (LC_PI / 180.0) /* 1 degree */
+#define LC_RECALL_RAY_STEP (LC_PI / 90.0) /* 2 degrees */
 
 typedef struct lc_recall_input {
     const lc_memory *mem;

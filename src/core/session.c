@@ -10,7 +10,6 @@
 
 #include <stdlib.h>
 #include <string.h>
-#include <stdio.h>
 
 #include "grow.h"
 #include "hull.h"
@@ -46,6 +45,11 @@ struct lc_session {
     double prev_stamp;
     bool resting;    /* stopped outside a frame: the next one starts from rest */
     lc_reply last_reply;
+    /* guidance's stall watch: the best way still to go and since when */
+    bool stall_on;
+    int stall_wp;
+    double stall_best, stall_stamp;
+    const lc_guide_path *path_ref; /* the path of this frame (watch_stall) */
 };
 
 static const char *const stage_names[LC_STAGE_COUNT] = {
@@ -70,7 +74,7 @@ void lc_plan_config_default(lc_plan_config *cfg)
     lc_motion_params_default(&cfg->motion);
     lc_memory_config_default(&cfg->memory);
     lc_guide_config_default(&cfg->guide);
-    cfg->recall = 5.0;
+    cfg->recall = 4.0;
     cfg->standoff = 0.04;
 }
 
@@ -229,25 +233,23 @@ static int grow_set(lc_session *s, const lc_polyset *set, int from, double r, in
     return 0;
 }
 
-/* Half a cell's diagonal: a remembered cell is a square, not its centre. */
+/* Half a cell's diagonal: an unknown cell is a square, not its centre. */
 static double cell_reach(const lc_session *s)
 {
     return s->mem ? 0.5 * sqrt(2.0) * s->cfg.memory.cell : 0.0;
 }
 
 /*
- * The obstacles seen now grown by radius + margin; remembered ones and the
- * frontier of the unknown (not obstacles: their src is -1 - index) by half
- * a cell's diagonal more.
+ * The obstacles, seen now or remembered (where their returns fell), grown
+ * by radius + margin; the frontier of the unknown (not obstacles: their
+ * src is -1 - index) by half a cell's diagonal more: an unknown cell is a
+ * square, not its centre.
  */
-static int grow_obstacles(lc_session *s, int n_seen)
+static int grow_obstacles(lc_session *s)
 {
     double r = lc_robot_clearance(&s->robot);
-    lc_polyset seen = s->obstacles;
-    seen.np = n_seen;
     lc_polyset_clear(&s->grown);
-    if (grow_set(s, &seen, 0, r, 0) < 0 ||
-        grow_set(s, &s->obstacles, n_seen, r + cell_reach(s), 0) < 0 ||
+    if (grow_set(s, &s->obstacles, 0, r, 0) < 0 ||
         grow_set(s, &s->frontier, 0, r + cell_reach(s), -1) < 0)
         return -1;
     return 0;
@@ -404,23 +406,25 @@ static double guide_clearance(const lc_session *s)
  * along it that the region reaches toward (*seek; wp without a path). Fills
  * out->path and what the patrol will be told of the way.
  */
-static void guide_frame(lc_session *s, lc_vec2 c, lc_vec2 wp, lc_vec2 *seek, lc_patrol_way *way,
-                        lc_plan_result *out)
+static int guide_frame(lc_session *s, lc_vec2 c, lc_vec2 wp, lc_vec2 *seek, lc_patrol_way *way,
+                       lc_plan_result *out)
 {
     *seek = wp;
     memset(way, 0, sizeof *way);
     if (!s->guide)
-        return;
+        return 0;
     const lc_guide_path *p;
-    lc_guide_update(s->guide, s->mem, c, wp, guide_clearance(s), s->route.tolerance, &p,
-                    &out->guide);
+    if (lc_guide_update(s->guide, s->mem, c, wp, guide_clearance(s), s->route.tolerance, &p,
+                        &out->guide) < 0)
+        return -1;
     out->path = p;
     way->no_path = p->status == LC_GUIDE_NO_PATH;
     way->new_way = out->guide.replaced;
     if (p->status != LC_GUIDE_PATH)
-        return;
+        return 0;
     way->guided = true;
     *seek = lc_guide_ahead(p, c, s->cfg.region.goal_step, &way->to_go);
+    return 0;
 }
 
 /* Where the segment from a (inside the region) along d leaves it, as a
@@ -467,6 +471,39 @@ static lc_vec2 path_target(const lc_region *r, const lc_guide_path *p, lc_vec2 c
     }
     *rest = 0.0;
     return a;
+}
+
+/*
+ * A robot that makes no progress along its path for the guide's stall time
+ * cannot get past where the path leaves its region (a gap the memory's
+ * cells make look wide enough, a corner it cannot round): that spot is
+ * refused and guidance looks for another way. A way round (longer by more
+ * than LC_PATROL_DETOUR) starts the watch over, as it does the patrol's.
+ */
+static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, lc_vec2 c,
+                        lc_vec2 target)
+{
+    if (!way->guided || !(s->cfg.guide.stall > 0)) {
+        s->stall_on = false;
+        return;
+    }
+    bool detour = way->new_way && way->to_go > s->stall_best + LC_PATROL_DETOUR;
+    if (!s->stall_on || s->stall_wp != s->patrol.current || detour ||
+        way->to_go < s->stall_best - s->route.progress) {
+        s->stall_on = true;
+        s->stall_wp = s->patrol.current;
+        s->stall_best = way->to_go;
+        s->stall_stamp = stamp;
+    } else if (stamp - s->stall_stamp >= s->cfg.guide.stall) {
+        /* where the path leaves the region, but never so near that the
+         * refused disc would hold the robot itself */
+        double r = lc_robot_clearance(&s->robot);
+        double ahead = lc_max(lc_dist(c, target), r + 0.2);
+        lc_vec2 spot = lc_guide_ahead(s->path_ref, c, ahead, NULL);
+        lc_guide_refuse(s->guide, spot, r);
+        s->stall_best = way->to_go;
+        s->stall_stamp = stamp;
+    }
 }
 
 /* The route-level decision for this frame, and the target it implies. */
@@ -543,15 +580,15 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     if (remember(s, frame, out) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_MEMORY, &t);
-    if (grow_obstacles(s, out->n_seen) < 0)
+    if (grow_obstacles(s) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_GROW, &t);
 
     lc_vec2 c = lc_v2(frame->pose.x, frame->pose.y), wp = c, seek = c;
     bool has_wp = lc_patrol_waypoint(&s->patrol, &s->route, &wp);
     lc_patrol_way way = {0};
-    if (has_wp)
-        guide_frame(s, c, wp, &seek, &way, out);
+    if (has_wp && guide_frame(s, c, wp, &seek, &way, out) < 0)
+        return -1;
     stamp_stage(s, out, LC_STAGE_GUIDE, &t);
     int rc = plan_region(s, frame, has_wp, seek, out);
     stamp_stage(s, out, LC_STAGE_REGION, &t);
@@ -563,8 +600,11 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->region = &s->region;
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
         out->has_target = has_wp;
-        if (has_wp && way.guided)
+        if (has_wp && way.guided) {
             out->target = path_target(&s->region, out->path, c, &way.to_go_target);
+            s->path_ref = out->path;
+            watch_stall(s, frame->stamp, &way, c, out->target);
+        }
     }
     stamp_stage(s, out, LC_STAGE_TARGET, &t);
 
@@ -581,19 +621,6 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         decide(s, frame, dt, &way, out);
     }
     s->last = out->setpoint;
-    if (getenv("LC_DEBUG")) {
-        fprintf(stderr, "t=%.2f pose=(%.2f,%.2f,%.2f) st=%s lim=%s sp=(%.3f,%.3f|%.3f,%.3f) tgt=(%.2f,%.2f) path=%d n=%d len=%.2f seek=(%.2f,%.2f) rc=%d rnv=%d togo=%.2f/%.2f srch=%d repl=%d blk=%d fov=%.2f\n",
-            frame->stamp, frame->pose.x, frame->pose.y, frame->pose.yaw, lc_state_name(out->state), lc_limit_name(out->setpoint.limit),
-            out->setpoint.vx, out->setpoint.vy, out->setpoint.v, out->setpoint.w, out->target.x, out->target.y,
-            out->path ? (int)out->path->status : -1, out->path ? out->path->n : 0, out->path ? out->path->length : 0, seek.x, seek.y, rc, s->region.nv,
-            way.to_go, way.to_go_target, out->guide.searched, out->guide.replaced, out->guide.blocked_ahead, out->view_fov);
-        if (getenv("LC_DEBUG_PATH") && out->path) {
-            for (int k = 0; k < out->path->n; k++) fprintf(stderr, " (%.3f,%.3f)", out->path->v[k].x, out->path->v[k].y);
-            fprintf(stderr, " seg=%d\n region:", out->path->seg);
-            for (int k = 0; k < s->region.nh; k++) fprintf(stderr, " [%.3f %.3f %.3f]", s->region.h[k].a.x, s->region.h[k].a.y, s->region.h[k].b);
-            fprintf(stderr, "\n");
-        }
-    }
     stamp_stage(s, out, LC_STAGE_SETPOINT, &t);
     out->total_us = lc_clock_now(&s->clock) - t_start;
     return 0;

@@ -41,7 +41,7 @@ typedef struct lc_plan_config {
     lc_guide_config guide;   /* guidance through the memory (guide.h); on by default */
     double recall;        /* m, with memory: half side of the box about the robot whose
                              remembered obstacles the region avoids, and the region's
-                             window (default 5) */
+                             window (default 4) */
     double standoff;      /* m, how far inside the region the robot aims when the
                              waypoint lies outside it (target stays the closest
                              point); keeps a robot parked at a blocked waypoint off
@@ -74,9 +74,9 @@ typedef struct lc_plan_result {
     const lc_polyset *obstacles; /* convex pieces, world frame, CCW: [0, n_seen) from this
                                     frame, the rest remembered (recall.h) */
     int n_seen;
-    const lc_polyset *grown;     /* the obstacles grown by radius + margin (remembered ones
-                                    by half a cell's diagonal more), then the frontier of
-                                    the unknown grown the same way */
+    const lc_polyset *grown;     /* the obstacles grown by radius + margin, then the
+                                    frontier of the unknown grown by half a memory cell's
+                                    diagonal more (src -1 - index: not an obstacle) */
     const lc_memory *memory;     /* NULL when the session remembers nothing */
     const lc_guide_path *path;   /* guidance's way to the waypoint; NULL without guidance or
                                     waypoint (status LC_GUIDE_NO_PATH: there is none) */

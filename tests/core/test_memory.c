@@ -23,7 +23,7 @@
 #include "ingest.h"
 #include "memory.h"
 
-#define MAXB 600
+#define MAXB 800
 
 typedef struct scan {
     double ranges[MAXB];
@@ -157,8 +157,8 @@ static void test_config(void **state)
     assert_int_equal(lc_memory_config_check(&c, &field), 0);
     assert_null(field);
     assert_int_equal(lc_memory_side(&c), 400);
-    /* the default grid: 400 x 400 cells of 5 bytes, well under 16 MiB */
-    assert_int_equal(lc_memory_grid_bytes(&c), 400u * 400u * 5u);
+    /* the default grid: 400 x 400 cells of 7 bytes, well under 16 MiB */
+    assert_int_equal(lc_memory_grid_bytes(&c), 400u * 400u * 7u);
     struct {
         double *x;
         double v;
