@@ -11,7 +11,7 @@ cd "$(dirname "$0")"
 
 RUNTIME_PKGS=(gcc pkg-config meson ninja-build libqhull-dev libcjson-dev libwebsockets-dev)
 TEST_PKGS=(libcmocka-dev libgeos-dev coinor-libipopt-dev python3 python3-websockets
-           python3-jsonschema libxml2-utils chromium openssl valgrind
+           python3-jsonschema libxml2-utils chromium openssl valgrind groff-base systemd
            clang libclang-rt-14-dev)
 
 say() { printf '==> %s\n' "$*" >&2; }

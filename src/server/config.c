@@ -46,7 +46,9 @@ static const opt options[] = {
     STR(listen, "HOST:PORT", "127.0.0.1:7640",
         "HOST:PORT to listen on; HOST an IPv4 address, localhost or 0.0.0.0 (all); PORT 0 "
         "picks a free port"),
-    STR(web, "DIR", "", "directory of the viewer page (default: web/ beside the program)"),
+    STR(web, "DIR", "",
+        "directory of the viewer page (default: the installed one, else web/ beside the build; "
+        "none found: exit 2 naming the paths tried)"),
     STR(record, "DIR", "", "directory to write one scenario file per robot session"),
     STR(token_file, "FILE", "", "file holding the robot token (required off loopback)"),
     STR(viewer_token_file, "FILE", "", "file holding the viewer token (viewers need none without it)"),

@@ -24,7 +24,7 @@
 
 typedef struct lc_server_config {
     char listen[LC_CONFIG_STR_MAX];            /* HOST:PORT, IPv4 or localhost */
-    char web[LC_CONFIG_STR_MAX];               /* "" = the web/ beside the program */
+    char web[LC_CONFIG_STR_MAX];               /* "" = the installed one or the build's */
     char record[LC_CONFIG_STR_MAX];            /* "" = no recording */
     char token_file[LC_CONFIG_STR_MAX];
     char viewer_token_file[LC_CONFIG_STR_MAX];

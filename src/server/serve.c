@@ -1,7 +1,8 @@
 /*
- * serve.c - `lacuna serve`: options, tokens, the loopback rule, then the
- * server loop (server.h). The option list of --help is printed from the
- * option table (config.c), the one place options are declared.
+ * serve.c - `lacuna serve`: options, tokens, the loopback rule, the viewer
+ * page (given, installed or beside the build), then the server loop
+ * (server.h). The option list of --help is printed from the option table
+ * (config.c), the one place options are declared.
  */
 #include "serve.h"
 
@@ -16,6 +17,7 @@
 #include "codec.h"
 #include "config.h"
 #include "file.h"
+#include "lc_config.h"
 #include "log.h"
 #include "server.h"
 
@@ -118,38 +120,93 @@ static bool is_dir(const char *path)
     return stat(path, &st) == 0 && S_ISDIR(st.st_mode);
 }
 
-/* The web/ beside the program: <exe dir>/../web (the build tree's parent). */
-static bool default_web(char *out, size_t n)
+/* A viewer directory: one with the page's index.html (a bare web/ of some
+ * other program beside ours is not it). */
+static bool is_viewer(const char *dir)
 {
-    char exe[PATH_MAX];
-    ssize_t k = readlink("/proc/self/exe", exe, sizeof exe - 1);
-    if (k <= 0)
-        return false;
-    exe[k] = '\0';
-    char *slash = strrchr(exe, '/');
-    if (!slash)
-        return false;
-    *slash = '\0';
-    static const char *const rel[] = {"/../web", "/../share/lacuna/web", "/web"};
-    for (size_t i = 0; i < sizeof rel / sizeof rel[0]; i++) {
-        char cand[PATH_MAX + 32];
-        snprintf(cand, sizeof cand, "%s%s", exe, rel[i]);
-        if (is_dir(cand) && realpath(cand, out) && strlen(out) < n)
-            return true;
-    }
-    return false;
+    char index[PATH_MAX + 16];
+    snprintf(index, sizeof index, "%s/index.html", dir);
+    struct stat st;
+    return is_dir(dir) && stat(index, &st) == 0 && S_ISREG(st.st_mode);
 }
 
-static int check_dirs(lc_server_config *cfg, char *web, size_t n, bool *has_web)
+/* dir/rel, each leading "../" of rel taking the last component off dir
+ * (dir is the program's resolved directory, so this is exact). */
+static void join_up(char *out, size_t n, const char *dir, const char *rel)
 {
-    *has_web = false;
+    size_t len = strlen(dir);
+    for (; strncmp(rel, "../", 3) == 0; rel += 3) {
+        while (len > 0 && dir[len - 1] != '/')
+            len--;
+        while (len > 0 && dir[len - 1] == '/')
+            len--;
+    }
+    snprintf(out, n, "%.*s/%s", (int)len, dir, rel);
+}
+
+/*
+ * Where the viewer page may be when --web is not given, in order:
+ *  1. the installed data directory as seen from the program
+ *     (<prefix>/<bindir>/lacuna -> <prefix>/<datadir>/lacuna/web), so that a
+ *     tree installed under a DESTDIR, or moved whole, finds its own viewer;
+ *  2. beside the build: <build>/../web (a build directory in the source
+ *     tree) and <build>/web (the link meson makes in every build directory);
+ *  3. the data directory compiled in (meson's prefix and datadir), for a
+ *     program copied away from its tree.
+ * An installed program at its place finds 1, which is 3. A build's program
+ * looks beside itself before the compiled-in path, so that a developer with
+ * an older lacuna installed still gets the viewer of the tree being built.
+ * Returns how many candidates were written to cand.
+ */
+#define N_WEB_CANDIDATES 4
+static int web_candidates(char cand[N_WEB_CANDIDATES][PATH_MAX])
+{
+    int n = 0;
+    char exe[PATH_MAX];
+    ssize_t k = readlink("/proc/self/exe", exe, sizeof exe - 1);
+    char *slash = NULL;
+    if (k > 0) {
+        exe[k] = '\0';
+        slash = strrchr(exe, '/');
+    }
+    if (slash) {
+        *slash = '\0';
+        if (LC_WEB_FROM_BIN[0])
+            join_up(cand[n++], PATH_MAX, exe, LC_WEB_FROM_BIN);
+        join_up(cand[n++], PATH_MAX, exe, "../web");
+        join_up(cand[n++], PATH_MAX, exe, "web");
+    }
+    if (n == 0 || strcmp(cand[0], LC_WEB_INSTALLED) != 0)
+        snprintf(cand[n++], PATH_MAX, "%s", LC_WEB_INSTALLED);
+    return n;
+}
+
+/* The first candidate that holds the viewer, else a usage error naming
+ * every path tried: a daemon without its page is a broken install, better
+ * refused at start than found out as a 404 in the field. */
+static int find_web(char *out, size_t n)
+{
+    static char cand[N_WEB_CANDIDATES][PATH_MAX];
+    int count = web_candidates(cand);
+    char tried[N_WEB_CANDIDATES * (PATH_MAX + 2)] = "";
+    for (int i = 0; i < count; i++) {
+        if (is_viewer(cand[i]) && realpath(cand[i], out) && strlen(out) < n)
+            return 0;
+        strcat(tried, i ? ", " : "");
+        strcat(tried, cand[i]);
+    }
+    return lc_cli_usage_error(CMD, "no viewer page found (tried %s): give --web DIR", tried);
+}
+
+static int check_dirs(lc_server_config *cfg, char *web, size_t n)
+{
+    int rc;
     if (cfg->web[0]) {
         if (!is_dir(cfg->web))
             return lc_cli_usage_error(CMD, "web: %s is not a directory", cfg->web);
         snprintf(web, n, "%s", cfg->web);
-        *has_web = true;
-    } else {
-        *has_web = default_web(web, n);
+    } else if ((rc = find_web(web, n))) {
+        return rc;
     }
     if (cfg->record[0] && !is_dir(cfg->record) && mkdir(cfg->record, 0755) != 0)
         return lc_cli_usage_error(CMD, "record: %s: %s", cfg->record, strerror(errno));
@@ -178,7 +235,7 @@ int lc_serve(int argc, char **argv)
     static lc_server_config cfg;
     static char robot_token[LC_WIRE_TOKEN_MAX + 2], viewer_token[LC_WIRE_TOKEN_MAX + 2];
     static char web[PATH_MAX];
-    bool print = false, has_web = false;
+    bool print = false;
     int rc = read_options(argc, argv, &cfg, &print);
     if (rc)
         return rc;
@@ -202,7 +259,7 @@ int lc_serve(int argc, char **argv)
                                   "refusing to listen on %s (not a loopback address) without a "
                                   "robot token: give --token-file FILE",
                                   p.listen.host);
-    if ((rc = check_dirs(&cfg, web, sizeof web, &has_web)) || (rc = check_values(&cfg)))
+    if ((rc = check_dirs(&cfg, web, sizeof web)) || (rc = check_values(&cfg)))
         return rc;
     lc_log_level level = LC_LOG_INFO;
     lc_log_level_from_name(cfg.log_level, &level);
@@ -211,14 +268,13 @@ int lc_serve(int argc, char **argv)
                                   strerror(errno));
     p.robot_token = cfg.token_file[0] ? robot_token : NULL;
     p.viewer_token = cfg.viewer_token_file[0] ? viewer_token : NULL;
-    p.web_dir = has_web ? web : NULL;
+    p.web_dir = web;
     p.tls_cert = cfg.tls_cert[0] ? cfg.tls_cert : NULL;
     p.tls_key = cfg.tls_key[0] ? cfg.tls_key : NULL;
-    if (!has_web)
-        lc_log(LC_LOG_WARN, "no web directory found: the viewer page is not served");
     if (!p.listen.loopback && !p.tls_cert)
         lc_log(LC_LOG_WARN, "listening on %s without TLS: tokens cross the network in clear "
                             "(give --tls-cert and --tls-key)", p.listen.host);
+    lc_log(LC_LOG_INFO, "viewer page from %s", web);
     lc_log(LC_LOG_INFO, "not a safety-rated component: keep an independent safety-rated "
                         "protective stop (see lacuna serve --help)");
     rc = lc_server_run(&p);
