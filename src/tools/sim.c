@@ -344,6 +344,7 @@ static lc_frame make_frame(sim *sm, long k, double stamp)
                       .seq = k,
                       .stamp = stamp,
                       .pose = sm->pose,
+                      .has_mount = true,
                       .mount = sm->sensor.mount,
                       .angle_start = lc_sensor_beam_angle(&sm->sensor, 0),
                       .angle_step = lc_sensor_angle_step(&sm->sensor),
