@@ -128,10 +128,24 @@ typedef struct returns {
     int n;
 } returns;
 
-/* Adds the sensor-frame point p when it lies outside the footprint. */
+/* The frame's sensor from the robot description, NULL when it has none
+ * (protocol: the named sensor, else the first). */
+static const lc_sensor_desc *sensor_of(const lc_wire_plan_request *req)
+{
+    const lc_frame *f = &req->frame;
+    for (int i = 0; i < req->robot.n_sensors; i++)
+        if (!f->sensor[0] || strcmp(f->sensor, req->robot.sensors[i].name) == 0)
+            return &req->robot.sensors[i];
+    return NULL;
+}
+
+/* Adds the sensor-frame point p when it lies outside the footprint. The
+ * mount: the frame's own, else its sensor's (PROTOCOL.md). */
 static void add_return(returns *rt, const lc_wire_plan_request *req, lc_vec2 p_sensor)
 {
-    lc_vec2 p_robot = lc_pose_apply(req->frame.mount, p_sensor);
+    const lc_sensor_desc *sd = sensor_of(req);
+    lc_pose mount = req->frame.has_mount || !sd ? req->frame.mount : sd->mount;
+    lc_vec2 p_robot = lc_pose_apply(mount, p_sensor);
     double d = lc_len(p_robot), r = req->robot.radius;
     if (d < r - 1e-9)
         return;
@@ -141,10 +155,14 @@ static void add_return(returns *rt, const lc_wire_plan_request *req, lc_vec2 p_s
 
 /* Scans: finite ranges within [range_min, range_max] (the codec makes null
  * and out-of-limit values NaN); points: finite, within the robot's height
- * band when the frame has heights. Self hits (inside the footprint) out. */
+ * band and its sensor's when the frame has heights. Self hits (inside the
+ * footprint) out. */
 static void returns_of(const lc_wire_plan_request *req, returns *rt)
 {
     const lc_frame *f = &req->frame;
+    const lc_sensor_desc *sd = sensor_of(req);
+    double z_min = fmax(req->robot.z_min, sd ? sd->z_min : -INFINITY);
+    double z_max = fmin(req->robot.z_max, sd ? sd->z_max : INFINITY);
     int total = f->kind == LC_FRAME_SCAN ? f->n_ranges : f->n_points;
     rt->w = calloc((size_t)total + 1, sizeof *rt->w);
     rt->edge = calloc((size_t)total + 1, sizeof *rt->edge);
@@ -159,7 +177,7 @@ static void returns_of(const lc_wire_plan_request *req, returns *rt)
             lc_vec2 p = lc_v2(f->xy[2 * i], f->xy[2 * i + 1]);
             double z = f->z ? f->z[i] : 0.0;
             if (lc_vec2_finite(p) && isfinite(z) &&
-                (!f->z || (z >= req->robot.z_min && z <= req->robot.z_max)))
+                (!f->z || (z >= z_min && z <= z_max)))
                 add_return(rt, req, p);
         }
     }
@@ -307,6 +325,22 @@ static void test_shipped_requests(void **state)
     LC_GEOS_CHECKED();
 }
 
+/* The period of the frame's sensor: the header's "sensor", else the one of
+ * its "sensors" the frame names. */
+static double sensor_period(const cJSON *header, const cJSON *frame)
+{
+    const cJSON *one = cJSON_GetObjectItemCaseSensitive(header, "sensor");
+    if (one)
+        return 1.0 / number(item(one, "rate"));
+    const char *name = cJSON_GetStringValue(item(frame, "sensor"));
+    const cJSON *s;
+    cJSON_ArrayForEach(s, item(header, "sensors"))
+        if (name && strcmp(cJSON_GetStringValue(item(s, "name")), name) == 0)
+            return 1.0 / number(item(s, "rate"));
+    fail_msg("frame of sensor %s, which the header does not list", name ? name : "?");
+    return 0;
+}
+
 /* A request from one recorded frame: the header's robot, the waypoint the
  * next setpoint names, the sensor's period; NULL when that setpoint names
  * no waypoint. */
@@ -320,7 +354,7 @@ static char *request_of(const cJSON *header, const cJSON *frame, const cJSON *se
     cJSON_DeleteItemFromObjectCaseSensitive(robot, "type");
     cJSON_AddItemToObject(req, "robot", robot);
     cJSON_AddItemToObject(req, "goal", cJSON_Duplicate(cJSON_GetArrayItem(route, wp->valueint), 1));
-    cJSON_AddNumberToObject(req, "dt", 1.0 / number(item(item(header, "sensor"), "rate")));
+    cJSON_AddNumberToObject(req, "dt", sensor_period(header, frame));
     cJSON_AddItemToObject(req, "frame", cJSON_Duplicate(frame, 1));
     char *s = cJSON_PrintUnformatted(req);
     cJSON_Delete(req);
