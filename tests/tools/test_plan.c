@@ -4,9 +4,10 @@
  * proto/examples/plan_request.json) and on frames that `lacuna sim --out`
  * records in every shipped scenario. Each result keeps the promises of
  * proto/PROTOCOL.md's `lacuna plan` section:
- *   - the points it names are the frame's valid returns outside the
- *     footprint, worked out here from the request (beam bearings, mount and
- *     pose as closed-form rigid motions), in the frame's order;
+ *   - the points it names are the (last) frame's valid returns outside the
+ *     footprint, worked out here from the request (beam bearings, mount -
+ *     the frame's or its sensor's - and pose as closed-form rigid motions),
+ *     in the frame's order;
  *   - the robot centre lies in the region;
  *   - every one of those points is at least radius + margin from the region
  *     (GEOS, GEOSDistance_r), unless the state is too_close;
@@ -16,8 +17,9 @@
  *     GEOS puts 64 points of its boundary in the region's polygon;
  *   - the region's vertices satisfy its halfspaces, the target lies in it,
  *     the setpoint's speed is within v_max (and |w| within w_max).
- * The same request from a file and from standard input gives the same
- * result but for its timing. Bad requests and bad usage exit 2 with one
+ * A request's "frames" go through one session: the last frame's plan holds
+ * what an earlier frame of another sensor saw. The same request from a file
+ * and from standard input gives the same result but for its timing. Bad requests and bad usage exit 2 with one
  * line on stderr naming the field and nothing on stdout. No timing is
  * asserted.
  */
@@ -467,10 +469,11 @@ static void expect_refused(const char *text, const char *field)
     lc_test_refused(args, want);
 }
 
-#define SCAN_FRAME \
-    "\"frame\": {\"type\": \"scan\", \"seq\": 1, \"stamp\": 0, \"pose\": [0, 0, 0], " \
+#define SCAN_OBJECT \
+    "{\"type\": \"scan\", \"seq\": 1, \"stamp\": 0, \"pose\": [0, 0, 0], " \
     "\"angle_start\": 0, \"angle_step\": 0.1, \"range_min\": 0.1, \"range_max\": 5, " \
     "\"ranges\": [1, 2, null]}"
+#define SCAN_FRAME "\"frame\": " SCAN_OBJECT
 
 static void test_bad_requests(void **state)
 {
@@ -519,6 +522,18 @@ static void test_bad_requests(void **state)
          "\"pose\": [0, 0, 0], \"xy\": [1, 2, 3]}}", "frame.xy"},
         {"z short", "{\"goal\": [1, 2], \"frame\": {\"type\": \"points\", \"seq\": 1, \"stamp\": 0, "
          "\"pose\": [0, 0, 0], \"xy\": [1, 2, 3, 4], \"z\": [0.1]}}", "frame.z"},
+        {"no frames", "{\"goal\": [1, 2], \"frames\": []}", "frames: fewer than 1"},
+        {"frame and frames", "{\"goal\": [1, 2], \"frames\": [" SCAN_OBJECT "], " SCAN_FRAME "}",
+         "frames: give frame or frames"},
+        {"a bad beam in frames[1]", "{\"goal\": [1, 2], \"frames\": [" SCAN_OBJECT ", "
+         "{\"type\": \"scan\", \"seq\": 2, \"stamp\": 0, \"pose\": [0, 0, 0], \"angle_start\": 0, "
+         "\"angle_step\": 0.1, \"range_min\": 0.1, \"range_max\": 5, \"ranges\": [1, \"x\"]}]}",
+         "frames[1].ranges[1]"},
+        {"a bad sensor name", "{\"goal\": [1, 2], \"frames\": [{\"type\": \"points\", \"seq\": 1, "
+         "\"stamp\": 0, \"pose\": [0, 0, 0], \"sensor\": \"cam 2\", \"xy\": []}]}",
+         "frames[0].sensor"},
+        {"sensors of one name", "{\"robot\": {\"sensors\": [{\"name\": \"a\"}, {\"name\": \"a\"}]}, "
+         "\"goal\": [1, 2], " SCAN_FRAME "}", "robot.sensors[1].name"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++)
         expect_refused(cases[i].text, cases[i].field);
@@ -541,6 +556,53 @@ static void test_unknown_key_warned(void **state)
     assert_int_equal(t.regions, 1);
 }
 
+/* Obstacle vertices of the last result (out.json) with x in [x0, x1]. */
+static int obstacle_vertices_in(double x0, double x1)
+{
+    cJSON *res = parse_file(lc_test_tmp("out.json"));
+    const cJSON *piece, *v;
+    int n = 0;
+    cJSON_ArrayForEach(piece, item(res, "obstacles"))
+        cJSON_ArrayForEach(v, piece) {
+            double x = vec2_of(v).x;
+            n += x >= x0 && x <= x1;
+        }
+    cJSON_Delete(res);
+    return n;
+}
+
+/*
+ * "frames" go through one session: in scenarios/requests/dock-backing.json
+ * the front scanner sees a cage 2 m ahead and the rear one (the last frame)
+ * the dock wall behind; the plan of the rear frame still holds the cage
+ * (remembered), which the rear frame alone does not. Both plans keep every
+ * promise about the last frame's returns (plan_and_check).
+ */
+static void test_frames_remembered(void **state)
+{
+    const char *path = lc_test_source_path("scenarios/requests/dock-backing.json");
+    tally t = {0};
+    plan_and_check(path, &t);
+    int both = obstacle_vertices_in(1.9, 2.7);
+    char *text = lc_test_slurp(path);
+    assert_non_null(text);
+    cJSON *req = cJSON_Parse(text);
+    assert_non_null(req);
+    free(text);
+    cJSON_DeleteItemFromArray(cJSON_GetObjectItemCaseSensitive(req, "frames"), 0);
+    char *rear = cJSON_PrintUnformatted(req);
+    cJSON_Delete(req);
+    lc_test_write_file(lc_test_tmp("rear.json"), rear, strlen(rear));
+    free(rear);
+    plan_and_check(lc_test_tmp("rear.json"), &t);
+    int rear_only = obstacle_vertices_in(1.9, 2.7);
+    print_message("cage vertices: %d planned after the front frame, %d from the rear alone\n",
+                  both, rear_only);
+    assert_true(both >= 3);
+    assert_int_equal(rear_only, 0);
+    assert_int_equal(t.regions, 2);
+}
+
 /* Bad usage: exit 2, one line naming what is wrong. */
 static void test_bad_usage(void **state)
 {
@@ -561,6 +623,7 @@ int main(void)
         cmocka_unit_test(test_simulated_frames),
         cmocka_unit_test(test_stdin_and_repeat),
         cmocka_unit_test(test_bad_requests),
+        cmocka_unit_test(test_frames_remembered),
         cmocka_unit_test(test_unknown_key_warned),
         cmocka_unit_test(test_bad_usage),
     };
