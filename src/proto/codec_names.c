@@ -59,6 +59,9 @@ bool lc_wire_name_chars_ok(const char *s, size_t n, size_t max)
     return true;
 }
 
+/* A frame's sensor field holds any name the robot description may give. */
+_Static_assert(LC_FRAME_SENSOR_MAX == LC_SENSOR_NAME_MAX, "frame.h and robot.h name lengths");
+
 bool lc_wire_sensor_name_ok(const char *s, size_t n)
 {
     return lc_wire_name_chars_ok(s, n, LC_SENSOR_NAME_MAX);

@@ -11,9 +11,9 @@
  * "control":{...}} (control.h).
  * "sensor" is the one simulated scanner of a robot that names no sensors;
  * "sensors" (instead of it) lists 1..LC_SENSORS_MAX simulated sensors of
- * unique names (1..LC_SENSOR_NAME_MAX of [A-Za-z0-9_.-]), each at its own rate, near and
- * far being its range limits: `lacuna sim` gives the robot description
- * these sensors and each frame its sensor's name.
+ * unique names (1..LC_SENSOR_NAME_MAX of [A-Za-z0-9_.-]), each at its own
+ * rate, near and far being its range limits: `lacuna sim` gives the robot
+ * description these sensors and each frame its sensor's name.
  * Every field but type and version is optional; `expect` (default "done")
  * is what `lacuna sim` takes for success, `max_time` (s) bounds a sim run.
  * `family` names the kind of world a generated suite drew it from
