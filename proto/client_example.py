@@ -5,13 +5,16 @@ It connects to ws://HOST:PORT/ with the subprotocol lacuna.v1, says hello
 (with the robot token when the server wants one), describes the robot,
 sends a route, then streams laser scans of a tiny built-in scene (an
 invented corridor with one pillar) and drives a simulated point robot with
-the setpoints it gets back, printing each one. A real robot replaces
+the setpoints it gets back, printing each one. With --rear the robot has two
+scanners, front and rear: its description lists them, and every frame names
+the scanner it comes from (every third one the rear one's), each answered by
+its own setpoint. A real robot replaces
 `scan()` with its scanner and `drive()` with its motor interface, and
 keeps its own safety-rated protective stop: lacuna is not a safety-rated
 component (see `lacuna serve --help`).
 
     lacuna serve &
-    python3 proto/client_example.py --url ws://127.0.0.1:7640/ [--token-file FILE]
+    python3 proto/client_example.py --url ws://127.0.0.1:7640/ [--token-file FILE] [--rear]
 
 Needs python3-websockets (Debian package). Exit 0 when the route is done.
 """
@@ -34,6 +37,10 @@ ROUTE = [[6.0, 0.0]]
 ROBOT = {"type": "robot", "model": "point", "radius": 0.3, "margin": 0.05, "v_max": 0.8,
          "a_max": 0.8}
 BEAMS, FOV, RANGE_MAX, PERIOD = 121, 1.5 * math.pi, 8.0, 0.05  # beams, rad, m, s
+# --rear: the robot's two scanners, each in the robot frame [x, y, yaw]; a
+# frame names its scanner and the server takes the mount from here.
+SENSORS = [{"name": "front", "kind": "scan", "mount": [0.2, 0.0, 0.0]},
+           {"name": "rear", "kind": "scan", "mount": [-0.2, 0.0, math.pi]}]
 
 
 def ray(segments, px, py, ang, rmax):
@@ -52,14 +59,22 @@ def ray(segments, px, py, ang, rmax):
     return best if best is not None and best <= rmax else None
 
 
-def scan(segments, seq, stamp, pose):
-    """A scan message as the robot's scanner would send it (sensor at the centre)."""
+def scan(segments, seq, stamp, pose, sensor=None):
+    """A scan message as the robot's scanner would send it: from the robot's
+    centre, or from the scanner of SENSORS named sensor (the frame names it)."""
+    mx, my, myaw = next(s["mount"] for s in SENSORS if s["name"] == sensor) if sensor \
+        else (0.0, 0.0, 0.0)
+    c, s = math.cos(pose[2]), math.sin(pose[2])
+    ox, oy, oyaw = pose[0] + c * mx - s * my, pose[1] + s * mx + c * my, pose[2] + myaw
     a0, step = -FOV / 2, FOV / (BEAMS - 1)
-    return {"type": "scan", "seq": seq, "stamp": stamp, "pose": list(pose),
-            "angle_start": a0, "angle_step": step, "range_min": 0.05,
-            "range_max": RANGE_MAX,
-            "ranges": [ray(segments, pose[0], pose[1], pose[2] + a0 + i * step, RANGE_MAX)
-                       for i in range(BEAMS)]}
+    m = {"type": "scan", "seq": seq, "stamp": stamp, "pose": list(pose),
+         "angle_start": a0, "angle_step": step, "range_min": 0.05,
+         "range_max": RANGE_MAX,
+         "ranges": [ray(segments, ox, oy, oyaw + a0 + i * step, RANGE_MAX)
+                    for i in range(BEAMS)]}
+    if sensor:
+        m["sensor"] = sensor
+    return m
 
 
 def drive(pose, sp, dt):
@@ -69,7 +84,7 @@ def drive(pose, sp, dt):
     return (x + (c * sp["vx"] - s * sp["vy"]) * dt, y + (s * sp["vx"] + c * sp["vy"]) * dt, yaw)
 
 
-async def run(url, name, token, frames, quiet):
+async def run(url, name, token, frames, quiet, rear=False):
     async with websockets.connect(url, subprotocols=["lacuna.v1"], max_size=None) as ws:
         hello = {"type": "hello", "role": "robot", "robot": name}
         if token:
@@ -79,11 +94,12 @@ async def run(url, name, token, frames, quiet):
         if welcome["type"] != "welcome":
             print("refused:", welcome, file=sys.stderr)
             return 1
-        await ws.send(json.dumps(ROBOT))
+        await ws.send(json.dumps(dict(ROBOT, sensors=SENSORS) if rear else ROBOT))
         await ws.send(json.dumps({"type": "route", "waypoints": ROUTE, "tolerance": 0.25}))
         pose = (0.0, 0.0, 0.0)
         for seq in range(1, frames + 1):
-            await ws.send(json.dumps(scan(SCENE, seq, seq * PERIOD, pose)))
+            sensor = ("rear" if seq % 3 == 0 else "front") if rear else None
+            await ws.send(json.dumps(scan(SCENE, seq, seq * PERIOD, pose, sensor)))
             while True:  # events may come before the setpoint of this frame
                 m = json.loads(await ws.recv())
                 if m["type"] == "error":
@@ -110,9 +126,10 @@ def main():
     ap.add_argument("--token-file", help="file holding the robot token")
     ap.add_argument("--frames", type=int, default=600)
     ap.add_argument("--quiet", action="store_true", help="print events and the end only")
+    ap.add_argument("--rear", action="store_true", help="a front and a rear scanner")
     a = ap.parse_args()
     token = open(a.token_file).read().strip() if a.token_file else None
-    return asyncio.run(run(a.url, a.name, token, a.frames, a.quiet))
+    return asyncio.run(run(a.url, a.name, token, a.frames, a.quiet, a.rear))
 
 
 if __name__ == "__main__":

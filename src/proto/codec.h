@@ -173,14 +173,21 @@ typedef struct lc_wire_event {
     int64_t seq;       /* the frame that raised it */
 } lc_wire_event;
 
-/* The `lacuna plan` request. */
+/* Frames one plan request may carry ("frames"). */
+#define LC_WIRE_PLAN_FRAMES_MAX 64
+
+/* The `lacuna plan` request: "frame", or "frames" planned in order through
+ * one session (each a step of dt); the result is the last frame's plan.
+ * The frames' arrays all live in the decode buffers at once. */
 typedef struct lc_wire_plan_request {
     lc_robot robot;
     lc_vec2 goal;       /* the pose's frame */
     bool has_velocity;
     lc_setpoint velocity; /* vx, vy (point) or v, w (unicycle); zero when absent */
     double dt;          /* s, default 0.05 */
-    lc_frame frame;
+    lc_frame frames[LC_WIRE_PLAN_FRAMES_MAX];
+    int n_frames;       /* 1..LC_WIRE_PLAN_FRAMES_MAX */
+    lc_frame frame;     /* = frames[n_frames - 1], the frame whose plan is the result */
 } lc_wire_plan_request;
 
 typedef enum lc_msg_type {

@@ -19,6 +19,7 @@
 #include "codec_names.h"
 #include "json_read.h"
 
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -70,7 +71,77 @@ static int grow_or_fail(const lc_alloc *alloc, double **p, int *cap, int need,
 
 static const char *const robot_keys[] = {"type", "model", "radius", "margin", "v_max",
                                          "a_max", "w_max", "dw_max", "reverse", "z_min", "z_max",
-                                         NULL};
+                                         "sensors", NULL};
+
+/* z_min < z_max, else an error naming path.z_max. */
+static int band_ok(const char *path, double z_min, double z_max, lc_wire_error *err)
+{
+    if (z_min < z_max)
+        return 0;
+    return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "z_max", "must be greater than z_min");
+}
+
+static const char *const sensor_keys[] = {"name", "kind", "mount", "fov", "z_min", "z_max",
+                                          NULL};
+
+/* A scan sensor sees a plane: a field of view or a height band is for points only. */
+static int scan_sensor_extras(const cJSON *obj, const char *path, lc_wire_error *err)
+{
+    static const char *const points_only[] = {"fov", "z_min", "z_max"};
+    for (int k = 0; k < 3; k++)
+        if (cJSON_GetObjectItemCaseSensitive(obj, points_only[k]))
+            return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, points_only[k],
+                              "only for a points sensor");
+    return 0;
+}
+
+/* One sensor of the robot description; path is "sensors[i]" under the robot's. */
+static int sensor_from_json(const cJSON *obj, const char *path, lc_sensor_desc *s,
+                            lc_wire_error *err)
+{
+    static const lc_wire_bounds b_fov = {0.0, TWO_PI, true, false};
+    if (!cJSON_IsObject(obj))
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "", "not an object");
+    int kind = LC_FRAME_SCAN;
+    if (lc_wire_check_duplicates(obj, path, sensor_keys, err) ||
+        lc_jr_choice(obj, path, "kind", false, lc_wire_kind_names, 2, &kind, err) < 0)
+        return -1;
+    lc_sensor_desc_default(s, (lc_frame_kind)kind);
+    if (lc_jr_sensor_name(obj, path, "name", true, s->name, err) < 0 ||
+        lc_jr_pose_member(obj, path, "mount", false, &s->mount, err) < 0)
+        return -1;
+    if (kind == LC_FRAME_SCAN)
+        return scan_sensor_extras(obj, path, err);
+    if (lc_wire_number_field(obj, path, "fov", false, &b_fov, &s->fov, err) < 0 ||
+        lc_wire_number_field(obj, path, "z_min", false, NULL, &s->z_min, err) < 0 ||
+        lc_wire_number_field(obj, path, "z_max", false, NULL, &s->z_max, err) < 0)
+        return -1;
+    return band_ok(path, s->z_min, s->z_max, err);
+}
+
+/* Sensor i of the robot, named unlike the ones before it. */
+static int sensor_item(const cJSON *it, const char *name, int i, void *ctx, lc_wire_error *err)
+{
+    lc_robot *out = ctx;
+    if (sensor_from_json(it, name, &out->sensors[i], err) < 0)
+        return -1;
+    for (int k = 0; k < i; k++)
+        if (strcmp(out->sensors[k].name, out->sensors[i].name) == 0)
+            return lc_jr_fail(err, LC_WIRE_BAD_FIELD, name, "name",
+                              "\"%s\" is the name of sensors[%d] already",
+                              out->sensors[i].name, k);
+    return 0;
+}
+
+/* "sensors": 1..LC_SENSORS_MAX sensors of unique names, or absent (none). */
+static int sensors_field(const cJSON *obj, const char *path, lc_robot *out, lc_wire_error *err)
+{
+    int rc;
+    if (!lc_jr_member(obj, path, "sensors", false, &rc, err))
+        return rc;
+    return lc_jr_each(obj, path, "sensors", 1, LC_SENSORS_MAX, "sensors", sensor_item, out,
+                      &out->n_sensors, err);
+}
 
 int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
                             lc_wire_error *err)
@@ -91,40 +162,27 @@ int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
         lc_wire_number_field(obj, path, "dw_max", false, &lc_jr_pos, &out->dw_max, err) < 0 ||
         lc_wire_bool_field(obj, path, "reverse", false, &out->reverse, err) < 0 ||
         lc_wire_number_field(obj, path, "z_min", false, NULL, &out->z_min, err) < 0 ||
-        lc_wire_number_field(obj, path, "z_max", false, NULL, &out->z_max, err) < 0)
+        lc_wire_number_field(obj, path, "z_max", false, NULL, &out->z_max, err) < 0 ||
+        band_ok(path, out->z_min, out->z_max, err) < 0)
         return -1;
-    if (!(out->z_min < out->z_max)) {
-        char name[96];
-        lc_jr_join_name(name, sizeof name, path, "z_max");
-        lc_wire_error_set(err, LC_WIRE_BAD_FIELD, "%s: must be greater than z_min", name);
-        return -1;
-    }
-    return 0;
+    return sensors_field(obj, path, out, err);
 }
 
 static const char *const route_keys[] = {"type", "waypoints", "loop", "tolerance",
                                          "on_blocked", "blocked_time", "progress", NULL};
 
+static int waypoint_item(const cJSON *it, const char *name, int i, void *ctx,
+                         lc_wire_error *err)
+{
+    lc_route *out = ctx;
+    return lc_wire_vec2_from_json(it, name, &out->waypoints[i], err) != 0 ? -1 : 0;
+}
+
 static int waypoints_field(const cJSON *obj, const char *path, lc_route *out,
                            lc_wire_error *err)
 {
-    int n;
-    const cJSON *arr = lc_jr_array(obj, path, "waypoints", 0, LC_ROUTE_MAX, "waypoints", &n, err);
-    if (!arr)
-        return -1;
-    char base[96];
-    lc_jr_join_name(base, sizeof base, path, "waypoints");
-    int i = 0;
-    const cJSON *it;
-    cJSON_ArrayForEach(it, arr) {
-        char name[112];
-        snprintf(name, sizeof name, "%s[%d]", base, i);
-        if (lc_wire_vec2_from_json(it, name, &out->waypoints[i], err) != 0)
-            return -1;
-        i++;
-    }
-    out->count = n;
-    return 0;
+    return lc_jr_each(obj, path, "waypoints", 0, LC_ROUTE_MAX, "waypoints", waypoint_item, out,
+                      &out->count, err);
 }
 
 int lc_wire_route_from_json(const cJSON *obj, const char *path, lc_route *out,
@@ -146,19 +204,23 @@ int lc_wire_route_from_json(const cJSON *obj, const char *path, lc_route *out,
     return 0;
 }
 
-/* seq, stamp, pose, mount: what scans and points share. */
+/* seq, stamp, pose, sensor, mount: what scans and points share. has_mount
+ * says whether the frame carried its mount (else the sensor's is used). */
 static int frame_header(const cJSON *obj, const char *path, lc_frame *f, lc_wire_error *err)
 {
     f->mount = (lc_pose){0.0, 0.0, 0.0};
+    int rc;
     if (lc_jr_seq(obj, path, true, &f->seq, err) < 0 ||
         lc_wire_number_field(obj, path, "stamp", true, &lc_jr_finite, &f->stamp, err) < 0 ||
         lc_jr_pose_member(obj, path, "pose", true, &f->pose, err) < 0 ||
-        lc_jr_pose_member(obj, path, "mount", false, &f->mount, err) < 0)
+        lc_jr_sensor_name(obj, path, "sensor", false, f->sensor, err) < 0 ||
+        (rc = lc_jr_pose_member(obj, path, "mount", false, &f->mount, err)) < 0)
         return -1;
+    f->has_mount = rc == 1;
     return 0;
 }
 
-static const char *const scan_keys[] = {"type", "seq", "stamp", "pose", "mount",
+static const char *const scan_keys[] = {"type", "seq", "stamp", "pose", "sensor", "mount",
                                         "angle_start", "angle_step", "range_min",
                                         "range_max", "ranges", NULL};
 
@@ -235,7 +297,7 @@ static int scan_from_json(const cJSON *obj, const char *path, const lc_wire_limi
     return 0;
 }
 
-static const char *const points_keys[] = {"type", "seq", "stamp", "pose", "mount",
+static const char *const points_keys[] = {"type", "seq", "stamp", "pose", "sensor", "mount",
                                           "xy", "z", NULL};
 
 static int points_z(const cJSON *obj, const char *path, lc_wire_buffers *buf, lc_frame *f,
@@ -494,7 +556,96 @@ int lc_wire_decode_slow(const char *text, size_t len, const lc_wire_limits *lim,
 }
 
 static const char *const plan_keys[] = {"type", "robot", "goal", "velocity", "dt", "frame",
-                                        NULL};
+                                        "frames", NULL};
+
+/* Room a frame object may take in each buffer: its array's length, plus one
+ * (a decoder always grows a buffer to at least one element). */
+static int frame_room(const cJSON *frame, const char *key)
+{
+    const cJSON *it = cJSON_IsObject(frame) ? cJSON_GetObjectItemCaseSensitive(frame, key) : NULL;
+    return (cJSON_IsArray(it) ? cJSON_GetArraySize(it) : 0) + 1;
+}
+
+/* A realloc that never gives memory: a frame's window of the buffers must
+ * not move (frames_from_json makes every window large enough). */
+static void *no_growth(void *data, void *p, size_t n)
+{
+    (void)data, (void)p, (void)n;
+    return NULL;
+}
+
+/*
+ * "frames": 1..LC_WIRE_PLAN_FRAMES_MAX frames, decoded one after another
+ * into one set of buffers, each frame's arrays in a window of its own: the
+ * buffers are first grown to the sum of all windows, so no frame's arrays
+ * move when the next is decoded.
+ */
+static int frames_from_json(const cJSON *arr, const lc_wire_limits *lim, lc_wire_buffers *buf,
+                            lc_wire_plan_request *out, lc_wire_error *err)
+{
+    long r = 0, xy = 0, z = 0;
+    const cJSON *it;
+    cJSON_ArrayForEach(it, arr) {
+        r += frame_room(it, "ranges");
+        xy += frame_room(it, "xy");
+        z += frame_room(it, "z");
+    }
+    if (r > INT_MAX || xy > INT_MAX || z > INT_MAX)
+        return lc_jr_fail(err, LC_WIRE_TOO_LARGE, NULL, "frames", "too many numbers");
+    if (grow_or_fail(buf->alloc, &buf->ranges, &buf->cap_ranges, (int)r, NULL, "frames", err) ||
+        grow_or_fail(buf->alloc, &buf->xy, &buf->cap_xy, (int)xy, NULL, "frames", err) ||
+        grow_or_fail(buf->alloc, &buf->z, &buf->cap_z, (int)z, NULL, "frames", err))
+        return -1;
+    static const lc_alloc fixed = {no_growth, NULL};
+    int i = 0, at_r = 0, at_xy = 0, at_z = 0;
+    cJSON_ArrayForEach(it, arr) {
+        lc_wire_buffers win = {.alloc = &fixed,
+                               .ranges = buf->ranges + at_r, .cap_ranges = buf->cap_ranges - at_r,
+                               .xy = buf->xy + at_xy, .cap_xy = buf->cap_xy - at_xy,
+                               .z = buf->z + at_z, .cap_z = buf->cap_z - at_z};
+        char name[32];
+        snprintf(name, sizeof name, "frames[%d]", i);
+        if (lc_jr_need_object(it, NULL, name, err))
+            return -1;
+        err->has_seq = false;
+        peek_seq(it, err);
+        if (lc_wire_frame_from_json(it, name, lim, &win, &out->frames[i], err) < 0)
+            return -1;
+        at_r += frame_room(it, "ranges");
+        at_xy += frame_room(it, "xy");
+        at_z += frame_room(it, "z");
+        i++;
+    }
+    out->n_frames = i;
+    return 0;
+}
+
+/* "frame", or "frames" (one of them); out->frame is the last. */
+static int plan_frames(const cJSON *root, const lc_wire_limits *lim, lc_wire_buffers *buf,
+                       lc_wire_plan_request *out, lc_wire_error *err)
+{
+    int rc, n;
+    const cJSON *one = cJSON_GetObjectItemCaseSensitive(root, "frame");
+    const cJSON *many = cJSON_GetObjectItemCaseSensitive(root, "frames");
+    if (one && many)
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, NULL, "frames", "give frame or frames, not both");
+    if (many) {
+        const cJSON *arr = lc_jr_array(root, NULL, "frames", 1, LC_WIRE_PLAN_FRAMES_MAX, "frames",
+                                       &n, err);
+        if (!arr || frames_from_json(arr, lim, buf, out, err) < 0)
+            return -1;
+    } else {
+        const cJSON *frame = lc_jr_member(root, NULL, "frame", true, &rc, err);
+        if (!frame || lc_jr_need_object(frame, NULL, "frame", err))
+            return -1;
+        peek_seq(frame, err);
+        if (lc_wire_frame_from_json(frame, "frame", lim, buf, &out->frames[0], err) < 0)
+            return -1;
+        out->n_frames = 1;
+    }
+    out->frame = out->frames[out->n_frames - 1];
+    return 0;
+}
 
 static int plan_fields(const cJSON *root, const lc_wire_limits *lim, lc_wire_buffers *buf,
                        lc_wire_plan_request *out, lc_wire_error *err)
@@ -524,13 +675,7 @@ static int plan_fields(const cJSON *root, const lc_wire_limits *lim, lc_wire_buf
         out->velocity.vx = vel.x;
         out->velocity.vy = vel.y;
     }
-    const cJSON *frame = lc_jr_member(root, NULL, "frame", true, &rc, err);
-    if (!frame)
-        return -1;
-    if (lc_jr_need_object(frame, NULL, "frame", err))
-        return -1;
-    peek_seq(frame, err);
-    return lc_wire_frame_from_json(frame, "frame", lim, buf, &out->frame, err);
+    return plan_frames(root, lim, buf, out, err);
 }
 
 int lc_wire_decode_plan_request(const char *text, size_t len, const lc_wire_limits *lim,

@@ -63,6 +63,32 @@ void lc_wire_kv_event(lc_wire_text *t, const lc_event *ev)
         lc_jw_kv_str(t, "reason", lc_block_reason_name(ev->reason));
 }
 
+/* The robot's sensors as the decoder reads them: fov and height band only
+ * for points sensors, and only when given (fov 0 and +-inf are "none"). */
+static void put_sensors(lc_wire_text *t, const lc_robot *m)
+{
+    int n = m->n_sensors > LC_SENSORS_MAX ? LC_SENSORS_MAX : m->n_sensors;
+    lc_jw_key(t, "sensors");
+    lc_jw_open(t, '[');
+    for (int i = 0; i < n; i++) {
+        const lc_sensor_desc *s = &m->sensors[i];
+        bool points = s->kind == LC_FRAME_POINTS;
+        lc_jw_open(t, '{');
+        lc_jw_kv_str(t, "name", s->name);
+        lc_jw_kv_str(t, "kind", lc_wire_kind_names[points ? 1 : 0]);
+        lc_jw_key(t, "mount");
+        lc_jw_pose(t, s->mount, -1);
+        if (points && s->fov > 0)
+            lc_jw_kv_num(t, "fov", s->fov, -1);
+        if (points && isfinite(s->z_min))
+            lc_jw_kv_num(t, "z_min", s->z_min, -1);
+        if (points && isfinite(s->z_max))
+            lc_jw_kv_num(t, "z_max", s->z_max, -1);
+        lc_jw_close(t, '}');
+    }
+    lc_jw_close(t, ']');
+}
+
 void lc_wire_robot_members(lc_wire_text *t, const lc_robot *m)
 {
     lc_jw_kv_str(t, "type", "robot");
@@ -78,6 +104,8 @@ void lc_wire_robot_members(lc_wire_text *t, const lc_robot *m)
         lc_jw_kv_num(t, "z_min", m->z_min, -1);
     if (isfinite(m->z_max))
         lc_jw_kv_num(t, "z_max", m->z_max, -1);
+    if (m->n_sensors > 0)
+        put_sensors(t, m);
 }
 
 void lc_wire_route_common(lc_wire_text *t, const lc_route *m, int decimals)
@@ -148,8 +176,12 @@ static void frame_header_out(lc_wire_text *t, const lc_frame *m)
     lc_jw_kv_num(t, "stamp", m->stamp, -1);
     lc_jw_key(t, "pose");
     lc_jw_pose(t, m->pose, -1);
-    lc_jw_key(t, "mount");
-    lc_jw_pose(t, m->mount, -1);
+    if (m->sensor[0])
+        lc_jw_kv_str(t, "sensor", m->sensor);
+    if (m->has_mount) { /* else the sensor's mount applies: a replay must see none either */
+        lc_jw_key(t, "mount");
+        lc_jw_pose(t, m->mount, -1);
+    }
 }
 
 int lc_wire_encode_frame(lc_wire_text *t, const lc_frame *m)

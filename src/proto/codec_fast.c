@@ -6,8 +6,9 @@
  * - White space: the cJSON path refuses control bytes other than tab, LF
  *   and CR before parsing, so white space there is what it is here: space,
  *   tab, LF, CR. Anything else outside a token declines.
- * - Strings (keys and the type) are taken only without escapes and control
- *   bytes; keys only from the scan and points key lists, each at most once
+ * - Strings (keys, the type and a sensor's name) are taken only without
+ *   escapes and control bytes, a sensor's name only of the characters the
+ *   cJSON path allows; keys only from the scan and points key lists, each at most once
  *   (an unknown key, ignored there, and a repeated one, an error there,
  *   decline here).
  * - Numbers: strict JSON grammar (cJSON also takes "01", "1." and "+1",
@@ -26,6 +27,7 @@
  *   refuse declines, so errors are always worded by the cJSON path.
  */
 #include "codec_fast.h"
+#include "codec_names.h"
 
 #include <float.h>
 #include <locale.h>
@@ -40,14 +42,14 @@
 #define TOKEN_MAX 63 /* longer numbers decline (see the top of this file) */
 
 enum key {
-    K_TYPE, K_SEQ, K_STAMP, K_POSE, K_MOUNT,                              /* both */
+    K_TYPE, K_SEQ, K_STAMP, K_POSE, K_SENSOR, K_MOUNT,                    /* both */
     K_ANGLE_START, K_ANGLE_STEP, K_RANGE_MIN, K_RANGE_MAX, K_RANGES,      /* scan */
     K_XY, K_Z,                                                            /* points */
     K_COUNT
 };
 
 static const char *const key_names[K_COUNT] = {
-    "type", "seq", "stamp", "pose", "mount", "angle_start", "angle_step",
+    "type", "seq", "stamp", "pose", "sensor", "mount", "angle_start", "angle_step",
     "range_min", "range_max", "ranges", "xy", "z",
 };
 
@@ -133,6 +135,18 @@ static bool type_value(cursor *c, lc_msg_type *type)
         *type = LC_MSG_POINTS;
     else
         return false;
+    return true;
+}
+
+/* A sensor name (lc_jr_sensor_name): a plain string of the name's characters. */
+static bool sensor_value(cursor *c, char *out)
+{
+    const char *s;
+    size_t n;
+    if (!plain_string(c, &s, &n) || !lc_wire_sensor_name_ok(s, n))
+        return false;
+    memcpy(out, s, n);
+    out[n] = '\0';
     return true;
 }
 
@@ -296,6 +310,7 @@ typedef struct fields {
     unsigned seen;
     lc_msg_type type;
     double seq, stamp, pose[3], mount[3];
+    char sensor[LC_SENSOR_NAME_MAX + 1];
     double angle_start, angle_step, range_min, range_max;
     int n_ranges, n_xy, n_z;
     bool z_null;
@@ -309,6 +324,7 @@ static bool value(cursor *c, int k, const lc_wire_limits *lim, lc_wire_buffers *
     case K_SEQ: return number(c, &f->seq);
     case K_STAMP: return number(c, &f->stamp);
     case K_POSE: return triple(c, f->pose);
+    case K_SENSOR: return sensor_value(c, f->sensor);
     case K_MOUNT: return triple(c, f->mount);
     case K_ANGLE_START: return number(c, &f->angle_start);
     case K_ANGLE_STEP: return number(c, &f->angle_step);
@@ -325,7 +341,7 @@ static bool value(cursor *c, int k, const lc_wire_limits *lim, lc_wire_buffers *
     }
 }
 
-/* seq, stamp, pose, mount as frame_header in codec_decode.c checks them. */
+/* seq, stamp, pose, sensor, mount as frame_header in codec_decode.c checks them. */
 static bool header_ok(const fields *f)
 {
     return (f->seen & HEADER) == HEADER && isfinite(f->seq) && f->seq == floor(f->seq) &&
@@ -388,6 +404,9 @@ int lc_wire_decode_frame_fast(const char *text, size_t len, const lc_wire_limits
     fr.stamp = f.stamp;
     fr.pose = (lc_pose){f.pose[0], f.pose[1], f.pose[2]};
     fr.mount = (lc_pose){f.mount[0], f.mount[1], f.mount[2]};
+    fr.has_mount = (f.seen & BIT(K_MOUNT)) != 0;
+    if (f.seen & BIT(K_SENSOR))
+        memcpy(fr.sensor, f.sensor, sizeof fr.sensor);
     if (f.type == LC_MSG_SCAN) {
         if (!scan_ok(&f, lim))
             return 0;

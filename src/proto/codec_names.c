@@ -1,7 +1,8 @@
 /*
  * codec_names.c - the wire names of error codes, message types, roles,
- * motion models and blocked policies, and the lookups from a name back to
- * its code (see codec.h and codec_names.h). The strings are the protocol's
+ * motion models, blocked policies and sensor kinds, the characters names
+ * may use, and the lookups from a name back to its code (see codec.h and
+ * codec_names.h). The strings are the protocol's
  * (proto/PROTOCOL.md): changing one changes the wire.
  */
 #include "codec_names.h"
@@ -43,6 +44,28 @@ static const char *const msg_names[LC_MSG_COUNT] = {
 const char *const lc_wire_role_names[2] = {"robot", "viewer"};
 const char *const lc_wire_model_names[2] = {"point", "unicycle"};
 const char *const lc_wire_policy_names[2] = {"wait", "skip"};
+const char *const lc_wire_kind_names[2] = {[LC_FRAME_SCAN] = "scan", [LC_FRAME_POINTS] = "points"};
+
+bool lc_wire_name_chars_ok(const char *s, size_t n, size_t max)
+{
+    if (n == 0 || n > max)
+        return false;
+    for (size_t i = 0; i < n; i++) {
+        char c = s[i];
+        if (!((c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') ||
+              c == '_' || c == '-' || c == '.'))
+            return false;
+    }
+    return true;
+}
+
+/* A frame's sensor field holds any name the robot description may give. */
+_Static_assert(LC_FRAME_SENSOR_MAX == LC_SENSOR_NAME_MAX, "frame.h and robot.h name lengths");
+
+bool lc_wire_sensor_name_ok(const char *s, size_t n)
+{
+    return lc_wire_name_chars_ok(s, n, LC_SENSOR_NAME_MAX);
+}
 
 const char *lc_wire_code_name(lc_wire_code code)
 {

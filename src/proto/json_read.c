@@ -425,6 +425,25 @@ const cJSON *lc_jr_array(const cJSON *obj, const char *path, const char *key,
     return it;
 }
 
+int lc_jr_each(const cJSON *obj, const char *path, const char *key, int lo, int hi,
+               const char *what, lc_jr_item_fn fn, void *ctx, int *count, lc_wire_error *err)
+{
+    const cJSON *arr = lc_jr_array(obj, path, key, lo, hi, what, count, err);
+    if (!arr)
+        return -1;
+    char base[96];
+    lc_jr_join_name(base, sizeof base, path, key);
+    int i = 0;
+    const cJSON *it;
+    cJSON_ArrayForEach(it, arr) {
+        char name[112];
+        snprintf(name, sizeof name, "%s[%d]", base, i);
+        if (fn(it, name, i++, ctx, err) < 0)
+            return -1;
+    }
+    return 0;
+}
+
 /* arr's n elements as finite numbers within MAG into out. */
 int lc_jr_numbers(const cJSON *arr, const char *path, const char *key, double *out,
                   lc_wire_error *err)
@@ -446,17 +465,7 @@ int lc_jr_numbers(const cJSON *arr, const char *path, const char *key, double *o
 /* 1..LC_WIRE_NAME_MAX of [A-Za-z0-9_.-], not starting with '.' (used in file names). */
 static bool name_ok(const char *s)
 {
-    size_t n = strlen(s);
-    if (n == 0 || n > LC_WIRE_NAME_MAX || s[0] == '.')
-        return false;
-    for (size_t i = 0; i < n; i++) {
-        char c = s[i];
-        bool ok = (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') ||
-                  c == '_' || c == '-' || c == '.';
-        if (!ok)
-            return false;
-    }
-    return true;
+    return s[0] != '.' && lc_wire_name_chars_ok(s, strlen(s), LC_WIRE_NAME_MAX);
 }
 
 /* A robot name member into out; empty (or null, absent) only when allow_empty. */
@@ -478,3 +487,19 @@ int lc_jr_robot_name(const cJSON *obj, const char *key, bool allow_empty, char *
     return 0;
 }
 
+
+int lc_jr_sensor_name(const cJSON *obj, const char *path, const char *key, bool required,
+                      char *out, lc_wire_error *err)
+{
+    const char *s = NULL;
+    out[0] = '\0';
+    int rc = lc_jr_string(obj, path, key, required, false, &s, err);
+    if (rc <= 0)
+        return rc;
+    size_t n = strlen(s);
+    if (!lc_wire_sensor_name_ok(s, n))
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, key,
+                          "must be 1 to %d of A-Z a-z 0-9 _ - .", LC_SENSOR_NAME_MAX);
+    memcpy(out, s, n + 1);
+    return 1;
+}

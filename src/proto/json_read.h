@@ -58,6 +58,11 @@ int lc_jr_index(const cJSON *obj, const char *path, const char *key, int *out,
 int lc_jr_robot_name(const cJSON *obj, const char *key, bool allow_empty, char *out,
                      lc_wire_error *err);
 
+/* A sensor name member (1..LC_SENSOR_NAME_MAX of [A-Za-z0-9_.-], no
+ * null) copied into out (room for LC_SENSOR_NAME_MAX + 1); "" when absent. */
+int lc_jr_sensor_name(const cJSON *obj, const char *path, const char *key, bool required,
+                      char *out, lc_wire_error *err);
+
 /* An object's optional "type" must be expect. 0 or -1. */
 int lc_jr_check_type(const cJSON *obj, const char *path, const char *expect,
                      lc_wire_error *err);
@@ -75,6 +80,16 @@ int lc_jr_pose_member(const cJSON *obj, const char *path, const char *key, bool 
  * elements in errors) into *count; NULL on a fault. */
 const cJSON *lc_jr_array(const cJSON *obj, const char *path, const char *key, int lo, int hi,
                          const char *what, int *count, lc_wire_error *err);
+
+/* What lc_jr_each does with element i, named "path.key[i]": 0, or -1 with
+ * err filled. */
+typedef int (*lc_jr_item_fn)(const cJSON *item, const char *name, int i, void *ctx,
+                             lc_wire_error *err);
+
+/* fn on each element of the required array member (length in [lo, hi],
+ * into *count), in order, until one fails. 0 or -1. */
+int lc_jr_each(const cJSON *obj, const char *path, const char *key, int lo, int hi,
+               const char *what, lc_jr_item_fn fn, void *ctx, int *count, lc_wire_error *err);
 
 /* arr's elements, numbers of magnitude at most LC_WIRE_MAGNITUDE_MAX, into
  * out (room for all of them); key names the array in errors. 0 or -1. */

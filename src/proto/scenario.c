@@ -17,6 +17,7 @@
 #include <cjson/cJSON.h>
 
 #include "codec_encode.h"
+#include "codec_names.h"
 #include "json_read.h"
 #include "json_write.h"
 
@@ -52,11 +53,23 @@ void lc_scenario_header_init(lc_scenario_header *h)
 
 void lc_scenario_header_free(lc_scenario_header *h) { lc_polyset_free(&h->world); }
 
+int lc_scenario_sim_sensors(const lc_scenario_header *h, const lc_scenario_sensor **out)
+{
+    *out = h->n_sensors > 0 ? h->sensors : &h->sensor;
+    return h->n_sensors > 0 ? h->n_sensors : 1;
+}
+
 double lc_scenario_first_dt(const lc_scenario_header *h)
 {
-    if (h->has_sensor && h->sensor.rate > 0 && isfinite(h->sensor.rate))
-        return 1.0 / h->sensor.rate;
-    return 0.05;
+    if (!h->has_sensor && h->n_sensors == 0)
+        return 0.05;
+    const lc_scenario_sensor *s;
+    int n = lc_scenario_sim_sensors(h, &s);
+    double rate = 0;
+    for (int i = 0; i < n; i++)
+        if (isfinite(s[i].rate))
+            rate = fmax(rate, s[i].rate);
+    return rate > 0 ? 1.0 / rate : 0.05;
 }
 
 lc_control lc_scenario_control(const lc_scenario_header *h)
@@ -90,30 +103,73 @@ static const lc_wire_bounds B_BEAMS = {1.0, 100000.0, false, false};
 static const lc_wire_bounds B_RATE = {0.0, 1000.0, true, false};
 static const lc_wire_bounds B_VERSION = {1.0, 1e6, false, false};
 
+/* What a simulated sensor's object at path p holds beside its name and
+ * kind; near and far are the keys of its range limits. */
+static int read_sensor_fields(const cJSON *obj, const char *p, const char *near,
+                              const char *far, lc_scenario_sensor *s, lc_wire_error *we)
+{
+    if (lc_wire_int_field(obj, p, "beams", false, &B_BEAMS, &s->beams, we) < 0 ||
+        lc_wire_number_field(obj, p, "fov", false, &B_FOV, &s->fov, we) < 0 ||
+        lc_wire_number_field(obj, p, near, false, &lc_jr_pos, &s->range_min, we) < 0 ||
+        lc_wire_number_field(obj, p, far, false, &lc_jr_pos, &s->range_max, we) < 0 ||
+        lc_wire_number_field(obj, p, "rate", false, &B_RATE, &s->rate, we) < 0 ||
+        lc_wire_number_field(obj, p, "noise", false, &lc_jr_nonneg, &s->noise, we) < 0 ||
+        lc_jr_pose_member(obj, p, "mount", false, &s->mount, we) < 0)
+        return -1;
+    if (!(s->range_min < s->range_max))
+        return lc_jr_fail(we, LC_WIRE_BAD_FIELD, p, far, "must be > %s", near);
+    return 0;
+}
+
 static int read_sensor(const cJSON *obj, lc_scenario_sensor *s, lc_wire_error *we)
 {
     static const char *const keys[] = {"beams", "fov", "range_min", "range_max", "rate",
                                        "noise", "mount", NULL};
-    if (!cJSON_IsObject(obj)) {
-        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "sensor: not an object");
+    if (lc_jr_need_object(obj, NULL, "sensor", we) ||
+        lc_wire_check_duplicates(obj, "sensor", keys, we))
         return -1;
+    return read_sensor_fields(obj, "sensor", "range_min", "range_max", s, we);
+}
+
+/* Sensor i of "sensors", named unlike the ones before it. */
+static int read_sensor_item(const cJSON *obj, const char *p, int i, void *ctx,
+                            lc_wire_error *we)
+{
+    static const char *const keys[] = {"name", "kind", "mount", "beams", "fov", "near", "far",
+                                       "rate", "noise", NULL};
+    lc_scenario_header *h = ctx;
+    lc_scenario_sensor *s = &h->sensors[i];
+    int kind = LC_FRAME_SCAN;
+    lc_scenario_sensor_default(s);
+    if (lc_jr_need_object(obj, NULL, p, we) || lc_wire_check_duplicates(obj, p, keys, we) ||
+        lc_jr_sensor_name(obj, p, "name", true, s->name, we) < 0 ||
+        lc_jr_choice(obj, p, "kind", false, lc_wire_kind_names, 2, &kind, we) < 0 ||
+        read_sensor_fields(obj, p, "near", "far", s, we) < 0)
+        return -1;
+    s->kind = (lc_frame_kind)kind;
+    for (int k = 0; k < i; k++)
+        if (strcmp(h->sensors[k].name, s->name) == 0)
+            return lc_jr_fail(we, LC_WIRE_BAD_FIELD, p, "name",
+                              "\"%s\" is the name of sensors[%d] already", s->name, k);
+    return 0;
+}
+
+/* "sensor" or "sensors", not both. */
+static int read_sensors(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
+{
+    const cJSON *one = cJSON_GetObjectItemCaseSensitive(root, "sensor");
+    const cJSON *many = cJSON_GetObjectItemCaseSensitive(root, "sensors");
+    if (one && many)
+        return lc_jr_fail(we, LC_WIRE_BAD_FIELD, NULL, "sensors",
+                          "give sensor or sensors, not both");
+    if (one) {
+        if (read_sensor(one, &h->sensor, we) < 0)
+            return -1;
+        h->has_sensor = true;
     }
-    const char *p = "sensor";
-    if (lc_wire_check_duplicates(obj, p, keys, we) ||
-        lc_wire_int_field(obj, p, "beams", false, &B_BEAMS, &s->beams, we) < 0 ||
-        lc_wire_number_field(obj, p, "fov", false, &B_FOV, &s->fov, we) < 0 ||
-        lc_wire_number_field(obj, p, "range_min", false, &lc_jr_pos, &s->range_min, we) < 0 ||
-        lc_wire_number_field(obj, p, "range_max", false, &lc_jr_pos, &s->range_max, we) < 0 ||
-        lc_wire_number_field(obj, p, "rate", false, &B_RATE, &s->rate, we) < 0 ||
-        lc_wire_number_field(obj, p, "noise", false, &lc_jr_nonneg, &s->noise, we) < 0)
-        return -1;
-    const cJSON *m = cJSON_GetObjectItemCaseSensitive(obj, "mount");
-    if (m && lc_wire_pose_from_json(m, "sensor.mount", &s->mount, we) < 0)
-        return -1;
-    if (!(s->range_min < s->range_max)) {
-        lc_wire_error_set(we, LC_WIRE_BAD_FIELD, "sensor.range_max: must be > range_min");
-        return -1;
-    }
+    if (many)
+        return lc_jr_each(root, NULL, "sensors", 1, LC_SENSORS_MAX, "sensors",
+                          read_sensor_item, h, &h->n_sensors, we);
     return 0;
 }
 
@@ -233,8 +289,9 @@ static int read_suite_fields(const cJSON *root, lc_scenario_header *h, lc_wire_e
 static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_error *we)
 {
     static const char *const keys[] = {"type", "version", "description", "robot", "route",
-                                       "start", "world", "sensor", "expect", "max_time",
-                                       "control", "family", "shortest_path", NULL};
+                                       "start", "world", "sensor", "sensors", "expect",
+                                       "max_time", "control", "family", "shortest_path",
+                                       NULL};
     if (!cJSON_IsObject(root)) {
         lc_wire_error_set(we, LC_WIRE_BAD_MESSAGE, "header: not a JSON object");
         return -1;
@@ -264,11 +321,8 @@ static int read_header_fields(const cJSON *root, lc_scenario_header *h, lc_wire_
             return -1;
         h->has_world = true;
     }
-    if ((it = cJSON_GetObjectItemCaseSensitive(root, "sensor"))) {
-        if (read_sensor(it, &h->sensor, we) < 0)
-            return -1;
-        h->has_sensor = true;
-    }
+    if (read_sensors(root, h, we) < 0)
+        return -1;
     if ((it = cJSON_GetObjectItemCaseSensitive(root, "control"))) {
         if (read_control(it, &h->control, we) < 0)
             return -1;
@@ -447,19 +501,41 @@ static void put_world(lc_wire_text *t, const lc_polyset *w)
     lc_jw_close(t, '}');
 }
 
-static void put_sensor(lc_wire_text *t, const lc_scenario_sensor *s)
+/* A simulated sensor's object as read_sensor_fields reads it back. */
+static void put_sensor_fields(lc_wire_text *t, const lc_scenario_sensor *s, const char *near,
+                              const char *far)
 {
-    lc_jw_key(t, "sensor");
-    lc_jw_open(t, '{');
     lc_jw_kv_int(t, "beams", s->beams);
     lc_jw_kv_num(t, "fov", s->fov, -1);
-    lc_jw_kv_num(t, "range_min", s->range_min, -1);
-    lc_jw_kv_num(t, "range_max", s->range_max, -1);
+    lc_jw_kv_num(t, near, s->range_min, -1);
+    lc_jw_kv_num(t, far, s->range_max, -1);
     lc_jw_kv_num(t, "rate", s->rate, -1);
     lc_jw_kv_num(t, "noise", s->noise, -1);
     lc_jw_key(t, "mount");
     lc_jw_pose(t, s->mount, -1);
+}
+
+static void put_sensor(lc_wire_text *t, const lc_scenario_sensor *s)
+{
+    lc_jw_key(t, "sensor");
+    lc_jw_open(t, '{');
+    put_sensor_fields(t, s, "range_min", "range_max");
     lc_jw_close(t, '}');
+}
+
+static void put_sensors(lc_wire_text *t, const lc_scenario_header *h)
+{
+    lc_jw_key(t, "sensors");
+    lc_jw_open(t, '[');
+    for (int i = 0; i < h->n_sensors && i < LC_SENSORS_MAX; i++) {
+        const lc_scenario_sensor *s = &h->sensors[i];
+        lc_jw_open(t, '{');
+        lc_jw_kv_str(t, "name", s->name);
+        lc_jw_kv_str(t, "kind", lc_wire_kind_names[s->kind == LC_FRAME_POINTS ? 1 : 0]);
+        put_sensor_fields(t, s, "near", "far");
+        lc_jw_close(t, '}');
+    }
+    lc_jw_close(t, ']');
 }
 
 /* The recording server's control settings, as read_control reads them. */
@@ -516,6 +592,8 @@ int lc_scenario_encode_header(lc_wire_text *t, const lc_scenario_header *h)
         put_world(t, &h->world);
     if (h->has_sensor)
         put_sensor(t, &h->sensor);
+    if (h->n_sensors > 0)
+        put_sensors(t, h);
     lc_jw_kv_str(t, "expect", lc_scenario_expect_name(h->expect));
     if (h->max_time > 0)
         lc_jw_kv_num(t, "max_time", h->max_time, -1);

@@ -5,8 +5,15 @@
  * Header: {"type":"scenario","version":1,"description":s,"robot":{...},
  * "route":{...},"start":[x,y,yaw],"world":{"polygons":[[[x,y],...],...]},
  * "sensor":{"beams","fov","range_min","range_max","rate","noise","mount"},
+ * "sensors":[{"name","kind":"scan"|"points","mount","beams","fov","near",
+ * "far","rate","noise"},...],
  * "expect":"done"|"blocked","max_time":s,"family":name,"shortest_path":m,
  * "control":{...}} (control.h).
+ * "sensor" is the one simulated scanner of a robot that names no sensors;
+ * "sensors" (instead of it) lists 1..LC_SENSORS_MAX simulated sensors of
+ * unique names (1..LC_SENSOR_NAME_MAX of [A-Za-z0-9_.-]), each at its own
+ * rate, near and far being its range limits: `lacuna sim` gives the robot
+ * description these sensors and each frame its sensor's name.
  * Every field but type and version is optional; `expect` (default "done")
  * is what `lacuna sim` takes for success, `max_time` (s) bounds a sim run.
  * `family` names the kind of world a generated suite drew it from
@@ -50,8 +57,12 @@ typedef enum lc_scenario_expect {
 
 const char *lc_scenario_expect_name(lc_scenario_expect e);
 
-/* The simulated scanner (the header's "sensor"). */
+/* A simulated sensor: the header's "sensor", or one of its "sensors". A
+ * points sensor is simulated as `beams` rays over fov whose returns are 2-D
+ * points in the sensor frame. */
 typedef struct lc_scenario_sensor {
+    char name[LC_SENSOR_NAME_MAX + 1]; /* "" for "sensor" */
+    lc_frame_kind kind;                /* scan ("sensor" always) or points */
     int beams;
     double fov;       /* rad, centred on the mount's x axis */
     double range_min; /* m */
@@ -61,7 +72,8 @@ typedef struct lc_scenario_sensor {
     lc_pose mount;    /* sensor in the robot frame */
 } lc_scenario_sensor;
 
-/* 541 beams over 270 degrees, 0.05..12 m, 20 Hz, 0.01 m noise, mount at zero. */
+/* A scan of 541 beams over 270 degrees, 0.05..12 m, 20 Hz, 0.01 m noise,
+ * mount at zero, no name (also the defaults of each of "sensors"). */
 void lc_scenario_sensor_default(lc_scenario_sensor *s);
 
 typedef struct lc_scenario_header {
@@ -82,6 +94,8 @@ typedef struct lc_scenario_header {
     bool has_world;
     lc_scenario_sensor sensor;
     bool has_sensor;
+    lc_scenario_sensor sensors[LC_SENSORS_MAX]; /* "sensors" */
+    int n_sensors;    /* 0 when absent (then never with has_sensor) */
     lc_scenario_expect expect;
     double max_time;  /* s, 0 when absent */
     char family[LC_SCENARIO_FAMILY_MAX]; /* [A-Za-z0-9_.-], "" when absent */
@@ -92,7 +106,12 @@ typedef struct lc_scenario_header {
 void lc_scenario_header_init(lc_scenario_header *h);
 void lc_scenario_header_free(lc_scenario_header *h);
 
-/* The control period the first frame of a run uses: 1 / sensor rate, else 0.05 s. */
+/* The sensors a simulation runs, into *out: the "sensors" list, else the
+ * "sensor" (its default when absent). Their count (1..LC_SENSORS_MAX). */
+int lc_scenario_sim_sensors(const lc_scenario_header *h, const lc_scenario_sensor **out);
+
+/* The control period the first frame of a run uses: 1 / the fastest
+ * sensor's rate ("sensors", else "sensor"), else 0.05 s. */
 double lc_scenario_first_dt(const lc_scenario_header *h);
 
 /* The control settings the file's frames are stepped with: its "control"

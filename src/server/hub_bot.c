@@ -2,7 +2,8 @@
  * hub_bot.c - one robot's session in the hub: its description and route,
  * each frame's step (the control period dt, the session step, the setpoint,
  * errors and events: lc_session_drive), the watchdog's stop setpoints, the last stop at
- * shutdown, and its recording. A robot session lives as long as its robot's
+ * shutdown, its recording, and the log of frames naming sensors it did not
+ * describe. A robot session lives as long as its robot's
  * connection.
  */
 #include <errno.h>
@@ -120,9 +121,35 @@ static void send_events(lc_hub *hub, bot *b, double now)
     }
 }
 
+/*
+ * A frame that names a sensor the robot's description does not list is
+ * planned all the same (with its own mount: lc_robot_sensor finds none),
+ * and logged once per connection and sensor name. The place to warn the
+ * robot itself from, too.
+ */
+static void unlisted_sensor(bot *b, const lc_frame *f)
+{
+    if (!f->sensor[0] || lc_robot_sensor(&b->desc, f))
+        return;
+    for (int i = 0; i < b->n_unlisted && i < LC_SENSORS_MAX; i++)
+        if (strcmp(b->unlisted[i], f->sensor) == 0)
+            return;
+    if (b->n_unlisted < LC_SENSORS_MAX) {
+        snprintf(b->unlisted[b->n_unlisted++], sizeof b->unlisted[0], "%s", f->sensor);
+        lc_log(LC_LOG_WARN, "robot %s: frame %lld names sensor '%s', which its description "
+               "does not list; planned with the frame's own mount (said once per sensor)",
+               b->name, (long long)f->seq, f->sensor);
+    } else if (b->n_unlisted == LC_SENSORS_MAX) {
+        b->n_unlisted++;
+        lc_log(LC_LOG_WARN, "robot %s: frames name more unlisted sensors ('%s', ...); "
+               "no more said", b->name, f->sensor);
+    }
+}
+
 static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
 {
     start_recording(hub, b);
+    unlisted_sensor(b, f);
     if (lc_recorder_is_open(&b->rec) && lc_wire_encode_frame(&hub->text, f) == 0)
         record(b, hub->text.s, (size_t)hub->text.len);
     int rc = lc_session_drive(b->core, f, &b->result, &b->last_sp);

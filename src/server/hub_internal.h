@@ -92,6 +92,10 @@ struct bot {
     bool view_dirty;
     lc_recorder rec;
     bool rec_failed_unsent; /* recording stopped: the robot is not told yet */
+    /* sensors its frames named that its description does not list, each
+     * logged once (the first LC_SENSORS_MAX; then one line for the rest) */
+    char unlisted[LC_SENSORS_MAX][LC_SENSOR_NAME_MAX + 1];
+    int n_unlisted;
 };
 
 struct lc_hub {

@@ -1,7 +1,9 @@
 /*
  * plan.c - `lacuna plan [FILE|-]`: one plan request in (CONTRACT.md), one
- * plan result out. It is one step of a fresh session, the same
- * lc_session_step that replay, sim, bench and the server call.
+ * plan result out. Each of the request's frames is one step of a fresh
+ * session (in order: the memory holds them all), the same lc_session_step
+ * that replay, sim, bench and the server call; the result is the last
+ * frame's.
  */
 #include <stdio.h>
 #include <stdlib.h>
@@ -21,10 +23,13 @@ static const char usage[] =
     "\n"
     "Plans one frame. FILE (or standard input for '-' or no FILE) holds one plan\n"
     "request: {\"robot\": {...}, \"goal\": [x, y], \"velocity\": [vx, vy] | [v, w],\n"
-    "\"dt\": s, \"frame\": {scan or points}}. Prints one JSON object: the convex\n"
-    "obstacles as seen, the free region (halfspaces for the robot centre and CCW\n"
-    "vertices), its maximum-area inscribed ellipse, the target, the setpoint with\n"
-    "its state and limit, and timing_us.\n"
+    "\"dt\": s, \"frame\": {scan or points}}; or \"frames\": [...] instead of \"frame\"\n"
+    "(1 to 64, of one or several sensors), planned in order by one session, each\n"
+    "a step of dt, so that the last plan remembers them all. Prints one JSON\n"
+    "object, the last frame's plan: the convex obstacles as seen, the free region\n"
+    "(halfspaces for the robot centre and CCW vertices), its maximum-area\n"
+    "inscribed ellipse, the target, the setpoint with its state and limit, and\n"
+    "timing_us.\n"
     "\n"
     "  --pretty   a summary for a person instead of JSON (the default when stdout\n"
     "             is a terminal)\n"
@@ -37,6 +42,8 @@ void lc_plan_help(FILE *out) { fputs(usage, out); }
 
 static void print_pretty(FILE *out, const lc_plan_result *r, const lc_wire_plan_request *req)
 {
+    if (req->n_frames > 1)
+        fprintf(out, "frames     %d, the last one planned from all of them\n", req->n_frames);
     fprintf(out, "frame      %s, %d points kept of %d\n",
             req->frame.kind == LC_FRAME_SCAN ? "scan" : "points", r->cloud->n,
             req->frame.kind == LC_FRAME_SCAN ? req->frame.n_ranges : req->frame.n_points);
@@ -134,7 +141,10 @@ int lc_tool_plan(int argc, char **argv)
     rc = LC_EXIT_FAIL;
     if (s) {
         lc_session_set_clock(s, lc_mono_clock());
-        if (lc_session_step(s, &req.frame, req.dt, &res) == 0) {
+        int step = 0;
+        for (int i = 0; i < req.n_frames && step == 0; i++)
+            step = lc_session_step(s, &req.frames[i], req.dt, &res);
+        if (step == 0) {
             if (pretty) {
                 print_pretty(stdout, &res, &req);
                 rc = LC_EXIT_OK;

@@ -1,10 +1,13 @@
 /*
  * sim.c - `lacuna sim`: a closed loop in a scenario's world of polygons.
  *
- * Each control period (1 / sensor rate): a ray-cast scan from the true pose
- * (range noise from --seed), one lc_session_step, then the robot follows
- * the setpoint exactly (zero-order hold, no slip) for the period, integrated
- * in substeps of at most 1 ms: the point model moves by its robot-frame
+ * Frame after frame, in time order across the header's sensors (a 40 Hz
+ * scanner and a 30 Hz camera interleave, simsensors.h): a ray-cast scan or
+ * set of points from the true pose (range noise from --seed), one
+ * lc_session_step, then the robot follows that frame's setpoint exactly
+ * (zero-order hold, no slip) until the next frame of any sensor (one
+ * control period, 1 / rate, with a single sensor), integrated in substeps
+ * of at most 1 ms: the point model moves by its robot-frame
  * velocity rotated into the world (its heading never changes), the unicycle
  * drives the exact arc of (v, w). After every substep the footprint disc is
  * checked against the world: clearance = lc_world_distance - radius; a
@@ -18,9 +21,9 @@
  * else the header's max_time, else 600 s).
  * Success (exit 0) is the header's expectation met without a collision:
  * expect "done" wants the route finished, expect "blocked" wants the run to
- * end blocked (and nothing hit on the way). Stamps are k / rate and dt
- * follows replay.h's rule, so `--out` gives a file `lacuna replay`
- * reproduces exactly.
+ * end blocked (and nothing hit on the way). Stamps are j / rate of each
+ * sensor and dt follows replay.h's rule, so `--out` gives a file `lacuna
+ * replay` reproduces exactly.
  *
  * --connect: the same loop, but each frame goes over the real protocol to a
  * running `lacuna serve` (simlink.h) and the robot follows the setpoint
@@ -47,6 +50,7 @@
 #include "signals.h"
 #include "simlink.h"
 #include "simbatch.h"
+#include "simsensors.h"
 #include "svg.h"
 #include "tools.h"
 #include "world.h"
@@ -61,8 +65,11 @@ static const char usage[] =
     "                  [--svg-dir DIR] [--json] [--seed N] [--max-time S]\n"
     "\n"
     "Closed loop in the world of the scenario FILE: a ray-cast scanner (its\n"
-    "header's sensor), the robot following each setpoint exactly for one\n"
-    "control period (1 ms substeps), the patrol route of the header.\n"
+    "header's sensor), or each of its sensors at its own rate (\"sensors\": scans,\n"
+    "or rays returned as points; their frames in time order, each naming its\n"
+    "sensor, the robot description listing them), the robot following each\n"
+    "setpoint exactly until the next frame (1 ms substeps), the patrol route of\n"
+    "the header.\n"
     "\n"
     "  --model M      override the header's robot model (point or unicycle)\n"
     "  --seed N       seed of the range noise (default 1)\n"
@@ -145,13 +152,12 @@ typedef struct sim {
     const sim_opts *o;
     lc_scenario_header *h;
     lc_world world;
-    lc_sensor sensor;
+    lc_simsensors sensors;
     lc_sim_rng rng;
     lc_session *s;
     lc_pose pose;
     bool in_contact;
     bool hold_blocked; /* a `blocked` frame since the hold began */
-    double *ranges;
     FILE *out;
     lc_wire_text text;
     lc_svg_run svg;
@@ -287,17 +293,6 @@ static int parse_args(int argc, char **argv, sim_opts *o)
     return check_connect_args(o);
 }
 
-static void sensor_from_header(const lc_scenario_sensor *in, lc_sensor *out)
-{
-    *out = (lc_sensor){.beams = in->beams,
-                       .fov = in->fov,
-                       .range_min = in->range_min,
-                       .range_max = in->range_max,
-                       .rate = in->rate,
-                       .noise = in->noise,
-                       .mount = in->mount};
-}
-
 /* ----------------------------------------------------------- the loop */
 
 static double clearance_at(const sim *sm, lc_pose p)
@@ -335,22 +330,6 @@ static void integrate(sim *sm, const lc_setpoint *sp, double period)
         check_contact(sm);
     }
     sm->pose.yaw = lc_wrap_angle(sm->pose.yaw);
-}
-
-static lc_frame make_frame(sim *sm, long k, double stamp)
-{
-    lc_world_scan(&sm->world, sm->pose, &sm->sensor, &sm->rng, sm->ranges);
-    return (lc_frame){.kind = LC_FRAME_SCAN,
-                      .seq = k,
-                      .stamp = stamp,
-                      .pose = sm->pose,
-                      .mount = sm->sensor.mount,
-                      .angle_start = lc_sensor_beam_angle(&sm->sensor, 0),
-                      .angle_step = lc_sensor_angle_step(&sm->sensor),
-                      .range_min = sm->sensor.range_min,
-                      .range_max = sm->sensor.range_max,
-                      .ranges = sm->ranges,
-                      .n_ranges = sm->sensor.beams};
 }
 
 static int record(sim *sm, const lc_frame *f, const lc_plan_result *res, const lc_reply *sp)
@@ -424,11 +403,19 @@ static int route_finished(sim *sm, bool looping)
     return lc_simlink_send_route(sm->link, &sm->h->route, sm->why, sizeof sm->why) < 0 ? -3 : 0;
 }
 
-/* One control period; 1 when the run ends, 0 to go on, <0 on failure. */
-static int period_step(sim *sm, long k, double period, double *blocked_since)
+/* One frame and the time until the next; 1 when the run ends, 0 to go on,
+ * <0 on failure. */
+static int period_step(sim *sm, double *blocked_since)
 {
-    double stamp = (double)k / sm->sensor.rate;
-    lc_frame f = make_frame(sm, k, stamp);
+    double stamp, next;
+    int k = lc_simsensors_next(&sm->sensors, &stamp);
+    lc_frame f = lc_simsensors_frame(&sm->sensors, &sm->world, sm->pose, &sm->rng);
+    /* the time to the next frame: 0 when another sensor's shares the stamp;
+     * 1 / rate between a sensor's own frames, exactly the period of the
+     * single-sensor loop (the stamps' difference may be an ulp off) */
+    double period = lc_simsensors_next(&sm->sensors, &next) == k
+                        ? 1.0 / sm->sensors.s[k].rays.rate
+                        : next - stamp;
     lc_plan_result res;
     lc_reply reply;
     int rc = plan(sm, &f, &res, &reply);
@@ -469,12 +456,12 @@ static int period_step(sim *sm, long k, double period, double *blocked_since)
 
 static int run_loop(sim *sm, double max_time)
 {
-    double period = 1.0 / sm->sensor.rate, blocked_since = -1;
+    double blocked_since = -1, stamp;
     sm->m.end = OUT_TIMEOUT;
     check_contact(sm);
     double t_start = lc_mono_us(), t_progress = 0;
-    for (long k = 0; (double)k / sm->sensor.rate <= max_time; k++) {
-        int rc = period_step(sm, k, period, &blocked_since);
+    while (lc_simsensors_next(&sm->sensors, &stamp), stamp <= max_time) {
+        int rc = period_step(sm, &blocked_since);
         if (rc == -1)
             return lc_cli_fail("sim", "out of memory");
         if (rc == -2)
@@ -628,7 +615,9 @@ static int check_header(const sim_opts *o, lc_scenario_header *h)
     if (o->has_model)
         h->robot.model = o->model;
     h->has_robot = true;
-    h->has_sensor = true; /* the default sensor when absent; written with --out */
+    /* the default sensor when none is given; written with --out */
+    h->has_sensor = h->n_sensors == 0;
+    lc_simsensors_describe(h, &h->robot);
     return 0;
 }
 
@@ -709,13 +698,11 @@ static int sim_run(sim *sm)
 {
     const lc_scenario_header *h = sm->h;
     sm->world.polys = h->world; /* borrowed: the header frees it */
-    sensor_from_header(&h->sensor, &sm->sensor);
     sm->rng.state = sm->o->seed;
     sm->pose = h->start;
     sm->m.min_clearance = INFINITY;
-    sm->ranges = calloc((size_t)sm->sensor.beams, sizeof *sm->ranges);
     sm->s = lc_replay_session(h);
-    if (!sm->ranges || !sm->s)
+    if (lc_simsensors_init(&sm->sensors, h) < 0 || !sm->s)
         return lc_cli_fail("sim", "out of memory");
     lc_session_set_clock(sm->s, lc_mono_clock());
     int rc = open_outputs(sm);
@@ -765,7 +752,7 @@ int lc_tool_sim(int argc, char **argv)
         lc_svg_run_free(&sm.svg);
         lc_wire_text_free(&sm.text);
         lc_session_free(sm.s);
-        free(sm.ranges);
+        lc_simsensors_free(&sm.sensors);
         free(sm.m.us);
     }
     lc_scenario_reader_free(&rd);

@@ -108,7 +108,8 @@ static void check_fast_path(const char *text, size_t size, const lc_wire_limits 
         double hb[] = {b->stamp, b->pose.x, b->pose.y, b->pose.yaw, b->mount.x, b->mount.y,
                        b->mount.yaw, b->angle_start, b->angle_step, b->range_min, b->range_max};
         LC_FUZZ_CHECK(mf.type == ms.type && a->kind == b->kind && a->seq == b->seq &&
-                          same_doubles(ha, hb, 11),
+                          same_doubles(ha, hb, 11) && a->has_mount == b->has_mount &&
+                          strcmp(a->sensor, b->sensor) == 0,
                       "fast path header differs");
         LC_FUZZ_CHECK(a->n_ranges == b->n_ranges && a->n_points == b->n_points &&
                           (a->ranges == NULL) == (b->ranges == NULL) &&

@@ -1,9 +1,10 @@
 /*
  * fuzz_plan.c - any bytes as a `lacuna plan` request, then the planning
  * step that command runs: a fresh session for the request's robot, its goal
- * and last velocity, one lc_session_step with the request's frame and dt,
- * and the result encoded (src/tools/plan.c does the same calls, with a clock
- * for timing only). Accepted requests are hostile but valid numbers (poses
+ * and last velocity, one lc_session_step with each of the request's frames
+ * and dt (the checks are of the last, whose rate limits start from the
+ * setpoint before it), and the result encoded (src/tools/plan.c does the
+ * same calls, with a clock for timing only). Accepted requests are hostile but valid numbers (poses
  * and ranges up to 1e9, angle steps down to the smallest double, up to
  * 100000 beams or points), so this drives the whole core: ingest, segment,
  * hulls, growth, region inflation, the ellipse solver and the motion laws.
@@ -408,8 +409,14 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     lc_session *s = lc_plan_session_new(&req);
     LC_FUZZ_CHECK(s != NULL, "lc_plan_session_new failed");
     lc_plan_result res;
+    lc_setpoint last = req.velocity; /* what the last frame's rate limits start from */
+    for (int i = 0; i + 1 < req.n_frames; i++) {
+        LC_FUZZ_CHECK(lc_session_step(s, &req.frames[i], req.dt, &res) == 0,
+                      "lc_session_step failed");
+        last = res.setpoint;
+    }
     LC_FUZZ_CHECK(lc_session_step(s, &req.frame, req.dt, &res) == 0, "lc_session_step failed");
-    check_setpoint(&req.robot, &req.velocity, req.dt, &res.setpoint);
+    check_setpoint(&req.robot, &last, req.dt, &res.setpoint);
     check_region(res.region, lc_v2(req.frame.pose.x, req.frame.pose.y));
     check_clearance(&req.robot, &res);
     check_inside(&req.robot, &req, &res);

@@ -2,8 +2,9 @@
 """check_schemas.py - proto/schema against proto/examples.
 
 Every schema must be a valid draft 2020-12 schema, every example must
-validate against the schema of the same name, and a few instances that the
-codec refuses must be refused by the schemas too (so this check can fail).
+validate against the schema of the same name, a few instances that the
+codec refuses must be refused by the schemas too (so this check can fail),
+and a few variants it accepts must be accepted.
 Needs python3-jsonschema (Debian 12 ships 4.10; newer releases resolve
 references through the `referencing` package, older ones through
 RefResolver: both are handled). Exit 77 (skipped) when it is missing.
@@ -69,6 +70,18 @@ def refused_cases(examples):
     variant("robot", "radius 0", lambda m: m.update(radius=0))
     variant("robot", "unknown model", lambda m: m.update(model="tank"))
     variant("robot", "wrong type", lambda m: m.update(type="route"))
+    variant("robot", "no sensors in the list", lambda m: m.update(sensors=[]))
+    variant("robot", "nine sensors", lambda m: m.update(sensors=[{"name": c} for c in "abcdefghi"]))
+    variant("robot", "a sensor without a name", lambda m: m["sensors"][0].pop("name"))
+    variant("robot", "a sensor name with a slash",
+            lambda m: m["sensors"][1].update(name="cam/left"))
+    variant("robot", "a sensor name of 33", lambda m: m["sensors"][0].update(name="s" * 33))
+    variant("robot", "a scanner with a fov", lambda m: m["sensors"][0].update(fov=1.0))
+    variant("robot", "a scanner with a height band", lambda m: m["sensors"][0].update(z_max=1.0))
+    variant("robot", "an unknown sensor kind", lambda m: m["sensors"][1].update(kind="sonar"))
+    variant("robot", "a fov of 0", lambda m: m["sensors"][1].update(fov=0))
+    variant("scan", "an empty sensor name", lambda m: m.update(sensor=""))
+    variant("points", "a sensor name with a space", lambda m: m.update(sensor="cam 1"))
     variant("hello", "robot without a name", lambda m: m.pop("robot"))
     variant("hello", "name with a slash", lambda m: m.update(robot="a/b"))
     variant("hello", "unknown role", lambda m: m.update(role="admin"))
@@ -78,12 +91,44 @@ def refused_cases(examples):
     variant("event", "unknown event", lambda m: m.update(event="teleported"))
     variant("plan_request", "dt 0", lambda m: m.update(dt=0))
     variant("plan_request", "no frame", lambda m: m.pop("frame"))
+    variant("plan_request", "frame and frames", lambda m: m.update(frames=[m["frame"]]))
+    variant("plan_request", "no frames", lambda m: (m.pop("frame"), m.update(frames=[])))
+    variant("plan_request", "65 frames",
+            lambda m: m.update(frames=[m.pop("frame")] * 65))
+    variant("plan_request", "a frame of frames without ranges",
+            lambda m: m.update(frames=[{k: v for k, v in m.pop("frame").items() if k != "ranges"}]))
     variant("plan_request", "goal of 3", lambda m: m.update(goal=[1, 2, 3]))
     variant("plan_result", "no setpoint", lambda m: m.pop("setpoint"))
     variant("scenario", "version 2", lambda m: m.update(version=2))
+    variant("scenario", "sensor and sensors", lambda m: m.update(sensors=[{"name": "a"}]))
+    variant("scenario", "a listed sensor without a name",
+            lambda m: m.update(sensors=[{"rate": 10}]) or m.pop("sensor"))
+    variant("scenario", "a listed sensor of an unknown kind",
+            lambda m: m.update(sensors=[{"name": "a", "kind": "radar"}]) or m.pop("sensor"))
     variant("scenario", "a family of two words", lambda m: m.update(family="two words"))
     variant("scenario", "a negative shortest path", lambda m: m.update(shortest_path=-1))
     return cases
+
+
+def accepted_cases(examples):
+    """(schema, instance, what): variants of the examples the codec accepts."""
+    front = copy.deepcopy(examples["scan"])
+    front.pop("mount")
+    rear = copy.deepcopy(front)
+    rear.update(seq=front["seq"] + 1, sensor="rear")
+    request = copy.deepcopy(examples["plan_request"])
+    request["frames"] = [request.pop("frame"), front, rear]
+    robot = copy.deepcopy(examples["robot"])
+    robot["sensors"] = [{"name": "front"}, {"name": "rear", "mount": [-0.3, 0, 3.14]},
+                        {"name": "c.A-9_", "kind": "points"}]
+    scenario = copy.deepcopy(examples["scenario"])
+    scenario.pop("sensor")
+    scenario["sensors"] = [{"name": "front", "mount": [0.3, 0, 0], "near": 0.1, "far": 12},
+                           {"name": "cam", "kind": "points", "fov": 1.2, "rate": 30}]
+    return [("plan_request", request, "three frames"),
+            ("scenario", scenario, "a list of sensors"),
+            ("robot", robot, "a kind left out, a points sensor without fov"),
+            ("scan", front, "a sensor named, no mount")]
 
 
 def main():
@@ -123,6 +168,10 @@ def main():
             name, "; ".join("%s: %s" % (list(e.absolute_path), e.message) for e in errors[:3])))
     for name, inst, why in refused_cases(examples):
         report(not validators[name].is_valid(inst), "%s with %s validates" % (name, why))
+    for name, inst, what in accepted_cases(examples):
+        errors = list(validators[name].iter_errors(inst))
+        report(not errors, "%s with %s refused: %s" % (
+            name, what, "; ".join(e.message for e in errors[:3])))
     print("%d passed, %d failed" % (passed, failed))
     return 1 if failed else 0
 

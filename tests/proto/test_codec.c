@@ -683,6 +683,8 @@ static void check_roundtrip_frame(const lc_frame *a, lc_wire_text *t, lc_wire_bu
     assert_same_double(b->mount.x, a->mount.x);
     assert_same_double(b->mount.y, a->mount.y);
     assert_same_double(b->mount.yaw, a->mount.yaw);
+    assert_int_equal(b->has_mount, a->has_mount);
+    assert_string_equal(b->sensor, a->sensor);
     if (a->kind == LC_FRAME_SCAN) {
         assert_same_double(b->angle_start, a->angle_start);
         assert_same_double(b->angle_step, a->angle_step);
@@ -727,7 +729,12 @@ static void test_roundtrip_frames(void **state)
         f.seq = (int64_t)(lc_rng_next(&rng) % (UINT64_C(1) << 53));
         f.stamp = random_double(&rng, false) * (iter % 3 == 0 ? 1e6 : 1.0);
         random_pose(&rng, &f.pose);
-        random_pose(&rng, &f.mount);
+        /* a mount goes on the wire only when the frame carries one */
+        f.has_mount = iter % 5 != 0;
+        if (f.has_mount)
+            random_pose(&rng, &f.mount);
+        if (iter % 3 == 1)
+            snprintf(f.sensor, sizeof f.sensor, "s%d.-_Z", iter);
         if (iter % 2 == 0) {
             int n = 1 + (int)(lc_rng_next(&rng) % 400);
             f.kind = LC_FRAME_SCAN;

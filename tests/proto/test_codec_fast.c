@@ -3,8 +3,8 @@
  * (codec_fast.c) against the cJSON path, whose numbers are cJSON 1.7.15's
  * (Debian) reading through glibc's strtod, correctly rounded.
  *
- * - Random frames in many number formats, white space and key orders: the
- *   fast path accepts every one (a sensor's plain messages do take it) and
+ * - Random frames in many number formats, white space and key orders, with
+ *   and without a sensor's name and a mount: the fast path accepts every one (a sensor's plain messages do take it) and
  *   each decodes bit for bit as the cJSON path decodes it.
  * - Numbers at the edges of the exact path (2^53, 10^22, subnormals, more
  *   than 19 digits, long zeros): the same double as strtod.
@@ -62,6 +62,8 @@ static void same_frame(const lc_wire_msg *a, const lc_wire_msg *b)
     const lc_frame *x = &a->u.frame, *y = &b->u.frame;
     assert_int_equal(x->kind, y->kind);
     assert_true(x->seq == y->seq);
+    assert_string_equal(x->sensor, y->sensor);
+    assert_int_equal(x->has_mount, y->has_mount);
     double hx[] = {x->stamp, x->pose.x, x->pose.y, x->pose.yaw, x->mount.x, x->mount.y,
                    x->mount.yaw, x->angle_start, x->angle_step, x->range_min, x->range_max};
     double hy[] = {y->stamp, y->pose.x, y->pose.y, y->pose.yaw, y->mount.x, y->mount.y,
@@ -164,7 +166,7 @@ static void number_list(text *t, lc_rng *r, int n, double lo, double hi, bool nu
 }
 
 enum { F_TYPE, F_SEQ, F_STAMP, F_POSE, F_MOUNT, F_A0, F_DA, F_RMIN, F_RMAX, F_RANGES, F_XY,
-       F_Z, F_COUNT };
+       F_Z, F_SENSOR, F_COUNT };
 
 /* A valid scan or points message with its keys in random order. */
 static void random_frame(text *t, lc_rng *r, bool scan)
@@ -175,6 +177,8 @@ static void random_frame(text *t, lc_rng *r, bool scan)
         keys[n++] = fixed[i];
     if (lc_rng_next(r) % 2)
         keys[n++] = F_MOUNT;
+    if (lc_rng_next(r) % 2)
+        keys[n++] = F_SENSOR;
     if (scan) {
         int s[] = {F_A0, F_DA, F_RMIN, F_RMAX, F_RANGES};
         for (int i = 0; i < 5; i++)
@@ -199,7 +203,7 @@ static void random_frame(text *t, lc_rng *r, bool scan)
         ws(t, r);
         static const char *const names[] = {"type", "seq", "stamp", "pose", "mount",
                                             "angle_start", "angle_step", "range_min",
-                                            "range_max", "ranges", "xy", "z"};
+                                            "range_max", "ranges", "xy", "z", "sensor"};
         put(t, "\"%s\"", names[keys[i]]);
         ws(t, r);
         put(t, ":");
@@ -216,6 +220,12 @@ static void random_frame(text *t, lc_rng *r, bool scan)
         case F_RMAX: num(t, r, lc_rng_uniform(r, 5, 40)); break;
         case F_RANGES: number_list(t, r, beams, -1, 45, true); break;
         case F_XY: number_list(t, r, 2 * points, -30, 30, false); break;
+        case F_SENSOR: {
+            static const char *const sensors[] = {"front", "rear", "cam.1", "A-z_0.9", "x",
+                                                  "abcdefghijklmnopqrstuvwxyz012345"};
+            put(t, "\"%s\"", sensors[lc_rng_next(r) % 6]);
+            break;
+        }
         default:
             if (lc_rng_next(r) % 4 == 0)
                 put(t, "null");
@@ -334,6 +344,12 @@ static void test_declined_like_cjson(void **state)
         "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,2e9],'angle_start':0,"
         "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
         SCAN(",'mount':null", "[1]"), SCAN(",'xy':[1,2]", "[1]"),
+        SCAN(",'sensor':''", "[1]"), SCAN(",'sensor':null", "[1]"),     /* a sensor's name */
+        SCAN(",'sensor':3", "[1]"), SCAN(",'sensor':'rear left'", "[1]"),
+        SCAN(",'sensor':'r\\u0065ar'", "[1]"), SCAN(",'sensor':'r\\/ear'", "[1]"),
+        SCAN(",'sensor':'abcdefghijklmnopqrstuvwxyz0123456'", "[1]"),
+        SCAN(",'sensor':'rear','sensor':'rear'", "[1]"), POINTS(",'sensor':'cam\\u0007'"),
+        POINTS(",'sensor':'caf\xc3\xa9'"),
         SCAN("", "[1]") " x", "\xef\xbb\xbf" SCAN("", "[1]"), SCAN("", "[1]") "}",
         "{'type':'view'}", "{'type':'hello','role':'viewer'}", "[1,2]", "{}", "",
         "{'seq':3,'stamp':1.5,'pose':[0,0,0],'xy':[1,2]}",                /* no type */

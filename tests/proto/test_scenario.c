@@ -4,7 +4,9 @@
  * bit), bad lines reported with their line numbers, a truncated last line
  * skipped with a warning, and degenerate files (empty, header only, blank
  * lines, a second header, huge numbers); unknown keys warned of (the header
- * every time, messages once per type) and none in the shipped scenarios.
+ * every time, messages once per type) and none in the shipped scenarios;
+ * the header's list of simulated sensors (fields, defaults, round trip, and
+ * each bad field named).
  */
 #include "testutil.h"
 
@@ -235,11 +237,44 @@ static void test_bad_headers(void **state)
         {"{\"type\":\"scenario\",\"version\":1,\"shortest_path\":-1}\n", "shortest_path"},
         {"{\"type\":\"scenario\",\"version\":1,\"shortest_path\":\"far\"}\n", "shortest_path"},
         {"{\"type\":\"scenario\",\"version\":1} x\n", "after"},
+        /* the list of sensors */
+        {"{'type':'scenario','version':1,'sensor':{},'sensors':[{'name':'a'}]}\n",
+         "sensors: give sensor or sensors"},
+        {"{'type':'scenario','version':1,'sensors':[]}\n", "sensors: fewer than 1"},
+        {"{'type':'scenario','version':1,'sensors':{}}\n", "sensors: not an array"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a'},{'name':'b'},{'name':'c'},"
+         "{'name':'d'},{'name':'e'},{'name':'f'},{'name':'g'},{'name':'h'},{'name':'i'}]}\n",
+         "sensors: more than 8"},
+        {"{'type':'scenario','version':1,'sensors':[7]}\n", "sensors[0]: not an object"},
+        {"{'type':'scenario','version':1,'sensors':[{'beams':3}]}\n", "sensors[0].name: missing"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a'},{'name':'a/b'}]}\n",
+         "sensors[1].name"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a'},{'name':'b'},{'name':'a'}]}\n",
+         "sensors[2].name: \"a\" is the name of sensors[0]"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','kind':'sonar'}]}\n",
+         "sensors[0].kind"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','near':2,'far':1}]}\n",
+         "sensors[0].far: must be > near"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','rate':0}]}\n", "sensors[0].rate"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','beams':0}]}\n",
+         "sensors[0].beams"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','fov':7}]}\n", "sensors[0].fov"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','noise':-1}]}\n",
+         "sensors[0].noise"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','mount':[0,0]}]}\n",
+         "sensors[0].mount"},
+        {"{'type':'scenario','version':1,'sensors':[{'name':'a','name':'b'}]}\n",
+         "sensors[0].name"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
         warnings w = {0};
         lc_scenario_error err = {0};
-        int rc = read_all(cases[i].text, &w, &err, NULL);
+        char text[1024];
+        size_t n = strlen(cases[i].text);
+        assert_true(n < sizeof text);
+        for (size_t k = 0; k <= n; k++) /* ' for " in the newer cases */
+            text[k] = cases[i].text[k] == '\'' ? '"' : cases[i].text[k];
+        int rc = read_all(text, &w, &err, NULL);
         if (rc != -1 || !strstr(err.message, cases[i].reason))
             fail_msg("case %zu: rc %d, '%s' does not name '%s'", i, rc, err.message,
                      cases[i].reason);
@@ -347,6 +382,75 @@ static void test_shipped_scenarios_clean(void **state)
     assert_true(total >= 10);
 }
 
+/* A robot with a front and a rear scanner and a depth camera. */
+static const char header_sensors[] =
+    "{\"type\":\"scenario\",\"version\":1,\"sensors\":["
+    "{\"name\":\"front\",\"mount\":[0.25,0,0],\"beams\":181,\"fov\":4.7,\"near\":0.1,"
+    "\"far\":10,\"rate\":40,\"noise\":0.005},"
+    "{\"name\":\"rear\",\"kind\":\"scan\",\"mount\":[-0.25,0,3.141592653589793],\"rate\":20},"
+    "{\"name\":\"cam\",\"kind\":\"points\",\"fov\":1.2,\"far\":4,\"rate\":30,\"beams\":64}]}";
+
+static void test_sensors_list(void **state)
+{
+    (void)state;
+    lc_scenario_header h, back;
+    lc_scenario_header_init(&h);
+    lc_scenario_header_init(&back);
+    lc_scenario_error err;
+    assert_int_equal(lc_scenario_parse_header(header_sensors, strlen(header_sensors), &h, &err),
+                     0);
+    assert_string_equal(err.ignored, "");
+    assert_false(h.has_sensor);
+    assert_int_equal(h.n_sensors, 3);
+    const lc_scenario_sensor *s = h.sensors;
+    assert_string_equal(s[0].name, "front");
+    assert_int_equal(s[0].kind, LC_FRAME_SCAN);
+    assert_true(s[0].beams == 181 && s[0].fov == 4.7 && s[0].range_min == 0.1 &&
+                s[0].range_max == 10 && s[0].rate == 40 && s[0].noise == 0.005 &&
+                s[0].mount.x == 0.25);
+    /* what a list entry leaves out is the single sensor's default */
+    lc_scenario_sensor d;
+    lc_scenario_sensor_default(&d);
+    assert_string_equal(s[1].name, "rear");
+    assert_true(s[1].beams == d.beams && s[1].fov == d.fov && s[1].range_min == d.range_min &&
+                s[1].range_max == d.range_max && s[1].noise == d.noise && s[1].rate == 20 &&
+                s[1].mount.yaw == 3.141592653589793);
+    assert_int_equal(s[2].kind, LC_FRAME_POINTS);
+    assert_true(s[2].fov == 1.2 && s[2].range_max == 4 && s[2].beams == 64);
+    /* the fastest sensor sets the first period */
+    assert_true(lc_scenario_first_dt(&h) == 1.0 / 40);
+    const lc_scenario_sensor *sim;
+    assert_int_equal(lc_scenario_sim_sensors(&h, &sim), 3);
+    assert_ptr_equal(sim, h.sensors);
+    /* encoded and read back: the same text, the same doubles */
+    lc_wire_text t1, t2;
+    lc_wire_text_init(&t1, NULL);
+    lc_wire_text_init(&t2, NULL);
+    assert_int_equal(lc_scenario_encode_header(&t1, &h), 0);
+    assert_non_null(strstr(t1.s, "\"near\":0.1,\"far\":10"));
+    assert_null(strstr(t1.s, "\"sensor\":"));
+    assert_int_equal(lc_scenario_parse_header(t1.s, (size_t)t1.len, &back, &err), 0);
+    assert_int_equal(lc_scenario_encode_header(&t2, &back), 0);
+    assert_string_equal(t1.s, t2.s);
+    assert_int_equal(back.n_sensors, 3);
+    for (int i = 0; i < 3; i++) {
+        assert_string_equal(back.sensors[i].name, s[i].name);
+        assert_int_equal(back.sensors[i].kind, s[i].kind);
+        assert_true(back.sensors[i].mount.yaw == s[i].mount.yaw);
+    }
+    /* one sensor alone: the single "sensor", its default when absent */
+    lc_scenario_header_free(&h);
+    lc_scenario_header_init(&h);
+    assert_int_equal(lc_scenario_sim_sensors(&h, &sim), 1);
+    assert_ptr_equal(sim, &h.sensor);
+    assert_string_equal(sim->name, "");
+    assert_int_equal(sim->kind, LC_FRAME_SCAN);
+    lc_wire_text_free(&t1);
+    lc_wire_text_free(&t2);
+    lc_scenario_header_free(&h);
+    lc_scenario_header_free(&back);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -360,6 +464,7 @@ int main(void)
         cmocka_unit_test(test_header_only),
         cmocka_unit_test(test_unknown_keys_warned),
         cmocka_unit_test(test_shipped_scenarios_clean),
+        cmocka_unit_test(test_sensors_list),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -4,9 +4,10 @@
  * proto/examples/plan_request.json) and on frames that `lacuna sim --out`
  * records in every shipped scenario. Each result keeps the promises of
  * proto/PROTOCOL.md's `lacuna plan` section:
- *   - the points it names are the frame's valid returns outside the
- *     footprint, worked out here from the request (beam bearings, mount and
- *     pose as closed-form rigid motions), in the frame's order;
+ *   - the points it names are the (last) frame's valid returns outside the
+ *     footprint, worked out here from the request (beam bearings, mount -
+ *     the frame's or its sensor's - and pose as closed-form rigid motions),
+ *     in the frame's order;
  *   - the robot centre lies in the region;
  *   - every one of those points is at least radius + margin from the region
  *     (GEOS, GEOSDistance_r), unless the state is too_close;
@@ -16,8 +17,9 @@
  *     GEOS puts 64 points of its boundary in the region's polygon;
  *   - the region's vertices satisfy its halfspaces, the target lies in it,
  *     the setpoint's speed is within v_max (and |w| within w_max).
- * The same request from a file and from standard input gives the same
- * result but for its timing. Bad requests and bad usage exit 2 with one
+ * A request's "frames" go through one session: the last frame's plan holds
+ * what an earlier frame of another sensor saw. The same request from a file
+ * and from standard input gives the same result but for its timing. Bad requests and bad usage exit 2 with one
  * line on stderr naming the field and nothing on stdout. No timing is
  * asserted.
  */
@@ -128,10 +130,24 @@ typedef struct returns {
     int n;
 } returns;
 
-/* Adds the sensor-frame point p when it lies outside the footprint. */
+/* The frame's sensor from the robot description, NULL when it has none
+ * (protocol: the named sensor, else the first). */
+static const lc_sensor_desc *sensor_of(const lc_wire_plan_request *req)
+{
+    const lc_frame *f = &req->frame;
+    for (int i = 0; i < req->robot.n_sensors; i++)
+        if (!f->sensor[0] || strcmp(f->sensor, req->robot.sensors[i].name) == 0)
+            return &req->robot.sensors[i];
+    return NULL;
+}
+
+/* Adds the sensor-frame point p when it lies outside the footprint. The
+ * mount: the frame's own, else its sensor's (PROTOCOL.md). */
 static void add_return(returns *rt, const lc_wire_plan_request *req, lc_vec2 p_sensor)
 {
-    lc_vec2 p_robot = lc_pose_apply(req->frame.mount, p_sensor);
+    const lc_sensor_desc *sd = sensor_of(req);
+    lc_pose mount = req->frame.has_mount || !sd ? req->frame.mount : sd->mount;
+    lc_vec2 p_robot = lc_pose_apply(mount, p_sensor);
     double d = lc_len(p_robot), r = req->robot.radius;
     if (d < r - 1e-9)
         return;
@@ -141,10 +157,14 @@ static void add_return(returns *rt, const lc_wire_plan_request *req, lc_vec2 p_s
 
 /* Scans: finite ranges within [range_min, range_max] (the codec makes null
  * and out-of-limit values NaN); points: finite, within the robot's height
- * band when the frame has heights. Self hits (inside the footprint) out. */
+ * band and its sensor's when the frame has heights. Self hits (inside the
+ * footprint) out. */
 static void returns_of(const lc_wire_plan_request *req, returns *rt)
 {
     const lc_frame *f = &req->frame;
+    const lc_sensor_desc *sd = sensor_of(req);
+    double z_min = fmax(req->robot.z_min, sd ? sd->z_min : -INFINITY);
+    double z_max = fmin(req->robot.z_max, sd ? sd->z_max : INFINITY);
     int total = f->kind == LC_FRAME_SCAN ? f->n_ranges : f->n_points;
     rt->w = calloc((size_t)total + 1, sizeof *rt->w);
     rt->edge = calloc((size_t)total + 1, sizeof *rt->edge);
@@ -159,7 +179,7 @@ static void returns_of(const lc_wire_plan_request *req, returns *rt)
             lc_vec2 p = lc_v2(f->xy[2 * i], f->xy[2 * i + 1]);
             double z = f->z ? f->z[i] : 0.0;
             if (lc_vec2_finite(p) && isfinite(z) &&
-                (!f->z || (z >= req->robot.z_min && z <= req->robot.z_max)))
+                (!f->z || (z >= z_min && z <= z_max)))
                 add_return(rt, req, p);
         }
     }
@@ -307,6 +327,22 @@ static void test_shipped_requests(void **state)
     LC_GEOS_CHECKED();
 }
 
+/* The period of the frame's sensor: the header's "sensor", else the one of
+ * its "sensors" the frame names. */
+static double sensor_period(const cJSON *header, const cJSON *frame)
+{
+    const cJSON *one = cJSON_GetObjectItemCaseSensitive(header, "sensor");
+    if (one)
+        return 1.0 / number(item(one, "rate"));
+    const char *name = cJSON_GetStringValue(item(frame, "sensor"));
+    const cJSON *s;
+    cJSON_ArrayForEach(s, item(header, "sensors"))
+        if (name && strcmp(cJSON_GetStringValue(item(s, "name")), name) == 0)
+            return 1.0 / number(item(s, "rate"));
+    fail_msg("frame of sensor %s, which the header does not list", name ? name : "?");
+    return 0;
+}
+
 /* A request from one recorded frame: the header's robot, the waypoint the
  * next setpoint names, the sensor's period; NULL when that setpoint names
  * no waypoint. */
@@ -320,7 +356,7 @@ static char *request_of(const cJSON *header, const cJSON *frame, const cJSON *se
     cJSON_DeleteItemFromObjectCaseSensitive(robot, "type");
     cJSON_AddItemToObject(req, "robot", robot);
     cJSON_AddItemToObject(req, "goal", cJSON_Duplicate(cJSON_GetArrayItem(route, wp->valueint), 1));
-    cJSON_AddNumberToObject(req, "dt", 1.0 / number(item(item(header, "sensor"), "rate")));
+    cJSON_AddNumberToObject(req, "dt", sensor_period(header, frame));
     cJSON_AddItemToObject(req, "frame", cJSON_Duplicate(frame, 1));
     char *s = cJSON_PrintUnformatted(req);
     cJSON_Delete(req);
@@ -433,10 +469,11 @@ static void expect_refused(const char *text, const char *field)
     lc_test_refused(args, want);
 }
 
-#define SCAN_FRAME \
-    "\"frame\": {\"type\": \"scan\", \"seq\": 1, \"stamp\": 0, \"pose\": [0, 0, 0], " \
+#define SCAN_OBJECT \
+    "{\"type\": \"scan\", \"seq\": 1, \"stamp\": 0, \"pose\": [0, 0, 0], " \
     "\"angle_start\": 0, \"angle_step\": 0.1, \"range_min\": 0.1, \"range_max\": 5, " \
     "\"ranges\": [1, 2, null]}"
+#define SCAN_FRAME "\"frame\": " SCAN_OBJECT
 
 static void test_bad_requests(void **state)
 {
@@ -485,6 +522,18 @@ static void test_bad_requests(void **state)
          "\"pose\": [0, 0, 0], \"xy\": [1, 2, 3]}}", "frame.xy"},
         {"z short", "{\"goal\": [1, 2], \"frame\": {\"type\": \"points\", \"seq\": 1, \"stamp\": 0, "
          "\"pose\": [0, 0, 0], \"xy\": [1, 2, 3, 4], \"z\": [0.1]}}", "frame.z"},
+        {"no frames", "{\"goal\": [1, 2], \"frames\": []}", "frames: fewer than 1"},
+        {"frame and frames", "{\"goal\": [1, 2], \"frames\": [" SCAN_OBJECT "], " SCAN_FRAME "}",
+         "frames: give frame or frames"},
+        {"a bad beam in frames[1]", "{\"goal\": [1, 2], \"frames\": [" SCAN_OBJECT ", "
+         "{\"type\": \"scan\", \"seq\": 2, \"stamp\": 0, \"pose\": [0, 0, 0], \"angle_start\": 0, "
+         "\"angle_step\": 0.1, \"range_min\": 0.1, \"range_max\": 5, \"ranges\": [1, \"x\"]}]}",
+         "frames[1].ranges[1]"},
+        {"a bad sensor name", "{\"goal\": [1, 2], \"frames\": [{\"type\": \"points\", \"seq\": 1, "
+         "\"stamp\": 0, \"pose\": [0, 0, 0], \"sensor\": \"cam 2\", \"xy\": []}]}",
+         "frames[0].sensor"},
+        {"sensors of one name", "{\"robot\": {\"sensors\": [{\"name\": \"a\"}, {\"name\": \"a\"}]}, "
+         "\"goal\": [1, 2], " SCAN_FRAME "}", "robot.sensors[1].name"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++)
         expect_refused(cases[i].text, cases[i].field);
@@ -507,6 +556,53 @@ static void test_unknown_key_warned(void **state)
     assert_int_equal(t.regions, 1);
 }
 
+/* Obstacle vertices of the last result (out.json) with x in [x0, x1]. */
+static int obstacle_vertices_in(double x0, double x1)
+{
+    cJSON *res = parse_file(lc_test_tmp("out.json"));
+    const cJSON *piece, *v;
+    int n = 0;
+    cJSON_ArrayForEach(piece, item(res, "obstacles"))
+        cJSON_ArrayForEach(v, piece) {
+            double x = vec2_of(v).x;
+            n += x >= x0 && x <= x1;
+        }
+    cJSON_Delete(res);
+    return n;
+}
+
+/*
+ * "frames" go through one session: in scenarios/requests/dock-backing.json
+ * the front scanner sees a cage 2 m ahead and the rear one (the last frame)
+ * the dock wall behind; the plan of the rear frame still holds the cage
+ * (remembered), which the rear frame alone does not. Both plans keep every
+ * promise about the last frame's returns (plan_and_check).
+ */
+static void test_frames_remembered(void **state)
+{
+    const char *path = lc_test_source_path("scenarios/requests/dock-backing.json");
+    tally t = {0};
+    plan_and_check(path, &t);
+    int both = obstacle_vertices_in(1.9, 2.7);
+    char *text = lc_test_slurp(path);
+    assert_non_null(text);
+    cJSON *req = cJSON_Parse(text);
+    assert_non_null(req);
+    free(text);
+    cJSON_DeleteItemFromArray(cJSON_GetObjectItemCaseSensitive(req, "frames"), 0);
+    char *rear = cJSON_PrintUnformatted(req);
+    cJSON_Delete(req);
+    lc_test_write_file(lc_test_tmp("rear.json"), rear, strlen(rear));
+    free(rear);
+    plan_and_check(lc_test_tmp("rear.json"), &t);
+    int rear_only = obstacle_vertices_in(1.9, 2.7);
+    print_message("cage vertices: %d planned after the front frame, %d from the rear alone\n",
+                  both, rear_only);
+    assert_true(both >= 3);
+    assert_int_equal(rear_only, 0);
+    assert_int_equal(t.regions, 2);
+}
+
 /* Bad usage: exit 2, one line naming what is wrong. */
 static void test_bad_usage(void **state)
 {
@@ -527,6 +623,7 @@ int main(void)
         cmocka_unit_test(test_simulated_frames),
         cmocka_unit_test(test_stdin_and_repeat),
         cmocka_unit_test(test_bad_requests),
+        cmocka_unit_test(test_frames_remembered),
         cmocka_unit_test(test_unknown_key_warned),
         cmocka_unit_test(test_bad_usage),
     };
