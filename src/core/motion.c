@@ -429,7 +429,15 @@ static bool uni_safe(const uni_ctx *c, double v, double w)
 }
 
 /* The polar law with the limits on v and w, keeping its curvature. */
-static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double *v_d, double *w_d)
+double lc_motion_keep_turning(double alpha, double w0)
+{
+    if (fabs(alpha) > LC_PI - LC_MOTION_TURN_KEEP && fabs(w0) > 1e-3 && alpha * w0 < 0)
+        return alpha < 0 ? alpha + 2.0 * LC_PI : alpha - 2.0 * LC_PI;
+    return alpha;
+}
+
+static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double w0, double *v_d,
+                            double *w_d)
 {
     const lc_robot *robot = c->robot;
     lc_vec2 d = lc_sub(target, lc_v2(c->pose.x, c->pose.y));
@@ -438,7 +446,7 @@ static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double *v_d, doubl
     if (rho <= LC_MOTION_TINY)
         return LC_LIMIT_NONE;
     double bearing = atan2(d.y, d.x);
-    double alpha = lc_wrap_angle(bearing - c->pose.yaw);
+    double alpha = lc_motion_keep_turning(lc_wrap_angle(bearing - c->pose.yaw), w0);
     double dir = 1.0;
     if (robot->reverse && fabs(alpha) > 0.5 * LC_PI) {
         dir = -1.0;                         /* drive the rear at the target */
@@ -543,7 +551,7 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
     uni_ctx c = {robot, params, region, pose};
     double v0 = last ? last->v : 0.0, w0 = last ? last->w : 0.0;
     double v_d, w_d;
-    lc_limit limit = uni_desired(&c, target_world, &v_d, &w_d);
+    lc_limit limit = uni_desired(&c, target_world, w0, &v_d, &w_d);
 
     double vlo, vhi, wlo, whi;
     rate_window(v0, robot->a_max * dt, robot->reverse ? -robot->v_max : 0.0, robot->v_max,

@@ -72,6 +72,16 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
 double lc_stopping_distance(double v, double t_r, double a);
 
 /*
+ * The heading error alpha (wrapped to [-pi, pi]) to steer by, given the last
+ * turn rate w0: a target almost straight behind (within LC_MOTION_TURN_KEEP
+ * of pi) is turned to the way the robot already turns, so that range noise
+ * cannot flip the turn from side to side and leave a unicycle rocking in
+ * place (it did, in a doorway facing away from its next waypoint).
+ */
+#define LC_MOTION_TURN_KEEP 0.5 /* rad */
+double lc_motion_keep_turning(double alpha, double w0);
+
+/*
  * The polar point-stabilisation law (Siegwart, Nourbakhsh, Scaramuzza, 3.6):
  * v = k_rho rho, w = k_alpha alpha + k_beta beta, before any limit.
  */

@@ -37,6 +37,7 @@ struct lc_session {
     lc_vec2 *gather;
     int cap_gather;
     lc_region region;
+    lc_region region_alt; /* a second region of the frame (plan_region's retry) */
     lc_region_ws rws;
     lc_steer_ws steer; /* the braking region the motion law sees */
     /* the frame driver (lc_session_drive) */
@@ -44,6 +45,8 @@ struct lc_session {
     bool driven;     /* a frame has been driven: prev_stamp and last_reply hold */
     double prev_stamp;
     bool resting;    /* stopped outside a frame: the next one starts from rest */
+    lc_setpoint before; /* the velocity the last driven frame started from */
+    double before_dt;   /* and the period it was given */
     lc_reply last_reply;
     /* guidance's stall watch: the best way still to go and since when */
     bool stall_on;
@@ -93,6 +96,7 @@ lc_session *lc_session_new(const lc_robot *robot, const lc_plan_config *cfg,
     lc_polyset_init(&s->obstacles, &s->alloc);
     lc_polyset_init(&s->grown, &s->alloc);
     lc_region_init(&s->region, &s->alloc);
+    lc_region_init(&s->region_alt, &s->alloc);
     lc_region_ws_init(&s->rws, &s->alloc);
     lc_segment_ws_init(&s->seg_recall, &s->alloc);
     lc_polyset_init(&s->frontier, &s->alloc);
@@ -152,6 +156,7 @@ void lc_session_free(lc_session *s)
     LC_RELEASE(a, s->gather, s->cap_gather);
     lc_steer_ws_free(&s->steer);
     lc_region_free(&s->region);
+    lc_region_free(&s->region_alt);
     lc_region_ws_free(&s->rws);
     lc_alloc keep = s->alloc;
     keep.realloc(keep.data, s, 0);
@@ -341,12 +346,12 @@ static double nearest_clearance(const lc_session *s, lc_vec2 c)
     return sqrt(best2) - s->robot.radius;
 }
 
-static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp,
-                       lc_plan_result *out)
+static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp, bool seeded,
+                       lc_region *dst, lc_plan_result *out)
 {
     lc_region_input in = {.grown = &s->grown,
                           .centre = lc_v2(f->pose.x, f->pose.y),
-                          .has_waypoint = has_wp,
+                          .has_waypoint = has_wp && seeded,
                           .waypoint = wp,
                           .window = window_half_side(s, f)};
     if (s->cfg.region.blind_line) {
@@ -364,10 +369,10 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
                                                         in.blind);
     }
     lc_region_info info;
-    int rc = lc_region_inflate(&in, &s->cfg.region, &s->cfg.ellipse, &s->rws, &s->region, &info,
+    int rc = lc_region_inflate(&in, &s->cfg.region, &s->cfg.ellipse, &s->rws, dst, &info,
                                &s->clock);
-    out->stage_us[LC_STAGE_ELLIPSE] = info.ellipse_us;
-    out->ellipse_iterations = info.ellipse_iterations;
+    out->stage_us[LC_STAGE_ELLIPSE] += info.ellipse_us;
+    out->ellipse_iterations += info.ellipse_iterations;
     return rc;
 }
 
@@ -471,6 +476,60 @@ static lc_vec2 path_target(const lc_region *r, const lc_guide_path *p, lc_vec2 c
     }
     *rest = 0.0;
     return a;
+}
+
+/*
+ * The region reaches toward a point along the path (the goal seed); where
+ * the path turns through a narrow gap that seed can give a needle of a
+ * region along the seed's line that the path leaves at once (a unicycle
+ * in a doorway, off the path's line, was held there for good). When the
+ * target is that near, the region is inflated again from the robot alone,
+ * and kept when the path's target in it lies farther along the path.
+ */
+#define LC_SESSION_SHORT_REACH 0.25 /* m */
+
+static void retry_unseeded(lc_session *s, const lc_frame *f, lc_vec2 seek, lc_patrol_way *way,
+                           lc_plan_result *out)
+{
+    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    if (plan_region(s, f, true, seek, false, &s->region_alt, out) != LC_OK)
+        return;
+    double rest;
+    lc_vec2 target = path_target(&s->region_alt, out->path, c, &rest);
+    if (!(rest < way->to_go_target - 1e-9))
+        return;
+    lc_region t = s->region;
+    s->region = s->region_alt;
+    s->region_alt = t;
+    out->target = target;
+    way->to_go_target = rest;
+}
+
+/*
+ * A path may run along the very edge of the region (the search's cells
+ * beside a grown obstacle, a cell's width off its true border), and the
+ * walk then leaves the region at once. Then the target is the farthest of
+ * the path's points up to LC_SESSION_HUG_AHEAD along it whose closest
+ * point in the region is within LC_SESSION_HUG_SLACK of it: that closest
+ * point, the path's line followed just inside the region.
+ */
+#define LC_SESSION_HUG_AHEAD 2.0 /* m */
+#define LC_SESSION_HUG_SLACK 0.1 /* m, a search cell */
+#define LC_SESSION_HUG_SAMPLES 8
+
+static void hug_path(const lc_region *r, const lc_guide_path *p, lc_vec2 c, lc_patrol_way *way,
+                     lc_plan_result *out)
+{
+    for (int k = LC_SESSION_HUG_SAMPLES; k >= 1; k--) {
+        double ahead = LC_SESSION_HUG_AHEAD * k / LC_SESSION_HUG_SAMPLES, rest;
+        lc_vec2 q = lc_guide_ahead(p, c, ahead, &rest);
+        lc_vec2 t = lc_region_project(r, q);
+        if (lc_dist(t, q) <= LC_SESSION_HUG_SLACK && lc_dist(t, c) > lc_dist(out->target, c)) {
+            out->target = t;
+            way->to_go_target = lc_max(0.0, rest - ahead);
+            return;
+        }
+    }
 }
 
 /*
@@ -590,7 +649,9 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     if (has_wp && guide_frame(s, c, wp, &seek, &way, out) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_GUIDE, &t);
-    int rc = plan_region(s, frame, has_wp, seek, out);
+    out->stage_us[LC_STAGE_ELLIPSE] = 0.0;
+    out->ellipse_iterations = 0;
+    int rc = plan_region(s, frame, has_wp, seek, true, &s->region, out);
     stamp_stage(s, out, LC_STAGE_REGION, &t);
     out->stage_us[LC_STAGE_REGION] -= out->stage_us[LC_STAGE_ELLIPSE];
     if (rc == LC_ERR_NO_MEMORY)
@@ -602,6 +663,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->has_target = has_wp;
         if (has_wp && way.guided) {
             out->target = path_target(&s->region, out->path, c, &way.to_go_target);
+            if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)
+                retry_unseeded(s, frame, seek, &way, out);
+            if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)
+                hug_path(&s->region, out->path, c, &way, out);
             s->path_ref = out->path;
             watch_stall(s, frame->stamp, &way, c, out->target);
         }
@@ -634,10 +699,22 @@ const lc_control *lc_session_control(const lc_session *s) { return &s->control; 
 int lc_session_drive(lc_session *s, const lc_frame *frame, lc_plan_result *out,
                      lc_reply *reply)
 {
-    double dt = lc_control_dt(&s->control, !s->driven, s->prev_stamp, frame->stamp);
-    if (s->resting) {
-        s->last = lc_setpoint_stop(LC_LIMIT_STALE);
-        s->resting = false;
+    double dt;
+    if (s->driven && !s->resting && frame->stamp == s->prev_stamp) {
+        /* A frame stamped like the one before (another sensor's, taken at
+         * the same instant) revises that frame's setpoint: the same start
+         * and period, so that two answers at one instant never add up to
+         * two periods' change of velocity. */
+        s->last = s->before;
+        dt = s->before_dt;
+    } else {
+        dt = lc_control_dt(&s->control, !s->driven, s->prev_stamp, frame->stamp);
+        if (s->resting) {
+            s->last = lc_setpoint_stop(LC_LIMIT_STALE);
+            s->resting = false;
+        }
+        s->before = s->last;
+        s->before_dt = dt;
     }
     int rc = lc_session_step(s, frame, dt, out);
     s->driven = true;

@@ -132,7 +132,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
  * serve, replay, sim), so that what is replayed is what ran. It takes the
  * step's period from the control settings (control.h), starts from rest
  * after lc_session_stop, steps the session and fills the reply that answers
- * the frame. Returns what lc_session_step returns; the reply is filled
+ * the frame. A frame stamped exactly like the previous one (several sensors
+ * sampled at one instant) revises the previous reply: it starts from the
+ * velocity and with the period that frame had, so the rate limits hold per
+ * instant, not per frame. Returns what lc_session_step returns; the reply is filled
  * either way (a stop when out of memory).
  */
 int lc_session_drive(lc_session *s, const lc_frame *frame, lc_plan_result *out,

@@ -26,7 +26,7 @@ void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *param
     lc_vec2 d = lc_sub(target, lc_v2(pose.x, pose.y));
     if (robot->model != LC_MODEL_UNICYCLE || !(lc_len(d) > 1e-6) || !(dt > 0))
         return;
-    double alpha = lc_wrap_angle(atan2(d.y, d.x) - pose.yaw);
+    double alpha = lc_motion_keep_turning(lc_wrap_angle(atan2(d.y, d.x) - pose.yaw), last->w);
     double w = params->k_alpha * alpha, w_max = robot->w_max, step = robot->dw_max * dt;
     w = w > w_max ? w_max : (w < -w_max ? -w_max : w);
     /* From a last w beyond w_max start at w_max, as the motion laws do. */

@@ -391,7 +391,7 @@ static void test_simulated_frames(void **state)
             }
             if (!strcmp(type, "scan") || !strcmp(type, "points")) {
                 cJSON_Delete(frame);
-                frame = frames++ % 25 == 0 ? j : NULL;
+                frame = frames++ % 15 == 0 ? j : NULL;
                 if (!frame)
                     cJSON_Delete(j);
                 continue;
