@@ -773,7 +773,30 @@
     }
   }
 
-  /* The footprint (a disc of the robot's radius), its margin, its heading. */
+  /* A polygon footprint at the pose as a canvas path, grown by m metres
+   * (edges moved out, corners rounded in four steps; 0: as it is). */
+  function footprintPath(fp, pose, yaw, m) {
+    var c = Math.cos(yaw), s = Math.sin(yaw), n = fp.length;
+    function world(p) { return [pose[0] + c * p[0] - s * p[1], pose[1] + s * p[0] + c * p[1]]; }
+    function normal(a, b) { /* outward normal of the CCW edge a -> b */
+      var dx = b[0] - a[0], dy = b[1] - a[1], l = Math.hypot(dx, dy) || 1;
+      return Math.atan2(-dx / l, dy / l);
+    }
+    ctx.beginPath();
+    for (var i = 0; i < n; i++) {
+      var p = world(fp[i]), a0 = normal(world(fp[(i + n - 1) % n]), p);
+      var a1 = normal(p, world(fp[(i + 1) % n]));
+      if (a1 < a0) a1 += 2 * Math.PI;
+      for (var k = 0; k <= (m > 0 ? 4 : 0); k++) {
+        var a = a0 + (a1 - a0) * k / 4, q = [sx(p[0] + m * Math.cos(a)), sy(p[1] + m * Math.sin(a))];
+        if (i === 0 && k === 0) ctx.moveTo(q[0], q[1]); else ctx.lineTo(q[0], q[1]);
+      }
+    }
+    ctx.closePath();
+  }
+
+  /* The footprint (a disc of the robot's radius, or its polygon), its
+   * margin, its heading. */
   function drawRobot(v, main, t) {
     var pose = v.pose;
     if (!Array.isArray(pose) || !finite(pose[0]) || !finite(pose[1]))
@@ -781,16 +804,26 @@
     var yaw = finite(pose[2]) ? pose[2] : 0;
     var radius = finite(v.radius) ? v.radius : 0.3;
     var margin = finite(v.margin) ? v.margin : 0;
+    var fp = Array.isArray(v.footprint) && v.footprint.length >= 3 ? v.footprint : null;
     var x = sx(pose[0]), y = sy(pose[1]);
     var rp = Math.max(9, radius * cam.scale);
     var bad = v.state === 'blocked' || v.state === 'stale' || v.state === 'too_close';
     if (main && margin > 0 && margin * cam.scale > 2) {
-      ctx.beginPath();
-      ctx.arc(x, y, rp + margin * cam.scale, 0, 2 * Math.PI);
+      if (fp) {
+        footprintPath(fp, pose, yaw, margin);
+      } else {
+        ctx.beginPath();
+        ctx.arc(x, y, rp + margin * cam.scale, 0, 2 * Math.PI);
+      }
       strokeWith(P.ink, 1.5, [3, 4]);
     }
-    ctx.beginPath();
-    ctx.arc(x, y, rp, 0, 2 * Math.PI);
+    if (fp) {
+      footprintPath(fp, pose, yaw, 0);
+      rp = Math.max(9, fp.reduce(function (r, p) { return Math.max(r, p[0]); }, 0) * cam.scale);
+    } else {
+      ctx.beginPath();
+      ctx.arc(x, y, rp, 0, 2 * Math.PI);
+    }
     ctx.fillStyle = main ? (bad ? P['robot-bad'] : P.robot) : P.other;
     ctx.fill();
     ctx.strokeStyle = P.ink;

@@ -577,8 +577,9 @@ static void mark_returns(lc_memory *m, const lc_cloud *cloud)
     }
 }
 
-/* The robot's own disc: free, seen now. */
-static void mark_body(lc_memory *m, lc_vec2 centre, double radius)
+/* The robot's own disc (body NULL), or the convex polygon body[0..n) in
+ * the disc (centre, radius) about it: free, seen now. */
+static void mark_body(lc_memory *m, lc_vec2 centre, double radius, const lc_vec2 *body, int n)
 {
     if (!(radius > 0))
         return;
@@ -591,13 +592,29 @@ static void mark_body(lc_memory *m, lc_vec2 centre, double radius)
     long jb = floor_div(lc_min(lc_max(centre.y + radius, y0), y0 + side), m->c);
     for (long j = ja; j <= jb; j++)
         for (long i = ia; i <= ib; i++) {
-            if (!in_window(m, i, j) ||
-                lc_dist(lc_memory_cell_centre(m, i, j), centre) > radius)
+            lc_vec2 cc = lc_memory_cell_centre(m, i, j);
+            if (!in_window(m, i, j) || lc_dist(cc, centre) > radius ||
+                (body && !lc_convex_contains(body, n, cc, 0.0)))
                 continue;
             size_t k = slot(m, i, j);
             m->ev[k] = 0;
             m->seen[k] = m->now;
         }
+}
+
+void lc_memory_mark_body(lc_memory *m, const lc_vec2 *body, int n)
+{
+    if (!m->placed || n < 3)
+        return;
+    lc_vec2 c = body[0];
+    for (int i = 1; i < n; i++)
+        c = lc_add(c, body[i]);
+    c = lc_scale(c, 1.0 / n);
+    double r = 0;
+    for (int i = 0; i < n; i++)
+        r = lc_max(r, lc_dist(c, body[i]));
+    if (lc_vec2_finite(c) && isfinite(r))
+        mark_body(m, c, r, body, n);
 }
 
 /*
@@ -639,7 +656,7 @@ int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
     fill_crossings(m, nv);
     fill_polygon(m);
     mark_returns(m, cloud);
-    mark_body(m, centre, body_radius);
+    mark_body(m, centre, body_radius, NULL, 0);
     sweep(m);
     m->updates++;
     return 0;

@@ -94,6 +94,15 @@ void lc_memory_clear(lc_memory *m);
 int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
                      double body_radius);
 
+/*
+ * A polygon footprint's body after lc_memory_update (given body_radius 0):
+ * the cells whose centres lie in the convex CCW polygon body[0..n) (world
+ * frame, the footprint at the frame's pose) are free, seen now. Like the
+ * disc's, only cells whose centre the body covers: never a cell that may
+ * hold something else.
+ */
+void lc_memory_mark_body(lc_memory *m, const lc_vec2 *body, int n);
+
 /* What the memory says of a cell. */
 typedef enum lc_cell_state {
     LC_CELL_UNKNOWN = 0, /* never seen, forgotten, or outside the window */

@@ -394,9 +394,142 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
 typedef struct uni_ctx {
     const lc_robot *robot;
     const lc_motion_params *params;
-    const lc_region *region;
+    const lc_region *region; /* for the centre; for a body the workspace */
     lc_pose pose;
+    int n_body;              /* 0: the centre is checked, else the footprint */
+    lc_vec2 body[LC_FOOTPRINT_MAX]; /* its vertices about the centre, world axes */
+    double body_r;           /* their farthest distance from the centre */
 } uni_ctx;
+
+static uni_ctx uni_ctx_of(const lc_robot *robot, const lc_motion_params *params,
+                          const lc_region *region, lc_pose pose, bool body)
+{
+    uni_ctx c = {.robot = robot, .params = params, .region = region, .pose = pose};
+    if (body && robot->n_footprint > 0) {
+        c.n_body = robot->n_footprint;
+        lc_footprint_place(robot->footprint, c.n_body, pose.yaw, false, c.body);
+        c.body_r = lc_footprint_circumradius(c.body, c.n_body);
+    }
+    return c;
+}
+
+/* ---- the footprint along the braking path ---------------------------- */
+
+/*
+ * max of a . R(t) e for t from 0 to turn (either sign), e_end = R(turn) e,
+ * |a| = 1: an end, or |e| where R(t) e points along a within the sweep
+ * (tested with cross products: the sweep from e to e_end holds a).
+ */
+static double rot_reach(lc_vec2 a, lc_vec2 e, lc_vec2 e_end, double turn)
+{
+    double top = lc_max(lc_dot(a, e), lc_dot(a, e_end));
+    if (turn < 0) {
+        lc_vec2 t = e;
+        e = e_end;
+        e_end = t;
+        turn = -turn;
+    }
+    bool passes = turn >= 2.0 * LC_PI ||
+                  (turn <= LC_PI ? lc_cross(e, a) >= 0 && lc_cross(a, e_end) >= 0
+                                 : !(lc_cross(e_end, a) > 0 && lc_cross(a, e) > 0));
+    return passes ? lc_max(top, lc_len(e)) : top;
+}
+
+/* The body's vertices about pivot q turning by `turn` as the rigid body
+ * they belong to: their offsets from q at the start and the end. */
+typedef struct body_turn {
+    lc_vec2 e[LC_FOOTPRINT_MAX], e_end[LC_FOOTPRINT_MAX];
+    int n;
+    double turn;
+} body_turn;
+
+static void body_turn_about(const uni_ctx *c, lc_vec2 q, double turn, body_turn *bt)
+{
+    lc_vec2 cs = lc_v2(cos(turn), sin(turn)), p = lc_v2(c->pose.x, c->pose.y);
+    bt->n = c->n_body;
+    bt->turn = turn;
+    for (int i = 0; i < c->n_body; i++) {
+        lc_vec2 e = lc_sub(lc_add(p, c->body[i]), q);
+        bt->e[i] = e;
+        bt->e_end[i] = lc_v2(cs.x * e.x - cs.y * e.y, cs.y * e.x + cs.x * e.y);
+    }
+}
+
+/* Least slack of the region's lines over the body turning about q (as set
+ * up in bt), the pivot itself free to lie anywhere within `spread` of q. */
+static double turn_margin(const lc_region *r, lc_vec2 q, double spread, const body_turn *bt)
+{
+    double m = INFINITY;
+    for (int k = 0; k < r->nh; k++) {
+        lc_vec2 a = r->h[k].a;
+        double top = -INFINITY;
+        for (int i = 0; i < bt->n; i++)
+            top = lc_max(top, rot_reach(a, bt->e[i], bt->e_end[i], bt->turn));
+        m = lc_min(m, r->h[k].b - lc_dot(a, q) - spread - top);
+    }
+    return m;
+}
+
+/* Heading change while w falls to 0 at dw_max after the latency (a full
+ * turn or more when it cannot fall). */
+static double braking_turn(const uni_ctx *c, double w)
+{
+    double dw = c->robot->dw_max;
+    double t = fabs(w) * c->params->latency + (dw > 0 ? w * w / (2.0 * dw) : INFINITY);
+    t = w == 0.0 ? 0.0 : lc_min(t, 2.0 * LC_PI);
+    return w < 0 ? -t : t;
+}
+
+/* Curvature below which an arc is taken as straight, its bend bounded. */
+#define LC_MOTION_STRAIGHT 1e-4 /* 1/m */
+
+/*
+ * The body's margin along the braking path of (v, w), the centre's cases
+ * of uni_margin with the footprint's rotation added:
+ *   - at rest (|v| tiny), the body turns about the centre by the heading
+ *     change braking w takes;
+ *   - holding the curvature, every point of the body turns about the
+ *     instantaneous centre of rotation by kappa s (exact per vertex and
+ *     line); nearly straight, the straight path plus a bound on the bend
+ *     (kappa s^2 / 2 of the centre, |kappa s| body_r of the footprint);
+ *   - not holding it, the centre stays in the disc of radius |v / w|
+ *     (Tait-Kneser) while the heading turns monotonically by braking_turn:
+ *     the body stays in that disc plus the footprint turned over that
+ *     range (support functions add), which is checked.
+ */
+static double body_margin(const uni_ctx *c, double v, double w)
+{
+    lc_vec2 p = {c->pose.x, c->pose.y};
+    body_turn bt;
+    if (fabs(v) <= LC_MOTION_TINY) {
+        body_turn_about(c, p, braking_turn(c, w), &bt);
+        return turn_margin(c->region, p, 0.0, &bt);
+    }
+    double kappa = w / v;
+    lc_vec2 left = lc_v2(-sin(c->pose.yaw), cos(c->pose.yaw));
+    if (fabs(kappa) * c->robot->a_max > c->robot->dw_max) {
+        double r = 1.0 / kappa;
+        lc_vec2 centre = lc_add(p, lc_scale(left, r));
+        /* offsets about p, which may be anywhere in the disc */
+        body_turn_about(c, p, braking_turn(c, w), &bt);
+        return turn_margin(c->region, centre, fabs(r), &bt);
+    }
+    double len = brake_length(c->robot, c->params, fabs(v)), s = v > 0 ? len : -len;
+    if (fabs(kappa) <= LC_MOTION_STRAIGHT) {
+        lc_vec2 u = lc_v2(cos(c->pose.yaw), sin(c->pose.yaw));
+        double bend = fabs(kappa) * s * s / 2.0 + fabs(kappa * s) * c->body_r;
+        double m = INFINITY;
+        for (int k = 0; k < c->region->nh; k++) {
+            lc_vec2 a = c->region->h[k].a;
+            double top = lc_dot(a, p) + lc_footprint_support(c->body, c->n_body, a);
+            m = lc_min(m, c->region->h[k].b - top - lc_max(0.0, s * lc_dot(a, u)) - bend);
+        }
+        return m;
+    }
+    lc_vec2 icr = lc_add(p, lc_scale(left, 1.0 / kappa));
+    body_turn_about(c, icr, kappa * s, &bt);
+    return turn_margin(c->region, icr, 0.0, &bt);
+}
 
 /*
  * Least margin along the braking path of (v, w). When the robot can hold the
@@ -410,6 +543,8 @@ typedef struct uni_ctx {
  */
 static double uni_margin(const uni_ctx *c, double v, double w)
 {
+    if (c->n_body > 0)
+        return body_margin(c, v, w);
     lc_vec2 p = {c->pose.x, c->pose.y};
     if (fabs(v) <= LC_MOTION_TINY)
         return lc_region_margin(c->region, p);
@@ -436,8 +571,11 @@ double lc_motion_keep_turning(double alpha, double w0)
     return alpha;
 }
 
-static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double w0, double *v_d,
-                            double *w_d)
+/* The polar law toward target with the limits on v and w; *alpha the
+ * heading error it steers by. in_place: a large error turns in place (else
+ * the law's own arc, its curvature kept). */
+static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double w0, bool in_place,
+                            double *v_d, double *w_d, double *alpha_out)
 {
     const lc_robot *robot = c->robot;
     lc_vec2 d = lc_sub(target, lc_v2(c->pose.x, c->pose.y));
@@ -452,10 +590,11 @@ static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double w0, double 
         dir = -1.0;                         /* drive the rear at the target */
         alpha = lc_wrap_angle(alpha + LC_PI);
     }
+    *alpha_out = alpha;
     double beta = 0.0; /* goal frame along the bearing: see the file comment */
     double v_law, w_law;
     lc_motion_polar(c->params, rho, alpha, beta, &v_law, &w_law);
-    if (fabs(alpha) > c->params->turn_in_place) {
+    if (in_place && fabs(alpha) > c->params->turn_in_place) {
         *w_d = clampd(w_law, -robot->w_max, robot->w_max);
         return LC_LIMIT_TURNING;
     }
@@ -541,17 +680,72 @@ static double uni_best_w(const uni_ctx *c, double v, double w, double v0, double
     return best;
 }
 
-int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
-                       const lc_region *region, lc_pose pose, lc_vec2 target_world,
-                       const lc_setpoint *last, double dt, lc_setpoint *out)
+/* The body turned in place by alpha (the whole turn to face the target)
+ * stays in the region. */
+static bool body_turn_free(const uni_ctx *c, double alpha)
+{
+    lc_vec2 p = {c->pose.x, c->pose.y};
+    body_turn bt;
+    body_turn_about(c, p, alpha, &bt);
+    return turn_margin(c->region, p, 0.0, &bt) >= -LC_MOTION_EPS;
+}
+
+/*
+ * A body with its target far off its heading turns in place only where the
+ * whole turn is free (its swept area, exact, in the workspace); it brakes
+ * straight first, since turning while it still rolls swings it off the line
+ * it came along, and in a corridor it only just turns round in, that line
+ * is where it fits. Where the turn is not free (a long robot in a doorway)
+ * it drives the polar law's arc instead, or on straight as far as that is
+ * safe (body_straight), to where it can turn.
+ */
+static lc_limit body_turn_policy(const uni_ctx *c, lc_vec2 target, double v0, double w0,
+                                 double dt, double alpha, double *v_d, double *w_d)
+{
+    if (!body_turn_free(c, alpha))
+        return uni_desired(c, target, w0, false, v_d, w_d, &alpha);
+    if (fabs(v0) > c->robot->a_max * dt)
+        *w_d = 0.0;
+    return LC_LIMIT_TURNING;
+}
+
+/*
+ * A body that may not turn where it is (turning swings its corners: into
+ * unseen space behind it, toward a wall beside it) may still drive on
+ * straight: the w of the window nearest 0 with the largest safe v up to
+ * v_c. False (nothing changed) for a centre, or when that is not safe
+ * either.
+ */
+static bool body_straight(const uni_ctx *c, double v_c, double v_stop, double wlo, double whi,
+                          double *v, double *w)
+{
+    double ws = clampd(0.0, wlo, whi);
+    if (c->n_body == 0)
+        return false;
+    if (uni_safe(c, v_c, ws)) {
+        *v = v_c;
+        *w = ws;
+        return true;
+    }
+    if (!uni_slow(c, v_c, v_stop, ws, v))
+        return false;
+    *w = ws;
+    return true;
+}
+
+static int unicycle_step(const lc_robot *robot, const lc_motion_params *params,
+                         const lc_region *region, lc_pose pose, lc_vec2 target_world,
+                         const lc_setpoint *last, double dt, bool body, lc_setpoint *out)
 {
     int rc = start_step(robot, params, region, pose, target_world, last, dt, false, out);
     if (rc < 0)
         return rc;
-    uni_ctx c = {robot, params, region, pose};
+    uni_ctx c = uni_ctx_of(robot, params, region, pose, body);
     double v0 = last ? last->v : 0.0, w0 = last ? last->w : 0.0;
-    double v_d, w_d;
-    lc_limit limit = uni_desired(&c, target_world, w0, &v_d, &w_d);
+    double v_d, w_d, alpha;
+    lc_limit limit = uni_desired(&c, target_world, w0, true, &v_d, &w_d, &alpha);
+    if (c.n_body > 0 && limit == LC_LIMIT_TURNING)
+        limit = body_turn_policy(&c, target_world, v0, w0, dt, alpha, &v_d, &w_d);
 
     double vlo, vhi, wlo, whi;
     rate_window(v0, robot->a_max * dt, robot->reverse ? -robot->v_max : 0.0, robot->v_max,
@@ -567,7 +761,7 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
     if (!uni_safe(&c, v, w)) {
         double v_stop = clampd(0.0, vlo, vhi);
         limit = LC_LIMIT_BRAKING;
-        if (!uni_slow(&c, v, v_stop, w, &v)) {
+        if (!uni_slow(&c, v, v_stop, w, &v) && !body_straight(&c, v, v_stop, wlo, whi, &v, &w)) {
             v = v_stop;
             w = uni_best_w(&c, v, w, v0, w0, wlo, whi);
         }
@@ -576,4 +770,33 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
     out->w = w;
     out->limit = limit;
     return LC_OK;
+}
+
+int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
+                       const lc_region *region, lc_pose pose, lc_vec2 target_world,
+                       const lc_setpoint *last, double dt, lc_setpoint *out)
+{
+    return unicycle_step(robot, params, region, pose, target_world, last, dt, false, out);
+}
+
+int lc_motion_unicycle_body(const lc_robot *robot, const lc_motion_params *params,
+                            const lc_region *workspace, lc_pose pose, lc_vec2 target_world,
+                            const lc_setpoint *last, double dt, lc_setpoint *out)
+{
+    if (!robot || robot->n_footprint <= 0) {
+        if (out)
+            *out = lc_setpoint_stop(LC_LIMIT_NONE);
+        return LC_ERR_BAD_INPUT;
+    }
+    return unicycle_step(robot, params, workspace, pose, target_world, last, dt, true, out);
+}
+
+double lc_motion_body_margin(const lc_robot *robot, const lc_motion_params *params,
+                             const lc_region *workspace, lc_pose pose, double v, double w)
+{
+    if (!robot || !params || !workspace || !isfinite(v) || !isfinite(w) || !isfinite(pose.x) ||
+        !isfinite(pose.y) || !isfinite(pose.yaw))
+        return NAN;
+    uni_ctx c = uni_ctx_of(robot, params, workspace, pose, true);
+    return uni_margin(&c, v, w);
 }

@@ -68,6 +68,36 @@ int lc_motion_unicycle(const lc_robot *robot, const lc_motion_params *params,
                        const lc_region *region, lc_pose pose, lc_vec2 target_world,
                        const lc_setpoint *last, double dt, lc_setpoint *out);
 
+/*
+ * The unicycle step for a robot with a polygon footprint (robot->n_footprint
+ * > 0; LC_ERR_BAD_INPUT otherwise): the law, limits and promises of
+ * lc_motion_unicycle, with "safe" meaning that the whole footprint, not the
+ * centre, stays in `workspace` at every pose of the braking path
+ * (lc_motion_body_margin >= -1e-9). `workspace` is a convex region of the
+ * plane, world frame, whose lines keep every obstacle grown by the margin
+ * outside (steer.h builds it from the region for the centre); unlike the
+ * centre's region it also bounds turning in place, which moves the body.
+ * The one promise that changes: a unicycle that can come to rest within
+ * one step has a safe successor only when braking its turn (w falling at
+ * dw_max after the latency) keeps the body inside.
+ */
+int lc_motion_unicycle_body(const lc_robot *robot, const lc_motion_params *params,
+                            const lc_region *workspace, lc_pose pose, lc_vec2 target_world,
+                            const lc_setpoint *last, double dt, lc_setpoint *out);
+
+/*
+ * The least slack (m) of the footprint's vertices in the halfspaces of
+ * workspace over the braking path of (v, w) from pose: holding them for
+ * params->latency, then braking at a_max (and dw_max) as lc_motion_unicycle
+ * assumes. At rest the body turns about its centre; on an arc every vertex
+ * turns about the instantaneous centre of rotation (exact per line); when
+ * the curvature cannot be held the disc of radius |v / w| tangent at the
+ * pose (Tait-Kneser) plus the footprint turned over the heading change is
+ * checked. Negative when the body leaves; NaN for unusable arguments.
+ */
+double lc_motion_body_margin(const lc_robot *robot, const lc_motion_params *params,
+                             const lc_region *workspace, lc_pose pose, double v, double w);
+
 /* Braking distance v^2 / (2 a) plus the distance driven during latency t_r. */
 double lc_stopping_distance(double v, double t_r, double a);
 

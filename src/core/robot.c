@@ -11,6 +11,8 @@
 
 #include <string.h>
 
+#include "status.h"
+
 void lc_robot_default(lc_robot *robot)
 {
     *robot = (lc_robot){
@@ -53,4 +55,42 @@ const lc_sensor_desc *lc_robot_sensor(const lc_robot *robot, const lc_frame *f)
         if (strcmp(robot->sensors[i].name, f->sensor) == 0)
             return &robot->sensors[i];
     return NULL;
+}
+
+int lc_robot_set_footprint(lc_robot *robot, const lc_vec2 *v, int n)
+{
+    if (n == 0) {
+        robot->n_footprint = 0;
+        return LC_OK;
+    }
+    int at;
+    if (lc_footprint_check(v, n, &at) != LC_FOOTPRINT_OK)
+        return LC_ERR_BAD_INPUT;
+    memcpy(robot->footprint, v, sizeof *v * (size_t)n);
+    robot->n_footprint = n;
+    robot->radius = lc_footprint_circumradius(v, n);
+    return LC_OK;
+}
+
+double lc_robot_inradius(const lc_robot *robot)
+{
+    return lc_robot_has_footprint(robot)
+               ? lc_footprint_inradius(robot->footprint, robot->n_footprint)
+               : robot->radius;
+}
+
+double lc_robot_reach_ahead(const lc_robot *robot)
+{
+    if (!lc_robot_has_footprint(robot))
+        return robot->radius;
+    return lc_footprint_support(robot->footprint, robot->n_footprint, lc_v2(1, 0));
+}
+
+int lc_robot_place_footprint(const lc_robot *robot, lc_pose pose, lc_vec2 *out)
+{
+    int n = robot->n_footprint;
+    lc_footprint_place(robot->footprint, n, pose.yaw, false, out);
+    for (int i = 0; i < n; i++)
+        out[i] = lc_add(out[i], lc_v2(pose.x, pose.y));
+    return n;
 }

@@ -1,14 +1,19 @@
 /*
  * robot.h - what the robot is and where it must go.
  *
- * All values SI. The footprint is a disc of `radius` about the robot centre;
- * `margin` is extra clearance kept on top of it. Waypoints are in the frame
- * the pose is given in (the "world" frame of a session).
+ * All values SI. The footprint is a disc of `radius` about the robot centre,
+ * or, when n_footprint > 0, the convex polygon footprint[0..n_footprint)
+ * (robot frame, about the rotation centre, footprint.h); `radius` is then
+ * the polygon's circumscribed radius (lc_robot_set_footprint keeps it so),
+ * the bound that code needing a disc takes. `margin` is extra clearance kept
+ * on top of either shape. Waypoints are in the frame the pose is given in
+ * (the "world" frame of a session).
  */
 #ifndef LC_ROBOT_H
 #define LC_ROBOT_H
 
 #include <stdbool.h>
+#include "footprint.h"
 #include "frame.h"
 #include "geom.h"
 
@@ -39,8 +44,10 @@ typedef struct lc_sensor_desc {
 
 typedef struct lc_robot {
     lc_model model;
-    double radius;  /* m, footprint disc */
+    double radius;  /* m, footprint disc; with a polygon its circumscribed radius */
     double margin;  /* m, clearance kept beyond the footprint */
+    lc_vec2 footprint[LC_FOOTPRINT_MAX]; /* m, robot frame, convex CCW (footprint.h) */
+    int n_footprint;                     /* 0: the disc of radius */
     double v_max;   /* m/s */
     double a_max;   /* m/s^2, also the braking deceleration assumed */
     double w_max;   /* rad/s */
@@ -65,11 +72,37 @@ void lc_sensor_desc_default(lc_sensor_desc *s, lc_frame_kind kind);
  * name. */
 const lc_sensor_desc *lc_robot_sensor(const lc_robot *robot, const lc_frame *f);
 
-/* Radius the obstacles are grown by: radius + margin. */
+/* Radius the obstacles are grown by: radius + margin (for a polygon, the
+ * disc it sweeps turning in place, plus the margin). */
 static inline double lc_robot_clearance(const lc_robot *robot)
 {
     return robot->radius + robot->margin;
 }
+
+static inline bool lc_robot_has_footprint(const lc_robot *robot)
+{
+    return robot->n_footprint > 0;
+}
+
+/*
+ * Gives the robot the polygon footprint v[0..n) (copied) and sets radius
+ * to its circumscribed radius; n == 0 returns it to the disc of the
+ * current radius. LC_OK, or LC_ERR_BAD_INPUT (robot unchanged) when
+ * lc_footprint_check finds a fault.
+ */
+int lc_robot_set_footprint(lc_robot *robot, const lc_vec2 *v, int n);
+
+/* The largest disc about the centre inside the footprint: radius, or the
+ * polygon's inscribed radius about (0, 0). */
+double lc_robot_inradius(const lc_robot *robot);
+
+/* How far the footprint reaches ahead of the centre (+x): radius, or the
+ * polygon's largest x. */
+double lc_robot_reach_ahead(const lc_robot *robot);
+
+/* The footprint at pose in the world frame into out (LC_FOOTPRINT_MAX
+ * vertices); returns its vertex count, 0 for a disc robot. */
+int lc_robot_place_footprint(const lc_robot *robot, lc_pose pose, lc_vec2 *out);
 
 #define LC_ROUTE_MAX 1024
 

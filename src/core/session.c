@@ -11,6 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "footprint.h"
 #include "grow.h"
 #include "hull.h"
 #include "recall.h"
@@ -36,6 +37,8 @@ struct lc_session {
     lc_polyset obstacles, grown;
     lc_vec2 *gather;
     int cap_gather;
+    lc_vec2 *body;  /* a polygon footprint grown, turned and reflected (grow_obstacles) */
+    int cap_body;
     lc_region region;
     lc_region region_alt; /* a second region of the frame (plan_region's retry) */
     lc_region_ws rws;
@@ -154,6 +157,7 @@ void lc_session_free(lc_session *s)
     lc_polyset_free(&s->obstacles);
     lc_polyset_free(&s->grown);
     LC_RELEASE(a, s->gather, s->cap_gather);
+    LC_RELEASE(a, s->body, s->cap_body);
     lc_steer_ws_free(&s->steer);
     lc_region_free(&s->region);
     lc_region_free(&s->region_alt);
@@ -245,15 +249,68 @@ static double cell_reach(const lc_session *s)
 }
 
 /*
+ * The polygon footprint grown by r (>= 0) into s->body, conservatively as
+ * grow.h grows obstacles, then turned to yaw and reflected through the
+ * centre: what an obstacle is summed with to be configuration space at
+ * that heading. Its vertex count, or -1 when out of memory.
+ */
+static int place_body(lc_session *s, double r, double yaw)
+{
+    const lc_robot *rb = &s->robot;
+    int cap = rb->n_footprint + s->grow_rule.extra; /* lc_grow_max_vertices */
+    if (LC_GROW(&s->alloc, s->body, s->cap_body, cap) < 0)
+        return -1;
+    int n = rb->n_footprint;
+    if (r > 0)
+        n = lc_grow_polygon_rule(rb->footprint, n, r, &s->grow_rule, s->body, cap);
+    else
+        memcpy(s->body, rb->footprint, sizeof *s->body * (size_t)n);
+    if (n < 0)
+        return -1; /* a valid footprint always grows */
+    lc_footprint_place(s->body, n, yaw, true, s->body);
+    return n;
+}
+
+/* Each polygon of set summed with the footprint grown by r at heading yaw
+ * (lc_minkowski_sum), appended to s->grown as grow_set appends. */
+static int sum_set(lc_session *s, const lc_polyset *set, double r, double yaw, int src0)
+{
+    int nb = place_body(s, r, yaw);
+    if (nb < 0)
+        return -1;
+    for (int j = 0; j < set->np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(set, j, &n);
+        int cap = lc_minkowski_max_vertices(n, nb);
+        if (lc_polyset_reserve(&s->grown, cap) < 0)
+            return -1;
+        int m = lc_minkowski_sum(v, n, s->body, nb, s->grown.v + s->grown.nv, cap);
+        int src = src0 >= 0 ? src0 + j : src0 - j;
+        if (m > 0 && lc_polyset_commit(&s->grown, m, src) < 0)
+            return -1;
+    }
+    return 0;
+}
+
+/*
  * The obstacles, seen now or remembered (where their returns fell), grown
  * by radius + margin; the frontier of the unknown (not obstacles: their
  * src is -1 - index) by half a cell's diagonal more: an unknown cell is a
- * square, not its centre.
+ * square, not its centre. A polygon footprint: configuration space at the
+ * frame's heading, each piece summed with the reflected footprint grown by
+ * the margin (and the half diagonal) instead.
  */
-static int grow_obstacles(lc_session *s)
+static int grow_obstacles(lc_session *s, double yaw)
 {
-    double r = lc_robot_clearance(&s->robot);
     lc_polyset_clear(&s->grown);
+    if (lc_robot_has_footprint(&s->robot)) {
+        double m = s->robot.margin;
+        if (sum_set(s, &s->obstacles, m, yaw, 0) < 0 ||
+            sum_set(s, &s->frontier, m + cell_reach(s), yaw, -1) < 0)
+            return -1;
+        return 0;
+    }
+    double r = lc_robot_clearance(&s->robot);
     if (grow_set(s, &s->obstacles, 0, r, 0) < 0 ||
         grow_set(s, &s->frontier, 0, r + cell_reach(s), -1) < 0)
         return -1;
@@ -313,13 +370,19 @@ static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
     lc_polyset_clear(&s->frontier);
     if (!s->mem)
         return 0;
-    if (lc_memory_update(s->mem, f, &s->cloud, s->robot.radius) < 0)
+    /* the body is free: a polygon's cells, else the disc's */
+    bool poly = lc_robot_has_footprint(&s->robot);
+    if (lc_memory_update(s->mem, f, &s->cloud, poly ? 0.0 : s->robot.radius) < 0)
         return -1;
+    if (poly) {
+        lc_vec2 body[LC_FOOTPRINT_MAX];
+        lc_memory_mark_body(s->mem, body, lc_robot_place_footprint(&s->robot, f->pose, body));
+    }
     out->memory = s->mem;
     double cell = s->cfg.memory.cell;
     lc_recall_input in = {.mem = s->mem,
                           .centre = lc_v2(f->pose.x, f->pose.y),
-                          .body = s->robot.radius,
+                          .body = lc_robot_inradius(&s->robot),
                           .fov = out->view_fov,
                           .view_mid = out->view_mid,
                           .reach = s->cfg.recall,
@@ -338,12 +401,26 @@ static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
     return 0;
 }
 
-static double nearest_clearance(const lc_session *s, lc_vec2 c)
+/*
+ * The distance from the footprint to the nearest kept return. A polygon:
+ * only returns no farther from the centre than the nearest one plus the
+ * circumscribed less the inscribed radius can be nearer the polygon.
+ */
+static double nearest_clearance(const lc_session *s, lc_pose pose)
 {
+    lc_vec2 c = lc_v2(pose.x, pose.y);
     double best2 = INFINITY; /* sqrt is monotone: the root of the least square */
     for (int i = 0; i < s->cloud.n; i++)
         best2 = lc_min(best2, lc_len2(lc_sub(s->cloud.world[i], c)));
-    return sqrt(best2) - s->robot.radius;
+    if (!lc_robot_has_footprint(&s->robot) || !(best2 < INFINITY))
+        return sqrt(best2) - s->robot.radius;
+    lc_vec2 body[LC_FOOTPRINT_MAX];
+    int n = lc_robot_place_footprint(&s->robot, pose, body);
+    double near = sqrt(best2) + s->robot.radius - lc_robot_inradius(&s->robot), best = INFINITY;
+    for (int i = 0; i < s->cloud.n; i++)
+        if (lc_len2(lc_sub(s->cloud.world[i], c)) <= near * near)
+            best = lc_min(best, lc_convex_distance(body, n, s->cloud.world[i], NULL));
+    return best;
 }
 
 static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp, bool seeded,
@@ -382,28 +459,39 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
     out->setpoint = lc_setpoint_stop(limit);
 }
 
+/* What the motion policy is given this frame (steer.h). */
+static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double dt,
+                                  const lc_plan_result *out)
+{
+    return (lc_steer_input){.robot = &s->robot,
+                            .params = &s->cfg.motion,
+                            .standoff = s->cfg.standoff,
+                            .region = &s->region,
+                            .grown = &s->grown,
+                            .obstacles = &s->obstacles,
+                            .pose = f->pose,
+                            .target = out->target,
+                            .waypoint = out->waypoint,
+                            .last = &s->last,
+                            .dt = dt};
+}
+
 static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
 {
-    lc_steer_input in = {.robot = &s->robot,
-                         .params = &s->cfg.motion,
-                         .standoff = s->cfg.standoff,
-                         .region = &s->region,
-                         .grown = &s->grown,
-                         .pose = f->pose,
-                         .target = out->target,
-                         .waypoint = out->waypoint,
-                         .last = &s->last,
-                         .dt = dt};
+    lc_steer_input in = steer_input(s, f, dt, out);
     lc_steer_drive(&in, &s->steer, &out->setpoint);
 }
 
 /* The clearance guidance keeps, from remembered cells' centres: the
  * robot's. The region keeps exact clearance from what is seen; guidance
  * only finds the way, and a way it finds up to half a cell too narrow is
- * given up when no progress follows. */
+ * given up when no progress follows. A polygon footprint: its inscribed
+ * radius (optimistic, so that a doorway a long robot passes lengthwise is
+ * searched through; the region and the motion keep the whole footprint
+ * clear). */
 static double guide_clearance(const lc_session *s)
 {
-    return lc_robot_clearance(&s->robot);
+    return lc_robot_inradius(&s->robot) + s->robot.margin;
 }
 
 /*
@@ -553,10 +641,14 @@ static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, l
         s->stall_wp = s->patrol.current;
         s->stall_best = way->to_go;
         s->stall_stamp = stamp;
+    } else if (lc_robot_has_footprint(&s->robot) && s->last.limit == LC_LIMIT_TURNING) {
+        /* a polygon unicycle brakes straight, then turns in place, before
+         * it heads back along its path (motion.c): not a stall */
+        s->stall_stamp = stamp;
     } else if (stamp - s->stall_stamp >= s->cfg.guide.stall) {
         /* where the path leaves the region, but never so near that the
          * refused disc would hold the robot itself */
-        double r = lc_robot_clearance(&s->robot);
+        double r = guide_clearance(s);
         double ahead = lc_max(lc_dist(c, target), r + 0.2);
         lc_vec2 spot = lc_guide_ahead(s->path_ref, c, ahead, NULL);
         lc_guide_refuse(s->guide, spot, r);
@@ -620,8 +712,8 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     double t_start = lc_clock_now(&s->clock), t = t_start;
 
     lc_ingest_config icfg = s->cfg.ingest;
-    if (!(icfg.self_radius > 0))
-        icfg.self_radius = s->robot.radius;
+    if (!(icfg.self_radius > 0)) /* a polygon: what surely is its body */
+        icfg.self_radius = lc_robot_inradius(&s->robot);
     icfg.z_min = fmax(icfg.z_min, s->robot.z_min); /* the narrower band wins */
     icfg.z_max = fmin(icfg.z_max, s->robot.z_max);
     lc_frame resolved = resolve_frame(s, frame, &icfg);
@@ -639,7 +731,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     if (remember(s, frame, out) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_MEMORY, &t);
-    if (grow_obstacles(s) < 0)
+    if (grow_obstacles(s, frame->pose.yaw) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_GROW, &t);
 
@@ -656,7 +748,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     out->stage_us[LC_STAGE_REGION] -= out->stage_us[LC_STAGE_ELLIPSE];
     if (rc == LC_ERR_NO_MEMORY)
         return -1;
-    out->clearance = nearest_clearance(s, c);
+    out->clearance = nearest_clearance(s, frame->pose);
     if (rc == LC_OK || rc == LC_REGION_TOO_CLOSE) {
         out->region = &s->region;
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
@@ -679,9 +771,9 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->waypoint = wp;
         out->waypoint_index = s->patrol.current;
         stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
-        if (out->has_target)
-            lc_steer_turn_in_place(&s->robot, &s->cfg.motion, frame->pose, out->target,
-                                   &s->last, dt, &out->setpoint);
+        lc_steer_input in = steer_input(s, frame, dt, out);
+        if (out->has_target && lc_steer_turn_in_place(&in, &s->steer, &out->setpoint) < 0)
+            return -1;
     } else {
         decide(s, frame, dt, &way, out);
     }

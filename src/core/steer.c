@@ -9,6 +9,8 @@
 
 #include <string.h>
 
+#include "footprint.h"
+
 void lc_steer_ws_init(lc_steer_ws *ws, const lc_alloc *alloc)
 {
     *ws = (lc_steer_ws){.alloc = alloc};
@@ -17,22 +19,109 @@ void lc_steer_ws_init(lc_steer_ws *ws, const lc_alloc *alloc)
 void lc_steer_ws_free(lc_steer_ws *ws)
 {
     LC_RELEASE(ws->alloc, ws->h, ws->cap_h);
+    LC_RELEASE(ws->alloc, ws->hw, ws->cap_hw);
 }
 
-void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *params,
-                            lc_pose pose, lc_vec2 target, const lc_setpoint *last, double dt,
-                            lc_setpoint *out)
+/*
+ * Distance from c to the bounding box of v[0..n): a lower bound of the
+ * distance to the polygon for the price of a min/max pass (most obstacles
+ * lie beyond the robot's reach; the exact distance to each was a tenth of
+ * a bench frame's instructions).
+ */
+static double box_distance(const lc_vec2 *v, int n, lc_vec2 c)
 {
-    lc_vec2 d = lc_sub(target, lc_v2(pose.x, pose.y));
-    if (robot->model != LC_MODEL_UNICYCLE || !(lc_len(d) > 1e-6) || !(dt > 0))
-        return;
+    double x0 = v[0].x, x1 = v[0].x, y0 = v[0].y, y1 = v[0].y;
+    for (int i = 1; i < n; i++) {
+        x0 = lc_min(x0, v[i].x);
+        x1 = lc_max(x1, v[i].x);
+        y0 = lc_min(y0, v[i].y);
+        y1 = lc_max(y1, v[i].y);
+    }
+    double dx = lc_max(0.0, lc_max(x0 - c.x, c.x - x1)), dy = lc_max(0.0, lc_max(y0 - c.y, c.y - y1));
+    return sqrt(dx * dx + dy * dy);
+}
+
+/* A unit direction from c toward the nearest point of v[0..n). */
+static lc_vec2 toward(const lc_vec2 *v, int n, lc_vec2 c)
+{
+    lc_vec2 q;
+    lc_convex_distance(v, n, c, &q);
+    lc_vec2 a = lc_sub(q, c);
+    double l = lc_len(a);
+    return l > 0 ? lc_scale(a, 1.0 / l) : lc_v2(1, 0);
+}
+
+/*
+ * The lines that keep a turning footprint off the obstacles near it: for
+ * each obstacle within reach, the line separating it from the footprint,
+ * pulled in to the margin from it, or to where the footprint is when it is
+ * nearer (a turn may then come no nearer). An obstacle that overlaps the
+ * footprint gets the footprint's own supporting line toward it. Into
+ * ws->hw; the count, or -1 when out of memory.
+ */
+static int turn_lines(const lc_steer_input *in, lc_steer_ws *ws, const lc_vec2 *body, int nb)
+{
+    const lc_polyset *obs = in->obstacles;
+    lc_vec2 c = lc_v2(in->pose.x, in->pose.y);
+    double m = in->robot->margin, reach = in->robot->radius + m;
+    if (!obs || obs->np == 0)
+        return 0;
+    if (LC_GROW(ws->alloc, ws->hw, ws->cap_hw, obs->np) < 0)
+        return -1;
+    int n = 0;
+    for (int j = 0; j < obs->np; j++) {
+        int nv;
+        const lc_vec2 *pv = lc_polyset_at(obs, j, &nv);
+        if (box_distance(pv, nv, c) > reach)
+            continue;
+        lc_halfspace h;
+        double gap = lc_convex_separate(body, nb, pv, nv, &h);
+        if (gap < 0) {
+            lc_vec2 a = toward(pv, nv, c);
+            h = (lc_halfspace){a, lc_footprint_support(body, nb, a)};
+            gap = 0.0;
+        }
+        ws->hw[n++] = (lc_halfspace){h.a, h.b - lc_min(m, gap)};
+    }
+    return n;
+}
+
+/* The braked turn of w keeps the footprint within the turn lines. */
+static bool turn_allowed(const lc_steer_input *in, const lc_motion_params *mp,
+                         const lc_halfspace *h, int n, double w)
+{
+    lc_region r = {.h = (lc_halfspace *)h, .nh = n};
+    return n == 0 || lc_motion_body_margin(in->robot, mp, &r, in->pose, 0.0, w) >= -1e-9;
+}
+
+int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
+{
+    const lc_robot *robot = in->robot;
+    lc_pose pose = in->pose;
+    lc_vec2 d = lc_sub(in->target, lc_v2(pose.x, pose.y));
+    if (robot->model != LC_MODEL_UNICYCLE || !(lc_len(d) > 1e-6) || !(in->dt > 0))
+        return 0;
+    const lc_setpoint *last = in->last;
     double alpha = lc_motion_keep_turning(lc_wrap_angle(atan2(d.y, d.x) - pose.yaw), last->w);
-    double w = params->k_alpha * alpha, w_max = robot->w_max, step = robot->dw_max * dt;
+    double w = in->params->k_alpha * alpha, w_max = robot->w_max, step = robot->dw_max * in->dt;
     w = w > w_max ? w_max : (w < -w_max ? -w_max : w);
     /* From a last w beyond w_max start at w_max, as the motion laws do. */
     double w0 = last->w > w_max ? w_max : (last->w < -w_max ? -w_max : last->w);
     double lo = w0 - step, hi = w0 + step;
-    out->w = w < lo ? lo : (w > hi ? hi : w);
+    w = w < lo ? lo : (w > hi ? hi : w);
+    if (lc_robot_has_footprint(robot)) {
+        lc_vec2 body[LC_FOOTPRINT_MAX];
+        int nb = lc_robot_place_footprint(robot, pose, body);
+        int n = turn_lines(in, ws, body, nb);
+        if (n < 0)
+            return -1;
+        lc_motion_params mp = *in->params;
+        mp.latency = fmax(mp.latency, in->dt);
+        if (!turn_allowed(in, &mp, ws->hw, n, w))
+            w = lo > 0 ? lo : (hi < 0 ? hi : 0.0); /* brake the turn */
+    }
+    out->w = w;
+    return 0;
 }
 
 /*
@@ -53,25 +142,6 @@ void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *param
  * stop and start. NULL when out of memory.
  */
 #define PARK_REACH 1.0 /* m */
-
-/*
- * Distance from c to the bounding box of v[0..n): a lower bound of the
- * distance to the polygon for the price of a min/max pass (most obstacles
- * lie beyond the robot's reach; the exact distance to each was a tenth of
- * a bench frame's instructions).
- */
-static double box_distance(const lc_vec2 *v, int n, lc_vec2 c)
-{
-    double x0 = v[0].x, x1 = v[0].x, y0 = v[0].y, y1 = v[0].y;
-    for (int i = 1; i < n; i++) {
-        x0 = lc_min(x0, v[i].x);
-        x1 = lc_max(x1, v[i].x);
-        y0 = lc_min(y0, v[i].y);
-        y1 = lc_max(y1, v[i].y);
-    }
-    double dx = lc_max(0.0, lc_max(x0 - c.x, c.x - x1)), dy = lc_max(0.0, lc_max(y0 - c.y, c.y - y1));
-    return sqrt(dx * dx + dy * dy);
-}
 
 static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c,
                                       lc_vec2 aim, lc_region *out)
@@ -150,6 +220,69 @@ static lc_vec2 slide_aim(const lc_region *mr, lc_vec2 c, lc_vec2 aim)
     return aim;
 }
 
+/* Some line of r keeps all of v[0..n) out (on or beyond it). */
+static bool kept_out(const lc_region *r, const lc_vec2 *v, int n)
+{
+    for (int k = 0; k < r->nh; k++) {
+        int i = 0;
+        while (i < n && lc_dot(r->h[k].a, v[i]) >= r->h[k].b - 1e-12)
+            i++;
+        if (i == n)
+            return true;
+    }
+    return false;
+}
+
+/* The line h for the centre moved out by the footprint's reach along it. */
+static lc_halfspace for_body(lc_halfspace h, const lc_vec2 *off, int n)
+{
+    return (lc_halfspace){h.a, h.b + lc_footprint_support(off, n, h.a)};
+}
+
+/*
+ * The workspace region of a unicycle with a polygon footprint (see
+ * lc_steer_drive): mr's lines and the separating lines of the grown
+ * obstacles within reach that none of them keeps out, each moved out by
+ * the footprint at the pose's heading. Reach: the longest braking path
+ * (or the widest Tait-Kneser disc) and the circumscribed radius; an
+ * obstacle farther than that from the centre (grown, it lies farther than
+ * the obstacle itself: the centre is inside the footprint) no body on a
+ * braking path can meet. NULL when out of memory.
+ */
+static const lc_region *workspace_region(const lc_steer_input *in, const lc_motion_params *mp,
+                                         lc_steer_ws *ws, const lc_region *mr, lc_region *out)
+{
+    const lc_robot *robot = in->robot;
+    const lc_region *r = in->region;
+    lc_vec2 c = lc_v2(in->pose.x, in->pose.y), off[LC_FOOTPRINT_MAX];
+    int nb = robot->n_footprint;
+    lc_footprint_place(robot->footprint, nb, in->pose.yaw, false, off);
+    double v = robot->v_max, path = lc_stopping_distance(v, mp->latency, robot->a_max);
+    double disc = robot->dw_max > 0 ? 2.0 * robot->a_max / robot->dw_max : INFINITY;
+    double reach = lc_max(path, disc) + robot->radius + 1e-6;
+    if (LC_GROW(ws->alloc, ws->hw, ws->cap_hw, mr->nh + in->grown->np) < 0)
+        return NULL;
+    int n = 0;
+    for (int k = 0; k < mr->nh; k++)
+        ws->hw[n++] = for_body(mr->h[k], off, nb);
+    for (int j = 0; j < in->grown->np; j++) {
+        int nv;
+        const lc_vec2 *pv = lc_polyset_at(in->grown, j, &nv);
+        if (box_distance(pv, nv, c) > reach || kept_out(mr, pv, nv))
+            continue;
+        lc_halfspace h;
+        if (lc_convex_separate(r->v, r->nv, pv, nv, &h) < 0) {
+            /* the region holds part of it (it should not): the body may
+             * not move toward it at all */
+            lc_vec2 a = toward(pv, nv, c);
+            h = (lc_halfspace){a, lc_dot(a, c)};
+        }
+        ws->hw[n++] = for_body(h, off, nb);
+    }
+    *out = (lc_region){.h = ws->hw, .nh = n};
+    return out;
+}
+
 int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
 {
     lc_motion_params mp = *in->params;
@@ -160,10 +293,14 @@ int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
     const lc_region *mr = motion_region(in, ws, c, aim, &shrunk);
     if (mr && mr != in->region)
         aim = slide_aim(mr, c, aim);
-    int rc = !mr ? -1
-             : in->robot->model == LC_MODEL_UNICYCLE
-                 ? lc_motion_unicycle(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out)
-                 : lc_motion_point(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out);
+    bool uni = in->robot->model == LC_MODEL_UNICYCLE;
+    bool body = uni && lc_robot_has_footprint(in->robot);
+    lc_region work;
+    const lc_region *wr = mr && body ? workspace_region(in, &mp, ws, mr, &work) : NULL;
+    int rc = !mr || (body && !wr) ? -1
+             : body ? lc_motion_unicycle_body(in->robot, &mp, wr, in->pose, aim, in->last, in->dt, out)
+             : uni  ? lc_motion_unicycle(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out)
+                    : lc_motion_point(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out);
     if (rc < 0)
         *out = lc_setpoint_stop(LC_LIMIT_NONE);
     return rc < 0 ? -1 : 0;

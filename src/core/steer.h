@@ -26,6 +26,8 @@ typedef struct lc_steer_ws {
     const lc_alloc *alloc;
     lc_halfspace *h; /* the braking region's lines */
     int cap_h;
+    lc_halfspace *hw; /* a footprint's workspace lines */
+    int cap_hw;
 } lc_steer_ws;
 
 void lc_steer_ws_init(lc_steer_ws *ws, const lc_alloc *alloc);
@@ -36,7 +38,11 @@ typedef struct lc_steer_input {
     const lc_motion_params *params;
     double standoff;           /* m, how far off the grown obstacles it keeps (plan config) */
     const lc_region *region;   /* the free region of this frame */
-    const lc_polyset *grown;   /* the obstacles grown by radius + margin */
+    const lc_polyset *grown;   /* the obstacles grown by radius + margin (a polygon
+                                  footprint: by it, reflected, at the pose's heading,
+                                  and the margin), the frontier among them */
+    const lc_polyset *obstacles; /* as seen and remembered, not grown (a footprint's
+                                    turn in place is checked against them) */
     lc_pose pose;              /* robot in the world */
     lc_vec2 target;            /* the waypoint or its closest point in the region */
     lc_vec2 waypoint;
@@ -47,17 +53,34 @@ typedef struct lc_steer_input {
 /*
  * The setpoint toward the target. Returns 0, or -1 when out of memory or
  * the motion law refused its arguments (then *out is a stop, limit none).
+ *
+ * A unicycle with a polygon footprint is checked as a body
+ * (lc_motion_unicycle_body) in a workspace region: the motion region's
+ * lines (for the centre, at the pose's heading) each moved out by the
+ * footprint's reach along its normal, which keeps outside every grown
+ * obstacle the line kept from the centre; and, for each grown obstacle
+ * within the braking reach that no single line keeps out (by a corner of
+ * the region), the line that separates it from the region
+ * (lc_convex_separate), moved out the same way. The region's centres
+ * with the footprint at the heading then lie in the workspace, whose
+ * lines keep every obstacle the body can reach at least the margin away,
+ * whatever its heading: a body inside it at every pose of the braking
+ * path touches nothing.
  */
 int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
 
 /*
- * too_close for a unicycle: no translation, but turning in place moves no
- * part of a disc footprint, so it turns toward the target, rate limited
- * from last->w: writes out->w and leaves the rest of *out. Nothing for the
- * point model, a target at the robot, or dt <= 0.
+ * too_close for a unicycle: no translation, but it may turn toward the
+ * target, rate limited from last->w: writes out->w and leaves the rest of
+ * *out. Turning in place moves no part of a disc footprint. A polygon
+ * footprint turns only where its turn, braked as lc_motion_body_margin
+ * takes it, comes no nearer to any obstacle (in->obstacles, within its
+ * circumscribed radius and the margin) than the margin or, when nearer
+ * already, than it is; else its w brakes toward 0. Nothing for the point
+ * model, a target at the robot, or dt <= 0. Uses in->robot, params, pose,
+ * target, last, dt, obstacles; -1 when out of memory (out->w untouched), 0
+ * otherwise.
  */
-void lc_steer_turn_in_place(const lc_robot *robot, const lc_motion_params *params,
-                            lc_pose pose, lc_vec2 target, const lc_setpoint *last, double dt,
-                            lc_setpoint *out);
+int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
 
 #endif

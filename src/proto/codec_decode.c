@@ -69,9 +69,9 @@ static int grow_or_fail(const lc_alloc *alloc, double **p, int *cap, int need,
 
 /* ------------------------------------------------------ object decoders */
 
-static const char *const robot_keys[] = {"type", "model", "radius", "margin", "v_max",
-                                         "a_max", "w_max", "dw_max", "reverse", "z_min", "z_max",
-                                         "sensors", NULL};
+static const char *const robot_keys[] = {"type", "model", "radius", "footprint", "margin",
+                                         "v_max", "a_max", "w_max", "dw_max", "reverse", "z_min",
+                                         "z_max", "sensors", NULL};
 
 /* z_min < z_max, else an error naming path.z_max. */
 static int band_ok(const char *path, double z_min, double z_max, lc_wire_error *err)
@@ -143,6 +143,73 @@ static int sensors_field(const cJSON *obj, const char *path, lc_robot *out, lc_w
                       &out->n_sensors, err);
 }
 
+static int vertex_item(const cJSON *it, const char *name, int i, void *ctx, lc_wire_error *err)
+{
+    lc_vec2 *v = ctx;
+    return lc_wire_vec2_from_json(it, name, &v[i], err) != 0 ? -1 : 0;
+}
+
+/* What lc_footprint_check found, as an error naming the vertex at fault. */
+static int footprint_fault(const char *path, lc_footprint_fault f, int at, lc_wire_error *err)
+{
+    char key[32];
+    snprintf(key, sizeof key, "footprint[%d]", at);
+    switch (f) {
+    case LC_FOOTPRINT_FAR:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, key,
+                          "must lie within %g m of the rotation centre", LC_FOOTPRINT_REACH);
+    case LC_FOOTPRINT_REPEATED:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, key,
+                          "repeats the vertex before it (edges of at least %g m)",
+                          LC_FOOTPRINT_EDGE_MIN);
+    case LC_FOOTPRINT_NOT_CONVEX:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, key,
+                          "the outline turns right or back here: the footprint must be convex");
+    case LC_FOOTPRINT_COLLINEAR:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, key,
+                          "lies on the line through its neighbours: leave it out");
+    case LC_FOOTPRINT_CLOCKWISE:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "footprint",
+                          "runs clockwise: list the vertices counter-clockwise");
+    case LC_FOOTPRINT_SELF_CROSSING:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "footprint",
+                          "winds round more than once: the outline crosses itself");
+    case LC_FOOTPRINT_CENTRE_OUTSIDE:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "footprint",
+                          "must hold the rotation centre (0, 0) inside");
+    default:
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "footprint",
+                          "must hold %d to %d vertices", LC_FOOTPRINT_MIN, LC_FOOTPRINT_MAX);
+    }
+}
+
+/*
+ * "footprint": a valid polygon footprint (footprint.h), or absent (the
+ * disc). With one, "radius" is left out or is its circumscribed radius
+ * (within LC_WIRE_RADIUS_AGREE): it then always is.
+ */
+#define LC_WIRE_RADIUS_AGREE 1e-3 /* m */
+static int footprint_field(const cJSON *obj, const char *path, bool has_radius, lc_robot *out,
+                           lc_wire_error *err)
+{
+    int rc, n, at;
+    if (!lc_jr_member(obj, path, "footprint", false, &rc, err))
+        return rc;
+    lc_vec2 v[LC_FOOTPRINT_MAX];
+    if (lc_jr_each(obj, path, "footprint", LC_FOOTPRINT_MIN, LC_FOOTPRINT_MAX, "vertices",
+                   vertex_item, v, &n, err) < 0)
+        return -1;
+    lc_footprint_fault f = lc_footprint_check(v, n, &at);
+    if (f != LC_FOOTPRINT_OK)
+        return footprint_fault(path, f, at, err);
+    double r = lc_footprint_circumradius(v, n);
+    if (has_radius && !(fabs(out->radius - r) <= LC_WIRE_RADIUS_AGREE))
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "radius",
+                          "with a footprint, leave it out or give its circumscribed radius "
+                          "(%.4f m)", r);
+    return lc_robot_set_footprint(out, v, n) == LC_OK ? 0 : -1;
+}
+
 int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
                             lc_wire_error *err)
 {
@@ -154,7 +221,8 @@ int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
     if (lc_jr_choice(obj, path, "model", false, lc_wire_model_names, 2, &model, err) < 0)
         return -1;
     out->model = (lc_model)model;
-    if (lc_wire_number_field(obj, path, "radius", false, &lc_jr_pos, &out->radius, err) < 0 ||
+    int has_radius = lc_wire_number_field(obj, path, "radius", false, &lc_jr_pos, &out->radius, err);
+    if (has_radius < 0 || footprint_field(obj, path, has_radius == 1, out, err) < 0 ||
         lc_wire_number_field(obj, path, "margin", false, &lc_jr_nonneg, &out->margin, err) < 0 ||
         lc_wire_number_field(obj, path, "v_max", false, &lc_jr_pos, &out->v_max, err) < 0 ||
         lc_wire_number_field(obj, path, "a_max", false, &lc_jr_pos, &out->a_max, err) < 0 ||

@@ -94,6 +94,10 @@ void lc_wire_robot_members(lc_wire_text *t, const lc_robot *m)
     lc_jw_kv_str(t, "type", "robot");
     lc_wire_kv_model(t, m->model);
     lc_jw_kv_num(t, "radius", m->radius, -1);
+    if (m->n_footprint > 0) {
+        lc_jw_key(t, "footprint");
+        lc_jw_vec2_list(t, m->footprint, m->n_footprint, -1);
+    }
     lc_jw_kv_num(t, "margin", m->margin, -1);
     lc_jw_kv_num(t, "v_max", m->v_max, -1);
     lc_jw_kv_num(t, "a_max", m->a_max, -1);

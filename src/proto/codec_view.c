@@ -196,6 +196,10 @@ int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m)
     lc_jw_kv_num(t, "stamp", m->result ? m->stamp : NAN, -1);
     lc_wire_kv_model(t, model);
     lc_jw_kv_num(t, "radius", m->desc ? m->desc->radius : NAN, dec);
+    if (m->desc && m->desc->n_footprint > 0) { /* the polygon drawn instead of the disc */
+        lc_jw_key(t, "footprint");
+        lc_jw_vec2_list(t, m->desc->footprint, m->desc->n_footprint, dec);
+    }
     lc_jw_kv_num(t, "margin", m->desc ? m->desc->margin : NAN, dec);
     /* the limits the panel's "why this speed" names */
     lc_jw_kv_num(t, "v_max", m->desc ? m->desc->v_max : NAN, dec);

@@ -92,19 +92,23 @@ void lc_world_scan(const lc_world *w, lc_pose pose, const lc_sensor *s, lc_sim_r
     }
 }
 
+/* p inside the closed ring v[0..n) (ray parity; never for n < 3). */
+static bool ring_inside(const lc_vec2 *v, int n, lc_vec2 p)
+{
+    bool in = false;
+    for (int i = 0, k = n - 1; n >= 3 && i < n; k = i++)
+        if ((v[i].y > p.y) != (v[k].y > p.y) &&
+            p.x < (v[k].x - v[i].x) * (p.y - v[i].y) / (v[k].y - v[i].y) + v[i].x)
+            in = !in;
+    return in;
+}
+
 bool lc_world_inside(const lc_world *w, lc_vec2 p)
 {
     for (int j = 0; j < w->polys.np; j++) {
         int n;
         const lc_vec2 *v = lc_polyset_at(&w->polys, j, &n);
-        if (n < 3)
-            continue;
-        bool in = false;
-        for (int i = 0, k = n - 1; i < n; k = i++)
-            if ((v[i].y > p.y) != (v[k].y > p.y) &&
-                p.x < (v[k].x - v[i].x) * (p.y - v[i].y) / (v[k].y - v[i].y) + v[i].x)
-                in = !in;
-        if (in)
+        if (ring_inside(v, n, p))
             return true;
     }
     return false;
@@ -122,4 +126,101 @@ double lc_world_distance(const lc_world *w, lc_vec2 p)
             best = fmin(best, lc_segment_distance(p, v[i], v[(i + 1) % n], NULL));
     }
     return best;
+}
+
+/* ------------------------------------------- a polygon footprint */
+
+typedef struct box {
+    double x0, y0, x1, y1;
+} box;
+
+static box box_of(const lc_vec2 *v, int n)
+{
+    box b = {v[0].x, v[0].y, v[0].x, v[0].y};
+    for (int i = 1; i < n; i++)
+        b = (box){fmin(b.x0, v[i].x), fmin(b.y0, v[i].y), fmax(b.x1, v[i].x), fmax(b.y1, v[i].y)};
+    return b;
+}
+
+static double box_gap(box a, box b)
+{
+    double dx = fmax(0.0, fmax(a.x0 - b.x1, b.x0 - a.x1));
+    double dy = fmax(0.0, fmax(a.y0 - b.y1, b.y0 - a.y1));
+    return hypot(dx, dy);
+}
+
+/* Segments [a, b] and [c, d] share a point. */
+static bool segments_meet(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
+{
+    double d1 = lc_cross(lc_sub(b, a), lc_sub(c, a)), d2 = lc_cross(lc_sub(b, a), lc_sub(d, a));
+    double d3 = lc_cross(lc_sub(d, c), lc_sub(a, c)), d4 = lc_cross(lc_sub(d, c), lc_sub(b, c));
+    if (((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0)))
+        return true;
+    return lc_segment_distance(c, a, b, NULL) == 0 || lc_segment_distance(d, a, b, NULL) == 0 ||
+           lc_segment_distance(a, c, d, NULL) == 0 || lc_segment_distance(b, c, d, NULL) == 0;
+}
+
+static double segments_distance(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
+{
+    if (segments_meet(a, b, c, d))
+        return 0.0;
+    return fmin(fmin(lc_segment_distance(c, a, b, NULL), lc_segment_distance(d, a, b, NULL)),
+                fmin(lc_segment_distance(a, c, d, NULL), lc_segment_distance(b, c, d, NULL)));
+}
+
+/* Distance from p to the boundary of ring or segment v[0..n). */
+static double boundary_distance(const lc_vec2 *v, int n, lc_vec2 p)
+{
+    double best = INFINITY;
+    for (int i = 0; i < edge_count(n); i++)
+        best = fmin(best, lc_segment_distance(p, v[i], v[(i + 1) % n], NULL));
+    return best;
+}
+
+/* How deep the convex foot[0..nf) and the world polygon v[0..n) overlap:
+ * the deepest vertex of either inside the other, at least 1e-9; 0 when
+ * they do not. */
+static double overlap_depth(const lc_vec2 *foot, int nf, const lc_vec2 *v, int n)
+{
+    double depth = 0.0;
+    bool meet = false;
+    for (int i = 0; i < nf; i++)
+        if (ring_inside(v, n, foot[i])) {
+            meet = true;
+            depth = fmax(depth, boundary_distance(v, n, foot[i]));
+        }
+    for (int i = 0; i < n; i++)
+        if (lc_convex_contains(foot, nf, v[i], 0.0)) {
+            meet = true;
+            depth = fmax(depth, boundary_distance(foot, nf, v[i]));
+        }
+    for (int i = 0; !meet && i < nf; i++)
+        for (int k = 0; k < edge_count(n); k++)
+            meet = meet || segments_meet(foot[i], foot[(i + 1) % nf], v[k], v[(k + 1) % n]);
+    return meet ? fmax(depth, 1e-9) : 0.0;
+}
+
+double lc_world_polygon_distance(const lc_world *w, const lc_vec2 *foot, int nf)
+{
+    if (nf < 3)
+        return NAN;
+    box fb = box_of(foot, nf);
+    double best = INFINITY, depth = 0.0;
+    for (int j = 0; j < w->polys.np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(&w->polys, j, &n);
+        double gap = box_gap(fb, box_of(v, n));
+        if (gap > 0 && gap >= best)
+            continue;
+        double d = overlap_depth(foot, nf, v, n);
+        if (d > 0) {
+            depth = fmax(depth, d);
+            continue;
+        }
+        for (int i = 0; i < nf; i++)
+            for (int k = 0; k < edge_count(n); k++)
+                best = fmin(best, segments_distance(foot[i], foot[(i + 1) % nf], v[k],
+                                                    v[(k + 1) % n]));
+    }
+    return depth > 0 ? -depth : best;
 }

@@ -64,4 +64,12 @@ double lc_world_distance(const lc_world *w, lc_vec2 p);
 /* True when p lies inside a closed polygon of the world (ray parity). */
 bool lc_world_inside(const lc_world *w, lc_vec2 p);
 
+/*
+ * The least distance between the convex polygon foot[0..nf) (a footprint
+ * at its pose, nf >= 3) and the world's polygons; when it overlaps one,
+ * minus how deep (the deepest vertex of either inside the other, at least
+ * 1e-9 m). INFINITY for an empty world, NaN for nf < 3.
+ */
+double lc_world_polygon_distance(const lc_world *w, const lc_vec2 *foot, int nf);
+
 #endif

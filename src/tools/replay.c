@@ -361,7 +361,9 @@ static int write_svg(const replay *r, const lc_scenario_header *h)
     lc_svg_scene scene = {.title = h->description[0] ? h->description : r->o->file,
                           .world = NULL,
                           .route = lc_session_route(r->s),
-                          .radius = lc_session_robot(r->s)->radius};
+                          .radius = lc_session_robot(r->s)->radius,
+                          .footprint = lc_session_robot(r->s)->footprint,
+                          .n_footprint = lc_session_robot(r->s)->n_footprint};
     int rc = lc_svg_write(f, &r->svg, &scene);
     if (fclose(f) != 0 || rc < 0)
         return lc_cli_fail("replay", "cannot write %s", r->o->svg);

@@ -9,8 +9,10 @@
  * control period, 1 / rate, with a single sensor), integrated in substeps
  * of at most 1 ms: the point model moves by its robot-frame
  * velocity rotated into the world (its heading never changes), the unicycle
- * drives the exact arc of (v, w). After every substep the footprint disc is
- * checked against the world: clearance = lc_world_distance - radius; a
+ * drives the exact arc of (v, w). After every substep the footprint is
+ * checked against the world: a disc's clearance is lc_world_distance -
+ * radius, a polygon's the least distance between it and the world's
+ * polygons (lc_world_polygon_distance, negative when they overlap); a
  * collision is each time the clearance goes below zero.
  *
  * The run ends when the route is done (a looping route: once its last
@@ -297,7 +299,12 @@ static int parse_args(int argc, char **argv, sim_opts *o)
 
 static double clearance_at(const sim *sm, lc_pose p)
 {
-    return lc_world_distance(&sm->world, lc_v2(p.x, p.y)) - sm->h->robot.radius;
+    const lc_robot *r = &sm->h->robot;
+    if (lc_robot_has_footprint(r)) {
+        lc_vec2 foot[LC_FOOTPRINT_MAX];
+        return lc_world_polygon_distance(&sm->world, foot, lc_robot_place_footprint(r, p, foot));
+    }
+    return lc_world_distance(&sm->world, lc_v2(p.x, p.y)) - r->radius;
 }
 
 static void check_contact(sim *sm)
@@ -595,7 +602,9 @@ static int write_svg(sim *sm)
     lc_svg_scene scene = {.title = sm->h->description[0] ? sm->h->description : sm->o->file,
                           .world = &sm->world.polys,
                           .route = &sm->h->route,
-                          .radius = sm->h->robot.radius};
+                          .radius = sm->h->robot.radius,
+                          .footprint = sm->h->robot.footprint,
+                          .n_footprint = sm->h->robot.n_footprint};
     int rc = lc_svg_write(f, &sm->svg, &scene);
     if (fclose(f) != 0 || rc < 0)
         return lc_cli_fail("sim", "cannot write %s", sm->o->svg);

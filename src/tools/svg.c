@@ -264,22 +264,39 @@ static void put_route(FILE *out, const view *v, const lc_route *route)
     fputs("</g>\n", out);
 }
 
-static void put_footprint(FILE *out, const view *v, lc_pose p, double radius, const char *what)
+/* The footprint at pose p: the disc of radius, or the polygon sc gives,
+ * with a line from the centre to its front. */
+static void put_footprint(FILE *out, const view *v, lc_pose p, const lc_svg_scene *sc,
+                          const char *what)
 {
-    double r = fmax(radius * v->scale, 2.0);
-    fprintf(out,
-            "<g class=\"%s\"><circle cx=\"%.2f\" cy=\"%.2f\" r=\"%.2f\"/>"
-            "<line x1=\"%.2f\" y1=\"%.2f\" x2=\"%.2f\" y2=\"%.2f\"/></g>\n",
-            what, px(v, p.x), py(v, p.y), r, px(v, p.x), py(v, p.y),
-            px(v, p.x + radius * cos(p.yaw)), py(v, p.y + radius * sin(p.yaw)));
+    double radius = sc->radius, ahead = radius;
+    if (!sc->footprint || sc->n_footprint < 3) {
+        fprintf(out, "<g class=\"%s\"><circle cx=\"%.2f\" cy=\"%.2f\" r=\"%.2f\"/>", what,
+                px(v, p.x), py(v, p.y), fmax(radius * v->scale, 2.0));
+    } else {
+        fprintf(out, "<g class=\"%s\"><polygon points=\"", what);
+        ahead = 0;
+        for (int i = 0; i < sc->n_footprint; i++) {
+            lc_vec2 q = lc_pose_apply(p, sc->footprint[i]);
+            fprintf(out, "%s%.2f,%.2f", i ? " " : "", px(v, q.x), py(v, q.y));
+            ahead = fmax(ahead, sc->footprint[i].x);
+        }
+        fputs("\"/>", out);
+    }
+    fprintf(out, "<line x1=\"%.2f\" y1=\"%.2f\" x2=\"%.2f\" y2=\"%.2f\"/></g>\n", px(v, p.x),
+            py(v, p.y), px(v, p.x + ahead * cos(p.yaw)), py(v, p.y + ahead * sin(p.yaw)));
 }
 
-static void put_robot(FILE *out, const view *v, const lc_svg_run *run, double radius)
+static void put_robot(FILE *out, const view *v, const lc_svg_run *run, const lc_svg_scene *sc,
+                      int stride)
 {
     fputs("<g id=\"robot\" fill=\"#0969da\" fill-opacity=\"0.3\" stroke=\"#0969da\">\n", out);
     if (run->n > 0) {
-        put_footprint(out, v, run->pose[0], radius, "start");
-        put_footprint(out, v, run->pose[run->n - 1], radius, "end");
+        if (sc->footprint && sc->n_footprint >= 3)
+            for (int i = run->every * stride; i < run->n - 1; i += run->every * stride)
+                put_footprint(out, v, run->pose[i], sc, "pose");
+        put_footprint(out, v, run->pose[0], sc, "start");
+        put_footprint(out, v, run->pose[run->n - 1], sc, "end");
     }
     fputs("</g>\n", out);
 }
@@ -356,7 +373,7 @@ int lc_svg_write(FILE *out, const lc_svg_run *run, const lc_svg_scene *sc)
     put_last(out, &v, run);
     put_trajectory(out, &v, run);
     put_route(out, &v, sc->route);
-    put_robot(out, &v, run, sc->radius);
+    put_robot(out, &v, run, sc, stride);
     put_clearance(out, &v, run);
     fputs("</svg>\n", out);
     return ferror(out) ? -1 : 0;

@@ -7,7 +7,7 @@
  * "world" (only with a world), "seen", "regions", "paths" (guidance),
  * "last" (the last frame's region, grown obstacles, path and target: where a
  * run that did not arrive ended), "trajectory", "route", "robot" (footprint
- * at start and end), "clearance". World coordinates are
+ * at start and end; a polygon footprint also at each snapshot), "clearance". World coordinates are
  * metres (y up); the picture flips them into SVG's y-down pixels.
  *
  * Ownership: the recorder owns copies of what it keeps (malloc); the scene's
@@ -53,6 +53,9 @@ typedef struct lc_svg_scene {
     const lc_polyset *world; /* NULL: no world layer */
     const lc_route *route;   /* NULL: no waypoints */
     double radius;           /* m, footprint */
+    const lc_vec2 *footprint; /* a polygon footprint (robot frame; NULL: the disc of
+                                 radius), drawn at start, end and each snapshot */
+    int n_footprint;
 } lc_svg_scene;
 
 /* Writes the picture; 0, or -1 on a write error. */

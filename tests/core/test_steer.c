@@ -32,6 +32,18 @@ static lc_region box_region(lc_vec2 c, double h)
     return r;
 }
 
+/* lc_steer_turn_in_place as the session calls it, without obstacles. */
+static void turn(const lc_robot *robot, const lc_motion_params *mp, lc_pose pose, lc_vec2 target,
+                 const lc_setpoint *last, double dt, lc_setpoint *out)
+{
+    lc_steer_ws ws;
+    lc_steer_ws_init(&ws, NULL);
+    lc_steer_input in = {.robot = robot, .params = mp, .pose = pose, .target = target,
+                         .last = last, .dt = dt};
+    assert_int_equal(lc_steer_turn_in_place(&in, &ws, out), 0);
+    lc_steer_ws_free(&ws);
+}
+
 static void test_turn_in_place(void **state)
 {
     (void)state;
@@ -44,29 +56,29 @@ static void test_turn_in_place(void **state)
     lc_pose pose = {0, 0, 0};
     /* target to the left: k_alpha * pi/2 is far beyond w_max; from rest the
      * rate limit binds: dw_max * dt */
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, 1), &last, 0.1, &out);
+    turn(&robot, &mp, pose, lc_v2(0, 1), &last, 0.1, &out);
     assert_near(out.w, 2.0 * 0.1, 1e-12);
     assert_true(out.v == 0 && out.limit == LC_LIMIT_TOO_CLOSE);
     /* from w_last = 0.95 the w_max cap binds */
     last.w = 0.95;
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, 1), &last, 0.1, &out);
+    turn(&robot, &mp, pose, lc_v2(0, 1), &last, 0.1, &out);
     assert_near(out.w, 1.0, 1e-12);
     /* a small heading error: the law itself, k_alpha * alpha */
     last.w = 0;
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(1, 0.01), &last, 1.0, &out);
+    turn(&robot, &mp, pose, lc_v2(1, 0.01), &last, 1.0, &out);
     assert_near(out.w, mp.k_alpha * atan2(0.01, 1), 1e-12);
     /* to the right, from a last w beyond w_max (a lowered description) */
     last.w = 5;
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, -1), &last, 0.1, &out);
+    turn(&robot, &mp, pose, lc_v2(0, -1), &last, 0.1, &out);
     assert_near(out.w, 1.0 - 0.2, 1e-12);
     /* nothing for the point model, a target at the robot, dt <= 0, NaN dt */
     out.w = 42;
     robot.model = LC_MODEL_POINT;
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, 1), &last, 0.1, &out);
+    turn(&robot, &mp, pose, lc_v2(0, 1), &last, 0.1, &out);
     robot.model = LC_MODEL_UNICYCLE;
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, 0), &last, 0.1, &out);
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, 1), &last, 0, &out);
-    lc_steer_turn_in_place(&robot, &mp, pose, lc_v2(0, 1), &last, NAN, &out);
+    turn(&robot, &mp, pose, lc_v2(0, 0), &last, 0.1, &out);
+    turn(&robot, &mp, pose, lc_v2(0, 1), &last, 0, &out);
+    turn(&robot, &mp, pose, lc_v2(0, 1), &last, NAN, &out);
     assert_true(out.w == 42);
 }
 
