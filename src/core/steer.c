@@ -249,7 +249,7 @@ static lc_halfspace for_body(lc_halfspace h, const lc_vec2 *off, int n)
  * the obstacle itself: the centre is inside the footprint) no body on a
  * braking path can meet. NULL when out of memory.
  */
-static const lc_region *workspace_region(const lc_steer_input *in, const lc_motion_params *mp,
+static const lc_region *workspace_region(const lc_steer_input *in, double latency,
                                          lc_steer_ws *ws, const lc_region *mr, lc_region *out)
 {
     const lc_robot *robot = in->robot;
@@ -257,7 +257,7 @@ static const lc_region *workspace_region(const lc_steer_input *in, const lc_moti
     lc_vec2 c = lc_v2(in->pose.x, in->pose.y), off[LC_FOOTPRINT_MAX];
     int nb = robot->n_footprint;
     lc_footprint_place(robot->footprint, nb, in->pose.yaw, false, off);
-    double v = robot->v_max, path = lc_stopping_distance(v, mp->latency, robot->a_max);
+    double v = robot->v_max, path = lc_stopping_distance(v, latency, robot->a_max);
     double disc = robot->dw_max > 0 ? 2.0 * robot->a_max / robot->dw_max : INFINITY;
     double reach = lc_max(path, disc) + robot->radius + 1e-6;
     if (LC_GROW(ws->alloc, ws->hw, ws->cap_hw, mr->nh + in->grown->np) < 0)
@@ -283,6 +283,14 @@ static const lc_region *workspace_region(const lc_steer_input *in, const lc_moti
     return out;
 }
 
+int lc_steer_workspace(const lc_steer_input *in, lc_steer_ws *ws, lc_region *out)
+{
+    if (!lc_robot_has_footprint(in->robot) || !in->region || !in->grown)
+        return -1;
+    double latency = fmax(in->params->latency, in->dt);
+    return workspace_region(in, latency, ws, in->region, out) ? 0 : -1;
+}
+
 int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
 {
     lc_motion_params mp = *in->params;
@@ -296,7 +304,7 @@ int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
     bool uni = in->robot->model == LC_MODEL_UNICYCLE;
     bool body = uni && lc_robot_has_footprint(in->robot);
     lc_region work;
-    const lc_region *wr = mr && body ? workspace_region(in, &mp, ws, mr, &work) : NULL;
+    const lc_region *wr = mr && body ? workspace_region(in, mp.latency, ws, mr, &work) : NULL;
     int rc = !mr || (body && !wr) ? -1
              : body ? lc_motion_unicycle_body(in->robot, &mp, wr, in->pose, aim, in->last, in->dt, out)
              : uni  ? lc_motion_unicycle(in->robot, &mp, mr, in->pose, aim, in->last, in->dt, out)

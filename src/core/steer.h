@@ -70,6 +70,14 @@ typedef struct lc_steer_input {
 int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
 
 /*
+ * That workspace region, built from in->region itself (lc_steer_drive
+ * builds it from the region it brakes in, the standoff taken off), into
+ * *out (its lines in ws, valid until ws is used again; no vertices). 0, or
+ * -1 for a robot without a polygon footprint, no region, or out of memory.
+ */
+int lc_steer_workspace(const lc_steer_input *in, lc_steer_ws *ws, lc_region *out);
+
+/*
  * too_close for a unicycle: no translation, but it may turn toward the
  * target, rate limited from last->w: writes out->w and leaves the rest of
  * *out. Turning in place moves no part of a disc footprint. A polygon

@@ -7,7 +7,9 @@
  * ed., 3.6, from memory), closed-form kinematics of constant (v, w) arcs and
  * of constant deceleration. Braking paths are simulated here (straight line
  * in closed form, arcs by RK4), independently of motion.c, on random convex
- * regions built from tangent lines of random ellipses (fixed seeds).
+ * regions built from tangent lines of random ellipses (fixed seeds). A
+ * polygon footprint's braking path is simulated the same way, its vertices
+ * placed at every sampled pose (rigid motion, closed form).
  */
 #include "testutil.h"
 
@@ -16,6 +18,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "footprint.h"
 #include "motion.h"
 
 #define MAXH 16
@@ -1184,6 +1187,231 @@ static void test_unicycle_closed_loop(void **state)
     assert_true(reached > quiet * 3 / 4);
 }
 
+/* ---- a polygon footprint (lc_motion_unicycle_body) -------------------- */
+
+/* A random convex footprint about the origin (the rotation centre inside). */
+static int random_footprint(lc_rng *rng, lc_vec2 *v)
+{
+    for (;;) {
+        int n = 3 + (int)(lc_rng_next(rng) % 8);
+        lc_vec2 off = lc_v2(lc_rng_uniform(rng, -0.1, 0.1), lc_rng_uniform(rng, -0.1, 0.1));
+        lc_test_random_convex(rng, off, lc_rng_uniform(rng, 0.15, 0.7), n, v);
+        int at;
+        if (lc_footprint_check(v, n, &at) == LC_FOOTPRINT_OK)
+            return n;
+    }
+}
+
+/* The test's own margin of a body at pose: least slack over its vertices. */
+static double body_margin_at(const test_region *t, const lc_robot *r, double x, double y,
+                             double th)
+{
+    double m = INFINITY;
+    for (int i = 0; i < r->n_footprint; i++)
+        m = fmin(m, margin_of(t, lc_pose_apply((lc_pose){x, y, th}, r->footprint[i])));
+    return m;
+}
+
+/*
+ * The body's least margin along its braking path, integrated by RK4: (v, w)
+ * held for t_r, then v falls at a_max and w either keeps w / v (the robot
+ * can hold the curvature) or falls at dw_max, by itself at rest; sampled at
+ * n steps of each part.
+ */
+static double body_brake_margin(const test_region *t, lc_pose pose, double v, double w,
+                                const lc_robot *r, double t_r, int n)
+{
+    ustate s = {pose.x, pose.y, pose.yaw};
+    double m = body_margin_at(t, r, s.x, s.y, s.th);
+    for (int k = 0; k < n && t_r > 0; k++) {
+        s = rk4(s, v, w, v, w, t_r / n);
+        m = fmin(m, body_margin_at(t, r, s.x, s.y, s.th));
+    }
+    bool hold = fabs(v) > 1e-12 && fabs(w / v) * r->a_max <= r->dw_max;
+    double tv = fabs(v) / r->a_max, tw = fabs(w) / r->dw_max;
+    double tb = hold ? tv : fmax(tv, tw), h = tb / n;
+    for (int k = 0; k < n && tb > 0; k++) {
+        double ta = tb * k / n, tc = tb * (k + 1) / n;
+        double va = copysign(fmax(fabs(v) - r->a_max * ta, 0), v);
+        double vb = copysign(fmax(fabs(v) - r->a_max * tc, 0), v);
+        double wa = hold ? w / v * va : copysign(fmax(fabs(w) - r->dw_max * ta, 0), w);
+        double wb = hold ? w / v * vb : copysign(fmax(fabs(w) - r->dw_max * tc, 0), w);
+        s = rk4(s, va, wa, vb, wb, h);
+        m = fmin(m, body_margin_at(t, r, s.x, s.y, s.th));
+    }
+    return m;
+}
+
+/* A random body robot at a pose where its footprint lies in t (false: none found). */
+static bool random_body_case(lc_rng *rng, test_region *t, lc_robot *r, lc_motion_params *p,
+                             double *dt, lc_pose *pose)
+{
+    make_random_region(rng, t);
+    random_uni_robot(rng, r, p, dt);
+    lc_vec2 fp[LC_FOOTPRINT_MAX];
+    int n = random_footprint(rng, fp);
+    assert_int_equal(lc_robot_set_footprint(r, fp, n), LC_OK);
+    for (int k = 0; k < 50; k++) {
+        lc_vec2 c;
+        if (!sample_inside(rng, t, r->radius * 0.3, &c))
+            return false;
+        *pose = (lc_pose){c.x, c.y, lc_rng_uniform(rng, -LC_PI, LC_PI)};
+        if (body_margin_at(t, r, c.x, c.y, pose->yaw) > 1e-6)
+            return true;
+    }
+    return false;
+}
+
+/*
+ * lc_motion_body_margin against the body's braking path simulated here:
+ * never above it (conservative); on a constant-curvature arc and turning
+ * at rest exact (within what 2000 samples and the straight-arc bound of
+ * kappa s^2 / 2 + |kappa s| r leave).
+ */
+static void test_body_margin_against_simulation(void **state)
+{
+    (void)state;
+    lc_rng rng;
+    lc_rng_seed(&rng, 1717);
+    int cases = 0, exact = 0, discs = 0, rests = 0;
+    while (cases < 600) {
+        test_region t;
+        lc_robot r;
+        lc_motion_params p;
+        double dt;
+        lc_pose pose;
+        if (!random_body_case(&rng, &t, &r, &p, &dt, &pose))
+            continue;
+        cases++;
+        double v = cases % 4 == 0 ? 0.0 : lc_rng_uniform(&rng, -r.v_max, r.v_max);
+        double w = lc_rng_uniform(&rng, -r.w_max, r.w_max);
+        if (cases % 7 == 0)
+            w = 0.0;
+        if (cases % 11 == 0) /* nearly straight: the bend bound */
+            w = v * lc_rng_uniform(&rng, -1e-4, 1e-4);
+        double mine = lc_motion_body_margin(&r, &p, &t.r, pose, v, w);
+        double sim = body_brake_margin(&t, pose, v, w, &r, p.latency, 2000);
+        assert_true(mine <= sim + 1e-9);
+        bool hold = fabs(v) > 1e-12 && fabs(w / v) * r.a_max <= r.dw_max;
+        if (fabs(v) <= 1e-12) {
+            rests++;
+            assert_true(sim - mine <= 1e-4);
+        } else if (hold) {
+            exact++;
+            assert_true(sim - mine <= 1e-3);
+        } else {
+            discs++;
+        }
+    }
+    print_message("body margin: %d cases, %d arcs exact, %d at rest, %d Tait-Kneser discs\n",
+                  cases, exact, rests, discs);
+    assert_true(exact > 100 && rests > 100 && discs > 50);
+    /* unusable arguments */
+    lc_robot r = robot_default_of(LC_MODEL_UNICYCLE);
+    lc_motion_params p;
+    lc_motion_params_default(&p);
+    test_region t;
+    make_box(&t, -1, -1, 1, 1);
+    assert_true(isnan(lc_motion_body_margin(&r, &p, &t.r, (lc_pose){NAN, 0, 0}, 0.1, 0)));
+    assert_true(isnan(lc_motion_body_margin(&r, &p, &t.r, (lc_pose){0, 0, 0}, INFINITY, 0)));
+    lc_setpoint out;
+    assert_int_equal(lc_motion_unicycle_body(&r, &p, &t.r, (lc_pose){0, 0, 0}, lc_v2(0.5, 0),
+                                             NULL, 0.05, &out),
+                     LC_ERR_BAD_INPUT); /* a disc robot has no body */
+    assert_int_equal(out.limit, LC_LIMIT_NONE);
+}
+
+static int body_step(const lc_robot *r, const lc_motion_params *p, const test_region *t,
+                     lc_pose pose, lc_vec2 target, double v0, double w0, double dt,
+                     lc_setpoint *out)
+{
+    lc_setpoint l = lc_setpoint_stop(LC_LIMIT_NONE);
+    l.v = v0, l.w = w0;
+    return lc_motion_unicycle_body(r, p, &t->r, pose, target, &l, dt, out);
+}
+
+/*
+ * The body step keeps the rate limits always, and the body's braking path
+ * in the workspace (simulated here) whenever it starts from rest or did not
+ * have to brake as hard as it could.
+ */
+static void test_body_unicycle_properties(void **state)
+{
+    (void)state;
+    lc_rng rng;
+    lc_rng_seed(&rng, 2024);
+    int cases = 0, fallback = 0, moving = 0;
+    while (cases < 800) {
+        test_region t;
+        lc_robot r;
+        lc_motion_params p;
+        double dt;
+        lc_pose pose;
+        lc_vec2 tg;
+        if (!random_body_case(&rng, &t, &r, &p, &dt, &pose) || !sample_inside(&rng, &t, 0, &tg))
+            continue;
+        cases++;
+        double v0 = lc_rng_uniform(&rng, r.reverse ? -r.v_max : 0, r.v_max);
+        double w0 = lc_rng_uniform(&rng, -r.w_max, r.w_max);
+        lc_setpoint out;
+        assert_int_equal(body_step(&r, &p, &t, pose, tg, v0, w0, dt, &out), 0);
+        check_uni_limits(&r, dt, v0, w0, &out);
+        double m = body_brake_margin(&t, pose, out.v, out.w, &r, p.latency, 300);
+        if (m < -PATH_TOL) {
+            fallback++;
+            assert_int_equal(out.limit, LC_LIMIT_BRAKING);
+            assert_near(out.v, v0 - copysign(fmin(r.a_max * dt, fabs(v0)), v0), 1e-12);
+        }
+        /* from rest with no turn the body stays where it is: always safe */
+        assert_int_equal(body_step(&r, &p, &t, pose, tg, 0, 0, dt, &out), 0);
+        check_uni_limits(&r, dt, 0, 0, &out);
+        assert_true(body_brake_margin(&t, pose, out.v, out.w, &r, p.latency, 300) >= -PATH_TOL);
+        moving += out.v != 0 || out.w != 0;
+    }
+    print_message("body unicycle: %d cases, %d braking as hard as it can, %d moving from rest\n",
+                  cases, fallback, moving);
+    assert_true(moving > cases / 4);
+}
+
+/*
+ * Turning round: a 1.0 x 0.5 m body facing along a corridor, its target
+ * behind. Its whole turn (radius sqrt(0.5^2 + 0.25^2) = 0.559 m) fits a
+ * corridor 1.3 m wide less the margin's 0.05 on each side when it stands
+ * on the middle line: it turns in place, and brakes straight first when
+ * rolling. 1.1 m wide it does not fit: it drives on instead (the arc, or
+ * straight), never turning in place.
+ */
+static void test_body_turns_round_where_it_fits(void **state)
+{
+    (void)state;
+    lc_robot r = robot_default_of(LC_MODEL_UNICYCLE);
+    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
+    assert_int_equal(lc_robot_set_footprint(&r, rect, 4), LC_OK);
+    lc_motion_params p;
+    lc_motion_params_default(&p);
+    p.latency = 0.05;
+    test_region wide, narrow;
+    make_box(&wide, -5, -0.6, 5, 0.6);    /* 1.3 m wide, walls less the margin */
+    make_box(&narrow, -5, -0.5, 5, 0.5);  /* 1.1 m wide */
+    lc_vec2 behind = lc_v2(-3, 0.01);
+    lc_setpoint out;
+    assert_int_equal(body_step(&r, &p, &wide, (lc_pose){0, 0, 0}, behind, 0, 0, 0.05, &out), 0);
+    assert_int_equal(out.limit, LC_LIMIT_TURNING);
+    assert_true(out.v == 0 && out.w > 0);
+    /* rolling at 0.6 m/s: brakes straight (w toward 0), still "turning" */
+    assert_int_equal(body_step(&r, &p, &wide, (lc_pose){0, 0, 0}, behind, 0.6, 0, 0.05, &out), 0);
+    assert_near(out.v, 0.6 - 0.5 * 0.05, 1e-12);
+    assert_true(out.w == 0);
+    /* too narrow to turn round: no turning in place */
+    assert_int_equal(body_step(&r, &p, &narrow, (lc_pose){0, 0, 0}, behind, 0, 0, 0.05, &out), 0);
+    assert_true(out.limit != LC_LIMIT_TURNING);
+    assert_true(body_brake_margin(&narrow, (lc_pose){0, 0, 0}, out.v, out.w, &r, p.latency,
+                                  300) >= -PATH_TOL);
+    /* the same robot as its circumscribed disc: 1.3 m is wide enough for
+     * its centre (0.6 - 0.559 > 0), 1.1 m is not even that */
+    assert_true(0.6 - r.radius > 0 && 0.5 - r.radius < 0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1204,6 +1432,9 @@ int main(void)
         cmocka_unit_test(test_unicycle_brake_disc),
         cmocka_unit_test(test_unicycle_properties),
         cmocka_unit_test(test_unicycle_closed_loop),
+        cmocka_unit_test(test_body_margin_against_simulation),
+        cmocka_unit_test(test_body_unicycle_properties),
+        cmocka_unit_test(test_body_turns_round_where_it_fits),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -5,7 +5,13 @@
  * goal or its GEOS nearest point in the region, the braking promise along
  * the setpoint) on random scenes and along patrols through every shipped
  * scenario, no allocation once warm, determinism, too_close, the standoff
- * at a blocked waypoint, the height band.
+ * at a blocked waypoint, the height band. A robot with a polygon footprint
+ * promises the same of its whole footprint: every valid return at least
+ * the margin from the region summed with the footprint at the frame's
+ * heading (GEOS: the sum of convex polygons is the hull of the sums of
+ * their vertices, de Berg et al., Computational Geometry, 13.3), and, for
+ * a unicycle, along its braking path (integrated here, 1 ms steps: the
+ * body's distance to every return near it at each step).
  */
 #include "testutil.h"
 
@@ -13,6 +19,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "footprint.h"
 #include "geos_oracle.h"
 #include "lc_config.h"
 #include "scenario.h"
@@ -68,6 +75,70 @@ static lc_pose follow(lc_pose pose, const lc_setpoint *sp, lc_model model, doubl
                            : (lc_pose){pose.x, pose.y, pose.yaw + sp->w * dt};
 }
 
+/* The footprint of r at pose, world frame; its vertex count. */
+static int placed(const lc_robot *r, lc_pose pose, lc_vec2 *v)
+{
+    return lc_robot_place_footprint(r, pose, v);
+}
+
+#if LC_HAVE_GEOS
+/* Every return at least the margin from the region summed with the
+ * footprint at the frame's heading (GEOS's hull of the vertex sums). */
+static void check_footprint_region(const lc_robot *robot, const lc_frame *f,
+                                   const lc_plan_result *r)
+{
+    const lc_region *rg = r->region;
+    static lc_vec2 sums[64 * LC_FOOTPRINT_MAX], hull[64 * LC_FOOTPRINT_MAX];
+    lc_vec2 fp[LC_FOOTPRINT_MAX];
+    int nf = placed(robot, (lc_pose){0, 0, f->pose.yaw}, fp), k = 0;
+    assert_true(rg->nv <= 64);
+    for (int i = 0; i < rg->nv; i++)
+        for (int j = 0; j < nf; j++)
+            sums[k++] = lc_add(rg->v[i], fp[j]);
+    double area;
+    int nh = oracle_convex_hull(sums, k, hull, 64 * LC_FOOTPRINT_MAX, &area);
+    for (int i = 0; i < r->cloud->n; i++) {
+        double d = oracle_point_distance(hull, nh, r->cloud->world[i]);
+        if (d < robot->margin - 1e-7)
+            fail_msg("return (%.6f, %.6f) is %.9f m from the region's footprints",
+                     r->cloud->world[i].x, r->cloud->world[i].y, d);
+    }
+}
+#endif
+
+/*
+ * The least distance from the footprint to the returns along the braking
+ * path of (v, w) from pose: held for t_r, then v falling at a_max and w
+ * with it (curvature kept) or at dw_max. 1 ms steps; returns farther than
+ * the path can reach are skipped.
+ */
+static double body_brake_gap(const lc_robot *robot, const lc_cloud *cloud, lc_pose pose,
+                             double v, double w, double t_r)
+{
+    const double h = 1e-3;
+    bool hold = fabs(v) > 1e-12 && fabs(w / v) * robot->a_max <= robot->dw_max;
+    double k = fabs(v) > 1e-12 ? w / v : 0, gap = INFINITY;
+    double reach = fabs(v) * t_r + v * v / (2 * robot->a_max) + robot->radius + 0.2;
+    lc_vec2 c0 = lc_v2(pose.x, pose.y);
+    for (double t = 0;; t += h) {
+        lc_vec2 fp[LC_FOOTPRINT_MAX];
+        int n = placed(robot, pose, fp);
+        for (int i = 0; i < cloud->n; i++)
+            if (lc_dist(cloud->world[i], c0) <= reach)
+                gap = fmin(gap, lc_convex_distance(fp, n, cloud->world[i], NULL));
+        if (v == 0 && w == 0)
+            return gap;
+        pose.x += v * cos(pose.yaw) * h;
+        pose.y += v * sin(pose.yaw) * h;
+        pose.yaw += w * h;
+        if (t < t_r)
+            continue;
+        double vn = fabs(v) - robot->a_max * h, wn = fabs(w) - robot->dw_max * h;
+        v = vn > 0 ? copysign(vn, v) : 0;
+        w = hold ? k * v : (wn > 0 ? copysign(wn, w) : 0);
+    }
+}
+
 /*
  * The promises of one plan (docs/INTERFACES.md). prev: the setpoint before
  * (NULL: from rest). The braking check is motion.h's: a setpoint brakes
@@ -86,8 +157,10 @@ static void check_promises(const lc_robot *robot, const lc_frame *f, const lc_pl
 #if LC_HAVE_GEOS
     double need = lc_robot_clearance(robot);
     /* every valid return at least radius + margin from the region (GEOS) */
-    for (int i = 0; i < r->cloud->n; i++)
+    for (int i = 0; i < r->cloud->n && !lc_robot_has_footprint(robot); i++)
         assert_true(oracle_point_distance(rg->v, rg->nv, r->cloud->world[i]) >= need - 1e-7);
+    if (lc_robot_has_footprint(robot))
+        check_footprint_region(robot, f, r);
     if (r->path && r->path->status == LC_GUIDE_PATH && r->has_waypoint &&
         lc_dist(r->path->goal, r->waypoint) < 1e-9) {
         /* guided: a point of the path that the region holds (GEOS: inside
@@ -127,6 +200,17 @@ static void check_promises(const lc_robot *robot, const lc_frame *f, const lc_pl
             assert_true(lc_dot(v_robot, lc_v2(prev->vx, prev->vy)) >= speed * was * (1 - 1e-9));
         }
     }
+    if (robot->model == LC_MODEL_UNICYCLE && lc_robot_has_footprint(robot)) {
+        /* the body along its braking path (latency: the period, as steer.c
+         * holds it), within 1 ms of motion (under 1.5 mm here) */
+        double gap = body_brake_gap(robot, r->cloud, f->pose, r->setpoint.v, r->setpoint.w, dt);
+        if (gap < robot->margin - 1.5e-3) {
+            /* only the hardest braking of the setpoint before */
+            assert_int_equal(r->setpoint.limit, LC_LIMIT_BRAKING);
+            assert_non_null(prev);
+            assert_near(fabs(r->setpoint.v), fmax(fabs(prev->v) - robot->a_max * dt, 0), 1e-9);
+        }
+    }
 }
 
 static void test_promises_random(void **state)
@@ -164,6 +248,76 @@ static void test_promises_random(void **state)
         lc_world_free(&w);
     }
     assert_true(checked > 80);
+    free(ranges);
+    LC_GEOS_CHECKED();
+}
+
+/*
+ * A polygon footprint on random scenes, both models: short closed loops
+ * (the robot follows each setpoint for the period) toward a random goal,
+ * the promises checked at every 2nd frame. Footprints: rectangles up to
+ * 1.2 x 0.7 m and random convex polygons, the rotation centre off their
+ * middle at times.
+ */
+static void test_promises_footprint_random(void **state)
+{
+    lc_rng rng;
+    lc_rng_seed(&rng, 1717);
+    lc_sensor s;
+    lc_sensor_default(&s);
+    s.beams = 361;
+    double *ranges = malloc(sizeof *ranges * (size_t)s.beams);
+    int checked = 0, moving = 0;
+    for (int trial = 0; trial < 60; trial++) {
+        lc_world w;
+        random_world(&w, &rng, (int)lc_rng_uniform(&rng, 0, 30));
+        lc_robot robot;
+        lc_robot_default(&robot);
+        robot.model = trial % 2 ? LC_MODEL_UNICYCLE : LC_MODEL_POINT;
+        lc_vec2 fp[LC_FOOTPRINT_MAX];
+        int n = 4, at;
+        if (trial % 3 == 2) {
+            do {
+                n = 3 + (int)(lc_rng_next(&rng) % 8);
+                lc_test_random_convex(&rng, lc_v2(lc_rng_uniform(&rng, -0.1, 0.1), 0),
+                                      lc_rng_uniform(&rng, 0.2, 0.6), n, fp);
+            } while (lc_footprint_check(fp, n, &at) != LC_FOOTPRINT_OK);
+        } else {
+            double hx = lc_rng_uniform(&rng, 0.15, 0.6), hy = lc_rng_uniform(&rng, 0.1, 0.35);
+            double off = lc_rng_uniform(&rng, -0.5, 0.5) * hx;
+            fp[0] = lc_v2(hx + off, -hy), fp[1] = lc_v2(hx + off, hy);
+            fp[2] = lc_v2(-hx + off, hy), fp[3] = lc_v2(-hx + off, -hy);
+        }
+        assert_int_equal(lc_robot_set_footprint(&robot, fp, n), LC_OK);
+        lc_pose pose = {0, 0, lc_rng_uniform(&rng, -3, 3)};
+        if (lc_world_distance(&w, lc_v2(0, 0)) < robot.radius + 0.3) {
+            lc_world_free(&w);
+            continue;
+        }
+        lc_session *ses = lc_session_new(&robot, NULL, NULL);
+        lc_vec2 goal = lc_v2(lc_rng_uniform(&rng, -9, 9), lc_rng_uniform(&rng, -9, 9));
+        lc_session_set_goal(ses, goal);
+        lc_sim_rng g = {(uint64_t)trial};
+        lc_setpoint prev = lc_setpoint_stop(LC_LIMIT_NONE);
+        const double dt = 0.05;
+        for (int k = 0; k < 60; k++) {
+            lc_frame f;
+            lc_plan_result r;
+            step_frame(ses, &w, &s, pose, ranges, &g, k, dt, &f, &r);
+            if (k % 2 == 0 && r.state != LC_STATE_TOO_CLOSE && r.has_waypoint &&
+                r.state != LC_STATE_DONE) {
+                check_promises(&robot, &f, &r, r.waypoint, dt, k ? &prev : NULL);
+                checked++;
+                moving += fabs(r.setpoint.v) + hypot(r.setpoint.vx, r.setpoint.vy) > 0.2;
+            }
+            pose = follow(pose, &r.setpoint, robot.model, dt);
+            prev = r.setpoint;
+        }
+        lc_session_free(ses);
+        lc_world_free(&w);
+    }
+    print_message("%d plans of polygon robots checked, %d at over 0.2 m/s\n", checked, moving);
+    assert_true(checked > 800 && moving > 200);
     free(ranges);
     LC_GEOS_CHECKED();
 }
@@ -574,6 +728,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_promises_random),
+        cmocka_unit_test(test_promises_footprint_random),
         cmocka_unit_test(test_promises_on_shipped_scenarios),
         cmocka_unit_test(test_no_alloc_when_warm),
         cmocka_unit_test(test_deterministic),

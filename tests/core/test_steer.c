@@ -6,7 +6,9 @@
  * (the robot description's promise, docs/INTERFACES.md); the turn law
  * w = k_alpha alpha (the polar law's heading term with beta = 0, Siegwart,
  * Nourbakhsh, Scaramuzza, Introduction to Autonomous Mobile Robots, 3.6);
- * distances to polygons by closed form (axis-aligned squares).
+ * distances to polygons by closed form (axis-aligned squares). A polygon
+ * footprint's braking path is integrated here (Euler, 0.1 ms) and its
+ * distance to an obstacle point taken at every step.
  */
 #include "testutil.h"
 
@@ -14,6 +16,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "footprint.h"
+#include "grow.h"
 #include "steer.h"
 
 /* A square box [-h, h]^2 about c as a region (no other lines). */
@@ -156,12 +160,187 @@ static void test_no_memory(void **state)
     lc_polyset_free(&grown);
 }
 
+/* ---- a polygon footprint --------------------------------------------- */
+
+/* Least distance from the footprint of r at pose to the point o. */
+static double body_gap(const lc_robot *r, lc_pose pose, lc_vec2 o)
+{
+    lc_vec2 v[LC_FOOTPRINT_MAX];
+    int n = lc_robot_place_footprint(r, pose, v);
+    return lc_convex_distance(v, n, o, NULL);
+}
+
+/*
+ * Least distance from the body to o along the braking path of (v, w) from
+ * pose: held for t_r, then v falling at a_max and w with it (curvature
+ * kept) or at dw_max; integrated in 0.1 ms Euler steps (the path's own
+ * rounding, below 1e-4 m here).
+ */
+static double brake_gap(const lc_robot *r, double t_r, lc_pose pose, double v, double w,
+                        lc_vec2 o)
+{
+    const double h = 1e-4;
+    bool hold = fabs(v) > 1e-12 && fabs(w / v) * r->a_max <= r->dw_max;
+    double k = fabs(v) > 1e-12 ? w / v : 0, gap = body_gap(r, pose, o);
+    for (double t = 0; t < t_r + 20.0 && (v != 0 || w != 0); t += h) {
+        pose.x += v * cos(pose.yaw) * h;
+        pose.y += v * sin(pose.yaw) * h;
+        pose.yaw += w * h;
+        gap = fmin(gap, body_gap(r, pose, o));
+        if (t < t_r)
+            continue;
+        double vn = fabs(v) - r->a_max * h;
+        v = vn > 0 ? copysign(vn, v) : 0;
+        double wn = fabs(w) - r->dw_max * h;
+        w = hold ? k * v : (wn > 0 ? copysign(wn, w) : 0);
+    }
+    return gap;
+}
+
+static lc_robot body_robot(const lc_vec2 *fp, int n)
+{
+    lc_robot r;
+    lc_robot_default(&r);
+    r.model = LC_MODEL_UNICYCLE;
+    assert_int_equal(lc_robot_set_footprint(&r, fp, n), LC_OK);
+    return r;
+}
+
+/*
+ * The workspace region's extra lines. A diamond footprint (half diagonal
+ * 0.3 m) at heading 0 in the region [-2, 0.5]^2; an obstacle point o at
+ * (0.72, 0.72). The box summed with the diamond cuts the box's corner
+ * along x + y = 1.3, which o lies (1.44 - 1.3) / sqrt 2 = 0.099 m off:
+ * grown by the reflected diamond and the margin, o lies off the region
+ * (closed form), yet no single line of the box keeps it out, and the
+ * box's lines moved out by the diamond's reach (x <= 0.8, y <= 0.8) leave
+ * o inside. Driving for the corner from any speed, the body's braking path
+ * keeps the margin from o.
+ */
+static void test_body_workspace_corner(void **state)
+{
+    (void)state;
+    const lc_vec2 diamond[] = {{0.3, 0}, {0, 0.3}, {-0.3, 0}, {0, -0.3}};
+    lc_robot robot = body_robot(diamond, 4);
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    lc_vec2 o = lc_v2(0.72, 0.72);
+    /* o's configuration-space obstacle at heading 0, as the session grows it */
+    lc_vec2 g[64], c[128];
+    int ng = lc_grow_polygon(diamond, 4, robot.margin, LC_GROW_DEFAULT_STEP, g, 64);
+    assert_true(ng > 4);
+    lc_footprint_place(g, ng, 0.0, true, g);
+    const lc_vec2 pt[1] = {o};
+    int nc = lc_minkowski_sum(pt, 1, g, ng, c, 128);
+    assert_true(nc == ng);
+    lc_polyset grown = {0}, seen = {0};
+    assert_int_equal(lc_polyset_push(&grown, c, nc, 0), 0);
+    assert_int_equal(lc_polyset_push(&seen, pt, 1, 0), 0);
+    static lc_halfspace h[4];
+    static lc_vec2 v[4];
+    h[0] = (lc_halfspace){{1, 0}, 0.5};
+    h[1] = (lc_halfspace){{0, 1}, 0.5};
+    h[2] = (lc_halfspace){{-1, 0}, 2};
+    h[3] = (lc_halfspace){{0, -1}, 2};
+    v[0] = lc_v2(0.5, -2), v[1] = lc_v2(0.5, 0.5), v[2] = lc_v2(-2, 0.5), v[3] = lc_v2(-2, -2);
+    lc_region r = {.h = h, .nh = 4, .v = v, .nv = 4, .ellipse = {1, 0, 1, {-0.75, -0.75}}};
+    for (int i = 0; i < nc; i++) /* off the region, by the corner only */
+        assert_true(c[i].x > 0.5 || c[i].y > 0.5);
+    bool cross_x = false, cross_y = false;
+    for (int i = 0; i < nc; i++)
+        cross_x |= c[i].x < 0.5, cross_y |= c[i].y < 0.5;
+    assert_true(cross_x && cross_y);
+    lc_steer_ws ws = {0};
+    /* the workspace keeps o a margin out, by a line of its own */
+    lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_NONE);
+    lc_steer_input w_in = {.robot = &robot, .params = &mp, .region = &r, .grown = &grown,
+                           .pose = {0.2, 0.2, 0}, .last = &rest, .dt = 0.05};
+    lc_region work;
+    assert_int_equal(lc_steer_workspace(&w_in, &ws, &work), 0);
+    assert_int_equal(work.nh, 5);
+    double out_by = -INFINITY;
+    for (int i = 0; i < work.nh; i++)
+        out_by = fmax(out_by, lc_dot(work.h[i].a, o) - work.h[i].b);
+    assert_true(out_by >= robot.margin - 1e-9);
+    assert_near(work.h[0].b, 0.8, 1e-15); /* x <= 0.5 moved out by 0.3 */
+    /* a disc robot has none */
+    lc_robot disc;
+    lc_robot_default(&disc);
+    w_in.robot = &disc;
+    assert_int_equal(lc_steer_workspace(&w_in, &ws, &work), -1);
+    int moved = 0;
+    for (int k = 0; k < 40; k++) {
+        double v0 = 0.02 * k, w0 = (k % 5 - 2) * 0.2;
+        lc_setpoint last = {.v = v0, .w = w0}, out;
+        lc_pose pose = {0.2 + 0.005 * k, 0.2, 0.3 * (k % 3 - 1) * 0.1};
+        lc_steer_input in = {.robot = &robot, .params = &mp, .standoff = 0.04, .region = &r,
+                             .grown = &grown, .obstacles = &seen, .pose = pose,
+                             .target = lc_v2(0.5, 0.5), .waypoint = lc_v2(3, 3),
+                             .last = &last, .dt = 0.05};
+        assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+        moved += out.v > 0;
+        double gap = brake_gap(&robot, 0.05, pose, out.v, out.w, o);
+        if (gap < robot.margin - 1e-4)
+            fail_msg("case %d: v %g w %g comes %g from the obstacle", k, out.v, out.w, gap);
+    }
+    assert_true(moved > 20);
+    lc_steer_ws_free(&ws);
+    lc_polyset_free(&grown);
+    lc_polyset_free(&seen);
+}
+
+/*
+ * too_close, a polygon footprint: a 1.0 x 0.5 m body with a post beyond
+ * its front left corner. Turning left toward a target there would sweep
+ * that corner (0.559 m out) through the post: step after step it turns
+ * only while the turn keeps the margin, and stops short. Turning right it
+ * turns on.
+ */
+static void test_body_turn_in_place(void **state)
+{
+    (void)state;
+    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
+    lc_robot robot = body_robot(rect, 4);
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    const lc_vec2 post[4] = {{0.33, 0.47}, {0.37, 0.47}, {0.37, 0.51}, {0.33, 0.51}};
+    lc_polyset seen = {0};
+    assert_int_equal(lc_polyset_push(&seen, post, 4, 0), 0);
+    lc_steer_ws ws = {0};
+    for (int side = 0; side < 2; side++) {
+        lc_pose pose = {0, 0, 0};
+        lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE);
+        double turned = 0;
+        for (int k = 0; k < 200; k++) {
+            lc_setpoint out = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
+            lc_steer_input in = {.robot = &robot, .params = &mp, .obstacles = &seen,
+                                 .pose = pose, .target = lc_v2(0, side ? -1 : 1), .last = &last,
+                                 .dt = 0.05};
+            assert_int_equal(lc_steer_turn_in_place(&in, &ws, &out), 0);
+            assert_true(fabs(out.w - last.w) <= robot.dw_max * 0.05 + 1e-12);
+            pose.yaw += out.w * 0.05;
+            turned += out.w * 0.05;
+            last = out;
+            for (int i = 0; i < 4; i++)
+                assert_true(body_gap(&robot, pose, post[i]) >= robot.margin - 1e-9);
+        }
+        if (side == 0)
+            assert_true(turned > 0.05 && turned < 0.6); /* stopped short of the post */
+        else
+            assert_near(turned, -0.5 * LC_PI, 0.05); /* faced its target */
+    }
+    lc_steer_ws_free(&ws);
+    lc_polyset_free(&seen);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_turn_in_place),
         cmocka_unit_test(test_standoff_point),
         cmocka_unit_test(test_no_memory),
+        cmocka_unit_test(test_body_workspace_corner),
+        cmocka_unit_test(test_body_turn_in_place),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
