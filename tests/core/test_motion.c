@@ -800,13 +800,22 @@ static void test_point_closed_loop(void **state)
 
 /* ---- unicycle --------------------------------------------------------- */
 
+/* One step from the last setpoint (v0, w0): the centre's law, or the body's. */
+static int step_from(bool body, const lc_robot *r, const lc_motion_params *p,
+                     const test_region *t, lc_pose pose, lc_vec2 target, double v0, double w0,
+                     double dt, lc_setpoint *out)
+{
+    lc_setpoint l = lc_setpoint_stop(LC_LIMIT_NONE);
+    l.v = v0, l.w = w0;
+    return body ? lc_motion_unicycle_body(r, p, &t->r, pose, target, &l, dt, out)
+                : lc_motion_unicycle(r, p, &t->r, pose, target, &l, dt, out);
+}
+
 static int uni_step(const lc_robot *r, const lc_motion_params *p, const test_region *t,
                     lc_pose pose, lc_vec2 target, double v0, double w0, double dt,
                     lc_setpoint *out)
 {
-    lc_setpoint l = lc_setpoint_stop(LC_LIMIT_NONE);
-    l.v = v0, l.w = w0;
-    return lc_motion_unicycle(r, p, &t->r, pose, target, &l, dt, out);
+    return step_from(false, r, p, t, pose, target, v0, w0, dt, out);
 }
 
 static void test_unicycle_examples(void **state)
@@ -1325,9 +1334,7 @@ static int body_step(const lc_robot *r, const lc_motion_params *p, const test_re
                      lc_pose pose, lc_vec2 target, double v0, double w0, double dt,
                      lc_setpoint *out)
 {
-    lc_setpoint l = lc_setpoint_stop(LC_LIMIT_NONE);
-    l.v = v0, l.w = w0;
-    return lc_motion_unicycle_body(r, p, &t->r, pose, target, &l, dt, out);
+    return step_from(true, r, p, t, pose, target, v0, w0, dt, out);
 }
 
 /*

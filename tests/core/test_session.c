@@ -213,14 +213,22 @@ static void check_promises(const lc_robot *robot, const lc_frame *f, const lc_pl
     }
 }
 
+/* The default scanner with `beams` beams, and room for one scan of it. */
+static double *scanner(lc_sensor *s, int beams)
+{
+    lc_sensor_default(s);
+    s->beams = beams;
+    double *ranges = malloc(sizeof *ranges * (size_t)s->beams);
+    assert_non_null(ranges);
+    return ranges;
+}
+
 static void test_promises_random(void **state)
 {
     lc_rng rng;
     lc_rng_seed(&rng, 99);
     lc_sensor s;
-    lc_sensor_default(&s);
-    s.beams = 541;
-    double *ranges = malloc(sizeof *ranges * (size_t)s.beams);
+    double *ranges = scanner(&s, 541);
     int checked = 0;
     for (int trial = 0; trial < 120; trial++) {
         lc_world w;
@@ -264,9 +272,7 @@ static void test_promises_footprint_random(void **state)
     lc_rng rng;
     lc_rng_seed(&rng, 1717);
     lc_sensor s;
-    lc_sensor_default(&s);
-    s.beams = 361;
-    double *ranges = malloc(sizeof *ranges * (size_t)s.beams);
+    double *ranges = scanner(&s, 361);
     int checked = 0, moving = 0;
     for (int trial = 0; trial < 60; trial++) {
         lc_world w;
