@@ -228,6 +228,66 @@ static void test_against_brute_force(void **state)
     lc_cloud_free(&cloud);
 }
 
+/*
+ * A polygon footprint's body (lc_memory_mark_body): a 1.0 x 0.5 m
+ * rectangle turned by 0.6 rad, a return under it (no self-hit filter: the
+ * frame's cell holds it), and the rest of the view. Cells whose centres the
+ * rectangle covers (crossing number, as above) are free and seen now, the
+ * occupied one too; cells whose centres it does not cover are what the
+ * frame made them. Too few vertices or a non-finite one: nothing changes.
+ */
+static void test_polygon_body(void **state)
+{
+    (void)state;
+    lc_memory_config cfg;
+    lc_memory *m = fresh(&cfg);
+    static double ranges[3] = {0.35, NAN, 3.0};
+    lc_pose pose = {2.03, -1.01, 0.6};
+    lc_frame f = {.kind = LC_FRAME_SCAN, .seq = 1, .stamp = 5.0, .pose = pose,
+                  .angle_start = -0.1, .angle_step = 0.1, .range_min = 0.1, .range_max = 4,
+                  .ranges = ranges, .n_ranges = 3};
+    lc_cloud cloud = {0};
+    ingest(&f, &cloud, 0.0);
+    assert_int_equal(cloud.n, 2);
+    assert_int_equal(lc_memory_update(m, &f, &cloud, 0.0), 0);
+    const lc_vec2 rect[4] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
+    lc_vec2 body[4];
+    for (int i = 0; i < 4; i++)
+        body[i] = lc_pose_apply(pose, rect[i]);
+    lc_vec2 under = cloud.world[0]; /* 0.35 m ahead: under the body */
+    long ui, uj;
+    lc_memory_cell_of(m, under, &ui, &uj);
+    assert_int_equal(lc_memory_cell(m, ui, uj), LC_CELL_OCCUPIED);
+    lc_memory_window w = lc_memory_get_window(m);
+    static lc_cell_state before[240 * 240];
+    for (long j = w.j0; j < w.j0 + w.n; j++)
+        for (long i = w.i0; i < w.i0 + w.n; i++)
+            before[(j - w.j0) * w.n + (i - w.i0)] = lc_memory_cell(m, i, j);
+    lc_vec2 bad[3] = {{0, 0}, {1, NAN}, {0, 1}};
+    lc_memory_mark_body(m, body, 2);
+    lc_memory_mark_body(m, bad, 3);
+    assert_int_equal(lc_memory_cell(m, ui, uj), LC_CELL_OCCUPIED);
+    lc_memory_mark_body(m, body, 4);
+    int covered = 0;
+    for (long j = w.j0; j < w.j0 + w.n; j++)
+        for (long i = w.i0; i < w.i0 + w.n; i++) {
+            lc_vec2 c = lc_memory_cell_centre(m, i, j);
+            lc_cell_state st = lc_memory_cell(m, i, j);
+            if (inside(body, 4, c)) {
+                covered++;
+                assert_int_equal(st, LC_CELL_FREE);
+                assert_true(lc_memory_touched_now(m, i, j));
+            } else {
+                assert_int_equal(st, before[(j - w.j0) * w.n + (i - w.i0)]);
+            }
+        }
+    /* 0.5 m^2 of 5 cm cells: about 200 centres */
+    assert_true(covered > 180 && covered < 220);
+    assert_int_equal(lc_memory_cell(m, ui, uj), LC_CELL_FREE);
+    lc_memory_free(m);
+    lc_cloud_free(&cloud);
+}
+
 /* Every cell a beam crosses well inside its neighbours' reach is free
  * (exact segment-square intersection). */
 static void test_beam_cells(void **state)
@@ -571,6 +631,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_config),
         cmocka_unit_test(test_against_brute_force),
+        cmocka_unit_test(test_polygon_body),
         cmocka_unit_test(test_beam_cells),
         cmocka_unit_test(test_clearing),
         cmocka_unit_test(test_ageing),

@@ -80,6 +80,12 @@ def refused_cases(examples):
     variant("robot", "a scanner with a height band", lambda m: m["sensors"][0].update(z_max=1.0))
     variant("robot", "an unknown sensor kind", lambda m: m["sensors"][1].update(kind="sonar"))
     variant("robot", "a fov of 0", lambda m: m["sensors"][1].update(fov=0))
+    variant("robot", "a footprint of 2 vertices",
+            lambda m: m.update(footprint=[[0.3, 0], [-0.3, 0]]))
+    variant("robot", "a footprint of 17 vertices",
+            lambda m: m.update(footprint=[[0.3, 0.01 * i] for i in range(17)]))
+    variant("robot", "a footprint vertex of 3 numbers",
+            lambda m: m.update(footprint=[[0.3, 0, 0], [0, 0.3], [-0.3, -0.3]]))
     variant("scan", "an empty sensor name", lambda m: m.update(sensor=""))
     variant("points", "a sensor name with a space", lambda m: m.update(sensor="cam 1"))
     variant("hello", "robot without a name", lambda m: m.pop("robot"))
@@ -125,7 +131,15 @@ def accepted_cases(examples):
     scenario.pop("sensor")
     scenario["sensors"] = [{"name": "front", "mount": [0.3, 0, 0], "near": 0.1, "far": 12},
                            {"name": "cam", "kind": "points", "fov": 1.2, "rate": 30}]
+    legged = copy.deepcopy(examples["robot"])
+    legged.pop("radius")
+    legged["footprint"] = [[0.5, -0.25], [0.5, 0.25], [-0.5, 0.25], [-0.5, -0.25]]
+    scenario_fp = copy.deepcopy(examples["scenario"])
+    scenario_fp["robot"] = {"model": "unicycle", "footprint": legged["footprint"],
+                            "radius": 0.559}
     return [("plan_request", request, "three frames"),
+            ("robot", legged, "a polygon footprint, radius left out"),
+            ("scenario", scenario_fp, "a footprint with its circumscribed radius"),
             ("scenario", scenario, "a list of sensors"),
             ("robot", robot, "a kind left out, a points sensor without fov"),
             ("scan", front, "a sensor named, no mount")]

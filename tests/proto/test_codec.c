@@ -16,6 +16,7 @@
 #include <cjson/cJSON.h>
 
 #include "codec.h"
+#include "footprint.h"
 
 /* ------------------------------------------------------------ helpers */
 
@@ -94,6 +95,8 @@ static int plan_exact(const char *text, size_t len, const lc_wire_limits *lim,
 #define PTS(tail) "{'type':'points','seq':3,'stamp':2,'pose':[0,0,0]," tail
 #define ROUTE(tail) "{'type':'route','waypoints':[[0,0],[1,1]]" tail
 #define ROBOT(tail) "{'type':'robot'" tail
+#define RECT "[[0.5,-0.25],[0.5,0.25],[-0.5,0.25],[-0.5,-0.25]]"
+#define FOOT(vertices) ROBOT(",'footprint':" vertices "}")
 #define HELLO(tail) "{'type':'hello'" tail
 #define FRAME "'frame':{'type':'scan','seq':9,'stamp':0,'pose':[0,0,0]," ANG LIM "'ranges':[1,2]}"
 
@@ -211,6 +214,30 @@ static const bad_case bad_cases[] = {
     {GENERIC, ROBOT(",'model':'tank'}"), LC_WIRE_BAD_FIELD, "model"},
     {GENERIC, ROBOT(",'model':1}"), LC_WIRE_BAD_FIELD, "model"},
     {GENERIC, ROBOT(",'reverse':'no'}"), LC_WIRE_BAD_FIELD, "reverse"},
+    /* a polygon footprint: the vertex at fault, else the footprint */
+    {GENERIC, FOOT("[[1,0],[0,1]]"), LC_WIRE_BAD_FIELD, "footprint"},
+    {GENERIC, FOOT("[]"), LC_WIRE_BAD_FIELD, "footprint"},
+    {GENERIC, FOOT("{}"), LC_WIRE_BAD_FIELD, "footprint"},
+    {GENERIC, FOOT("[[1,0],[0.9,0.4],[0.7,0.7],[0.4,0.9],[0,1],[-0.4,0.9],[-0.7,0.7],[-0.9,0.4],"
+                   "[-1,0],[-0.9,-0.4],[-0.7,-0.7],[-0.4,-0.9],[0,-1],[0.4,-0.9],[0.7,-0.7],"
+                   "[0.9,-0.4],[0.95,-0.2]]"), LC_WIRE_BAD_FIELD, "footprint"},
+    {GENERIC, FOOT("[[1,0],[0,1,2],[-1,-1]]"), LC_WIRE_BAD_FIELD, "footprint[1]"},
+    {GENERIC, FOOT("[[1,0],[0,'a'],[-1,-1]]"), LC_WIRE_BAD_FIELD, "footprint[1][1]"},
+    {GENERIC, FOOT("[[200,0],[0,1],[-1,-1]]"), LC_WIRE_BAD_FIELD, "footprint[0]"},
+    {GENERIC, FOOT("[[0.5,-0.25],[-0.5,-0.25],[-0.5,0.25],[0.5,0.25]]"), LC_WIRE_BAD_FIELD,
+     "footprint"}, /* clockwise */
+    {GENERIC, FOOT("[[0.5,-0.25],[0.5,0.25],[0,0.1],[-0.5,0.25],[-0.5,-0.25]]"),
+     LC_WIRE_BAD_FIELD, "footprint[2]"}, /* dented */
+    {GENERIC, FOOT("[[0.5,-0.25],[0.5,0.25],[0,0.25],[-0.5,0.25],[-0.5,-0.25]]"),
+     LC_WIRE_BAD_FIELD, "footprint[2]"}, /* on its neighbours' line */
+    {GENERIC, FOOT("[[0.5,-0.25],[0.5,0.25],[0.5,0.2504],[-0.5,0.25],[-0.5,-0.25]]"),
+     LC_WIRE_BAD_FIELD, "footprint[2]"}, /* a repeated vertex */
+    {GENERIC, FOOT("[[1,0],[-0.809017,0.587785],[0.309017,-0.951057],[0.309017,0.951057],"
+                   "[-0.809017,-0.587785]]"), LC_WIRE_BAD_FIELD, "footprint"}, /* crosses itself */
+    {GENERIC, FOOT("[[2,-1],[3,-1],[3,1],[2,1]]"), LC_WIRE_BAD_FIELD, "footprint"}, /* centre out */
+    {GENERIC, ROBOT(",'radius':0.3,'footprint':" RECT "}"), LC_WIRE_BAD_FIELD, "radius"},
+    {GENERIC, ROBOT(",'footprint':" RECT ",'footprint':" RECT "}"), LC_WIRE_BAD_MESSAGE,
+     "footprint"},
     /* hello */
     {GENERIC, HELLO("}"), LC_WIRE_BAD_FIELD, "role"},
     {GENERIC, HELLO(",'role':'admin','robot':'a'}"), LC_WIRE_BAD_FIELD, "role"},
@@ -247,6 +274,8 @@ static const bad_case bad_cases[] = {
     {PLAN, "{'goal':[1,0],'dt':5," FRAME "}", LC_WIRE_BAD_FIELD, "dt"},
     {PLAN, "{'goal':[1,0],'velocity':'fast'," FRAME "}", LC_WIRE_BAD_FIELD, "velocity"},
     {PLAN, "{'goal':[1,0],'robot':{'radius':0}," FRAME "}", LC_WIRE_BAD_FIELD, "robot.radius"},
+    {PLAN, "{'goal':[1,0],'robot':{'footprint':[[1,0],[0,1],[-1,0],[-1,0.0004]]}," FRAME "}",
+     LC_WIRE_BAD_FIELD, "robot.footprint[3]"},
     {PLAN, "{'goal':[1,0],'robot':[1]," FRAME "}", LC_WIRE_BAD_FIELD, "robot"},
     {PLAN, "{'goal':[1,0],'robot':{'type':'route'}," FRAME "}", LC_WIRE_BAD_FIELD, "robot.type"},
     {PLAN, "{'goal':[1,0],'frame':7}", LC_WIRE_BAD_FIELD, "frame"},
@@ -796,11 +825,26 @@ static void test_roundtrip_robot_route(void **state)
             .z_min = (iter & 4) ? -0.5 * fabs(random_double(&rng, false)) - 1e-3 : -INFINITY,
             .z_max = (iter & 4) ? fabs(random_double(&rng, false)) : INFINITY,
         };
+        if (iter % 3 == 0) { /* a polygon footprint: radius its circumscribed radius */
+            lc_vec2 fp[LC_FOOTPRINT_MAX];
+            int n, at;
+            do {
+                n = 3 + (int)(lc_rng_next(&rng) % 14);
+                lc_test_random_convex(&rng, lc_v2(0.01 * random_double(&rng, false), 0),
+                                      fabs(random_double(&rng, true)) + 0.1, n, fp);
+            } while (lc_footprint_check(fp, n, &at) != LC_FOOTPRINT_OK);
+            assert_int_equal(lc_robot_set_footprint(&a, fp, n), LC_OK);
+        }
         assert_int_equal(lc_wire_encode_robot(&t, &a), 0);
         if (lc_wire_decode(t.s, (size_t)t.len, NULL, &buf, &msg, &err) != 0)
             fail_msg("%s\n%s", err.message, t.s);
         assert_int_equal(msg.type, LC_MSG_ROBOT);
         const lc_robot *b = &msg.u.robot;
+        assert_int_equal(b->n_footprint, a.n_footprint);
+        for (int i = 0; i < a.n_footprint; i++) {
+            assert_same_double(b->footprint[i].x, a.footprint[i].x);
+            assert_same_double(b->footprint[i].y, a.footprint[i].y);
+        }
         assert_int_equal(b->model, a.model);
         assert_int_equal(b->reverse, a.reverse);
         assert_same_double(b->radius, a.radius);
@@ -1192,6 +1236,17 @@ static void test_view(void **state)
     assert_true(cJSON_GetObjectItemCaseSensitive(j, "plan_us")->valuedouble == 48.3 ||
                 cJSON_GetObjectItemCaseSensitive(j, "plan_us")->valuedouble == 48.2);
     assert_true(cJSON_GetObjectItemCaseSensitive(j, "plan_max_us")->valuedouble == 71.5);
+    assert_null(cJSON_GetObjectItemCaseSensitive(j, "footprint")); /* a disc */
+    cJSON_Delete(j);
+    /* a polygon footprint goes to the viewer, rounded like the rest */
+    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.512345, 0.25}, {-0.5, -0.25}};
+    assert_int_equal(lc_robot_set_footprint(&robot, rect, 4), LC_OK);
+    assert_int_equal(lc_wire_encode_view(&t, &v), 0);
+    assert_int_equal(lc_wire_decode(t.s, (size_t)t.len, NULL, &buf, &msg, &err), 0);
+    j = cJSON_Parse(t.s);
+    const cJSON *fp = cJSON_GetObjectItemCaseSensitive(j, "footprint");
+    assert_int_equal(cJSON_GetArraySize(fp), 4);
+    assert_true(num_at(cJSON_GetArrayItem(fp, 2), 0) == -0.5123);
     cJSON_Delete(j);
 
     /* before any frame: geometry null, no route */

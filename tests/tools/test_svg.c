@@ -108,6 +108,46 @@ static void test_synthetic_run(void **state)
     lc_svg_run_free(&run);
 }
 
+/* Count of non-overlapping occurrences of needle in s. */
+static int count_of(const char *s, const char *needle)
+{
+    int n = 0;
+    for (const char *p = strstr(s, needle); p; p = strstr(p + 1, needle))
+        n++;
+    return n;
+}
+
+/* A polygon footprint: drawn at start, end and each snapshot as a polygon
+ * of its vertices (the disc robot's pictures keep their circles). */
+static void test_footprint_poses(void **state)
+{
+    lc_svg_run run;
+    lc_svg_run_init(&run, 10);
+    fill_run(&run, 100, 1.0, 0.5);
+    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
+    lc_svg_scene sc = {.title = "legged", .radius = 0.559, .footprint = rect, .n_footprint = 4};
+    write_svg(lc_test_tmp("legged.svg"), &run, &sc);
+    assert_valid_xml(lc_test_tmp("legged.svg"));
+    assert_layers(lc_test_tmp("legged.svg"), false);
+    char *s = lc_test_slurp(lc_test_tmp("legged.svg"));
+    assert_non_null(s);
+    const char *robot = strstr(s, "<g id=\"robot\"");
+    assert_non_null(robot);
+    /* frames 10, 20, ..., 90, then start and end: 11 outlines */
+    assert_int_equal(count_of(robot, "<polygon"), 11);
+    assert_int_equal(count_of(robot, "class=\"pose\""), 9);
+    assert_null(strstr(robot, "<circle"));
+    free(s);
+    sc.footprint = NULL; /* the disc: two circles, no outlines */
+    write_svg(lc_test_tmp("disc.svg"), &run, &sc);
+    s = lc_test_slurp(lc_test_tmp("disc.svg"));
+    robot = strstr(s, "<g id=\"robot\"");
+    assert_int_equal(count_of(robot, "<circle"), 2);
+    assert_int_equal(count_of(robot, "class=\"pose\""), 0);
+    free(s);
+    lc_svg_run_free(&run);
+}
+
 static void test_degenerate_runs(void **state)
 {
     lc_svg_scene sc = {.title = "<site> & \"quotes\"", .radius = 0.3};
@@ -168,6 +208,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_synthetic_run),
+        cmocka_unit_test(test_footprint_poses),
         cmocka_unit_test(test_degenerate_runs),
         cmocka_unit_test(test_sim_and_replay_pictures),
     };
