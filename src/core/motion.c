@@ -52,6 +52,18 @@
  * toward the maximal deceleration (bisection; always a verified-safe point,
  * not necessarily the global optimum of the non-convex safe set).
  *
+ * A unicycle with a polygon footprint (lc_motion_unicycle_body) is checked
+ * as a body in a workspace region instead: "safe" is the footprint's
+ * vertices inside every line along the braking path (body_margin: exact
+ * per vertex and line on an arc, since a rigid body on a circle turns about
+ * its centre of rotation; at rest it turns about its own centre by the
+ * heading change braking w takes; the Tait-Kneser case is bounded by the
+ * disc plus the footprint turned over that change). Turning in place moves
+ * a body, so the guarantee from rest needs the braked turn to fit; a large
+ * heading error turns in place only where the whole turn fits (after
+ * braking straight), else the law's own arc, or straight on, takes it to
+ * where it can turn (body_turn_policy, body_straight).
+ *
  * Unicycle reference heading: the waypoint's final heading is free, so the
  * polar law's goal frame is aligned with the bearing from robot to target.
  * Then beta = 0 and w = k_alpha alpha; the reduced system (rho, alpha) is

@@ -47,7 +47,7 @@ check plan-directory 2 "$exe" plan "$tmp"
 expect_in plan-directory "$tmp/err" "Is a directory"
 expect_in plan-missing-file "$tmp/err" "cannot read"
 
-for req in office-corner aisle-points; do
+for req in office-corner aisle-points cellar-door; do
     check "plan-$req" 0 "$exe" plan --json "$root/scenarios/requests/$req.json"
     python3 - "$tmp/out" <<'PY' || { fail=$((fail + 1)); echo "FAIL plan-$req: result shape"; }
 import json, sys
@@ -90,6 +90,19 @@ expect_in check-1425 "$tmp/out" "WARNING"
 expect_in check-1425 "$tmp/out" "not a safety function"
 check check-bad 2 "$exe" check --a-max -1
 expect_in check-bad "$tmp/err" "a-max"
+# with the robot's shape: its front, 0.5 m ahead of the centre, needs d + 0.5
+# (0.72 + 0.5 = 1.22 m at the defaults), more than half of a 2 m range
+check check-footprint 1 "$exe" check --range 2 --strict \
+    --footprint '[[0.5,-0.25],[0.5,0.25],[-0.5,0.25],[-0.5,-0.25]]'
+expect_in check-footprint "$tmp/out" "0.500 m ahead of its centre: it needs 1.220 m"
+expect_in check-footprint "$tmp/out" "WARNING"
+check check-radius 0 "$exe" check --radius 0.3
+expect_in check-radius "$tmp/out" "it needs 1.020 m"
+check check-footprint-bad 2 "$exe" check --footprint '[[0.5,-0.25],[-0.5,-0.25],[-0.5,0.25]]'
+expect_in check-footprint-bad "$tmp/err" "footprint: runs clockwise"
+check check-two-shapes 2 "$exe" check --radius 0.3 --footprint '[[1,0],[0,1],[-1,-1]]'
+check check-footprint-json 2 "$exe" check --footprint '[[1,0],'
+expect_in check-footprint-json "$tmp/err" "not JSON"
 
 # lacuna bench smoke test: the JSON shape of CONTRACT.md and that the solver
 # comparison ran (never a timing assertion).

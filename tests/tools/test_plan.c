@@ -10,7 +10,11 @@
  *     in the frame's order;
  *   - the robot centre lies in the region;
  *   - every one of those points is at least radius + margin from the region
- *     (GEOS, GEOSDistance_r), unless the state is too_close;
+ *     (GEOS, GEOSDistance_r), unless the state is too_close; for a polygon
+ *     footprint at least the margin from the region summed with the
+ *     footprint at the frame's heading (GEOS's hull of the vertex sums: the
+ *     Minkowski sum of convex polygons, de Berg et al., 13.3), and points
+ *     inside its inscribed disc (about the centre) are its self hits;
  *   - the ellipse lies in the region: for each halfspace a.x <= b, the
  *     support function of {L u + d : |u| <= 1}, a.d + |L a| (L symmetric;
  *     Boyd and Vandenberghe, Convex Optimization, 8.4.1), is at most b, and
@@ -148,7 +152,7 @@ static void add_return(returns *rt, const lc_wire_plan_request *req, lc_vec2 p_s
     const lc_sensor_desc *sd = sensor_of(req);
     lc_pose mount = req->frame.has_mount || !sd ? req->frame.mount : sd->mount;
     lc_vec2 p_robot = lc_pose_apply(mount, p_sensor);
-    double d = lc_len(p_robot), r = req->robot.radius;
+    double d = lc_len(p_robot), r = lc_robot_inradius(&req->robot);
     if (d < r - 1e-9)
         return;
     rt->edge[rt->n] = d < r + 1e-9;
@@ -244,8 +248,20 @@ static void check_region_promises(const lc_wire_plan_request *req, const returns
         assert_true(oracle_point_distance(rg.v, rg.nv, p) <= TOL);
     }
     double need = req->robot.radius + req->robot.margin; /* written out: the check stands alone */
+    static lc_vec2 sums[4096], body[4096];
+    int nb = rg.nv;
+    memcpy(body, rg.v, sizeof *body * (size_t)rg.nv);
+    if (req->robot.n_footprint > 0) { /* the region's footprints: hull of the sums */
+        int k = 0;
+        for (int i = 0; i < rg.nv; i++)
+            for (int j = 0; j < req->robot.n_footprint && k < 4096; j++)
+                sums[k++] = lc_add(rg.v[i], lc_rotate(req->robot.footprint[j], req->frame.pose.yaw));
+        double area;
+        nb = oracle_convex_hull(sums, k, body, 4096, &area);
+        need = req->robot.margin;
+    }
     for (int i = 0; i < rt->n && !too_close; i++) {
-        double dist = oracle_point_distance(rg.v, rg.nv, rt->w[i]);
+        double dist = oracle_point_distance(body, nb, rt->w[i]);
         if (dist < need - TOL)
             fail_msg("return (%.6f, %.6f) is %.9f m from the region, less than %.3f", rt->w[i].x,
                      rt->w[i].y, dist, need);

@@ -8,6 +8,13 @@
  *     control period past tolerance short of its waypoint; a start pose
  *     closer to a wall than the radius is one collision whose clearance is
  *     distance - radius;
+ *   - a 1.0 x 0.5 m footprint passes a 0.8 m doorway lengthwise with both
+ *     models and turns round at the closed end of a 1.3 m corridor (its
+ *     corners reach sqrt(0.5^2 + 0.25^2) = 0.559 m, plus the 0.05 margin,
+ *     within the half width 0.65), but not in a 1.1 m one, where it ends
+ *     blocked; as the disc of that radius it does not pass the doorway
+ *     (1.118 m wide, plus margins); a start overlapping a wall is one
+ *     collision with clearance minus the overlap;
  *   - the same seed repeats a run byte for byte, another seed does not;
  *   - bad usage and bad files exit 2.
  */
@@ -208,6 +215,103 @@ static void test_start_in_contact_is_a_collision(void **state)
     cJSON_Delete(j);
 }
 
+/* Two rooms parted at x = 6 by a wall with a door from y = 2.6 to 3.4
+ * (0.8 m), or (corridor_width > 0) a dead-end corridor of that width from
+ * x = 4 to the wall at x = 11.9, about y = 3; robot holds the "robot"
+ * object's members. */
+static void footprint_scene(const char *path, const char *robot, const char *route,
+                            const char *start, double corridor_width)
+{
+    char extra[512], text[4096];
+    double h = 0.5 * corridor_width;
+    if (corridor_width > 0)
+        snprintf(extra, sizeof extra,
+                 "[[4,0],[12,0],[12,%g],[4,%g]],[[4,%g],[12,%g],[12,6],[4,6]],"
+                 "[[11.9,0],[12,0],[12,6],[11.9,6]]",
+                 3 - h, 3 - h, 3 + h, 3 + h);
+    else
+        snprintf(extra, sizeof extra,
+                 "[[5.9,0],[6.1,0],[6.1,2.6],[5.9,2.6]],[[5.9,3.4],[6.1,3.4],[6.1,6],[5.9,6]]");
+    snprintf(text, sizeof text,
+             "{\"type\":\"scenario\",\"version\":1,\"description\":\"test footprint\","
+             "\"robot\":{%s,\"margin\":0.05,\"v_max\":0.8,\"a_max\":0.5,\"w_max\":1,"
+             "\"dw_max\":2},\"route\":%s,\"start\":%s,"
+             "\"world\":{\"polygons\":[[[-0.1,-0.1],[12.1,-0.1],[12.1,0],[-0.1,0]],"
+             "[[-0.1,6],[12.1,6],[12.1,6.1],[-0.1,6.1]],[[-0.1,0],[0,0],[0,6],[-0.1,6]],"
+             "[[12,0],[12.1,0],[12.1,6],[12,6]],%s]},"
+             "\"sensor\":{\"beams\":271,\"fov\":4.71238898038469,\"range_min\":0.05,"
+             "\"range_max\":10,\"rate\":20,\"noise\":0.01,\"mount\":[0.45,0,0]},"
+             "\"max_time\":120}\n",
+             robot, route, start, extra);
+    lc_test_write_file(path, text, strlen(text));
+}
+
+#define RECT "\"footprint\":[[0.5,-0.25],[0.5,0.25],[-0.5,0.25],[-0.5,-0.25]]"
+
+static cJSON *sim_json(const char *file, const char *model, int want_rc)
+{
+    char args[1024];
+    snprintf(args, sizeof args, "sim '%s' --json --model %s", lc_test_tmp(file), model);
+    int rc = lc_test_lacuna(args);
+    cJSON *j = lc_test_result();
+    if (rc != want_rc)
+        fail_msg("%s %s: exit %d, outcome %s", file, model, rc, lc_test_str(j, "outcome"));
+    assert_int_equal((int)lc_test_num(j, "collisions"), 0);
+    assert_true(lc_test_num(j, "min_clearance") > 0);
+    return j;
+}
+
+static void test_footprint_doorway_and_corridor(void **state)
+{
+    const char *through = "{\"waypoints\":[[10,3]],\"tolerance\":0.3}";
+    const char *models[2] = {"point", "unicycle"};
+    footprint_scene(lc_test_tmp("door.jsonl"), "\"model\":\"unicycle\"," RECT, through,
+                    "[2,3,0]", 0);
+    footprint_scene(lc_test_tmp("disc.jsonl"), "\"model\":\"unicycle\",\"radius\":0.559",
+                    through, "[2,3,0]", 0);
+    for (int m = 0; m < 2; m++) {
+        cJSON *j = sim_json("door.jsonl", models[m], 0);
+        assert_true(lc_test_flag(j, "done"));
+        /* the door's half width less the half width of the footprint */
+        assert_true(lc_test_num(j, "min_clearance") <= 0.15 + 1e-3);
+        cJSON_Delete(j);
+        j = sim_json("disc.jsonl", models[m], 1);
+        assert_false(lc_test_flag(j, "done"));
+        assert_string_equal(lc_test_str(j, "outcome"), "blocked");
+        assert_true(lc_test_num(j, "path_length") < 3.0); /* never reached the door */
+        cJSON_Delete(j);
+    }
+    const char *back = "{\"waypoints\":[[10.8,3],[2,3]],\"tolerance\":0.3}";
+    footprint_scene(lc_test_tmp("wide.jsonl"), "\"model\":\"unicycle\"," RECT, back,
+                    "[2,3,0]", 1.3);
+    footprint_scene(lc_test_tmp("narrow.jsonl"), "\"model\":\"unicycle\"," RECT, back,
+                    "[2,3,0]", 1.1);
+    cJSON *j = sim_json("wide.jsonl", "unicycle", 0);
+    assert_true(lc_test_flag(j, "done"));
+    assert_int_equal((int)lc_test_num(j, "waypoints_reached"), 2);
+    cJSON_Delete(j);
+    j = sim_json("narrow.jsonl", "unicycle", 1);
+    assert_int_equal((int)lc_test_num(j, "waypoints_reached"), 1);
+    assert_string_equal(lc_test_str(j, "outcome"), "blocked");
+    cJSON_Delete(j);
+}
+
+/* Overlapping a wall at the start: one collision, the overlap's depth. */
+static void test_footprint_start_in_contact(void **state)
+{
+    /* the corridor's lower wall face at y = 1.65: started at y = 1.85 the
+     * footprint's lower edge is at 1.6 */
+    footprint_scene(lc_test_tmp("overlap.jsonl"), "\"model\":\"point\"," RECT,
+                    "{\"waypoints\":[[10.8,3]]}", "[5,1.85,0]", 2.7);
+    char args[1024];
+    snprintf(args, sizeof args, "sim '%s' --json --max-time 1", lc_test_tmp("overlap.jsonl"));
+    assert_int_equal(lc_test_lacuna(args), 1);
+    cJSON *j = lc_test_result();
+    assert_int_equal((int)lc_test_num(j, "collisions"), 1);
+    assert_near(lc_test_num(j, "min_clearance"), -0.05, 1e-9);
+    cJSON_Delete(j);
+}
+
 static void test_seed_repeats(void **state)
 {
     const char *scen = lc_test_source_path("scenarios/locked_cage.jsonl");
@@ -269,6 +373,8 @@ int main(void)
         cmocka_unit_test(test_unicycle_turns_and_arrives),
         cmocka_unit_test(test_looping_route_ends_after_one_lap),
         cmocka_unit_test(test_start_in_contact_is_a_collision),
+        cmocka_unit_test(test_footprint_doorway_and_corridor),
+        cmocka_unit_test(test_footprint_start_in_contact),
         cmocka_unit_test(test_seed_repeats),
         cmocka_unit_test(test_usage_errors),
     };
