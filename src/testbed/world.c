@@ -149,23 +149,22 @@ static double box_gap(box a, box b)
     return hypot(dx, dy);
 }
 
-/* Segments [a, b] and [c, d] share a point. */
-static bool segments_meet(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
+/* The segments [a, b] and [c, d] cross at a point inside both. */
+static bool segments_cross(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
 {
     double d1 = lc_cross(lc_sub(b, a), lc_sub(c, a)), d2 = lc_cross(lc_sub(b, a), lc_sub(d, a));
     double d3 = lc_cross(lc_sub(d, c), lc_sub(a, c)), d4 = lc_cross(lc_sub(d, c), lc_sub(b, c));
-    if (((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0)))
-        return true;
-    return lc_segment_distance(c, a, b, NULL) == 0 || lc_segment_distance(d, a, b, NULL) == 0 ||
-           lc_segment_distance(a, c, d, NULL) == 0 || lc_segment_distance(b, c, d, NULL) == 0;
+    return ((d1 > 0 && d2 < 0) || (d1 < 0 && d2 > 0)) && ((d3 > 0 && d4 < 0) || (d3 < 0 && d4 > 0));
 }
 
-static double segments_distance(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
+/* Squared distance between the segments [a, b] and [c, d]: 0 when they
+ * cross, else the least of the four endpoint-to-segment distances. */
+static double segments_distance2(lc_vec2 a, lc_vec2 b, lc_vec2 c, lc_vec2 d)
 {
-    if (segments_meet(a, b, c, d))
+    if (segments_cross(a, b, c, d))
         return 0.0;
-    return fmin(fmin(lc_segment_distance(c, a, b, NULL), lc_segment_distance(d, a, b, NULL)),
-                fmin(lc_segment_distance(a, c, d, NULL), lc_segment_distance(b, c, d, NULL)));
+    return fmin(fmin(lc_segment_distance2(c, a, b), lc_segment_distance2(d, a, b)),
+                fmin(lc_segment_distance2(a, c, d), lc_segment_distance2(b, c, d)));
 }
 
 /* Distance from p to the boundary of ring or segment v[0..n). */
@@ -196,31 +195,37 @@ static double overlap_depth(const lc_vec2 *foot, int nf, const lc_vec2 *v, int n
         }
     for (int i = 0; !meet && i < nf; i++)
         for (int k = 0; k < edge_count(n); k++)
-            meet = meet || segments_meet(foot[i], foot[(i + 1) % nf], v[k], v[(k + 1) % n]);
+            meet = meet || segments_distance2(foot[i], foot[(i + 1) % nf], v[k], v[(k + 1) % n]) == 0;
     return meet ? fmax(depth, 1e-9) : 0.0;
 }
 
+/*
+ * Per world polygon: skipped when its box lies farther than the best so
+ * far; the overlap tests only when the boxes meet; else every pair of
+ * edges, squared, one root at the end (the simulator asks this after
+ * every 1 ms substep).
+ */
 double lc_world_polygon_distance(const lc_world *w, const lc_vec2 *foot, int nf)
 {
     if (nf < 3)
         return NAN;
     box fb = box_of(foot, nf);
-    double best = INFINITY, depth = 0.0;
+    double best2 = INFINITY, depth = 0.0;
     for (int j = 0; j < w->polys.np; j++) {
         int n;
         const lc_vec2 *v = lc_polyset_at(&w->polys, j, &n);
         double gap = box_gap(fb, box_of(v, n));
-        if (gap > 0 && gap >= best)
+        if (gap > 0 && gap * gap >= best2)
             continue;
-        double d = overlap_depth(foot, nf, v, n);
+        double d = gap > 0 ? 0.0 : overlap_depth(foot, nf, v, n);
         if (d > 0) {
             depth = fmax(depth, d);
             continue;
         }
         for (int i = 0; i < nf; i++)
             for (int k = 0; k < edge_count(n); k++)
-                best = fmin(best, segments_distance(foot[i], foot[(i + 1) % nf], v[k],
-                                                    v[(k + 1) % n]));
+                best2 = fmin(best2, segments_distance2(foot[i], foot[(i + 1) % nf], v[k],
+                                                       v[(k + 1) % n]));
     }
-    return depth > 0 ? -depth : best;
+    return depth > 0 ? -depth : sqrt(best2);
 }

@@ -29,7 +29,7 @@
 #include "geos_oracle.h"
 #endif
 
-#define MAXV 512
+#define MAXV 1024 /* every pairwise sum of two 32-vertex inputs */
 
 /* ------------------------------------------------------------ validity */
 
@@ -227,6 +227,7 @@ static int oracle_sum(const lc_vec2 *a, int na, const lc_vec2 *b, int nb, lc_vec
 {
     static lc_vec2 pts[MAXV];
     int k = 0;
+    assert_true(na * nb <= MAXV);
     for (int i = 0; i < na; i++)
         for (int j = 0; j < nb; j++)
             pts[k++] = lc_add(a[i], b[j]);
