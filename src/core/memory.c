@@ -592,9 +592,10 @@ static void mark_body(lc_memory *m, lc_vec2 centre, double radius, const lc_vec2
     long jb = floor_div(lc_min(lc_max(centre.y + radius, y0), y0 + side), m->c);
     for (long j = ja; j <= jb; j++)
         for (long i = ia; i <= ib; i++) {
+            if (!in_window(m, i, j))
+                continue;
             lc_vec2 cc = lc_memory_cell_centre(m, i, j);
-            if (!in_window(m, i, j) || lc_dist(cc, centre) > radius ||
-                (body && !lc_convex_contains(body, n, cc, 0.0)))
+            if (lc_dist(cc, centre) > radius || (body && !lc_convex_contains(body, n, cc, 0.0)))
                 continue;
             size_t k = slot(m, i, j);
             m->ev[k] = 0;
