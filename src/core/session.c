@@ -272,7 +272,9 @@ static int place_body(lc_session *s, double r, double yaw)
 }
 
 /* Each polygon of set summed with the footprint grown by r at heading yaw
- * (lc_minkowski_sum), appended to s->grown as grow_set appends. */
+ * (lc_minkowski_sum), appended to s->grown as grow_set appends. A piece the
+ * sum refuses (not visibly convex) is grown by the disc that holds the
+ * footprint instead, which holds its sum too. */
 static int sum_set(lc_session *s, const lc_polyset *set, double r, double yaw, int src0)
 {
     int nb = place_body(s, r, yaw);
@@ -281,10 +283,14 @@ static int sum_set(lc_session *s, const lc_polyset *set, double r, double yaw, i
     for (int j = 0; j < set->np; j++) {
         int n;
         const lc_vec2 *v = lc_polyset_at(set, j, &n);
-        int cap = lc_minkowski_max_vertices(n, nb);
+        int cap = lc_minkowski_max_vertices(n, nb), disc = n + s->grow_rule.extra;
+        cap = cap > disc ? cap : disc;
         if (lc_polyset_reserve(&s->grown, cap) < 0)
             return -1;
-        int m = lc_minkowski_sum(v, n, s->body, nb, s->grown.v + s->grown.nv, cap);
+        lc_vec2 *out = s->grown.v + s->grown.nv;
+        int m = lc_minkowski_sum(v, n, s->body, nb, out, cap);
+        if (m < 0)
+            m = lc_grow_polygon_rule(v, n, s->robot.radius + r, &s->grow_rule, out, cap);
         int src = src0 >= 0 ? src0 + j : src0 - j;
         if (m > 0 && lc_polyset_commit(&s->grown, m, src) < 0)
             return -1;
