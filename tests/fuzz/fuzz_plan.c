@@ -25,7 +25,10 @@
  *   limits against the request's velocity (the last setpoint) when that was
  *   within those limits;
  * - when there is a region, the robot centre is inside it, and every kept
- *   return is at least radius + margin from it (unless the centre was too
+ *   return is at least radius + margin from it (a polygon footprint: at
+ *   least the margin from the region summed with the footprint at the
+ *   frame's heading, lc_minkowski_sum, which tests/core/test_footprint.c
+ *   checks against GEOS) (unless the centre was too
  *   close: then the obstacles holding it are left out by design); the
  *   target and the ellipse are in the region, and so is the point where a
  *   point robot comes to rest when it holds the setpoint for dt and then
@@ -41,6 +44,7 @@
 #include <cjson/cJSON.h>
 
 #include "codec.h"
+#include "footprint.h"
 #include "plan.h"
 #include "session.h"
 
@@ -180,18 +184,31 @@ static double polygon_distance(const lc_vec2 *v, int n, lc_vec2 p)
 /*
  * Every kept return is at least radius + margin from the region (up to
  * 2000 of them, evenly spread, to bound the cost). Not when the centre was
- * too close: the obstacles holding it were left out of the region.
+ * too close: the obstacles holding it were left out of the region. A
+ * polygon footprint: the margin from the region summed with the footprint
+ * at the frame's heading.
  */
-static void check_clearance(const lc_robot *robot, const lc_plan_result *r)
+static void check_clearance(const lc_robot *robot, double yaw, const lc_plan_result *r)
 {
     const lc_region *g = r->region;
     if (!g || g->nv < 3 || r->state == LC_STATE_TOO_CLOSE)
         return;
     double need = lc_robot_clearance(robot);
+    static lc_vec2 sum[4096];
+    const lc_vec2 *body = g->v;
+    int nb = g->nv;
+    if (robot->n_footprint > 0 && g->nv + robot->n_footprint <= 4096) {
+        lc_vec2 fp[LC_FOOTPRINT_MAX];
+        lc_footprint_place(robot->footprint, robot->n_footprint, yaw, false, fp);
+        nb = lc_minkowski_sum(g->v, g->nv, fp, robot->n_footprint, sum, 4096);
+        LC_FUZZ_CHECK(nb >= 3, "the region and the footprint have no sum (%d)", nb);
+        body = sum;
+        need = robot->margin;
+    }
     int n = r->cloud->n, stride = n > 2000 ? n / 2000 : 1;
     for (int i = 0; i < n; i += stride) {
         lc_vec2 p = r->cloud->world[i];
-        double d = polygon_distance(g->v, g->nv, p);
+        double d = polygon_distance(body, nb, p);
         double tol = 1e-6 * (fabs(p.x) + fabs(p.y) + need) + 1e-6;
         LC_FUZZ_CHECK(d >= need - tol, "return %d at (%.17g, %.17g) is %.17g from the region, "
                       "less than radius + margin %.17g", i, p.x, p.y, d, need);
@@ -418,7 +435,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     LC_FUZZ_CHECK(lc_session_step(s, &req.frame, req.dt, &res) == 0, "lc_session_step failed");
     check_setpoint(&req.robot, &last, req.dt, &res.setpoint);
     check_region(res.region, lc_v2(req.frame.pose.x, req.frame.pose.y));
-    check_clearance(&req.robot, &res);
+    check_clearance(&req.robot, req.frame.pose.yaw, &res);
     check_inside(&req.robot, &req, &res);
 
     lc_wire_text out;
