@@ -21,12 +21,20 @@ enum {
     CLS_FREE = 1,
     CLS_SOFT = 2,
     CLS_CLOSED = 3,
+    CLS_TIGHT = 4, /* soft, and within TIGHT of the clearance */
     CLS_UNKNOWN = 0x10, /* or'ed: the memory does not know the cell */
 };
 
 enum { ST_OPEN = 1, ST_DONE = 2 };
 
 #define LOS_STEP 0.5 /* memory cells between line-of-sight samples */
+
+/* A gap that leaves the robot's centre less than 2 TIGHT of room is one the
+ * region can barely hold the robot in (a needle of a region, a crawl): its
+ * cells cost TIGHT_COST times their length, so that a way round of up to
+ * a few metres is taken instead, and the gap only when there is none. */
+#define TIGHT 0.05     /* m */
+#define TIGHT_COST 8.0
 
 struct lc_guide {
     lc_alloc alloc;
@@ -315,7 +323,10 @@ static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
     if (refused_at(g, c->start, c->escape, p))
         return CLS_CLOSED;
     double d = bucket_nearest(g, p, c->R + g->cfg.soft);
-    int cls = d < c->R ? CLS_CLOSED : (d < c->R + g->cfg.soft ? CLS_SOFT : CLS_FREE);
+    int cls = d < c->R                   ? CLS_CLOSED
+              : d < c->R + TIGHT         ? CLS_TIGHT
+              : d < c->R + g->cfg.soft   ? CLS_SOFT
+                                         : CLS_FREE;
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         cls |= CLS_UNKNOWN;
     return cls;
@@ -327,7 +338,7 @@ static int cls_at(lc_guide *g, const search_ctx *c, int k)
         lc_vec2 p = centre_of(g, k);
         int cls = classify_point(g, c, p);
         if ((cls & 0x0f) == CLS_CLOSED && lc_dist(p, c->start) <= c->escape)
-            cls = (cls & CLS_UNKNOWN) | CLS_SOFT; /* the robot stands here: let it out */
+            cls = (cls & CLS_UNKNOWN) | CLS_TIGHT; /* the robot stands here: let it out */
         g->cls[k] = (uint8_t)cls;
     }
     return g->cls[k];
@@ -335,7 +346,8 @@ static int cls_at(lc_guide *g, const search_ctx *c, int k)
 
 static double factor(const lc_guide *g, int cls)
 {
-    double f = (cls & 0x0f) == CLS_SOFT ? g->cfg.soft_cost : 1.0;
+    int k = cls & 0x0f;
+    double f = k == CLS_TIGHT ? TIGHT_COST : (k == CLS_SOFT ? g->cfg.soft_cost : 1.0);
     return cls & CLS_UNKNOWN ? f * g->cfg.unknown_cost : f;
 }
 
@@ -563,10 +575,12 @@ static lc_vec2 nearest_ahead(const lc_guide_path *p, lc_vec2 from, int *seg)
         *seg = 0;
         return p->n ? p->v[0] : from;
     }
-    int best = *seg < p->n - 1 ? *seg : p->n - 2;
+    int best = *seg < p->n - 1 ? *seg : p->n - 2, first = best;
     lc_vec2 bq = p->v[best];
+    /* the segment the robot was at and those that start within 3 m of
+     * its end (however long the segment itself is) */
     double bd = INFINITY, walked = 0.0;
-    for (int k = best; k < p->n - 1 && walked < 3.0; k++) {
+    for (int k = first; k < p->n - 1 && walked < 3.0; k++) {
         lc_vec2 q;
         double d = lc_segment_distance(from, p->v[k], p->v[k + 1], &q);
         if (d < bd - 1e-12) {
@@ -574,7 +588,8 @@ static lc_vec2 nearest_ahead(const lc_guide_path *p, lc_vec2 from, int *seg)
             bq = q;
             best = k;
         }
-        walked += lc_dist(p->v[k], p->v[k + 1]);
+        if (k > first)
+            walked += lc_dist(p->v[k], p->v[k + 1]);
     }
     *seg = best;
     return bq;
@@ -632,7 +647,7 @@ static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_pa
             }
             int cls = classify_point(g, c, s);
             if ((cls & 0x0f) == CLS_CLOSED)
-                cls = (cls & CLS_UNKNOWN) | CLS_SOFT;
+                cls = (cls & CLS_UNKNOWN) | CLS_TIGHT;
             cost += len / m * factor(g, cls);
         }
         a = b;
@@ -702,6 +717,15 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         int expanded;
         double reach = fmax(tolerance, 0.5 * g->cfg.cell);
         int end = astar(g, &c, waypoint, reach, &expanded);
+        if (end < 0 && g->n_refused > 0) {
+            /* the refused spots closed every way: they were the only ones,
+             * so forget them and take the way the robot could not follow
+             * rather than give up on the waypoint */
+            int more;
+            g->n_refused = g->next_refused = 0;
+            end = astar(g, &c, waypoint, reach, &more);
+            expanded += more;
+        }
         info->searched = true;
         info->expanded = expanded;
         g->searches++;

@@ -61,7 +61,7 @@ void lc_memory_config_default(lc_memory_config *cfg)
                               .size = 20.0,
                               .reach = 6.0,
                               .hold_occupied = 30.0,
-                              .hold_free = 30.0,
+                              .hold_free = 90.0,
                               .clear_frames = 2};
 }
 

@@ -47,6 +47,7 @@ struct lc_session {
     bool resting;    /* stopped outside a frame: the next one starts from rest */
     lc_setpoint before; /* the velocity the last driven frame started from */
     double before_dt;   /* and the period it was given */
+    bool easing;        /* the last frame eased out of the margin (lc_steer_ease_out) */
     lc_reply last_reply;
     /* guidance's stall watch: the best way still to go and since when */
     bool stall_on;
@@ -382,9 +383,10 @@ static void stop_with(lc_plan_result *out, lc_state state, lc_limit limit)
     out->setpoint = lc_setpoint_stop(limit);
 }
 
-static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
+static void steer_input(lc_session *s, const lc_frame *f, double dt, const lc_plan_result *out,
+                        lc_steer_input *in)
 {
-    lc_steer_input in = {.robot = &s->robot,
+    *in = (lc_steer_input){.robot = &s->robot,
                          .params = &s->cfg.motion,
                          .standoff = s->cfg.standoff,
                          .region = &s->region,
@@ -394,6 +396,12 @@ static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *o
                          .waypoint = out->waypoint,
                          .last = &s->last,
                          .dt = dt};
+}
+
+static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
+{
+    lc_steer_input in;
+    steer_input(s, f, dt, out, &in);
     lc_steer_drive(&in, &s->steer, &out->setpoint);
 }
 
@@ -536,9 +544,14 @@ static void hug_path(const lc_region *r, const lc_guide_path *p, lc_vec2 c, lc_p
  * A robot that makes no progress along its path for the guide's stall time
  * cannot get past where the path leaves its region (a gap the memory's
  * cells make look wide enough, a corner it cannot round): that spot is
- * refused and guidance looks for another way. A way round (longer by more
- * than LC_PATROL_DETOUR) starts the watch over, as it does the patrol's.
+ * refused and guidance looks for another way (the only way is taken again
+ * when there is no other: guide.h). Progress here is at least
+ * LC_SESSION_STALL_PROGRESS along the path (a crawl through a gap is a
+ * stall too). A way round (longer by more than LC_PATROL_DETOUR) starts
+ * the watch over, as it does the patrol's.
  */
+#define LC_SESSION_STALL_PROGRESS 0.3 /* m along the path per stall time, at least */
+
 static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, lc_vec2 c,
                         lc_vec2 target)
 {
@@ -548,7 +561,7 @@ static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, l
     }
     bool detour = way->new_way && way->to_go > s->stall_best + LC_PATROL_DETOUR;
     if (!s->stall_on || s->stall_wp != s->patrol.current || detour ||
-        way->to_go < s->stall_best - s->route.progress) {
+        way->to_go < s->stall_best - lc_max(s->route.progress, LC_SESSION_STALL_PROGRESS)) {
         s->stall_on = true;
         s->stall_wp = s->patrol.current;
         s->stall_best = way->to_go;
@@ -679,10 +692,24 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->waypoint = wp;
         out->waypoint_index = s->patrol.current;
         stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
-        if (out->has_target)
+        lc_steer_input in;
+        steer_input(s, frame, dt, out, &in);
+        /* coming in, the robot stops at once (as it always has); easing
+         * out starts from that stop */
+        lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
+        if (!s->easing)
+            in.last = &rest;
+        int eased = rc == LC_REGION_TOO_CLOSE && out->has_target
+                        ? lc_steer_ease_out(&in, &s->steer, &out->setpoint)
+                        : 0;
+        s->easing = eased > 0;
+        if (eased < 0)
+            return -1;
+        if (eased == 0 && out->has_target)
             lc_steer_turn_in_place(&s->robot, &s->cfg.motion, frame->pose, out->target,
                                    &s->last, dt, &out->setpoint);
     } else {
+        s->easing = false;
         decide(s, frame, dt, &way, out);
     }
     s->last = out->setpoint;

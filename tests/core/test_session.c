@@ -17,6 +17,7 @@
 #include "lc_config.h"
 #include "scenario.h"
 #include "session.h"
+#include "steer.h"
 #include "world.h"
 
 static void random_world(lc_world *w, lc_rng *rng, int count)
@@ -301,14 +302,23 @@ static void test_deterministic(void **state)
 }
 
 /* A return 0.2 m from the centre of a 0.3 m robot is a self hit (dropped);
- * one at 0.33 m is within radius + margin: too_close, zero setpoint. Each
- * frame on its own (without memory: the second frame's self hit does not
- * look past 0.2 m, so a memory keeps the first one's return, rightly). */
+ * one at 0.33 m is within radius + margin: too_close. The robot stops at
+ * once from 0.5 m/s, then eases out: away from the return only, from rest
+ * (a_max dt at most), never faster than LC_STEER_EASE_SPEED. Returns on
+ * both sides: no way out, no translation. Each frame on its own (without
+ * memory: the self hit frame does not look past 0.2 m, so a memory keeps
+ * the first one's return, rightly). */
 static void test_too_close(void **state)
 {
-    double ranges[3] = {NAN, 0.33, NAN};
-    lc_frame f = {.kind = LC_FRAME_SCAN, .angle_start = -0.01, .angle_step = 0.01,
-                  .range_min = 0.05, .range_max = 10, .ranges = ranges, .n_ranges = 3};
+    /* a 270-degree scan with one return, back on the left (bearing 135
+     * degrees: the way out, forward right, is one a point robot with this
+     * scanner may slide in, without memory) */
+    double ranges[271];
+    for (int i = 0; i < 271; i++)
+        ranges[i] = NAN;
+    ranges[270] = 0.33;
+    lc_frame f = {.kind = LC_FRAME_SCAN, .angle_start = -0.75 * LC_PI, .angle_step = LC_PI / 180,
+                  .range_min = 0.05, .range_max = 10, .ranges = ranges, .n_ranges = 271};
     lc_plan_config cfg;
     lc_plan_config_default(&cfg);
     cfg.memory.enabled = false;
@@ -319,12 +329,32 @@ static void test_too_close(void **state)
     lc_plan_result r;
     assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
     assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
+    const lc_vec2 toward = {-sqrt(0.5), sqrt(0.5)}; /* the return's direction */
+    assert_true(lc_dot(lc_v2(r.setpoint.vx, r.setpoint.vy), toward) <= 1e-12);
+    double a_step = lc_session_robot(ses)->a_max * 0.05;
+    assert_true(hypot(r.setpoint.vx, r.setpoint.vy) <= a_step + 1e-12);
+    assert_non_null(r.region);
+    assert_true(lc_region_contains(r.region, lc_v2(0, 0), 1e-9));
+    for (int k = 0; k < 40; k++) { /* easing on: away, never faster than allowed */
+        lc_session_set_velocity(ses, &r.setpoint);
+        assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+        assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
+        assert_true(lc_dot(lc_v2(r.setpoint.vx, r.setpoint.vy), toward) <= 1e-12);
+        assert_true(hypot(r.setpoint.vx, r.setpoint.vy) <= LC_STEER_EASE_SPEED + 1e-12);
+    }
+    print_message("eased to vx %.3f vy %.3f limit %d\n", r.setpoint.vx, r.setpoint.vy, r.setpoint.limit);
+    assert_true(lc_dot(lc_v2(r.setpoint.vx, r.setpoint.vy), toward) < -0.1); /* it got going */
+    /* returns on the left and right (both 0.33 m away): no way out, a stop */
+    double both[2] = {0.33, 0.33};
+    lc_frame g = {.kind = LC_FRAME_SCAN, .angle_start = -0.5 * LC_PI, .angle_step = LC_PI,
+                  .range_min = 0.05, .range_max = 10, .ranges = both, .n_ranges = 2};
+    lc_session_set_velocity(ses, &moving);
+    assert_int_equal(lc_session_step(ses, &g, 0.05, &r), 0);
+    assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
     assert_int_equal(r.setpoint.limit, LC_LIMIT_TOO_CLOSE);
     assert_near(r.setpoint.vx, 0, 0);
     assert_near(r.setpoint.vy, 0, 0);
-    assert_non_null(r.region);
-    assert_true(lc_region_contains(r.region, lc_v2(0, 0), 1e-9));
-    ranges[1] = 0.2;
+    ranges[270] = 0.2;
     assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
     assert_int_equal(r.cloud->dropped_self, 1);
     assert_int_not_equal(r.state, LC_STATE_TOO_CLOSE);
