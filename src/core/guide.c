@@ -65,6 +65,7 @@ struct lc_guide {
     double refused_r[LC_GUIDE_REFUSED];
     int n_refused, next_refused;
     bool search_now;
+    bool doubt;        /* the last search found no way where the path is */
 };
 
 void lc_guide_config_default(lc_guide_config *cfg)
@@ -175,6 +176,7 @@ void lc_guide_reset(lc_guide *g)
     g->path.status = LC_GUIDE_NONE;
     g->path.n = 0;
     g->has_goal = false;
+    g->doubt = false;
     g->n_refused = g->next_refused = 0;
 }
 
@@ -317,13 +319,27 @@ typedef struct search_ctx {
                         edge of the clearance as they are seen again) */
 } search_ctx;
 
+/*
+ * Closed: nearer a remembered return than the clearance less half a search
+ * cell. A passage just wide enough for the robot (the worlds a robot meets
+ * are no kinder) may hold no cell centre a full clearance from both sides
+ * on a grid of `cell`; the search errs on the open side by that half cell,
+ * such a gap costs TIGHT_COST, and the region, which keeps the exact
+ * clearance from what is seen, decides whether the robot passes (refused
+ * after a stall when it does not).
+ */
+static double closed_within(const lc_guide *g, const search_ctx *c)
+{
+    return c->R - 0.5 * g->cfg.cell;
+}
+
 /* A point's class from the memory: closed, soft or free, and unknown. */
 static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
 {
     if (refused_at(g, c->start, c->escape, p))
         return CLS_CLOSED;
     double d = bucket_nearest(g, p, c->R + g->cfg.soft);
-    int cls = d < c->R                   ? CLS_CLOSED
+    int cls = d < closed_within(g, c)    ? CLS_CLOSED
               : d < c->R + TIGHT         ? CLS_TIGHT
               : d < c->R + g->cfg.soft   ? CLS_SOFT
                                          : CLS_FREE;
@@ -672,7 +688,7 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
             lc_vec2 s = lc_lerp(a, b, (double)i / m);
             walked += len / m;
             if (lc_dist(s, c->start) > c->escape &&
-                (refused_at(g, c->start, c->escape, s) || lc_memory_nearest(c->m, s, c->R) < c->R - c->graze))
+                (refused_at(g, c->start, c->escape, s) || lc_memory_nearest(c->m, s, c->R) < closed_within(g, c) - c->graze))
                 return true;
         }
         a = b;
@@ -703,13 +719,14 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         g->n_refused = g->next_refused = 0;
     long since = g->frame - g->last_search;
     bool due = since >= g->cfg.every && (lc_dist(robot, g->searched_at) >= g->cfg.travel ||
-                                         since >= 10L * g->cfg.every);
+                                         since >= 10L * g->cfg.every || g->doubt);
     if (g->path.status == LC_GUIDE_PATH && !new_goal) {
         nearest_ahead(&g->path, robot, &g->path.seg);
         info->blocked_ahead = blocked_ahead(g, &c, robot);
     }
+    bool doubting = g->doubt && since < g->cfg.every; /* waiting to search again */
     if (new_goal || due || g->search_now || g->path.status != LC_GUIDE_PATH ||
-        info->blocked_ahead) {
+        (info->blocked_ahead && !doubting)) {
         g->search_now = false;
         place_grid(g, m);
         if (bucket_obstacles(g, m) < 0)
@@ -726,12 +743,27 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             end = astar(g, &c, waypoint, reach, &more);
             expanded += more;
         }
+        if (end < 0) {
+            /* the robot may stand where its cells read closed (a gap it
+             * is in, range noise on the cells beside it): let it out of
+             * its whole clearance before saying there is no way */
+            int more;
+            search_ctx wide = c;
+            wide.escape = fmax(c.escape, c.R + g->cfg.cell);
+            end = astar(g, &wide, waypoint, reach, &more);
+            expanded += more;
+        }
         info->searched = true;
         info->expanded = expanded;
         g->searches++;
         g->last_search = g->frame;
         g->searched_at = robot;
-        if (end < 0) {
+        if (end < 0 && !new_goal && g->path.status == LC_GUIDE_PATH && !g->doubt) {
+            /* no way now, where there was one: said only when the next
+             * search (`every` frames on) agrees; the old path meanwhile */
+            g->doubt = true;
+        } else if (end < 0) {
+            g->doubt = false;
             g->cand.status = LC_GUIDE_NO_PATH;
             g->cand.n = 0;
             g->cand.goal = waypoint;
@@ -739,6 +771,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             g->cand.seg = 0;
             g->path = g->cand;
         } else {
+            g->doubt = false;
             lc_vec2 goal_pt = end == g->n * g->n ? waypoint : centre_of(g, end);
             if (lc_dist(goal_pt, waypoint) <= reach)
                 goal_pt = waypoint;

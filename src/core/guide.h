@@ -11,9 +11,13 @@
  * than its length), the heuristic weighted by `greed` (weighted A*, Pohl
  * 1970: through unknown space, which costs several times its length, plain
  * A* would open most of the window):
- *   - a cell whose centre lies within the clearance (radius + margin, plus
- *     half a memory cell's diagonal) of a remembered occupied cell is
- *     closed;
+ *   - a cell whose centre lies nearer a remembered return than the
+ *     clearance (radius + margin) less half a search cell is closed (a
+ *     passage just wide enough may hold no cell centre a full clearance
+ *     from both sides: the search errs on the open side, and the region,
+ *     which keeps the exact clearance, decides whether the robot passes);
+ *     within 5 cm more of the clearance a step costs 8 times its length
+ *     (such a gap holds the robot on a needle of a region);
  *   - a step costs its length, times `soft_cost` within `soft` metres more
  *     of an obstacle (the path keeps off walls where it can), times
  *     `unknown_cost` through space the memory does not know (never seen, or
@@ -39,9 +43,14 @@
  * cost.
  *
  * No path (the waypoint enclosed, inside an obstacle, or every way closed
- * within the window) is an answer of its own: LC_GUIDE_NO_PATH. A way the
- * robot cannot follow can be refused (lc_guide_refuse); the searches then
- * look for another.
+ * within the window) is an answer of its own: LC_GUIDE_NO_PATH. Before it
+ * is given, the search is run again with the robot's whole clearance
+ * passable round the start (a robot in a gap, range noise on the cells
+ * beside it, can make its own cells read closed), and where a path was
+ * being followed the next search, `every` frames on, must agree (the old
+ * path is kept meanwhile). A way the robot cannot follow can be refused
+ * (lc_guide_refuse); the searches then look for another, and take the
+ * refused way again rather than none when the refusals close every way.
  *
  * Ownership: lc_guide_new allocates the search grid once through the given
  * allocator (kept in the struct); nothing is allocated per frame.

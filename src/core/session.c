@@ -694,9 +694,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
         lc_steer_input in;
         steer_input(s, frame, dt, out, &in);
-        /* coming in, the robot stops at once (as it always has); easing
-         * out starts from that stop */
+        /* coming in, the robot stops translating at once (as it always
+         * has; a turn goes on, rate limited); easing out starts there */
         lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
+        rest.w = s->last.w;
         if (!s->easing)
             in.last = &rest;
         int eased = rc == LC_REGION_TOO_CLOSE && out->has_target
@@ -705,9 +706,12 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         s->easing = eased > 0;
         if (eased < 0)
             return -1;
+        /* the turn faces the way on: a goal step along the path when
+         * guided (the path's exit from the region can be the centre) */
         if (eased == 0 && out->has_target)
-            lc_steer_turn_in_place(&s->robot, &s->cfg.motion, frame->pose, out->target,
-                                   &s->last, dt, &out->setpoint);
+            lc_steer_turn_in_place(&s->robot, &s->cfg.motion, frame->pose,
+                                   way.guided ? seek : out->target, &s->last, dt,
+                                   &out->setpoint);
     } else {
         s->easing = false;
         decide(s, frame, dt, &way, out);
