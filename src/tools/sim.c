@@ -15,9 +15,10 @@
  *
  * The run ends when the route is done (a looping route: once its last
  * waypoint has been reached, the "lap" event), when the robot has been `blocked`
- * or `too_close` (the session then stops it entirely) for BLOCKED_HOLD s
- * without a break (the world is static: it stays so; outcome "blocked"
- * when a `blocked` frame came in that time, else "stuck"), or at the time limit (outcome "timeout"; --max-time,
+ * (held: the world is static, it stays so) for BLOCKED_HOLD s without a
+ * break (outcome "blocked"), or `too_close` for STUCK_HOLD s without a
+ * break (outcome "stuck": easing out of the margin, a unicycle may first
+ * turn round, and that takes a few seconds), or at the time limit (outcome "timeout"; --max-time,
  * else the header's max_time, else 600 s).
  * Success (exit 0) is the header's expectation met without a collision:
  * expect "done" wants the route finished, expect "blocked" wants the run to
@@ -117,6 +118,7 @@ void lc_sim_help(FILE *out) { fputs(usage, out); }
 
 #define SUBSTEP_MAX 0.001 /* s */
 #define BLOCKED_HOLD 3.0  /* s */
+#define STUCK_HOLD 10.0   /* s */
 #define DEFAULT_MAX_TIME 600.0
 
 typedef struct sim_opts {
@@ -130,7 +132,7 @@ typedef struct sim_opts {
     double timeout_s; /* with connect */
 } sim_opts;
 
-/* stuck: `too_close` without a break for BLOCKED_HOLD s (the robot may not move). */
+/* stuck: `too_close` without a break for STUCK_HOLD s. */
 typedef enum outcome { OUT_DONE = 0, OUT_BLOCKED, OUT_STUCK, OUT_TIMEOUT, OUT_INTERRUPTED } outcome;
 static const char *const outcome_names[] = {"done", "blocked", "stuck", "timeout",
                                             "interrupted"};
@@ -442,7 +444,7 @@ static int period_step(sim *sm, double *blocked_since)
             sm->hold_blocked = false;
         }
         sm->hold_blocked = sm->hold_blocked || res.state == LC_STATE_BLOCKED;
-        if (stamp - *blocked_since >= BLOCKED_HOLD) {
+        if (stamp - *blocked_since >= (sm->hold_blocked ? BLOCKED_HOLD : STUCK_HOLD)) {
             sm->m.end = sm->hold_blocked ? OUT_BLOCKED : OUT_STUCK;
             return 1;
         }
