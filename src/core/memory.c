@@ -751,6 +751,9 @@ int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p)
 {
     if (!m->placed)
         return 0;
+    /* stored column k holds lattice column i0 + (k - s) mod n, s the
+     * stored column of i0: no division per cell */
+    int s = wrap(m->i0, m->n);
     for (long j = m->j0; j < m->j0 + m->n; j++) {
         size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
         const uint8_t *ev = m->ev + row;
@@ -766,7 +769,7 @@ int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p)
             if (!ev[k])
                 continue;
             /* stored column k is lattice column i with i = k (mod n) in the window */
-            long i = m->i0 + (long)wrap((long)k - m->i0, m->n);
+            long i = m->i0 + (k >= s ? k - s : k - s + m->n);
             int rc = fn(data, return_at(m, row + (size_t)k, i, j));
             if (rc)
                 return rc;
