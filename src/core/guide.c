@@ -290,7 +290,7 @@ static int bucket_obstacles(lc_guide *g, const lc_memory *m)
 
 /* The distance from p to the nearest bucketed return within radius;
  * INFINITY when there is none. */
-static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
+static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at)
 {
     double cs = BUCKET * g->cfg.cell;
     int u0 = (int)floor((p.x - radius - g->x0) / cs), u1 = (int)floor((p.x + radius - g->x0) / cs);
@@ -312,11 +312,18 @@ static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
                 if (d2 < best) {
                     best = d2;
                     found = true;
+                    if (at)
+                        *at = g->pts[i];
                 }
             }
         }
     }
     return found ? sqrt(best) : INFINITY;
+}
+
+static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
+{
+    return bucket_nearest_at(g, p, radius, NULL);
 }
 
 typedef struct search_ctx {
@@ -553,6 +560,35 @@ static lc_vec2 way_point(const way_points *w, int k)
 /* The raw cell path into cand as a polyline shortened where the straight
  * line is clear: from each anchor, the farthest point in sight (the goal
  * first, then by halving). */
+/*
+ * A vertex of the path that lies within the soft margin of a return moved
+ * up the distance to the returns, CENTRE_STEP at a time while that
+ * distance grows: through a gap it comes to the gap's middle, a cell's
+ * width off where the grid put it. The region is seeded along the path: in
+ * a gap barely wider than the robot, only a path down its middle leaves a
+ * seed a region can grow along.
+ */
+#define CENTRE_STEP 0.01 /* m */
+#define CENTRE_STEPS 10
+
+static lc_vec2 centre_point(const lc_guide *g, const search_ctx *c, lc_vec2 v)
+{
+    double reach = c->R + g->cfg.soft;
+    lc_vec2 q;
+    double d = bucket_nearest_at(g, v, reach, &q);
+    for (int i = 0; i < CENTRE_STEPS && d < reach && d > 1e-9; i++) {
+        lc_vec2 moved = lc_add(v, lc_scale(lc_sub(v, q), CENTRE_STEP / d));
+        lc_vec2 q2;
+        double d2 = bucket_nearest_at(g, moved, reach, &q2);
+        if (!(d2 > d))
+            break;
+        v = moved;
+        d = d2;
+        q = q2;
+    }
+    return v;
+}
+
 static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, double cost)
 {
     int n_raw = 0, total = g->n * g->n;
@@ -587,6 +623,8 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
         a = p->n == LC_GUIDE_PATH_MAX - 1 ? last : lo; /* room for the goal at the end */
         p->v[p->n++] = way_point(&w, a);
     }
+    for (int k = 1; k + 1 < p->n; k++)
+        p->v[k] = centre_point(g, c, p->v[k]);
     p->length = 0;
     for (int k = 1; k < p->n; k++)
         p->length += lc_dist(p->v[k - 1], p->v[k]);
