@@ -1,6 +1,8 @@
 /*
- * session.c - the per-frame step (see session.h): ingest, segment, hull,
- * grow, region, target, patrol, setpoint. One function for every caller.
+ * session.c - the per-frame step (see session.h): ingest, memory (and what
+ * it recalls), guidance, segment, hull, grow, region, target, patrol,
+ * setpoint; and the frame driver that steps a stream of frames. One
+ * function for every caller.
  *
  * Ownership: the session owns every buffer (grown through its lc_alloc) and
  * the qhull context; a result's pointers point into them and stay valid
@@ -407,8 +409,8 @@ static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *o
 
 /* The clearance guidance keeps, from remembered cells' centres: the
  * robot's. The region keeps exact clearance from what is seen; guidance
- * only finds the way, and a way it finds up to half a cell too narrow is
- * given up when no progress follows. */
+ * only finds the way (guide.h says how it errs on the open side), and a
+ * way the robot cannot follow is given up when no progress follows. */
 static double guide_clearance(const lc_session *s)
 {
     return lc_robot_clearance(&s->robot);

@@ -4,7 +4,7 @@
  * Frame after frame, in time order across the header's sensors (a 40 Hz
  * scanner and a 30 Hz camera interleave, simsensors.h): a ray-cast scan or
  * set of points from the true pose (range noise from --seed), one
- * lc_session_step, then the robot follows that frame's setpoint exactly
+ * lc_session_drive, then the robot follows that frame's setpoint exactly
  * (zero-order hold, no slip) until the next frame of any sensor (one
  * control period, 1 / rate, with a single sensor), integrated in substeps
  * of at most 1 ms: the point model moves by its robot-frame
@@ -23,7 +23,8 @@
  * Success (exit 0) is the header's expectation met without a collision:
  * expect "done" wants the route finished, expect "blocked" wants the run to
  * end blocked (and nothing hit on the way). Stamps are j / rate of each
- * sensor and dt follows replay.h's rule, so `--out` gives a file `lacuna
+ * sensor and every frame goes through lc_session_drive (the dt rule of
+ * control.h, stored in the --out header), so `--out` gives a file `lacuna
  * replay` reproduces exactly.
  *
  * --connect: the same loop, but each frame goes over the real protocol to a

@@ -448,6 +448,65 @@ static void test_standoff_at_blocked_waypoint(void **state)
 }
 
 /*
+ * Guidance round a wall: the same 6 m wall across the way, the goal behind
+ * it. The local region alone parks at the wall (above); with guidance the
+ * robot goes round the wall's end and arrives, both models, never within
+ * radius + margin of the wall's face or ends. Its driven length is checked
+ * against the closed form of the shortest way for a disc of clearance R
+ * round the wall's nearer end: straight to (2, 3 + R), along the wall's
+ * 0.2 m top, straight to the goal (an upper bound of the exact tangent
+ * path, so the ratio asked of the robot is a little generous).
+ */
+static void test_guided_round_wall(void **state)
+{
+    lc_world w;
+    lc_world_init(&w);
+    lc_vec2 wall[4] = {{2.0, -3}, {2.2, -3}, {2.2, 3}, {2.0, 3}};
+    lc_world_add(&w, wall, 4);
+    lc_sensor sen;
+    lc_sensor_default(&sen);
+    sen.noise = 0.01;
+    lc_sim_rng noise = {11};
+    double *ranges = calloc((size_t)sen.beams, sizeof *ranges);
+    const lc_vec2 goal = {4, 0.3};
+    for (int m = 0; m < 2; m++) {
+        lc_robot robot;
+        lc_robot_default(&robot);
+        robot.model = m ? LC_MODEL_UNICYCLE : LC_MODEL_POINT;
+        double R = lc_robot_clearance(&robot);
+        lc_vec2 c0 = {2.0, 3 + R}, c1 = {2.2, 3 + R};
+        double bound = lc_dist(lc_v2(0, 0), c0) + 0.2 + lc_dist(c1, goal);
+        lc_session *ses = lc_session_new(&robot, NULL, NULL);
+        lc_session_set_goal(ses, goal);
+        lc_pose pose = {0, 0, 0};
+        double driven = 0, nearest = INFINITY, dt = 0.05;
+        int k = 0;
+        bool done = false;
+        for (; k < 1200 && !done; k++) {
+            lc_frame f;
+            lc_plan_result r;
+            step_frame(ses, &w, &sen, pose, ranges, &noise, k, dt, &f, &r);
+            done = r.state == LC_STATE_DONE;
+            assert_int_not_equal(r.state, LC_STATE_TOO_CLOSE);
+            lc_pose next = follow(pose, &r.setpoint, robot.model, dt);
+            driven += lc_dist(lc_v2(pose.x, pose.y), lc_v2(next.x, next.y));
+            pose = next;
+            nearest = fmin(nearest, lc_convex_distance(wall, 4, lc_v2(pose.x, pose.y), NULL));
+        }
+        print_message("%s: %.2f m driven in %.2f s (closed-form way round %.2f m), "
+                      "nearest the wall %.3f m\n", m ? "unicycle" : "point", driven, k * dt,
+                      bound, nearest);
+        assert_true(done);
+        assert_true(lc_dist(lc_v2(pose.x, pose.y), goal) <= lc_session_route(ses)->tolerance);
+        assert_true(nearest >= robot.radius);
+        assert_true(driven >= lc_dist(lc_v2(0, 0), goal) && driven <= 1.5 * bound);
+        lc_session_free(ses);
+    }
+    free(ranges);
+    lc_world_free(&w);
+}
+
+/*
  * The robot's height band: a depth camera sees the floor 0.5 m below it
  * and a crate; with z_min = -0.45 the floor points are no obstacles and
  * the crate's are (without a band every floor point would be one).
@@ -610,6 +669,7 @@ int main(void)
         cmocka_unit_test(test_too_close),
         cmocka_unit_test(test_too_close_turn_within_w_max),
         cmocka_unit_test(test_standoff_at_blocked_waypoint),
+        cmocka_unit_test(test_guided_round_wall),
         cmocka_unit_test(test_height_band),
         cmocka_unit_test(test_scripted_patrol),
         cmocka_unit_test(test_names),
