@@ -749,7 +749,7 @@ int lc_tool_sim(int argc, char **argv)
         rc = sim_run(&sm);
         if (!rc) {
             print_result(&sm);
-            /* CONTRACT.md: 0 only for a route done without a collision */
+            /* docs/INTERFACES.md: 0 only for a route done without a collision */
             rc = sm.m.end == OUT_DONE && sm.m.collisions == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
         }
         lc_svg_run_free(&sm.svg);

@@ -2,7 +2,7 @@
  * wsclient.h - a small websocket client (libwebsockets) for the tools that
  * talk to a running `lacuna serve`: `lacuna sim --connect` and
  * `lacuna bench --connect`. One connection per client, subprotocol
- * lacuna.v1, text messages only, no permessage-deflate (LIBNOTES.md).
+ * lacuna.v1, text messages only, no permessage-deflate (docs/LIBNOTES.md).
  *
  * Single-threaded and pull-driven: the caller queues messages with
  * lc_wsclient_send and runs the event loop through lc_wsclient_poll, which

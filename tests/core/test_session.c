@@ -1,5 +1,5 @@
 /*
- * test_session.c - the per-frame step as a whole: the CONTRACT promises of
+ * test_session.c - the per-frame step as a whole: the promises (docs/INTERFACES.md) of
  * `lacuna plan` on random scenes (robot inside the region, every valid
  * return at least radius + margin away by GEOS distance, the target the
  * goal or its GEOS nearest point in the region, the braking promise along
@@ -170,7 +170,7 @@ static void test_promises_random(void **state)
 }
 
 /*
- * The CONTRACT promises on every 3rd frame of a closed-loop patrol through
+ * The promises (docs/INTERFACES.md) on every 3rd frame of a closed-loop patrol through
  * each shipped scenario's world (the scenes the product is shown on, not
  * only random ones): check_promises (GEOS distances and nearest points),
  * and the ellipse inside the region (32 points of its boundary).

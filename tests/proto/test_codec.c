@@ -606,7 +606,7 @@ static void test_examples_content(void **state)
     lc_wire_buffers_free(&buf);
 }
 
-/* Defaults of CONTRACT.md when fields are left out. */
+/* Defaults of docs/INTERFACES.md when fields are left out. */
 static void test_defaults(void **state)
 {
     (void)state;

@@ -485,7 +485,7 @@ async def test_http_and_subprotocol(srv):
         pass  # closed already at the handshake's end
     check(await closed(ws), "a websocket without subprotocol lacuna.v1 is closed")
     check(ws.close_code == 1008, "no subprotocol: close code %s, want 1008" % ws.close_code)
-    # LIBNOTES.md trap: permessage-deflate broke closing in lws 4.1. The client
+    # docs/LIBNOTES.md trap: permessage-deflate broke closing in lws 4.1. The client
     # offers it (python3-websockets does by default); the server must decline.
     ws = await connect(srv.url)
     check(ws.extensions == [] and "Sec-WebSocket-Extensions" not in ws.response_headers,

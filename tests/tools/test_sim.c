@@ -63,7 +63,7 @@ static void test_every_shipped_scenario(void **state)
                       lc_test_num(j, "waypoints_reached"), lc_test_num(j, "collisions"),
                       lc_test_num(j, "min_clearance"), lc_test_num(j, "path_length"),
                       lc_test_num(j, "sim_time"));
-        /* CONTRACT.md: exit 0 only when the route was done without a
+        /* docs/INTERFACES.md: exit 0 only when the route was done without a
          * collision; "ok" says whether the header's expectation was met */
         int want = h.expect == LC_EXPECT_DONE ? 0 : 1;
         if (rc != want)
