@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """A robot client for `lacuna serve`: the integrator's starting point.
 
-It connects to ws://HOST:PORT/ with the subprotocol lacuna.v1, says hello
+It connects to ws://HOST:PORT/ with the subprotocol lacuna.v2, says hello
 (with the robot token when the server wants one), describes the robot,
 sends a route, then streams laser scans of a tiny built-in scene (an
 invented corridor with one pillar) and drives a simulated point robot with
@@ -68,9 +68,9 @@ def scan(segments, seq, stamp, pose, sensor=None):
     ox, oy, oyaw = pose[0] + c * mx - s * my, pose[1] + s * mx + c * my, pose[2] + myaw
     a0, step = -FOV / 2, FOV / (BEAMS - 1)
     m = {"type": "scan", "seq": seq, "stamp": stamp, "pose": list(pose),
-         "angle_start": a0, "angle_step": step, "range_min": 0.05,
-         "range_max": RANGE_MAX,
-         "ranges": [ray(segments, ox, oy, oyaw + a0 + i * step, RANGE_MAX)
+         "bearing_first": a0, "bearing_step": step, "near": 0.05,
+         "far": RANGE_MAX,
+         "dist": [ray(segments, ox, oy, oyaw + a0 + i * step, RANGE_MAX)
                     for i in range(BEAMS)]}
     if sensor:
         m["sensor"] = sensor
@@ -85,7 +85,7 @@ def drive(pose, sp, dt):
 
 
 async def run(url, name, token, frames, quiet, rear=False):
-    async with websockets.connect(url, subprotocols=["lacuna.v1"], max_size=None) as ws:
+    async with websockets.connect(url, subprotocols=["lacuna.v2"], max_size=None) as ws:
         hello = {"type": "hello", "role": "robot", "robot": name}
         if token:
             hello["token"] = token

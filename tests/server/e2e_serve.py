@@ -240,7 +240,7 @@ BAD = [
     ("deep nesting", '{"type": "robot", "x": ' + "[" * 2000 + "]" * 2000 + "}", {"bad_json"}),
     ("duplicate key", '{"type": "robot", "radius": 0.3, "radius": 0.4}', {"bad_message"}),
     ("second hello", '{"type": "hello", "role": "robot", "robot": "cat"}', {"bad_message"}),
-    ("scan without ranges", json.dumps({k: v for k, v in far_scan(11, 0).items() if k != "ranges"}),
+    ("scan without ranges", json.dumps({k: v for k, v in far_scan(11, 0).items() if k != "dist"}),
      {"bad_field"}),
     ("range is a string", json.dumps(dict(far_scan(12, 0), ranges=[1.0, "far", 2.0])), {"bad_field"}),
     ("empty ranges", json.dumps(dict(far_scan(13, 0), ranges=[])), {"bad_field"}),
@@ -269,7 +269,7 @@ BAD = [
                                            "vy": 0, "state": "idle", "limit": "idle",
                                            "waypoint": None}), {"forbidden"}),
     ("robot sends a welcome", json.dumps({"type": "welcome", "role": "robot", "robot": "cat",
-                                          "protocol": "lacuna.v1"}), {"forbidden"}),
+                                          "protocol": "lacuna.v2"}), {"forbidden"}),
     ("robot sends a view", '{"type": "view"}', {"forbidden"}),
 ]
 
@@ -351,17 +351,17 @@ async def test_unknown_keys(srv):
     for _ in range(2):
         await ws.send(json.dumps(robot))
     frame = far_scan(1, 0.05)
-    frame["intensities"] = [1.0] * len(frame["ranges"])
+    frame["intensities"] = [1.0] * len(frame["dist"])
     await ws.send(json.dumps(frame))
     got = await recv_type(ws, "setpoint")
     check(got["seq"] == 1, "a frame with an unknown key is still planned")
-    check(await srv.logged("robot typo: robot message: unknown key 'margn' ignored"),
+    check(await srv.logged("robot typo: unknown key 'robot.margn' ignored"),
           "the log names the unknown robot key")
-    check(await srv.logged("robot typo: scan message: unknown key 'intensities' ignored; "
+    check(await srv.logged("robot typo: unknown key 'scan.intensities' ignored; "
                            "frames with unknown keys take the slower decoder"),
           "the log names the unknown scan key and what it costs")
     await ws.close()
-    check(srv.log().count("unknown key 'margn'") == 1, "said once per connection and type")
+    check(srv.log().count("unknown key 'robot.margn'") == 1, "said once per connection and type")
 
 
 async def test_sigterm():
@@ -483,7 +483,7 @@ async def test_http_and_subprotocol(srv):
         await ws.send(json.dumps({"type": "hello", "role": "viewer"}))
     except websockets.ConnectionClosed:
         pass  # closed already at the handshake's end
-    check(await closed(ws), "a websocket without subprotocol lacuna.v1 is closed")
+    check(await closed(ws), "a websocket without subprotocol lacuna.v2 is closed")
     check(ws.close_code == 1008, "no subprotocol: close code %s, want 1008" % ws.close_code)
     # LIBNOTES.md trap: permessage-deflate broke closing in lws 4.1. The client
     # offers it (python3-websockets does by default); the server must decline.
