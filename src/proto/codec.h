@@ -17,7 +17,7 @@
  * Encoders write into a caller-owned lc_wire_text, also grown through
  * lc_alloc and reused.
  *
- * Units SI, angles in radians (CONTRACT.md). Numbers: frames, robot, route,
+ * Units SI, angles in radians (docs/INTERFACES.md). Numbers: frames, robot, route,
  * setpoints, stamps and the plan result are printed so that they parse back
  * to the same double bit for bit (%.15g when that round-trips, else
  * %.17g); view geometry is rounded to LC_WIRE_VIEW_DECIMALS decimals
@@ -261,7 +261,7 @@ typedef struct lc_wire_msg {
 int lc_wire_decode(const char *text, size_t len, const lc_wire_limits *lim,
                    lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err);
 
-/* Decode a `lacuna plan` request (CONTRACT.md). Same conventions. */
+/* Decode a `lacuna plan` request (docs/INTERFACES.md). Same conventions. */
 int lc_wire_decode_plan_request(const char *text, size_t len, const lc_wire_limits *lim,
                                 lc_wire_buffers *buf, lc_wire_plan_request *out,
                                 lc_wire_error *err);

@@ -1,5 +1,5 @@
 /*
- * scenario.h - scenario files (JSON Lines, CONTRACT.md): a header line, then
+ * scenario.h - scenario files (JSON Lines, docs/INTERFACES.md): a header line, then
  * one wire message a line, in order.
  *
  * Header: {"type":"scenario","version":1,"description":s,"robot":{...},

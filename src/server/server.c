@@ -1,6 +1,6 @@
 /*
  * server.c - see server.h. libwebsockets 4.1 notes that shape this file
- * (LIBNOTES.md): an IPv4 iface alone still listens on every interface
+ * (docs/LIBNOTES.md): an IPv4 iface alone still listens on every interface
  * unless IPv6 is disabled; permessage-deflate stays off; lws_write only in
  * the WRITEABLE callback, one message per callback; timers are lws_sul,
  * and no protocol work is done after lws_service returns except reacting

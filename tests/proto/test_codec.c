@@ -128,7 +128,7 @@ static const bad_case bad_cases[] = {
     {GENERIC, SCAN("'dist':[1],'dist':[2]}"), LC_WIRE_BAD_MESSAGE, "scan.dist"},
     {GENERIC, SCAN("'dist':[1],'type':'scan'}"), LC_WIRE_BAD_MESSAGE, "scan.type"},
     /* frame header */
-    {GENERIC, SCAN("'Ranges':[1,2]}"), LC_WIRE_BAD_FIELD, "scan.dist"},
+    {GENERIC, SCAN("'Dist':[1,2]}"), LC_WIRE_BAD_FIELD, "scan.dist"},
     {GENERIC, "{'type':'scan','seq':1.5,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
     {GENERIC, "{'type':'scan','seq':-1,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
     {GENERIC, "{'type':'scan','seq':1e16,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
@@ -608,7 +608,7 @@ static void test_examples_content(void **state)
     lc_wire_buffers_free(&buf);
 }
 
-/* Defaults of CONTRACT.md when fields are left out. */
+/* Defaults of docs/INTERFACES.md when fields are left out. */
 static void test_defaults(void **state)
 {
     (void)state;

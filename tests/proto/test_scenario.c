@@ -79,7 +79,7 @@ static void test_header_fields(void **state)
     assert_string_equal(h.description, "a \"test\" site");
     assert_true(h.has_robot && h.robot.model == LC_MODEL_UNICYCLE);
     assert_near(h.robot.radius, 0.32, 0);
-    assert_near(h.robot.margin, 0.05, 0); /* CONTRACT.md default */
+    assert_near(h.robot.margin, 0.05, 0); /* docs/INTERFACES.md default */
     assert_true(h.has_route && h.route.count == 2 && h.route.loop);
     assert_near(h.route.waypoints[1].y, 4, 0);
     assert_true(h.has_start);

@@ -15,6 +15,8 @@ daemon (python3-websockets; exit 77 without it):
   [dt_min, dt_max]; the first frame's 0.05 s), never more than the
   watchdog; checked for frames at 40, 20, 10 and 5 Hz and two watchdogs;
 - bad_json names NaN and Infinity as Python's json.dumps writes them;
+- a recording at changing frame rates replays with 0 mismatches, valid_ms
+  compared, and scripts/lacuna_v2.py turns its lacuna.v1 form back into it;
 - proto/client_example.py stops its robot itself when valid_ms runs out:
   the server is held (SIGSTOP) mid-route, the example says the setpoint
   expired, and once the server goes on (SIGCONT) it still finishes.
@@ -26,10 +28,12 @@ import asyncio
 import json
 import math
 import os
+import re
 import signal
 import socket
 import subprocess
 import sys
+import tempfile
 import time
 
 from serverlib import (FIGURES, SLOW, T, Server, check, connect, far_scan, finish, hello, recv,
@@ -38,6 +42,7 @@ from serverlib import (FIGURES, SLOW, T, Server, check, connect, far_scan, finis
 EXE = set_exe(sys.argv)
 HERE = os.path.dirname(os.path.abspath(__file__))
 EXAMPLE = os.path.join(HERE, "..", "..", "proto", "client_example.py")
+CONVERTER = os.path.join(HERE, "..", "..", "scripts", "lacuna_v2.py")
 
 
 # ------------------------------------------------------------ handshake
@@ -271,6 +276,59 @@ async def test_nonfinite(srv):
     await ws.close()
 
 
+# ------------------------------------------------ recordings and v1 files
+
+def as_v1(text):
+    """A lacuna.v2 recording written back as lacuna.v1 wrote it: the old scan
+    names, no valid_ms."""
+    old = {"bearing_first": "angle_start", "bearing_step": "angle_step", "near": "range_min",
+           "far": "range_max", "dist": "ranges"}
+    text = re.sub(r'"(bearing_first|bearing_step|near|far|dist)":',
+                  lambda m: '"%s":' % old[m.group(1)], text)
+    return re.sub(r',"valid_ms":\d+', "", text)
+
+
+async def test_recording_converted(tmp):
+    """A recording at changing rates, through a watchdog stop and the stop at
+    shutdown, replays with 0 mismatches, valid_ms compared; written back in
+    lacuna.v1's names, scripts/lacuna_v2.py gives it back byte for byte."""
+    rec = os.path.join(tmp, "rec")
+    srv = Server("--record", rec)
+    ws, m = await hello(srv.url, "taped")
+    await ws.send(json.dumps({"type": "route", "waypoints": [[3, 0]]}))
+    stamp = 0.0
+    for seq in range(1, 31):
+        stamp += (0.025, 0.05, 0.1, 0.3)[seq % 4] + (0.5 if seq == 20 else 0)
+        if seq == 20:  # past the watchdog: a stale stop is recorded
+            while (await recv_type(ws, "setpoint")).get("state") != "stale":
+                pass
+        await ws.send(json.dumps(far_scan(seq, stamp)))
+        while (await recv_type(ws, "setpoint"))["seq"] != seq:
+            pass
+    check(srv.stop() == 0, "recording server exits 0")
+    path = os.path.join(rec, os.listdir(rec)[0])
+    with open(path) as f:
+        text = f.read()
+    lines = [json.loads(x) for x in text.split("\n") if x]
+    sps = [x for x in lines if x["type"] == "setpoint"]
+    check(sps and all(isinstance(x.get("valid_ms"), int) for x in sps),
+          "every recorded setpoint has valid_ms")
+    check([x["state"] for x in sps if x["state"] in ("stale", "shutdown")][-1:] == ["shutdown"],
+          "the recording ends with the stop at shutdown")
+    r = subprocess.run([EXE, "replay", path, "--json"], capture_output=True, text=True, timeout=60)
+    out = json.loads(r.stdout or "{}")
+    check(r.returncode == 0 and out.get("mismatches") == 0 and out.get("compared") == 30
+          and out.get("unpaired") == 0, "the recording replays: %s %s" % (r.stdout, r.stderr[-300:]))
+    old = os.path.join(tmp, "v1.jsonl")
+    with open(old, "w") as f:
+        f.write(as_v1(text))
+    conv = subprocess.run([sys.executable, CONVERTER, old], capture_output=True, text=True,
+                          timeout=60)
+    check(conv.returncode == 0 and conv.stdout == text,
+          "scripts/lacuna_v2.py gives the lacuna.v1 form back as recorded (exit %d)"
+          % conv.returncode)
+
+
 # --------------------------------------- the example stops when it expires
 
 def test_example_expiry():
@@ -312,6 +370,8 @@ async def main():
         check(srv.stop() == 0, "main server exits 0")
     await test_valid_ms(200)
     await test_valid_ms(150)
+    with tempfile.TemporaryDirectory() as tmp:
+        await test_recording_converted(tmp)
     test_example_expiry()
     return finish("e2e_wire")
 
