@@ -424,24 +424,6 @@ static int hello_from_json(const cJSON *obj, lc_wire_hello *out, lc_wire_error *
 /* --------------------------------------------------------- text parsing */
 
 /*
- * The word for a number JSON cannot hold that the text has at p, as it is
- * written there, or NULL: Python's json.dumps writes NaN, Infinity and
- * -Infinity by default, C's printf nan and inf. Longer words first.
- */
-static const char *nonfinite_word(const char *p, const char *end)
-{
-    static const char *const words[] = {"-Infinity", "+Infinity", "-infinity", "Infinity",
-                                        "infinity", "-NaN", "-nan", "-inf", "+inf", "NaN",
-                                        "nan", "inf"};
-    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++) {
-        size_t n = strlen(words[i]);
-        if ((size_t)(end - p) >= n && memcmp(p, words[i], n) == 0)
-            return words[i];
-    }
-    return NULL;
-}
-
-/*
  * One JSON value and nothing but white space around it. cJSON takes any
  * byte <= 0x20 for white space and raw control bytes inside strings; JSON
  * allows neither, so those are refused before parsing.
@@ -468,16 +450,7 @@ static cJSON *parse_text(const char *text, size_t len, const lc_wire_limits *lim
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(text, len, &end, 0);
     if (!root) {
-        long at = end ? (long)(end - text) : 0;
-        const char *word = end ? nonfinite_word(end, text + len) : NULL;
-        if (word)
-            lc_wire_error_set(err, LC_WIRE_BAD_JSON,
-                              "message: %s at offset %ld is not JSON (JSON has no NaN or "
-                              "Infinity): send null for no value, or a finite number",
-                              word, at);
-        else
-            lc_wire_error_set(err, LC_WIRE_BAD_JSON, "message: not valid JSON (near offset %ld)",
-                              at);
+        lc_jr_bad_json(err, "message", text, len, end);
         return NULL;
     }
     for (const char *p = end; p < text + len; p++) {

@@ -69,6 +69,38 @@ int lc_jr_fail(lc_wire_error *err, lc_wire_code code, const char *path, const ch
     return -1;
 }
 
+/*
+ * The word for a number JSON cannot hold that the text has at p, as it is
+ * written there, or NULL: Python's json.dumps writes NaN, Infinity and
+ * -Infinity by default, C's printf nan and inf. Longer words first.
+ */
+static const char *nonfinite_word(const char *p, const char *end)
+{
+    static const char *const words[] = {"-Infinity", "+Infinity", "-infinity", "Infinity",
+                                        "infinity", "-NaN", "-nan", "-inf", "+inf", "NaN",
+                                        "nan", "inf"};
+    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++) {
+        size_t n = strlen(words[i]);
+        if ((size_t)(end - p) >= n && memcmp(p, words[i], n) == 0)
+            return words[i];
+    }
+    return NULL;
+}
+
+void lc_jr_bad_json(lc_wire_error *err, const char *what, const char *text, size_t len,
+                    const char *end)
+{
+    long at = end ? (long)(end - text) : 0;
+    const char *word = end && end >= text && end < text + len ? nonfinite_word(end, text + len)
+                                                                : NULL;
+    if (word)
+        lc_wire_error_set(err, LC_WIRE_BAD_JSON,
+                          "%s: %s at offset %ld is not JSON (JSON has no NaN or Infinity): "
+                          "send null for no value, or a finite number", what, word, at);
+    else
+        lc_wire_error_set(err, LC_WIRE_BAD_JSON, "%s: not valid JSON (near offset %ld)", what, at);
+}
+
 /* -------------------------------------------------------- field readers */
 
 const lc_wire_bounds lc_jr_any = {-MAG, MAG, false, false};

@@ -33,6 +33,13 @@ void lc_jr_join_name(char *buf, size_t n, const char *path, const char *key);
 int lc_jr_fail(lc_wire_error *err, lc_wire_code code, const char *path, const char *key,
                const char *fmt, ...) __attribute__((format(printf, 5, 6)));
 
+/* A bad_json error for text[0..len) that cJSON failed to parse at end
+ * (NULL: unknown): "what: not valid JSON (near offset N)", or, when a word
+ * for a number JSON has not stands there (NaN, Infinity, -Infinity, nan,
+ * inf), that word named. */
+void lc_jr_bad_json(lc_wire_error *err, const char *what, const char *text, size_t len,
+                    const char *end);
+
 /* The member, or NULL; *rc is -1 (err filled) for a required one that is missing. */
 const cJSON *lc_jr_member(const cJSON *obj, const char *path, const char *key, bool required,
                           int *rc, lc_wire_error *err);

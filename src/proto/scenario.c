@@ -359,7 +359,7 @@ static cJSON *parse_one(const char *text, size_t len, lc_wire_error *we)
     const char *end = NULL;
     cJSON *root = len ? cJSON_ParseWithLengthOpts(text, len, &end, 0) : NULL;
     if (!root) {
-        lc_wire_error_set(we, LC_WIRE_BAD_JSON, "header: not valid JSON");
+        lc_jr_bad_json(we, "header", text, len, end);
         return NULL;
     }
     for (const char *p = end; p < text + len; p++) {

@@ -1360,6 +1360,7 @@ static void reencode(const lc_wire_msg *msg, lc_wire_text *t, lc_wire_buffers *b
     case LC_MSG_SETPOINT: rc = lc_wire_encode_setpoint(t, &msg->u.setpoint); break;
     case LC_MSG_EVENT: rc = lc_wire_encode_event(t, &msg->u.event); break;
     case LC_MSG_ERROR: rc = lc_wire_encode_error(t, &msg->u.error); break;
+    case LC_MSG_WARNING: rc = lc_wire_encode_warning(t, &msg->u.warning); break;
     default: return;
     }
     assert_int_equal(rc, 0);
@@ -1692,12 +1693,12 @@ static void test_unknown_keys(void **state)
     /* a scan with an extra key leaves the fast path and is still decoded */
     t = unquote("{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'bearing_first':0,"
                 "'bearing_step':0.1,'near':0.1,'far':10,'dist':[1,2],"
-                "'intensities':[5,6]}");
+                "'strength':[5,6]}");
     assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
     assert_int_equal(msg.u.frame.n_ranges, 2);
     assert_int_equal(err.ignored, 1);
     lc_wire_ignored_text(&err, said, sizeof said);
-    assert_string_equal(said, "unknown key 'scan.intensities' ignored");
+    assert_string_equal(said, "unknown key 'scan.strength' ignored");
     free(t);
     /* lacuna.v1's scan names are unknown keys now: the scan is refused for
      * its missing fields, and the old names are still counted */

@@ -11,7 +11,8 @@
  * - The words of JSON's missing numbers as Python's json.dumps writes them
  *   by default (NaN, Infinity, -Infinity: common practice, and what C's
  *   printf writes, nan and inf) are named in the bad_json message, with
- *   their offset; other bad JSON is not said to hold them.
+ *   their offset, in messages, plan requests and scenario headers; other
+ *   bad JSON is not said to hold them.
  * - The scan names on both decode paths: a plain scan takes the fast path
  *   and decodes as the cJSON path does, degenerate scans included; a scan
  *   written with lacuna.v1's names leaves the fast path and is refused,
@@ -156,6 +157,14 @@ static void test_nonfinite_named(void **state)
                          -1);
         assert_non_null(strstr(err.message, words[i]));
     }
+    /* a scenario header the same (a script's json.dumps may write them) */
+    static lc_scenario_header h;
+    lc_scenario_header_init(&h);
+    lc_scenario_error serr;
+    const char *hdr = "{\"type\":\"scenario\",\"version\":1,\"max_time\":Infinity}";
+    assert_int_equal(lc_scenario_parse_header(hdr, strlen(hdr), &h, &serr), -1);
+    assert_non_null(strstr(serr.message, "bad_json: header: Infinity at offset 42 is not JSON"));
+    lc_scenario_header_free(&h);
     /* other bad JSON is not said to hold them; a string "NaN" is fine */
     char text[128];
     lc_wire_error err;

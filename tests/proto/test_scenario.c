@@ -306,7 +306,7 @@ static void test_unknown_keys_warned(void **state)
 
     /* in messages: once per message type, on the line where it first appears */
     char odd_scan[sizeof scan_line + 32];
-    snprintf(odd_scan, sizeof odd_scan, "%.*s,\"intensities\":[1]}",
+    snprintf(odd_scan, sizeof odd_scan, "%.*s,\"strength\":[1]}",
              (int)(sizeof scan_line - 2), scan_line);
     snprintf(text, sizeof text, "%s\n%s\n%s\n%s\n", header_full, odd_scan, odd_scan,
              setpoint_line);
@@ -314,7 +314,7 @@ static void test_unknown_keys_warned(void **state)
     assert_int_equal(read_all(text, &w, &err, NULL), 3);
     assert_int_equal(w.count, 1);
     assert_int_equal(w.line, 2);
-    assert_string_equal(w.last, "unknown key 'scan.intensities' ignored (said once per "
+    assert_string_equal(w.last, "unknown key 'scan.strength' ignored (said once per "
                                 "message type)");
 
     /* a recording's header, as lacuna serve writes it: every key known */

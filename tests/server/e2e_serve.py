@@ -352,13 +352,13 @@ async def test_unknown_keys(srv):
     for _ in range(2):
         await ws.send(json.dumps(robot))
     frame = far_scan(1, 0.05)
-    frame["intensities"] = [1.0] * len(frame["dist"])
+    frame["strength"] = [1.0] * len(frame["dist"])
     await ws.send(json.dumps(frame))
     got = await recv_type(ws, "setpoint")
     check(got["seq"] == 1, "a frame with an unknown key is still planned")
     check(await srv.logged("robot typo: unknown key 'robot.margn' ignored"),
           "the log names the unknown robot key")
-    check(await srv.logged("robot typo: unknown key 'scan.intensities' ignored; "
+    check(await srv.logged("robot typo: unknown key 'scan.strength' ignored; "
                            "frames with unknown keys take the slower decoder"),
           "the log names the unknown scan key and what it costs")
     await ws.close()

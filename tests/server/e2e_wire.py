@@ -164,11 +164,11 @@ async def robot_session(srv, name):
     one(w, "unlisted_sensor", 14, "scan.sensor: 'cam'")
     every += w
     every += await frame(ws, 15, 1.3, sensor="cam2")
-    w = await frame(ws, 16, 1.35, intensity=[1] * 31)
-    one(w, "unknown_key", 16, "'scan.intensity'")
+    w = await frame(ws, 16, 1.35, strength=[1] * 31)
+    one(w, "unknown_key", 16, "'scan.strength'")
     every += w
-    every += await frame(ws, 17, 1.4, intensity=[1] * 31)
-    every += await frame(ws, 18, 1.45, sensor="cam", intensity=[1] * 31)
+    every += await frame(ws, 17, 1.4, strength=[1] * 31)
+    every += await frame(ws, 18, 1.45, sensor="cam", strength=[1] * 31)
     await ws.close()
     return every
 

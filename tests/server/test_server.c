@@ -660,10 +660,10 @@ static void test_hub_warnings(void **state)
     expect(c, "setpoint", NULL);
     send_scan_with(hub, c, 10, 1.3, "cam2", NULL);
     expect(c, "setpoint", NULL);
-    send_scan_with(hub, c, 11, 1.35, NULL, "intensity");
-    expect_warning(c, "unknown_key", "'scan.intensity'", 11);
+    send_scan_with(hub, c, 11, 1.35, NULL, "strength");
+    expect_warning(c, "unknown_key", "'scan.strength'", 11);
     expect(c, "setpoint", NULL);
-    send_scan_with(hub, c, 12, 1.4, NULL, "intensity");
+    send_scan_with(hub, c, 12, 1.4, NULL, "strength");
     expect(c, "setpoint", NULL);
     expect_none(c);
     /* equal stamps (two sensors at one instant) and equal seqs are no warning */
