@@ -374,6 +374,8 @@ async def test_sigterm():
     moving = m["vx"] != 0
     srv.proc.send_signal(signal.SIGTERM)
     m = await recv_type(ws, "setpoint", 5)
+    while m["state"] == "stale":  # a slow server's watchdog may stop it first (valgrind)
+        m = await recv_type(ws, "setpoint", 5)
     check(m["vx"] == 0 and m["vy"] == 0 and m["seq"] == 5, "SIGTERM: last stop setpoint %s" % m)
     check(m["state"] == "shutdown" and m["limit"] == "none" and m.get("valid_ms", 0) >= 1,
           "SIGTERM: the last stop says shutdown (not idle, which means no route): %s" % m)

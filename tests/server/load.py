@@ -98,6 +98,8 @@ async def one_cycle(srv, k):
         ws, m = await hello(srv.url, "cycle-%d" % k)
         await ws.send(json.dumps(dict(example.scan(example.SCENE, 1, 0.0, (0, 0, 0)))))
         m = await recv(ws)
+        check(m.get("code") == "no_route", "cycle robot %d warned of no route (%s)" % (k, m))
+        m = await recv(ws)
         check(m["type"] == "setpoint", "cycle robot %d answered (%s)" % (k, m.get("type")))
         await ws.close()
     elif kind == 1:
