@@ -6,6 +6,9 @@
  * message names the field at fault by its full path ("scan.dist[12]: not a
  * number or null", "robot.radius: must be > 0").
  * No input crashes the decoder or leaks; nothing is asserted on input.
+ * Keys it does not know are ignored but counted and named with the same
+ * paths (lc_wire_error.ignored), on success too: the server tells the robot
+ * in a warning message (lc_wire_warning), the file readers warn.
  *
  * Ownership: the caller owns every struct. A decoded frame's arrays (dist,
  * xy, z) point into the caller's lc_wire_buffers and stay valid until the
