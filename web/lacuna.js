@@ -29,7 +29,7 @@
 (function () {
   'use strict';
 
-  var PROTOCOL = 'lacuna.v1';
+  var PROTOCOL = 'lacuna.v2';
   var TRAIL_SECONDS = 30;         /* the trail fades out over this time */
   var TRAIL_BREAK_M = 1.0;        /* a jump longer than this starts a new trail piece */
   var SILENT_SECONDS = 2.0;       /* at least: a robot sending frames, or stale, gets a view

@@ -757,7 +757,8 @@ int lc_session_drive(lc_session *s, const lc_frame *frame, lc_plan_result *out,
                                .model = s->robot.model,
                                .sp = out->setpoint,
                                .state = out->state,
-                               .waypoint = out->has_waypoint ? out->waypoint_index : -1};
+                               .waypoint = out->has_waypoint ? out->waypoint_index : -1,
+                               .valid_ms = lc_control_valid_ms(&s->control, dt)};
     *reply = s->last_reply;
     return rc;
 }
@@ -768,6 +769,8 @@ void lc_session_stop(lc_session *s, lc_state state, lc_limit limit, lc_reply *ou
     if (!out)
         return;
     *out = s->last_reply;
+    if (!s->driven) /* no reply to keep the valid_ms of: the first frame's */
+        out->valid_ms = lc_control_valid_ms(&s->control, s->control.first_dt);
     out->model = s->robot.model;
     out->sp = lc_setpoint_stop(limit);
     out->state = state;

@@ -60,9 +60,11 @@ static const opt options[] = {
          "browser origin (scheme://host[:port], null, or * for any) allowed to open a websocket; "
          "repeat or separate with commas. Always allowed: no Origin header (programs) and the "
          "page's own origin; any other is refused (error forbidden, close 1008)"),
-    INT(watchdog_ms, 20, 60000, 200, "stop setpoints (stale) when no valid frame came for this long"),
+    INT(watchdog_ms, 20, 60000, 200,
+        "stop setpoints (stale) when no valid frame came for this long; also the most any "
+        "setpoint's valid_ms can be"),
     INT(max_message, 1024, 64 << 20, 1 << 20, "largest message in bytes (larger: close 1009)"),
-    INT(max_beams, 1, 1000000, 100000, "most ranges in one scan"),
+    INT(max_beams, 1, 1000000, 100000, "most beams (dist values) in one scan"),
     INT(max_points, 1, 1000000, 100000, "most points in one points frame"),
     INT(max_connections, 1, 10000, 64,
         "most websocket connections at a time; beyond it the handshake gets HTTP 503"),

@@ -116,7 +116,7 @@ void lc_hub_hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
                   robot ? hub->robot_token : hub->viewer_token, h)) {
         lc_log(LC_LOG_WARN, "%s hello for '%s' refused: wrong or missing token",
                robot ? "robot" : "viewer", h->robot);
-        lc_hub_error_close(hub, c, LC_WIRE_UNAUTHORIZED, now, "token: wrong or missing");
+        lc_hub_error_close(hub, c, LC_WIRE_UNAUTHORIZED, now, "hello.token: wrong or missing");
         return;
     }
     if (!robot) {
@@ -130,7 +130,7 @@ void lc_hub_hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
     }
     if (lc_hub_find_bot(hub, h->robot)) {
         char text[128];
-        snprintf(text, sizeof text, "robot: '%s' is connected already", h->robot);
+        snprintf(text, sizeof text, "hello.robot: '%s' is connected already", h->robot);
         lc_log(LC_LOG_WARN, "second connection for robot %s refused", h->robot);
         lc_hub_error_close(hub, c, LC_WIRE_NAME_TAKEN, now, text);
         return;

@@ -2,12 +2,15 @@
  * hub_bot.c - one robot's session in the hub: its description and route,
  * each frame's step (the control period dt, the session step, the setpoint,
  * errors and events: lc_session_drive), the watchdog's stop setpoints, the last stop at
- * shutdown, its recording, and the log of frames naming sensors it did not
- * describe. A robot session lives as long as its robot's
- * connection.
+ * shutdown, its recording, and the warnings a robot hears about its frames
+ * (before a route, stamps or seq going back, sensors it did not describe:
+ * each once per connection, the last one also logged). A robot session
+ * lives as long as its robot's connection.
  */
 #include <errno.h>
+#include <inttypes.h>
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -121,16 +124,39 @@ static void send_events(lc_hub *hub, bot *b, double now)
     }
 }
 
+/* "scan" or "points": the frame's message type, the root of its field names. */
+static const char *frame_type(const lc_frame *f)
+{
+    return lc_msg_type_name(f->kind == LC_FRAME_POINTS ? LC_MSG_POINTS : LC_MSG_SCAN);
+}
+
+void lc_hub_warn(lc_hub *hub, lc_conn *c, lc_wire_warn code, bool bypass, int64_t seq,
+                 double now, const char *fmt, ...)
+{
+    if (c->role != ROLE_ROBOT || c->closing || (!bypass && (c->warned & (1u << code))))
+        return;
+    c->warned |= 1u << code;
+    lc_wire_warning w = {.code = code, .has_seq = seq >= 0, .seq = seq};
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(w.message, sizeof w.message, fmt, ap);
+    va_end(ap);
+    lc_hub_send_encoded(hub, c, lc_wire_encode_warning(&hub->text, &w), now);
+}
+
 /*
  * A frame that names a sensor the robot's description does not list is
  * planned all the same (with its own mount: lc_robot_sensor finds none),
- * and logged once per connection and sensor name. The place to warn the
- * robot itself from, too.
+ * and logged once per connection and sensor name; the robot hears of the
+ * first (a warning).
  */
-static void unlisted_sensor(bot *b, const lc_frame *f)
+static void unlisted_sensor(lc_hub *hub, bot *b, const lc_frame *f, double now)
 {
     if (!f->sensor[0] || lc_robot_sensor(&b->desc, f))
         return;
+    lc_hub_warn(hub, b->conn, LC_WARN_UNLISTED_SENSOR, false, f->seq, now,
+                "%s.sensor: '%s' is not one of the robot's sensors; planned with the frame's "
+                "own mount (said once)", frame_type(f), f->sensor);
     for (int i = 0; i < b->n_unlisted && i < LC_SENSORS_MAX; i++)
         if (strcmp(b->unlisted[i], f->sensor) == 0)
             return;
@@ -146,10 +172,38 @@ static void unlisted_sensor(bot *b, const lc_frame *f)
     }
 }
 
+/*
+ * What the robot should hear about a frame that is planned all the same:
+ * one before any route (it is answered idle), a stamp or seq below the
+ * previous frame's on this connection (equal stamps are several sensors at
+ * one instant; equal seqs are allowed too), a sensor it did not describe.
+ */
+static void frame_warnings(lc_hub *hub, bot *b, const lc_frame *f, double now)
+{
+    lc_conn *c = b->conn;
+    const char *type = frame_type(f);
+    if (!b->has_route)
+        lc_hub_warn(hub, c, LC_WARN_NO_ROUTE, false, f->seq, now,
+                    "%s: no route yet; the robot is told to stay still (state idle) until a "
+                    "route message comes (said once)", type);
+    if (c->rx_frame && f->stamp < c->rx_stamp)
+        lc_hub_warn(hub, c, LC_WARN_STAMP_BACKWARDS, false, f->seq, now,
+                    "%s.stamp: %.17g is before the previous frame's %.17g; stamps should "
+                    "increase (said once)", type, f->stamp, c->rx_stamp);
+    if (c->rx_frame && f->seq < c->rx_seq)
+        lc_hub_warn(hub, c, LC_WARN_SEQ_BACKWARDS, false, f->seq, now,
+                    "%s.seq: %" PRId64 " is below the previous frame's %" PRId64 "; setpoints "
+                    "echo seq, so it should increase (said once)", type, f->seq, c->rx_seq);
+    unlisted_sensor(hub, b, f, now);
+    c->rx_frame = true;
+    c->rx_seq = f->seq;
+    c->rx_stamp = f->stamp;
+}
+
 static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
 {
     start_recording(hub, b);
-    unlisted_sensor(b, f);
+    frame_warnings(hub, b, f, now);
     if (lc_recorder_is_open(&b->rec) && lc_wire_encode_frame(&hub->text, f) == 0)
         record(b, hub->text.s, (size_t)hub->text.len);
     int rc = lc_session_drive(b->core, f, &b->result, &b->last_sp);
@@ -188,7 +242,7 @@ void lc_hub_bot_stop(lc_hub *hub, bot *b, double now)
 {
     if (!b->has_frame || b->conn->closing)
         return;
-    lc_session_stop(b->core, LC_STATE_IDLE, LC_LIMIT_IDLE, &b->last_sp);
+    lc_session_stop(b->core, LC_STATE_SHUTDOWN, LC_LIMIT_NONE, &b->last_sp);
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
 }
 

@@ -64,6 +64,10 @@ struct lc_conn {
     queue replies, views;
     bool paused; /* receive flow: not read until its replies drain (lc_conn_reading) */
     unsigned warned_ignored; /* message types logged for unknown keys (once each) */
+    unsigned warned;         /* warning kinds sent, 1 << lc_wire_warn (once each) */
+    bool rx_frame;           /* a frame accepted on this connection: rx_seq, rx_stamp hold */
+    int64_t rx_seq;          /* the last one's seq and stamp (warnings when they go back) */
+    double rx_stamp;
     bool closing;
     double close_at; /* kill when the peer has not let us close by then */
     int close_status;
@@ -146,6 +150,11 @@ void lc_hub_bot_free(lc_hub *hub, bot *b);
 void lc_hub_robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double now);
 void lc_hub_watchdog(lc_hub *hub, bot *b, double now);
 void lc_hub_bot_stop(lc_hub *hub, bot *b, double now);
+/* A warning message to a robot connection, once per connection and code
+ * (bypass: sent even when the code was, for unknown keys, which hub_rx.c
+ * says once per message type); seq < 0: none. printf-formatted message. */
+void lc_hub_warn(lc_hub *hub, lc_conn *c, lc_wire_warn code, bool bypass, int64_t seq,
+                 double now, const char *fmt, ...) __attribute__((format(printf, 7, 8)));
 
 /* hub_views.c */
 void lc_hub_mark_views_dirty(lc_hub *hub);

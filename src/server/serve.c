@@ -30,7 +30,7 @@ static const char usage_head[] =
     "                    [--watchdog-ms N] [--log-level L] [other options below]\n"
     "\n"
     "The navigation daemon. Robots connect over a websocket (ws://HOST:PORT/, subprotocol\n"
-    "lacuna.v1), send their description, route and sensor frames, and get one velocity\n"
+    "lacuna.v2), send their description, route and sensor frames, and get one velocity\n"
     "setpoint per frame; browsers get the viewer page at http://HOST:PORT/. Without a\n"
     "frame for watchdog_ms the robot gets stop setpoints (state stale). SIGINT/SIGTERM\n"
     "send a last stop setpoint to every robot and exit 0; SIGHUP reopens the log and\n"

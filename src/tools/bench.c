@@ -493,8 +493,8 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
                sr->expanded, sr->cadence, sr->amortised_us);
     if (cd)
         printf("\ndecoding one %d-beam scan message (median per decode):\n"
-               "  millimetre ranges (%zu bytes): %.1f us; the cJSON path alone %.1f us\n"
-               "  17-digit ranges (%zu bytes):   %.1f us\n",
+               "  millimetre distances (%zu bytes): %.1f us; the cJSON path alone %.1f us\n"
+               "  17-digit distances (%zu bytes):   %.1f us\n",
                cd->beams, cd->bytes_mm, cd->fast_mm_us, cd->cjson_mm_us, cd->bytes_full,
                cd->fast_full_us);
 }

@@ -10,6 +10,10 @@
  * period 1 / rate). Every recording made before must step exactly as it
  * did, so the comparison is exact (==), on a table of edge cases and on
  * random stamps with a fixed seed.
+ *
+ * valid_ms (control.h) is checked against its rule written out, on a table
+ * of edge cases and random periods, and through the driver: every reply
+ * carries the valid_ms of its own step, and a stop the one it replaces.
  */
 #include "testutil.h"
 
@@ -97,6 +101,41 @@ static void test_random(void **state)
     }
 }
 
+/* valid_ms: two periods, at most the watchdog, at least 1 ms. */
+static void test_valid_ms(void **state)
+{
+    (void)state;
+    lc_control srv, sim;
+    lc_control_default(&srv); /* watchdog 200 ms */
+    lc_control_stamps(&sim, 0.05); /* no watchdog */
+    const struct {
+        double dt;
+        int srv, sim;
+    } cases[] = {
+        {0.05, 100, 100},   {0.025, 50, 50},  {0.1, 200, 200},   {0.2, 200, 400},
+        {1.0, 200, 2000},   {0.005, 10, 10},  {0.0004, 1, 1},    {0.0, 1, 1},
+        {-1.0, 1, 1},       {NAN, 1, 1},      {INFINITY, 200, LC_VALID_MS_MAX},
+        {0.0333, 67, 67},   {1e12, 200, LC_VALID_MS_MAX},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        if (lc_control_valid_ms(&srv, cases[i].dt) != cases[i].srv ||
+            lc_control_valid_ms(&sim, cases[i].dt) != cases[i].sim)
+            fail_msg("dt %g: valid_ms %d and %d, want %d and %d", cases[i].dt,
+                     lc_control_valid_ms(&srv, cases[i].dt), lc_control_valid_ms(&sim, cases[i].dt),
+                     cases[i].srv, cases[i].sim);
+    }
+    lc_rng rng;
+    lc_rng_seed(&rng, 11);
+    for (int i = 0; i < 20000; i++) {
+        lc_control c = srv;
+        c.watchdog_ms = (int)lc_rng_uniform(&rng, 0, 1000);
+        double dt = lc_rng_uniform(&rng, 0, 1);
+        int ms = lc_control_valid_ms(&c, dt), two = (int)lround(2000.0 * dt);
+        int want = c.watchdog_ms > 0 && two > c.watchdog_ms ? c.watchdog_ms : two;
+        assert_int_equal(ms, want < 1 ? 1 : want);
+    }
+}
+
 /* An empty scan (no return) at stamp t: the robot is free to move. */
 static lc_frame empty_scan(int64_t seq, double stamp, double *ranges, int n)
 {
@@ -136,23 +175,37 @@ static void test_drive_and_stop(void **state)
     /* first frame: dt = first_dt 0.05, so at most a_max * 0.05 from rest */
     assert_true(hypot(rep.sp.vx, rep.sp.vy) <= 0.5 * 0.05 + 1e-12);
     assert_true(rep.sp.vx > 0);
+    assert_int_equal(rep.valid_ms, 100); /* two periods of 0.05 s */
     double v1 = rep.sp.vx;
     f = empty_scan(11, 100.1, ranges, 360); /* dt 0.1 */
     lc_session_drive(s, &f, &res, &rep);
     assert_near(rep.sp.vx - v1, 0.5 * 0.1, 1e-9);
+    assert_int_equal(rep.valid_ms, 200);
+    f = empty_scan(12, 100.1, ranges, 360); /* the same instant: a revision, the same dt */
+    lc_session_drive(s, &f, &res, &rep);
+    assert_int_equal(rep.valid_ms, 200);
 
     lc_reply stop;
     lc_session_stop(s, LC_STATE_STALE, LC_LIMIT_STALE, &stop);
-    assert_int_equal(stop.seq, 11);
+    assert_int_equal(stop.seq, 12);
     assert_true(stop.stamp == 100.1);
+    assert_int_equal(stop.valid_ms, 200); /* the valid_ms of the reply it replaces */
     assert_int_equal(stop.state, LC_STATE_STALE);
     assert_int_equal(stop.sp.limit, LC_LIMIT_STALE);
     assert_true(stop.sp.vx == 0 && stop.sp.vy == 0);
     assert_int_equal(stop.waypoint, 0);
     /* after the stop the robot is at rest: the speed-up starts from 0 */
-    f = empty_scan(12, 100.15, ranges, 360); /* dt 0.05 */
+    f = empty_scan(13, 100.15, ranges, 360); /* dt 0.05 */
     lc_session_drive(s, &f, &res, &rep);
     assert_true(rep.sp.vx <= 0.5 * 0.05 + 1e-12);
+    assert_int_equal(rep.valid_ms, 100);
+    /* the server's last stop: its own state, not idle (no route) */
+    lc_session_stop(s, LC_STATE_SHUTDOWN, LC_LIMIT_NONE, &stop);
+    assert_int_equal(stop.state, LC_STATE_SHUTDOWN);
+    assert_string_equal(lc_state_name(stop.state), "shutdown");
+    assert_int_equal(stop.sp.limit, LC_LIMIT_NONE);
+    assert_true(stop.sp.vx == 0 && stop.sp.vy == 0);
+    assert_int_equal(stop.seq, 13);
     lc_session_free(s);
 }
 
@@ -166,6 +219,7 @@ static void test_stop_before_frames(void **state)
     assert_int_equal(stop.seq, -1);
     assert_int_equal(stop.waypoint, -1);
     assert_int_equal(stop.state, LC_STATE_IDLE);
+    assert_int_equal(stop.valid_ms, 100); /* the first frame's period, 0.05 s, twice */
     lc_session_stop(s, LC_STATE_STALE, LC_LIMIT_STALE, NULL); /* no reply wanted */
     lc_session_free(s);
 }
@@ -176,6 +230,7 @@ int main(void)
         cmocka_unit_test(test_defaults),
         cmocka_unit_test(test_table),
         cmocka_unit_test(test_random),
+        cmocka_unit_test(test_valid_ms),
         cmocka_unit_test(test_drive_and_stop),
         cmocka_unit_test(test_stop_before_frames),
     };

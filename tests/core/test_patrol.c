@@ -59,7 +59,7 @@ static void test_names_and_defaults(void **state)
     (void)state;
     /* docs/INTERFACES.md `state` values */
     static const char *const st[] = {"idle", "tracking", "arrived", "done",
-                                     "blocked", "stale", "too_close"};
+                                     "blocked", "stale", "too_close", "shutdown"};
     for (int i = 0; i < LC_STATE_COUNT; i++)
         assert_string_equal(lc_state_name((lc_state)i), st[i]);
     assert_string_equal(lc_state_name(LC_STATE_COUNT), "unknown");

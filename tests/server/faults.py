@@ -230,7 +230,7 @@ async def test_burst(srv):
     raw = raw_robot(srv.port, "burst")
     raw.s.sendall(b"".join(RawWS.frame(json.dumps(far_scan(k, k * 0.01)).encode())
                            for k in range(1, 1001)))
-    seqs, other = [], []
+    seqs, other, warned = [], [], []
     while len(seqs) < 1000:
         op, data = raw.recv_message()
         if op != 1:
@@ -238,12 +238,15 @@ async def test_burst(srv):
         m = json.loads(data)
         if m["type"] == "setpoint" and m["state"] != "stale":
             seqs.append(m["seq"])
+        elif m["type"] == "warning":
+            warned.append(m["code"])
         elif m["type"] != "setpoint":
             other.append(m)
     raw.close()
     check(seqs == list(range(1, 1001)) and not other,
           "a burst of 1000 frames: %d answered in order, other messages %s"
           % (len(seqs), other[:2]))
+    check(warned == ["no_route"], "the burst (sent without a route) is warned of once: %s" % warned)
     FIGURES["burst_frames_answered"] = len(seqs)
 
 

@@ -289,8 +289,8 @@ static void expect_none(lc_conn *c)
 }
 
 static const char scan_fmt[] =
-    "{\"type\":\"scan\",\"seq\":%d,\"stamp\":%g,\"pose\":[0,0,0],\"angle_start\":-1.5,"
-    "\"angle_step\":0.1,\"range_min\":0.05,\"range_max\":10,\"ranges\":[6,6,6,6,6,6,6,6,6,6,"
+    "{\"type\":\"scan\",\"seq\":%d,\"stamp\":%g,\"pose\":[0,0,0],\"bearing_first\":-1.5,"
+    "\"bearing_step\":0.1,\"near\":0.05,\"far\":10,\"dist\":[6,6,6,6,6,6,6,6,6,6,"
     "6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6]}";
 
 static void send_scan(lc_hub *hub, lc_conn *c, int seq, double stamp, double now)
@@ -424,6 +424,7 @@ static void test_hub_send_queue_full(void **state)
 {
     lc_hub *hub = hub_with(small_queues);
     lc_conn *r = robot(hub, "slow", 0);
+    say(hub, r, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", 0); /* no warning */
     /* receive flow: stop reading at half the queue (2 of 4), read again at a quarter */
     assert_true(lc_conn_reading(r));
     send_scan(hub, r, 1, 0.05, 0.05);
@@ -433,7 +434,7 @@ static void test_hub_send_queue_full(void **state)
     lc_conn_pop(r);
     assert_true(lc_conn_reading(r)); /* 1 left: a quarter of 4 */
     lc_conn_pop(r);
-    for (int k = 1; k <= 6; k++)
+    for (int k = 3; k <= 8; k++) /* seq and stamps go on: no warning */
         send_scan(hub, r, k, 0.05 * k, 0.05 * k);
     for (int k = 1; k <= 4; k++)
         expect(r, "setpoint", NULL);
@@ -545,6 +546,7 @@ static void test_hub_flood_and_hello_timeout(void **state)
     lc_hub *hub = hub_with(slow_rate);
     lc_conn *r = robot(hub, "flood", 0);
     send_scan(hub, r, 1, 0, 0);
+    expect(r, "warning", "no_route");
     expect(r, "setpoint", NULL);
     send_scan(hub, r, 2, 0.01, 0.01);
     expect(r, "error", "rate_limited");
@@ -571,6 +573,9 @@ static void test_hub_shutdown(void **state)
     lc_hub_shutdown(hub, 0.01);
     j = next(r);
     assert_string_equal(str(j, "type"), "setpoint");
+    assert_string_equal(str(j, "state"), "shutdown"); /* not idle, which means no route */
+    assert_string_equal(str(j, "limit"), "none");
+    assert_near(num(j, "valid_ms"), 100, 0); /* the first frame's 0.05 s, twice */
     assert_near(num(j, "seq"), 7, 0);
     assert_near(num(j, "vx"), 0, 0);
     assert_near(num(j, "vy"), 0, 0);
@@ -579,6 +584,101 @@ static void test_hub_shutdown(void **state)
     expect_none(quiet); /* no frame, so never a setpoint to stop */
     assert_true(lc_conn_closing(r) && lc_conn_closing(quiet));
     assert_int_equal(lc_conn_close_status(r, NULL), LC_CLOSE_GOING_AWAY);
+    lc_hub_free(hub);
+}
+
+/* The next message is a warning of this code, naming what (seq < 0: none). */
+static void expect_warning(lc_conn *c, const char *code, const char *what, int seq)
+{
+    cJSON *j = next(c);
+    assert_non_null(j);
+    assert_string_equal(str(j, "type"), "warning");
+    assert_string_equal(str(j, "code"), code);
+    if (!strstr(str(j, "message"), what))
+        fail_msg("warning %s: \"%s\" does not say %s", code, str(j, "message"), what);
+    if (seq < 0)
+        assert_null(cJSON_GetObjectItemCaseSensitive(j, "seq"));
+    else
+        assert_near(num(j, "seq"), seq, 0);
+    cJSON_Delete(j);
+}
+
+/* A scan of this seq and stamp, naming a sensor and carrying an extra key
+ * when those are not NULL; received 10 ms after the one before (the hub's
+ * clock goes on whatever the stamps do). */
+static double warn_now; /* the hub's clock in test_hub_warnings */
+
+static void send_scan_with(lc_hub *hub, lc_conn *c, int seq, double stamp, const char *sensor,
+                           const char *extra)
+{
+    double now = warn_now += 0.01;
+    char text[640];
+    int n = snprintf(text, sizeof text, scan_fmt, seq, stamp);
+    if (sensor || extra)
+        snprintf(text + n - 1, sizeof text - (size_t)n + 1, ",\"%s\":\"%s\"}",
+                 sensor ? "sensor" : extra, sensor ? sensor : "x");
+    assert_int_equal(say(hub, c, text, now), 0);
+}
+
+/*
+ * Warnings a robot hears (PROTOCOL.md): each kind once per connection and
+ * not twice, unknown keys once per message type (the hello's after its
+ * welcome), each before the setpoint of the frame it is about, with that
+ * frame's seq; a new connection hears them again; a viewer hears none.
+ */
+static void test_hub_warnings(void **state)
+{
+    lc_hub *hub = hub_with(NULL);
+    lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
+    say(hub, c, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"w1\",\"tokn\":\"x\"}", 0);
+    expect(c, "welcome", NULL);
+    expect_warning(c, "unknown_key", "'hello.tokn'", -1);
+    expect_none(c);
+    for (int k = 0; k < 2; k++) /* a typo keeps the default radius: said once */
+        say(hub, c, "{\"type\":\"robot\",\"radus\":0.5,\"sensors\":[{\"name\":\"front\"}]}", 0);
+    expect_warning(c, "unknown_key", "'robot.radus'", -1);
+    expect_none(c);
+    send_scan_with(hub, c, 5, 1.0, NULL, NULL);
+    expect_warning(c, "no_route", "route", 5);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 6, 1.05, NULL, NULL);
+    expect(c, "setpoint", NULL);
+    expect_none(c);
+    say(hub, c, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", warn_now);
+    send_scan_with(hub, c, 4, 1.1, NULL, NULL);
+    expect_warning(c, "seq_backwards", "scan.seq: 4 is below the previous frame's 6", 4);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 7, 0.9, NULL, NULL);
+    expect_warning(c, "stamp_backwards", "scan.stamp: 0.90000000000000002 is before", 7);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 3, 0.5, NULL, NULL); /* both again: not said again */
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 8, 1.2, "front", NULL); /* a listed sensor */
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 9, 1.25, "cam", NULL);
+    expect_warning(c, "unlisted_sensor", "scan.sensor: 'cam'", 9);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 10, 1.3, "cam2", NULL);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 11, 1.35, NULL, "strength");
+    expect_warning(c, "unknown_key", "'scan.strength'", 11);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 12, 1.4, NULL, "strength");
+    expect(c, "setpoint", NULL);
+    expect_none(c);
+    /* equal stamps (two sensors at one instant) and equal seqs are no warning */
+    lc_conn *c2 = robot(hub, "w2", warn_now);
+    say(hub, c2, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", warn_now);
+    for (int k = 0; k < 3; k++) {
+        send_scan_with(hub, c2, 1, 2.0, NULL, NULL);
+        expect(c2, "setpoint", NULL);
+    }
+    expect_none(c2);
+    /* a viewer's unknown key is logged, not sent */
+    lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
+    say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\",\"colour\":\"red\"}", 0);
+    expect(v, "welcome", NULL);
+    expect_none(v);
     lc_hub_free(hub);
 }
 
@@ -651,6 +751,7 @@ static void test_hub_recording_fails(void **state)
     lc_hub *hub = hub_with(record_to);
     lc_conn *r = robot(hub, "tape", 0);
     send_scan(hub, r, 1, 0.05, 0.05);
+    expect(r, "warning", "no_route");
     expect(r, "setpoint", NULL);
     cJSON *j = next(r);
     assert_string_equal(str(j, "type"), "error");
@@ -825,6 +926,7 @@ int main(void)
         cmocka_unit_test(test_hub_limits),
         cmocka_unit_test(test_hub_flood_and_hello_timeout),
         cmocka_unit_test(test_hub_shutdown),
+        cmocka_unit_test(test_hub_warnings),
         cmocka_unit_test(test_hub_max_connections),
         cmocka_unit_test(test_hub_admission),
         cmocka_unit_test(test_hub_recording_fails),

@@ -71,13 +71,13 @@ bad() { # bad NAME JSON FIELD
     expect_in "bad-$1" "$tmp/err" "$3"
     [ "$(wc -l <"$tmp/err")" -eq 1 ] || { fail=$((fail + 1)); echo "FAIL bad-$1: reason not one line"; }
 }
-frame='"frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0.1, "range_min": 0.1, "range_max": 5, "ranges": [1, 2, null]}'
+frame='"frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "bearing_first": 0, "bearing_step": 0.1, "near": 0.1, "far": 5, "dist": [1, 2, null]}'
 bad truncated '{"goal": [1, 2], ' "bad_json\|JSON\|json"
 bad no-frame '{"goal": [1, 2]}' "frame"
 bad radius "{\"robot\": {\"radius\": -1}, \"goal\": [1, 2], $frame}" "radius"
 bad goal "{\"goal\": [1], $frame}" "goal"
-bad step '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0, "range_min": 0.1, "range_max": 5, "ranges": [1]}}' "angle_step"
-bad beam '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0.1, "range_min": 0.1, "range_max": 5, "ranges": [1, "x"]}}' "ranges\[1\]"
+bad step '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "bearing_first": 0, "bearing_step": 0, "near": 0.1, "far": 5, "dist": [1]}}' "bearing_step"
+bad beam '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "bearing_first": 0, "bearing_step": 0.1, "near": 0.1, "far": 5, "dist": [1, "x"]}}' "frame.dist\[1\]"
 bad dt "{\"goal\": [1, 2], \"dt\": -0.1, $frame}" "dt"
 
 # lacuna check: the stopping distances of docs/REFERENCES.md (d = v t_r + v^2/(2a):

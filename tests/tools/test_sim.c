@@ -98,8 +98,8 @@ static void corridor_route(const char *path, const char *model, const char *star
              "\"route\":%s,\"start\":%s,"
              "\"world\":{\"polygons\":[[[-3,-1.7],[30,-1.7],[30,-1.5],[-3,-1.5]],"
              "[[-3,1.5],[30,1.5],[30,1.7],[-3,1.7]]]},"
-             "\"sensor\":{\"beams\":181,\"fov\":4.71238898038469,\"range_min\":0.05,"
-             "\"range_max\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},\"max_time\":60}\n",
+             "\"sensor\":{\"beams\":181,\"fov\":4.71238898038469,\"near\":0.05,"
+             "\"far\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},\"max_time\":60}\n",
              model, route, start);
     lc_test_write_file(path, text, strlen(text));
 }
