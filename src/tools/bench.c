@@ -39,7 +39,8 @@ static const char usage[] =
     "p99 over the frames the OS did not switch away from: on a shared machine\n"
     "other processes' time slices otherwise decide it), frames per second,\n"
     "per-stage times, inflation rounds per frame, and the frames without a\n"
-    "guidance search apart (median and p99). Then the ellipse solver beside\n"
+    "guidance search apart (median and p99, the OS's switches left out).\n"
+    "Then the ellipse solver beside\n"
     "the general-purpose reference solver on the same polygons, the log-log\n"
     "slope of time over beams and over obstacles, and the guidance search on\n"
     "its own: 200 searches over a memory that holds a whole cluttered hall\n"
@@ -77,7 +78,8 @@ typedef struct bench_case {
     int preempted;   /* frames during which this thread was switched out */
     double stage_median[LC_STAGE_COUNT];
     int searches;                   /* frames on which guidance searched */
-    double median_quiet, p99_quiet; /* over the frames without a search */
+    double median_quiet, p99_quiet; /* over the frames without a search that the OS
+                                       did not switch away from */
 } bench_case;
 
 typedef struct bench_opts {
@@ -124,11 +126,12 @@ static void run_case(bench_case *c, const bench_opts *o)
         if (i < 0)
             continue;
         t[i] = dt;
-        if (lc_bench_switches() == sw)
+        bool whole = lc_bench_switches() == sw;
+        if (whole)
             kept[nkept++] = dt;
         if (r.guide.searched)
             c->searches++;
-        else
+        else if (whole)
             quiet[nquiet++] = dt;
         for (int st = 0; st < LC_STAGE_COUNT; st++)
             t[frames * (st + 1) + i] = r.stage_us[st];
@@ -462,7 +465,8 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
         for (int i = 0; i < n; i++)
             printf("%-22s %9d %12.1f %12.1f\n", c[i].name, c[i].searches, c[i].median_quiet,
                    c[i].p99_quiet);
-        printf("(quiet: the frames on which guidance did not search; the robot barely moves\n"
+        printf("(quiet: the frames on which guidance did not search and the OS did not\n"
+               " switch this thread out; the robot barely moves\n"
                " here, so it searches every %d frames, the cadence of a robot that stays put)\n",
                10 * 10);
     }
