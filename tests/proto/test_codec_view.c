@@ -140,6 +140,16 @@ static lc_session *session_with(const double *xy, int n, lc_plan_result *out)
     return s;
 }
 
+/* The view of a result with its memory. */
+static cJSON *memory_view(const lc_plan_result *res)
+{
+    lc_robot robot;
+    lc_robot_default(&robot);
+    lc_wire_view v = {.robot = "r", .desc = &robot, .result = res, .seq = 1,
+                      .with_memory = true};
+    return encode(&v);
+}
+
 /* The cells the runs of a view's memory name: each must be occupied; the count. */
 static long run_cells(const cJSON *mem, const lc_memory *m)
 {
@@ -188,13 +198,9 @@ static void test_memory_runs(void **state)
     }
     xy[2 * n] = 1.525, xy[2 * n + 1] = -0.975, n++;
     xy[2 * n] = 7.525, xy[2 * n + 1] = 0.025, n++;
-    lc_plan_result res;
+    static lc_plan_result res;
     lc_session *s = session_with(xy, n, &res);
-    lc_robot robot;
-    lc_robot_default(&robot);
-    lc_wire_view v = {.robot = "r", .desc = &robot, .result = &res, .seq = 1,
-                      .with_memory = true};
-    cJSON *j = encode(&v);
+    cJSON *j = memory_view(&res);
     const cJSON *mem = member(j, "memory");
     assert_non_null(mem);
     assert_true(cJSON_IsTrue(member(mem, "complete")));
@@ -219,13 +225,9 @@ static void test_memory_cap(void **state)
             xy[2 * n] = -4.45 + 0.1 * a;
             xy[2 * n + 1] = -4.45 + 0.1 * b;
         }
-    lc_plan_result res;
+    static lc_plan_result res;
     lc_session *s = session_with(xy, n, &res);
-    lc_robot robot;
-    lc_robot_default(&robot);
-    lc_wire_view v = {.robot = "r", .desc = &robot, .result = &res, .seq = 1,
-                      .with_memory = true};
-    cJSON *j = encode(&v);
+    cJSON *j = memory_view(&res);
     const cJSON *mem = member(j, "memory");
     assert_false(cJSON_IsTrue(member(mem, "complete")));
     const cJSON *runs = member(mem, "runs");
