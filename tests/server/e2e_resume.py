@@ -13,7 +13,9 @@ passes (77: skipped without python3-websockets).
   with 0 mismatches across the reconnect.
 - After the grace period: the same, but the hello comes late: "resumed":
   false, and the next frame is answered idle (no route) at rest.
-- A viewer sees the link go down and come back (view "link").
+- A viewer sees the link go down and come back (view "link"); the views it
+  gets, one with the remembered cells among them, and the welcomes validate
+  against proto/schema (python3-jsonschema; not checked without it).
 - A half-dead link: a robot that stops reading and writing without closing.
   Its name is refused (name_taken) while the link is still taken to be
   alive, then free within the link timeout (3 s by default), and the hello
@@ -36,6 +38,8 @@ from serverlib import (FIGURES, SLOW, T, RawWS, Server, check, far_scan, finish,
 import websockets  # noqa: E402 - serverlib exits 77 first when it is missing
 
 EXE = set_exe(sys.argv)
+HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.join(HERE, "..", "proto"))
 DT = 0.05          # s between frame stamps
 GRACE_MS = 2000    # the servers' grace period here: short, so waiting past it is quick
 # far_scan's arc of returns 6 m ahead moves with the robot: the route stays inside it
@@ -86,6 +90,23 @@ async def start(url, name, token=None):
     return ws
 
 
+def schema_check(messages):
+    """Every message valid against the schema of its type (welcome, view)."""
+    try:
+        import check_schemas as cs
+    except SystemExit:  # python3-jsonschema missing: it exits 77
+        print("python3-jsonschema missing: views not checked against the schema", flush=True)
+        return
+    root = os.path.join(HERE, "..", "..", "proto", "schema")
+    schemas = {f[:-5]: cs.load(os.path.join(root, f)) for f in os.listdir(root) if f.endswith(".json")}
+    validators = cs.make_validators(schemas)
+    for m in messages:
+        errors = [e.message for e in validators[m["type"]].iter_errors(m)]
+        check(not errors, "%s valid against proto/schema/%s.json: %s"
+              % (m["type"], m["type"], errors[:3]))
+    check(any("memory" in m for m in messages), "a view with the remembered cells was checked")
+
+
 async def test_within_grace(srv, rec):
     bot = Robot()
     viewer, _ = await hello(srv.url, "rover", role="viewer")
@@ -114,6 +135,9 @@ async def test_within_grace(srv, rec):
           % (up and up.get("radius")))
     await bot.drive(ws, 10)
     frames = bot.seq
+    views = [await wait_view(viewer, lambda v: v.get("pose") is not None)]
+    views.append(await wait_view(viewer, lambda v: "memory" in v))
+    schema_check([w] + [v for v in views if v])
     await ws.close()
     await viewer.close()
     FIGURES["within_grace"] = {"reconnect_s": round(gap, 3), "speed_before": before["vx"],
