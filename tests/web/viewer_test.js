@@ -335,19 +335,19 @@ function wallScenario(dir) {
   return file;
 }
 
+/* The panel's texts and the map's counts the checks read. */
 async function panelOf(page) {
-  return page.evaluate(() => ({
-    state: document.getElementById('state').textContent,
-    code: document.getElementById('state-code').textContent,
-    words: document.getElementById('state-words').textContent,
-    limit: document.getElementById('limit-words').textContent,
-    waypoint: document.getElementById('f-waypoint').textContent,
-    detail: document.getElementById('f-waypoint-detail').textContent,
-    way: document.getElementById('f-way').textContent,
-    labels: document.getElementById('map').dataset.labels,
-    path: Number(document.getElementById('map').dataset.path || 0),
-    memory: Number(document.getElementById('map').dataset.memory || 0),
-  }));
+  return page.evaluate(() => {
+    const text = (id) => document.getElementById(id).textContent;
+    const map = document.getElementById('map').dataset;
+    return {
+      name: text('robot-name'), state: text('state'), code: text('state-code'),
+      words: text('state-words'), limit: text('limit-words'), setpoint: text('f-setpoint'),
+      rate: text('f-rate'), age: text('f-age'), plan: text('f-plan'),
+      waypoint: text('f-waypoint'), detail: text('f-waypoint-detail'), way: text('f-way'),
+      labels: map.labels, path: Number(map.path || 0), memory: Number(map.memory || 0),
+    };
+  });
 }
 
 async function pick(page, name) {
@@ -483,17 +483,7 @@ async function main() {
           JSON.stringify(a.count));
     check(b.changed > 0.002 * b.total, 'canvas changed between the two snapshots', b.changed);
 
-    const panel = await page.evaluate(() => ({
-      name: document.getElementById('robot-name').textContent,
-      state: document.getElementById('state').textContent,
-      code: document.getElementById('state-code').textContent,
-      words: document.getElementById('state-words').textContent,
-      limit: document.getElementById('limit-words').textContent,
-      setpoint: document.getElementById('f-setpoint').textContent,
-      rate: document.getElementById('f-rate').textContent,
-      age: document.getElementById('f-age').textContent,
-      plan: document.getElementById('f-plan').textContent,
-    }));
+    const panel = await panelOf(page);
     log('panel: ' + JSON.stringify(panel));
     check(panel.name === ROBOT_NAME, 'panel names the robot', panel.name);
     check(STATES.includes(panel.code) && panel.state.length > 0 && panel.words.length > 20,
