@@ -37,6 +37,11 @@ static void link_dead(lc_hub *hub, lc_conn *c)
 
 static void conn_timers(lc_hub *hub, lc_conn *c, double now)
 {
+    /* Not read for now (robots.h, receive flow): what it sends waits in TCP,
+     * so its silence says nothing. A peer that reads nothing at all is closed
+     * by the full reply queue instead. */
+    if (c->paused)
+        lc_hub_heard(hub, c, now);
     if (c->closing && now >= c->close_at) {
         hub->cfg.io.kill(hub->cfg.io.data, c->user);
         c->close_at = INFINITY;

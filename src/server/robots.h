@@ -34,7 +34,9 @@
  * link_timeout_ms is pinged (again every third), and closed when nothing,
  * not even a pong, came for link_timeout_ms: a link that went silent without
  * closing (a robot gone out of radio range) lets its robot's name go within
- * that bound, and its session then waits as above.
+ * that bound, and its session then waits as above. A connection the hub is
+ * not reading (receive flow, below) is not judged: its frames wait in TCP;
+ * if it reads nothing at all, the full reply queue closes it.
  *
  * Ownership: the hub owns every lc_conn and robot session. A connection
  * lives from lc_hub_open to lc_hub_close (the transport's close callback);

@@ -6,7 +6,8 @@
  * the link was found dead is honoured (the next setpoint starts from rest);
  * a connection with the token takes a live name over; a link from which
  * nothing comes is pinged and closed within link_timeout_ms, letting the
- * name go; waiting sessions are bounded and end at shutdown. The same over
+ * name go, but not one the server itself stopped reading; waiting sessions
+ * are bounded and end at shutdown. The same over
  * real websockets through the built daemon: tests/server/e2e_resume.py.
  */
 #include "testutil.h"
@@ -281,6 +282,40 @@ static void test_dead_link(void **state)
     lc_hub_free(hub);
 }
 
+static void live_links_small_queue(lc_hub_config *hc)
+{
+    hc->opts.link_timeout_ms = 3000;
+    hc->opts.send_queue = 4;
+    hc->opts.watchdog_ms = 60000; /* no stale stops to fill the queue meanwhile */
+}
+
+/*
+ * A robot the server stopped reading (its replies pile up: receive flow) is
+ * not silent: what it sends waits in TCP. It is not closed as dead while
+ * the server does not read it, and is watched again once it is read.
+ */
+static void test_paused_link_is_not_dead(void **state)
+{
+    lc_hub *hub = lc_fake_hub(live_links_small_queue);
+    lc_conn *c = lc_fake_robot(hub, "busy", 0);
+    lc_fake_frame(hub, c, 1, 0.05, 0, 0, 0.05);
+    lc_fake_frame(hub, c, 2, 0.10, 0, 0, 0.10);
+    assert_false(lc_conn_reading(c)); /* two replies of a queue of 4: not read */
+    int kills = lc_fake.kills;
+    for (double t = 0.5; t <= 8.0; t += 0.5)
+        lc_hub_tick(hub, t);
+    assert_int_equal(lc_fake.kills, kills);
+    assert_false(lc_conn_closing(c));
+    while (lc_fake_next(c) != NULL) /* the robot reads its replies: read again */
+        ;
+    assert_true(lc_conn_reading(c));
+    lc_hub_tick(hub, 10.9);
+    assert_int_equal(lc_fake.kills, kills);
+    lc_hub_tick(hub, 11.0); /* silent 3 s since the last tick it was not read */
+    assert_int_equal(lc_fake.kills, kills + 1);
+    lc_hub_free(hub);
+}
+
 /* A viewer's link is watched too; a connection before its hello is not. */
 static void test_dead_viewer_and_no_hello(void **state)
 {
@@ -367,6 +402,7 @@ int main(void)
         cmocka_unit_test(test_resume_rearms_the_watchdog),
         cmocka_unit_test(test_token_takeover),
         cmocka_unit_test(test_dead_link),
+        cmocka_unit_test(test_paused_link_is_not_dead),
         cmocka_unit_test(test_dead_viewer_and_no_hello),
         cmocka_unit_test(test_waiting_sessions_bounded),
         cmocka_unit_test(test_shutdown_keeps_no_session),
