@@ -89,9 +89,9 @@ static const opt options[] = {
         "again under its name within it resumes its description, route, progress and "
         "velocity (0: the session ends with the link)"),
     INT(link_timeout_ms, 0, 600000, 3000,
-        "close a robot's or viewer's link when nothing (not even the answer to a ping) came "
-        "for this long: a link that went silent without closing lets its robot's name go "
-        "within it. Pings go out after a third of it without a message (0: never)"),
+        "close a robot's link when nothing (not even the answer to a ping) came for this "
+        "long: a link that went silent without closing lets its robot's name go within it. "
+        "Pings go out after a third of it without a message (0: never)"),
 };
 
 #define N_OPTIONS (int)(sizeof options / sizeof options[0])

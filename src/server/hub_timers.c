@@ -1,7 +1,7 @@
 /*
  * hub_timers.c - what falls due at a time: each robot's watchdog and view,
- * the end of a dropped session's grace, each connection's hello timeout,
- * pings and dead link, and forced close; the next deadline; and shutdown (a
+ * the end of a dropped session's grace, each connection's hello timeout
+ * and forced close, each robot link's pings and dead link; the next deadline; and shutdown (a
  * last stop setpoint to every robot, then every connection closes).
  */
 #include <math.h>
@@ -11,11 +11,16 @@
 
 static double link_timeout(const lc_hub *hub) { return hub->cfg.opts.link_timeout_ms / 1000.0; }
 
-/* An admitted link that is not closing yet: its liveness is watched (unless
- * link_timeout_ms is 0). */
+/*
+ * A robot's link that is not closing yet: its liveness is watched (unless
+ * link_timeout_ms is 0). A viewer's is not: it holds no name, it sends
+ * nothing after its hello, and one that reads slowly has a backlog of views
+ * in front of any ping, so silence would not tell a slow viewer from a dead
+ * one; its queue is bounded anyway (robots.h, Queues).
+ */
 static bool watched(const lc_hub *hub, const lc_conn *c)
 {
-    return !c->closing && c->role != ROLE_NONE && hub->cfg.opts.link_timeout_ms > 0;
+    return !c->closing && c->role == ROLE_ROBOT && hub->cfg.opts.link_timeout_ms > 0;
 }
 
 /*
@@ -26,9 +31,8 @@ static bool watched(const lc_hub *hub, const lc_conn *c)
  */
 static void link_dead(lc_hub *hub, lc_conn *c)
 {
-    lc_log(LC_LOG_WARN, "%s %s: nothing heard for %d ms, not even a pong: link closed",
-           c->bot ? "robot" : "viewer", c->bot ? c->bot->name : (c->addr[0] ? c->addr : "?"),
-           hub->cfg.opts.link_timeout_ms);
+    lc_log(LC_LOG_WARN, "robot %s: nothing heard for %d ms, not even a pong: link closed",
+           c->bot ? c->bot->name : "?", hub->cfg.opts.link_timeout_ms);
     c->closing = true;
     c->close_at = INFINITY;
     c->close_status = LC_CLOSE_GOING_AWAY;

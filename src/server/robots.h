@@ -30,7 +30,7 @@
  * has a robot token: the token proves the robot, so the new connection takes
  * the session over at once and the old one is closed.
  *
- * Dead links: an admitted connection from which nothing came for a third of
+ * Dead links: a robot's connection from which nothing came for a third of
  * link_timeout_ms is pinged (again every third), and closed when nothing,
  * not even a pong, came for link_timeout_ms: a link that went silent without
  * closing (a robot gone out of radio range) lets its robot's name go within

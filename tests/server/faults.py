@@ -146,10 +146,8 @@ async def three_robots(url, tag, hz, secs):
 async def test_viewer_never_reads():
     """Three robots and a viewer that reads, first alone, then beside one that never reads."""
     # a 32 KiB send buffer (64 KiB as Linux counts it): the stuck viewer's
-    # kernel buffer fills in a fraction of a second, then the server drops views;
-    # the stuck viewer answers no ping either: a long link timeout keeps it
-    # attached for the whole test (the timeout itself: e2e_resume.py)
-    srv = Server("--log-level", "info", "--send-buffer", "32768", "--link-timeout-ms", "60000")
+    # kernel buffer fills in a fraction of a second, then the server drops views
+    srv = Server("--log-level", "info", "--send-buffer", "32768")
     hz, secs = (10, 2.0) if SLOW else (100, 2.5)
     try:
         reader_ws, m = await hello(srv.url, "", "viewer")

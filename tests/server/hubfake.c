@@ -77,6 +77,15 @@ void lc_fake_expect_none(lc_conn *c)
     assert_null(lc_conn_peek(c, &len));
 }
 
+int lc_fake_drain(lc_conn *c)
+{
+    int n = 0;
+    size_t len;
+    for (; lc_conn_peek(c, &len); n++)
+        lc_conn_pop(c);
+    return n;
+}
+
 lc_conn *lc_fake_robot(lc_hub *hub, const char *name, double now)
 {
     char text[128];

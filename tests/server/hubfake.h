@@ -38,6 +38,9 @@ double lc_fake_num(const cJSON *j, const char *key);
 void lc_fake_expect(lc_conn *c, const char *type, const char *code);
 void lc_fake_expect_none(lc_conn *c);
 
+/* Pop every queued message (the peer read them); how many there were. */
+int lc_fake_drain(lc_conn *c);
+
 /* A robot connection welcomed under name (a hello without a token). */
 lc_conn *lc_fake_robot(lc_hub *hub, const char *name, double now);
 
