@@ -176,6 +176,9 @@ typedef struct lc_wire_welcome {
     int max_beams;
     int max_points;
     double view_hz;
+    bool resumed;        /* a robot's: the hello resumed its session (written for robots only) */
+    int grace_ms;        /* how long a dropped robot's session waits for it (0: absent) */
+    int link_timeout_ms; /* a silent link is closed after this (0: absent) */
     /* decode only: encoding writes "lacuna <version>", LC_WIRE_PROTOCOL and
      * LC_ROUTE_MAX */
     char server[64];
@@ -350,7 +353,18 @@ typedef struct lc_wire_view {
     /* us the last frame's plan took, and the longest of it and the frames
      * since the previous view; 0 (or less): not measured, written as null */
     double plan_us, plan_max_us;
+    bool link_down;            /* the robot's link dropped; its session waits for it */
+    lc_block_reason blocked;   /* why the patrol is blocked (its blocked event); NONE: null */
+    /* with a result whose session remembers: write "memory", the occupied
+     * cells near the robot (a view need not carry it every time) */
+    bool with_memory;
 } lc_wire_view;
+
+/* What a view's "memory" holds at most: the occupied cells within
+ * LC_WIRE_VIEW_MEMORY_REACH metres (a square about the robot), as at most
+ * LC_WIRE_VIEW_MEMORY_RUNS runs along rows, the rows nearest the robot first. */
+#define LC_WIRE_VIEW_MEMORY_REACH 5.0
+#define LC_WIRE_VIEW_MEMORY_RUNS 2000
 
 /*
  * Encoders: clear *t, write one JSON object, return 0 or -1 (out of memory,

@@ -31,7 +31,8 @@ static int copy_string_field(const cJSON *obj, const char *path, const char *key
 
 static const char *const welcome_keys[] = {"type", "role", "robot", "server", "protocol",
                                            "watchdog_ms", "max_message", "max_beams",
-                                           "max_points", "view_hz", "max_waypoints", NULL};
+                                           "max_points", "view_hz", "max_waypoints", "resumed",
+                                           "grace_ms", "link_timeout_ms", NULL};
 
 int lc_wire_welcome_from_json(const cJSON *obj, lc_wire_welcome *out, lc_wire_error *err)
 {
@@ -49,7 +50,11 @@ int lc_wire_welcome_from_json(const cJSON *obj, lc_wire_welcome *out, lc_wire_er
         lc_wire_int_field(obj, path, "max_beams", false, count, &out->max_beams, err) < 0 ||
         lc_wire_int_field(obj, path, "max_points", false, count, &out->max_points, err) < 0 ||
         lc_wire_number_field(obj, path, "view_hz", false, &lc_jr_nonneg, &out->view_hz, err) < 0 ||
-        lc_wire_int_field(obj, path, "max_waypoints", false, count, &out->max_waypoints, err) < 0)
+        lc_wire_int_field(obj, path, "max_waypoints", false, count, &out->max_waypoints, err) < 0 ||
+        lc_wire_bool_field(obj, path, "resumed", false, &out->resumed, err) < 0 ||
+        lc_wire_int_field(obj, path, "grace_ms", false, count, &out->grace_ms, err) < 0 ||
+        lc_wire_int_field(obj, path, "link_timeout_ms", false, count, &out->link_timeout_ms,
+                          err) < 0)
         return -1;
     out->role = (lc_wire_role)role;
     out->max_message = max_message;

@@ -153,6 +153,10 @@ int lc_wire_encode_welcome(lc_wire_text *t, const lc_wire_welcome *m)
     lc_jw_kv_int(t, "max_points", m->max_points);
     lc_jw_kv_int(t, "max_waypoints", LC_ROUTE_MAX);
     lc_jw_kv_num(t, "view_hz", m->view_hz, -1);
+    if (m->role == LC_ROLE_ROBOT)
+        lc_jw_kv_bool(t, "resumed", m->resumed);
+    lc_jw_kv_int(t, "grace_ms", m->grace_ms);
+    lc_jw_kv_int(t, "link_timeout_ms", m->link_timeout_ms);
     return lc_jw_end(t);
 }
 

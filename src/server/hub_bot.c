@@ -2,10 +2,17 @@
  * hub_bot.c - one robot's session in the hub: its description and route,
  * each frame's step (the control period dt, the session step, the setpoint,
  * errors and events: lc_session_drive), the watchdog's stop setpoints, the last stop at
- * shutdown, its recording, and the warnings a robot hears about its frames
+ * shutdown, its recording, the warnings a robot hears about its frames
  * (before a route, stamps or seq going back, sensors it did not describe:
- * each once per connection, the last one also logged). A robot session
- * lives as long as its robot's connection.
+ * each once per connection, the last one also logged), and the session's
+ * life across links: kept for grace_ms when its link drops, resumed whole
+ * by the next hello under its name.
+ *
+ * A resumed session goes on from what the robot was last told: the core
+ * session is the same one, so the next frame's rate limits start from the
+ * last setpoint sent, or from rest when the watchdog's stop went out before
+ * the link was found dead (lc_session_stop). Nothing is sent while no link
+ * holds the session, so nothing is told then either.
  */
 #include <errno.h>
 #include <inttypes.h>
@@ -47,6 +54,7 @@ bot *lc_hub_bot_new(lc_hub *hub, lc_conn *c, const char *name)
     b->conn = c;
     b->seq = -1;
     b->watchdog_at = INFINITY;
+    b->expire_at = INFINITY;
     b->next = hub->bots;
     hub->bots = b;
     return b;
@@ -60,9 +68,69 @@ void lc_hub_bot_free(lc_hub *hub, bot *b)
             break;
         }
     }
+    if (!b->conn)
+        hub->n_waiting--;
     lc_recorder_close(&b->rec);
     lc_session_free(b->core);
     free(b);
+}
+
+/* The waiting session whose grace ends first (NULL: none waits). */
+static bot *first_to_expire(const lc_hub *hub)
+{
+    bot *first = NULL;
+    for (bot *b = hub->bots; b; b = b->next)
+        if (!b->conn && (!first || b->expire_at < first->expire_at))
+            first = b;
+    return first;
+}
+
+void lc_hub_bot_drop(lc_hub *hub, bot *b, double now)
+{
+    const lc_server_config *o = &hub->cfg.opts;
+    if (hub->shutting || o->grace_ms <= 0) {
+        lc_log(LC_LOG_INFO, "robot %s disconnected: session ended", b->name);
+        lc_hub_bot_free(hub, b);
+        return;
+    }
+    /* waiting sessions are bounded like live ones: the oldest gives way */
+    bot *oldest = hub->n_waiting >= o->max_connections ? first_to_expire(hub) : NULL;
+    if (oldest) {
+        lc_log(LC_LOG_WARN, "robot %s: session ended before its grace ran out: %d sessions "
+               "wait for their robots (max_connections)", oldest->name, hub->n_waiting);
+        lc_hub_bot_free(hub, oldest);
+    }
+    b->conn = NULL;
+    b->dropped_at = now;
+    b->expire_at = now + o->grace_ms / 1000.0;
+    b->view_dirty = true;
+    hub->n_waiting++;
+    lc_log(LC_LOG_INFO, "robot %s disconnected: its session waits %d ms for it to say hello "
+           "again (grace_ms)", b->name, o->grace_ms);
+}
+
+void lc_hub_bot_resume(lc_hub *hub, bot *b, lc_conn *c, double now)
+{
+    lc_conn *old = b->conn;
+    if (old) {
+        old->bot = NULL;
+        lc_log(LC_LOG_WARN, "robot %s: a new connection proved the token and takes the session "
+               "over; the old link is closed", b->name);
+        lc_hub_error_close(hub, old, LC_WIRE_NAME_TAKEN, now,
+                           "robot: a new connection with the token took this robot's session over");
+    } else {
+        hub->n_waiting--;
+        lc_log(LC_LOG_INFO, "robot %s is back after %.1f s: session resumed (description, "
+               "route, progress and velocity kept)", b->name, now - b->dropped_at);
+    }
+    b->conn = c;
+    c->bot = b;
+    b->expire_at = INFINITY;
+    b->n_unlisted = 0; /* said once per connection */
+    /* the robot gets a watchdog period for its first frame on the new link */
+    if (b->has_frame)
+        b->watchdog_at = now + hub->cfg.opts.watchdog_ms / 1000.0;
+    b->view_dirty = true;
 }
 
 /* A line of the robot's recording, when it is being recorded. */
@@ -114,6 +182,16 @@ static void start_recording(lc_hub *hub, bot *b)
         b->rec.failed = true;
         b->rec_failed_unsent = true;
     }
+}
+
+/* Why the patrol is blocked, as its blocked event said, while it stays blocked. */
+static void note_blocked(bot *b)
+{
+    if (b->result.state != LC_STATE_BLOCKED)
+        b->blocked = LC_BLOCK_NONE;
+    for (int i = 0; i < b->result.n_events; i++)
+        if (b->result.events[i].kind == LC_EVENT_BLOCKED)
+            b->blocked = b->result.events[i].reason;
 }
 
 static void send_events(lc_hub *hub, bot *b, double now)
@@ -213,6 +291,7 @@ static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
     b->stamp = f->stamp;
     b->pose = f->pose;
     b->has_sp = true;
+    note_blocked(b);
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
     if (rc < 0) {
         lc_wire_error e = {0};
@@ -240,7 +319,7 @@ void lc_hub_watchdog(lc_hub *hub, bot *b, double now)
 /* Shutdown: a last stop setpoint to a robot that has had a frame. */
 void lc_hub_bot_stop(lc_hub *hub, bot *b, double now)
 {
-    if (!b->has_frame || b->conn->closing)
+    if (!b->has_frame || !b->conn || b->conn->closing)
         return;
     lc_session_stop(b->core, LC_STATE_SHUTDOWN, LC_LIMIT_NONE, &b->last_sp);
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);

@@ -150,6 +150,7 @@ static int append(lc_conn *c, const void *data, size_t len)
 int lc_hub_receive(lc_hub *hub, lc_conn *c, const void *data, size_t len, bool first,
                    bool final, bool binary, double now)
 {
+    lc_hub_heard(hub, c, now); /* anything from the peer proves the link */
     if (first) {
         c->rx_len = 0;
         c->rx_binary = binary;

@@ -130,9 +130,24 @@ static int close_with(struct lws *wsi, lc_conn *conn)
     return -1;
 }
 
+/* A ping the hub asked for (robots.h, liveness); the peer's pong comes back
+ * as LWS_CALLBACK_RECEIVE_PONG. */
+static int send_ping(struct lws *wsi)
+{
+    unsigned char buf[LWS_PRE + 2] = {0};
+    buf[LWS_PRE] = 'l';
+    buf[LWS_PRE + 1] = 'c';
+    if (lws_write(wsi, buf + LWS_PRE, 2, LWS_WRITE_PING) < 2)
+        return -1;
+    lws_callback_on_writable(wsi); /* the queued messages, if any, next */
+    return 0;
+}
+
 static int writeable(struct lws *wsi, lc_conn *conn)
 {
     size_t len = 0;
+    if (!lc_conn_closing(conn) && lc_conn_take_ping(conn))
+        return send_ping(wsi);
     char *text = lc_conn_peek(conn, &len);
     if (!text)
         return lc_conn_closing(conn) ? close_with(wsi, conn) : 0;
@@ -247,6 +262,10 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
         else
             flow(wsi, pss);
         break;
+    case LWS_CALLBACK_RECEIVE_PONG:
+        if (pss->conn)
+            lc_hub_heard(s->hub, pss->conn, now_s());
+        break;
     case LWS_CALLBACK_SERVER_WRITEABLE:
         if (!pss->conn)
             return -1;
@@ -256,7 +275,7 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
         break;
     case LWS_CALLBACK_CLOSED:
         if (pss->conn)
-            lc_hub_close(s->hub, pss->conn);
+            lc_hub_close(s->hub, pss->conn, now_s());
         pss->conn = NULL;
         break;
     default:

@@ -178,7 +178,9 @@ async def robot_session(srv, name):
 
 
 async def test_warnings(srv):
-    for name in ("hears-1", "hears-1"):  # the same name again: a new connection hears them again
+    # the same name again: a new connection hears them again (a new session: the
+    # first one is not resumed, this test's server keeps no session after a link)
+    for name in ("hears-1", "hears-1"):
         every = await robot_session(srv, name)
         kinds = sorted((m["code"], m["message"].split("'")[1].split(".")[0]
                         if m["code"] == "unknown_key" else "") for m in every)
@@ -364,7 +366,7 @@ def test_example_expiry():
 
 
 async def main():
-    srv = Server("--log-level", "info")
+    srv = Server("--log-level", "info", "--grace-ms", "0")
     try:
         await test_subprotocol(srv)
         await test_warnings(srv)

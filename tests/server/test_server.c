@@ -22,6 +22,7 @@
 
 #include "codec.h"
 #include "config.h"
+#include "hubfake.h"
 #include "recorder.h"
 #include "robots.h"
 #include "server.h"
@@ -218,75 +219,16 @@ static void test_token_equal(void **state)
 
 /* ------------------------------------------------------ hub, no sockets */
 
-typedef struct fake {
-    int wakes, kills;
-} fake;
-
-static void fake_wake(void *data, void *conn_user) { ((fake *)data)->wakes++; }
-static void fake_kill(void *data, void *conn_user) { ((fake *)data)->kills++; }
-
-static fake io;
-
-static lc_hub *hub_with(void (*tweak)(lc_hub_config *))
-{
-    lc_hub_config hc;
-    memset(&hc, 0, sizeof hc);
-    lc_server_config_default(&hc.opts);
-    hc.headroom = 16;
-    hc.io = (lc_hub_io){fake_wake, fake_kill, &io};
-    if (tweak)
-        tweak(&hc);
-    lc_hub *hub = lc_hub_new(&hc);
-    assert_non_null(hub);
-    return hub;
-}
-
-static int say(lc_hub *hub, lc_conn *c, const char *text, double now)
-{
-    return lc_hub_receive(hub, c, text, strlen(text), true, true, false, now);
-}
-
-/* The next queued message parsed (the caller frees), or NULL. */
-static cJSON *next(lc_conn *c)
-{
-    size_t len;
-    char *text = lc_conn_peek(c, &len);
-    if (!text)
-        return NULL;
-    cJSON *j = cJSON_ParseWithLength(text, len);
-    assert_non_null(j);
-    lc_conn_pop(c);
-    return j;
-}
-
-static const char *str(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    return cJSON_IsString(it) ? it->valuestring : "";
-}
-
-static double num(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    return cJSON_IsNumber(it) ? it->valuedouble : NAN;
-}
-
-/* Expect the next message to have this type (and code, for errors). */
-static void expect(lc_conn *c, const char *type, const char *code)
-{
-    cJSON *j = next(c);
-    assert_non_null(j);
-    assert_string_equal(str(j, "type"), type);
-    if (code)
-        assert_string_equal(str(j, "code"), code);
-    cJSON_Delete(j);
-}
-
-static void expect_none(lc_conn *c)
-{
-    size_t len;
-    assert_null(lc_conn_peek(c, &len));
-}
+/* Short names for the fake hub's helpers (hubfake.h). */
+#define io lc_fake
+#define hub_with(tweak) lc_fake_hub(tweak)
+#define say(hub, c, text, now) lc_fake_say(hub, c, text, now)
+#define next(c) lc_fake_next(c)
+#define str(j, key) lc_fake_str(j, key)
+#define num(j, key) lc_fake_num(j, key)
+#define expect(c, type, code) lc_fake_expect(c, type, code)
+#define expect_none(c) lc_fake_expect_none(c)
+#define robot(hub, name, now) lc_fake_robot(hub, name, now)
 
 static const char scan_fmt[] =
     "{\"type\":\"scan\",\"seq\":%d,\"stamp\":%g,\"pose\":[0,0,0],\"bearing_first\":-1.5,"
@@ -300,17 +242,6 @@ static void send_scan(lc_hub *hub, lc_conn *c, int seq, double stamp, double now
     assert_int_equal(say(hub, c, text, now), 0);
 }
 
-static lc_conn *robot(lc_hub *hub, const char *name, double now)
-{
-    char text[128];
-    lc_conn *c = lc_hub_open(hub, NULL, NULL, now);
-    assert_non_null(c);
-    snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"%s\"}", name);
-    assert_int_equal(say(hub, c, text, now), 0);
-    expect(c, "welcome", NULL);
-    return c;
-}
-
 static void test_hub_hello_and_roles(void **state)
 {
     lc_hub *hub = hub_with(NULL);
@@ -319,7 +250,7 @@ static void test_hub_hello_and_roles(void **state)
     expect(c, "error", "unauthorized");
     assert_true(lc_conn_closing(c));
     assert_int_equal(lc_conn_close_status(c, NULL), LC_CLOSE_POLICY);
-    lc_hub_close(hub, c);
+    lc_hub_close(hub, c, 0);
 
     lc_conn *r = robot(hub, "r1", 0);
     lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
@@ -336,7 +267,7 @@ static void test_hub_hello_and_roles(void **state)
     say(hub, twin, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
     expect(twin, "error", "name_taken");
     assert_true(lc_conn_closing(twin));
-    lc_hub_close(hub, twin);
+    lc_hub_close(hub, twin, 0);
 
     say(hub, r, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
     expect(r, "error", "bad_message");
@@ -360,7 +291,7 @@ static void test_hub_token(void **state)
         say(hub, c, hellos[i], 0);
         expect(c, "error", "unauthorized");
         assert_true(lc_conn_closing(c));
-        lc_hub_close(hub, c);
+        lc_hub_close(hub, c, 0);
     }
     lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     say(hub, c, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\",\"token\":\"river-stone-3\"}",
@@ -690,7 +621,7 @@ static void test_hub_max_connections(void **state)
     lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     assert_non_null(c);
     assert_null(lc_hub_open(hub, NULL, NULL, 0));
-    lc_hub_close(hub, c);
+    lc_hub_close(hub, c, 0);
     assert_non_null(lc_hub_open(hub, NULL, NULL, 0));
     lc_hub_free(hub);
 }
@@ -722,8 +653,8 @@ static void test_hub_admission(void **state)
     /* nothing a refused connection sends is read */
     assert_int_equal(say(hub, a3, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"x\"}", 0), 0);
     expect_none(a3);
-    lc_hub_close(hub, a3);
-    lc_hub_close(hub, a1);
+    lc_hub_close(hub, a3, 0);
+    lc_hub_close(hub, a1, 0);
     lc_conn *a4 = lc_hub_open(hub, NULL, &a, 0); /* a slot is free again */
     assert_false(lc_conn_closing(a4));
     lc_conn *p1 = lc_hub_open(hub, NULL, &page, 0), *p2 = lc_hub_open(hub, NULL, &listed, 0);
