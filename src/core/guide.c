@@ -483,7 +483,11 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
         return -1;
     bool inside = cell_of(g, goal) >= 0;
     double w = g->cfg.greed;
-    relax(g, s, -1, 0.0, w * octile(centre_of(g, s), goal));
+    /* The search ends anywhere within reach of the goal: the octile
+     * distance less what it may overstate that by (octile / Euclidean is at
+     * most sqrt(4 - 2 sqrt 2)) keeps the heuristic admissible. */
+    double slack = inside ? sqrt(4.0 - 2.0 * sqrt(2.0)) * reach : 0.0;
+    relax(g, s, -1, 0.0, w * fmax(0.0, octile(centre_of(g, s), goal) - slack));
     static const int du[8] = {1, -1, 0, 0, 1, 1, -1, -1}, dv[8] = {0, 0, 1, -1, 1, -1, 1, -1};
     double step = g->cfg.cell;
     while (g->heap_n > 0) {
@@ -510,7 +514,8 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
             if (d < 4)
                 open[d] = true;
             double len = d < 4 ? step : step * sqrt(2.0);
-            relax(g, q, k, g->g[k] + len * factor(g, cls), w * octile(centre_of(g, q), goal));
+            relax(g, q, k, g->g[k] + len * factor(g, cls),
+                  w * fmax(0.0, octile(centre_of(g, q), goal) - slack));
         }
     }
     return -1;
@@ -522,7 +527,8 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
  * soft margin (samples every LOS_STEP memory cells)? A shortcut that grazes
  * an obstacle at the bare clearance would lead the robot along the edge of
  * its region, where the region's lines cut the path off at once. */
-static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b)
+static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b,
+                          bool known)
 {
     double len = lc_dist(a, b), step = LOS_STEP * g->mem_cell;
     double keep = c->R + 0.5 * g->cfg.soft;
@@ -531,6 +537,15 @@ static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_
         lc_vec2 p = lc_lerp(a, b, (double)i / k);
         if ((refused_at(g, c->start, c->escape, p) || bucket_nearest(g, p, keep) < keep) &&
             lc_dist(p, c->start) > c->escape)
+            return false;
+    }
+    if (known && len > 0) {
+        /* every cell the segment crosses known (the exact traversal: a
+         * corner of unknown space between two samples counts too) */
+        lc_cell_state st;
+        lc_vec2 at;
+        double t = lc_memory_march(c->m, a, lc_scale(lc_sub(b, a), 1.0 / len), len, 0.0, &st, &at);
+        if (t < len && st == LC_CELL_UNKNOWN)
             return false;
     }
     return true;
@@ -605,16 +620,25 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
     p->found_at = g->frame;
     p->seg = 0;
     p->v[p->n++] = c->start;
+    /* unknown[k]: the way's cells before way point k the search took
+     * through unknown space (the heap's positions are free after the
+     * search): a shortcut may cross unknown space only where they did, for
+     * the search went round it where it could */
+    int *unknown = g->pos;
+    unknown[0] = 0;
+    for (int k = 1; k < w.count; k++)
+        unknown[k] = unknown[k - 1] +
+                     (k < w.count - 1 && (g->cls[g->raw[w.n_raw - 1 - k]] & CLS_UNKNOWN) ? 1 : 0);
     int a = 0, last = w.count - 1;
     while (a < last && p->n < LC_GUIDE_PATH_MAX) {
         int lo = a + 1, hi = last;
         lc_vec2 from = way_point(&w, a);
-        if (line_of_sight(g, c, from, way_point(&w, hi))) {
+        if (line_of_sight(g, c, from, way_point(&w, hi), unknown[hi] == unknown[a])) {
             lo = hi;
         } else {
             while (hi - lo > 1) { /* lo in sight (a neighbour), hi not */
                 int mid = (lo + hi) / 2;
-                if (line_of_sight(g, c, from, way_point(&w, mid)))
+                if (line_of_sight(g, c, from, way_point(&w, mid), unknown[mid] == unknown[a]))
                     lo = mid;
                 else
                     hi = mid;
@@ -761,6 +785,14 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
     memset(info, 0, sizeof *info);
     *out = &g->path;
     g->frame++;
+    if (!lc_vec2_finite(waypoint) || !lc_vec2_finite(robot)) {
+        /* no way to or from nowhere; the next finite waypoint is a new goal */
+        g->path = (lc_guide_path){.status = LC_GUIDE_NO_PATH, .goal = waypoint,
+                                  .found_at = g->frame};
+        g->has_goal = false;
+        g->doubt = false;
+        return 0;
+    }
     search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell};
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
     if (new_goal)
@@ -780,7 +812,9 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         if (bucket_obstacles(g, m) < 0)
             return -1;
         int expanded;
-        double reach = fmax(tolerance, 0.5 * g->cfg.cell);
+        /* at least half a cell's diagonal: every point has a cell centre
+         * that near */
+        double reach = fmax(tolerance, 0.5 * sqrt(2.0) * g->cfg.cell + 1e-9);
         int end = astar(g, &c, waypoint, reach, &expanded);
         if (end < 0 && g->n_refused > 0) {
             /* the refused spots closed every way: they were the only ones,

@@ -651,8 +651,13 @@ double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max
                        lc_cell_state *state, lc_vec2 *cell)
 {
     *state = LC_CELL_FREE;
-    if (!lc_vec2_finite(from) || !lc_vec2_finite(dir) || !(max >= 0) || !m->placed)
+    if (!lc_vec2_finite(from) || !lc_vec2_finite(dir) || !(max >= 0))
         return INFINITY;
+    if (!m->placed) { /* a memory that has taken no frame knows no cell */
+        *state = LC_CELL_UNKNOWN;
+        *cell = from;
+        return 0.0;
+    }
     long i, j;
     lc_memory_cell_of(m, from, &i, &j);
     /* Amanatides and Woo: the ray's t at the next vertical and horizontal

@@ -146,7 +146,8 @@ bool lc_cone_holds(const lc_cone *cone, lc_vec2 p);
  * (cells the ray crosses within `body` of `from` count as free); its state
  * goes to *state, and to *cell where its last return fell (occupied) or
  * its centre (unknown). INFINITY (and *state LC_CELL_FREE) when every cell
- * up to max is known free.
+ * up to max is known free; 0 (unknown, at `from`) for a memory that has
+ * taken no frame.
  */
 double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
                        lc_cell_state *state, lc_vec2 *cell);

@@ -327,18 +327,14 @@ static void check_bound_exact(double least, double greed, double cost)
  * greed 1, A* with an admissible heuristic finds the least (Hart, Nilsson
  * and Raphael 1968).
  *
- * BUG (skipped): guide.c astar's heuristic is the octile distance to the
- * waypoint, but the search stops at any cell within reach of it, so the
- * heuristic is not admissible for that goal: with greed 1 the cost found
- * exceeds the least by up to a cell (seed 1970, site 0, pair 0: 4.877
- * against 4.836; site 1, pair 0: 11.648 against 11.548). Taking the reach
- * off the heuristic (max(0, octile - 1.0824 reach)) would make it
- * admissible again.
+ * Found by this test and fixed: the heuristic was the octile distance to
+ * the waypoint while the search stops at any cell within reach of it, so
+ * with greed 1 the cost found exceeded the least by up to a cell (4.877
+ * against 4.836); guide.c now takes max(0, octile - 1.0824 reach).
  */
 static void test_weighted_bound_exact(void **state)
 {
     (void)state;
-    LC_TEST_SKIP("bug: guide.c astar's heuristic overestimates by the goal's reach");
     assert_true(each_search(check_bound_exact) >= 40);
 }
 
@@ -438,16 +434,15 @@ static void test_unknown_cost(void **state)
  * shortened path (guide.h: "shortened where the straight line is free")
  * must not cut straight through the unknown strip the search went round.
  *
- * BUG (skipped): guide.c line_of_sight checks the obstacles and the refused
- * spots only, never whether the memory knows the space; with the band at
- * yd = 1.6 the search's way costs 6.3 along the band (test_unknown_cost),
- * and the path given is the straight segment [(-2.5, 0), (2.5, 0)] through
- * 3.8 m of unknown space, the way whose cost is 8.8.
+ * Found by this test and fixed: line_of_sight checked the obstacles and
+ * the refused spots only, so with the band at yd = 1.6 (the search's way
+ * costs 6.3 along it) the path given was the straight segment through 3.8 m
+ * of unknown space, the way whose cost is 8.8. A shortcut now crosses
+ * unknown cells only where the search's own cells did.
  */
 static void test_shortcut_keeps_known(void **state)
 {
     (void)state;
-    LC_TEST_SKIP("bug: guide.c line_of_sight shortens through unknown space");
     scene s;
     detour_scene(&s, 1.6);
     const lc_guide_path *p = scene_update(&s, lc_v2(-2.5, 0), lc_v2(2.5, 0), 0.2);
@@ -571,18 +566,13 @@ static void test_degenerate(void **state)
  * A waypoint that is not finite has no path: LC_GUIDE_NO_PATH, no vertex,
  * and the next finite waypoint is a new goal (searched at once).
  *
- * BUG (skipped): guide.c takes a NaN waypoint for one outside the window
- * (cell_of fails), the heuristic and the outside node's cost are NaN, and
- * the search returns LC_GUIDE_PATH with the vertex (NaN, 1) and a NaN
- * length (line_of_sight then converts ceil(NaN) to int: undefined
- * behaviour); the NaN is kept as the goal, and as lc_dist(waypoint, NaN) >
- * 1e-9 is false, no later waypoint counts as new: the NaN path is kept
- * (no search) until the periodic one.
+ * Found by this test and fixed: a NaN waypoint was taken for one outside
+ * the window and gave a path with a NaN vertex, and the NaN stayed the goal
+ * so that no later waypoint counted as new.
  */
 static void test_nan_waypoint(void **state)
 {
     (void)state;
-    LC_TEST_SKIP("bug: guide.c takes a NaN waypoint into a path and keeps it as the goal");
     scene s;
     scene_open(&s);
     const lc_guide_path *p = scene_update(&s, lc_v2(0, 0), lc_v2(NAN, 1), 0.2);
@@ -600,16 +590,13 @@ static void test_nan_waypoint(void **state)
  * tolerance 0 and the waypoint in open, known space at the corner of a
  * search cell, there is a path.
  *
- * BUG (skipped): guide.c lc_guide_update reaches the goal within
- * max(tolerance, half a search cell), but a point of a cell lies up to half
- * the cell's diagonal (0.0707 m for 0.1 m cells) from the nearest centre:
- * at a cell's corner no centre is within 0.05 m, the search opens the whole
- * window (twice, with the wide retry) and gives LC_GUIDE_NO_PATH.
+ * Found by this test and fixed: the goal was reached within max(tolerance,
+ * half a search cell), but a cell's corner lies half the diagonal (0.0707 m)
+ * from every centre: no path. The reach is now at least half a diagonal.
  */
 static void test_tolerance_zero(void **state)
 {
     (void)state;
-    LC_TEST_SKIP("bug: guide.c, tolerance 0: no path to a waypoint at a search cell's corner");
     scene s;
     scene_open(&s);
     lc_vec2 corner = search_corner(s.m, lc_v2(3.33, -1.21), s.gc.cell);
