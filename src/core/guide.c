@@ -545,7 +545,8 @@ static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_
         lc_cell_state st;
         lc_vec2 at;
         double t = lc_memory_march(c->m, a, lc_scale(lc_sub(b, a), 1.0 / len), len, 0.0, &st, &at);
-        if (t < len && st == LC_CELL_UNKNOWN)
+        /* a cell the segment only touches at its end is not crossed */
+        if (t < len - 1e-9 * fmax(1.0, len) && st == LC_CELL_UNKNOWN)
             return false;
     }
     return true;
