@@ -66,7 +66,7 @@ ATTEMPTS = 200       # redraws before a family is declared broken
 
 ROBOT = {"model": "unicycle", "radius": 0.3, "margin": 0.05, "v_max": 0.8,
          "a_max": 0.5, "w_max": 1.0, "dw_max": 2.0}
-SENSOR = {"beams": 720, "fov": FOV, "range_min": 0.05, "range_max": 10.0,
+SENSOR = {"beams": 720, "fov": FOV, "near": 0.05, "far": 10.0,
           "rate": 20, "noise": 0.01, "mount": [0, 0, 0]}
 TOLERANCE = 0.3
 

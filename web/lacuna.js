@@ -21,15 +21,28 @@
  * URL fragment: #robot=NAME watches that robot only (the hello names it, the
  * server sends nothing else); #token=TOKEN for a server with a viewer token.
  *
+ * Waypoints are numbered from 0, as on the wire, in events and in the run
+ * pictures (proto/PROTOCOL.md): the map's labels and the panel show the
+ * wire's index itself.
+ *
+ * The panel explains in words what the view says (PROTOCOL.md, view): a
+ * unicycle turning on the spot, a detour of the guidance path, a waypoint
+ * the patrol found unreachable (blocked, no_path), a dropped link whose
+ * session waits for the robot, and an acceleration limit while speeding up
+ * or slowing down. The map draws guidance's way ahead and the occupied cells
+ * the robot remembers (a view carries them now and then: the last is kept).
+ *
  * For the browser test (tests/web): the canvas carries data-robot-x and
  * data-robot-y (the drawn robot centre, viewport CSS pixels), data-scale
- * (pixels per metre), data-draws (maps drawn) and data-views (views
- * received); the body carries data-conn (live, wait, down).
+ * (pixels per metre), data-draws (maps drawn), data-views (views
+ * received), data-path (vertices of the guidance path drawn), data-memory
+ * (remembered cells drawn) and data-labels (the waypoint labels drawn,
+ * comma separated); the body carries data-conn (live, wait, down).
  */
 (function () {
   'use strict';
 
-  var PROTOCOL = 'lacuna.v1';
+  var PROTOCOL = 'lacuna.v2';
   var TRAIL_SECONDS = 30;         /* the trail fades out over this time */
   var TRAIL_BREAK_M = 1.0;        /* a jump longer than this starts a new trail piece */
   var SILENT_SECONDS = 2.0;       /* at least: a robot sending frames, or stale, gets a view
@@ -93,8 +106,14 @@
     goal: 'It eases off as it nears the target.',
     top_speed: function (v) { return 'It is at its top speed (v_max' + limitValue(v.v_max, 'm/s') + ').'; },
     braking: 'It keeps room to stop inside the free region: an obstacle, or the edge of what the sensor has seen, is close ahead.',
-    accel: function (v) {
-      return 'Its acceleration limit (a_max' + limitValue(v.a_max, 'm/s\u00b2') + ') holds the change of speed.';
+    accel: function (v, r) {
+      var a = 'its acceleration limit (a_max' + limitValue(v.a_max, 'm/s\u00b2') + ')';
+      var now = speedOf(v), before = r ? r.prevSpeed : NaN;
+      if (finite(before) && now > before + 0.002)
+        return 'It is speeding up as fast as ' + a + ' lets it.';
+      if (finite(before) && now < before - 0.002)
+        return 'It is slowing down as fast as ' + a + ' lets it.';
+      return 'Its speed changes, up or down, no faster than ' + a + ' lets it.';
     },
     turning: 'It turns on the spot first: the target is too far off its heading to drive.',
     turn_rate: function (v) {
@@ -103,16 +122,80 @@
     },
     too_close: 'It may not drive: an obstacle is inside radius + margin.',
     stale: 'Stopped: no fresh sensor frame.',
-    blocked: 'Stopped: no progress toward the waypoint.',
+    blocked: function (v) {
+      return v.blocked === 'no_path' ? 'Stopped: no way to the waypoint through what it knows.'
+                                     : 'Stopped: no progress toward the waypoint.';
+    },
     arrived: 'Stopped: at its waypoint, or the route is done.',
     idle: 'Stopped: no route.'
   };
 
   function toWaypoint(v) {
-    if (!finite(v.waypoint))
-      return '';
-    var n = v.route && Array.isArray(v.route.waypoints) ? v.route.waypoints.length : 0;
-    return ' toward waypoint ' + (v.waypoint + 1) + (n ? ' of ' + n : '');
+    return finite(v.waypoint) ? ' toward waypoint ' + v.waypoint : '';
+  }
+
+  /* The setpoint's speed along the ground (m/s), 0 without one. */
+  function speedOf(v) {
+    var sp = v && v.setpoint;
+    if (!sp)
+      return 0;
+    if (finite(sp.v) || finite(sp.w))
+      return Math.abs(finite(sp.v) ? sp.v : 0);
+    return Math.hypot(finite(sp.vx) ? sp.vx : 0, finite(sp.vy) ? sp.vy : 0);
+  }
+
+  /* A unicycle turning where it stands: no speed, a turn rate. */
+  function turningOnTheSpot(v) {
+    var sp = v.setpoint;
+    return !!sp && finite(sp.w) && Math.abs(sp.w) >= 0.02 && speedOf(v) < 0.005;
+  }
+
+  /* "(9.9 m along it against 7.0 m straight)" when the view gives both. */
+  function wayLengths(g) {
+    return finite(g.to_go) && finite(g.straight)
+      ? ' (' + fmt(g.to_go, 1) + ' m along it against ' + fmt(g.straight, 1) + ' m straight)' : '';
+  }
+
+  /*
+   * What the view says beyond its state, in words: null when the state's
+   * own words are the whole story. The link first (nothing else holds while
+   * it is down), then an unreachable waypoint, then how a tracking robot
+   * finds its way: turning on the spot, going round.
+   */
+  function explain(v, t, r) {
+    var g = v.guide || {};
+    if (v.link === 'down') {
+      var ago = 'The robot\u2019s link to lacuna dropped ' + fmtAge(t - r.linkDownAt) + ' ago';
+      var grace = conn.graceMs / 1000;
+      if (grace > 0 && t - r.linkDownAt > grace)
+        return { title: 'Disconnected', cls: 'bad', words: ago + ', and it did not come back within ' +
+          fmt(grace, 0) + ' s: lacuna ended its session.' };
+      return { title: 'Link lost', cls: 'bad', words: ago + '. lacuna keeps its route and progress' +
+        (grace > 0 ? ' for ' + fmt(grace, 0) + ' s' : '') +
+        ': if it says hello again in time it carries on where it was; after that it starts anew.' };
+    }
+    if (v.state === 'blocked' && v.blocked === 'no_path') {
+      var route = v.route || {};
+      var then = route.on_blocked === 'skip' ? ' The route says skip: it gives this waypoint up and goes on.'
+        : ' It holds still and keeps looking, and moves again if a way opens.';
+      return { title: 'Waypoint ' + (finite(v.waypoint) ? v.waypoint + ' ' : '') + 'unreachable', cls: 'bad',
+        words: 'No way leads to waypoint ' + v.waypoint + ' through what the robot has seen and ' +
+          'remembers: it is shut in, inside an obstacle, or beyond what the robot knows.' + then };
+    }
+    if (v.state !== 'tracking')
+      return null;
+    if (turningOnTheSpot(v)) {
+      return { title: 'Turning on the spot', cls: 'good', words: g.detour
+        ? 'Turning on the spot to get round: the way ahead is closed, so it turns onto the way round' +
+          wayLengths(g) + toWaypoint(v) + '.'
+        : 'Turning on the spot to face its way: it turns where it stands until it faces where it ' +
+          'must go, then drives' + toWaypoint(v) + '.' };
+    }
+    if (g.detour) {
+      return { title: 'Going round', cls: 'good', words: 'Going round: the way ahead is closed (or not ' +
+        'seen yet), so it follows a way round' + wayLengths(g) + toWaypoint(v) + '.' };
+    }
+    return null;
   }
 
   function fmt(x, digits) {
@@ -155,7 +238,8 @@
   function readPalette() {
     var cs = getComputedStyle(document.documentElement);
     ['paper', 'ink', 'grid', 'region', 'region-line', 'ellipse', 'obstacle', 'grown', 'grown-line',
-     'points', 'points-core', 'route', 'target', 'robot', 'robot-bad', 'arrow', 'trail', 'other', 'card'
+     'points', 'points-core', 'route', 'target', 'robot', 'robot-bad', 'arrow', 'trail', 'other', 'card',
+     'path', 'memory'
     ].forEach(function (k) {
       P[k] = cs.getPropertyValue('--map-' + k).trim() || '#000';
     });
@@ -164,7 +248,8 @@
   /* ------------------------------------------------------------ robots */
 
   /* name -> {name, view, arrivals: [{t, seq}], trail: [{x, y, t, gap}],
-   *          minClear, lastArrival} */
+   *          minClear, lastArrival, memory (the last view's that carried it),
+   *          prevSpeed (the view before's), linkDownAt} */
   var robots = new Map();
   var selected = opts.robot || '';
   var viewsTotal = 0;
@@ -172,7 +257,8 @@
   function robotFor(name) {
     var r = robots.get(name);
     if (!r) {
-      r = { name: name, view: null, arrivals: [], trail: [], minClear: Infinity, lastArrival: 0 };
+      r = { name: name, view: null, arrivals: [], trail: [], minClear: Infinity, lastArrival: 0,
+            memory: null, prevSpeed: NaN, linkDownAt: 0 };
       robots.set(name, r);
       pickerDirty = true;
     }
@@ -186,6 +272,14 @@
     var r = robotFor(v.robot);
     var prev = r.view;
     r.view = v;
+    r.prevSpeed = prev ? speedOf(prev) : NaN;
+    if (v.link === 'down' && (!prev || prev.link !== 'down'))
+      r.linkDownAt = t;
+    /* the memory comes in some views only: keep the last, drop it with its session */
+    if (v.memory && typeof v.memory === 'object')
+      r.memory = v.memory;
+    else if (!finite(v.seq) || (prev && finite(prev.seq) && v.seq < prev.seq))
+      r.memory = null;
     r.lastArrival = t;
     r.arrivals.push({ t: t, seq: finite(v.seq) ? v.seq : null });
     while (r.arrivals.length > 2 && r.arrivals[0].t < t - RATE_WINDOW)
@@ -232,7 +326,7 @@
 
   var conn = {
     ws: null, status: 'wait', attempt: 0, retryAt: 0, timer: 0, helloAt: 0, rtt: NaN,
-    watchdogMs: 0, stopped: false, token: opts.token, everLive: false,
+    watchdogMs: 0, graceMs: 0, stopped: false, token: opts.token, everLive: false,
     why: ''  /* why the page stopped trying, for the pill and the map */
   };
 
@@ -318,6 +412,7 @@
     conn.attempt = 0;
     conn.everLive = true;
     conn.watchdogMs = finite(m.watchdog_ms) ? m.watchdog_ms : 0;
+    conn.graceMs = finite(m.grace_ms) ? m.grace_ms : 0;
     setConn('live', 'live');
     showMessage(fragmentProblem);
     panelDirty = true;
@@ -646,7 +741,7 @@
     var route = v.route;
     if (!route || !Array.isArray(route.waypoints) || !route.waypoints.length)
       return;
-    var wps = route.waypoints.filter(isPoint);
+    var wps = route.waypoints.filter(isPoint), labels = [];
     var cur = finite(route.current) ? route.current : (finite(v.waypoint) ? v.waypoint : -1);
     worldPath(wps, route.loop && wps.length > 2);
     strokeWith(P.route, 3, [12, 8]);
@@ -672,8 +767,54 @@
       ctx.lineWidth = 3;
       ctx.stroke();
       ctx.fillStyle = i === cur ? P.card : P.route;
-      ctx.fillText(String(i + 1), sx(p[0]), sy(p[1]) + 0.5);
+      ctx.fillText(String(i), sx(p[0]), sy(p[1]) + 0.5);
+      labels.push(i);
     });
+    canvas.dataset.labels = labels.join(',');
+  }
+
+  /* Guidance's way ahead: a solid line over a light casing, dots at its
+   * corners. Returns the vertices drawn. */
+  function drawGuide(v) {
+    var g = v.guide, pts = g && Array.isArray(g.path) ? g.path.filter(isPoint) : [];
+    if (pts.length < 2)
+      return 0;
+    ctx.lineJoin = 'round';
+    ctx.lineCap = 'round';
+    worldPath(pts, false);
+    strokeWith(P.card, 8);
+    worldPath(pts, false);
+    strokeWith(P.path, 4);
+    ctx.fillStyle = P.path;
+    for (var i = 1; i < pts.length; i++) {
+      ctx.beginPath();
+      ctx.arc(sx(pts[i][0]), sy(pts[i][1]), 4, 0, 2 * Math.PI);
+      ctx.fill();
+    }
+    return pts.length;
+  }
+
+  /* The occupied cells the robot remembers: runs [dj, di, n] of cells along
+   * +x from the lattice origin (PROTOCOL.md, view memory). Returns the
+   * cells drawn. */
+  function drawMemory(m) {
+    if (!m || !finite(m.cell) || m.cell <= 0 || !Array.isArray(m.origin) || !Array.isArray(m.runs))
+      return 0;
+    var c = m.cell, i0 = m.origin[0], j0 = m.origin[1], runs = m.runs, cells = 0;
+    if (!finite(i0) || !finite(j0))
+      return 0;
+    ctx.fillStyle = P.memory;
+    for (var k = 0; k + 2 < runs.length; k += 3) {
+      var dj = runs[k], di = runs[k + 1], n = runs[k + 2];
+      if (!finite(dj) || !finite(di) || !finite(n) || n < 1)
+        continue;
+      /* whole pixels: a cell is a few pixels wide, and blurred edges would grey it */
+      var x0 = Math.floor(sx((i0 + di) * c)), x1 = Math.ceil(sx((i0 + di + n) * c));
+      var y0 = Math.floor(sy((j0 + dj + 1) * c)), y1 = Math.ceil(sy((j0 + dj) * c));
+      ctx.fillRect(x0, y0, Math.max(1, x1 - x0), Math.max(1, y1 - y0));
+      cells += n;
+    }
+    return cells;
   }
 
   function drawTrail(r, t) {
@@ -807,7 +948,7 @@
     var fp = Array.isArray(v.footprint) && v.footprint.length >= 3 ? v.footprint : null;
     var x = sx(pose[0]), y = sy(pose[1]);
     var rp = Math.max(9, radius * cam.scale);
-    var bad = v.state === 'blocked' || v.state === 'stale' || v.state === 'too_close';
+    var bad = v.state === 'blocked' || v.state === 'stale' || v.state === 'too_close' || v.link === 'down';
     if (main && margin > 0 && margin * cam.scale > 2) {
       if (fp) {
         footprintPath(fp, pose, yaw, margin);
@@ -842,7 +983,7 @@
       ctx.font = 'bold 14px "DejaVu Sans", sans-serif';
       ctx.textAlign = 'left';
       ctx.textBaseline = 'middle';
-      var label = v.robot + (isSilent(robots.get(v.robot), t) ? ' (silent)' : '');
+      var label = v.robot + (v.link === 'down' ? ' (link lost)' : isSilent(robots.get(v.robot), t) ? ' (silent)' : '');
       var ly = main ? y - rp : y + rp; /* two robots side by side keep apart labels */
       ctx.lineWidth = 4;
       ctx.strokeStyle = P.card;
@@ -903,11 +1044,13 @@
       }
     }
     var step = drawGrid();
-    var spot = null;
+    var spot = null, pathDrawn = 0, memoryDrawn = 0;
     if (v) {
       drawRegion(v);
       drawPolygons(v.grown, hatchPattern(), P['grown-line'], 2);
+      memoryDrawn = drawMemory(r.memory);
       drawPolygons(v.obstacles, P.obstacle, P.obstacle, 2);
+      pathDrawn = drawGuide(v);
       drawRoute(v);
       drawEllipse(v);
       drawTrail(r, t);
@@ -931,6 +1074,8 @@
       banner(conn.everLive ? 'Server connection lost \u2013 showing the last view' : 'Not connected to lacuna', true);
     else if (!r)
       banner(opts.robot ? 'Waiting for robot ' + opts.robot : 'Connected \u2013 waiting for a robot', false);
+    else if (v && v.link === 'down')
+      banner(r.name + ': link lost ' + fmtAge(t - r.linkDownAt) + ' ago', true);
     else if (isSilent(r, t))
       banner('No view from ' + r.name + ' for ' + fmtAge(t - r.lastArrival), true);
     else if (!v || !isPoint(v.pose))
@@ -947,6 +1092,8 @@
     }
     draws++;
     canvas.dataset.draws = String(draws);
+    canvas.dataset.path = String(pathDrawn);
+    canvas.dataset.memory = String(memoryDrawn);
     canvas.dataset.scale = cam.scale.toFixed(3);
     drawTimes.push(t);
     while (drawTimes.length > 2 && drawTimes[0] < t - RATE_WINDOW)
@@ -1008,6 +1155,16 @@
     return [speed.toFixed(2) + ' m/s', 'vx ' + fmt(vx, 3) + ', vy ' + fmt(vy, 3) + ' m/s, ' + dir];
   }
 
+  /* Guidance's way to the waypoint: its length, and what it is like. */
+  function wayText(g) {
+    if (!g || typeof g !== 'object')
+      return ['\u2013', ''];
+    if (g.status === 'no_path')
+      return ['none', 'no way through what it knows'];
+    return [fmtMetres(g.to_go), (finite(g.straight) ? fmtMetres(g.straight) + ' straight' : '') +
+            (g.detour ? ', going round' : '')];
+  }
+
   function clearanceClass(c, v) {
     if (!finite(c))
       return '';
@@ -1043,24 +1200,27 @@
     if (!isPoint(v.pose))
       st = { title: 'No frame yet', cls: 'none',
              words: function () { return 'Connected; lacuna has not had a sensor frame from it yet.'; } };
+    var more = explain(v, t, r);
+    if (more)
+      st = { title: more.title, cls: more.cls, words: function () { return more.words; } };
     if (offline)
       st = { title: 'No connection', cls: 'bad', words: function () {
         return 'The page lost its connection to lacuna ' + fmtAge(t - r.lastArrival) +
           ' ago and is trying again. The map shows the last view; last state: ' + (v.state || '?') + '.';
       } };
-    else if (silent)
+    else if (silent && v.link !== 'down')
       st = { title: 'Silent', cls: 'bad', words: function () {
         return 'No view for ' + fmtAge(t - r.lastArrival) + ': the robot has disconnected from lacuna, ' +
           'or has never sent a frame. Last state: ' + (v.state || '?') + '.';
       } };
-    silent = silent || offline;
+    silent = silent || offline || v.link === 'down'; /* no state or limit is in force: nothing is told */
     setText('state', st.title);
     setClass('state', 'state state-' + st.cls);
     setText('state-code', silent ? '' : String(v.state || ''));
     setText('state-words', st.words(v));
     var lw = LIMITS[v.limit] || '';
     if (typeof lw === 'function')
-      lw = lw(v);
+      lw = lw(v, r);
     $('limit-line').hidden = !lw || silent;
     setText('limit-words', lw);
     setText('limit-code', String(v.limit || ''));
@@ -1070,16 +1230,20 @@
     setText('f-setpoint-detail', spt[1]);
     var wp = '\u2013', wpd = '';
     if (v.route && Array.isArray(v.route.waypoints) && finite(v.waypoint)) {
-      wp = (v.waypoint + 1) + ' of ' + v.route.waypoints.length;
-      wpd = v.route.loop ? 'looping' : 'once through';
-      var g = isPoint(v.goal) ? v.goal : v.route.waypoints[v.waypoint];
+      var n = v.route.waypoints.length, g = isPoint(v.goal) ? v.goal : v.route.waypoints[v.waypoint];
+      wp = String(v.waypoint);
+      wpd = n > 1 ? 'of 0\u2013' + (n - 1) : 'the only one';
       if (isPoint(g) && isPoint(v.pose))
-        wpd = fmtMetres(Math.hypot(g[0] - v.pose[0], g[1] - v.pose[1])) + ' away, ' + wpd;
+        wpd += ', ' + fmtMetres(Math.hypot(g[0] - v.pose[0], g[1] - v.pose[1])) + ' away';
+      wpd += ', ' + (v.route.loop ? 'looping' : 'once through');
     } else if (v.route && Array.isArray(v.route.waypoints)) {
       wp = v.route.waypoints.length ? 'none' : 'no route';
     }
     setText('f-waypoint', wp);
     setText('f-waypoint-detail', wpd);
+    var way = wayText(v.guide);
+    setText('f-way', way[0]);
+    setText('f-way-detail', way[1]);
     setText('f-clearance', fmtMetres(v.clearance));
     setClass('f-clearance', clearanceClass(v.clearance, v));
     setText('f-minclear', fmtMetres(r.minClear));

@@ -1,5 +1,5 @@
 /*
- * control.c - the dt rule of control.h.
+ * control.c - the dt and valid_ms rules of control.h.
  */
 #include "control.h"
 
@@ -27,4 +27,14 @@ double lc_control_dt(const lc_control *c, bool first, double prev, double stamp)
     if (dt < c->dt_min)
         dt = c->dt_min;
     return dt > c->dt_max ? c->dt_max : dt;
+}
+
+int lc_control_valid_ms(const lc_control *c, double dt)
+{
+    double ms = LC_VALID_PERIODS * 1000.0 * dt;
+    if (!(ms >= 1.0)) /* also a dt that is not a number */
+        return 1;
+    if (c->watchdog_ms > 0 && ms > c->watchdog_ms)
+        ms = c->watchdog_ms;
+    return ms >= LC_VALID_MS_MAX ? LC_VALID_MS_MAX : (int)lround(ms);
 }

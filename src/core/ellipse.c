@@ -1,7 +1,7 @@
 /*
  * ellipse.c - the maximum-area ellipse inscribed in a convex polygon
  * (Boyd and Vandenberghe, Convex Optimization, 8.4.2): the driver. The
- * interior-point method is ipm.c (its 5x5 Newton systems chol5.c), the
+ * interior-point method is ipm.c (its 5x5 Newton systems chol5.h), the
  * polygon of the cold start clip.c, the 2x2 matrices sym2.h.
  *
  * How a solve runs:

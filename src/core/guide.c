@@ -21,12 +21,26 @@ enum {
     CLS_FREE = 1,
     CLS_SOFT = 2,
     CLS_CLOSED = 3,
+    CLS_TIGHT = 4, /* soft, and within TIGHT of the clearance */
     CLS_UNKNOWN = 0x10, /* or'ed: the memory does not know the cell */
 };
 
 enum { ST_OPEN = 1, ST_DONE = 2 };
 
-#define LOS_STEP 0.5 /* memory cells between line-of-sight samples */
+#define LOS_STEP 1.0 /* memory cells between line-of-sight samples */
+
+/* Search cells along a side of a bucket of remembered returns: a bucket of
+ * 0.3 m holds the returns a nearest query around a cell looks at in a few
+ * reads, and the bucket grid is rebuilt each search at a ninth of the
+ * cost of one bucket per search cell (a quarter of a search, measured). */
+#define BUCKET 3
+
+/* A gap that leaves the robot's centre less than 2 TIGHT of room is one the
+ * region can barely hold the robot in (a needle of a region, a crawl): its
+ * cells cost TIGHT_COST times their length, so that a way round of up to
+ * a few metres is taken instead, and the gap only when there is none. */
+#define TIGHT 0.05     /* m */
+#define TIGHT_COST 8.0
 
 struct lc_guide {
     lc_alloc alloc;
@@ -48,6 +62,7 @@ struct lc_guide {
     lc_vec2 *pts, *tmp;
     int *tmp_cell;
     int n_pts, cap_pts, cap_tmp, cap_tmp_cell;
+    int bn;            /* buckets along a side (BUCKET search cells each) */
     lc_guide_path path, cand;
     long frame, last_search, searches;
     lc_vec2 searched_at; /* the robot at the last search */
@@ -57,6 +72,7 @@ struct lc_guide {
     double refused_r[LC_GUIDE_REFUSED];
     int n_refused, next_refused;
     bool search_now;
+    bool doubt;        /* the last search found no way where the path is */
 };
 
 void lc_guide_config_default(lc_guide_config *cfg)
@@ -137,8 +153,10 @@ lc_guide *lc_guide_new(const lc_guide_config *cfg, const lc_memory_config *mem_c
     g->heap = take(alloc, cells * sizeof *g->heap);
     g->pos = take(alloc, cells * sizeof *g->pos);
     g->raw = take(alloc, cells * sizeof *g->raw);
-    g->start = take(alloc, (cells + 1) * sizeof *g->start);
-    g->occ = take(alloc, cells);
+    g->bn = (n + BUCKET - 1) / BUCKET;
+    size_t buckets = (size_t)g->bn * (size_t)g->bn;
+    g->start = take(alloc, (buckets + 1) * sizeof *g->start);
+    g->occ = take(alloc, buckets);
     if (!g->g || !g->f || !g->parent || !g->state || !g->cls || !g->heap || !g->pos || !g->raw ||
         !g->start || !g->occ) {
         lc_guide_free(g);
@@ -167,6 +185,7 @@ void lc_guide_reset(lc_guide *g)
     g->path.status = LC_GUIDE_NONE;
     g->path.n = 0;
     g->has_goal = false;
+    g->doubt = false;
     g->n_refused = g->next_refused = 0;
 }
 
@@ -215,11 +234,20 @@ typedef struct collect_ctx {
     int failed;
 } collect_ctx;
 
+static int bucket_of(const lc_guide *g, lc_vec2 p)
+{
+    double w = BUCKET * g->cfg.cell;
+    double u = floor((p.x - g->x0) / w), v = floor((p.y - g->y0) / w);
+    if (!(u >= 0 && u < g->bn && v >= 0 && v < g->bn))
+        return -1;
+    return (int)v * g->bn + (int)u;
+}
+
 static int collect_one(void *data, lc_vec2 p)
 {
     collect_ctx *cc = data;
     lc_guide *g = cc->g;
-    int k = cell_of(g, p);
+    int k = bucket_of(g, p);
     if (k < 0)
         return 0;
     if (LC_GROW(&g->alloc, g->tmp, g->cap_tmp, g->n_pts + 1) < 0 ||
@@ -239,7 +267,7 @@ static int collect_one(void *data, lc_vec2 p)
  */
 static int bucket_obstacles(lc_guide *g, const lc_memory *m)
 {
-    int total = g->n * g->n;
+    int total = g->bn * g->bn;
     g->n_pts = 0;
     collect_ctx cc = {g, 0};
     lc_memory_each_occupied(m, collect_one, &cc);
@@ -262,41 +290,40 @@ static int bucket_obstacles(lc_guide *g, const lc_memory *m)
 
 /* The distance from p to the nearest bucketed return within radius;
  * INFINITY when there is none. */
-static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
+static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at)
 {
-    double cs = g->cfg.cell;
+    double cs = BUCKET * g->cfg.cell;
     int u0 = (int)floor((p.x - radius - g->x0) / cs), u1 = (int)floor((p.x + radius - g->x0) / cs);
     int v0 = (int)floor((p.y - radius - g->y0) / cs), v1 = (int)floor((p.y + radius - g->y0) / cs);
     u0 = u0 < 0 ? 0 : u0;
     v0 = v0 < 0 ? 0 : v0;
-    u1 = u1 >= g->n ? g->n - 1 : u1;
-    v1 = v1 >= g->n ? g->n - 1 : v1;
+    u1 = u1 >= g->bn ? g->bn - 1 : u1;
+    v1 = v1 >= g->bn ? g->bn - 1 : v1;
     double best = radius * radius;
     bool found = false;
     for (int v = v0; v <= v1; v++) {
-        const uint8_t *occ = g->occ + (size_t)v * (size_t)g->n;
+        const uint8_t *occ = g->occ + (size_t)v * (size_t)g->bn;
         for (int u = u0; u <= u1; u++) {
-            if (u + 8 <= u1 + 1) {
-                uint64_t w;
-                memcpy(&w, occ + u, sizeof w);
-                if (w == 0) {
-                    u += 7;
-                    continue;
-                }
-            }
             if (!occ[u])
                 continue;
-            int k = v * g->n + u;
+            int k = v * g->bn + u;
             for (int i = g->start[k]; i < g->start[k + 1]; i++) {
                 double d2 = lc_len2(lc_sub(g->pts[i], p));
                 if (d2 < best) {
                     best = d2;
                     found = true;
+                    if (at)
+                        *at = g->pts[i];
                 }
             }
         }
     }
     return found ? sqrt(best) : INFINITY;
+}
+
+static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
+{
+    return bucket_nearest_at(g, p, radius, NULL);
 }
 
 typedef struct search_ctx {
@@ -309,13 +336,30 @@ typedef struct search_ctx {
                         edge of the clearance as they are seen again) */
 } search_ctx;
 
+/*
+ * Closed: nearer a remembered return than the clearance less half a search
+ * cell. A passage just wide enough for the robot (the worlds a robot meets
+ * are no kinder) may hold no cell centre a full clearance from both sides
+ * on a grid of `cell`; the search errs on the open side by that half cell,
+ * such a gap costs TIGHT_COST, and the region, which keeps the exact
+ * clearance from what is seen, decides whether the robot passes (refused
+ * after a stall when it does not).
+ */
+static double closed_within(const lc_guide *g, const search_ctx *c)
+{
+    return c->R - 0.5 * g->cfg.cell;
+}
+
 /* A point's class from the memory: closed, soft or free, and unknown. */
 static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
 {
     if (refused_at(g, c->start, c->escape, p))
         return CLS_CLOSED;
     double d = bucket_nearest(g, p, c->R + g->cfg.soft);
-    int cls = d < c->R ? CLS_CLOSED : (d < c->R + g->cfg.soft ? CLS_SOFT : CLS_FREE);
+    int cls = d < closed_within(g, c)    ? CLS_CLOSED
+              : d < c->R + TIGHT         ? CLS_TIGHT
+              : d < c->R + g->cfg.soft   ? CLS_SOFT
+                                         : CLS_FREE;
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         cls |= CLS_UNKNOWN;
     return cls;
@@ -327,7 +371,7 @@ static int cls_at(lc_guide *g, const search_ctx *c, int k)
         lc_vec2 p = centre_of(g, k);
         int cls = classify_point(g, c, p);
         if ((cls & 0x0f) == CLS_CLOSED && lc_dist(p, c->start) <= c->escape)
-            cls = (cls & CLS_UNKNOWN) | CLS_SOFT; /* the robot stands here: let it out */
+            cls = (cls & CLS_UNKNOWN) | CLS_TIGHT; /* the robot stands here: let it out */
         g->cls[k] = (uint8_t)cls;
     }
     return g->cls[k];
@@ -335,7 +379,8 @@ static int cls_at(lc_guide *g, const search_ctx *c, int k)
 
 static double factor(const lc_guide *g, int cls)
 {
-    double f = (cls & 0x0f) == CLS_SOFT ? g->cfg.soft_cost : 1.0;
+    int k = cls & 0x0f;
+    double f = k == CLS_TIGHT ? TIGHT_COST : (k == CLS_SOFT ? g->cfg.soft_cost : 1.0);
     return cls & CLS_UNKNOWN ? f * g->cfg.unknown_cost : f;
 }
 
@@ -438,7 +483,11 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
         return -1;
     bool inside = cell_of(g, goal) >= 0;
     double w = g->cfg.greed;
-    relax(g, s, -1, 0.0, w * octile(centre_of(g, s), goal));
+    /* The search ends anywhere within reach of the goal: the octile
+     * distance less what it may overstate that by (octile / Euclidean is at
+     * most sqrt(4 - 2 sqrt 2)) keeps the heuristic admissible. */
+    double slack = inside ? sqrt(4.0 - 2.0 * sqrt(2.0)) * reach : 0.0;
+    relax(g, s, -1, 0.0, w * fmax(0.0, octile(centre_of(g, s), goal) - slack));
     static const int du[8] = {1, -1, 0, 0, 1, 1, -1, -1}, dv[8] = {0, 0, 1, -1, 1, -1, 1, -1};
     double step = g->cfg.cell;
     while (g->heap_n > 0) {
@@ -465,7 +514,8 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
             if (d < 4)
                 open[d] = true;
             double len = d < 4 ? step : step * sqrt(2.0);
-            relax(g, q, k, g->g[k] + len * factor(g, cls), w * octile(centre_of(g, q), goal));
+            relax(g, q, k, g->g[k] + len * factor(g, cls),
+                  w * fmax(0.0, octile(centre_of(g, q), goal) - slack));
         }
     }
     return -1;
@@ -477,7 +527,8 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
  * soft margin (samples every LOS_STEP memory cells)? A shortcut that grazes
  * an obstacle at the bare clearance would lead the robot along the edge of
  * its region, where the region's lines cut the path off at once. */
-static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b)
+static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b,
+                          bool known)
 {
     double len = lc_dist(a, b), step = LOS_STEP * g->mem_cell;
     double keep = c->R + 0.5 * g->cfg.soft;
@@ -486,6 +537,16 @@ static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_
         lc_vec2 p = lc_lerp(a, b, (double)i / k);
         if ((refused_at(g, c->start, c->escape, p) || bucket_nearest(g, p, keep) < keep) &&
             lc_dist(p, c->start) > c->escape)
+            return false;
+    }
+    if (known && len > 0) {
+        /* every cell the segment crosses known (the exact traversal: a
+         * corner of unknown space between two samples counts too) */
+        lc_cell_state st;
+        lc_vec2 at;
+        double t = lc_memory_march(c->m, a, lc_scale(lc_sub(b, a), 1.0 / len), len, 0.0, &st, &at);
+        /* a cell the segment only touches at its end is not crossed */
+        if (t < len - 1e-9 * fmax(1.0, len) && st == LC_CELL_UNKNOWN)
             return false;
     }
     return true;
@@ -515,6 +576,35 @@ static lc_vec2 way_point(const way_points *w, int k)
 /* The raw cell path into cand as a polyline shortened where the straight
  * line is clear: from each anchor, the farthest point in sight (the goal
  * first, then by halving). */
+/*
+ * A vertex of the path that lies within the soft margin of a return moved
+ * up the distance to the returns, CENTRE_STEP at a time while that
+ * distance grows: through a gap it comes to the gap's middle, a cell's
+ * width off where the grid put it. The region is seeded along the path: in
+ * a gap barely wider than the robot, only a path down its middle leaves a
+ * seed a region can grow along.
+ */
+#define CENTRE_STEP 0.01 /* m */
+#define CENTRE_STEPS 10
+
+static lc_vec2 centre_point(const lc_guide *g, const search_ctx *c, lc_vec2 v)
+{
+    double reach = c->R + g->cfg.soft;
+    lc_vec2 q;
+    double d = bucket_nearest_at(g, v, reach, &q);
+    for (int i = 0; i < CENTRE_STEPS && d < reach && d > 1e-9; i++) {
+        lc_vec2 moved = lc_add(v, lc_scale(lc_sub(v, q), CENTRE_STEP / d));
+        lc_vec2 q2;
+        double d2 = bucket_nearest_at(g, moved, reach, &q2);
+        if (!(d2 > d))
+            break;
+        v = moved;
+        d = d2;
+        q = q2;
+    }
+    return v;
+}
+
 static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, double cost)
 {
     int n_raw = 0, total = g->n * g->n;
@@ -531,16 +621,25 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
     p->found_at = g->frame;
     p->seg = 0;
     p->v[p->n++] = c->start;
+    /* unknown[k]: the way's cells before way point k the search took
+     * through unknown space (the heap's positions are free after the
+     * search): a shortcut may cross unknown space only where they did, for
+     * the search went round it where it could */
+    int *unknown = g->pos;
+    unknown[0] = 0;
+    for (int k = 1; k < w.count; k++)
+        unknown[k] = unknown[k - 1] +
+                     (k < w.count - 1 && (g->cls[g->raw[w.n_raw - 1 - k]] & CLS_UNKNOWN) ? 1 : 0);
     int a = 0, last = w.count - 1;
     while (a < last && p->n < LC_GUIDE_PATH_MAX) {
         int lo = a + 1, hi = last;
         lc_vec2 from = way_point(&w, a);
-        if (line_of_sight(g, c, from, way_point(&w, hi))) {
+        if (line_of_sight(g, c, from, way_point(&w, hi), unknown[hi] == unknown[a])) {
             lo = hi;
         } else {
             while (hi - lo > 1) { /* lo in sight (a neighbour), hi not */
                 int mid = (lo + hi) / 2;
-                if (line_of_sight(g, c, from, way_point(&w, mid)))
+                if (line_of_sight(g, c, from, way_point(&w, mid), unknown[mid] == unknown[a]))
                     lo = mid;
                 else
                     hi = mid;
@@ -549,6 +648,8 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
         a = p->n == LC_GUIDE_PATH_MAX - 1 ? last : lo; /* room for the goal at the end */
         p->v[p->n++] = way_point(&w, a);
     }
+    for (int k = 1; k + 1 < p->n; k++)
+        p->v[k] = centre_point(g, c, p->v[k]);
     p->length = 0;
     for (int k = 1; k < p->n; k++)
         p->length += lc_dist(p->v[k - 1], p->v[k]);
@@ -563,10 +664,12 @@ static lc_vec2 nearest_ahead(const lc_guide_path *p, lc_vec2 from, int *seg)
         *seg = 0;
         return p->n ? p->v[0] : from;
     }
-    int best = *seg < p->n - 1 ? *seg : p->n - 2;
+    int best = *seg < p->n - 1 ? *seg : p->n - 2, first = best;
     lc_vec2 bq = p->v[best];
+    /* the segment the robot was at and those that start within 3 m of
+     * its end (however long the segment itself is) */
     double bd = INFINITY, walked = 0.0;
-    for (int k = best; k < p->n - 1 && walked < 3.0; k++) {
+    for (int k = first; k < p->n - 1 && walked < 3.0; k++) {
         lc_vec2 q;
         double d = lc_segment_distance(from, p->v[k], p->v[k + 1], &q);
         if (d < bd - 1e-12) {
@@ -574,7 +677,8 @@ static lc_vec2 nearest_ahead(const lc_guide_path *p, lc_vec2 from, int *seg)
             bq = q;
             best = k;
         }
-        walked += lc_dist(p->v[k], p->v[k + 1]);
+        if (k > first)
+            walked += lc_dist(p->v[k], p->v[k + 1]);
     }
     *seg = best;
     return bq;
@@ -632,7 +736,7 @@ static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_pa
             }
             int cls = classify_point(g, c, s);
             if ((cls & 0x0f) == CLS_CLOSED)
-                cls = (cls & CLS_UNKNOWN) | CLS_SOFT;
+                cls = (cls & CLS_UNKNOWN) | CLS_TIGHT;
             cost += len / m * factor(g, cls);
         }
         a = b;
@@ -657,7 +761,7 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
             lc_vec2 s = lc_lerp(a, b, (double)i / m);
             walked += len / m;
             if (lc_dist(s, c->start) > c->escape &&
-                (refused_at(g, c->start, c->escape, s) || lc_memory_nearest(c->m, s, c->R) < c->R - c->graze))
+                (refused_at(g, c->start, c->escape, s) || lc_memory_nearest(c->m, s, c->R) < closed_within(g, c) - c->graze))
                 return true;
         }
         a = b;
@@ -682,32 +786,67 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
     memset(info, 0, sizeof *info);
     *out = &g->path;
     g->frame++;
+    if (!lc_vec2_finite(waypoint) || !lc_vec2_finite(robot)) {
+        /* no way to or from nowhere; the next finite waypoint is a new goal */
+        g->path = (lc_guide_path){.status = LC_GUIDE_NO_PATH, .goal = waypoint,
+                                  .found_at = g->frame};
+        g->has_goal = false;
+        g->doubt = false;
+        return 0;
+    }
     search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell};
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
     if (new_goal)
         g->n_refused = g->next_refused = 0;
     long since = g->frame - g->last_search;
     bool due = since >= g->cfg.every && (lc_dist(robot, g->searched_at) >= g->cfg.travel ||
-                                         since >= 10L * g->cfg.every);
+                                         since >= 10L * g->cfg.every || g->doubt);
     if (g->path.status == LC_GUIDE_PATH && !new_goal) {
         nearest_ahead(&g->path, robot, &g->path.seg);
         info->blocked_ahead = blocked_ahead(g, &c, robot);
     }
+    bool doubting = g->doubt && since < g->cfg.every; /* waiting to search again */
     if (new_goal || due || g->search_now || g->path.status != LC_GUIDE_PATH ||
-        info->blocked_ahead) {
+        (info->blocked_ahead && !doubting)) {
         g->search_now = false;
         place_grid(g, m);
         if (bucket_obstacles(g, m) < 0)
             return -1;
         int expanded;
-        double reach = fmax(tolerance, 0.5 * g->cfg.cell);
+        /* at least half a cell's diagonal: every point has a cell centre
+         * that near */
+        double reach = fmax(tolerance, 0.5 * sqrt(2.0) * g->cfg.cell + 1e-9);
         int end = astar(g, &c, waypoint, reach, &expanded);
+        if (end < 0 && g->n_refused > 0) {
+            /* the refused spots closed every way: they were the only ones,
+             * so forget them and take the way the robot could not follow
+             * rather than give up on the waypoint */
+            int more;
+            g->n_refused = g->next_refused = 0;
+            end = astar(g, &c, waypoint, reach, &more);
+            expanded += more;
+        }
+        if (end < 0) {
+            /* the robot may stand where its cells read closed (a gap it
+             * is in, range noise on the cells beside it): let it out of
+             * its whole clearance before saying there is no way */
+            int more;
+            search_ctx wide = c;
+            wide.escape = fmax(c.escape, c.R + g->cfg.cell);
+            end = astar(g, &wide, waypoint, reach, &more);
+            expanded += more;
+        }
         info->searched = true;
         info->expanded = expanded;
         g->searches++;
         g->last_search = g->frame;
         g->searched_at = robot;
-        if (end < 0) {
+        if (end < 0 && !new_goal && g->path.status == LC_GUIDE_PATH && !g->doubt) {
+            /* no way now, where there was one: said only when the next
+             * search (`every` frames on) agrees; the old path meanwhile */
+            g->doubt = true;
+        } else if (end < 0) {
+            g->doubt = false;
             g->cand.status = LC_GUIDE_NO_PATH;
             g->cand.n = 0;
             g->cand.goal = waypoint;
@@ -715,6 +854,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             g->cand.seg = 0;
             g->path = g->cand;
         } else {
+            g->doubt = false;
             lc_vec2 goal_pt = end == g->n * g->n ? waypoint : centre_of(g, end);
             if (lc_dist(goal_pt, waypoint) <= reach)
                 goal_pt = waypoint;

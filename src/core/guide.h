@@ -11,19 +11,25 @@
  * than its length), the heuristic weighted by `greed` (weighted A*, Pohl
  * 1970: through unknown space, which costs several times its length, plain
  * A* would open most of the window):
- *   - a cell whose centre lies within the clearance (radius + margin, plus
- *     half a memory cell's diagonal) of a remembered occupied cell is
- *     closed;
+ *   - a cell whose centre lies nearer a remembered return than the
+ *     clearance (radius + margin) less half a search cell is closed (a
+ *     passage just wide enough may hold no cell centre a full clearance
+ *     from both sides: the search errs on the open side, and the region,
+ *     which keeps the exact clearance, decides whether the robot passes);
+ *     within 5 cm more of the clearance a step costs 8 times its length
+ *     (such a gap holds the robot on a needle of a region);
  *   - a step costs its length, times `soft_cost` within `soft` metres more
  *     of an obstacle (the path keeps off walls where it can), times
  *     `unknown_cost` through space the memory does not know (never seen, or
  *     forgotten), so that the robot goes to look rather than through the
  *     unknown when a known way is not much longer;
- *   - a waypoint outside the window is approached through its projection
- *     into the window (one cell in from the edge).
+ *   - a waypoint outside the window is a goal node of its own, reached
+ *     from the window's border cells at the unknown-space cost of the
+ *     straight line on: the path leaves the window where the rest of the
+ *     way looks cheapest.
  * The path found is shortened where the straight line is free (line of
- * sight in steps of half a memory cell) and kept as a polyline in the
- * world frame.
+ * sight in steps of a memory cell), its vertices near returns moved to
+ * the middle of their gap, and kept as a polyline in the world frame.
  *
  * Cadence (never a clock, so a replay plans exactly as the live run did):
  * a periodic search once `every` frames have passed and the robot has
@@ -39,9 +45,14 @@
  * cost.
  *
  * No path (the waypoint enclosed, inside an obstacle, or every way closed
- * within the window) is an answer of its own: LC_GUIDE_NO_PATH. A way the
- * robot cannot follow can be refused (lc_guide_refuse); the searches then
- * look for another.
+ * within the window) is an answer of its own: LC_GUIDE_NO_PATH. Before it
+ * is given, the search is run again with the robot's whole clearance
+ * passable round the start (a robot in a gap, range noise on the cells
+ * beside it, can make its own cells read closed), and where a path was
+ * being followed the next search, `every` frames on, must agree (the old
+ * path is kept meanwhile). A way the robot cannot follow can be refused
+ * (lc_guide_refuse); the searches then look for another, and take the
+ * refused way again rather than none when the refusals close every way.
  *
  * Ownership: lc_guide_new allocates the search grid once through the given
  * allocator (kept in the struct); nothing is allocated per frame.
@@ -61,7 +72,7 @@ typedef struct lc_guide_config {
     int every;           /* frames at least between periodic searches (default 10) */
     double travel;       /* m the robot moves between periodic searches (default 0.5);
                             a robot that stays put searches every 10 x `every` frames */
-    double unknown_cost; /* cost factor through unknown space (default 3) */
+    double unknown_cost; /* cost factor through unknown space (default 2) */
     double soft;         /* m beyond the clearance where steps cost more (default 0.2) */
     double soft_cost;    /* that factor (default 2) */
     double hysteresis;   /* share a new path must save to replace the old (default 0.15) */
@@ -69,7 +80,7 @@ typedef struct lc_guide_config {
     double stall;        /* s without progress along a path before its next stretch is
                             refused and another way sought (default 4; 0: never) */
     double greed;        /* weight of the heuristic (weighted A*, Pohl 1970): a path
-                            found costs at most this times the least (default 1.5) */
+                            found costs at most this times the least (default 2) */
 } lc_guide_config;
 
 void lc_guide_config_default(lc_guide_config *cfg);
@@ -91,7 +102,8 @@ typedef struct lc_guide_path {
     int n;
     double length;  /* m, along v */
     double cost;    /* the search's cost of it */
-    lc_vec2 goal;   /* the goal it leads to (the waypoint, or its projection) */
+    lc_vec2 goal;   /* the goal it leads to: the waypoint, or where the path leaves the
+                       window toward a waypoint outside it */
     bool projected; /* the waypoint lies outside the window */
     long found_at;  /* frame count of the search that found it */
     int seg;        /* the robot was last nearest segment [v[seg], v[seg + 1]] */

@@ -61,7 +61,7 @@ void lc_memory_config_default(lc_memory_config *cfg)
                               .size = 20.0,
                               .reach = 6.0,
                               .hold_occupied = 30.0,
-                              .hold_free = 30.0,
+                              .hold_free = 90.0,
                               .clear_frames = 2};
 }
 
@@ -669,8 +669,13 @@ double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max
                        lc_cell_state *state, lc_vec2 *cell)
 {
     *state = LC_CELL_FREE;
-    if (!lc_vec2_finite(from) || !lc_vec2_finite(dir) || !(max >= 0) || !m->placed)
+    if (!lc_vec2_finite(from) || !lc_vec2_finite(dir) || !(max >= 0))
         return INFINITY;
+    if (!m->placed) { /* a memory that has taken no frame knows no cell */
+        *state = LC_CELL_UNKNOWN;
+        *cell = from;
+        return 0.0;
+    }
     long i, j;
     lc_memory_cell_of(m, from, &i, &j);
     /* Amanatides and Woo: the ray's t at the next vertical and horizontal
@@ -769,6 +774,9 @@ int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p)
 {
     if (!m->placed)
         return 0;
+    /* stored column k holds lattice column i0 + (k - s) mod n, s the
+     * stored column of i0: no division per cell */
+    int s = wrap(m->i0, m->n);
     for (long j = m->j0; j < m->j0 + m->n; j++) {
         size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
         const uint8_t *ev = m->ev + row;
@@ -784,7 +792,7 @@ int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p)
             if (!ev[k])
                 continue;
             /* stored column k is lattice column i with i = k (mod n) in the window */
-            long i = m->i0 + (long)wrap((long)k - m->i0, m->n);
+            long i = m->i0 + (k >= s ? k - s : k - s + m->n);
             int rc = fn(data, return_at(m, row + (size_t)k, i, j));
             if (rc)
                 return rc;

@@ -30,8 +30,9 @@
  * nobody re-sees is forgotten `hold_occupied` s after its last return,
  * remembered free space `hold_free` s after it was last seen. Time is the
  * frames' stamps, never a clock; the same frames give the same memory bit
- * for bit (replay stays exact). A stamp that goes back, or jumps forward by
- * more than LC_MEMORY_JUMP s, clears the memory (a restarted clock).
+ * for bit (replay stays exact). A stamp that goes back by more than a
+ * second (another sensor's older frame is fine), or jumps forward by more
+ * than LC_MEMORY_JUMP s, clears the memory (a restarted clock).
  *
  * Ownership: lc_memory_new allocates everything once through the given
  * allocator, kept in the struct; lc_memory_free releases it.
@@ -51,9 +52,10 @@ typedef struct lc_memory_config {
     bool enabled;         /* remember at all (default true) */
     double cell;          /* m, side of a cell (default 0.05) */
     double size;          /* m, side of the window (default 20) */
-    double reach;         /* m, free space is marked up to this far from a sensor (default 8) */
+    double reach;         /* m, free space is marked up to this far from a sensor (default 6) */
     double hold_occupied; /* s, an occupied cell nobody re-sees is forgotten after this (30) */
-    double hold_free;     /* s, remembered free space is forgotten after this (30) */
+    double hold_free;     /* s, remembered free space is forgotten after this (90: a robot
+                             drives back through space it saw on its way out) */
     int clear_frames;     /* see-throughs that clear an occupied cell (default 2) */
 } lc_memory_config;
 
@@ -72,8 +74,8 @@ int lc_memory_config_check(const lc_memory_config *cfg, const char **field);
 /* Cells along a side for cfg (the window is this many cells square). */
 int lc_memory_side(const lc_memory_config *cfg);
 
-/* Bytes a memory of cfg holds (the grid; the scan-line scratch grows with
- * the frames, see lc_memory_bytes). */
+/* Bytes a memory of cfg holds in its grid (7 a cell; the scan-line scratch
+ * grows with the frames besides). */
 size_t lc_memory_grid_bytes(const lc_memory_config *cfg);
 
 typedef struct lc_memory lc_memory;
@@ -153,7 +155,8 @@ bool lc_cone_holds(const lc_cone *cone, lc_vec2 p);
  * (cells the ray crosses within `body` of `from` count as free); its state
  * goes to *state, and to *cell where its last return fell (occupied) or
  * its centre (unknown). INFINITY (and *state LC_CELL_FREE) when every cell
- * up to max is known free.
+ * up to max is known free; 0 (unknown, at `from`) for a memory that has
+ * taken no frame.
  */
 double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
                        lc_cell_state *state, lc_vec2 *cell);

@@ -27,7 +27,7 @@
 const char *lc_state_name(lc_state state)
 {
     static const char *const names[LC_STATE_COUNT] = {
-        "idle", "tracking", "arrived", "done", "blocked", "stale", "too_close",
+        "idle", "tracking", "arrived", "done", "blocked", "stale", "too_close", "shutdown",
     };
     if ((int)state < 0 || state >= LC_STATE_COUNT)
         return "unknown";

@@ -20,6 +20,7 @@ typedef enum lc_state {
     LC_STATE_BLOCKED,   /* "blocked" */
     LC_STATE_STALE,     /* "stale" (server watchdog) */
     LC_STATE_TOO_CLOSE, /* "too_close" */
+    LC_STATE_SHUTDOWN,  /* "shutdown": the server's last stop before it exits */
     LC_STATE_COUNT
 } lc_state;
 

@@ -44,6 +44,36 @@ static void push(lc_cloud *c, lc_vec2 p, double range, double bearing)
     c->n++;
 }
 
+/*
+ * The memory marks free the space in front of a return only up to 1.5
+ * cells short of it (memory.h), so the cell just in front of a remembered
+ * obstacle can read unknown: an unknown cell at d with an occupied one
+ * within FRONT_CELLS cells behind it on the ray is that obstacle's front,
+ * and the obstacle is what the ray meets.
+ */
+#define FRONT_CELLS 2.0
+
+static void behind_front(const lc_recall_input *in, lc_vec2 dir, double d, lc_cell_state *st,
+                         lc_vec2 *cell)
+{
+    double c = lc_memory_get_window(in->mem).cell, end = fmin(d + FRONT_CELLS * c, in->reach);
+    /* march again, the cells entered by t counted free (the unknown ones
+     * just met), until an occupied cell, a free one, or FRONT_CELLS on */
+    for (double t = d; t < end;) {
+        lc_cell_state st2;
+        lc_vec2 at;
+        double t2 = lc_memory_march(in->mem, in->centre, dir, end, t + 1e-9, &st2, &at);
+        if (st2 == LC_CELL_OCCUPIED) {
+            *st = st2;
+            *cell = at;
+            return;
+        }
+        if (st2 != LC_CELL_UNKNOWN || !(t2 > t))
+            return;
+        t = t2;
+    }
+}
+
 int lc_recall_collect(const lc_recall_input *in, lc_recall *out)
 {
     out->fov = in->fov;
@@ -62,9 +92,14 @@ int lc_recall_collect(const lc_recall_input *in, lc_recall *out)
         double a = a0 + step * k;
         lc_cell_state st;
         lc_vec2 cell;
-        double d = lc_memory_march(in->mem, in->centre, lc_unit_angle(a), in->reach, in->body,
-                                   &st, &cell);
-        if (st == LC_CELL_UNKNOWN && d < in->near) {
+        lc_vec2 dir = lc_unit_angle(a);
+        double d = lc_memory_march(in->mem, in->centre, dir, in->reach, in->body, &st, &cell);
+        if (st == LC_CELL_UNKNOWN && d < in->reach)
+            behind_front(in, dir, d, &st, &cell);
+        /* a ray known free only to reach, short of near, says nothing of
+         * the space within near */
+        bool short_ray = st == LC_CELL_FREE && in->reach < in->near;
+        if ((st == LC_CELL_UNKNOWN && d < in->near) || short_ray) {
             first = first < 0 ? k : first;
             last = k;
             continue;

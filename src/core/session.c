@@ -1,6 +1,8 @@
 /*
- * session.c - the per-frame step (see session.h): ingest, segment, hull,
- * grow, region, target, patrol, setpoint. One function for every caller.
+ * session.c - the per-frame step (see session.h): ingest, memory (and what
+ * it recalls), guidance, segment, hull, grow, region, target, patrol,
+ * setpoint; and the frame driver that steps a stream of frames. One
+ * function for every caller.
  *
  * Ownership: the session owns every buffer (grown through its lc_alloc) and
  * the qhull context; a result's pointers point into them and stay valid
@@ -50,6 +52,7 @@ struct lc_session {
     bool resting;    /* stopped outside a frame: the next one starts from rest */
     lc_setpoint before; /* the velocity the last driven frame started from */
     double before_dt;   /* and the period it was given */
+    bool easing;        /* the last frame eased out of the margin (lc_steer_ease_out) */
     lc_reply last_reply;
     /* guidance's stall watch: the best way still to go and since when */
     bool stall_on;
@@ -490,11 +493,11 @@ static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *o
 
 /* The clearance guidance keeps, from remembered cells' centres: the
  * robot's. The region keeps exact clearance from what is seen; guidance
- * only finds the way, and a way it finds up to half a cell too narrow is
- * given up when no progress follows. A polygon footprint: its inscribed
- * radius (optimistic, so that a doorway a long robot passes lengthwise is
- * searched through; the region and the motion keep the whole footprint
- * clear). */
+ * only finds the way (guide.h says how it errs on the open side), and a
+ * way the robot cannot follow is given up when no progress follows. A
+ * polygon footprint: its inscribed radius (optimistic, so that a doorway a
+ * long robot passes lengthwise is searched through; the region and the
+ * motion keep the whole footprint clear). */
 static double guide_clearance(const lc_session *s)
 {
     return lc_robot_inradius(&s->robot) + s->robot.margin;
@@ -630,9 +633,14 @@ static void hug_path(const lc_region *r, const lc_guide_path *p, lc_vec2 c, lc_p
  * A robot that makes no progress along its path for the guide's stall time
  * cannot get past where the path leaves its region (a gap the memory's
  * cells make look wide enough, a corner it cannot round): that spot is
- * refused and guidance looks for another way. A way round (longer by more
- * than LC_PATROL_DETOUR) starts the watch over, as it does the patrol's.
+ * refused and guidance looks for another way (the only way is taken again
+ * when there is no other: guide.h). Progress here is at least
+ * LC_SESSION_STALL_PROGRESS along the path (a crawl through a gap is a
+ * stall too). A way round (longer by more than LC_PATROL_DETOUR) starts
+ * the watch over, as it does the patrol's.
  */
+#define LC_SESSION_STALL_PROGRESS 0.3 /* m along the path per stall time, at least */
+
 static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, lc_vec2 c,
                         lc_vec2 target)
 {
@@ -642,7 +650,7 @@ static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, l
     }
     bool detour = way->new_way && way->to_go > s->stall_best + LC_PATROL_DETOUR;
     if (!s->stall_on || s->stall_wp != s->patrol.current || detour ||
-        way->to_go < s->stall_best - s->route.progress) {
+        way->to_go < s->stall_best - lc_max(s->route.progress, LC_SESSION_STALL_PROGRESS)) {
         s->stall_on = true;
         s->stall_wp = s->patrol.current;
         s->stall_best = way->to_go;
@@ -696,6 +704,30 @@ static void decide(lc_session *s, const lc_frame *f, double dt, const lc_patrol_
         drive(s, f, dt, out);
     else
         stop_with(out, st, LC_LIMIT_ARRIVED);
+}
+
+/*
+ * A frame in which the robot is held in the margin (too_close): the
+ * patrol's clock runs on, so that a robot that can neither ease out nor
+ * turn is blocked (no_progress) after the route's blocked time and the
+ * route's policy acts, as when it cannot move on; it may also arrive there.
+ * Returns true when the patrol stopped the robot (blocked or done, *out
+ * filled); else updates *has_wp and *wp to the patrol's waypoint.
+ */
+static bool held_patrol(lc_session *s, const lc_frame *f, const lc_patrol_way *way, bool *has_wp,
+                        lc_vec2 *wp, lc_plan_result *out)
+{
+    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->has_target ? out->target : c,
+                                       way, f->stamp, out->events, &out->n_events);
+    *has_wp = lc_patrol_waypoint(&s->patrol, &s->route, wp);
+    if (st != LC_STATE_BLOCKED && st != LC_STATE_DONE)
+        return false;
+    out->has_waypoint = *has_wp;
+    out->waypoint = *wp;
+    out->waypoint_index = s->patrol.current;
+    stop_with(out, st, st == LC_STATE_BLOCKED ? LC_LIMIT_BLOCKED : LC_LIMIT_ARRIVED);
+    return true;
 }
 
 static void stamp_stage(lc_session *s, lc_plan_result *out, lc_stage stage, double *t)
@@ -771,16 +803,37 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     }
     stamp_stage(s, out, LC_STAGE_TARGET, &t);
 
-    if (rc != LC_OK) {
+    if (rc != LC_OK && has_wp && held_patrol(s, frame, &way, &has_wp, &wp, out)) {
+        s->easing = false; /* blocked or done while held in the margin: stopped */
+    } else if (rc != LC_OK) {
         /* Centre inside a grown obstacle, or no region holds it: no translation. */
         out->has_waypoint = has_wp;
         out->waypoint = wp;
         out->waypoint_index = s->patrol.current;
         stop_with(out, LC_STATE_TOO_CLOSE, LC_LIMIT_TOO_CLOSE);
         lc_steer_input in = steer_input(s, frame, dt, out);
-        if (out->has_target && lc_steer_turn_in_place(&in, &s->steer, &out->setpoint) < 0)
+        /* coming in, the robot stops translating at once (as it always
+         * has; a turn goes on, rate limited); easing out starts there */
+        lc_setpoint rest = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
+        rest.w = s->last.w;
+        if (!s->easing)
+            in.last = &rest;
+        int eased = rc == LC_REGION_TOO_CLOSE && out->has_target
+                        ? lc_steer_ease_out(&in, &s->steer, &out->setpoint)
+                        : 0;
+        s->easing = eased > 0;
+        if (eased < 0)
             return -1;
+        /* the turn faces the way on: a goal step along the path when
+         * guided (the path's exit from the region can be the centre) */
+        if (eased == 0 && out->has_target) {
+            in.last = &s->last;
+            in.target = way.guided ? seek : out->target;
+            if (lc_steer_turn_in_place(&in, &s->steer, &out->setpoint) < 0)
+                return -1;
+        }
     } else {
+        s->easing = false;
         decide(s, frame, dt, &way, out);
     }
     s->last = out->setpoint;
@@ -822,7 +875,8 @@ int lc_session_drive(lc_session *s, const lc_frame *frame, lc_plan_result *out,
                                .model = s->robot.model,
                                .sp = out->setpoint,
                                .state = out->state,
-                               .waypoint = out->has_waypoint ? out->waypoint_index : -1};
+                               .waypoint = out->has_waypoint ? out->waypoint_index : -1,
+                               .valid_ms = lc_control_valid_ms(&s->control, dt)};
     *reply = s->last_reply;
     return rc;
 }
@@ -833,6 +887,8 @@ void lc_session_stop(lc_session *s, lc_state state, lc_limit limit, lc_reply *ou
     if (!out)
         return;
     *out = s->last_reply;
+    if (!s->driven) /* no reply to keep the valid_ms of: the first frame's */
+        out->valid_ms = lc_control_valid_ms(&s->control, s->control.first_dt);
     out->model = s->robot.model;
     out->sp = lc_setpoint_stop(limit);
     out->state = state;

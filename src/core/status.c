@@ -6,6 +6,6 @@ static const char *const names[] = {"ok", "no_memory", "bad_input", "degenerate"
 
 const char *lc_status_name(int status)
 {
-    int i = -status;
-    return i >= 0 && i < (int)(sizeof names / sizeof names[0]) ? names[i] : "unknown";
+    int n = (int)(sizeof names / sizeof names[0]);
+    return status <= 0 && status > -n ? names[-status] : "unknown"; /* no -INT_MIN */
 }

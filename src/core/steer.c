@@ -313,3 +313,81 @@ int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
         *out = lc_setpoint_stop(LC_LIMIT_NONE);
     return rc < 0 ? -1 : 0;
 }
+
+/*
+ * Easing out of the margin. A robot whose centre has come inside grown
+ * obstacles by less than the margin (the body itself clear of them: a
+ * region that changed under it, a box pushed near) may move away from
+ * them: the region (inflated without them) with, for each, a line through
+ * the centre across the way out of it (the nearest point of its border),
+ * at most LC_STEER_EASE_SPEED, heading straight out (LC_STEER_EASE_AIM
+ * ahead along the sum of the ways out). Deeper in (the body within the margin of a
+ * return, or no way out of one that is not into another), nothing.
+ */
+#define LC_STEER_EASE_AIM 0.5 /* m */
+
+int lc_steer_ease_out(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
+{
+    const lc_region *r = in->region;
+    lc_vec2 c = lc_v2(in->pose.x, in->pose.y);
+    /* a unicycle's body turns as it eases out: the centre's law does not
+     * keep its corners clear (it turns in place where that is free) */
+    if (in->robot->model == LC_MODEL_UNICYCLE && lc_robot_has_footprint(in->robot))
+        return 0;
+    int held = 0;
+    for (int j = 0; j < in->grown->np; j++) {
+        int nv;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &nv);
+        if (nv >= 3 && lc_convex_contains(v, nv, c, 0.0))
+            held++;
+    }
+    if (held == 0)
+        return 0;
+    if (LC_GROW(ws->alloc, ws->h, ws->cap_h, r->nh + held) < 0)
+        return -1;
+    memcpy(ws->h, r->h, sizeof *r->h * (size_t)r->nh);
+    int n = r->nh;
+    lc_vec2 out_dir = lc_v2(0, 0);
+    for (int j = 0; j < in->grown->np; j++) {
+        int nv;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &nv);
+        if (nv < 3 || !lc_convex_contains(v, nv, c, 0.0))
+            continue;
+        double depth = INFINITY;
+        lc_vec2 exit = c;
+        for (int i = 0; i < nv; i++) {
+            lc_vec2 q;
+            double d = lc_segment_distance(c, v[i], v[(i + 1) % nv], &q);
+            if (d < depth) {
+                depth = d;
+                exit = q;
+            }
+        }
+        if (!(depth < in->robot->margin) || !(depth > 1e-9))
+            return 0; /* the body itself is within the margin, or no way out */
+        lc_vec2 a = lc_scale(lc_sub(exit, c), 1.0 / depth);
+        ws->h[n++] = (lc_halfspace){lc_scale(a, -1.0), -lc_dot(a, c)};
+        out_dir = lc_add(out_dir, a);
+    }
+    double len = lc_len(out_dir);
+    if (!(len > 1e-9))
+        return 0; /* held from opposite sides: no way out */
+    lc_region mr = *r;
+    mr.h = ws->h;
+    mr.nh = n;
+    lc_robot slow = *in->robot;
+    slow.v_max = lc_min(slow.v_max, LC_STEER_EASE_SPEED);
+    lc_motion_params mp = *in->params;
+    mp.latency = fmax(mp.latency, in->dt);
+    /* out first, the way the obstacles' borders are nearest: the target
+     * may lie past them (a unicycle turned toward it could not move) */
+    lc_vec2 aim = slide_aim(&mr, c, lc_add(c, lc_scale(out_dir, LC_STEER_EASE_AIM / len)));
+    int rc = slow.model == LC_MODEL_UNICYCLE
+                 ? lc_motion_unicycle(&slow, &mp, &mr, in->pose, aim, in->last, in->dt, out)
+                 : lc_motion_point(&slow, &mp, &mr, in->pose, aim, in->last, in->dt, out);
+    if (rc < 0) {
+        *out = lc_setpoint_stop(LC_LIMIT_NONE);
+        return -1;
+    }
+    return 1;
+}

@@ -78,6 +78,19 @@ int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
 int lc_steer_workspace(const lc_steer_input *in, lc_steer_ws *ws, lc_region *out);
 
 /*
+ * too_close when only the margin is breached: the centre inside grown
+ * obstacles by less than robot->margin each. Then the setpoint moves away
+ * from them (never deeper into any), at most LC_STEER_EASE_SPEED, straight
+ * out of them (the target may lie past them); in->region is the region inflated
+ * without them. Returns 1 with *out filled, 0 when the robot is deeper in
+ * (no translation: the caller stops it; always for a unicycle with a
+ * polygon footprint, whose corners swing as it turns), -1 when out of
+ * memory.
+ */
+#define LC_STEER_EASE_SPEED 0.25 /* m/s */
+int lc_steer_ease_out(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
+
+/*
  * too_close for a unicycle: no translation, but it may turn toward the
  * target, rate limited from last->w: writes out->w and leaves the rest of
  * *out. Turning in place moves no part of a disc footprint. A polygon

@@ -1,12 +1,16 @@
 /*
- * codec.h - the wire format: JSON text <-> core structs (protocol lacuna.v1).
+ * codec.h - the wire format: JSON text <-> core structs (protocol lacuna.v2).
  *
  * Decoding is strict and total: every input either yields a fully checked
  * struct or an lc_wire_error whose code is one of lc_wire_code and whose
- * message names the field at fault ("ranges[12]: not a number or null").
+ * message names the field at fault by its full path ("scan.dist[12]: not a
+ * number or null", "robot.radius: must be > 0").
  * No input crashes the decoder or leaks; nothing is asserted on input.
+ * Keys it does not know are ignored but counted and named with the same
+ * paths (lc_wire_error.ignored), on success too: the server tells the robot
+ * in a warning message (lc_wire_warning), the file readers warn.
  *
- * Ownership: the caller owns every struct. A decoded frame's arrays (ranges,
+ * Ownership: the caller owns every struct. A decoded frame's arrays (dist,
  * xy, z) point into the caller's lc_wire_buffers and stay valid until the
  * next decode with the same buffers; the buffers grow through lc_alloc to a
  * high-water mark and are reused, so a warm decoder allocates nothing for
@@ -16,7 +20,7 @@
  * Encoders write into a caller-owned lc_wire_text, also grown through
  * lc_alloc and reused.
  *
- * Units SI, angles in radians (CONTRACT.md). Numbers: frames, robot, route,
+ * Units SI, angles in radians (docs/INTERFACES.md). Numbers: frames, robot, route,
  * setpoints, stamps and the plan result are printed so that they parse back
  * to the same double bit for bit (%.15g when that round-trips, else
  * %.17g); view geometry is rounded to LC_WIRE_VIEW_DECIMALS decimals
@@ -48,7 +52,7 @@
 
 struct cJSON;
 
-#define LC_WIRE_PROTOCOL "lacuna.v1"
+#define LC_WIRE_PROTOCOL "lacuna.v2"
 
 /* Robot names: 1..LC_WIRE_NAME_MAX of [A-Za-z0-9_.-], not starting with '.'. */
 #define LC_WIRE_NAME_MAX 64
@@ -86,6 +90,21 @@ const char *lc_wire_code_name(lc_wire_code code);
 /* The code of a wire string; false when there is none of that name. */
 bool lc_wire_code_from_name(const char *name, lc_wire_code *out);
 
+/* Warning codes (the warning message: something accepted that the robot
+ * should hear about); lc_wire_warn_name gives the wire string. */
+typedef enum lc_wire_warn {
+    LC_WARN_UNKNOWN_KEY = 0, /* "unknown_key": a key lacuna does not know, ignored */
+    LC_WARN_NO_ROUTE,        /* "no_route": a frame before any route (the robot stays idle) */
+    LC_WARN_STAMP_BACKWARDS, /* "stamp_backwards": a frame stamped before the previous one */
+    LC_WARN_SEQ_BACKWARDS,   /* "seq_backwards": a frame's seq below the previous one's */
+    LC_WARN_UNLISTED_SENSOR, /* "unlisted_sensor": a frame of a sensor its description lacks */
+    LC_WARN_COUNT
+} lc_wire_warn;
+
+const char *lc_wire_warn_name(lc_wire_warn code);
+/* The warning code of a wire string; false when there is none of that name. */
+bool lc_wire_warn_from_name(const char *name, lc_wire_warn *out);
+
 #define LC_WIRE_MESSAGE_MAX 200
 
 #define LC_WIRE_KEY_SHOWN 128
@@ -113,7 +132,7 @@ void lc_wire_error_set(lc_wire_error *err, lc_wire_code code, const char *fmt, .
 
 typedef struct lc_wire_limits {
     size_t max_message; /* bytes of text, default 1 MiB */
-    int max_beams;      /* ranges per scan, default 100000 */
+    int max_beams;      /* beams (dist) per scan, default 100000 */
     int max_points;     /* points per points frame, default 100000 */
     double dt_max;      /* s, largest plan request dt, default 1.0 */
 } lc_wire_limits;
@@ -157,6 +176,9 @@ typedef struct lc_wire_welcome {
     int max_beams;
     int max_points;
     double view_hz;
+    bool resumed;        /* a robot's: the hello resumed its session (written for robots only) */
+    int grace_ms;        /* how long a dropped robot's session waits for it (0: absent) */
+    int link_timeout_ms; /* a silent link is closed after this (0: absent) */
     /* decode only: encoding writes "lacuna <version>", LC_WIRE_PROTOCOL and
      * LC_ROUTE_MAX */
     char server[64];
@@ -165,8 +187,18 @@ typedef struct lc_wire_welcome {
 } lc_wire_welcome;
 
 /* One setpoint message: the core's reply to a frame (control.h); `model`
- * says which pair is on the wire, sp.limit is "limit", waypoint -1 is null. */
+ * says which pair is on the wire, sp.limit is "limit", waypoint -1 is null,
+ * valid_ms (1..LC_VALID_MS_MAX) is "valid_ms". */
 typedef lc_reply lc_wire_setpoint;
+
+/* One warning message: code, "field: what" (or a sentence), the seq of the
+ * frame it is about when there is one. */
+typedef struct lc_wire_warning {
+    lc_wire_warn code;
+    bool has_seq;
+    int64_t seq;
+    char message[LC_WIRE_MESSAGE_MAX];
+} lc_wire_warning;
 
 typedef struct lc_wire_event {
     lc_event ev;       /* ev.waypoint -1 (null) when none */
@@ -203,6 +235,7 @@ typedef enum lc_msg_type {
     LC_MSG_ERROR,
     LC_MSG_VIEW,     /* recognised, body not decoded (nothing in lacuna reads it) */
     LC_MSG_SCENARIO, /* recognised, body not decoded (scenario.c reads headers) */
+    LC_MSG_WARNING,  /* server -> robot */
     LC_MSG_COUNT
 } lc_msg_type;
 
@@ -220,6 +253,7 @@ typedef struct lc_wire_msg {
         lc_wire_setpoint setpoint;
         lc_wire_event event;
         lc_wire_error error;
+        lc_wire_warning warning;
     } u;
 } lc_wire_msg;
 
@@ -233,7 +267,7 @@ typedef struct lc_wire_msg {
 int lc_wire_decode(const char *text, size_t len, const lc_wire_limits *lim,
                    lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err);
 
-/* Decode a `lacuna plan` request (CONTRACT.md). Same conventions. */
+/* Decode a `lacuna plan` request (docs/INTERFACES.md). Same conventions. */
 int lc_wire_decode_plan_request(const char *text, size_t len, const lc_wire_limits *lim,
                                 lc_wire_buffers *buf, lc_wire_plan_request *out,
                                 lc_wire_error *err);
@@ -248,7 +282,7 @@ int lc_wire_robot_from_json(const struct cJSON *obj, const char *path, lc_robot 
                             lc_wire_error *err);
 int lc_wire_route_from_json(const struct cJSON *obj, const char *path, lc_route *out,
                             lc_wire_error *err);
-/* A scan or points object; without "type" it is a scan when it has "ranges". */
+/* A scan or points object; without "type" it is a scan when it has "dist". */
 int lc_wire_frame_from_json(const struct cJSON *obj, const char *path,
                             const lc_wire_limits *lim, lc_wire_buffers *buf, lc_frame *out,
                             lc_wire_error *err);
@@ -319,7 +353,18 @@ typedef struct lc_wire_view {
     /* us the last frame's plan took, and the longest of it and the frames
      * since the previous view; 0 (or less): not measured, written as null */
     double plan_us, plan_max_us;
+    bool link_down;            /* the robot's link dropped; its session waits for it */
+    lc_block_reason blocked;   /* why the patrol is blocked (its blocked event); NONE: null */
+    /* with a result whose session remembers: write "memory", the occupied
+     * cells near the robot (a view need not carry it every time) */
+    bool with_memory;
 } lc_wire_view;
+
+/* What a view's "memory" holds at most: the occupied cells within
+ * LC_WIRE_VIEW_MEMORY_REACH metres (a square about the robot), as at most
+ * LC_WIRE_VIEW_MEMORY_RUNS runs along rows, the rows nearest the robot first. */
+#define LC_WIRE_VIEW_MEMORY_REACH 5.0
+#define LC_WIRE_VIEW_MEMORY_RUNS 2000
 
 /*
  * Encoders: clear *t, write one JSON object, return 0 or -1 (out of memory,
@@ -334,6 +379,7 @@ int lc_wire_encode_frame(lc_wire_text *t, const lc_frame *m);
 int lc_wire_encode_setpoint(lc_wire_text *t, const lc_wire_setpoint *m);
 int lc_wire_encode_event(lc_wire_text *t, const lc_wire_event *m);
 int lc_wire_encode_error(lc_wire_text *t, const lc_wire_error *m);
+int lc_wire_encode_warning(lc_wire_text *t, const lc_wire_warning *m);
 int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m);
 int lc_wire_encode_plan_result(lc_wire_text *t, const lc_plan_result *r, lc_model model);
 

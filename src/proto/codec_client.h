@@ -1,6 +1,6 @@
 /*
  * codec_client.h - decoders of the server -> client messages (welcome,
- * setpoint, event, error), for lc_wire_decode's dispatch (inside
+ * setpoint, event, error, warning), for lc_wire_decode's dispatch (inside
  * src/proto). Clients (lacuna sim --connect, the tests) read what the
  * server sends with the same strictness as the server reads robots.
  *
@@ -19,5 +19,7 @@ int lc_wire_setpoint_from_json(const struct cJSON *obj, lc_wire_setpoint *out,
 int lc_wire_event_from_json(const struct cJSON *obj, lc_wire_event *out, lc_wire_error *err);
 /* A received error message into *out (its code never LC_WIRE_OK). */
 int lc_wire_error_from_json(const struct cJSON *obj, lc_wire_error *out, lc_wire_error *err);
+int lc_wire_warning_from_json(const struct cJSON *obj, lc_wire_warning *out,
+                              lc_wire_error *err);
 
 #endif

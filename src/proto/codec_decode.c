@@ -210,11 +210,12 @@ static int footprint_field(const cJSON *obj, const char *path, bool has_radius, 
     return lc_robot_set_footprint(out, v, n) == LC_OK ? 0 : -1;
 }
 
-int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
-                            lc_wire_error *err)
+/* The robot object at path; top: it is a robot message (see lc_jr_check_keys). */
+static int robot_from_json(const cJSON *obj, const char *path, bool top, lc_robot *out,
+                           lc_wire_error *err)
 {
     lc_robot_default(out);
-    if (lc_wire_check_duplicates(obj, path, robot_keys, err) ||
+    if (lc_jr_check_keys(obj, path, robot_keys, top, err) ||
         lc_jr_check_type(obj, path, "robot", err))
         return -1;
     int model = out->model;
@@ -236,6 +237,12 @@ int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
     return sensors_field(obj, path, out, err);
 }
 
+int lc_wire_robot_from_json(const cJSON *obj, const char *path, lc_robot *out,
+                            lc_wire_error *err)
+{
+    return robot_from_json(obj, path, false, out, err);
+}
+
 static const char *const route_keys[] = {"type", "waypoints", "loop", "tolerance",
                                          "on_blocked", "blocked_time", "progress", NULL};
 
@@ -253,11 +260,12 @@ static int waypoints_field(const cJSON *obj, const char *path, lc_route *out,
                       &out->count, err);
 }
 
-int lc_wire_route_from_json(const cJSON *obj, const char *path, lc_route *out,
-                            lc_wire_error *err)
+/* The route object at path; top: it is a route message. */
+static int route_from_json(const cJSON *obj, const char *path, bool top, lc_route *out,
+                           lc_wire_error *err)
 {
     lc_route_default(out);
-    if (lc_wire_check_duplicates(obj, path, route_keys, err) ||
+    if (lc_jr_check_keys(obj, path, route_keys, top, err) ||
         lc_jr_check_type(obj, path, "route", err) || waypoints_field(obj, path, out, err))
         return -1;
     int policy = out->on_blocked;
@@ -270,6 +278,12 @@ int lc_wire_route_from_json(const cJSON *obj, const char *path, lc_route *out,
         return -1;
     out->on_blocked = (lc_blocked_policy)policy;
     return 0;
+}
+
+int lc_wire_route_from_json(const cJSON *obj, const char *path, lc_route *out,
+                            lc_wire_error *err)
+{
+    return route_from_json(obj, path, false, out, err);
 }
 
 /* seq, stamp, pose, sensor, mount: what scans and points share. has_mount
@@ -289,44 +303,45 @@ static int frame_header(const cJSON *obj, const char *path, lc_frame *f, lc_wire
 }
 
 static const char *const scan_keys[] = {"type", "seq", "stamp", "pose", "sensor", "mount",
-                                        "angle_start", "angle_step", "range_min",
-                                        "range_max", "ranges", NULL};
+                                        "bearing_first", "bearing_step", "near", "far", "dist",
+                                        NULL};
 
-static int scan_angles(const cJSON *obj, const char *path, lc_frame *f, lc_wire_error *err)
+static int scan_bearings(const cJSON *obj, const char *path, lc_frame *f, lc_wire_error *err)
 {
     static const lc_wire_bounds b_step = {-TWO_PI, TWO_PI, false, false};
-    if (lc_wire_number_field(obj, path, "angle_start", true, &lc_jr_any, &f->angle_start,
+    if (lc_wire_number_field(obj, path, "bearing_first", true, &lc_jr_any, &f->angle_start,
                              err) < 0 ||
-        lc_wire_number_field(obj, path, "angle_step", true, &b_step, &f->angle_step, err) < 0)
+        lc_wire_number_field(obj, path, "bearing_step", true, &b_step, &f->angle_step, err) < 0)
         return -1;
     if (f->angle_step == 0.0)
-        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "angle_step", "must not be 0");
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "bearing_step", "must not be 0");
     return 0;
 }
 
-static int scan_limits(const cJSON *obj, const char *path, lc_frame *f, lc_wire_error *err)
+/* The band of distances that count as returns: 0 < near < far. */
+static int scan_band(const cJSON *obj, const char *path, lc_frame *f, lc_wire_error *err)
 {
-    if (lc_wire_number_field(obj, path, "range_min", true, &lc_jr_pos, &f->range_min, err) < 0 ||
-        lc_wire_number_field(obj, path, "range_max", true, &lc_jr_pos, &f->range_max, err) < 0)
+    if (lc_wire_number_field(obj, path, "near", true, &lc_jr_pos, &f->range_min, err) < 0 ||
+        lc_wire_number_field(obj, path, "far", true, &lc_jr_pos, &f->range_max, err) < 0)
         return -1;
     if (!(f->range_min < f->range_max))
-        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "range_max", "must be > range_min");
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "far", "must be > near");
     return 0;
 }
 
-/* Beams: null or a number outside [range_min, range_max] is "no return". */
-static int scan_ranges(const cJSON *obj, const char *path, const lc_wire_limits *lim,
-                       lc_wire_buffers *buf, lc_frame *f, lc_wire_error *err)
+/* Beam distances: null or a number outside [near, far] is "no return". */
+static int scan_dist(const cJSON *obj, const char *path, const lc_wire_limits *lim,
+                     lc_wire_buffers *buf, lc_frame *f, lc_wire_error *err)
 {
     int n;
-    const cJSON *arr = lc_jr_array(obj, path, "ranges", 1, lim->max_beams, "beams", &n, err);
+    const cJSON *arr = lc_jr_array(obj, path, "dist", 1, lim->max_beams, "beams", &n, err);
     if (!arr)
         return -1;
     /* A scan wider than one turn would make the field of view meaningless. */
     if (fabs(f->angle_step) * (n - 1) > TWO_PI * (1.0 + 1e-9))
-        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "angle_step",
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "bearing_step",
                           "%d beams span more than a full turn", n);
-    if (grow_or_fail(buf->alloc, &buf->ranges, &buf->cap_ranges, n, path, "ranges", err))
+    if (grow_or_fail(buf->alloc, &buf->ranges, &buf->cap_ranges, n, path, "dist", err))
         return -1;
     int i = 0;
     const cJSON *it;
@@ -336,14 +351,14 @@ static int scan_ranges(const cJSON *obj, const char *path, const lc_wire_limits 
             r = it->valuedouble;
             if (!isfinite(r)) {
                 char k[64];
-                snprintf(k, sizeof k, "ranges[%d]", i);
+                snprintf(k, sizeof k, "dist[%d]", i);
                 return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, k, "not finite");
             }
             if (!(r >= f->range_min && r <= f->range_max))
                 r = NAN;
         } else if (!cJSON_IsNull(it)) {
             char k[64];
-            snprintf(k, sizeof k, "ranges[%d]", i);
+            snprintf(k, sizeof k, "dist[%d]", i);
             return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, k, "not a number or null");
         }
         buf->ranges[i++] = r;
@@ -359,8 +374,8 @@ static int scan_from_json(const cJSON *obj, const char *path, const lc_wire_limi
     memset(f, 0, sizeof *f);
     f->kind = LC_FRAME_SCAN;
     if (lc_wire_check_duplicates(obj, path, scan_keys, err) || frame_header(obj, path, f, err) ||
-        scan_angles(obj, path, f, err) || scan_limits(obj, path, f, err) ||
-        scan_ranges(obj, path, lim, buf, f, err))
+        scan_bearings(obj, path, f, err) || scan_band(obj, path, f, err) ||
+        scan_dist(obj, path, lim, buf, f, err))
         return -1;
     return 0;
 }
@@ -421,10 +436,10 @@ int lc_wire_frame_from_json(const cJSON *obj, const char *path, const lc_wire_li
     const cJSON *type = cJSON_GetObjectItemCaseSensitive(obj, "type");
     bool scan;
     if (!type) {
-        scan = cJSON_GetObjectItemCaseSensitive(obj, "ranges") != NULL;
+        scan = cJSON_GetObjectItemCaseSensitive(obj, "dist") != NULL;
         if (!scan && !cJSON_GetObjectItemCaseSensitive(obj, "xy"))
             return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "type",
-                              "missing (and no ranges or xy)");
+                              "missing (and no dist or xy)");
     } else if (cJSON_IsString(type) && type->valuestring &&
                (strcmp(type->valuestring, "scan") == 0 ||
                 strcmp(type->valuestring, "points") == 0)) {
@@ -438,22 +453,23 @@ int lc_wire_frame_from_json(const cJSON *obj, const char *path, const lc_wire_li
 
 static const char *const hello_keys[] = {"type", "role", "robot", "token", NULL};
 
-static int token_field(const cJSON *obj, lc_wire_hello *out, lc_wire_error *err)
+static int token_field(const cJSON *obj, const char *path, lc_wire_hello *out,
+                       lc_wire_error *err)
 {
     const char *s = NULL;
     out->has_token = false;
     out->token[0] = '\0';
-    if (lc_jr_string(obj, NULL, "token", false, true, &s, err) < 0)
+    if (lc_jr_string(obj, path, "token", false, true, &s, err) < 0)
         return -1;
     if (!s)
         return 0;
     size_t n = strlen(s);
     if (n > LC_WIRE_TOKEN_MAX)
-        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, NULL, "token", "longer than %d characters",
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "token", "longer than %d characters",
                           LC_WIRE_TOKEN_MAX);
     for (size_t i = 0; i < n; i++)
         if ((unsigned char)s[i] < 0x20 || (unsigned char)s[i] > 0x7e)
-            return lc_jr_fail(err, LC_WIRE_BAD_FIELD, NULL, "token", "not printable ASCII");
+            return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, "token", "not printable ASCII");
     memcpy(out->token, s, n + 1);
     out->has_token = true;
     return 0;
@@ -461,13 +477,14 @@ static int token_field(const cJSON *obj, lc_wire_hello *out, lc_wire_error *err)
 
 static int hello_from_json(const cJSON *obj, lc_wire_hello *out, lc_wire_error *err)
 {
+    static const char path[] = "hello";
     int role = 0;
-    if (lc_wire_check_duplicates(obj, NULL, hello_keys, err) ||
-        lc_jr_choice(obj, NULL, "role", true, lc_wire_role_names, 2, &role, err) < 0)
+    if (lc_jr_check_keys(obj, path, hello_keys, true, err) ||
+        lc_jr_choice(obj, path, "role", true, lc_wire_role_names, 2, &role, err) < 0)
         return -1;
     out->role = (lc_wire_role)role;
-    if (lc_jr_robot_name(obj, "robot", out->role == LC_ROLE_VIEWER, out->robot, err) ||
-        token_field(obj, out, err))
+    if (lc_jr_robot_name(obj, path, "robot", out->role == LC_ROLE_VIEWER, out->robot, err) ||
+        token_field(obj, path, out, err))
         return -1;
     return 0;
 }
@@ -501,8 +518,7 @@ static cJSON *parse_text(const char *text, size_t len, const lc_wire_limits *lim
     const char *end = NULL;
     cJSON *root = cJSON_ParseWithLengthOpts(text, len, &end, 0);
     if (!root) {
-        long at = end ? (long)(end - text) : 0;
-        lc_wire_error_set(err, LC_WIRE_BAD_JSON, "message: not valid JSON (near offset %ld)", at);
+        lc_jr_bad_json(err, "message", text, len, end);
         return NULL;
     }
     for (const char *p = end; p < text + len; p++) {
@@ -559,20 +575,22 @@ static int message_type(const cJSON *root, lc_msg_type *type, lc_wire_error *err
     return 0;
 }
 
+/* A message's fields are named from its type: "robot.radius", "scan.dist[3]". */
 static int decode_body(const cJSON *root, lc_msg_type type, const lc_wire_limits *lim,
                        lc_wire_buffers *buf, lc_wire_msg *out, lc_wire_error *err)
 {
+    const char *path = lc_msg_type_name(type);
     switch (type) {
     case LC_MSG_HELLO:
         return hello_from_json(root, &out->u.hello, err);
     case LC_MSG_ROBOT:
-        return lc_wire_robot_from_json(root, NULL, &out->u.robot, err);
+        return robot_from_json(root, path, true, &out->u.robot, err);
     case LC_MSG_ROUTE:
-        return lc_wire_route_from_json(root, NULL, &out->u.route, err);
+        return route_from_json(root, path, true, &out->u.route, err);
     case LC_MSG_SCAN:
-        return scan_from_json(root, NULL, lim, buf, &out->u.frame, err);
+        return scan_from_json(root, path, lim, buf, &out->u.frame, err);
     case LC_MSG_POINTS:
-        return points_from_json(root, NULL, lim, buf, &out->u.frame, err);
+        return points_from_json(root, path, lim, buf, &out->u.frame, err);
     case LC_MSG_WELCOME:
         return lc_wire_welcome_from_json(root, &out->u.welcome, err);
     case LC_MSG_SETPOINT:
@@ -581,6 +599,8 @@ static int decode_body(const cJSON *root, lc_msg_type type, const lc_wire_limits
         return lc_wire_event_from_json(root, &out->u.event, err);
     case LC_MSG_ERROR:
         return lc_wire_error_from_json(root, &out->u.error, err);
+    case LC_MSG_WARNING:
+        return lc_wire_warning_from_json(root, &out->u.warning, err);
     case LC_MSG_VIEW:
     case LC_MSG_SCENARIO:
         return 0;
@@ -654,7 +674,7 @@ static int frames_from_json(const cJSON *arr, const lc_wire_limits *lim, lc_wire
     long r = 0, xy = 0, z = 0;
     const cJSON *it;
     cJSON_ArrayForEach(it, arr) {
-        r += frame_room(it, "ranges");
+        r += frame_room(it, "dist");
         xy += frame_room(it, "xy");
         z += frame_room(it, "z");
     }
@@ -679,7 +699,7 @@ static int frames_from_json(const cJSON *arr, const lc_wire_limits *lim, lc_wire
         peek_seq(it, err);
         if (lc_wire_frame_from_json(it, name, lim, &win, &out->frames[i], err) < 0)
             return -1;
-        at_r += frame_room(it, "ranges");
+        at_r += frame_room(it, "dist");
         at_xy += frame_room(it, "xy");
         at_z += frame_room(it, "z");
         i++;

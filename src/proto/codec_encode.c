@@ -1,6 +1,6 @@
 /*
  * codec_encode.c - the message encoders of codec.h (hello, welcome, robot,
- * route, scan and points, setpoint, event, error) and the pieces of them in
+ * route, scan and points, setpoint, event, error, warning) and the pieces of them in
  * codec_encode.h. Every encoder clears its lc_wire_text, writes one object
  * with its "type" through json_write.c and returns 0, or -1 out of memory.
  *
@@ -157,6 +157,10 @@ int lc_wire_encode_welcome(lc_wire_text *t, const lc_wire_welcome *m)
     lc_jw_kv_int(t, "max_points", m->max_points);
     lc_jw_kv_int(t, "max_waypoints", LC_ROUTE_MAX);
     lc_jw_kv_num(t, "view_hz", m->view_hz, -1);
+    if (m->role == LC_ROLE_ROBOT)
+        lc_jw_kv_bool(t, "resumed", m->resumed);
+    lc_jw_kv_int(t, "grace_ms", m->grace_ms);
+    lc_jw_kv_int(t, "link_timeout_ms", m->link_timeout_ms);
     return lc_jw_end(t);
 }
 
@@ -194,11 +198,11 @@ int lc_wire_encode_frame(lc_wire_text *t, const lc_frame *m)
     if (m->kind == LC_FRAME_SCAN) {
         lc_jw_kv_str(t, "type", "scan");
         frame_header_out(t, m);
-        lc_jw_kv_num(t, "angle_start", m->angle_start, -1);
-        lc_jw_kv_num(t, "angle_step", m->angle_step, -1);
-        lc_jw_kv_num(t, "range_min", m->range_min, -1);
-        lc_jw_kv_num(t, "range_max", m->range_max, -1);
-        lc_jw_key(t, "ranges");
+        lc_jw_kv_num(t, "bearing_first", m->angle_start, -1);
+        lc_jw_kv_num(t, "bearing_step", m->angle_step, -1);
+        lc_jw_kv_num(t, "near", m->range_min, -1);
+        lc_jw_kv_num(t, "far", m->range_max, -1);
+        lc_jw_key(t, "dist");
         lc_jw_doubles(t, m->ranges, m->ranges ? m->n_ranges : 0, -1);
     } else {
         int n = m->xy ? m->n_points : 0;
@@ -224,6 +228,7 @@ int lc_wire_encode_setpoint(lc_wire_text *t, const lc_wire_setpoint *m)
     lc_wire_kv_state(t, m->state);
     lc_wire_kv_limit(t, m->sp.limit);
     lc_jw_kv_index(t, "waypoint", m->waypoint);
+    lc_jw_kv_int(t, "valid_ms", m->valid_ms);
     return lc_jw_end(t);
 }
 
@@ -237,14 +242,27 @@ int lc_wire_encode_event(lc_wire_text *t, const lc_wire_event *m)
     return lc_jw_end(t);
 }
 
-int lc_wire_encode_error(lc_wire_text *t, const lc_wire_error *m)
+/* An error or a warning: the same four members. */
+static int encode_coded(lc_wire_text *t, const char *type, const char *code,
+                        const char *message, bool has_seq, int64_t seq)
 {
     lc_jw_begin(t);
-    lc_jw_kv_str(t, "type", "error");
-    lc_jw_kv_str(t, "code", lc_wire_code_name(m->code));
-    lc_jw_kv_str(t, "message", m->message);
-    if (m->has_seq)
-        lc_jw_kv_int(t, "seq", m->seq);
+    lc_jw_kv_str(t, "type", type);
+    lc_jw_kv_str(t, "code", code);
+    lc_jw_kv_str(t, "message", message);
+    if (has_seq)
+        lc_jw_kv_int(t, "seq", seq);
     return lc_jw_end(t);
+}
+
+int lc_wire_encode_error(lc_wire_text *t, const lc_wire_error *m)
+{
+    return encode_coded(t, "error", lc_wire_code_name(m->code), m->message, m->has_seq, m->seq);
+}
+
+int lc_wire_encode_warning(lc_wire_text *t, const lc_wire_warning *m)
+{
+    return encode_coded(t, "warning", lc_wire_warn_name(m->code), m->message, m->has_seq,
+                        m->seq);
 }
 

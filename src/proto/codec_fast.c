@@ -43,19 +43,19 @@
 
 enum key {
     K_TYPE, K_SEQ, K_STAMP, K_POSE, K_SENSOR, K_MOUNT,                    /* both */
-    K_ANGLE_START, K_ANGLE_STEP, K_RANGE_MIN, K_RANGE_MAX, K_RANGES,      /* scan */
+    K_BEARING_FIRST, K_BEARING_STEP, K_NEAR, K_FAR, K_DIST,               /* scan */
     K_XY, K_Z,                                                            /* points */
     K_COUNT
 };
 
 static const char *const key_names[K_COUNT] = {
-    "type", "seq", "stamp", "pose", "sensor", "mount", "angle_start", "angle_step",
-    "range_min", "range_max", "ranges", "xy", "z",
+    "type", "seq", "stamp", "pose", "sensor", "mount", "bearing_first", "bearing_step",
+    "near", "far", "dist", "xy", "z",
 };
 
 #define BIT(k) (1u << (k))
-#define SCAN_ONLY (BIT(K_ANGLE_START) | BIT(K_ANGLE_STEP) | BIT(K_RANGE_MIN) | \
-                   BIT(K_RANGE_MAX) | BIT(K_RANGES))
+#define SCAN_ONLY (BIT(K_BEARING_FIRST) | BIT(K_BEARING_STEP) | BIT(K_NEAR) | BIT(K_FAR) | \
+                   BIT(K_DIST))
 #define POINTS_ONLY (BIT(K_XY) | BIT(K_Z))
 #define HEADER (BIT(K_TYPE) | BIT(K_SEQ) | BIT(K_STAMP) | BIT(K_POSE))
 
@@ -311,7 +311,7 @@ typedef struct fields {
     lc_msg_type type;
     double seq, stamp, pose[3], mount[3];
     char sensor[LC_SENSOR_NAME_MAX + 1];
-    double angle_start, angle_step, range_min, range_max;
+    double bearing_first, bearing_step, near, far;
     int n_ranges, n_xy, n_z;
     bool z_null;
 } fields;
@@ -326,11 +326,11 @@ static bool value(cursor *c, int k, const lc_wire_limits *lim, lc_wire_buffers *
     case K_POSE: return triple(c, f->pose);
     case K_SENSOR: return sensor_value(c, f->sensor);
     case K_MOUNT: return triple(c, f->mount);
-    case K_ANGLE_START: return number(c, &f->angle_start);
-    case K_ANGLE_STEP: return number(c, &f->angle_step);
-    case K_RANGE_MIN: return number(c, &f->range_min);
-    case K_RANGE_MAX: return number(c, &f->range_max);
-    case K_RANGES:
+    case K_BEARING_FIRST: return number(c, &f->bearing_first);
+    case K_BEARING_STEP: return number(c, &f->bearing_step);
+    case K_NEAR: return number(c, &f->near);
+    case K_FAR: return number(c, &f->far);
+    case K_DIST:
         return number_list(c, b->alloc, &b->ranges, &b->cap_ranges, lim->max_beams, true,
                            &f->n_ranges);
     case K_XY: return number_list(c, b->alloc, &b->xy, &b->cap_xy, most_xy, false, &f->n_xy);
@@ -348,17 +348,17 @@ static bool header_ok(const fields *f)
            f->seq >= 0.0 && f->seq <= LC_WIRE_SEQ_MAX && isfinite(f->stamp);
 }
 
-/* scan_angles, scan_limits and scan_ranges in codec_decode.c. */
+/* scan_bearings, scan_band and scan_dist in codec_decode.c. */
 static bool scan_ok(const fields *f, const lc_wire_limits *lim)
 {
     unsigned need = SCAN_ONLY;
     int n = f->n_ranges;
     return (f->seen & need) == need && !(f->seen & POINTS_ONLY) &&
-           fabs(f->angle_start) <= MAG && fabs(f->angle_step) <= TWO_PI &&
-           f->angle_step != 0.0 && f->range_min > 0.0 && f->range_min <= MAG &&
-           f->range_max > 0.0 && f->range_max <= MAG && f->range_min < f->range_max &&
+           fabs(f->bearing_first) <= MAG && fabs(f->bearing_step) <= TWO_PI &&
+           f->bearing_step != 0.0 && f->near > 0.0 && f->near <= MAG &&
+           f->far > 0.0 && f->far <= MAG && f->near < f->far &&
            n >= 1 && n <= lim->max_beams &&
-           !(fabs(f->angle_step) * (n - 1) > TWO_PI * (1.0 + 1e-9));
+           !(fabs(f->bearing_step) * (n - 1) > TWO_PI * (1.0 + 1e-9));
 }
 
 /* points_from_json and points_z in codec_decode.c. */
@@ -411,14 +411,14 @@ int lc_wire_decode_frame_fast(const char *text, size_t len, const lc_wire_limits
         if (!scan_ok(&f, lim))
             return 0;
         fr.kind = LC_FRAME_SCAN;
-        fr.angle_start = f.angle_start;
-        fr.angle_step = f.angle_step;
-        fr.range_min = f.range_min;
-        fr.range_max = f.range_max;
+        fr.angle_start = f.bearing_first;
+        fr.angle_step = f.bearing_step;
+        fr.range_min = f.near;
+        fr.range_max = f.far;
         for (int i = 0; i < f.n_ranges; i++) {
             double r = buf->ranges[i];
-            if (!(r >= f.range_min && r <= f.range_max))
-                buf->ranges[i] = NAN; /* no return, as in scan_ranges */
+            if (!(r >= f.near && r <= f.far))
+                buf->ranges[i] = NAN; /* no return, as in scan_dist */
         }
         fr.ranges = buf->ranges;
         fr.n_ranges = f.n_ranges;

@@ -1,5 +1,5 @@
 /*
- * codec_names.c - the wire names of error codes, message types, roles,
+ * codec_names.c - the wire names of error and warning codes, message types, roles,
  * motion models, blocked policies and sensor kinds, the characters names
  * may use, and the lookups from a name back to its code (see codec.h and
  * codec_names.h). The strings are the protocol's
@@ -26,6 +26,14 @@ static const char *const code_names[LC_WIRE_CODE_COUNT] = {
     [LC_WIRE_RECORDING_FAILED] = "recording_failed",
 };
 
+static const char *const warn_names[LC_WARN_COUNT] = {
+    [LC_WARN_UNKNOWN_KEY] = "unknown_key",
+    [LC_WARN_NO_ROUTE] = "no_route",
+    [LC_WARN_STAMP_BACKWARDS] = "stamp_backwards",
+    [LC_WARN_SEQ_BACKWARDS] = "seq_backwards",
+    [LC_WARN_UNLISTED_SENSOR] = "unlisted_sensor",
+};
+
 static const char *const msg_names[LC_MSG_COUNT] = {
     [LC_MSG_NONE] = NULL,
     [LC_MSG_HELLO] = "hello",
@@ -39,6 +47,7 @@ static const char *const msg_names[LC_MSG_COUNT] = {
     [LC_MSG_ERROR] = "error",
     [LC_MSG_VIEW] = "view",
     [LC_MSG_SCENARIO] = "scenario",
+    [LC_MSG_WARNING] = "warning",
 };
 
 const char *const lc_wire_role_names[2] = {"robot", "viewer"};
@@ -79,6 +88,21 @@ bool lc_wire_code_from_name(const char *name, lc_wire_code *out)
     int i = lc_wire_name_index(name, code_names, LC_WIRE_CODE_COUNT);
     if (i >= 0)
         *out = (lc_wire_code)i;
+    return i >= 0;
+}
+
+const char *lc_wire_warn_name(lc_wire_warn code)
+{
+    if ((int)code < 0 || code >= LC_WARN_COUNT)
+        return "unknown";
+    return warn_names[code];
+}
+
+bool lc_wire_warn_from_name(const char *name, lc_wire_warn *out)
+{
+    int i = lc_wire_name_index(name, warn_names, LC_WARN_COUNT);
+    if (i >= 0)
+        *out = (lc_wire_warn)i;
     return i >= 0;
 }
 

@@ -8,11 +8,19 @@
  * a view rounds its geometry to LC_WIRE_VIEW_DECIMALS to stay small, and
  * writes null for what it does not have yet (no frame, no route, nothing
  * sent).
+ *
+ * A view also says what the viewer explains in words: whether the robot's
+ * link is up, why it is blocked, guidance's way ahead (and whether it is a
+ * detour) and, when asked, the occupied cells it remembers near it, as runs
+ * along rows of the memory's lattice (a wall along a row is one run; a
+ * bounded count of them keeps the message small).
  */
 #include "codec_encode.h"
 #include "json_write.h"
 
 #include <math.h>
+
+#include "patrol.h"
 
 /* The kept points, flat [x0, y0, x1, y1, ...]. */
 static void w_cloud(lc_wire_text *t, const lc_cloud *c, int decimals)
@@ -181,6 +189,113 @@ static void w_view_geometry_null(lc_wire_text *t)
     }
 }
 
+/*
+ * Guidance's way from the robot on, and how long it is against the
+ * straight line to its goal: longer by more than the patrol's detour
+ * length (LC_PATROL_DETOUR), it goes round something (the way ahead is
+ * closed, or not known). No path: status no_path and an empty way.
+ */
+static void w_view_guide(lc_wire_text *t, const lc_guide_path *p, lc_pose pose, int dec)
+{
+    if (!p || p->status == LC_GUIDE_NONE || (p->status == LC_GUIDE_PATH && p->n < 1)) {
+        lc_jw_null(t);
+        return;
+    }
+    lc_vec2 c = lc_v2(pose.x, pose.y);
+    bool found = p->status == LC_GUIDE_PATH;
+    double to_go = NAN, straight = lc_dist(c, p->goal);
+    lc_jw_open(t, '{');
+    lc_jw_kv_str(t, "status", found ? "path" : "no_path");
+    lc_jw_key(t, "path");
+    lc_jw_open(t, '[');
+    if (found) {
+        lc_guide_ahead(p, c, 0.0, &to_go);
+        lc_jw_vec2(t, c, dec);
+        for (int i = p->seg + 1; i < p->n; i++)
+            lc_jw_vec2(t, p->v[i], dec);
+    }
+    lc_jw_close(t, ']');
+    lc_jw_kv_num(t, "to_go", to_go, dec);
+    lc_jw_kv_num(t, "straight", straight, dec);
+    lc_jw_kv_bool(t, "detour", found && to_go > straight + LC_PATROL_DETOUR);
+    lc_jw_close(t, '}');
+}
+
+/* The runs of occupied cells along row j, columns [i0, i1), as [dj, di, n]
+ * from the origin (i0, j0); returns how many runs it wrote. */
+static int w_memory_row(lc_wire_text *t, const lc_memory *m, long i0, long i1, long j0, long j,
+                        int room)
+{
+    int runs = 0;
+    for (long i = i0; i < i1 && runs < room; i++) {
+        if (lc_memory_cell(m, i, j) != LC_CELL_OCCUPIED)
+            continue;
+        long k = i + 1;
+        while (k < i1 && lc_memory_cell(m, k, j) == LC_CELL_OCCUPIED)
+            k++;
+        lc_jw_int(t, j - j0);
+        lc_jw_int(t, i - i0);
+        lc_jw_int(t, k - i);
+        runs++;
+        i = k;
+    }
+    return runs;
+}
+
+/*
+ * The occupied cells within LC_WIRE_VIEW_MEMORY_REACH of the robot: cell
+ * side, the origin's lattice index (cell (i, j) covers [i c, (i+1) c) x
+ * [j c, (j+1) c)), runs [dj, di, n, ...] taken row by row outward from the
+ * robot's row, and whether they all fit (LC_WIRE_VIEW_MEMORY_RUNS).
+ */
+static void w_view_memory(lc_wire_text *t, const lc_memory *m, lc_pose pose)
+{
+    lc_memory_window w = lc_memory_get_window(m);
+    long ic, jc;
+    lc_memory_cell_of(m, lc_v2(pose.x, pose.y), &ic, &jc);
+    long reach = (long)ceil(LC_WIRE_VIEW_MEMORY_REACH / w.cell);
+    long i0 = ic - reach, i1 = ic + reach + 1, j0 = jc - reach;
+    lc_jw_open(t, '{');
+    lc_jw_kv_num(t, "cell", w.cell, -1);
+    lc_jw_key(t, "origin");
+    lc_jw_open(t, '[');
+    lc_jw_int(t, i0);
+    lc_jw_int(t, j0);
+    lc_jw_close(t, ']');
+    lc_jw_key(t, "runs");
+    lc_jw_open(t, '[');
+    int runs = 0;
+    bool complete = true;
+    for (long d = 0; d <= reach && complete; d++) {
+        for (int side = 0; side < (d ? 2 : 1) && complete; side++) {
+            int room = LC_WIRE_VIEW_MEMORY_RUNS - runs;
+            runs += w_memory_row(t, m, i0, i1, j0, side ? jc - d : jc + d, room);
+            complete = runs < LC_WIRE_VIEW_MEMORY_RUNS;
+        }
+    }
+    lc_jw_close(t, ']');
+    lc_jw_kv_bool(t, "complete", complete);
+    lc_jw_close(t, '}');
+}
+
+/* What the panel explains: the link, why blocked, the way ahead, the memory. */
+static void w_view_explain(lc_wire_text *t, const lc_wire_view *m)
+{
+    const lc_plan_result *r = m->result;
+    lc_jw_kv_str(t, "link", m->link_down ? "down" : "up");
+    lc_jw_key(t, "blocked");
+    if (m->blocked > LC_BLOCK_NONE && m->blocked < LC_BLOCK_REASON_COUNT)
+        lc_jw_str(t, lc_block_reason_name(m->blocked));
+    else
+        lc_jw_null(t);
+    lc_jw_key(t, "guide");
+    w_view_guide(t, r && r->has_waypoint ? r->path : NULL, m->pose, LC_WIRE_VIEW_DECIMALS);
+    if (m->with_memory && r && r->memory) {
+        lc_jw_key(t, "memory");
+        w_view_memory(t, r->memory, m->pose);
+    }
+}
+
 int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m)
 {
     const int dec = LC_WIRE_VIEW_DECIMALS;
@@ -225,5 +340,6 @@ int lc_wire_encode_view(lc_wire_text *t, const lc_wire_view *m)
         w_step_geometry(t, m->result, dec);
     else
         w_view_geometry_null(t);
+    w_view_explain(t, m);
     return lc_jw_end(t);
 }

@@ -69,6 +69,38 @@ int lc_jr_fail(lc_wire_error *err, lc_wire_code code, const char *path, const ch
     return -1;
 }
 
+/*
+ * The word for a number JSON cannot hold that the text has at p, as it is
+ * written there, or NULL: Python's json.dumps writes NaN, Infinity and
+ * -Infinity by default, C's printf nan and inf. Longer words first.
+ */
+static const char *nonfinite_word(const char *p, const char *end)
+{
+    static const char *const words[] = {"-Infinity", "+Infinity", "-infinity", "Infinity",
+                                        "infinity", "-NaN", "-nan", "-inf", "+inf", "NaN",
+                                        "nan", "inf"};
+    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++) {
+        size_t n = strlen(words[i]);
+        if ((size_t)(end - p) >= n && memcmp(p, words[i], n) == 0)
+            return words[i];
+    }
+    return NULL;
+}
+
+void lc_jr_bad_json(lc_wire_error *err, const char *what, const char *text, size_t len,
+                    const char *end)
+{
+    long at = end ? (long)(end - text) : 0;
+    const char *word = end && end >= text && end < text + len ? nonfinite_word(end, text + len)
+                                                                : NULL;
+    if (word)
+        lc_wire_error_set(err, LC_WIRE_BAD_JSON,
+                          "%s: %s at offset %ld is not JSON (JSON has no NaN or Infinity): "
+                          "send null for no value, or a finite number", what, word, at);
+    else
+        lc_wire_error_set(err, LC_WIRE_BAD_JSON, "%s: not valid JSON (near offset %ld)", what, at);
+}
+
 /* -------------------------------------------------------- field readers */
 
 const lc_wire_bounds lc_jr_any = {-MAG, MAG, false, false};
@@ -283,6 +315,12 @@ void lc_wire_ignored_text(const lc_wire_error *e, char *buf, size_t n)
 int lc_wire_check_duplicates(const cJSON *obj, const char *path, const char *const *keys,
                              lc_wire_error *err)
 {
+    return lc_jr_check_keys(obj, path, keys, path == NULL, err);
+}
+
+int lc_jr_check_keys(const cJSON *obj, const char *path, const char *const *keys, bool top,
+                     lc_wire_error *err)
+{
     unsigned long seen = 0;
     const cJSON *it;
     cJSON_ArrayForEach(it, obj) {
@@ -294,7 +332,7 @@ int lc_wire_check_duplicates(const cJSON *obj, const char *path, const char *con
         if (k == 64 || !keys[k]) {
             /* a message's seq is read whatever its type (peek_seq echoes it
              * in errors), so it is known at the top level of every message */
-            if (!(path == NULL && strcmp(it->string, "seq") == 0))
+            if (!(top && strcmp(it->string, "seq") == 0))
                 note_ignored(err, path, it->string);
             continue;
         }
@@ -469,18 +507,18 @@ static bool name_ok(const char *s)
 }
 
 /* A robot name member into out; empty (or null, absent) only when allow_empty. */
-int lc_jr_robot_name(const cJSON *obj, const char *key, bool allow_empty, char *out,
-                     lc_wire_error *err)
+int lc_jr_robot_name(const cJSON *obj, const char *path, const char *key, bool allow_empty,
+                     char *out, lc_wire_error *err)
 {
     const char *s = NULL;
     out[0] = '\0';
-    int rc = lc_jr_string(obj, NULL, key, !allow_empty, allow_empty, &s, err);
+    int rc = lc_jr_string(obj, path, key, !allow_empty, allow_empty, &s, err);
     if (rc < 0)
         return -1;
     if (!s || (allow_empty && *s == '\0'))
         return 0;
     if (!name_ok(s))
-        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, NULL, key,
+        return lc_jr_fail(err, LC_WIRE_BAD_FIELD, path, key,
                           "must be 1 to %d of A-Z a-z 0-9 _ - . (not starting with .)",
                           LC_WIRE_NAME_MAX);
     memcpy(out, s, strlen(s) + 1);

@@ -33,6 +33,13 @@ void lc_jr_join_name(char *buf, size_t n, const char *path, const char *key);
 int lc_jr_fail(lc_wire_error *err, lc_wire_code code, const char *path, const char *key,
                const char *fmt, ...) __attribute__((format(printf, 5, 6)));
 
+/* A bad_json error for text[0..len) that cJSON failed to parse at end
+ * (NULL: unknown): "what: not valid JSON (near offset N)", or, when a word
+ * for a number JSON has not stands there (NaN, Infinity, -Infinity, nan,
+ * inf), that word named. */
+void lc_jr_bad_json(lc_wire_error *err, const char *what, const char *text, size_t len,
+                    const char *end);
+
 /* The member, or NULL; *rc is -1 (err filled) for a required one that is missing. */
 const cJSON *lc_jr_member(const cJSON *obj, const char *path, const char *key, bool required,
                           int *rc, lc_wire_error *err);
@@ -55,13 +62,22 @@ int lc_jr_index(const cJSON *obj, const char *path, const char *key, int *out,
 
 /* A robot name member (1..LC_WIRE_NAME_MAX of [A-Za-z0-9_.-], no leading
  * '.') copied into out; empty, null or absent only when allow_empty. 0 or -1. */
-int lc_jr_robot_name(const cJSON *obj, const char *key, bool allow_empty, char *out,
-                     lc_wire_error *err);
+int lc_jr_robot_name(const cJSON *obj, const char *path, const char *key, bool allow_empty,
+                     char *out, lc_wire_error *err);
 
 /* A sensor name member (1..LC_SENSOR_NAME_MAX of [A-Za-z0-9_.-], no
  * null) copied into out (room for LC_SENSOR_NAME_MAX + 1); "" when absent. */
 int lc_jr_sensor_name(const cJSON *obj, const char *path, const char *key, bool required,
                       char *out, lc_wire_error *err);
+
+/*
+ * lc_wire_check_duplicates with the top level said outright: top is true
+ * for a message's own object (path is then its type, "robot"), whose "seq"
+ * is known whatever its type (every decode reads it for the error reply).
+ * lc_wire_check_duplicates takes a NULL path for the top level.
+ */
+int lc_jr_check_keys(const cJSON *obj, const char *path, const char *const *keys, bool top,
+                     lc_wire_error *err);
 
 /* An object's optional "type" must be expect. 0 or -1. */
 int lc_jr_check_type(const cJSON *obj, const char *path, const char *expect,

@@ -104,31 +104,31 @@ static const lc_wire_bounds B_RATE = {0.0, 1000.0, true, false};
 static const lc_wire_bounds B_VERSION = {1.0, 1e6, false, false};
 
 /* What a simulated sensor's object at path p holds beside its name and
- * kind; near and far are the keys of its range limits. */
-static int read_sensor_fields(const cJSON *obj, const char *p, const char *near,
-                              const char *far, lc_scenario_sensor *s, lc_wire_error *we)
+ * kind. */
+static int read_sensor_fields(const cJSON *obj, const char *p, lc_scenario_sensor *s,
+                              lc_wire_error *we)
 {
     if (lc_wire_int_field(obj, p, "beams", false, &B_BEAMS, &s->beams, we) < 0 ||
         lc_wire_number_field(obj, p, "fov", false, &B_FOV, &s->fov, we) < 0 ||
-        lc_wire_number_field(obj, p, near, false, &lc_jr_pos, &s->range_min, we) < 0 ||
-        lc_wire_number_field(obj, p, far, false, &lc_jr_pos, &s->range_max, we) < 0 ||
+        lc_wire_number_field(obj, p, "near", false, &lc_jr_pos, &s->range_min, we) < 0 ||
+        lc_wire_number_field(obj, p, "far", false, &lc_jr_pos, &s->range_max, we) < 0 ||
         lc_wire_number_field(obj, p, "rate", false, &B_RATE, &s->rate, we) < 0 ||
         lc_wire_number_field(obj, p, "noise", false, &lc_jr_nonneg, &s->noise, we) < 0 ||
         lc_jr_pose_member(obj, p, "mount", false, &s->mount, we) < 0)
         return -1;
     if (!(s->range_min < s->range_max))
-        return lc_jr_fail(we, LC_WIRE_BAD_FIELD, p, far, "must be > %s", near);
+        return lc_jr_fail(we, LC_WIRE_BAD_FIELD, p, "far", "must be > near");
     return 0;
 }
 
 static int read_sensor(const cJSON *obj, lc_scenario_sensor *s, lc_wire_error *we)
 {
-    static const char *const keys[] = {"beams", "fov", "range_min", "range_max", "rate",
-                                       "noise", "mount", NULL};
+    static const char *const keys[] = {"beams", "fov", "near", "far", "rate", "noise", "mount",
+                                       NULL};
     if (lc_jr_need_object(obj, NULL, "sensor", we) ||
         lc_wire_check_duplicates(obj, "sensor", keys, we))
         return -1;
-    return read_sensor_fields(obj, "sensor", "range_min", "range_max", s, we);
+    return read_sensor_fields(obj, "sensor", s, we);
 }
 
 /* Sensor i of "sensors", named unlike the ones before it. */
@@ -144,7 +144,7 @@ static int read_sensor_item(const cJSON *obj, const char *p, int i, void *ctx,
     if (lc_jr_need_object(obj, NULL, p, we) || lc_wire_check_duplicates(obj, p, keys, we) ||
         lc_jr_sensor_name(obj, p, "name", true, s->name, we) < 0 ||
         lc_jr_choice(obj, p, "kind", false, lc_wire_kind_names, 2, &kind, we) < 0 ||
-        read_sensor_fields(obj, p, "near", "far", s, we) < 0)
+        read_sensor_fields(obj, p, s, we) < 0)
         return -1;
     s->kind = (lc_frame_kind)kind;
     for (int k = 0; k < i; k++)
@@ -359,7 +359,7 @@ static cJSON *parse_one(const char *text, size_t len, lc_wire_error *we)
     const char *end = NULL;
     cJSON *root = len ? cJSON_ParseWithLengthOpts(text, len, &end, 0) : NULL;
     if (!root) {
-        lc_wire_error_set(we, LC_WIRE_BAD_JSON, "header: not valid JSON");
+        lc_jr_bad_json(we, "header", text, len, end);
         return NULL;
     }
     for (const char *p = end; p < text + len; p++) {
@@ -483,8 +483,7 @@ int lc_scenario_next(lc_scenario_reader *r, lc_wire_msg *msg, lc_scenario_error 
         r->warned |= 1u << msg->type;
         char text[LC_WIRE_KEY_SHOWN + 64], line[sizeof text + 64];
         lc_wire_ignored_text(&we, text, sizeof text);
-        snprintf(line, sizeof line, "%s message: %s (said once per message type)",
-                 lc_msg_type_name(msg->type), text);
+        snprintf(line, sizeof line, "%s (said once per message type)", text);
         warn(r, line);
     }
     return 1;
@@ -502,13 +501,12 @@ static void put_world(lc_wire_text *t, const lc_polyset *w)
 }
 
 /* A simulated sensor's object as read_sensor_fields reads it back. */
-static void put_sensor_fields(lc_wire_text *t, const lc_scenario_sensor *s, const char *near,
-                              const char *far)
+static void put_sensor_fields(lc_wire_text *t, const lc_scenario_sensor *s)
 {
     lc_jw_kv_int(t, "beams", s->beams);
     lc_jw_kv_num(t, "fov", s->fov, -1);
-    lc_jw_kv_num(t, near, s->range_min, -1);
-    lc_jw_kv_num(t, far, s->range_max, -1);
+    lc_jw_kv_num(t, "near", s->range_min, -1);
+    lc_jw_kv_num(t, "far", s->range_max, -1);
     lc_jw_kv_num(t, "rate", s->rate, -1);
     lc_jw_kv_num(t, "noise", s->noise, -1);
     lc_jw_key(t, "mount");
@@ -519,7 +517,7 @@ static void put_sensor(lc_wire_text *t, const lc_scenario_sensor *s)
 {
     lc_jw_key(t, "sensor");
     lc_jw_open(t, '{');
-    put_sensor_fields(t, s, "range_min", "range_max");
+    put_sensor_fields(t, s);
     lc_jw_close(t, '}');
 }
 
@@ -532,7 +530,7 @@ static void put_sensors(lc_wire_text *t, const lc_scenario_header *h)
         lc_jw_open(t, '{');
         lc_jw_kv_str(t, "name", s->name);
         lc_jw_kv_str(t, "kind", lc_wire_kind_names[s->kind == LC_FRAME_POINTS ? 1 : 0]);
-        put_sensor_fields(t, s, "near", "far");
+        put_sensor_fields(t, s);
         lc_jw_close(t, '}');
     }
     lc_jw_close(t, ']');

@@ -1,10 +1,10 @@
 /*
- * scenario.h - scenario files (JSON Lines, CONTRACT.md): a header line, then
+ * scenario.h - scenario files (JSON Lines, docs/INTERFACES.md): a header line, then
  * one wire message a line, in order.
  *
  * Header: {"type":"scenario","version":1,"description":s,"robot":{...},
  * "route":{...},"start":[x,y,yaw],"world":{"polygons":[[[x,y],...],...]},
- * "sensor":{"beams","fov","range_min","range_max","rate","noise","mount"},
+ * "sensor":{"beams","fov","near","far","rate","noise","mount"},
  * "sensors":[{"name","kind":"scan"|"points","mount","beams","fov","near",
  * "far","rate","noise"},...],
  * "expect":"done"|"blocked","max_time":s,"family":name,"shortest_path":m,
@@ -12,7 +12,8 @@
  * "sensor" is the one simulated scanner of a robot that names no sensors;
  * "sensors" (instead of it) lists 1..LC_SENSORS_MAX simulated sensors of
  * unique names (1..LC_SENSOR_NAME_MAX of [A-Za-z0-9_.-]), each at its own
- * rate, near and far being its range limits: `lacuna sim` gives the robot
+ * rate (near and far, m, being the band of distances its beams return in,
+ * as in a scan frame): `lacuna sim` gives the robot
  * description these sensors and each frame its sensor's name.
  * Every field but type and version is optional; `expect` (default "done")
  * is what `lacuna sim` takes for success, `max_time` (s) bounds a sim run.
@@ -65,8 +66,8 @@ typedef struct lc_scenario_sensor {
     lc_frame_kind kind;                /* scan ("sensor" always) or points */
     int beams;
     double fov;       /* rad, centred on the mount's x axis */
-    double range_min; /* m */
-    double range_max; /* m */
+    double range_min; /* m, "near" */
+    double range_max; /* m, "far" */
     double rate;      /* Hz, frames per second */
     double noise;     /* m, standard deviation of the range noise */
     lc_pose mount;    /* sensor in the robot frame */

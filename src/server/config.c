@@ -60,9 +60,11 @@ static const opt options[] = {
          "browser origin (scheme://host[:port], null, or * for any) allowed to open a websocket; "
          "repeat or separate with commas. Always allowed: no Origin header (programs) and the "
          "page's own origin; any other is refused (error forbidden, close 1008)"),
-    INT(watchdog_ms, 20, 60000, 200, "stop setpoints (stale) when no valid frame came for this long"),
+    INT(watchdog_ms, 20, 60000, 200,
+        "stop setpoints (stale) when no valid frame came for this long; also the most any "
+        "setpoint's valid_ms can be"),
     INT(max_message, 1024, 64 << 20, 1 << 20, "largest message in bytes (larger: close 1009)"),
-    INT(max_beams, 1, 1000000, 100000, "most ranges in one scan"),
+    INT(max_beams, 1, 1000000, 100000, "most beams (dist values) in one scan"),
     INT(max_points, 1, 1000000, 100000, "most points in one points frame"),
     INT(max_connections, 1, 10000, 64,
         "most websocket connections at a time; beyond it the handshake gets HTTP 503"),
@@ -84,6 +86,14 @@ static const opt options[] = {
     NUM(dt_max, 0.0001, 10, 0.2, "s, largest control period taken from stamps"),
     INT(hello_timeout_ms, 100, 600000, 10000, "close connections that send no hello for this long"),
     INT(shutdown_ms, 0, 60000, 1000, "longest wait for the last stop setpoints at shutdown"),
+    INT(grace_ms, 0, 600000, 5000,
+        "keep a robot's session this long after its link drops: a robot that says hello "
+        "again under its name within it resumes its description, route, progress and "
+        "velocity (0: the session ends with the link)"),
+    INT(link_timeout_ms, 0, 600000, 3000,
+        "close a robot's link when nothing (not even the answer to a ping) came for this "
+        "long: a link that went silent without closing lets its robot's name go within it. "
+        "Pings go out after a third of it without a message (0: never)"),
 };
 
 #define N_OPTIONS (int)(sizeof options / sizeof options[0])

@@ -49,6 +49,8 @@ typedef struct lc_server_config {
     double dt_max;
     int hello_timeout_ms;
     int shutdown_ms;     /* longest wait for the last messages at shutdown */
+    int grace_ms;        /* a dropped robot's session is kept this long for a reconnect */
+    int link_timeout_ms; /* a link silent this long (pings unanswered) is closed */
     unsigned long long list_flags; /* bit i: list option i was set by a flag (next ones add) */
 } lc_server_config;
 

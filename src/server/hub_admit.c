@@ -2,7 +2,10 @@
  * hub_admit.c - who may stay: a new connection is admitted by its Origin
  * and the count of connections from its address; its first message must be
  * a hello with the right token for its role, and a robot's name must be
- * free. Everything refused gets an error, then the connection closes.
+ * free: held by no session, or by one whose link dropped (the hello resumes
+ * it), or, when the server has a robot token (which the hello proved), by a
+ * live link that the new connection then takes over. Everything refused
+ * gets an error, then the connection closes.
  */
 #include <stdio.h>
 #include <stdlib.h>
@@ -95,7 +98,8 @@ static bool token_ok(bool needed, const char *want, const lc_wire_hello *h)
     return lc_token_equal(want, h->has_token ? h->token : "") && h->has_token;
 }
 
-static void send_welcome(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
+static void send_welcome(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, bool resumed,
+                         double now)
 {
     lc_wire_welcome w;
     memset(&w, 0, sizeof w);
@@ -106,6 +110,9 @@ static void send_welcome(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double
     w.max_beams = hub->cfg.opts.max_beams;
     w.max_points = hub->cfg.opts.max_points;
     w.view_hz = hub->cfg.opts.view_hz;
+    w.resumed = resumed;
+    w.grace_ms = hub->cfg.opts.grace_ms;
+    w.link_timeout_ms = hub->cfg.opts.link_timeout_ms;
     lc_hub_send_encoded(hub, c, lc_wire_encode_welcome(&hub->text, &w), now);
 }
 
@@ -116,7 +123,7 @@ void lc_hub_hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
                   robot ? hub->robot_token : hub->viewer_token, h)) {
         lc_log(LC_LOG_WARN, "%s hello for '%s' refused: wrong or missing token",
                robot ? "robot" : "viewer", h->robot);
-        lc_hub_error_close(hub, c, LC_WIRE_UNAUTHORIZED, now, "token: wrong or missing");
+        lc_hub_error_close(hub, c, LC_WIRE_UNAUTHORIZED, now, "hello.token: wrong or missing");
         return;
     }
     if (!robot) {
@@ -125,22 +132,28 @@ void lc_hub_hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now)
         snprintf(c->watch, sizeof c->watch, "%s", h->robot);
         lc_hub_mark_views_dirty(hub);
         lc_log(LC_LOG_INFO, "viewer connected (watching %s)", h->robot[0] ? h->robot : "all");
-        send_welcome(hub, c, h, now);
+        lc_hub_heard(hub, c, now);
+        send_welcome(hub, c, h, false, now);
         return;
     }
-    if (lc_hub_find_bot(hub, h->robot)) {
-        char text[128];
-        snprintf(text, sizeof text, "robot: '%s' is connected already", h->robot);
+    bot *b = lc_hub_find_bot(hub, h->robot);
+    if (b && b->conn && !b->conn->closing && !hub->need_robot_token) {
+        char text[160];
+        snprintf(text, sizeof text, "hello.robot: '%s' is connected already (a link that went silent "
+                 "lets the name go within %d ms)", h->robot, hub->cfg.opts.link_timeout_ms);
         lc_log(LC_LOG_WARN, "second connection for robot %s refused", h->robot);
         lc_hub_error_close(hub, c, LC_WIRE_NAME_TAKEN, now, text);
         return;
     }
-    c->bot = lc_hub_bot_new(hub, c, h->robot);
-    if (!c->bot) {
+    if (b) {
+        lc_hub_bot_resume(hub, b, c, now);
+    } else if ((c->bot = lc_hub_bot_new(hub, c, h->robot)) != NULL) {
+        lc_log(LC_LOG_INFO, "robot %s connected", h->robot);
+    } else {
         lc_hub_error_close(hub, c, LC_WIRE_INTERNAL, now, "server: out of memory");
         return;
     }
     c->role = ROLE_ROBOT;
-    lc_log(LC_LOG_INFO, "robot %s connected", h->robot);
-    send_welcome(hub, c, h, now);
+    lc_hub_heard(hub, c, now);
+    send_welcome(hub, c, h, b != NULL, now);
 }

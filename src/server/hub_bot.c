@@ -2,12 +2,22 @@
  * hub_bot.c - one robot's session in the hub: its description and route,
  * each frame's step (the control period dt, the session step, the setpoint,
  * errors and events: lc_session_drive), the watchdog's stop setpoints, the last stop at
- * shutdown, its recording, and the log of frames naming sensors it did not
- * describe. A robot session lives as long as its robot's
- * connection.
+ * shutdown, its recording, the warnings a robot hears about its frames
+ * (before a route, stamps or seq going back, sensors it did not describe:
+ * each once per connection, the last one also logged), and the session's
+ * life across links: kept for grace_ms when its link drops, resumed whole
+ * by the next hello under its name.
+ *
+ * A resumed session goes on from what the robot was last told: the core
+ * session is the same one, so the next frame's rate limits start from the
+ * last setpoint sent, or from rest when the watchdog's stop went out before
+ * the link was found dead (lc_session_stop). Nothing is sent while no link
+ * holds the session, so nothing is told then either.
  */
 #include <errno.h>
+#include <inttypes.h>
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -44,6 +54,7 @@ bot *lc_hub_bot_new(lc_hub *hub, lc_conn *c, const char *name)
     b->conn = c;
     b->seq = -1;
     b->watchdog_at = INFINITY;
+    b->expire_at = INFINITY;
     b->next = hub->bots;
     hub->bots = b;
     return b;
@@ -57,9 +68,69 @@ void lc_hub_bot_free(lc_hub *hub, bot *b)
             break;
         }
     }
+    if (!b->conn)
+        hub->n_waiting--;
     lc_recorder_close(&b->rec);
     lc_session_free(b->core);
     free(b);
+}
+
+/* The waiting session whose grace ends first (NULL: none waits). */
+static bot *first_to_expire(const lc_hub *hub)
+{
+    bot *first = NULL;
+    for (bot *b = hub->bots; b; b = b->next)
+        if (!b->conn && (!first || b->expire_at < first->expire_at))
+            first = b;
+    return first;
+}
+
+void lc_hub_bot_drop(lc_hub *hub, bot *b, double now)
+{
+    const lc_server_config *o = &hub->cfg.opts;
+    if (hub->shutting || o->grace_ms <= 0) {
+        lc_log(LC_LOG_INFO, "robot %s disconnected: session ended", b->name);
+        lc_hub_bot_free(hub, b);
+        return;
+    }
+    /* waiting sessions are bounded like live ones: the oldest gives way */
+    bot *oldest = hub->n_waiting >= o->max_connections ? first_to_expire(hub) : NULL;
+    if (oldest) {
+        lc_log(LC_LOG_WARN, "robot %s: session ended before its grace ran out: %d sessions "
+               "wait for their robots (max_connections)", oldest->name, hub->n_waiting);
+        lc_hub_bot_free(hub, oldest);
+    }
+    b->conn = NULL;
+    b->dropped_at = now;
+    b->expire_at = now + o->grace_ms / 1000.0;
+    b->view_dirty = true;
+    hub->n_waiting++;
+    lc_log(LC_LOG_INFO, "robot %s disconnected: its session waits %d ms for it to say hello "
+           "again (grace_ms)", b->name, o->grace_ms);
+}
+
+void lc_hub_bot_resume(lc_hub *hub, bot *b, lc_conn *c, double now)
+{
+    lc_conn *old = b->conn;
+    if (old) {
+        old->bot = NULL;
+        lc_log(LC_LOG_WARN, "robot %s: a new connection proved the token and takes the session "
+               "over; the old link is closed", b->name);
+        lc_hub_error_close(hub, old, LC_WIRE_NAME_TAKEN, now,
+                           "robot: a new connection with the token took this robot's session over");
+    } else {
+        hub->n_waiting--;
+        lc_log(LC_LOG_INFO, "robot %s is back after %.1f s: session resumed (description, "
+               "route, progress and velocity kept)", b->name, now - b->dropped_at);
+    }
+    b->conn = c;
+    c->bot = b;
+    b->expire_at = INFINITY;
+    b->n_unlisted = 0; /* said once per connection */
+    /* the robot gets a watchdog period for its first frame on the new link */
+    if (b->has_frame)
+        b->watchdog_at = now + hub->cfg.opts.watchdog_ms / 1000.0;
+    b->view_dirty = true;
 }
 
 /* A line of the robot's recording, when it is being recorded. */
@@ -113,6 +184,16 @@ static void start_recording(lc_hub *hub, bot *b)
     }
 }
 
+/* Why the patrol is blocked, as its blocked event said, while it stays blocked. */
+static void note_blocked(bot *b)
+{
+    if (b->result.state != LC_STATE_BLOCKED)
+        b->blocked = LC_BLOCK_NONE;
+    for (int i = 0; i < b->result.n_events; i++)
+        if (b->result.events[i].kind == LC_EVENT_BLOCKED)
+            b->blocked = b->result.events[i].reason;
+}
+
 static void send_events(lc_hub *hub, bot *b, double now)
 {
     for (int i = 0; i < b->result.n_events; i++) {
@@ -121,16 +202,39 @@ static void send_events(lc_hub *hub, bot *b, double now)
     }
 }
 
+/* "scan" or "points": the frame's message type, the root of its field names. */
+static const char *frame_type(const lc_frame *f)
+{
+    return lc_msg_type_name(f->kind == LC_FRAME_POINTS ? LC_MSG_POINTS : LC_MSG_SCAN);
+}
+
+void lc_hub_warn(lc_hub *hub, lc_conn *c, lc_wire_warn code, bool bypass, int64_t seq,
+                 double now, const char *fmt, ...)
+{
+    if (c->role != ROLE_ROBOT || c->closing || (!bypass && (c->warned & (1u << code))))
+        return;
+    c->warned |= 1u << code;
+    lc_wire_warning w = {.code = code, .has_seq = seq >= 0, .seq = seq};
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(w.message, sizeof w.message, fmt, ap);
+    va_end(ap);
+    lc_hub_send_encoded(hub, c, lc_wire_encode_warning(&hub->text, &w), now);
+}
+
 /*
  * A frame that names a sensor the robot's description does not list is
  * planned all the same (with its own mount: lc_robot_sensor finds none),
- * and logged once per connection and sensor name. The place to warn the
- * robot itself from, too.
+ * and logged once per connection and sensor name; the robot hears of the
+ * first (a warning).
  */
-static void unlisted_sensor(bot *b, const lc_frame *f)
+static void unlisted_sensor(lc_hub *hub, bot *b, const lc_frame *f, double now)
 {
     if (!f->sensor[0] || lc_robot_sensor(&b->desc, f))
         return;
+    lc_hub_warn(hub, b->conn, LC_WARN_UNLISTED_SENSOR, false, f->seq, now,
+                "%s.sensor: '%s' is not one of the robot's sensors; planned with the frame's "
+                "own mount (said once)", frame_type(f), f->sensor);
     for (int i = 0; i < b->n_unlisted && i < LC_SENSORS_MAX; i++)
         if (strcmp(b->unlisted[i], f->sensor) == 0)
             return;
@@ -146,10 +250,38 @@ static void unlisted_sensor(bot *b, const lc_frame *f)
     }
 }
 
+/*
+ * What the robot should hear about a frame that is planned all the same:
+ * one before any route (it is answered idle), a stamp or seq below the
+ * previous frame's on this connection (equal stamps are several sensors at
+ * one instant; equal seqs are allowed too), a sensor it did not describe.
+ */
+static void frame_warnings(lc_hub *hub, bot *b, const lc_frame *f, double now)
+{
+    lc_conn *c = b->conn;
+    const char *type = frame_type(f);
+    if (!b->has_route)
+        lc_hub_warn(hub, c, LC_WARN_NO_ROUTE, false, f->seq, now,
+                    "%s: no route yet; the robot is told to stay still (state idle) until a "
+                    "route message comes (said once)", type);
+    if (c->rx_frame && f->stamp < c->rx_stamp)
+        lc_hub_warn(hub, c, LC_WARN_STAMP_BACKWARDS, false, f->seq, now,
+                    "%s.stamp: %.17g is before the previous frame's %.17g; stamps should "
+                    "increase (said once)", type, f->stamp, c->rx_stamp);
+    if (c->rx_frame && f->seq < c->rx_seq)
+        lc_hub_warn(hub, c, LC_WARN_SEQ_BACKWARDS, false, f->seq, now,
+                    "%s.seq: %" PRId64 " is below the previous frame's %" PRId64 "; setpoints "
+                    "echo seq, so it should increase (said once)", type, f->seq, c->rx_seq);
+    unlisted_sensor(hub, b, f, now);
+    c->rx_frame = true;
+    c->rx_seq = f->seq;
+    c->rx_stamp = f->stamp;
+}
+
 static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
 {
     start_recording(hub, b);
-    unlisted_sensor(b, f);
+    frame_warnings(hub, b, f, now);
     if (lc_recorder_is_open(&b->rec) && lc_wire_encode_frame(&hub->text, f) == 0)
         record(b, hub->text.s, (size_t)hub->text.len);
     int rc = lc_session_drive(b->core, f, &b->result, &b->last_sp);
@@ -159,6 +291,7 @@ static void frame(lc_hub *hub, bot *b, const lc_frame *f, double now)
     b->stamp = f->stamp;
     b->pose = f->pose;
     b->has_sp = true;
+    note_blocked(b);
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
     if (rc < 0) {
         lc_wire_error e = {0};
@@ -186,9 +319,9 @@ void lc_hub_watchdog(lc_hub *hub, bot *b, double now)
 /* Shutdown: a last stop setpoint to a robot that has had a frame. */
 void lc_hub_bot_stop(lc_hub *hub, bot *b, double now)
 {
-    if (!b->has_frame || b->conn->closing)
+    if (!b->has_frame || !b->conn || b->conn->closing)
         return;
-    lc_session_stop(b->core, LC_STATE_IDLE, LC_LIMIT_IDLE, &b->last_sp);
+    lc_session_stop(b->core, LC_STATE_SHUTDOWN, LC_LIMIT_NONE, &b->last_sp);
     send_to_robot(hub, b, lc_wire_encode_setpoint(&hub->text, &b->last_sp), now);
 }
 

@@ -8,7 +8,8 @@
  *                 the watchdog, its recording
  *   hub_rx.c      receiving: reassembly, flood control, routing a message
  *   hub_views.c   the views: throttled, encoded once, shared by viewers
- *   hub_timers.c  what is due at a time, and shutdown
+ *   hub_timers.c  what is due at a time (watchdog, views, pings, dead
+ *                 links, the end of a dropped session's grace), and shutdown
  *
  * Time is the server's monotonic clock in seconds; frame stamps are only
  * used for the control period dt. Every rejected message gets an error
@@ -64,17 +65,33 @@ struct lc_conn {
     queue replies, views;
     bool paused; /* receive flow: not read until its replies drain (lc_conn_reading) */
     unsigned warned_ignored; /* message types logged for unknown keys (once each) */
+    unsigned warned;         /* warning kinds sent, 1 << lc_wire_warn (once each) */
+    bool rx_frame;           /* a frame accepted on this connection: rx_seq, rx_stamp hold */
+    int64_t rx_seq;          /* the last one's seq and stamp (warnings when they go back) */
+    double rx_stamp;
+    /* liveness (admitted connections): the last time anything came from
+     * the peer (a message's chunk or a pong), and when the next ping is due */
+    double heard_at, ping_at;
+    bool ping_due; /* the transport is to send a ping (lc_conn_take_ping) */
     bool closing;
     double close_at; /* kill when the peer has not let us close by then */
     int close_status;
     char close_reason[64];
 };
 
+/*
+ * A robot session. It outlives its connection by grace_ms: when the link
+ * drops, conn becomes NULL and the session waits (expire_at) for a hello
+ * under its name, which resumes it whole (the core session too, so that its
+ * velocity and the rate limits go on from what the robot was last told).
+ */
 struct bot {
     bot *next;
     unsigned long id;     /* unique in the hub's life: tags this robot's views */
     char name[LC_WIRE_NAME_MAX + 1];
-    lc_conn *conn;
+    lc_conn *conn;        /* NULL: the link dropped, the session waits for a resume */
+    double expire_at;     /* conn NULL: the session ends then; INFINITY while linked */
+    double dropped_at;    /* when the link last dropped */
     lc_session *core;
     lc_robot desc;
     lc_route route;
@@ -87,8 +104,10 @@ struct bot {
     double plan_max_us;   /* the longest plan since the last view (0: none) */
     lc_wire_setpoint last_sp;
     bool has_sp;
+    lc_block_reason blocked; /* why the patrol is blocked (its last blocked event), for views */
     double watchdog_at;   /* INFINITY: not armed */
     double view_at;       /* earliest time of the next view */
+    double memory_view_at; /* earliest time of the next view that carries the memory */
     bool view_dirty;
     lc_recorder rec;
     bool rec_failed_unsent; /* recording stopped: the robot is not told yet */
@@ -113,6 +132,8 @@ struct lc_hub {
     int n_conns;
     bot *bots;
     int n_viewers;
+    int n_waiting;   /* sessions whose link dropped, within their grace */
+    bool shutting;   /* lc_hub_shutdown was called: no session waits any more */
     long views_dropped;
     unsigned long next_bot_id;
 };
@@ -143,9 +164,18 @@ void lc_hub_hello(lc_hub *hub, lc_conn *c, const lc_wire_hello *h, double now);
 bot *lc_hub_find_bot(const lc_hub *hub, const char *name);
 bot *lc_hub_bot_new(lc_hub *hub, lc_conn *c, const char *name); /* NULL: out of memory */
 void lc_hub_bot_free(lc_hub *hub, bot *b);
+/* The link dropped: keep the session for grace_ms (or end it: no grace, shutdown). */
+void lc_hub_bot_drop(lc_hub *hub, bot *b, double now);
+/* A hello under the name of session b: c takes it over, as it stands. */
+void lc_hub_bot_resume(lc_hub *hub, bot *b, lc_conn *c, double now);
 void lc_hub_robot_message(lc_hub *hub, lc_conn *c, const lc_wire_msg *m, double now);
 void lc_hub_watchdog(lc_hub *hub, bot *b, double now);
 void lc_hub_bot_stop(lc_hub *hub, bot *b, double now);
+/* A warning message to a robot connection, once per connection and code
+ * (bypass: sent even when the code was, for unknown keys, which hub_rx.c
+ * says once per message type); seq < 0: none. printf-formatted message. */
+void lc_hub_warn(lc_hub *hub, lc_conn *c, lc_wire_warn code, bool bypass, int64_t seq,
+                 double now, const char *fmt, ...) __attribute__((format(printf, 7, 8)));
 
 /* hub_views.c */
 void lc_hub_mark_views_dirty(lc_hub *hub);

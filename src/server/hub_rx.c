@@ -2,7 +2,8 @@
  * hub_rx.c - receiving: a message's chunks reassembled (capped at
  * max_message; binary ones counted, not kept), a token bucket of max_rate
  * messages per second against flooding, then the decoded message routed by
- * the connection's role: the hello, a robot's messages, refusals.
+ * the connection's role: the hello, a robot's messages, refusals; and the
+ * unknown keys a message carried, logged and told to a robot (a warning).
  */
 #include <math.h>
 #include <stdio.h>
@@ -34,20 +35,33 @@ static void refuse(lc_hub *hub, lc_conn *c, lc_wire_code code, const lc_wire_msg
 /*
  * Unknown keys are ignored (PROTOCOL.md), but a typo ("margn") would leave a
  * default in force without a word: log it, once per connection and message
- * type. A frame with an unknown key also misses the codec's fast path.
+ * type; true when it was said now. A frame with an unknown key also misses
+ * the codec's fast path.
  */
-static void log_ignored(lc_conn *c, const lc_wire_msg *m, const lc_wire_error *err)
+static bool log_ignored(lc_conn *c, const lc_wire_msg *m, const lc_wire_error *err)
 {
     if (!err->ignored || (c->warned_ignored & (1u << m->type)))
-        return;
+        return false;
     c->warned_ignored |= 1u << m->type;
     bool frame = m->type == LC_MSG_SCAN || m->type == LC_MSG_POINTS;
     char text[LC_WIRE_KEY_SHOWN + 64];
     lc_wire_ignored_text(err, text, sizeof text);
-    lc_log(LC_LOG_WARN, "%s %s: %s message: %s%s (said once per connection and message type)",
+    lc_log(LC_LOG_WARN, "%s %s: %s%s (said once per connection and message type)",
            c->bot ? "robot" : "client", c->bot ? c->bot->name : (c->addr[0] ? c->addr : "?"),
-           lc_msg_type_name(m->type), text,
+           text,
            frame ? "; frames with unknown keys take the slower decoder" : "");
+    return true;
+}
+
+/* The robot hears what log_ignored said (after its welcome, for a hello). */
+static void warn_ignored(lc_hub *hub, lc_conn *c, const lc_wire_msg *m,
+                         const lc_wire_error *err, double now)
+{
+    bool frame = m->type == LC_MSG_SCAN || m->type == LC_MSG_POINTS;
+    char text[LC_WIRE_KEY_SHOWN + 64];
+    lc_wire_ignored_text(err, text, sizeof text);
+    lc_hub_warn(hub, c, LC_WARN_UNKNOWN_KEY, true, frame ? m->u.frame.seq : -1, now,
+                "%s (said once per message type)", text);
 }
 
 static void message(lc_hub *hub, lc_conn *c, const char *text, size_t len, double now)
@@ -55,8 +69,7 @@ static void message(lc_hub *hub, lc_conn *c, const char *text, size_t len, doubl
     lc_wire_error err;
     lc_wire_msg *m = &hub->in;
     int rc = lc_wire_decode(text, len, &hub->limits, &hub->buf, m, &err);
-    if (rc == 0)
-        log_ignored(c, m, &err);
+    bool unknown_keys = rc == 0 && log_ignored(c, m, &err);
     if (c->role == ROLE_NONE) {
         if (rc < 0)
             lc_hub_send_error_close(hub, c, &err, now);
@@ -65,6 +78,8 @@ static void message(lc_hub *hub, lc_conn *c, const char *text, size_t len, doubl
                         "type: the first message must be a hello");
         else
             lc_hub_hello(hub, c, &m->u.hello, now);
+        if (unknown_keys)
+            warn_ignored(hub, c, m, &err, now); /* only a welcomed robot hears it */
         return;
     }
     if (rc < 0) {
@@ -78,8 +93,11 @@ static void message(lc_hub *hub, lc_conn *c, const char *text, size_t len, doubl
         refuse(hub, c, LC_WIRE_FORBIDDEN, m, &err, now, "type: a viewer may not send %s", type);
     else if (!robot_may_send(m->type))
         refuse(hub, c, LC_WIRE_FORBIDDEN, m, &err, now, "type: a robot may not send %s", type);
-    else
+    else {
+        if (unknown_keys)
+            warn_ignored(hub, c, m, &err, now); /* before the frame's setpoint */
         lc_hub_robot_message(hub, c, m, now);
+    }
 }
 
 /* false when the connection sends faster than max_rate (flooding). */
@@ -132,6 +150,7 @@ static int append(lc_conn *c, const void *data, size_t len)
 int lc_hub_receive(lc_hub *hub, lc_conn *c, const void *data, size_t len, bool first,
                    bool final, bool binary, double now)
 {
+    lc_hub_heard(hub, c, now); /* anything from the peer proves the link */
     if (first) {
         c->rx_len = 0;
         c->rx_binary = binary;

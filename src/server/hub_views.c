@@ -1,12 +1,17 @@
 /*
  * hub_views.c - the views: at most view_hz per robot, and only while it
  * changed; encoded once and shared by every viewer that watches the robot;
- * a slow viewer loses the oldest views of a robot, never a reply.
+ * a slow viewer loses the oldest views of a robot, never a reply. The
+ * remembered cells near the robot, the largest part of a view, go out at
+ * most every LC_HUB_MEMORY_VIEW_S: memory changes slowly, and a viewer keeps
+ * the last it got.
  */
 #include <math.h>
 #include <string.h>
 
 #include "hub_internal.h"
+
+#define LC_HUB_MEMORY_VIEW_S 0.5
 
 void lc_hub_mark_views_dirty(lc_hub *hub)
 {
@@ -61,7 +66,11 @@ void lc_hub_broadcast_view(lc_hub *hub, bot *b, double now)
                       .result = b->has_frame ? &b->result : NULL,
                       .pose = b->pose, .seq = b->seq, .stamp = b->stamp,
                       .setpoint = b->has_sp ? &b->last_sp : NULL,
-                      .plan_us = b->has_frame ? b->result.total_us : 0.0};
+                      .plan_us = b->has_frame ? b->result.total_us : 0.0,
+                      .link_down = !b->conn, .blocked = b->blocked,
+                      .with_memory = b->has_frame && now >= b->memory_view_at};
+    if (v.with_memory)
+        b->memory_view_at = now + LC_HUB_MEMORY_VIEW_S;
     /* the longest of the frames since the previous view, the last one among them */
     v.plan_max_us = fmax(b->plan_max_us, v.plan_us);
     b->plan_max_us = 0.0;

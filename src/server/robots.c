@@ -1,12 +1,14 @@
 /*
  * robots.c - the hub (see robots.h): its lifetime and its connections'. The
  * protocol is in the hub_*.c files, one job each (hub_internal.h lists
- * them): hello and roles, one session per robot name, one setpoint per
- * accepted frame, events, the watchdog, throttled shared views, bounded
- * queues and recording.
+ * them): hello and roles, one session per robot name (kept for a resume
+ * when its link drops), one setpoint per accepted frame, events, the
+ * watchdog, dead links, throttled shared views, bounded queues and
+ * recording.
  */
 #include "robots.h"
 
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 
@@ -47,14 +49,17 @@ void lc_hub_free(lc_hub *hub)
 {
     if (!hub)
         return;
+    hub->shutting = true; /* no session waits: each ends with its connection */
     while (hub->conns)
-        lc_hub_close(hub, hub->conns);
+        lc_hub_close(hub, hub->conns, 0.0);
+    while (hub->bots)
+        lc_hub_bot_free(hub, hub->bots);
     lc_wire_buffers_free(&hub->buf);
     lc_wire_text_free(&hub->text);
     free(hub);
 }
 
-void lc_hub_close(lc_hub *hub, lc_conn *conn)
+void lc_hub_close(lc_hub *hub, lc_conn *conn, double now)
 {
     for (lc_conn **p = &hub->conns; *p; p = &(*p)->next) {
         if (*p == conn) {
@@ -65,10 +70,8 @@ void lc_hub_close(lc_hub *hub, lc_conn *conn)
     }
     if (conn->role == ROLE_VIEWER)
         hub->n_viewers--;
-    if (conn->bot) {
-        lc_log(LC_LOG_INFO, "robot %s disconnected", conn->bot->name);
-        lc_hub_bot_free(hub, conn->bot);
-    }
+    if (conn->bot)
+        lc_hub_bot_drop(hub, conn->bot, now);
     lc_hub_queue_free(&conn->replies);
     lc_hub_queue_free(&conn->views);
     free(conn->rx);
@@ -76,5 +79,18 @@ void lc_hub_close(lc_hub *hub, lc_conn *conn)
 }
 
 int lc_hub_connections(const lc_hub *hub) { return hub->n_conns; }
+
+void lc_hub_heard(lc_hub *hub, lc_conn *conn, double now)
+{
+    conn->heard_at = now;
+    conn->ping_at = now + hub->cfg.opts.link_timeout_ms / 3000.0;
+}
+
+bool lc_conn_take_ping(lc_conn *conn)
+{
+    bool due = conn->ping_due;
+    conn->ping_due = false;
+    return due;
+}
 
 long lc_hub_views_dropped(const lc_hub *hub) { return hub->views_dropped; }

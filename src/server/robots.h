@@ -22,10 +22,27 @@
  * disk), recording of that robot stops, the log says why and the robot
  * gets one error recording_failed; control goes on.
  *
+ * Sessions that survive a dropped link: when a robot's connection closes,
+ * its session (description, route, progress, memory, the last velocity)
+ * waits grace_ms for a hello under the same name, which resumes it (the
+ * welcome says "resumed": true); after that it ends. While a connection
+ * holds the name, another hello for it gets name_taken, unless the server
+ * has a robot token: the token proves the robot, so the new connection takes
+ * the session over at once and the old one is closed.
+ *
+ * Dead links: a robot's connection from which nothing came for a third of
+ * link_timeout_ms is pinged (again every third), and closed when nothing,
+ * not even a pong, came for link_timeout_ms: a link that went silent without
+ * closing (a robot gone out of radio range) lets its robot's name go within
+ * that bound, and its session then waits as above. A connection the hub is
+ * not reading (receive flow, below) is not judged: its frames wait in TCP;
+ * if it reads nothing at all, the full reply queue closes it.
+ *
  * Ownership: the hub owns every lc_conn and robot session. A connection
  * lives from lc_hub_open to lc_hub_close (the transport's close callback);
- * a robot session lives as long as its robot's connection. Message buffers
- * have `headroom` free bytes before the text (the transport's LWS_PRE).
+ * a robot session from its first hello to grace_ms after its last
+ * connection closed. Message buffers have `headroom` free bytes before the
+ * text (the transport's LWS_PRE).
  */
 #ifndef LC_ROBOTS_H
 #define LC_ROBOTS_H
@@ -88,8 +105,9 @@ typedef struct lc_peer {
  * are then closed (1008) without reading anything they send.
  */
 lc_conn *lc_hub_open(lc_hub *hub, void *conn_user, const lc_peer *peer, double now);
-/* The transport closed the connection: forget it (and its robot session). */
-void lc_hub_close(lc_hub *hub, lc_conn *conn);
+/* The transport closed the connection: forget it; its robot session, if
+ * any, waits grace_ms for a resume. */
+void lc_hub_close(lc_hub *hub, lc_conn *conn, double now);
 int lc_hub_connections(const lc_hub *hub);
 
 /*
@@ -114,6 +132,14 @@ void lc_conn_pop(lc_conn *conn);
  */
 bool lc_conn_reading(lc_conn *conn);
 
+/*
+ * Liveness: the transport calls lc_hub_heard when a pong arrives (every
+ * received chunk counts by itself), and sends a ping (before the queued
+ * messages) when lc_conn_take_ping returns true.
+ */
+void lc_hub_heard(lc_hub *hub, lc_conn *conn, double now);
+bool lc_conn_take_ping(lc_conn *conn);
+
 /* True once the connection is to be closed after its queue drained. */
 bool lc_conn_closing(const lc_conn *conn);
 int lc_conn_close_status(const lc_conn *conn, const char **reason);
@@ -122,7 +148,8 @@ int lc_conn_close_status(const lc_conn *conn, const char **reason);
 double lc_hub_tick(lc_hub *hub, double now);
 double lc_hub_deadline(const lc_hub *hub);
 
-/* Shutdown: a last stop setpoint to every robot, then close everything. */
+/* Shutdown: a last stop setpoint to every robot, then close everything;
+ * no session waits for a resume any more. */
 void lc_hub_shutdown(lc_hub *hub, double now);
 /* SIGHUP: reopen the recording files. */
 void lc_hub_reopen(lc_hub *hub);

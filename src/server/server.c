@@ -1,6 +1,6 @@
 /*
  * server.c - see server.h. libwebsockets 4.1 notes that shape this file
- * (LIBNOTES.md): an IPv4 iface alone still listens on every interface
+ * (docs/LIBNOTES.md): an IPv4 iface alone still listens on every interface
  * unless IPv6 is disabled; permessage-deflate stays off; lws_write only in
  * the WRITEABLE callback, one message per callback; timers are lws_sul,
  * and no protocol work is done after lws_service returns except reacting
@@ -130,9 +130,24 @@ static int close_with(struct lws *wsi, lc_conn *conn)
     return -1;
 }
 
+/* A ping the hub asked for (robots.h, liveness); the peer's pong comes back
+ * as LWS_CALLBACK_RECEIVE_PONG. */
+static int send_ping(struct lws *wsi)
+{
+    unsigned char buf[LWS_PRE + 2] = {0};
+    buf[LWS_PRE] = 'l';
+    buf[LWS_PRE + 1] = 'c';
+    if (lws_write(wsi, buf + LWS_PRE, 2, LWS_WRITE_PING) < 2)
+        return -1;
+    lws_callback_on_writable(wsi); /* the queued messages, if any, next */
+    return 0;
+}
+
 static int writeable(struct lws *wsi, lc_conn *conn)
 {
     size_t len = 0;
+    if (!lc_conn_closing(conn) && lc_conn_take_ping(conn))
+        return send_ping(wsi);
     char *text = lc_conn_peek(conn, &len);
     if (!text)
         return lc_conn_closing(conn) ? close_with(wsi, conn) : 0;
@@ -154,6 +169,31 @@ static void copy_header(struct lws *wsi, char *buf, int n, enum lws_token_indexe
 }
 
 /*
+ * An HTTP answer with a one-line plain-text body (reason and a newline),
+ * written at once while the request's headers are still bound, then the
+ * connection closes. The status line is written here: at the handshake
+ * libwebsockets 4.1 has not yet noted the request's HTTP version and its
+ * header helpers would say HTTP/1.0, which websocket clients (python3-
+ * websockets) refuse to read. 1 (answered), or -1 to hang up.
+ */
+static int answer_http(struct lws *wsi, int status, const char *title, const char *reason)
+{
+    char buf[LWS_PRE + 512];
+    char *text = buf + LWS_PRE;
+    size_t room = sizeof buf - LWS_PRE;
+    int body = (int)strlen(reason) + 1;
+    int n = snprintf(text, room,
+                     "HTTP/1.1 %d %s\r\ncontent-type: text/plain; charset=utf-8\r\n"
+                     "content-length: %d\r\nconnection: close\r\n\r\n%s\n",
+                     status, title, body, reason);
+    if (n < 0 || (size_t)n >= room)
+        return -1;
+    if (lws_write(wsi, (unsigned char *)text, (size_t)n, LWS_WRITE_HTTP_HEADERS) != n)
+        return -1;
+    return 1;
+}
+
+/*
  * The handshake: past max_connections (or while shutting down) it is
  * refused at once with HTTP 503, spending no connection on it; Origin and
  * the per-address limit are judged by the hub once it is open, so that the
@@ -167,8 +207,7 @@ static int filter(server *s, struct lws *wsi, struct pss *pss)
                                       : "lacuna: too many connections (max_connections)";
         lc_log(LC_LOG_WARN, "websocket handshake refused (%s)",
                s->shutting ? "shutting down" : "max_connections");
-        lws_return_http_status(wsi, HTTP_STATUS_SERVICE_UNAVAILABLE, why);
-        return 1;
+        return answer_http(wsi, 503, "Service Unavailable", why);
     }
     lws_get_peer_simple(wsi, pss->addr, sizeof pss->addr);
     copy_header(wsi, pss->origin, sizeof pss->origin, WSI_TOKEN_ORIGIN);
@@ -223,6 +262,10 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
         else
             flow(wsi, pss);
         break;
+    case LWS_CALLBACK_RECEIVE_PONG:
+        if (pss->conn)
+            lc_hub_heard(s->hub, pss->conn, now_s());
+        break;
     case LWS_CALLBACK_SERVER_WRITEABLE:
         if (!pss->conn)
             return -1;
@@ -232,7 +275,7 @@ static int callback(struct lws *wsi, enum lws_callback_reasons reason, void *use
         break;
     case LWS_CALLBACK_CLOSED:
         if (pss->conn)
-            lc_hub_close(s->hub, pss->conn);
+            lc_hub_close(s->hub, pss->conn, now_s());
         pss->conn = NULL;
         break;
     default:
@@ -276,24 +319,58 @@ static int filter_http(server *s, struct lws *wsi, const char *uri, size_t len)
     return 1;
 }
 
+/* Whether the Sec-WebSocket-Protocol list (comma separated) names ours. */
+static bool offers_ours(const char *list)
+{
+    size_t n = strlen(LC_WIRE_PROTOCOL);
+    for (const char *p = list; *p;) {
+        while (*p == ' ' || *p == '\t' || *p == ',')
+            p++;
+        size_t k = strcspn(p, ", \t");
+        if (k == n && strncmp(p, LC_WIRE_PROTOCOL, n) == 0)
+            return true;
+        p += k;
+    }
+    return false;
+}
+
 /*
- * protocols[0] serves the static files; libwebsockets also hands it the
- * websocket connections that asked for no subprotocol: refuse those rather
- * than leave them unanswered.
+ * A websocket handshake that does not offer our subprotocol gets HTTP 400
+ * and a reason before libwebsockets would pick a protocol for it (with
+ * none offered it would take the HTTP one; with another one only it would
+ * hang up without an answer). The offer is shown in the log, cut and with
+ * control bytes replaced.
  */
+static int confirm_upgrade(struct lws *wsi)
+{
+    char offered[128] = "", addr[48] = "", why[200];
+    copy_header(wsi, offered, sizeof offered, WSI_TOKEN_PROTOCOL);
+    if (offers_ours(offered))
+        return 0;
+    for (char *c = offered; *c; c++)
+        if (*c < 0x20 || *c > 0x7e)
+            *c = '?';
+    lws_get_peer_simple(wsi, addr, sizeof addr);
+    if (offered[0])
+        snprintf(why, sizeof why, "lacuna: websocket subprotocol %s required, offered '%s'",
+                 LC_WIRE_PROTOCOL, offered);
+    else
+        snprintf(why, sizeof why, "lacuna: websocket subprotocol %s required, none offered",
+                 LC_WIRE_PROTOCOL);
+    lc_log(LC_LOG_WARN, "websocket handshake from %s refused with 400: %s", addr[0] ? addr : "?",
+           why + strlen("lacuna: "));
+    return answer_http(wsi, 400, "Bad Request", why);
+}
+
+/* protocols[0]: the static files, and the check of every websocket handshake. */
 static int http_callback(struct lws *wsi, enum lws_callback_reasons reason, void *user, void *in,
                          size_t len)
 {
     server *s = lws_context_user(lws_get_context(wsi));
     if (reason == LWS_CALLBACK_FILTER_HTTP_CONNECTION && s->web_root[0])
         return filter_http(s, wsi, in, len);
-    if (reason == LWS_CALLBACK_ESTABLISHED) {
-        static const char why[] = "subprotocol lacuna.v1 required";
-        lc_log(LC_LOG_WARN, "websocket without subprotocol %s refused", LC_WIRE_PROTOCOL);
-        lws_close_reason(wsi, LWS_CLOSE_STATUS_POLICY_VIOLATION, (unsigned char *)why,
-                         sizeof why - 1);
-        return -1;
-    }
+    if (reason == LWS_CALLBACK_HTTP_CONFIRM_UPGRADE && in && strcmp(in, "websocket") == 0)
+        return confirm_upgrade(wsi);
     return lws_callback_http_dummy(wsi, reason, user, in, len);
 }
 

@@ -1,6 +1,6 @@
 /*
  * server.h - the daemon's event loop: one libwebsockets context, one port,
- * the static viewer page over HTTP and the websocket protocol lacuna.v1 on
+ * the static viewer page over HTTP and the websocket protocol lacuna.v2 on
  * the same port. The protocol itself lives in the hub (robots.h); this file
  * is the transport, the timers (lws_sul), signals and the loop.
  *

@@ -4,7 +4,7 @@
  *
  * Polygons are closed rings in the world frame (any orientation, simple);
  * a polygon of two vertices is a thin wall (a segment). The scanner model
- * is CONTRACT.md's `sensor`: beams spread evenly over fov, centred on the
+ * is docs/INTERFACES.md's `sensor`: beams spread evenly over fov, centred on the
  * mount's x axis; range noise is Gaussian with the given deviation, drawn
  * from a caller-owned seeded generator so runs repeat exactly.
  */

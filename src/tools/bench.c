@@ -16,10 +16,10 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/resource.h>
 #include <sys/utsname.h>
 #include <unistd.h>
 
+#include "bench_search.h"
 #include "cli.h"
 #include "clock_mono.h"
 #include "codec.h"
@@ -38,16 +38,21 @@ static const char usage[] =
     "obstacles, both robot models. For each case: median and p99 per frame (and\n"
     "p99 over the frames the OS did not switch away from: on a shared machine\n"
     "other processes' time slices otherwise decide it), frames per second,\n"
-    "per-stage times, inflation rounds per frame. Then the\n"
-    "ellipse solver beside the general-purpose reference solver on the same\n"
-    "polygons, and the log-log slope of time over beams and over obstacles.\n"
+    "per-stage times, inflation rounds per frame, and the frames without a\n"
+    "guidance search apart (median and p99, the OS's switches left out).\n"
+    "Then the ellipse solver beside\n"
+    "the general-purpose reference solver on the same polygons, the log-log\n"
+    "slope of time over beams and over obstacles, and the guidance search on\n"
+    "its own: 200 searches over a memory that holds a whole cluttered hall\n"
+    "(median, p99, and its share of a frame at the search cadence).\n"
     "\n"
     "  --json       one JSON object on stdout (the default when not a terminal)\n"
     "  --frames N   timed frames per case (default 400); with --case, a fixed\n"
     "               amount of work for instruction counts under callgrind\n"
     "  --case NAME  run only the case of that name (see the list it prints), or\n"
     "               'ellipse' for the solver comparison alone, 'codec' for the\n"
-    "               decoding of one 1081-beam scan message alone\n"
+    "               decoding of one 1081-beam scan message alone, 'search' for\n"
+    "               the guidance search alone\n"
     "  --quick      a tiny run (for the test suite): two cases, 20 frames\n"
     "\n"
     "lacuna bench --roundtrip [--rate HZ] [--seconds S] [--beams N] [--runs N]\n"
@@ -72,6 +77,9 @@ typedef struct bench_case {
     double p99_kept; /* over the frames the OS did not switch away from */
     int preempted;   /* frames during which this thread was switched out */
     double stage_median[LC_STAGE_COUNT];
+    int searches;                   /* frames on which guidance searched */
+    double median_quiet, p99_quiet; /* over the frames without a search that the OS
+                                       did not switch away from */
 } bench_case;
 
 typedef struct bench_opts {
@@ -80,67 +88,10 @@ typedef struct bench_opts {
     const char *only;
 } bench_opts;
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return x < y ? -1 : x > y;
-}
-
-static double quantile(double *v, int n, double q)
-{
-    qsort(v, (size_t)n, sizeof *v, cmp_double);
-    int k = (int)(q * (n - 1) + 0.5);
-    return v[k < 0 ? 0 : (k >= n ? n - 1 : k)];
-}
-
-static uint64_t mix(uint64_t *s)
-{
-    uint64_t z = (*s += 0x9e3779b97f4a7c15ull);
-    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
-    z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
-    return z ^ (z >> 31);
-}
-
-static double uni(uint64_t *s, double lo, double hi)
-{
-    return lo + (hi - lo) * ((double)(mix(s) >> 11) * 0x1.0p-53);
-}
-
-/* Boxes of 0.2-0.8 m scattered over a 20 m square, none within 1.5 m of the
- * robot, inside a walled 22 m hall: the clutter of a busy site. */
-static void clutter(lc_world *w, int count, uint64_t seed)
-{
-    lc_world_init(w);
-    uint64_t s = seed;
-    for (int k = 0; k < count;) {
-        double x = uni(&s, -10, 10), y = uni(&s, -10, 10);
-        if (x * x + y * y < 1.5 * 1.5)
-            continue;
-        double a = uni(&s, 0.2, 0.8), b = uni(&s, 0.2, 0.8);
-        lc_vec2 v[4] = {{x, y}, {x + a, y}, {x + a, y + b}, {x, y + b}};
-        lc_world_add(w, v, 4);
-        k++;
-    }
-    lc_vec2 hall[4] = {{-11, -11}, {11, -11}, {11, 11}, {-11, 11}};
-    for (int i = 0; i < 4; i++) {
-        lc_vec2 seg[2] = {hall[i], hall[(i + 1) % 4]};
-        lc_world_add(w, seg, 2);
-    }
-}
-
-/* Context switches of this thread so far: a frame during which it moved was
- * descheduled (another process on a shared machine), and its wall time
- * measures the scheduler, not the planner. */
-static long switches(void)
-{
-    struct rusage u;
-    return getrusage(RUSAGE_THREAD, &u) == 0 ? u.ru_nvcsw + u.ru_nivcsw : 0;
-}
-
 static void run_case(bench_case *c, const bench_opts *o)
 {
     lc_world w;
-    clutter(&w, c->obstacles, 1000u + (uint64_t)c->obstacles);
+    lc_bench_clutter(&w, c->obstacles, 1000u + (uint64_t)c->obstacles);
     lc_sensor s;
     lc_sensor_default(&s);
     s.beams = c->beams;
@@ -158,7 +109,8 @@ static void run_case(bench_case *c, const bench_opts *o)
     int frames = o->frames, warm = o->quick ? 5 : 50;
     double *t = malloc(sizeof *t * (size_t)frames * (LC_STAGE_COUNT + 2));
     double *kept = t + frames * (LC_STAGE_COUNT + 1), rounds = 0, iters = 0;
-    int nkept = 0;
+    int nkept = 0, nquiet = 0;
+    double *quiet = malloc(sizeof *quiet * (size_t)frames);
     lc_plan_result r;
     for (int i = -warm; i < frames; i++) {
         int k = (i + warm) % BENCH_FRAME_SETS;
@@ -167,29 +119,37 @@ static void run_case(bench_case *c, const bench_opts *o)
                       .angle_step = lc_sensor_angle_step(&s), .range_min = s.range_min,
                       .range_max = s.range_max, .ranges = ranges + k * c->beams,
                       .n_ranges = c->beams};
-        long sw = switches();
+        long sw = lc_bench_switches();
         double t0 = lc_mono_us();
         lc_session_step(ses, &f, 0.05, &r);
         double dt = lc_mono_us() - t0;
         if (i < 0)
             continue;
         t[i] = dt;
-        if (switches() == sw)
+        bool whole = lc_bench_switches() == sw;
+        if (whole)
             kept[nkept++] = dt;
+        if (r.guide.searched)
+            c->searches++;
+        else if (whole)
+            quiet[nquiet++] = dt;
         for (int st = 0; st < LC_STAGE_COUNT; st++)
             t[frames * (st + 1) + i] = r.stage_us[st];
         rounds += r.region ? r.region->rounds : 0;
         iters += r.ellipse_iterations;
     }
-    c->median = quantile(t, frames, 0.5);
-    c->p99 = quantile(t, frames, 0.99);
-    c->p99_kept = nkept ? quantile(kept, nkept, 0.99) : NAN;
+    c->median = lc_bench_quantile(t, frames, 0.5);
+    c->p99 = lc_bench_quantile(t, frames, 0.99);
+    c->p99_kept = nkept ? lc_bench_quantile(kept, nkept, 0.99) : NAN;
+    c->median_quiet = nquiet ? lc_bench_quantile(quiet, nquiet, 0.5) : NAN;
+    c->p99_quiet = nquiet ? lc_bench_quantile(quiet, nquiet, 0.99) : NAN;
+    free(quiet);
     c->preempted = frames - nkept;
     c->fps = c->median > 0 ? 1e6 / c->median : 0;
     c->rounds = rounds / frames;
     c->iterations = iters / frames;
     for (int st = 0; st < LC_STAGE_COUNT; st++)
-        c->stage_median[st] = quantile(t + frames * (st + 1), frames, 0.5);
+        c->stage_median[st] = lc_bench_quantile(t + frames * (st + 1), frames, 0.5);
     free(t);
     free(ranges);
     lc_session_free(ses);
@@ -203,14 +163,15 @@ static void random_polygon(uint64_t *s, lc_halfspace *h, int n)
     double ang[64], gap;
     do {
         for (int i = 0; i < n; i++)
-            ang[i] = uni(s, 0, 2 * LC_PI);
-        qsort(ang, (size_t)n, sizeof *ang, cmp_double);
+            ang[i] = lc_bench_uniform(s, 0, 2 * LC_PI);
+        lc_bench_sort(ang, n);
         gap = ang[0] + 2 * LC_PI - ang[n - 1];
         for (int i = 1; i < n; i++)
             gap = fmax(gap, ang[i] - ang[i - 1]);
     } while (gap >= LC_PI - 0.2);
-    double a = uni(s, 0.5, 4), b = uni(s, 0.5, 4), rot = uni(s, 0, LC_PI);
-    lc_vec2 c = lc_v2(uni(s, -5, 5), uni(s, -5, 5));
+    double a = lc_bench_uniform(s, 0.5, 4), b = lc_bench_uniform(s, 0.5, 4);
+    double rot = lc_bench_uniform(s, 0, LC_PI);
+    lc_vec2 c = lc_v2(lc_bench_uniform(s, -5, 5), lc_bench_uniform(s, -5, 5));
     for (int i = 0; i < n; i++) {
         lc_vec2 nrm = lc_rotate(lc_v2(cos(ang[i]) / a, sin(ang[i]) / b), rot);
         double l = lc_len(nrm);
@@ -263,8 +224,8 @@ static void run_ellipse(ellipse_cmp *e, int sides, int polygons)
                 e->max_rel_gap = gap;
         }
     }
-    e->lacuna_us = quantile(tl, polygons, 0.5);
-    e->reference_us = nr ? quantile(tr, nr, 0.5) : NAN;
+    e->lacuna_us = lc_bench_quantile(tl, polygons, 0.5);
+    e->reference_us = nr ? lc_bench_quantile(tr, nr, 0.5) : NAN;
     e->ratio = nr ? e->reference_us / e->lacuna_us : NAN;
     e->lacuna_iters /= polygons;
     free(tl);
@@ -304,7 +265,7 @@ static double time_decode(const char *text, bool slow, int reps, lc_wire_buffers
         if (i >= 0)
             t[i] = dt;
     }
-    double med = quantile(t, reps, 0.5);
+    double med = lc_bench_quantile(t, reps, 0.5);
     free(t);
     return med;
 }
@@ -413,7 +374,8 @@ static void print_num(double x)
 }
 
 static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne, double slope_b,
-                       double slope_o, const codec_cmp *cd, const char *mach)
+                       double slope_o, const codec_cmp *cd, const lc_bench_search *sr,
+                       const char *mach)
 {
     printf("{\"machine\": \"%s\", \"build\": \"%s\", \"sanitize\": \"%s\",\n \"cases\": [", mach,
            LC_BUILD_TYPE, LC_BUILD_SANITIZE);
@@ -421,11 +383,12 @@ static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne,
         printf("%s\n  {\"name\": \"%s\", \"beams\": %d, \"obstacles\": %d, \"model\": \"%s\", "
                "\"median_us\": %.2f, \"p99_us\": %.2f, \"p99_unpreempted_us\": %.2f, "
                "\"preempted\": %d, \"fps\": %.0f, \"rounds\": %.2f, "
-               "\"ellipse_iterations\": %.1f, \"stages\": {",
+               "\"ellipse_iterations\": %.1f, \"searches\": %d, "
+               "\"median_no_search_us\": %.2f, \"p99_no_search_us\": %.2f, \"stages\": {",
                i ? "," : "", c[i].name, c[i].beams, c[i].obstacles,
                c[i].model == LC_MODEL_UNICYCLE ? "unicycle" : "point", c[i].median, c[i].p99,
                isfinite(c[i].p99_kept) ? c[i].p99_kept : c[i].p99, c[i].preempted, c[i].fps,
-               c[i].rounds, c[i].iterations);
+               c[i].rounds, c[i].iterations, c[i].searches, c[i].median_quiet, c[i].p99_quiet);
         for (int s = 0; s < LC_STAGE_COUNT; s++)
             printf("%s\"%s\": %.2f", s ? ", " : "", lc_stage_name((lc_stage)s), c[i].stage_median[s]);
         printf("}}");
@@ -469,11 +432,20 @@ static void print_json(const bench_case *c, int n, const ellipse_cmp *e, int ne,
         print_num(cd->cjson_mm_us);
         printf("}");
     }
+    if (sr)
+        printf(",\n \"search\": {\"searches\": %d, \"no_path\": %d, \"window_m\": %.1f, "
+               "\"median_us\": %.2f, \"p99_us\": %.2f, \"p99_unpreempted_us\": %.2f, "
+               "\"preempted\": %d, \"mean_us\": %.2f, "
+               "\"expanded\": %.0f, \"cadence_frames\": %.1f, \"amortised_us\": %.2f}",
+               sr->searches, sr->no_path, sr->window, sr->median_us, sr->p99_us,
+               sr->p99_kept_us, sr->preempted, sr->mean_us,
+               sr->expanded, sr->cadence, sr->amortised_us);
     printf("}\n");
 }
 
 static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne, double slope_b,
-                       double slope_o, const codec_cmp *cd, const char *mach)
+                       double slope_o, const codec_cmp *cd, const lc_bench_search *sr,
+                       const char *mach)
 {
     printf("lacuna bench - %s, %s build%s%s\n\n", mach, LC_BUILD_TYPE,
            strcmp(LC_BUILD_SANITIZE, "none") ? ", sanitizers " : "",
@@ -489,6 +461,14 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
             printf("\n");
         }
         printf("(p99 kept: over the frames during which the OS did not switch this thread out)\n");
+        printf("\n%-22s %9s %12s %12s\n", "case", "searches", "median quiet", "p99 quiet");
+        for (int i = 0; i < n; i++)
+            printf("%-22s %9d %12.1f %12.1f\n", c[i].name, c[i].searches, c[i].median_quiet,
+                   c[i].p99_quiet);
+        printf("(quiet: the frames on which guidance did not search and the OS did not\n"
+               " switch this thread out; the robot barely moves\n"
+               " here, so it searches every %d frames, the cadence of a robot that stays put)\n",
+               10 * 10);
     }
     if (isfinite(slope_b) || isfinite(slope_o))
         printf("\nlog-log slope of the median: over beams %.2f, over obstacles %.2f\n", slope_b,
@@ -507,10 +487,18 @@ static void print_text(const bench_case *c, int n, const ellipse_cmp *e, int ne,
                    e[i].reference_us, e[i].ratio, e[i].max_rel_gap);
         printf("\n");
     }
+    if (sr)
+        printf("\nguidance search over a %.0f m window of remembered clutter (%d searches, %d "
+               "without a way):\n  median %.1f us, p99 %.1f us (%.1f kept), mean %.1f us, %.0f "
+               "cells expanded on average;\n  one search each %.1f frames at top speed: %.1f us "
+               "a frame amortised\n",
+               sr->window, sr->searches, sr->no_path, sr->median_us, sr->p99_us,
+               sr->p99_kept_us, sr->mean_us,
+               sr->expanded, sr->cadence, sr->amortised_us);
     if (cd)
         printf("\ndecoding one %d-beam scan message (median per decode):\n"
-               "  millimetre ranges (%zu bytes): %.1f us; the cJSON path alone %.1f us\n"
-               "  17-digit ranges (%zu bytes):   %.1f us\n",
+               "  millimetre distances (%zu bytes): %.1f us; the cJSON path alone %.1f us\n"
+               "  17-digit distances (%zu bytes):   %.1f us\n",
                cd->beams, cd->bytes_mm, cd->fast_mm_us, cd->cjson_mm_us, cd->bytes_full,
                cd->fast_full_us);
 }
@@ -563,11 +551,12 @@ int lc_tool_bench(int argc, char **argv)
     }
     if (progress)
         fprintf(stderr, "\r%60s\r", "");
-    if (o.only && kept == 0 && strcmp(o.only, "ellipse") != 0 && strcmp(o.only, "codec") != 0) {
+    if (o.only && kept == 0 && strcmp(o.only, "ellipse") != 0 && strcmp(o.only, "codec") != 0 &&
+        strcmp(o.only, "search") != 0) {
         fprintf(stderr, "lacuna bench: no case named '%s'; the cases:", o.only);
         for (int i = 0; i < n; i++)
             fprintf(stderr, " %s", cases[i].name);
-        fprintf(stderr, " ellipse codec\n");
+        fprintf(stderr, " ellipse codec search\n");
         return LC_EXIT_USAGE;
     }
     double xb[8], yb[8], xo[8], yo[8];
@@ -593,11 +582,19 @@ int lc_tool_bench(int argc, char **argv)
     bool codec = !o.only || strcmp(o.only, "codec") == 0;
     if (codec)
         run_codec(&cd, 1081, o.quick ? 20 : 400);
+    lc_bench_search sr;
+    bool search = !o.only || strcmp(o.only, "search") == 0;
+    if (search && lc_bench_search_run(&sr, o.quick ? 5 : 200) < 0) {
+        fprintf(stderr, "lacuna bench: out of memory in the search bench\n");
+        return LC_EXIT_FAIL;
+    }
     char mach[200];
     machine(mach, sizeof mach);
     if (o.json)
-        print_json(cases, kept, e, ne, slope_b, slope_o, codec ? &cd : NULL, mach);
+        print_json(cases, kept, e, ne, slope_b, slope_o, codec ? &cd : NULL,
+                   search ? &sr : NULL, mach);
     else
-        print_text(cases, kept, e, ne, slope_b, slope_o, codec ? &cd : NULL, mach);
+        print_text(cases, kept, e, ne, slope_b, slope_o, codec ? &cd : NULL,
+                   search ? &sr : NULL, mach);
     return fflush(stdout) == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
 }

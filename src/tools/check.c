@@ -2,7 +2,7 @@
  * check.c - `lacuna check`: stopping-distance advice for a configuration.
  *
  * d = v t_r + v^2 / (2 a) (reaction distance plus braking distance, common
- * practice; REFERENCES.md check values: 1.0 m/s, 0.1 s, 1.0 m/s^2 -> 0.60 m).
+ * practice; docs/REFERENCES.md check values: 1.0 m/s, 0.1 s, 1.0 m/s^2 -> 0.60 m).
  * lacuna warns when d reaches half the sensor's useful range: beyond that a
  * person stepping out at the edge of what the sensor sees leaves too little
  * room. Given the robot's shape (--radius, or --footprint as the robot

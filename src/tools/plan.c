@@ -1,9 +1,9 @@
 /*
- * plan.c - `lacuna plan [FILE|-]`: one plan request in (CONTRACT.md), one
- * plan result out. Each of the request's frames is one step of a fresh
- * session (in order: the memory holds them all), the same lc_session_step
- * that replay, sim, bench and the server call; the result is the last
- * frame's.
+ * plan.c - `lacuna plan [FILE|-]`: one plan request in (docs/INTERFACES.md),
+ * one plan result out. Each of the request's frames is one step of a fresh
+ * session (in order: the memory holds them all) through lc_session_step,
+ * the step that replay, sim and the server reach through lc_session_drive,
+ * with the request's dt; the result is the last frame's.
  */
 #include <stdio.h>
 #include <stdlib.h>

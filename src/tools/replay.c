@@ -6,7 +6,7 @@
  *
  * A setpoint differs when its velocity pair differs by more than the
  * tolerance (max_diff is the largest such difference), or when its seq,
- * state, limit, waypoint or model differ at all. Also the helpers sim
+ * state, limit, waypoint, valid_ms or model differ at all. Also the helpers sim
  * shares (replay.h), so a sim run and its replay take identical steps.
  */
 #include "replay.h"
@@ -34,7 +34,8 @@ static const char usage[] =
     "\n"
     "  --expect FILE    compare with the setpoints of FILE instead, in order\n"
     "  --tolerance X    largest velocity difference accepted (default 1e-9);\n"
-    "                   seq, state, limit and waypoint must match exactly\n"
+    "                   seq, state, limit, waypoint and valid_ms must match\n"
+    "                   exactly\n"
     "  --out FILE       write the run again with the setpoints produced now\n"
     "  --svg FILE       render the run (obstacles seen, regions, trajectory)\n"
     "  --json           JSON on stdout even on a terminal\n"
@@ -201,13 +202,16 @@ static void report(const replay *r, const char *file, int line, const lc_wire_se
     bool uni = got->model == LC_MODEL_UNICYCLE;
     fprintf(stderr,
             "lacuna replay: %s:%d: setpoint seq %lld differs: produced %s %.17g %.17g %s/%s "
-            "waypoint %d, recorded seq %lld %s %.17g %.17g %s/%s waypoint %d (diff %.3g)\n",
+            "waypoint %d valid_ms %d, recorded seq %lld %s %.17g %.17g %s/%s waypoint %d "
+            "valid_ms %d (diff %.3g)\n",
             file, line, (long long)got->seq, uni ? "v,w" : "vx,vy", uni ? got->sp.v : got->sp.vx,
             uni ? got->sp.w : got->sp.vy, lc_state_name(got->state), lc_limit_name(got->sp.limit),
-            got->waypoint, (long long)want->seq, want->model == LC_MODEL_UNICYCLE ? "v,w" : "vx,vy",
+            got->waypoint, got->valid_ms, (long long)want->seq,
+            want->model == LC_MODEL_UNICYCLE ? "v,w" : "vx,vy",
             want->model == LC_MODEL_UNICYCLE ? want->sp.v : want->sp.vx,
             want->model == LC_MODEL_UNICYCLE ? want->sp.w : want->sp.vy,
-            lc_state_name(want->state), lc_limit_name(want->sp.limit), want->waypoint, diff);
+            lc_state_name(want->state), lc_limit_name(want->sp.limit), want->waypoint,
+            want->valid_ms, diff);
 }
 
 static void compare(replay *r, const char *file, int line, const lc_wire_setpoint *want)
@@ -215,7 +219,8 @@ static void compare(replay *r, const char *file, int line, const lc_wire_setpoin
     const lc_wire_setpoint *got = &r->produced;
     double diff = pair_diff(got, want);
     bool same = diff <= r->o->tolerance && got->seq == want->seq && got->state == want->state &&
-                got->sp.limit == want->sp.limit && got->waypoint == want->waypoint;
+                got->sp.limit == want->sp.limit && got->waypoint == want->waypoint &&
+                got->valid_ms == want->valid_ms;
     r->compared++;
     if (isfinite(diff))
         r->max_diff = fmax(r->max_diff, diff);
@@ -280,8 +285,9 @@ static int on_message(replay *r, const lc_wire_msg *m, int line)
             return 0;
         if (r->pending)
             compare(r, r->o->file, line, &m->u.setpoint);
-        else if (m->u.setpoint.state == LC_STATE_STALE) /* the server's watchdog */
-            lc_session_stop(r->s, LC_STATE_STALE, LC_LIMIT_STALE, NULL);
+        else if (m->u.setpoint.state == LC_STATE_STALE ||
+                 m->u.setpoint.state == LC_STATE_SHUTDOWN) /* the watchdog's, the last stop */
+            lc_session_stop(r->s, m->u.setpoint.state, m->u.setpoint.sp.limit, NULL);
         else if (r->unpaired++ == 0)
             fprintf(stderr, "lacuna replay: %s:%d: setpoint without a frame before it\n",
                     r->o->file, line);

@@ -4,7 +4,7 @@
  * Frame after frame, in time order across the header's sensors (a 40 Hz
  * scanner and a 30 Hz camera interleave, simsensors.h): a ray-cast scan or
  * set of points from the true pose (range noise from --seed), one
- * lc_session_step, then the robot follows that frame's setpoint exactly
+ * lc_session_drive, then the robot follows that frame's setpoint exactly
  * (zero-order hold, no slip) until the next frame of any sensor (one
  * control period, 1 / rate, with a single sensor), integrated in substeps
  * of at most 1 ms: the point model moves by its robot-frame
@@ -17,14 +17,16 @@
  *
  * The run ends when the route is done (a looping route: once its last
  * waypoint has been reached, the "lap" event), when the robot has been `blocked`
- * or `too_close` (the session then stops it entirely) for BLOCKED_HOLD s
- * without a break (the world is static: it stays so; outcome "blocked"
- * when a `blocked` frame came in that time, else "stuck"), or at the time limit (outcome "timeout"; --max-time,
+ * (held: the world is static, it stays so) for BLOCKED_HOLD s without a
+ * break (outcome "blocked"), or `too_close` for STUCK_HOLD s without a
+ * break (outcome "stuck": easing out of the margin, a unicycle may first
+ * turn round, and that takes a few seconds), or at the time limit (outcome "timeout"; --max-time,
  * else the header's max_time, else 600 s).
  * Success (exit 0) is the header's expectation met without a collision:
  * expect "done" wants the route finished, expect "blocked" wants the run to
  * end blocked (and nothing hit on the way). Stamps are j / rate of each
- * sensor and dt follows replay.h's rule, so `--out` gives a file `lacuna
+ * sensor and every frame goes through lc_session_drive (the dt rule of
+ * control.h, stored in the --out header), so `--out` gives a file `lacuna
  * replay` reproduces exactly.
  *
  * --connect: the same loop, but each frame goes over the real protocol to a
@@ -119,6 +121,7 @@ void lc_sim_help(FILE *out) { fputs(usage, out); }
 
 #define SUBSTEP_MAX 0.001 /* s */
 #define BLOCKED_HOLD 3.0  /* s */
+#define STUCK_HOLD 10.0   /* s */
 #define DEFAULT_MAX_TIME 600.0
 
 typedef struct sim_opts {
@@ -132,7 +135,7 @@ typedef struct sim_opts {
     double timeout_s; /* with connect */
 } sim_opts;
 
-/* stuck: `too_close` without a break for BLOCKED_HOLD s (the robot may not move). */
+/* stuck: `too_close` without a break for STUCK_HOLD s. */
 typedef enum outcome { OUT_DONE = 0, OUT_BLOCKED, OUT_STUCK, OUT_TIMEOUT, OUT_INTERRUPTED } outcome;
 static const char *const outcome_names[] = {"done", "blocked", "stuck", "timeout",
                                             "interrupted"};
@@ -449,7 +452,7 @@ static int period_step(sim *sm, double *blocked_since)
             sm->hold_blocked = false;
         }
         sm->hold_blocked = sm->hold_blocked || res.state == LC_STATE_BLOCKED;
-        if (stamp - *blocked_since >= BLOCKED_HOLD) {
+        if (stamp - *blocked_since >= (sm->hold_blocked ? BLOCKED_HOLD : STUCK_HOLD)) {
             sm->m.end = sm->hold_blocked ? OUT_BLOCKED : OUT_STUCK;
             return 1;
         }
@@ -755,7 +758,7 @@ int lc_tool_sim(int argc, char **argv)
         rc = sim_run(&sm);
         if (!rc) {
             print_result(&sm);
-            /* CONTRACT.md: 0 only for a route done without a collision */
+            /* docs/INTERFACES.md: 0 only for a route done without a collision */
             rc = sm.m.end == OUT_DONE && sm.m.collisions == 0 ? LC_EXIT_OK : LC_EXIT_FAIL;
         }
         lc_svg_run_free(&sm.svg);

@@ -1,7 +1,7 @@
 /*
  * simlink.h - the simulated robot's side of the wire: what `lacuna sim
  * --connect` uses to have a running `lacuna serve` plan its frames instead
- * of a local session, over the real protocol (CONTRACT.md, lacuna.v1).
+ * of a local session, over the real protocol (docs/INTERFACES.md, lacuna.v2).
  *
  * A link says hello as a robot, sends the robot description and the route,
  * then for every frame sends one scan and waits for the setpoint that

@@ -2,10 +2,11 @@
  * svg.c - one SVG picture of a run (see svg.h).
  *
  * The map keeps metres isotropic (one scale for x and y, y flipped so that
- * up is +y); the clearance plot below it shares nothing but the width. A
- * long run keeps every frame's pose and clearance but draws at most
- * MAX_SNAPSHOTS of the region/obstacle snapshots and MAX_TRAIL trajectory
- * points, evenly spread, so the file stays readable in a browser.
+ * up is +y); the lanes below it (svg_plots.c) share nothing with it but the
+ * width. A long run keeps every frame's pose, clearance, speed, state and
+ * limit but draws at most MAX_SNAPSHOTS of the region/obstacle snapshots
+ * and MAX_TRAIL trajectory points, evenly spread, so the file stays
+ * readable in a browser.
  */
 #include "svg.h"
 
@@ -13,12 +14,13 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define MAP_WIDTH 900.0   /* px */
+#include "svg_parts.h"
+
+#define MAP_WIDTH LC_SVG_WIDTH
 #define MAP_HEIGHT_MAX 900.0
-#define PAD 30.0          /* px around the map and the plot */
-#define PLOT_HEIGHT 180.0 /* px */
+#define PAD LC_SVG_PAD
 #define MAX_SNAPSHOTS 40
-#define MAX_TRAIL 4000
+#define MAX_TRAIL LC_SVG_MAX_TRAIL
 
 void lc_svg_run_init(lc_svg_run *r, int every)
 {
@@ -31,6 +33,11 @@ void lc_svg_run_free(lc_svg_run *r)
     free(r->pose);
     free(r->stamp);
     free(r->clearance);
+    free(r->speed);
+    free(r->turn);
+    free(r->state);
+    free(r->limit);
+    free(r->events);
     lc_polyset_free(&r->regions);
     lc_polyset_free(&r->seen);
     lc_polyset_free(&r->paths);
@@ -40,23 +47,48 @@ void lc_svg_run_free(lc_svg_run *r)
     memset(r, 0, sizeof *r);
 }
 
+/* *p grown to cap items of size bytes; -1 (and *p as it was) when out of memory. */
+static int grow_array(void *p, size_t size, int cap)
+{
+    void **a = p;
+    void *q = realloc(*a, (size_t)cap * size);
+    if (!q)
+        return -1;
+    *a = q;
+    return 0;
+}
+
 static int grow_frames(lc_svg_run *r)
 {
     if (r->n < r->cap)
         return 0;
     int cap = r->cap ? 2 * r->cap : 256;
-    lc_pose *p = realloc(r->pose, (size_t)cap * sizeof *p);
-    if (p)
-        r->pose = p;
-    double *s = p ? realloc(r->stamp, (size_t)cap * sizeof *s) : NULL;
-    if (s)
-        r->stamp = s;
-    double *c = s ? realloc(r->clearance, (size_t)cap * sizeof *c) : NULL;
-    if (!c)
+    if (grow_array(&r->pose, sizeof *r->pose, cap) < 0 ||
+        grow_array(&r->stamp, sizeof *r->stamp, cap) < 0 ||
+        grow_array(&r->clearance, sizeof *r->clearance, cap) < 0 ||
+        grow_array(&r->speed, sizeof *r->speed, cap) < 0 ||
+        grow_array(&r->turn, sizeof *r->turn, cap) < 0 ||
+        grow_array(&r->state, sizeof *r->state, cap) < 0 ||
+        grow_array(&r->limit, sizeof *r->limit, cap) < 0)
         return -1;
-    r->clearance = c;
     r->cap = cap;
     return 0;
+}
+
+/* The frame's events, the first LC_SVG_EVENTS_MAX of the run (the rest counted). */
+static void keep_events(lc_svg_run *r, const lc_plan_result *res)
+{
+    for (int i = 0; i < res->n_events; i++) {
+        if (r->n_events >= LC_SVG_EVENTS_MAX) {
+            r->events_dropped++;
+            continue;
+        }
+        if (!r->events && !(r->events = malloc(LC_SVG_EVENTS_MAX * sizeof *r->events))) {
+            r->failed = 1;
+            return;
+        }
+        r->events[r->n_events++] = res->events[i];
+    }
 }
 
 static bool has_path(const lc_plan_result *res)
@@ -108,9 +140,16 @@ void lc_svg_run_add(lc_svg_run *r, const lc_frame *f, const lc_plan_result *res,
         r->failed = 1;
         return;
     }
+    const lc_setpoint *sp = &res->setpoint;
     r->pose[r->n] = f->pose;
     r->stamp[r->n] = f->stamp;
     r->clearance[r->n] = clearance;
+    /* the pair the model does not use is zero: the larger is the speed */
+    r->speed[r->n] = fmax(hypot(sp->vx, sp->vy), fabs(sp->v));
+    r->turn[r->n] = sp->w;
+    r->state[r->n] = (unsigned char)res->state;
+    r->limit[r->n] = (unsigned char)sp->limit;
+    keep_events(r, res);
     if (r->n % r->every == 0)
         snapshot(r, res, r->n / r->every);
     keep_last(r, res);
@@ -221,13 +260,11 @@ static void put_polylines(FILE *out, const view *v, const lc_polyset *s, int kee
  * target, drawn over the snapshots. */
 static void put_last(FILE *out, const view *v, const lc_svg_run *run)
 {
-    fputs("<g id=\"last\">\n<g fill=\"#cf222e\" fill-opacity=\"0.08\" stroke=\"#cf222e\" "
-          "stroke-opacity=\"0.5\" stroke-width=\"0.6\">\n", out);
+    fputs("<g id=\"last\">\n<g " LC_SVG_STYLE_LAST_GROWN ">\n", out);
     put_set(out, v, &run->last_grown, 0);
-    fputs("</g>\n<g fill=\"#0969da\" fill-opacity=\"0.12\" stroke=\"#0969da\" "
-          "stroke-width=\"1.5\">\n", out);
+    fputs("</g>\n<g " LC_SVG_STYLE_LAST_REGION ">\n", out);
     put_set(out, v, &run->last_region, 0);
-    fputs("</g>\n<g fill=\"none\" stroke=\"#8250df\" stroke-width=\"2\">\n", out);
+    fputs("</g>\n<g " LC_SVG_STYLE_LAST_PATH ">\n", out);
     put_polylines(out, v, &run->last_path, 0);
     fputs("</g>\n", out);
     if (run->has_last_target)
@@ -238,7 +275,7 @@ static void put_last(FILE *out, const view *v, const lc_svg_run *run)
 
 static void put_trajectory(FILE *out, const view *v, const lc_svg_run *run)
 {
-    fputs("<g id=\"trajectory\" fill=\"none\" stroke=\"#1a7f37\" stroke-width=\"2\">\n", out);
+    fputs("<g id=\"trajectory\" " LC_SVG_STYLE_TRAJECTORY ">\n", out);
     if (run->n > 0) {
         int step = run->n > MAX_TRAIL ? (run->n + MAX_TRAIL - 1) / MAX_TRAIL : 1;
         fputs("<polyline points=\"", out);
@@ -256,8 +293,8 @@ static void put_route(FILE *out, const view *v, const lc_route *route)
     for (int i = 0; route && i < route->count; i++) {
         lc_vec2 w = route->waypoints[i];
         fprintf(out,
-                "<circle cx=\"%.2f\" cy=\"%.2f\" r=\"%.2f\" fill=\"#8250df\" fill-opacity=\"0.15\" "
-                "stroke=\"#8250df\"/>\n<text x=\"%.2f\" y=\"%.2f\" fill=\"#8250df\">%d</text>\n",
+                "<circle cx=\"%.2f\" cy=\"%.2f\" r=\"%.2f\" " LC_SVG_STYLE_ROUTE "/>\n"
+                "<text x=\"%.2f\" y=\"%.2f\" fill=\"#8250df\">%d</text>\n",
                 px(v, w.x), py(v, w.y), fmax(route->tolerance * v->scale, 3.0), px(v, w.x) + 6,
                 py(v, w.y) - 6, i);
     }
@@ -290,7 +327,7 @@ static void put_footprint(FILE *out, const view *v, lc_pose p, const lc_svg_scen
 static void put_robot(FILE *out, const view *v, const lc_svg_run *run, const lc_svg_scene *sc,
                       int stride)
 {
-    fputs("<g id=\"robot\" fill=\"#0969da\" fill-opacity=\"0.3\" stroke=\"#0969da\">\n", out);
+    fputs("<g id=\"robot\" " LC_SVG_STYLE_ROBOT ">\n", out);
     if (run->n > 0) {
         if (sc->footprint && sc->n_footprint >= 3)
             for (int i = run->every * stride; i < run->n - 1; i += run->every * stride)
@@ -299,40 +336,6 @@ static void put_robot(FILE *out, const view *v, const lc_svg_run *run, const lc_
         put_footprint(out, v, run->pose[run->n - 1], sc, "end");
     }
     fputs("</g>\n", out);
-}
-
-/* Clearance over time; the red line is zero (contact). */
-static void put_clearance(FILE *out, const view *v, const lc_svg_run *run)
-{
-    double top = v->map_h + 2 * PAD + 20, w = MAP_WIDTH;
-    double t0 = run->n ? run->stamp[0] : 0, t1 = run->n ? run->stamp[run->n - 1] : 1;
-    double cmax = 0.5;
-    for (int i = 0; i < run->n; i++)
-        if (isfinite(run->clearance[i]))
-            cmax = fmax(cmax, fmin(run->clearance[i], 5.0));
-    double span = t1 > t0 ? t1 - t0 : 1, cmin = -0.1 * cmax;
-    double ys = PLOT_HEIGHT / (cmax - cmin);
-    fprintf(out,
-            "<g id=\"clearance\" font-family=\"sans-serif\" font-size=\"12\">\n"
-            "<rect x=\"%.2f\" y=\"%.2f\" width=\"%.2f\" height=\"%.2f\" fill=\"none\" "
-            "stroke=\"#888\"/>\n"
-            "<line x1=\"%.2f\" y1=\"%.2f\" x2=\"%.2f\" y2=\"%.2f\" stroke=\"#cf222e\"/>\n"
-            "<text x=\"%.2f\" y=\"%.2f\">clearance (m) over %.1f s, 0 to %.2f m</text>\n",
-            PAD, top, w, PLOT_HEIGHT, PAD, top + cmax * ys, PAD + w, top + cmax * ys, PAD,
-            top - 5, span, cmax);
-    fputs("<polyline fill=\"none\" stroke=\"#0969da\" points=\"", out);
-    int step = run->n > MAX_TRAIL ? (run->n + MAX_TRAIL - 1) / MAX_TRAIL : 1;
-    bool first = true;
-    for (int i = 0; i < run->n; i += step) {
-        double c = run->clearance[i];
-        if (!isfinite(c))
-            continue;
-        c = fmin(fmax(c, cmin), cmax);
-        fprintf(out, "%s%.2f,%.2f", first ? "" : " ", PAD + (run->stamp[i] - t0) / span * w,
-                top + (cmax - c) * ys);
-        first = false;
-    }
-    fputs("\"/>\n</g>\n", out);
 }
 
 static int snapshot_stride(const lc_svg_run *run)
@@ -344,7 +347,9 @@ static int snapshot_stride(const lc_svg_run *run)
 int lc_svg_write(FILE *out, const lc_svg_run *run, const lc_svg_scene *sc)
 {
     view v = make_view(run, sc);
-    double width = MAP_WIDTH + 2 * PAD, height = v.map_h + 3 * PAD + 20 + PLOT_HEIGHT;
+    double plots_top = v.map_h + 2 * PAD + 20;
+    double width = MAP_WIDTH + 2 * PAD;
+    double height = plots_top + lc_svg_plots_height(run, sc->world != NULL) + PAD;
     fprintf(out,
             "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
             "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%.0f\" height=\"%.0f\" "
@@ -355,26 +360,23 @@ int lc_svg_write(FILE *out, const lc_svg_run *run, const lc_svg_scene *sc)
             run->n, v.scale, v.minx, v.miny, run->failed ? "; partial (out of memory)" : "");
     fputs("<rect width=\"100%\" height=\"100%\" fill=\"white\"/>\n", out);
     if (sc->world) {
-        fputs("<g id=\"world\" fill=\"#57606a\" stroke=\"#24292f\" stroke-width=\"1\">\n", out);
+        fputs("<g id=\"world\" " LC_SVG_STYLE_WORLD ">\n", out);
         put_set(out, &v, sc->world, 0);
         fputs("</g>\n", out);
     }
     int stride = snapshot_stride(run);
-    fputs("<g id=\"seen\" fill=\"#fb8f44\" fill-opacity=\"0.35\" stroke=\"#bc4c00\" "
-          "stroke-width=\"0.5\">\n", out);
+    fputs("<g id=\"seen\" " LC_SVG_STYLE_SEEN ">\n", out);
     put_set(out, &v, &run->seen, stride);
-    fputs("</g>\n<g id=\"regions\" fill=\"#0969da\" fill-opacity=\"0.04\" stroke=\"#0969da\" "
-          "stroke-opacity=\"0.5\" stroke-width=\"0.8\">\n", out);
+    fputs("</g>\n<g id=\"regions\" " LC_SVG_STYLE_REGIONS ">\n", out);
     put_set(out, &v, &run->regions, stride);
-    fputs("</g>\n<g id=\"paths\" fill=\"none\" stroke=\"#8250df\" stroke-opacity=\"0.35\" "
-          "stroke-dasharray=\"4 3\" stroke-width=\"1\">\n", out);
+    fputs("</g>\n<g id=\"paths\" " LC_SVG_STYLE_PATHS ">\n", out);
     put_polylines(out, &v, &run->paths, stride);
     fputs("</g>\n", out);
     put_last(out, &v, run);
     put_trajectory(out, &v, run);
     put_route(out, &v, sc->route);
     put_robot(out, &v, run, sc, stride);
-    put_clearance(out, &v, run);
+    lc_svg_put_plots(out, run, plots_top, sc->world != NULL);
     fputs("</svg>\n", out);
     return ferror(out) ? -1 : 0;
 }

@@ -1,5 +1,5 @@
 /*
- * wsclient.c - see wsclient.h. libwebsockets 4.1 shapes it (LIBNOTES.md): a
+ * wsclient.c - see wsclient.h. libwebsockets 4.1 shapes it (docs/LIBNOTES.md): a
  * context with no listening port; lws_write only inside the WRITEABLE
  * callback, one message per callback, on a buffer with LWS_PRE bytes in
  * front (so outgoing messages wait in our own queue); received messages

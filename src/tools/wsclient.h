@@ -2,7 +2,7 @@
  * wsclient.h - a small websocket client (libwebsockets) for the tools that
  * talk to a running `lacuna serve`: `lacuna sim --connect` and
  * `lacuna bench --connect`. One connection per client, subprotocol
- * lacuna.v1, text messages only, no permessage-deflate (LIBNOTES.md).
+ * lacuna.v2, text messages only, no permessage-deflate (docs/LIBNOTES.md).
  *
  * Single-threaded and pull-driven: the caller queues messages with
  * lc_wsclient_send and runs the event loop through lc_wsclient_poll, which
@@ -32,7 +32,7 @@ int lc_ws_url_parse(const char *text, lc_ws_url *out, char *err, size_t n);
 /*
  * Connects and waits for the websocket handshake up to timeout_s. NULL on
  * failure with a one-line reason in err (refused, no such host, no
- * lacuna.v1 subprotocol, ...).
+ * lacuna.v2 subprotocol, ...).
  */
 lc_wsclient *lc_wsclient_open(const lc_ws_url *url, double timeout_s, char *err, size_t n);
 

@@ -1,7 +1,7 @@
 /*
  * test_ellipse.c - the maximum-area inscribed ellipse (src/core/ellipse.c)
  * against outside references: closed forms and John's theorem
- * (shared/REFERENCES.md), the KKT conditions of the convex program (Boyd and
+ * (docs/REFERENCES.md), the KKT conditions of the convex program (Boyd and
  * Vandenberghe, Convex Optimization, 8.4.2), and Ipopt as a general-purpose
  * solver on random polygons. Random input uses fixed seeds. Scratch is
  * allocated at exactly LC_ELLIPSE_SCRATCH(n) doubles so that the sanitiser
@@ -141,7 +141,7 @@ static poly regular(int n, double radius, lc_vec2 c)
 
 /* ------------------------------------------------------- closed forms */
 
-/* REFERENCES.md, Steiner inellipse of (0,0), (1,0), (0,1). */
+/* docs/REFERENCES.md, Steiner inellipse of (0,0), (1,0), (0,1). */
 static void test_steiner_unit_triangle(void **state)
 {
     (void)state;
@@ -153,8 +153,8 @@ static void test_steiner_unit_triangle(void **state)
     assert_near(r.e.d.y, 1.0 / 3.0, 1e-9);
     double big, small;
     semi_axes(&r.e, &big, &small);
-    assert_near(big, 0.408248, 1e-6);   /* REFERENCES.md */
-    assert_near(small, 0.235702, 1e-6); /* REFERENCES.md */
+    assert_near(big, 0.408248, 1e-6);   /* docs/REFERENCES.md */
+    assert_near(small, 0.235702, 1e-6); /* docs/REFERENCES.md */
     assert_near(lc_ellipse_area(&r.e), 0.302300, 1e-6);
     /* shape matrix M = (1/6) sum (v - g)(v - g)^T, and L L^T = M */
     lc_vec2 g = lc_v2(1.0 / 3.0, 1.0 / 3.0);
@@ -172,7 +172,7 @@ static void test_steiner_unit_triangle(void **state)
     assert_inside_all(&r.e, p.h, p.nh);
 }
 
-/* REFERENCES.md: any triangle, area ratio pi / (3 sqrt 3), centre the centroid. */
+/* docs/REFERENCES.md: any triangle, area ratio pi / (3 sqrt 3), centre the centroid. */
 static void test_random_triangles(void **state)
 {
     (void)state;
@@ -188,7 +188,8 @@ static void test_random_triangles(void **state)
         poly_from_vertices(&p, lc_rng_uniform(&rng, 0.1, 10.0));
         result r = solve(p.h, p.nh, NULL);
         assert_int_equal(r.status, LC_OK);
-        assert_near(lc_ellipse_area(&r.e) / poly_area(&p), 0.604600, 1e-6); /* REFERENCES.md */
+        /* docs/REFERENCES.md */
+        assert_near(lc_ellipse_area(&r.e) / poly_area(&p), 0.604600, 1e-6);
         assert_rel_near(lc_ellipse_area(&r.e) / poly_area(&p), LC_PI / (3.0 * sqrt(3.0)), 1e-7);
         lc_vec2 g = lc_scale(lc_add(lc_add(p.v[0], p.v[1]), p.v[2]), 1.0 / 3.0);
         assert_near(r.e.d.x, g.x, 1e-7 * size);
@@ -197,7 +198,7 @@ static void test_random_triangles(void **state)
     }
 }
 
-/* REFERENCES.md: regular n-gon, the incircle, ratio pi / (n tan(pi/n)). */
+/* docs/REFERENCES.md: regular n-gon, the incircle, ratio pi / (n tan(pi/n)). */
 static void test_regular_polygons(void **state)
 {
     (void)state;
@@ -225,7 +226,7 @@ static void test_regular_polygons(void **state)
                     1e-8);
 }
 
-/* REFERENCES.md: rectangle w x h, semi-axes w/2 and h/2 (also very thin). */
+/* docs/REFERENCES.md: rectangle w x h, semi-axes w/2 and h/2 (also very thin). */
 static void test_rectangles(void **state)
 {
     (void)state;
@@ -245,7 +246,7 @@ static void test_rectangles(void **state)
     }
 }
 
-/* REFERENCES.md: a parallelogram is an affine square: ratio pi/4. */
+/* docs/REFERENCES.md: a parallelogram is an affine square: ratio pi/4. */
 static void test_parallelograms(void **state)
 {
     (void)state;
@@ -265,7 +266,7 @@ static void test_parallelograms(void **state)
     }
 }
 
-/* REFERENCES.md: isosceles trapezoid (-2,0),(2,0),(1,1),(-1,1) (symmetry argument). */
+/* docs/REFERENCES.md: isosceles trapezoid (-2,0),(2,0),(1,1),(-1,1) (symmetry argument). */
 static void test_trapezoid(void **state)
 {
     (void)state;
@@ -282,7 +283,7 @@ static void test_trapezoid(void **state)
     assert_near(lc_ellipse_area(&r.e), 2.221441, 1e-6); /* pi / sqrt 2 */
 }
 
-/* REFERENCES.md: the inscribed ellipse commutes with affine maps. */
+/* docs/REFERENCES.md: the inscribed ellipse commutes with affine maps. */
 static void test_affine_invariance(void **state)
 {
     (void)state;
@@ -319,7 +320,7 @@ static void test_affine_invariance(void **state)
 }
 
 /*
- * John's theorem (REFERENCES.md): K lies inside E scaled by 2 about its
+ * John's theorem (docs/REFERENCES.md): K lies inside E scaled by 2 about its
  * centre (sqrt 2 for centrally symmetric K); and the area ratio is at least
  * that of triangles, pi / (3 sqrt 3).
  */
@@ -338,7 +339,7 @@ static void test_john(void **state)
         assert_int_equal(r.status, LC_OK);
         for (int i = 0; i < p.nv; i++)
             assert_true(lc_ellipse_norm(&r.e, p.v[i]) <= 2.0 + 1e-7);
-        /* 0.604600 in REFERENCES.md is pi / (3 sqrt 3) = 0.6045998 rounded up;
+        /* 0.604600 in docs/REFERENCES.md is pi / (3 sqrt 3) = 0.6045998 rounded up;
          * triangles attain it, so compare with the exact value */
         assert_true(lc_ellipse_area(&r.e) / poly_area(&p) >= LC_PI / (3.0 * sqrt(3.0)) - 1e-9);
     }

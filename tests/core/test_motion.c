@@ -1,7 +1,7 @@
 /*
  * test_motion.c - setpoints of the point-mass and unicycle models.
  *
- * Outside references: the stopping-distance check values of REFERENCES.md,
+ * Outside references: the stopping-distance check values of docs/REFERENCES.md,
  * the polar point-stabilisation law's linearised system (Siegwart,
  * Nourbakhsh, Scaramuzza, "Introduction to Autonomous Mobile Robots", 2nd
  * ed., 3.6, from memory), closed-form kinematics of constant (v, w) arcs and
@@ -223,7 +223,7 @@ static lc_robot robot_default_of(lc_model model)
 static void test_limit_names(void **state)
 {
     (void)state;
-    /* motion.h's comments (CONTRACT.md's `limit` values) */
+    /* motion.h's comments (docs/INTERFACES.md's `limit` values) */
     static const char *const want[] = {"none", "goal", "top_speed", "braking", "accel",
                                        "turning", "turn_rate", "too_close", "stale",
                                        "blocked", "arrived", "idle"};
@@ -251,12 +251,12 @@ static void test_defaults(void **state)
     assert_int_equal(s.limit, LC_LIMIT_STALE);
 }
 
-/* ---- stopping distance: REFERENCES.md check values -------------------- */
+/* ---- stopping distance: docs/REFERENCES.md check values -------------------- */
 
 static void test_stopping_distance(void **state)
 {
     (void)state;
-    /* REFERENCES.md "Facts of the trade": d = v t_r + v^2 / (2 a) */
+    /* docs/REFERENCES.md "Facts of the trade": d = v t_r + v^2 / (2 a) */
     assert_near(lc_stopping_distance(1.0, 0.1, 1.0), 0.60, 1e-12);
     assert_near(lc_stopping_distance(1.5, 0.2, 1.0), 1.425, 1e-12);
     /* closed form v^2 / (2a), no latency; a reverse speed is a speed */
@@ -519,7 +519,7 @@ static void test_point_examples(void **state)
     point_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), lc_v2(0.74, 0), 1.0, &out);
     assert_near(out.vx, sqrt(2 * 0.5 * 0.55), 1e-12);
     assert_int_equal(out.limit, LC_LIMIT_BRAKING);
-    /* with latency 0.2 s: v t_r + v^2 / (2a) = s, the REFERENCES.md formula */
+    /* with latency 0.2 s: v t_r + v^2 / (2a) = s, the docs/REFERENCES.md formula */
     p.latency = 0.2;
     point_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.5, 0), lc_v2(0.6, 0), 1.0, &out);
     assert_near(lc_stopping_distance(out.vx, 0.2, 0.5), 0.55, 1e-12);
@@ -945,7 +945,7 @@ static void test_last_beyond_limits(void **state)
  * request, tests/fuzz/corpus/plan/regress-fast-last-near-wall: the braking
  * velocity from the too-fast last setpoint was scaled down to v_max
  * unchecked, labelled top_speed, and stopped 0.14 m beyond the region).
- * Stopping distance v^2 / (2 a) in closed form (REFERENCES.md).
+ * Stopping distance v^2 / (2 a) in closed form (docs/REFERENCES.md).
  */
 static void test_last_beyond_limits_brakes(void **state)
 {

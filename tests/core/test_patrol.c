@@ -2,7 +2,7 @@
  * test_patrol.c - progress along a route: arrival, end of route, laps,
  * blocked detection and the two blocked policies.
  *
- * The reference is the behaviour CONTRACT.md fixes (states, the blocked rule
+ * The reference is the behaviour docs/INTERFACES.md fixes (states, the blocked rule
  * "the distance to the current waypoint has not shrunk by the progress
  * threshold over the blocked time, by frame stamps", hold or skip) and its
  * defaults; scripted runs with hand-computed event sequences.
@@ -57,9 +57,9 @@ static void expect_events(const run *r, const lc_event_kind *kinds, const int *w
 static void test_names_and_defaults(void **state)
 {
     (void)state;
-    /* CONTRACT.md `state` values */
+    /* docs/INTERFACES.md `state` values */
     static const char *const st[] = {"idle", "tracking", "arrived", "done",
-                                     "blocked", "stale", "too_close"};
+                                     "blocked", "stale", "too_close", "shutdown"};
     for (int i = 0; i < LC_STATE_COUNT; i++)
         assert_string_equal(lc_state_name((lc_state)i), st[i]);
     assert_string_equal(lc_state_name(LC_STATE_COUNT), "unknown");
@@ -70,7 +70,7 @@ static void test_names_and_defaults(void **state)
         assert_string_equal(lc_event_name((lc_event_kind)i), ev[i]);
     assert_string_equal(lc_event_name((lc_event_kind)-3), "unknown");
 
-    /* CONTRACT.md defaults: route loop false, tolerance 0.25; blocked time 10 s */
+    /* docs/INTERFACES.md defaults: route loop false, tolerance 0.25; blocked time 10 s */
     lc_route route;
     lc_route_default(&route);
     assert_int_equal(route.count, 0);
@@ -79,7 +79,7 @@ static void test_names_and_defaults(void **state)
     assert_int_equal(route.on_blocked, LC_BLOCKED_WAIT);
     assert_near(route.blocked_time, 10.0, 0);
     assert_near(route.progress, 0.10, 0);
-    /* CONTRACT.md robot defaults: point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0 */
+    /* docs/INTERFACES.md robot defaults: point, 0.30, 0.05, 0.8, 0.5, 1.0, 2.0 */
     lc_robot robot;
     lc_robot_default(&robot);
     assert_int_equal(robot.model, LC_MODEL_POINT);

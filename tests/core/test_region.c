@@ -178,7 +178,7 @@ static void test_empty_frame_is_window(void **state)
     assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
     assert_int_equal(rg.nv, 4);
     assert_near(lc_polygon_area2(rg.v, rg.nv) / 2, 64.0, 1e-9);
-    /* The inscribed ellipse of a square is its incircle (REFERENCES.md). */
+    /* The inscribed ellipse of a square is its incircle (docs/REFERENCES.md). */
     assert_near(lc_ellipse_area(&rg.ellipse), LC_PI * 16.0, 1e-5);
     lc_region_free(&rg);
     lc_region_ws_free(&ws);

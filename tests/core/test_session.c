@@ -1,5 +1,5 @@
 /*
- * test_session.c - the per-frame step as a whole: the CONTRACT promises of
+ * test_session.c - the per-frame step as a whole: the promises (docs/INTERFACES.md) of
  * `lacuna plan` on random scenes (robot inside the region, every valid
  * return at least radius + margin away by GEOS distance, the target the
  * goal or its GEOS nearest point in the region, the braking promise along
@@ -24,6 +24,7 @@
 #include "lc_config.h"
 #include "scenario.h"
 #include "session.h"
+#include "steer.h"
 #include "world.h"
 
 static void random_world(lc_world *w, lc_rng *rng, int count)
@@ -329,7 +330,7 @@ static void test_promises_footprint_random(void **state)
 }
 
 /*
- * The CONTRACT promises on every 3rd frame of a closed-loop patrol through
+ * The promises (docs/INTERFACES.md) on every 3rd frame of a closed-loop patrol through
  * each shipped scenario's world (the scenes the product is shown on, not
  * only random ones): check_promises (GEOS distances and nearest points),
  * and the ellipse inside the region (32 points of its boundary).
@@ -470,14 +471,23 @@ static void test_deterministic(void **state)
 }
 
 /* A return 0.2 m from the centre of a 0.3 m robot is a self hit (dropped);
- * one at 0.33 m is within radius + margin: too_close, zero setpoint. Each
- * frame on its own (without memory: the second frame's self hit does not
- * look past 0.2 m, so a memory keeps the first one's return, rightly). */
+ * one at 0.33 m is within radius + margin: too_close. The robot stops at
+ * once from 0.5 m/s, then eases out: away from the return only, from rest
+ * (a_max dt at most), never faster than LC_STEER_EASE_SPEED. Returns on
+ * both sides: no way out, no translation. Each frame on its own (without
+ * memory: the self hit frame does not look past 0.2 m, so a memory keeps
+ * the first one's return, rightly). */
 static void test_too_close(void **state)
 {
-    double ranges[3] = {NAN, 0.33, NAN};
-    lc_frame f = {.kind = LC_FRAME_SCAN, .angle_start = -0.01, .angle_step = 0.01,
-                  .range_min = 0.05, .range_max = 10, .ranges = ranges, .n_ranges = 3};
+    /* a 270-degree scan with one return, back on the left (bearing 135
+     * degrees: the way out, forward right, is one a point robot with this
+     * scanner may slide in, without memory) */
+    double ranges[271];
+    for (int i = 0; i < 271; i++)
+        ranges[i] = NAN;
+    ranges[270] = 0.33;
+    lc_frame f = {.kind = LC_FRAME_SCAN, .angle_start = -0.75 * LC_PI, .angle_step = LC_PI / 180,
+                  .range_min = 0.05, .range_max = 10, .ranges = ranges, .n_ranges = 271};
     lc_plan_config cfg;
     lc_plan_config_default(&cfg);
     cfg.memory.enabled = false;
@@ -488,12 +498,32 @@ static void test_too_close(void **state)
     lc_plan_result r;
     assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
     assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
+    const lc_vec2 toward = {-sqrt(0.5), sqrt(0.5)}; /* the return's direction */
+    assert_true(lc_dot(lc_v2(r.setpoint.vx, r.setpoint.vy), toward) <= 1e-12);
+    double a_step = lc_session_robot(ses)->a_max * 0.05;
+    assert_true(hypot(r.setpoint.vx, r.setpoint.vy) <= a_step + 1e-12);
+    assert_non_null(r.region);
+    assert_true(lc_region_contains(r.region, lc_v2(0, 0), 1e-9));
+    for (int k = 0; k < 40; k++) { /* easing on: away, never faster than allowed */
+        lc_session_set_velocity(ses, &r.setpoint);
+        assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
+        assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
+        assert_true(lc_dot(lc_v2(r.setpoint.vx, r.setpoint.vy), toward) <= 1e-12);
+        assert_true(hypot(r.setpoint.vx, r.setpoint.vy) <= LC_STEER_EASE_SPEED + 1e-12);
+    }
+    print_message("eased to vx %.3f vy %.3f limit %d\n", r.setpoint.vx, r.setpoint.vy, r.setpoint.limit);
+    assert_true(lc_dot(lc_v2(r.setpoint.vx, r.setpoint.vy), toward) < -0.1); /* it got going */
+    /* returns on the left and right (both 0.33 m away): no way out, a stop */
+    double both[2] = {0.33, 0.33};
+    lc_frame g = {.kind = LC_FRAME_SCAN, .angle_start = -0.5 * LC_PI, .angle_step = LC_PI,
+                  .range_min = 0.05, .range_max = 10, .ranges = both, .n_ranges = 2};
+    lc_session_set_velocity(ses, &moving);
+    assert_int_equal(lc_session_step(ses, &g, 0.05, &r), 0);
+    assert_int_equal(r.state, LC_STATE_TOO_CLOSE);
     assert_int_equal(r.setpoint.limit, LC_LIMIT_TOO_CLOSE);
     assert_near(r.setpoint.vx, 0, 0);
     assert_near(r.setpoint.vy, 0, 0);
-    assert_non_null(r.region);
-    assert_true(lc_region_contains(r.region, lc_v2(0, 0), 1e-9));
-    ranges[1] = 0.2;
+    ranges[270] = 0.2;
     assert_int_equal(lc_session_step(ses, &f, 0.05, &r), 0);
     assert_int_equal(r.cloud->dropped_self, 1);
     assert_int_not_equal(r.state, LC_STATE_TOO_CLOSE);
@@ -580,6 +610,65 @@ static void test_standoff_at_blocked_waypoint(void **state)
         assert_true(nearest >= lc_robot_clearance(&robot) - 1e-6);
         /* it did come up to the wall: within 10 cm of the closest allowed */
         assert_true(2.0 - pose.x <= lc_robot_clearance(&robot) + 0.1);
+        lc_session_free(ses);
+    }
+    free(ranges);
+    lc_world_free(&w);
+}
+
+/*
+ * Guidance round a wall: the same 6 m wall across the way, the goal behind
+ * it. The local region alone parks at the wall (above); with guidance the
+ * robot goes round the wall's end and arrives, both models, never within
+ * radius + margin of the wall's face or ends. Its driven length is checked
+ * against the closed form of the shortest way for a disc of clearance R
+ * round the wall's nearer end: straight to (2, 3 + R), along the wall's
+ * 0.2 m top, straight to the goal (an upper bound of the exact tangent
+ * path, so the ratio asked of the robot is a little generous).
+ */
+static void test_guided_round_wall(void **state)
+{
+    lc_world w;
+    lc_world_init(&w);
+    lc_vec2 wall[4] = {{2.0, -3}, {2.2, -3}, {2.2, 3}, {2.0, 3}};
+    lc_world_add(&w, wall, 4);
+    lc_sensor sen;
+    lc_sensor_default(&sen);
+    sen.noise = 0.01;
+    lc_sim_rng noise = {11};
+    double *ranges = calloc((size_t)sen.beams, sizeof *ranges);
+    const lc_vec2 goal = {4, 0.3};
+    for (int m = 0; m < 2; m++) {
+        lc_robot robot;
+        lc_robot_default(&robot);
+        robot.model = m ? LC_MODEL_UNICYCLE : LC_MODEL_POINT;
+        double R = lc_robot_clearance(&robot);
+        lc_vec2 c0 = {2.0, 3 + R}, c1 = {2.2, 3 + R};
+        double bound = lc_dist(lc_v2(0, 0), c0) + 0.2 + lc_dist(c1, goal);
+        lc_session *ses = lc_session_new(&robot, NULL, NULL);
+        lc_session_set_goal(ses, goal);
+        lc_pose pose = {0, 0, 0};
+        double driven = 0, nearest = INFINITY, dt = 0.05;
+        int k = 0;
+        bool done = false;
+        for (; k < 1200 && !done; k++) {
+            lc_frame f;
+            lc_plan_result r;
+            step_frame(ses, &w, &sen, pose, ranges, &noise, k, dt, &f, &r);
+            done = r.state == LC_STATE_DONE;
+            assert_int_not_equal(r.state, LC_STATE_TOO_CLOSE);
+            lc_pose next = follow(pose, &r.setpoint, robot.model, dt);
+            driven += lc_dist(lc_v2(pose.x, pose.y), lc_v2(next.x, next.y));
+            pose = next;
+            nearest = fmin(nearest, lc_convex_distance(wall, 4, lc_v2(pose.x, pose.y), NULL));
+        }
+        print_message("%s: %.2f m driven in %.2f s (closed-form way round %.2f m), "
+                      "nearest the wall %.3f m\n", m ? "unicycle" : "point", driven, k * dt,
+                      bound, nearest);
+        assert_true(done);
+        assert_true(lc_dist(lc_v2(pose.x, pose.y), goal) <= lc_session_route(ses)->tolerance);
+        assert_true(nearest >= robot.radius);
+        assert_true(driven >= lc_dist(lc_v2(0, 0), goal) && driven <= 1.5 * bound);
         lc_session_free(ses);
     }
     free(ranges);
@@ -750,6 +839,7 @@ int main(void)
         cmocka_unit_test(test_too_close),
         cmocka_unit_test(test_too_close_turn_within_w_max),
         cmocka_unit_test(test_standoff_at_blocked_waypoint),
+        cmocka_unit_test(test_guided_round_wall),
         cmocka_unit_test(test_height_band),
         cmocka_unit_test(test_scripted_patrol),
         cmocka_unit_test(test_names),

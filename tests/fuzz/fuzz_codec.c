@@ -43,6 +43,8 @@ static int encode_msg(lc_wire_text *t, const lc_wire_msg *m)
         return lc_wire_encode_event(t, &m->u.event);
     case LC_MSG_ERROR:
         return lc_wire_encode_error(t, &m->u.error);
+    case LC_MSG_WARNING:
+        return lc_wire_encode_warning(t, &m->u.warning);
     default:
         return 1;
     }

@@ -17,7 +17,7 @@
  * of 100000 beams. Without the prefix the bytes are the request, as given
  * to `lacuna plan`.
  *
- * Properties checked on every accepted request (CONTRACT.md, `lacuna plan`
+ * Properties checked on every accepted request (docs/INTERFACES.md, `lacuna plan`
  * promises) - with a relative tolerance, since the numbers may be huge:
  * - the step succeeds (it fails only when out of memory);
  * - the setpoint is finite and keeps the motion laws' promises: speed <=

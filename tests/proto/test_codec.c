@@ -47,13 +47,6 @@ static char *read_text(const char *rel, size_t *len)
     return buf;
 }
 
-/* True when msg is "field: ..." for exactly this field. */
-static bool names_field(const char *msg, const char *field)
-{
-    size_t n = strlen(field);
-    return strncmp(msg, field, n) == 0 && msg[n] == ':';
-}
-
 static bool same_double(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
 
 #define assert_same_double(a, b)                                                            \
@@ -89,8 +82,8 @@ static int plan_exact(const char *text, size_t len, const lc_wire_limits *lim,
 /* ---------------------------------------------------------- bad inputs */
 
 #define HEAD "{'type':'scan','seq':7,'stamp':1.5,'pose':[0,0,0],"
-#define ANG "'angle_start':-1,'angle_step':0.1,"
-#define LIM "'range_min':0.1,'range_max':10,"
+#define ANG "'bearing_first':-1,'bearing_step':0.1,"
+#define LIM "'near':0.1,'far':10,"
 #define SCAN(tail) HEAD ANG LIM tail
 #define PTS(tail) "{'type':'points','seq':3,'stamp':2,'pose':[0,0,0]," tail
 #define ROUTE(tail) "{'type':'route','waypoints':[[0,0],[1,1]]" tail
@@ -98,7 +91,7 @@ static int plan_exact(const char *text, size_t len, const lc_wire_limits *lim,
 #define RECT "[[0.5,-0.25],[0.5,0.25],[-0.5,0.25],[-0.5,-0.25]]"
 #define FOOT(vertices) ROBOT(",'footprint':" vertices "}")
 #define HELLO(tail) "{'type':'hello'" tail
-#define FRAME "'frame':{'type':'scan','seq':9,'stamp':0,'pose':[0,0,0]," ANG LIM "'ranges':[1,2]}"
+#define FRAME "'frame':{'type':'scan','seq':9,'stamp':0,'pose':[0,0,0]," ANG LIM "'dist':[1,2]}"
 
 enum { GENERIC = 0, PLAN = 1 };
 
@@ -114,14 +107,14 @@ static const bad_case bad_cases[] = {
     {GENERIC, "", LC_WIRE_BAD_JSON, "message"},
     {GENERIC, "   ", LC_WIRE_BAD_JSON, "message"},
     {GENERIC, "{", LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,2"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,2]}x"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,2]} {}"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,NaN]}"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,Infinity]}"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,-Infinity]}"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,.5]}"), LC_WIRE_BAD_JSON, "message"},
-    {GENERIC, SCAN("'ranges':[1,0x10]}"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,2"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,2]}x"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,2]} {}"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,NaN]}"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,Infinity]}"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,-Infinity]}"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,.5]}"), LC_WIRE_BAD_JSON, "message"},
+    {GENERIC, SCAN("'dist':[1,0x10]}"), LC_WIRE_BAD_JSON, "message"},
     {GENERIC, "\x01{'type':'hello','role':'viewer'}", LC_WIRE_BAD_JSON, "message"},
     {GENERIC, "{'type':'hello','role':'vie\x02wer'}", LC_WIRE_BAD_JSON, "message"},
     /* message shape */
@@ -135,135 +128,135 @@ static const bad_case bad_cases[] = {
     {GENERIC, "{'type':''}", LC_WIRE_UNKNOWN_TYPE, "type"},
     {GENERIC, "{'type':'Scan','seq':1}", LC_WIRE_UNKNOWN_TYPE, "type"},
     {GENERIC, "{'Type':'scan','seq':7}", LC_WIRE_BAD_MESSAGE, "type"},
-    {GENERIC, SCAN("'ranges':[1],'ranges':[2]}"), LC_WIRE_BAD_MESSAGE, "ranges"},
-    {GENERIC, SCAN("'ranges':[1],'type':'scan'}"), LC_WIRE_BAD_MESSAGE, "type"},
+    {GENERIC, SCAN("'dist':[1],'dist':[2]}"), LC_WIRE_BAD_MESSAGE, "scan.dist"},
+    {GENERIC, SCAN("'dist':[1],'type':'scan'}"), LC_WIRE_BAD_MESSAGE, "scan.type"},
     /* frame header */
-    {GENERIC, SCAN("'Ranges':[1,2]}"), LC_WIRE_BAD_FIELD, "ranges"},
-    {GENERIC, "{'type':'scan','seq':1.5,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "seq"},
-    {GENERIC, "{'type':'scan','seq':-1,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "seq"},
-    {GENERIC, "{'type':'scan','seq':1e16,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "seq"},
-    {GENERIC, "{'type':'scan','seq':'7','stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "seq"},
-    {GENERIC, "{'type':'scan','stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "seq"},
-    {GENERIC, "{'type':'scan','seq':1,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "stamp"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':'now','pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "stamp"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':1e400,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "stamp"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0}", LC_WIRE_BAD_FIELD, "pose"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0]}", LC_WIRE_BAD_FIELD, "pose"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0,0]}", LC_WIRE_BAD_FIELD, "pose"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,null,0]}", LC_WIRE_BAD_FIELD, "pose[1]"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,1e400]}", LC_WIRE_BAD_FIELD, "pose[2]"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,2e9,0]}", LC_WIRE_BAD_FIELD, "pose[1]"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':{'x':0}}", LC_WIRE_BAD_FIELD, "pose"},
-    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'mount':0}", LC_WIRE_BAD_FIELD, "mount"},
+    {GENERIC, SCAN("'Dist':[1,2]}"), LC_WIRE_BAD_FIELD, "scan.dist"},
+    {GENERIC, "{'type':'scan','seq':1.5,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
+    {GENERIC, "{'type':'scan','seq':-1,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
+    {GENERIC, "{'type':'scan','seq':1e16,'stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
+    {GENERIC, "{'type':'scan','seq':'7','stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
+    {GENERIC, "{'type':'scan','stamp':0,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.seq"},
+    {GENERIC, "{'type':'scan','seq':1,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.stamp"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':'now','pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.stamp"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':1e400,'pose':[0,0,0]}", LC_WIRE_BAD_FIELD, "scan.stamp"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0}", LC_WIRE_BAD_FIELD, "scan.pose"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0]}", LC_WIRE_BAD_FIELD, "scan.pose"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0,0]}", LC_WIRE_BAD_FIELD, "scan.pose"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,null,0]}", LC_WIRE_BAD_FIELD, "scan.pose[1]"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,1e400]}", LC_WIRE_BAD_FIELD, "scan.pose[2]"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,2e9,0]}", LC_WIRE_BAD_FIELD, "scan.pose[1]"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':{'x':0}}", LC_WIRE_BAD_FIELD, "scan.pose"},
+    {GENERIC, "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'mount':0}", LC_WIRE_BAD_FIELD, "scan.mount"},
     /* scan geometry */
-    {GENERIC, HEAD "'angle_start':0,'angle_step':0," LIM "'ranges':[1]}", LC_WIRE_BAD_FIELD, "angle_step"},
-    {GENERIC, HEAD "'angle_start':0,'angle_step':-0.0," LIM "'ranges':[1]}", LC_WIRE_BAD_FIELD, "angle_step"},
-    {GENERIC, HEAD "'angle_start':0,'angle_step':'0.1'," LIM "'ranges':[1]}", LC_WIRE_BAD_FIELD, "angle_step"},
-    {GENERIC, HEAD "'angle_start':0,'angle_step':7," LIM "'ranges':[1]}", LC_WIRE_BAD_FIELD, "angle_step"},
-    {GENERIC, HEAD "'angle_start':0,'angle_step':1," LIM "'ranges':[1,1,1,1,1,1,1,1]}", LC_WIRE_BAD_FIELD, "angle_step"},
-    {GENERIC, HEAD "'angle_step':0.1," LIM "'ranges':[1]}", LC_WIRE_BAD_FIELD, "angle_start"},
-    {GENERIC, HEAD ANG "'range_min':0,'range_max':10,'ranges':[1]}", LC_WIRE_BAD_FIELD, "range_min"},
-    {GENERIC, HEAD ANG "'range_min':-1,'range_max':10,'ranges':[1]}", LC_WIRE_BAD_FIELD, "range_min"},
-    {GENERIC, HEAD ANG "'range_min':5,'range_max':1,'ranges':[1]}", LC_WIRE_BAD_FIELD, "range_max"},
-    {GENERIC, HEAD ANG "'range_min':5,'range_max':5,'ranges':[1]}", LC_WIRE_BAD_FIELD, "range_max"},
-    {GENERIC, HEAD ANG "'range_min':0.1,'ranges':[1]}", LC_WIRE_BAD_FIELD, "range_max"},
-    {GENERIC, SCAN("'ranges':[]}"), LC_WIRE_BAD_FIELD, "ranges"},
-    {GENERIC, SCAN("'ranges':{}}"), LC_WIRE_BAD_FIELD, "ranges"},
-    {GENERIC, SCAN("'ranges':5}"), LC_WIRE_BAD_FIELD, "ranges"},
-    {GENERIC, SCAN("'range':[1]}"), LC_WIRE_BAD_FIELD, "ranges"},
-    {GENERIC, SCAN("'ranges':[1,2,'far',3]}"), LC_WIRE_BAD_FIELD, "ranges[2]"},
-    {GENERIC, SCAN("'ranges':[true]}"), LC_WIRE_BAD_FIELD, "ranges[0]"},
-    {GENERIC, SCAN("'ranges':[1,[2]]}"), LC_WIRE_BAD_FIELD, "ranges[1]"},
-    {GENERIC, SCAN("'ranges':[1,1e400]}"), LC_WIRE_BAD_FIELD, "ranges[1]"},
-    {GENERIC, SCAN("'ranges':[1,-1e400]}"), LC_WIRE_BAD_FIELD, "ranges[1]"},
+    {GENERIC, HEAD "'bearing_first':0,'bearing_step':0," LIM "'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.bearing_step"},
+    {GENERIC, HEAD "'bearing_first':0,'bearing_step':-0.0," LIM "'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.bearing_step"},
+    {GENERIC, HEAD "'bearing_first':0,'bearing_step':'0.1'," LIM "'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.bearing_step"},
+    {GENERIC, HEAD "'bearing_first':0,'bearing_step':7," LIM "'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.bearing_step"},
+    {GENERIC, HEAD "'bearing_first':0,'bearing_step':1," LIM "'dist':[1,1,1,1,1,1,1,1]}", LC_WIRE_BAD_FIELD, "scan.bearing_step"},
+    {GENERIC, HEAD "'bearing_step':0.1," LIM "'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.bearing_first"},
+    {GENERIC, HEAD ANG "'near':0,'far':10,'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.near"},
+    {GENERIC, HEAD ANG "'near':-1,'far':10,'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.near"},
+    {GENERIC, HEAD ANG "'near':5,'far':1,'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.far"},
+    {GENERIC, HEAD ANG "'near':5,'far':5,'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.far"},
+    {GENERIC, HEAD ANG "'near':0.1,'dist':[1]}", LC_WIRE_BAD_FIELD, "scan.far"},
+    {GENERIC, SCAN("'dist':[]}"), LC_WIRE_BAD_FIELD, "scan.dist"},
+    {GENERIC, SCAN("'dist':{}}"), LC_WIRE_BAD_FIELD, "scan.dist"},
+    {GENERIC, SCAN("'dist':5}"), LC_WIRE_BAD_FIELD, "scan.dist"},
+    {GENERIC, SCAN("'range':[1]}"), LC_WIRE_BAD_FIELD, "scan.dist"},
+    {GENERIC, SCAN("'dist':[1,2,'far',3]}"), LC_WIRE_BAD_FIELD, "scan.dist[2]"},
+    {GENERIC, SCAN("'dist':[true]}"), LC_WIRE_BAD_FIELD, "scan.dist[0]"},
+    {GENERIC, SCAN("'dist':[1,[2]]}"), LC_WIRE_BAD_FIELD, "scan.dist[1]"},
+    {GENERIC, SCAN("'dist':[1,1e400]}"), LC_WIRE_BAD_FIELD, "scan.dist[1]"},
+    {GENERIC, SCAN("'dist':[1,-1e400]}"), LC_WIRE_BAD_FIELD, "scan.dist[1]"},
     /* points */
-    {GENERIC, PTS("'xy':[1,2,3]}"), LC_WIRE_BAD_FIELD, "xy"},
-    {GENERIC, PTS("'xy':[1,null]}"), LC_WIRE_BAD_FIELD, "xy[1]"},
-    {GENERIC, PTS("'xy':[1,2],'z':[1,2]}"), LC_WIRE_BAD_FIELD, "z"},
-    {GENERIC, PTS("'xy':[1,2,3,4],'z':[1]}"), LC_WIRE_BAD_FIELD, "z"},
-    {GENERIC, PTS("'xy':[1,2],'z':['up']}"), LC_WIRE_BAD_FIELD, "z[0]"},
-    {GENERIC, PTS("'xy':[1,2],'z':7}"), LC_WIRE_BAD_FIELD, "z"},
-    {GENERIC, PTS("'z':[1]}"), LC_WIRE_BAD_FIELD, "xy"},
-    {GENERIC, PTS("'xy':[1,2],'xy':[3,4]}"), LC_WIRE_BAD_MESSAGE, "xy"},
+    {GENERIC, PTS("'xy':[1,2,3]}"), LC_WIRE_BAD_FIELD, "points.xy"},
+    {GENERIC, PTS("'xy':[1,null]}"), LC_WIRE_BAD_FIELD, "points.xy[1]"},
+    {GENERIC, PTS("'xy':[1,2],'z':[1,2]}"), LC_WIRE_BAD_FIELD, "points.z"},
+    {GENERIC, PTS("'xy':[1,2,3,4],'z':[1]}"), LC_WIRE_BAD_FIELD, "points.z"},
+    {GENERIC, PTS("'xy':[1,2],'z':['up']}"), LC_WIRE_BAD_FIELD, "points.z[0]"},
+    {GENERIC, PTS("'xy':[1,2],'z':7}"), LC_WIRE_BAD_FIELD, "points.z"},
+    {GENERIC, PTS("'z':[1]}"), LC_WIRE_BAD_FIELD, "points.xy"},
+    {GENERIC, PTS("'xy':[1,2],'xy':[3,4]}"), LC_WIRE_BAD_MESSAGE, "points.xy"},
     /* route */
-    {GENERIC, "{'type':'route'}", LC_WIRE_BAD_FIELD, "waypoints"},
-    {GENERIC, "{'type':'route','waypoints':[[0,0],[1,1,1]]}", LC_WIRE_BAD_FIELD, "waypoints[1]"},
-    {GENERIC, "{'type':'route','waypoints':[[0]]}", LC_WIRE_BAD_FIELD, "waypoints[0]"},
-    {GENERIC, "{'type':'route','waypoints':[5]}", LC_WIRE_BAD_FIELD, "waypoints[0]"},
-    {GENERIC, "{'type':'route','waypoints':[[0,'a']]}", LC_WIRE_BAD_FIELD, "waypoints[0][1]"},
-    {GENERIC, ROUTE(",'tolerance':0}"), LC_WIRE_BAD_FIELD, "tolerance"},
-    {GENERIC, ROUTE(",'tolerance':-1}"), LC_WIRE_BAD_FIELD, "tolerance"},
-    {GENERIC, ROUTE(",'loop':'yes'}"), LC_WIRE_BAD_FIELD, "loop"},
-    {GENERIC, ROUTE(",'loop':1}"), LC_WIRE_BAD_FIELD, "loop"},
-    {GENERIC, ROUTE(",'on_blocked':'retry'}"), LC_WIRE_BAD_FIELD, "on_blocked"},
-    {GENERIC, ROUTE(",'blocked_time':0}"), LC_WIRE_BAD_FIELD, "blocked_time"},
-    {GENERIC, ROUTE(",'progress':-0.1}"), LC_WIRE_BAD_FIELD, "progress"},
+    {GENERIC, "{'type':'route'}", LC_WIRE_BAD_FIELD, "route.waypoints"},
+    {GENERIC, "{'type':'route','waypoints':[[0,0],[1,1,1]]}", LC_WIRE_BAD_FIELD, "route.waypoints[1]"},
+    {GENERIC, "{'type':'route','waypoints':[[0]]}", LC_WIRE_BAD_FIELD, "route.waypoints[0]"},
+    {GENERIC, "{'type':'route','waypoints':[5]}", LC_WIRE_BAD_FIELD, "route.waypoints[0]"},
+    {GENERIC, "{'type':'route','waypoints':[[0,'a']]}", LC_WIRE_BAD_FIELD, "route.waypoints[0][1]"},
+    {GENERIC, ROUTE(",'tolerance':0}"), LC_WIRE_BAD_FIELD, "route.tolerance"},
+    {GENERIC, ROUTE(",'tolerance':-1}"), LC_WIRE_BAD_FIELD, "route.tolerance"},
+    {GENERIC, ROUTE(",'loop':'yes'}"), LC_WIRE_BAD_FIELD, "route.loop"},
+    {GENERIC, ROUTE(",'loop':1}"), LC_WIRE_BAD_FIELD, "route.loop"},
+    {GENERIC, ROUTE(",'on_blocked':'retry'}"), LC_WIRE_BAD_FIELD, "route.on_blocked"},
+    {GENERIC, ROUTE(",'blocked_time':0}"), LC_WIRE_BAD_FIELD, "route.blocked_time"},
+    {GENERIC, ROUTE(",'progress':-0.1}"), LC_WIRE_BAD_FIELD, "route.progress"},
     /* robot */
-    {GENERIC, ROBOT(",'radius':0}"), LC_WIRE_BAD_FIELD, "radius"},
-    {GENERIC, ROBOT(",'radius':-0.3}"), LC_WIRE_BAD_FIELD, "radius"},
-    {GENERIC, ROBOT(",'radius':1e10}"), LC_WIRE_BAD_FIELD, "radius"},
-    {GENERIC, ROBOT(",'margin':-0.01}"), LC_WIRE_BAD_FIELD, "margin"},
-    {GENERIC, ROBOT(",'z_min':0.5,'z_max':0.2}"), LC_WIRE_BAD_FIELD, "z_max"},
-    {GENERIC, ROBOT(",'z_min':0.5,'z_max':0.5}"), LC_WIRE_BAD_FIELD, "z_max"},
-    {GENERIC, ROBOT(",'z_max':-1e10}"), LC_WIRE_BAD_FIELD, "z_max"},
-    {GENERIC, ROBOT(",'z_min':'low'}"), LC_WIRE_BAD_FIELD, "z_min"},
-    {GENERIC, ROBOT(",'v_max':0}"), LC_WIRE_BAD_FIELD, "v_max"},
-    {GENERIC, ROBOT(",'a_max':-1}"), LC_WIRE_BAD_FIELD, "a_max"},
-    {GENERIC, ROBOT(",'w_max':0}"), LC_WIRE_BAD_FIELD, "w_max"},
-    {GENERIC, ROBOT(",'dw_max':0}"), LC_WIRE_BAD_FIELD, "dw_max"},
-    {GENERIC, ROBOT(",'model':'tank'}"), LC_WIRE_BAD_FIELD, "model"},
-    {GENERIC, ROBOT(",'model':1}"), LC_WIRE_BAD_FIELD, "model"},
-    {GENERIC, ROBOT(",'reverse':'no'}"), LC_WIRE_BAD_FIELD, "reverse"},
+    {GENERIC, ROBOT(",'radius':0}"), LC_WIRE_BAD_FIELD, "robot.radius"},
+    {GENERIC, ROBOT(",'radius':-0.3}"), LC_WIRE_BAD_FIELD, "robot.radius"},
+    {GENERIC, ROBOT(",'radius':1e10}"), LC_WIRE_BAD_FIELD, "robot.radius"},
+    {GENERIC, ROBOT(",'margin':-0.01}"), LC_WIRE_BAD_FIELD, "robot.margin"},
+    {GENERIC, ROBOT(",'z_min':0.5,'z_max':0.2}"), LC_WIRE_BAD_FIELD, "robot.z_max"},
+    {GENERIC, ROBOT(",'z_min':0.5,'z_max':0.5}"), LC_WIRE_BAD_FIELD, "robot.z_max"},
+    {GENERIC, ROBOT(",'z_max':-1e10}"), LC_WIRE_BAD_FIELD, "robot.z_max"},
+    {GENERIC, ROBOT(",'z_min':'low'}"), LC_WIRE_BAD_FIELD, "robot.z_min"},
+    {GENERIC, ROBOT(",'v_max':0}"), LC_WIRE_BAD_FIELD, "robot.v_max"},
+    {GENERIC, ROBOT(",'a_max':-1}"), LC_WIRE_BAD_FIELD, "robot.a_max"},
+    {GENERIC, ROBOT(",'w_max':0}"), LC_WIRE_BAD_FIELD, "robot.w_max"},
+    {GENERIC, ROBOT(",'dw_max':0}"), LC_WIRE_BAD_FIELD, "robot.dw_max"},
+    {GENERIC, ROBOT(",'model':'tank'}"), LC_WIRE_BAD_FIELD, "robot.model"},
+    {GENERIC, ROBOT(",'model':1}"), LC_WIRE_BAD_FIELD, "robot.model"},
+    {GENERIC, ROBOT(",'reverse':'no'}"), LC_WIRE_BAD_FIELD, "robot.reverse"},
     /* a polygon footprint: the vertex at fault, else the footprint */
-    {GENERIC, FOOT("[[1,0],[0,1]]"), LC_WIRE_BAD_FIELD, "footprint"},
-    {GENERIC, FOOT("[]"), LC_WIRE_BAD_FIELD, "footprint"},
-    {GENERIC, FOOT("{}"), LC_WIRE_BAD_FIELD, "footprint"},
+    {GENERIC, FOOT("[[1,0],[0,1]]"), LC_WIRE_BAD_FIELD, "robot.footprint"},
+    {GENERIC, FOOT("[]"), LC_WIRE_BAD_FIELD, "robot.footprint"},
+    {GENERIC, FOOT("{}"), LC_WIRE_BAD_FIELD, "robot.footprint"},
     {GENERIC, FOOT("[[1,0],[0.9,0.4],[0.7,0.7],[0.4,0.9],[0,1],[-0.4,0.9],[-0.7,0.7],[-0.9,0.4],"
                    "[-1,0],[-0.9,-0.4],[-0.7,-0.7],[-0.4,-0.9],[0,-1],[0.4,-0.9],[0.7,-0.7],"
-                   "[0.9,-0.4],[0.95,-0.2]]"), LC_WIRE_BAD_FIELD, "footprint"},
-    {GENERIC, FOOT("[[1,0],[0,1,2],[-1,-1]]"), LC_WIRE_BAD_FIELD, "footprint[1]"},
-    {GENERIC, FOOT("[[1,0],[0,'a'],[-1,-1]]"), LC_WIRE_BAD_FIELD, "footprint[1][1]"},
-    {GENERIC, FOOT("[[200,0],[0,1],[-1,-1]]"), LC_WIRE_BAD_FIELD, "footprint[0]"},
+                   "[0.9,-0.4],[0.95,-0.2]]"), LC_WIRE_BAD_FIELD, "robot.footprint"},
+    {GENERIC, FOOT("[[1,0],[0,1,2],[-1,-1]]"), LC_WIRE_BAD_FIELD, "robot.footprint[1]"},
+    {GENERIC, FOOT("[[1,0],[0,'a'],[-1,-1]]"), LC_WIRE_BAD_FIELD, "robot.footprint[1][1]"},
+    {GENERIC, FOOT("[[200,0],[0,1],[-1,-1]]"), LC_WIRE_BAD_FIELD, "robot.footprint[0]"},
     {GENERIC, FOOT("[[0.5,-0.25],[-0.5,-0.25],[-0.5,0.25],[0.5,0.25]]"), LC_WIRE_BAD_FIELD,
-     "footprint"}, /* clockwise */
+     "robot.footprint"}, /* clockwise */
     {GENERIC, FOOT("[[0.5,-0.25],[0.5,0.25],[0,0.1],[-0.5,0.25],[-0.5,-0.25]]"),
-     LC_WIRE_BAD_FIELD, "footprint[2]"}, /* dented */
+     LC_WIRE_BAD_FIELD, "robot.footprint[2]"}, /* dented */
     {GENERIC, FOOT("[[0.5,-0.25],[0.5,0.25],[0,0.25],[-0.5,0.25],[-0.5,-0.25]]"),
-     LC_WIRE_BAD_FIELD, "footprint[2]"}, /* on its neighbours' line */
+     LC_WIRE_BAD_FIELD, "robot.footprint[2]"}, /* on its neighbours' line */
     {GENERIC, FOOT("[[0.5,-0.25],[0.5,0.25],[0.5,0.2504],[-0.5,0.25],[-0.5,-0.25]]"),
-     LC_WIRE_BAD_FIELD, "footprint[2]"}, /* a repeated vertex */
+     LC_WIRE_BAD_FIELD, "robot.footprint[2]"}, /* a repeated vertex */
     {GENERIC, FOOT("[[1,0],[-0.809017,0.587785],[0.309017,-0.951057],[0.309017,0.951057],"
-                   "[-0.809017,-0.587785]]"), LC_WIRE_BAD_FIELD, "footprint"}, /* crosses itself */
-    {GENERIC, FOOT("[[2,-1],[3,-1],[3,1],[2,1]]"), LC_WIRE_BAD_FIELD, "footprint"}, /* centre out */
-    {GENERIC, ROBOT(",'radius':0.3,'footprint':" RECT "}"), LC_WIRE_BAD_FIELD, "radius"},
+                   "[-0.809017,-0.587785]]"), LC_WIRE_BAD_FIELD, "robot.footprint"}, /* crosses itself */
+    {GENERIC, FOOT("[[2,-1],[3,-1],[3,1],[2,1]]"), LC_WIRE_BAD_FIELD, "robot.footprint"}, /* centre out */
+    {GENERIC, ROBOT(",'radius':0.3,'footprint':" RECT "}"), LC_WIRE_BAD_FIELD, "robot.radius"},
     {GENERIC, ROBOT(",'footprint':" RECT ",'footprint':" RECT "}"), LC_WIRE_BAD_MESSAGE,
-     "footprint"},
+     "robot.footprint"},
     /* hello */
-    {GENERIC, HELLO("}"), LC_WIRE_BAD_FIELD, "role"},
-    {GENERIC, HELLO(",'role':'admin','robot':'a'}"), LC_WIRE_BAD_FIELD, "role"},
-    {GENERIC, HELLO(",'role':'robot'}"), LC_WIRE_BAD_FIELD, "robot"},
-    {GENERIC, HELLO(",'role':'robot','robot':''}"), LC_WIRE_BAD_FIELD, "robot"},
-    {GENERIC, HELLO(",'role':'robot','robot':'../etc'}"), LC_WIRE_BAD_FIELD, "robot"},
-    {GENERIC, HELLO(",'role':'robot','robot':'a/b'}"), LC_WIRE_BAD_FIELD, "robot"},
-    {GENERIC, HELLO(",'role':'robot','robot':'.hidden'}"), LC_WIRE_BAD_FIELD, "robot"},
+    {GENERIC, HELLO("}"), LC_WIRE_BAD_FIELD, "hello.role"},
+    {GENERIC, HELLO(",'role':'admin','robot':'a'}"), LC_WIRE_BAD_FIELD, "hello.role"},
+    {GENERIC, HELLO(",'role':'robot'}"), LC_WIRE_BAD_FIELD, "hello.robot"},
+    {GENERIC, HELLO(",'role':'robot','robot':''}"), LC_WIRE_BAD_FIELD, "hello.robot"},
+    {GENERIC, HELLO(",'role':'robot','robot':'../etc'}"), LC_WIRE_BAD_FIELD, "hello.robot"},
+    {GENERIC, HELLO(",'role':'robot','robot':'a/b'}"), LC_WIRE_BAD_FIELD, "hello.robot"},
+    {GENERIC, HELLO(",'role':'robot','robot':'.hidden'}"), LC_WIRE_BAD_FIELD, "hello.robot"},
     {GENERIC, HELLO(",'role':'robot','robot':"
                     "'aaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa'}"),
-     LC_WIRE_BAD_FIELD, "robot"},
-    {GENERIC, HELLO(",'role':'viewer','robot':7}"), LC_WIRE_BAD_FIELD, "robot"},
-    {GENERIC, HELLO(",'role':'robot','robot':'r1','token':42}"), LC_WIRE_BAD_FIELD, "token"},
-    {GENERIC, HELLO(",'role':'robot','robot':'r1','token':'a\\u0001b'}"), LC_WIRE_BAD_FIELD, "token"},
+     LC_WIRE_BAD_FIELD, "hello.robot"},
+    {GENERIC, HELLO(",'role':'viewer','robot':7}"), LC_WIRE_BAD_FIELD, "hello.robot"},
+    {GENERIC, HELLO(",'role':'robot','robot':'r1','token':42}"), LC_WIRE_BAD_FIELD, "hello.token"},
+    {GENERIC, HELLO(",'role':'robot','robot':'r1','token':'a\\u0001b'}"), LC_WIRE_BAD_FIELD, "hello.token"},
     /* server -> client messages */
     {GENERIC, "{'type':'setpoint','seq':1,'stamp':0,'vx':0,'vy':0,'v':0,'w':0,"
-              "'state':'idle','limit':'idle'}", LC_WIRE_BAD_FIELD, "v"},
+              "'state':'idle','limit':'idle'}", LC_WIRE_BAD_FIELD, "setpoint.v"},
     {GENERIC, "{'type':'setpoint','seq':1,'stamp':0,'vx':0,'state':'idle','limit':'idle'}",
-     LC_WIRE_BAD_FIELD, "vy"},
+     LC_WIRE_BAD_FIELD, "setpoint.vy"},
     {GENERIC, "{'type':'setpoint','seq':1,'stamp':0,'vx':0,'vy':0,'state':'napping',"
-              "'limit':'idle'}", LC_WIRE_BAD_FIELD, "state"},
+              "'limit':'idle'}", LC_WIRE_BAD_FIELD, "setpoint.state"},
     {GENERIC, "{'type':'setpoint','seq':1,'stamp':0,'v':0,'w':0,'state':'idle',"
-              "'limit':'idle','waypoint':1.5}", LC_WIRE_BAD_FIELD, "waypoint"},
-    {GENERIC, "{'type':'event','event':'teleported','stamp':0}", LC_WIRE_BAD_FIELD, "event"},
-    {GENERIC, "{'type':'error','code':'oops','message':'x'}", LC_WIRE_BAD_FIELD, "code"},
-    {GENERIC, "{'type':'welcome','role':'robot','robot':'r1'}", LC_WIRE_BAD_FIELD, "protocol"},
+              "'limit':'idle','waypoint':1.5}", LC_WIRE_BAD_FIELD, "setpoint.waypoint"},
+    {GENERIC, "{'type':'event','event':'teleported','stamp':0}", LC_WIRE_BAD_FIELD, "event.event"},
+    {GENERIC, "{'type':'error','code':'oops','message':'x'}", LC_WIRE_BAD_FIELD, "error.code"},
+    {GENERIC, "{'type':'welcome','role':'robot','robot':'r1'}", LC_WIRE_BAD_FIELD, "welcome.protocol"},
     /* the plan request */
     {PLAN, "[]", LC_WIRE_BAD_MESSAGE, "request"},
     {PLAN, "{'goal':[1,0]}", LC_WIRE_BAD_FIELD, "frame"},
@@ -282,7 +275,7 @@ static const bad_case bad_cases[] = {
     {PLAN, "{'goal':[1,0],'frame':{'seq':1}}", LC_WIRE_BAD_FIELD, "frame.type"},
     {PLAN, "{'goal':[1,0],'frame':{'type':'hello'}}", LC_WIRE_BAD_FIELD, "frame.type"},
     {PLAN, "{'goal':[1,0],'frame':{'type':'scan','seq':9,'stamp':0,'pose':[0,0,0]," ANG LIM
-           "'ranges':[1,'x']}}", LC_WIRE_BAD_FIELD, "frame.ranges[1]"},
+           "'dist':[1,'x']}}", LC_WIRE_BAD_FIELD, "frame.dist[1]"},
     {PLAN, "{'type':'plan','goal':[1,0]," FRAME "}", LC_WIRE_BAD_FIELD, "type"},
     {PLAN, "{'goal':[1,0],'goal':[2,0]," FRAME "}", LC_WIRE_BAD_MESSAGE, "goal"},
 };
@@ -302,7 +295,7 @@ static void test_bad_inputs(void **state)
         lc_wire_error err;
         int rc = c->entry == PLAN ? plan_exact(text, strlen(text), NULL, &buf, &req, &err)
                                   : decode_exact(text, strlen(text), NULL, &buf, &msg, &err);
-        if (rc != -1 || err.code != c->code || !names_field(err.message, c->field))
+        if (rc != -1 || err.code != c->code || !lc_test_names_field(err.message, c->field))
             fail_msg("case %d %s: rc %d code %s message \"%s\"; wanted %s naming %s", i, text,
                      rc, lc_wire_code_name(err.code), err.message, lc_wire_code_name(c->code),
                      c->field);
@@ -313,8 +306,8 @@ static void test_bad_inputs(void **state)
 
 /* Messages that are fine: unknown fields, defaults, null beams, optional parts. */
 static const char *const good_cases[] = {
-    SCAN("'ranges':[1,null,2],'future_field':{'a':[1,2,3]}}"),
-    SCAN("'ranges':[1],'mount':[0.1,0,0]}"),
+    SCAN("'dist':[1,null,2],'future_field':{'a':[1,2,3]}}"),
+    SCAN("'dist':[1],'mount':[0.1,0,0]}"),
     PTS("'xy':[]}"),
     PTS("'xy':[1,2],'z':null}"),
     "{'type':'route','waypoints':[]}",
@@ -352,7 +345,7 @@ static void test_scan_no_return(void **state)
     lc_wire_buffers_init(&buf, NULL);
     static lc_wire_msg msg;
     lc_wire_error err;
-    char *text = unquote(SCAN("'ranges':[0.1,null,0.05,10,10.5,-3,5.25]}"));
+    char *text = unquote(SCAN("'dist':[0.1,null,0.05,10,10.5,-3,5.25]}"));
     assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
     assert_int_equal(msg.type, LC_MSG_SCAN);
     const lc_frame *f = &msg.u.frame;
@@ -378,7 +371,7 @@ static void test_error_seq(void **state)
     lc_wire_buffers_init(&buf, NULL);
     static lc_wire_msg msg;
     lc_wire_error err;
-    char *a = unquote(SCAN("'ranges':[1,'x']}"));
+    char *a = unquote(SCAN("'dist':[1,'x']}"));
     assert_int_equal(decode_exact(a, strlen(a), NULL, &buf, &msg, &err), -1);
     assert_true(err.has_seq);
     assert_int_equal(err.seq, 7);
@@ -407,13 +400,13 @@ static void test_seq_limit(void **state)
     static lc_wire_msg msg;
     lc_wire_error err;
     char *text = unquote("{'type':'scan','seq':9007199254740992,'stamp':0,'pose':[0,0,0],"
-                         ANG LIM "'ranges':[1]}");
+                         ANG LIM "'dist':[1]}");
     assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
     assert_true(msg.u.frame.seq == INT64_C(9007199254740992));
     free(text);
     text = unquote("{'type':'scan','seq':9007199254740994,'stamp':0,'pose':[0,0,0]}");
     assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), -1);
-    assert_true(names_field(err.message, "seq"));
+    assert_true(lc_test_names_field(err.message, "scan.seq"));
     free(text);
     lc_wire_buffers_free(&buf);
 }
@@ -441,7 +434,7 @@ static void expect_error(const char *text, const lc_wire_limits *lim, lc_wire_co
     static lc_wire_msg msg;
     lc_wire_error err;
     int rc = decode_exact(text, strlen(text), lim, &buf, &msg, &err);
-    if (rc != -1 || err.code != code || !names_field(err.message, field))
+    if (rc != -1 || err.code != code || !lc_test_names_field(err.message, field))
         fail_msg("rc %d %s \"%s\"; wanted %s naming %s", rc, lc_wire_code_name(err.code),
                  err.message, lc_wire_code_name(code), field);
     lc_wire_buffers_free(&buf);
@@ -481,8 +474,8 @@ static void test_huge_counts(void **state)
     /* default maximum 100000 beams: 100000 pass, 100001 do not */
     char head[256];
     snprintf(head, sizeof head, "{\"type\":\"scan\",\"seq\":1,\"stamp\":0,\"pose\":[0,0,0],"
-                                "\"angle_start\":0,\"angle_step\":1e-5,\"range_min\":0.1,"
-                                "\"range_max\":10,\"ranges\":[");
+                                "\"bearing_first\":0,\"bearing_step\":1e-5,\"near\":0.1,"
+                                "\"far\":10,\"dist\":[");
     char *ok = repeat_text(head, "1", 100000, "]}");
     lc_wire_buffers buf;
     lc_wire_buffers_init(&buf, NULL);
@@ -492,21 +485,21 @@ static void test_huge_counts(void **state)
     assert_int_equal(msg.u.frame.n_ranges, 100000);
     lc_wire_buffers_free(&buf);
     char *bad = repeat_text(head, "1", 100001, "]}");
-    expect_error(bad, NULL, LC_WIRE_BAD_FIELD, "ranges");
+    expect_error(bad, NULL, LC_WIRE_BAD_FIELD, "scan.dist");
     /* a configured maximum */
     lc_wire_limits lim;
     lc_wire_limits_default(&lim);
     lim.max_beams = 10;
     lim.max_points = 3;
     char *eleven = repeat_text(head, "1", 11, "]}");
-    expect_error(eleven, &lim, LC_WIRE_BAD_FIELD, "ranges");
+    expect_error(eleven, &lim, LC_WIRE_BAD_FIELD, "scan.dist");
     char *pts = repeat_text("{\"type\":\"points\",\"seq\":1,\"stamp\":0,\"pose\":[0,0,0],"
                             "\"xy\":[", "1", 8, "]}");
-    expect_error(pts, &lim, LC_WIRE_BAD_FIELD, "xy");
+    expect_error(pts, &lim, LC_WIRE_BAD_FIELD, "points.xy");
     /* route longer than LC_ROUTE_MAX */
     char *route = repeat_text("{\"type\":\"route\",\"waypoints\":[", "[1,2]", LC_ROUTE_MAX + 1,
                               "]}");
-    expect_error(route, NULL, LC_WIRE_BAD_FIELD, "waypoints");
+    expect_error(route, NULL, LC_WIRE_BAD_FIELD, "route.waypoints");
     char *route_ok = repeat_text("{\"type\":\"route\",\"waypoints\":[", "[1,2]", LC_ROUTE_MAX,
                                  "]}");
     static lc_wire_msg m2;
@@ -541,6 +534,7 @@ static const example examples[] = {
     {"proto/examples/setpoint.json", LC_MSG_SETPOINT},
     {"proto/examples/event.json", LC_MSG_EVENT},
     {"proto/examples/error.json", LC_MSG_ERROR},
+    {"proto/examples/warning.json", LC_MSG_WARNING},
     {"proto/examples/view.json", LC_MSG_VIEW},
     {"proto/examples/scenario.json", LC_MSG_SCENARIO},
     {"proto/examples/plan_request.json", LC_MSG_NONE},
@@ -616,6 +610,14 @@ static void test_examples_content(void **state)
     assert_int_equal(msg.u.setpoint.state, LC_STATE_TRACKING);
     assert_int_equal(msg.u.setpoint.sp.limit, LC_LIMIT_BRAKING);
     assert_int_equal(msg.u.setpoint.waypoint, 1);
+    assert_int_equal(msg.u.setpoint.valid_ms, 100);
+    assert_true(msg.u.setpoint.sp.v == 0.43);
+    free(t);
+    t = read_text("proto/examples/warning.json", &len);
+    assert_int_equal(lc_wire_decode(t, len, NULL, &buf, &msg, &err), 0);
+    assert_int_equal(msg.u.warning.code, LC_WARN_SEQ_BACKWARDS);
+    assert_true(msg.u.warning.has_seq && msg.u.warning.seq == 40);
+    assert_true(lc_test_names_field(msg.u.warning.message, "scan.seq"));
     free(t);
     t = read_text("proto/examples/points.json", &len);
     assert_int_equal(lc_wire_decode(t, len, NULL, &buf, &msg, &err), 0);
@@ -635,7 +637,7 @@ static void test_examples_content(void **state)
     lc_wire_buffers_free(&buf);
 }
 
-/* Defaults of CONTRACT.md when fields are left out. */
+/* Defaults of docs/INTERFACES.md when fields are left out. */
 static void test_defaults(void **state)
 {
     (void)state;
@@ -900,6 +902,7 @@ static void test_roundtrip_messages(void **state)
             .model = (iter & 1) ? LC_MODEL_UNICYCLE : LC_MODEL_POINT,
             .state = (lc_state)(lc_rng_next(&rng) % LC_STATE_COUNT),
             .waypoint = (int)(lc_rng_next(&rng) % 20) - 1,
+            .valid_ms = 1 + (int)(lc_rng_next(&rng) % 1000),
         };
         a.sp.limit = (lc_limit)(lc_rng_next(&rng) % LC_LIMIT_COUNT);
         if (a.model == LC_MODEL_UNICYCLE) {
@@ -918,6 +921,7 @@ static void test_roundtrip_messages(void **state)
         assert_int_equal(b->state, a.state);
         assert_int_equal(b->sp.limit, a.sp.limit);
         assert_int_equal(b->waypoint, a.waypoint);
+        assert_int_equal(b->valid_ms, a.valid_ms);
         assert_same_double(b->stamp, a.stamp);
         assert_same_double(b->sp.vx, a.sp.vx);
         assert_same_double(b->sp.vy, a.sp.vy);
@@ -938,7 +942,7 @@ static void test_roundtrip_messages(void **state)
     }
     /* error, hello, welcome */
     lc_wire_error e = {.code = LC_WIRE_BAD_FIELD, .has_seq = true, .seq = 99};
-    snprintf(e.message, sizeof e.message, "ranges[3]: \"quoted\" \\ and \t tab");
+    snprintf(e.message, sizeof e.message, "scan.dist[3]: \"quoted\" \\ and \t tab");
     assert_int_equal(lc_wire_encode_error(&t, &e), 0);
     assert_int_equal(lc_wire_decode(t.s, (size_t)t.len, NULL, &buf, &msg, &err), 0);
     assert_int_equal(msg.type, LC_MSG_ERROR);
@@ -1280,8 +1284,8 @@ static void test_warm_no_alloc(void **state)
     lc_wire_text_init(&t, &ca.alloc);
     char head[256];
     snprintf(head, sizeof head, "{\"type\":\"scan\",\"seq\":1,\"stamp\":0,\"pose\":[0,0,0],"
-                                "\"angle_start\":0,\"angle_step\":0.001,\"range_min\":0.1,"
-                                "\"range_max\":10,\"ranges\":[");
+                                "\"bearing_first\":0,\"bearing_step\":0.001,\"near\":0.1,"
+                                "\"far\":10,\"dist\":[");
     char *scan = repeat_text(head, "1.25", 1081, "]}");
     static lc_wire_msg msg;
     lc_wire_error err;
@@ -1330,10 +1334,10 @@ static void test_out_of_memory(void **state)
     lc_wire_buffers_init(&buf, &fail_alloc);
     static lc_wire_msg msg;
     lc_wire_error err;
-    char *s = unquote(SCAN("'ranges':[1,2]}"));
+    char *s = unquote(SCAN("'dist':[1,2]}"));
     assert_int_equal(lc_wire_decode(s, strlen(s), NULL, &buf, &msg, &err), -1);
     assert_int_equal(err.code, LC_WIRE_INTERNAL);
-    assert_true(names_field(err.message, "ranges"));
+    assert_true(lc_test_names_field(err.message, "scan.dist"));
     budget = 100;
     assert_int_equal(lc_wire_encode_robot(&t, &r), 0);
     assert_int_equal(lc_wire_decode(s, strlen(s), NULL, &buf, &msg, &err), 0);
@@ -1411,6 +1415,7 @@ static void reencode(const lc_wire_msg *msg, lc_wire_text *t, lc_wire_buffers *b
     case LC_MSG_SETPOINT: rc = lc_wire_encode_setpoint(t, &msg->u.setpoint); break;
     case LC_MSG_EVENT: rc = lc_wire_encode_event(t, &msg->u.event); break;
     case LC_MSG_ERROR: rc = lc_wire_encode_error(t, &msg->u.error); break;
+    case LC_MSG_WARNING: rc = lc_wire_encode_warning(t, &msg->u.warning); break;
     default: return;
     }
     assert_int_equal(rc, 0);
@@ -1626,7 +1631,7 @@ static void test_fuzz_random_bytes(void **state)
     lc_wire_buffers_init(&buf, NULL);
     static lc_wire_msg msg;
     static const char *const tokens[] = {"{", "}", "[", "]", ",", ":", "\"type\"", "\"scan\"",
-                                         "\"ranges\"", "null", "1", "-2.5e3", "\"x\"", "true"};
+                                         "\"dist\"", "null", "1", "-2.5e3", "\"x\"", "true"};
     for (int iter = 0; iter < 5000; iter++) {
         size_t len = lc_rng_next(&rng) % 200;
         char *s = xmalloc(len * 10 + 1);
@@ -1676,7 +1681,7 @@ static void test_unknown_keys(void **state)
     assert_true(msg.u.robot.margin == def.margin);
     assert_int_equal(err.ignored, 1);
     lc_wire_ignored_text(&err, said, sizeof said);
-    assert_string_equal(said, "unknown key 'margn' ignored");
+    assert_string_equal(said, "unknown key 'robot.margn' ignored"); /* the path from the type */
     free(t);
 
     /* nested: named with its path, in the order met */
@@ -1703,7 +1708,7 @@ static void test_unknown_keys(void **state)
     assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
     assert_int_equal(err.ignored, 41);
     assert_true(err.ignored_named > 3 && err.ignored_named < 41);
-    assert_true(strncmp(err.ignored_keys, "'k?" "?', 'unknown_key_00'", 23) == 0);
+    assert_true(strncmp(err.ignored_keys, "'hello.k?" "?', 'hello.unknown_key_00'", 35) == 0);
     lc_wire_ignored_text(&err, said, sizeof said);
     char tail[64];
     snprintf(tail, sizeof tail, " and %d more ignored", 41 - err.ignored_named);
@@ -1719,19 +1724,19 @@ static void test_unknown_keys(void **state)
     assert_int_equal(err.ignored, 2);
     assert_int_equal(err.ignored_named, 1);
     lc_wire_ignored_text(&err, said, sizeof said);
-    assert_true(strncmp(said, "unknown keys 'xxxx", 18) == 0);
+    assert_true(strncmp(said, "unknown keys 'hello.xxxx", 24) == 0);
     assert_non_null(strstr(said, "' and 1 more ignored"));
     snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"viewer\",\"a\":0,\"%s\":1,\"b\":2}",
              longkey);
     assert_int_equal(decode_exact(text, strlen(text), NULL, &buf, &msg, &err), 0);
     lc_wire_ignored_text(&err, said, sizeof said);
-    assert_string_equal(said, "unknown keys 'a' and 2 more ignored");
+    assert_string_equal(said, "unknown keys 'hello.a' and 2 more ignored");
 
     /* an empty key is named as such, with its path */
     t = unquote("{'type':'route','waypoints':[[1,2]],'':3}");
     assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
     lc_wire_ignored_text(&err, said, sizeof said);
-    assert_string_equal(said, "unknown key '\"\"' ignored");
+    assert_string_equal(said, "unknown key 'route.\"\"' ignored");
     free(t);
 
     /* seq is read from every message (errors echo it): known at the top level */
@@ -1741,12 +1746,22 @@ static void test_unknown_keys(void **state)
     free(t);
 
     /* a scan with an extra key leaves the fast path and is still decoded */
-    t = unquote("{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'angle_start':0,"
-                "'angle_step':0.1,'range_min':0.1,'range_max':10,'ranges':[1,2],"
-                "'intensities':[5,6]}");
+    t = unquote("{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'bearing_first':0,"
+                "'bearing_step':0.1,'near':0.1,'far':10,'dist':[1,2],"
+                "'strength':[5,6]}");
     assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), 0);
     assert_int_equal(msg.u.frame.n_ranges, 2);
     assert_int_equal(err.ignored, 1);
+    lc_wire_ignored_text(&err, said, sizeof said);
+    assert_string_equal(said, "unknown key 'scan.strength' ignored");
+    free(t);
+    /* lacuna.v1's scan names are unknown keys now: the scan is refused for
+     * its missing fields, and the old names are still counted */
+    t = unquote("{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'angle_start':0,"
+                "'angle_step':0.1,'range_min':0.1,'range_max':10,'ranges':[1,2]}");
+    assert_int_equal(decode_exact(t, strlen(t), NULL, &buf, &msg, &err), -1);
+    assert_true(lc_test_names_field(err.message, "scan.bearing_first"));
+    assert_int_equal(err.ignored, 5);
     free(t);
     lc_wire_buffers_free(&buf);
 }

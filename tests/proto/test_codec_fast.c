@@ -75,7 +75,7 @@ static void same_frame(const lc_wire_msg *a, const lc_wire_msg *b)
     assert_true((x->xy == NULL) == (y->xy == NULL));
     assert_true((x->z == NULL) == (y->z == NULL));
     if (x->ranges)
-        same_array(x->ranges, y->ranges, x->n_ranges, "ranges");
+        same_array(x->ranges, y->ranges, x->n_ranges, "dist");
     if (x->xy)
         same_array(x->xy, y->xy, 2 * x->n_points, "xy");
     if (x->z)
@@ -202,8 +202,8 @@ static void random_frame(text *t, lc_rng *r, bool scan)
     for (int i = 0; i < n; i++) {
         ws(t, r);
         static const char *const names[] = {"type", "seq", "stamp", "pose", "mount",
-                                            "angle_start", "angle_step", "range_min",
-                                            "range_max", "ranges", "xy", "z", "sensor"};
+                                            "bearing_first", "bearing_step", "near",
+                                            "far", "dist", "xy", "z", "sensor"};
         put(t, "\"%s\"", names[keys[i]]);
         ws(t, r);
         put(t, ":");
@@ -289,8 +289,8 @@ static void test_edge_numbers(void **state)
         char s[512];
         int n = snprintf(s, sizeof s,
                          "{\"type\":\"scan\",\"seq\":1,\"stamp\":%s,\"pose\":[0,0,0],"
-                         "\"angle_start\":0,\"angle_step\":0.01,\"range_min\":0.1,"
-                         "\"range_max\":10,\"ranges\":[1]}",
+                         "\"bearing_first\":0,\"bearing_step\":0.01,\"near\":0.1,"
+                         "\"far\":10,\"dist\":[1]}",
                          tokens[i]);
         if (!compare(&p, s, (size_t)n, &lim))
             fail_msg("%s declined", tokens[i]);
@@ -303,9 +303,9 @@ static void test_edge_numbers(void **state)
 
 /* ------------------------------------------------- declined messages */
 
-#define SCAN_HEAD "'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-#define SCAN_TAIL "'range_min':0.1,'range_max':10"
-#define SCAN(extra, ranges) "{" SCAN_HEAD "'angle_step':0.01," SCAN_TAIL extra ",'ranges':" ranges "}"
+#define SCAN_HEAD "'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+#define SCAN_TAIL "'near':0.1,'far':10"
+#define SCAN(extra, ranges) "{" SCAN_HEAD "'bearing_step':0.01," SCAN_TAIL extra ",'dist':" ranges "}"
 #define POINTS(extra) "{'type':'points','seq':3,'stamp':1.5,'pose':[0,0,0],'xy':[1,2]" extra "}"
 
 static void test_declined_like_cjson(void **state)
@@ -320,29 +320,29 @@ static void test_declined_like_cjson(void **state)
         SCAN("", "[1,]"), SCAN("", "[,1]"), SCAN("", "[1 2]"), SCAN("", "[]"),
         SCAN("", "[nul]"), SCAN("", "[true]"), SCAN("", "['1']"), SCAN("", "[1e999]"),
         SCAN("", "[0.1234567890123456789012345678901234567890123456789012345678901234]"),
-        "{'type':'sc\\u0061n','seq':3,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}", /* an escape */
-        "{'typ\\u0065':'scan','seq':3,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
-        "{" SCAN_HEAD "'angle_step':0," SCAN_TAIL ",'ranges':[1]}",   /* field checks */
-        "{" SCAN_HEAD "'angle_step':7," SCAN_TAIL ",'ranges':[1]}",
-        "{" SCAN_HEAD "'angle_step':0.01,'range_min':0,'range_max':10,'ranges':[1]}",
-        "{" SCAN_HEAD "'angle_step':0.01,'range_min':10,'range_max':10,'ranges':[1]}",
-        "{" SCAN_HEAD "'angle_step':0.01,'range_min':0.1,'range_max':2e9,'ranges':[1]}",
-        "{" SCAN_HEAD "'angle_step':3.2," SCAN_TAIL ",'ranges':[1,2,3]}", /* over a turn */
-        "{" SCAN_HEAD "'angle_step':0.01," SCAN_TAIL "}",                 /* no ranges */
-        "{'type':'scan','seq':3.5,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
-        "{'type':'scan','seq':-1,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
-        "{'type':'scan','seq':1e16,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
-        "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
-        "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,0,0],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
-        "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,2e9],'angle_start':0,"
-        "'angle_step':0.01," SCAN_TAIL ",'ranges':[1]}",
+        "{'type':'sc\\u0061n','seq':3,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}", /* an escape */
+        "{'typ\\u0065':'scan','seq':3,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
+        "{" SCAN_HEAD "'bearing_step':0," SCAN_TAIL ",'dist':[1]}",   /* field checks */
+        "{" SCAN_HEAD "'bearing_step':7," SCAN_TAIL ",'dist':[1]}",
+        "{" SCAN_HEAD "'bearing_step':0.01,'near':0,'far':10,'dist':[1]}",
+        "{" SCAN_HEAD "'bearing_step':0.01,'near':10,'far':10,'dist':[1]}",
+        "{" SCAN_HEAD "'bearing_step':0.01,'near':0.1,'far':2e9,'dist':[1]}",
+        "{" SCAN_HEAD "'bearing_step':3.2," SCAN_TAIL ",'dist':[1,2,3]}", /* over a turn */
+        "{" SCAN_HEAD "'bearing_step':0.01," SCAN_TAIL "}",                 /* no ranges */
+        "{'type':'scan','seq':3.5,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
+        "{'type':'scan','seq':-1,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
+        "{'type':'scan','seq':1e16,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
+        "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
+        "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,0,0],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
+        "{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,2e9],'bearing_first':0,"
+        "'bearing_step':0.01," SCAN_TAIL ",'dist':[1]}",
         SCAN(",'mount':null", "[1]"), SCAN(",'xy':[1,2]", "[1]"),
         SCAN(",'sensor':''", "[1]"), SCAN(",'sensor':null", "[1]"),     /* a sensor's name */
         SCAN(",'sensor':3", "[1]"), SCAN(",'sensor':'rear left'", "[1]"),
@@ -353,7 +353,7 @@ static void test_declined_like_cjson(void **state)
         SCAN("", "[1]") " x", "\xef\xbb\xbf" SCAN("", "[1]"), SCAN("", "[1]") "}",
         "{'type':'view'}", "{'type':'hello','role':'viewer'}", "[1,2]", "{}", "",
         "{'seq':3,'stamp':1.5,'pose':[0,0,0],'xy':[1,2]}",                /* no type */
-        POINTS(",'z':[1,2]"), POINTS(",'z':[1e10]"), POINTS(",'ranges':[1]"),
+        POINTS(",'z':[1,2]"), POINTS(",'z':[1e10]"), POINTS(",'dist':[1]"),
         "{'type':'points','seq':3,'stamp':1.5,'pose':[0,0,0],'xy':[1,2,3]}",
         "{'type':'points','seq':3,'stamp':1.5,'pose':[0,0,0],'xy':[1,null]}",
         "{'type':'points','seq':3,'stamp':1.5,'pose':[0,0,0],'xy':[1,2e9]}",
@@ -390,8 +390,8 @@ static void test_declined_like_cjson(void **state)
     lc_wire_limits tight = lim;
     tight.max_beams = 2;
     tight.max_points = 1;
-    const char *over[] = {"{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,0],'angle_start':0,"
-                          "'angle_step':0.01," SCAN_TAIL ",'ranges':[1,2,3]}",
+    const char *over[] = {"{'type':'scan','seq':3,'stamp':1.5,'pose':[0,0,0],'bearing_first':0,"
+                          "'bearing_step':0.01," SCAN_TAIL ",'dist':[1,2,3]}",
                           POINTS(",'z':[1]") "", "{'type':'points','seq':3,'stamp':1.5,"
                                                  "'pose':[0,0,0],'xy':[1,2,3,4]}"};
     int accepted[] = {0, 1, 0};
@@ -480,8 +480,8 @@ static void test_warm_allocates_nothing(void **state)
     lc_rng_seed(&r, 5);
     text t = {malloc(TEXT_MAX), 0};
     t.len = 0;
-    put(&t, "{\"type\":\"scan\",\"seq\":1,\"stamp\":2.5,\"pose\":[0,0,0],\"angle_start\":-2,"
-            "\"angle_step\":0.004,\"range_min\":0.05,\"range_max\":30,\"ranges\":");
+    put(&t, "{\"type\":\"scan\",\"seq\":1,\"stamp\":2.5,\"pose\":[0,0,0],\"bearing_first\":-2,"
+            "\"bearing_step\":0.004,\"near\":0.05,\"far\":30,\"dist\":");
     number_list(&t, &r, 1081, 0.1, 20, true);
     put(&t, "}");
     lc_wire_msg m;

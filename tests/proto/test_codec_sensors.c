@@ -4,7 +4,7 @@
  * and whether it carried its "mount", and a plan request's "frames".
  *
  * - A table of bad inputs, each with its code and the field the message
- *   must name ("robot.sensors[1].name", "frames[2].ranges[5]").
+ *   must name, by its full path ("robot.sensors[1].name", "frames[2].dist[5]").
  * - Good inputs decode to what they say, defaults included (kind scan,
  *   mount at the centre, no fov, no height band); has_mount is set exactly
  *   when "mount" is there, on the fast path and the cJSON path alike.
@@ -29,24 +29,6 @@
 
 /* ------------------------------------------------------------ helpers */
 
-/* s with ' turned into ", in a buffer of the caller's (n bytes). */
-static const char *unquote(const char *s, char *out, size_t n)
-{
-    size_t len = strlen(s);
-    if (len >= n)
-        fail_msg("test text longer than %zu bytes", n);
-    for (size_t i = 0; i <= len; i++)
-        out[i] = s[i] == '\'' ? '"' : s[i];
-    return out;
-}
-
-/* True when msg is "field: ..." for exactly this field. */
-static bool names_field(const char *msg, const char *field)
-{
-    size_t n = strlen(field);
-    return strncmp(msg, field, n) == 0 && msg[n] == ':';
-}
-
 static bool same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0; }
 
 #define assert_same_double(a, b)                                                        \
@@ -62,7 +44,7 @@ static bool same_bits(double a, double b) { return memcmp(&a, &b, sizeof a) == 0
 
 #define ROBOT(s) "{'type':'robot','sensors':" s "}"
 #define SCAN_HEAD "{'type':'scan','seq':7,'stamp':1.5,'pose':[0,0,0],"
-#define SCAN_BODY "'angle_start':-1,'angle_step':0.1,'range_min':0.1,'range_max':10,'ranges':[1,2]}"
+#define SCAN_BODY "'bearing_first':-1,'bearing_step':0.1,'near':0.1,'far':10,'dist':[1,2]}"
 #define SCAN(extra) SCAN_HEAD extra SCAN_BODY
 #define PTS(extra) "{'type':'points','seq':3,'stamp':2,'pose':[0,0,0]," extra "'xy':[1,2]}"
 #define F(seq) "{'type':'scan','seq':" #seq ",'stamp':0,'pose':[0,0,0]," SCAN_BODY
@@ -79,56 +61,56 @@ typedef struct bad_case {
 
 static const bad_case bad_cases[] = {
     /* the robot's sensors */
-    {MSG, ROBOT("{}"), LC_WIRE_BAD_FIELD, "sensors"},
-    {MSG, ROBOT("null"), LC_WIRE_BAD_FIELD, "sensors"},
-    {MSG, ROBOT("[]"), LC_WIRE_BAD_FIELD, "sensors"},
+    {MSG, ROBOT("{}"), LC_WIRE_BAD_FIELD, "robot.sensors"},
+    {MSG, ROBOT("null"), LC_WIRE_BAD_FIELD, "robot.sensors"},
+    {MSG, ROBOT("[]"), LC_WIRE_BAD_FIELD, "robot.sensors"},
     {MSG, ROBOT("[{'name':'a'},{'name':'b'},{'name':'c'},{'name':'d'},{'name':'e'},"
                 "{'name':'f'},{'name':'g'},{'name':'h'},{'name':'i'}]"),
-     LC_WIRE_BAD_FIELD, "sensors"},
-    {MSG, ROBOT("['front']"), LC_WIRE_BAD_FIELD, "sensors[0]"},
-    {MSG, ROBOT("[{'kind':'scan'}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':''}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':null}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':7}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':'a'},{'name':'rear/left'}]"), LC_WIRE_BAD_FIELD, "sensors[1].name"},
-    {MSG, ROBOT("[{'name':'a b'}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':'caf\\u00e9'}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':'" N32 "6'}]"), LC_WIRE_BAD_FIELD, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':'front'},{'name':'front'}]"), LC_WIRE_BAD_FIELD, "sensors[1].name"},
+     LC_WIRE_BAD_FIELD, "robot.sensors"},
+    {MSG, ROBOT("['front']"), LC_WIRE_BAD_FIELD, "robot.sensors[0]"},
+    {MSG, ROBOT("[{'kind':'scan'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':''}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':null}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':7}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':'a'},{'name':'rear/left'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[1].name"},
+    {MSG, ROBOT("[{'name':'a b'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':'caf\\u00e9'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':'" N32 "6'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':'front'},{'name':'front'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[1].name"},
     {MSG, ROBOT("[{'name':'a'},{'name':'b'},{'name':'a'}]"), LC_WIRE_BAD_FIELD,
-     "sensors[2].name"},
-    {MSG, ROBOT("[{'name':'a','name':'b'}]"), LC_WIRE_BAD_MESSAGE, "sensors[0].name"},
-    {MSG, ROBOT("[{'name':'a','kind':'lidar'}]"), LC_WIRE_BAD_FIELD, "sensors[0].kind"},
-    {MSG, ROBOT("[{'name':'a','kind':1}]"), LC_WIRE_BAD_FIELD, "sensors[0].kind"},
-    {MSG, ROBOT("[{'name':'a','kind':'Scan'}]"), LC_WIRE_BAD_FIELD, "sensors[0].kind"},
-    {MSG, ROBOT("[{'name':'a','mount':[0,0]}]"), LC_WIRE_BAD_FIELD, "sensors[0].mount"},
-    {MSG, ROBOT("[{'name':'a','mount':[0,'x',0]}]"), LC_WIRE_BAD_FIELD, "sensors[0].mount[1]"},
-    {MSG, ROBOT("[{'name':'a','mount':[0,0,1e400]}]"), LC_WIRE_BAD_FIELD, "sensors[0].mount[2]"},
-    {MSG, ROBOT("[{'name':'a','fov':1}]"), LC_WIRE_BAD_FIELD, "sensors[0].fov"},
-    {MSG, ROBOT("[{'name':'a','kind':'scan','z_min':0}]"), LC_WIRE_BAD_FIELD, "sensors[0].z_min"},
-    {MSG, ROBOT("[{'name':'a','z_max':1}]"), LC_WIRE_BAD_FIELD, "sensors[0].z_max"},
-    {MSG, ROBOT("[{'name':'a','kind':'points','fov':0}]"), LC_WIRE_BAD_FIELD, "sensors[0].fov"},
-    {MSG, ROBOT("[{'name':'a','kind':'points','fov':-1}]"), LC_WIRE_BAD_FIELD, "sensors[0].fov"},
+     "robot.sensors[2].name"},
+    {MSG, ROBOT("[{'name':'a','name':'b'}]"), LC_WIRE_BAD_MESSAGE, "robot.sensors[0].name"},
+    {MSG, ROBOT("[{'name':'a','kind':'lidar'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].kind"},
+    {MSG, ROBOT("[{'name':'a','kind':1}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].kind"},
+    {MSG, ROBOT("[{'name':'a','kind':'Scan'}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].kind"},
+    {MSG, ROBOT("[{'name':'a','mount':[0,0]}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].mount"},
+    {MSG, ROBOT("[{'name':'a','mount':[0,'x',0]}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].mount[1]"},
+    {MSG, ROBOT("[{'name':'a','mount':[0,0,1e400]}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].mount[2]"},
+    {MSG, ROBOT("[{'name':'a','fov':1}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].fov"},
+    {MSG, ROBOT("[{'name':'a','kind':'scan','z_min':0}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].z_min"},
+    {MSG, ROBOT("[{'name':'a','z_max':1}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].z_max"},
+    {MSG, ROBOT("[{'name':'a','kind':'points','fov':0}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].fov"},
+    {MSG, ROBOT("[{'name':'a','kind':'points','fov':-1}]"), LC_WIRE_BAD_FIELD, "robot.sensors[0].fov"},
     {MSG, ROBOT("[{'name':'a','kind':'points','fov':6.3}]"), LC_WIRE_BAD_FIELD,
-     "sensors[0].fov"},
+     "robot.sensors[0].fov"},
     {MSG, ROBOT("[{'name':'a','kind':'points','fov':'wide'}]"), LC_WIRE_BAD_FIELD,
-     "sensors[0].fov"},
+     "robot.sensors[0].fov"},
     {MSG, ROBOT("[{'name':'a','kind':'points','z_min':1,'z_max':1}]"), LC_WIRE_BAD_FIELD,
-     "sensors[0].z_max"},
+     "robot.sensors[0].z_max"},
     {MSG, ROBOT("[{'name':'a','kind':'points','z_max':-2e9}]"), LC_WIRE_BAD_FIELD,
-     "sensors[0].z_max"},
-    {MSG, "{'type':'robot','radius':0,'sensors':[{'name':'a'}]}", LC_WIRE_BAD_FIELD, "radius"},
+     "robot.sensors[0].z_max"},
+    {MSG, "{'type':'robot','radius':0,'sensors':[{'name':'a'}]}", LC_WIRE_BAD_FIELD, "robot.radius"},
     /* a frame's sensor */
-    {MSG, SCAN("'sensor':'',"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, SCAN("'sensor':null,"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, SCAN("'sensor':1,"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, SCAN("'sensor':['rear'],"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, SCAN("'sensor':'rear left',"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, SCAN("'sensor':'" N32 "6',"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, SCAN("'sensor':'rear','sensor':'rear',"), LC_WIRE_BAD_MESSAGE, "sensor"},
-    {MSG, PTS("'sensor':'cam\\u0007',"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, PTS("'sensor':'',"), LC_WIRE_BAD_FIELD, "sensor"},
-    {MSG, PTS("'mount':[0,0],'sensor':'cam',"), LC_WIRE_BAD_FIELD, "mount"},
+    {MSG, SCAN("'sensor':'',"), LC_WIRE_BAD_FIELD, "scan.sensor"},
+    {MSG, SCAN("'sensor':null,"), LC_WIRE_BAD_FIELD, "scan.sensor"},
+    {MSG, SCAN("'sensor':1,"), LC_WIRE_BAD_FIELD, "scan.sensor"},
+    {MSG, SCAN("'sensor':['rear'],"), LC_WIRE_BAD_FIELD, "scan.sensor"},
+    {MSG, SCAN("'sensor':'rear left',"), LC_WIRE_BAD_FIELD, "scan.sensor"},
+    {MSG, SCAN("'sensor':'" N32 "6',"), LC_WIRE_BAD_FIELD, "scan.sensor"},
+    {MSG, SCAN("'sensor':'rear','sensor':'rear',"), LC_WIRE_BAD_MESSAGE, "scan.sensor"},
+    {MSG, PTS("'sensor':'cam\\u0007',"), LC_WIRE_BAD_FIELD, "points.sensor"},
+    {MSG, PTS("'sensor':'',"), LC_WIRE_BAD_FIELD, "points.sensor"},
+    {MSG, PTS("'mount':[0,0],'sensor':'cam',"), LC_WIRE_BAD_FIELD, "points.mount"},
     /* a plan request's frames */
     {PLAN, "{'goal':[1,0],'frames':[]}", LC_WIRE_BAD_FIELD, "frames"},
     {PLAN, "{'goal':[1,0],'frames':{}}", LC_WIRE_BAD_FIELD, "frames"},
@@ -137,9 +119,9 @@ static const bad_case bad_cases[] = {
     {PLAN, "{'goal':[1,0],'frames':[" F(1) ",7]}", LC_WIRE_BAD_FIELD, "frames[1]"},
     {PLAN, "{'goal':[1,0],'frames':[" F(1) ",{'seq':2}]}", LC_WIRE_BAD_FIELD, "frames[1].type"},
     {PLAN, "{'goal':[1,0],'frames':[" F(1) "," F(2) ",{'type':'scan','seq':3,'stamp':0,"
-           "'pose':[0,0,0],'angle_start':-1,'angle_step':0.1,'range_min':0.1,'range_max':10,"
-           "'ranges':[1,2,3,4,5,'x']}]}",
-     LC_WIRE_BAD_FIELD, "frames[2].ranges[5]"},
+           "'pose':[0,0,0],'bearing_first':-1,'bearing_step':0.1,'near':0.1,'far':10,"
+           "'dist':[1,2,3,4,5,'x']}]}",
+     LC_WIRE_BAD_FIELD, "frames[2].dist[5]"},
     {PLAN, "{'goal':[1,0],'frames':[{'type':'points','seq':1,'stamp':0,'pose':[0,0,0],"
            "'sensor':'a b','xy':[]}]}",
      LC_WIRE_BAD_FIELD, "frames[0].sensor"},
@@ -171,10 +153,10 @@ static void test_bad_inputs(void **state)
     for (size_t i = 0; i < sizeof bad_cases / sizeof bad_cases[0]; i++) {
         const bad_case *c = &bad_cases[i];
         char text[TEXT_MAX];
-        unquote(c->text, text, sizeof text);
+        lc_test_unquote(c->text, text, sizeof text);
         lc_wire_error err;
         int rc = decode_case(c->entry, text, &buf, &err);
-        if (rc != -1 || err.code != c->code || !names_field(err.message, c->field))
+        if (rc != -1 || err.code != c->code || !lc_test_names_field(err.message, c->field))
             fail_msg("case %zu %s: rc %d %s \"%s\"; wanted %s naming %s", i, text, rc,
                      lc_wire_code_name(err.code), err.message, lc_wire_code_name(c->code),
                      c->field);
@@ -190,13 +172,13 @@ static void test_too_many_frames(void **state)
     size_t n = (size_t)sprintf(text, "{\"goal\":[1,0],\"frames\":[");
     char one[256];
     for (int i = 0; i <= LC_WIRE_PLAN_FRAMES_MAX; i++)
-        n += (size_t)sprintf(text + n, "%s%s", i ? "," : "", unquote(F(1), one, sizeof one));
+        n += (size_t)sprintf(text + n, "%s%s", i ? "," : "", lc_test_unquote(F(1), one, sizeof one));
     sprintf(text + n, "]}");
     lc_wire_buffers buf;
     lc_wire_buffers_init(&buf, NULL);
     lc_wire_error err;
     assert_int_equal(decode_case(PLAN, text, &buf, &err), -1);
-    assert_true(names_field(err.message, "frames"));
+    assert_true(lc_test_names_field(err.message, "frames"));
     assert_non_null(strstr(err.message, "64"));
     /* 64 are fine */
     char *last = strrchr(text, '{');
@@ -211,7 +193,7 @@ static void test_two_sensor_robot(void **state)
 {
     (void)state;
     char text[TEXT_MAX];
-    unquote("{'type':'robot','model':'unicycle','sensors':["
+    lc_test_unquote("{'type':'robot','model':'unicycle','sensors':["
             "{'name':'front','kind':'scan','mount':[0.3,0,0]},"
             "{'name':'rear','mount':[-0.3,0,3.141592653589793]},"
             "{'name':'cam.1_A-z','kind':'points','mount':[0.2,0.05,0.1],'fov':1.2,"
@@ -247,11 +229,11 @@ static void test_two_sensor_robot(void **state)
     assert_true(r->sensors[3].mount.x == 0.0 && r->sensors[3].mount.yaw == 0.0);
     assert_int_equal(err.ignored, 0);
     /* no sensors: none */
-    unquote("{'type':'robot'}", text, sizeof text);
+    lc_test_unquote("{'type':'robot'}", text, sizeof text);
     assert_int_equal(lc_wire_decode(text, strlen(text), NULL, &buf, &m, &err), 0);
     assert_int_equal(m.u.robot.n_sensors, 0);
     /* an unknown key in a sensor is ignored, and named */
-    unquote("{'type':'robot','sensors':[{'name':'a','colour':'red'}]}", text, sizeof text);
+    lc_test_unquote("{'type':'robot','sensors':[{'name':'a','colour':'red'}]}", text, sizeof text);
     assert_int_equal(lc_wire_decode(text, strlen(text), NULL, &buf, &m, &err), 0);
     assert_int_equal(err.ignored, 1);
     assert_non_null(strstr(err.ignored_keys, "sensors[0].colour"));
@@ -284,7 +266,7 @@ static void test_frame_sensor_and_mount(void **state)
     lc_wire_buffers_init(&slow, NULL);
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
         char text[TEXT_MAX];
-        unquote(cases[i].text, text, sizeof text);
+        lc_test_unquote(cases[i].text, text, sizeof text);
         lc_wire_msg a, b;
         lc_wire_error err;
         assert_int_equal(lc_wire_decode(text, strlen(text), NULL, &fast, &a, &err), 0);
@@ -465,17 +447,17 @@ static void test_plan_frames(void **state)
 {
     (void)state;
     char text[TEXT_MAX];
-    unquote("{'goal':[4,0],'robot':{'sensors':[{'name':'front','mount':[0.3,0,0]},"
+    lc_test_unquote("{'goal':[4,0],'robot':{'sensors':[{'name':'front','mount':[0.3,0,0]},"
             "{'name':'cam','kind':'points','fov':1.5}]},'frames':["
             "{'type':'scan','seq':1,'stamp':0,'pose':[0,0,0],'sensor':'front',"
-            "'angle_start':-1,'angle_step':0.5,'range_min':0.1,'range_max':10,"
-            "'ranges':[1,2,3,4,5]},"
+            "'bearing_first':-1,'bearing_step':0.5,'near':0.1,'far':10,"
+            "'dist':[1,2,3,4,5]},"
             "{'type':'points','seq':2,'stamp':0.01,'pose':[0,0,0],'sensor':'cam',"
             "'xy':[1,2,3,4],'z':[0.5,0.6]},"
             "{'type':'points','seq':3,'stamp':0.02,'pose':[0,0,0],'xy':[]},"
             "{'type':'scan','seq':4,'stamp':0.025,'pose':[0.1,0,0],'mount':[0.2,0,0],"
-            "'angle_start':0,'angle_step':0.1,'range_min':0.1,'range_max':10,"
-            "'ranges':[7,null,9]}]}",
+            "'bearing_first':0,'bearing_step':0.1,'near':0.1,'far':10,"
+            "'dist':[7,null,9]}]}",
             text, sizeof text);
     lc_counting_alloc ca;
     lc_counting_alloc_init(&ca);
@@ -514,18 +496,18 @@ static void test_plan_frames(void **state)
     assert_int_equal(ca.live, 0);
 
     /* one "frame" is one of frames */
-    unquote("{'goal':[1,0],'frame':" F(9) "}", text, sizeof text);
+    lc_test_unquote("{'goal':[1,0],'frame':" F(9) "}", text, sizeof text);
     lc_wire_buffers_init(&buf, NULL);
     assert_int_equal(lc_wire_decode_plan_request(text, strlen(text), NULL, &buf, &req, &err), 0);
     assert_int_equal(req.n_frames, 1);
     assert_true(req.frames[0].seq == 9 && req.frame.seq == 9);
 
     /* an error carries the seq of the frame at fault */
-    unquote("{'goal':[1,0],'frames':[" F(11) ",{'type':'scan','seq':12,'stamp':0,"
+    lc_test_unquote("{'goal':[1,0],'frames':[" F(11) ",{'type':'scan','seq':12,'stamp':0,"
             "'pose':[0,0]}]}",
             text, sizeof text);
     assert_int_equal(lc_wire_decode_plan_request(text, strlen(text), NULL, &buf, &req, &err), -1);
-    assert_true(names_field(err.message, "frames[1].pose"));
+    assert_true(lc_test_names_field(err.message, "frames[1].pose"));
     assert_true(err.has_seq);
     assert_int_equal(err.seq, 12);
     lc_wire_buffers_free(&buf);

@@ -22,17 +22,17 @@ static const char header_full[] =
     "\"route\":{\"waypoints\":[[4,0],[4,4]],\"loop\":true,\"tolerance\":0.3},"
     "\"start\":[0.1,0.2,0.3],"
     "\"world\":{\"polygons\":[[[2,-0.6],[2.6,-0.6],[2.6,0.3]],[[0,5],[6,5]]]},"
-    "\"sensor\":{\"beams\":181,\"fov\":3.141592653589793,\"range_min\":0.05,"
-    "\"range_max\":8,\"rate\":10,\"noise\":0.01,\"mount\":[0.1,0,0]},"
+    "\"sensor\":{\"beams\":181,\"fov\":3.141592653589793,\"near\":0.05,"
+    "\"far\":8,\"rate\":10,\"noise\":0.01,\"mount\":[0.1,0,0]},"
     "\"expect\":\"blocked\",\"max_time\":30,\"family\":\"cul_de_sac\",\"shortest_path\":12.5}";
 
 static const char scan_line[] =
-    "{\"type\":\"scan\",\"seq\":1,\"stamp\":0.1,\"pose\":[0,0,0],\"angle_start\":-1,"
-    "\"angle_step\":0.5,\"range_min\":0.05,\"range_max\":8,\"ranges\":[1,2,null,3,4]}";
+    "{\"type\":\"scan\",\"seq\":1,\"stamp\":0.1,\"pose\":[0,0,0],\"bearing_first\":-1,"
+    "\"bearing_step\":0.5,\"near\":0.05,\"far\":8,\"dist\":[1,2,null,3,4]}";
 
 static const char setpoint_line[] =
     "{\"type\":\"setpoint\",\"seq\":1,\"stamp\":0.1,\"v\":0.25,\"w\":-0.125,"
-    "\"state\":\"tracking\",\"limit\":\"braking\",\"waypoint\":0}";
+    "\"state\":\"tracking\",\"limit\":\"braking\",\"waypoint\":0,\"valid_ms\":100}";
 
 typedef struct warnings {
     int count, line;
@@ -79,7 +79,7 @@ static void test_header_fields(void **state)
     assert_string_equal(h.description, "a \"test\" site");
     assert_true(h.has_robot && h.robot.model == LC_MODEL_UNICYCLE);
     assert_near(h.robot.radius, 0.32, 0);
-    assert_near(h.robot.margin, 0.05, 0); /* CONTRACT.md default */
+    assert_near(h.robot.margin, 0.05, 0); /* docs/INTERFACES.md default */
     assert_true(h.has_route && h.route.count == 2 && h.route.loop);
     assert_near(h.route.waypoints[1].y, 4, 0);
     assert_true(h.has_start);
@@ -169,8 +169,8 @@ static void test_bad_lines_named(void **state)
         {"{\"type\":\"teleport\"}", "unknown_type"},
         {"{\"type\":\"setpoint\",\"seq\":1,\"stamp\":0,\"vx\":1,\"vy\":0,\"state\":\"x\","
          "\"limit\":\"goal\",\"waypoint\":0}", "state"},
-        {"{\"type\":\"scan\",\"seq\":1,\"stamp\":1e400,\"pose\":[0,0,0],\"angle_start\":0,"
-         "\"angle_step\":0.1,\"range_min\":0.1,\"range_max\":5,\"ranges\":[1]}", "stamp"},
+        {"{\"type\":\"scan\",\"seq\":1,\"stamp\":1e400,\"pose\":[0,0,0],\"bearing_first\":0,"
+         "\"bearing_step\":0.1,\"near\":0.1,\"far\":5,\"dist\":[1]}", "stamp"},
         {"{\"type\":\"scenario\",\"version\":1}", "second scenario"},
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
@@ -223,8 +223,8 @@ static void test_bad_headers(void **state)
         {"{\"type\":\"scenario\",\"version\":1,\"world\":{\"polygons\":[[[0,0],[1,\"a\"]]]}}\n",
          "world.polygons[0][1]"},
         {"{\"type\":\"scenario\",\"version\":1,\"sensor\":{\"beams\":0}}\n", "sensor.beams"},
-        {"{\"type\":\"scenario\",\"version\":1,\"sensor\":{\"range_min\":5,\"range_max\":1}}\n",
-         "range_max"},
+        {"{\"type\":\"scenario\",\"version\":1,\"sensor\":{\"near\":5,\"far\":1}}\n",
+         "far"},
         {"{\"type\":\"scenario\",\"version\":1,\"robot\":{\"radius\":-1}}\n", "robot.radius"},
         {"{\"type\":\"scenario\",\"version\":1,\"start\":[0,1e400,0]}\n", "start"},
         {"{\"type\":\"scenario\",\"version\":1,\"expect\":\"maybe\"}\n", "expect"},
@@ -306,7 +306,7 @@ static void test_unknown_keys_warned(void **state)
 
     /* in messages: once per message type, on the line where it first appears */
     char odd_scan[sizeof scan_line + 32];
-    snprintf(odd_scan, sizeof odd_scan, "%.*s,\"intensities\":[1]}",
+    snprintf(odd_scan, sizeof odd_scan, "%.*s,\"strength\":[1]}",
              (int)(sizeof scan_line - 2), scan_line);
     snprintf(text, sizeof text, "%s\n%s\n%s\n%s\n", header_full, odd_scan, odd_scan,
              setpoint_line);
@@ -314,8 +314,8 @@ static void test_unknown_keys_warned(void **state)
     assert_int_equal(read_all(text, &w, &err, NULL), 3);
     assert_int_equal(w.count, 1);
     assert_int_equal(w.line, 2);
-    assert_string_equal(w.last, "scan message: unknown key 'intensities' ignored (said once "
-                                "per message type)");
+    assert_string_equal(w.last, "unknown key 'scan.strength' ignored (said once per "
+                                "message type)");
 
     /* a recording's header, as lacuna serve writes it: every key known */
     const char *rec = "{\"type\":\"scenario\",\"version\":1,\"control\":{\"period\":0,"

@@ -50,9 +50,9 @@ def scan_template(pose, beams):
     a0, step = -fov / 2, fov / (beams - 1)
     ranges = [example.ray(example.SCENE, pose[0], pose[1], pose[2] + a0 + i * step, 8.0)
               for i in range(beams)]
-    return frame_template({"type": "scan", "pose": list(pose), "angle_start": a0,
-                           "angle_step": step, "range_min": 0.05, "range_max": 8.0,
-                           "ranges": ranges})
+    return frame_template({"type": "scan", "pose": list(pose), "bearing_first": a0,
+                           "bearing_step": step, "near": 0.05, "far": 8.0,
+                           "dist": ranges})
 
 
 def robot(url, i, beams):
@@ -97,6 +97,8 @@ async def one_cycle(srv, k):
     if kind == 0:
         ws, m = await hello(srv.url, "cycle-%d" % k)
         await ws.send(json.dumps(dict(example.scan(example.SCENE, 1, 0.0, (0, 0, 0)))))
+        m = await recv(ws)
+        check(m.get("code") == "no_route", "cycle robot %d warned of no route (%s)" % (k, m))
         m = await recv(ws)
         check(m["type"] == "setpoint", "cycle robot %d answered (%s)" % (k, m.get("type")))
         await ws.close()

@@ -34,7 +34,7 @@ except ImportError:
     sys.exit(77)
 
 EXE = os.environ.get("LACUNA_EXE", "build/lacuna")
-PROTO = ["lacuna.v1"]
+PROTO = ["lacuna.v2"]
 WRAP = shlex.split(os.environ.get("LACUNA_SERVE_WRAP", ""))
 SLOW = bool(WRAP)
 T = 30.0 if SLOW else 5.0  # s, every single wait
@@ -236,8 +236,8 @@ async def closed(ws, timeout=T):
 def far_scan(seq, stamp, beams=31):
     """A scan with every beam at 6 m: open space."""
     return {"type": "scan", "seq": seq, "stamp": stamp, "pose": [0, 0, 0],
-            "angle_start": -1.5, "angle_step": 3.0 / beams, "range_min": 0.05,
-            "range_max": 10, "ranges": [6.0] * beams}
+            "bearing_first": -1.5, "bearing_step": 3.0 / beams, "near": 0.05,
+            "far": 10, "dist": [6.0] * beams}
 
 
 def frame_template(frame):
@@ -335,7 +335,7 @@ class RawWS:
     """A websocket over a plain socket, for frames a normal client would not send
     (cut in the middle) and for a peer that never reads (small receive buffer)."""
 
-    def __init__(self, port, origin=None, rcvbuf=None, protocol="lacuna.v1"):
+    def __init__(self, port, origin=None, rcvbuf=None, protocol="lacuna.v2"):
         self.s = socket.socket(socket.AF_INET, socket.SOCK_STREAM)
         if rcvbuf:
             self.s.setsockopt(socket.SOL_SOCKET, socket.SO_RCVBUF, rcvbuf)

@@ -22,6 +22,7 @@
 
 #include "codec.h"
 #include "config.h"
+#include "hubfake.h"
 #include "recorder.h"
 #include "robots.h"
 #include "server.h"
@@ -218,79 +219,20 @@ static void test_token_equal(void **state)
 
 /* ------------------------------------------------------ hub, no sockets */
 
-typedef struct fake {
-    int wakes, kills;
-} fake;
-
-static void fake_wake(void *data, void *conn_user) { ((fake *)data)->wakes++; }
-static void fake_kill(void *data, void *conn_user) { ((fake *)data)->kills++; }
-
-static fake io;
-
-static lc_hub *hub_with(void (*tweak)(lc_hub_config *))
-{
-    lc_hub_config hc;
-    memset(&hc, 0, sizeof hc);
-    lc_server_config_default(&hc.opts);
-    hc.headroom = 16;
-    hc.io = (lc_hub_io){fake_wake, fake_kill, &io};
-    if (tweak)
-        tweak(&hc);
-    lc_hub *hub = lc_hub_new(&hc);
-    assert_non_null(hub);
-    return hub;
-}
-
-static int say(lc_hub *hub, lc_conn *c, const char *text, double now)
-{
-    return lc_hub_receive(hub, c, text, strlen(text), true, true, false, now);
-}
-
-/* The next queued message parsed (the caller frees), or NULL. */
-static cJSON *next(lc_conn *c)
-{
-    size_t len;
-    char *text = lc_conn_peek(c, &len);
-    if (!text)
-        return NULL;
-    cJSON *j = cJSON_ParseWithLength(text, len);
-    assert_non_null(j);
-    lc_conn_pop(c);
-    return j;
-}
-
-static const char *str(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    return cJSON_IsString(it) ? it->valuestring : "";
-}
-
-static double num(const cJSON *j, const char *key)
-{
-    const cJSON *it = cJSON_GetObjectItemCaseSensitive(j, key);
-    return cJSON_IsNumber(it) ? it->valuedouble : NAN;
-}
-
-/* Expect the next message to have this type (and code, for errors). */
-static void expect(lc_conn *c, const char *type, const char *code)
-{
-    cJSON *j = next(c);
-    assert_non_null(j);
-    assert_string_equal(str(j, "type"), type);
-    if (code)
-        assert_string_equal(str(j, "code"), code);
-    cJSON_Delete(j);
-}
-
-static void expect_none(lc_conn *c)
-{
-    size_t len;
-    assert_null(lc_conn_peek(c, &len));
-}
+/* Short names for the fake hub's helpers (hubfake.h). */
+#define io lc_fake
+#define hub_with(tweak) lc_fake_hub(tweak)
+#define say(hub, c, text, now) lc_fake_say(hub, c, text, now)
+#define next(c) lc_fake_next(c)
+#define str(j, key) lc_fake_str(j, key)
+#define num(j, key) lc_fake_num(j, key)
+#define expect(c, type, code) lc_fake_expect(c, type, code)
+#define expect_none(c) lc_fake_expect_none(c)
+#define robot(hub, name, now) lc_fake_robot(hub, name, now)
 
 static const char scan_fmt[] =
-    "{\"type\":\"scan\",\"seq\":%d,\"stamp\":%g,\"pose\":[0,0,0],\"angle_start\":-1.5,"
-    "\"angle_step\":0.1,\"range_min\":0.05,\"range_max\":10,\"ranges\":[6,6,6,6,6,6,6,6,6,6,"
+    "{\"type\":\"scan\",\"seq\":%d,\"stamp\":%g,\"pose\":[0,0,0],\"bearing_first\":-1.5,"
+    "\"bearing_step\":0.1,\"near\":0.05,\"far\":10,\"dist\":[6,6,6,6,6,6,6,6,6,6,"
     "6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6,6]}";
 
 static void send_scan(lc_hub *hub, lc_conn *c, int seq, double stamp, double now)
@@ -298,17 +240,6 @@ static void send_scan(lc_hub *hub, lc_conn *c, int seq, double stamp, double now
     char text[512];
     snprintf(text, sizeof text, scan_fmt, seq, stamp);
     assert_int_equal(say(hub, c, text, now), 0);
-}
-
-static lc_conn *robot(lc_hub *hub, const char *name, double now)
-{
-    char text[128];
-    lc_conn *c = lc_hub_open(hub, NULL, NULL, now);
-    assert_non_null(c);
-    snprintf(text, sizeof text, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"%s\"}", name);
-    assert_int_equal(say(hub, c, text, now), 0);
-    expect(c, "welcome", NULL);
-    return c;
 }
 
 static void test_hub_hello_and_roles(void **state)
@@ -319,7 +250,7 @@ static void test_hub_hello_and_roles(void **state)
     expect(c, "error", "unauthorized");
     assert_true(lc_conn_closing(c));
     assert_int_equal(lc_conn_close_status(c, NULL), LC_CLOSE_POLICY);
-    lc_hub_close(hub, c);
+    lc_hub_close(hub, c, 0);
 
     lc_conn *r = robot(hub, "r1", 0);
     lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
@@ -336,7 +267,7 @@ static void test_hub_hello_and_roles(void **state)
     say(hub, twin, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
     expect(twin, "error", "name_taken");
     assert_true(lc_conn_closing(twin));
-    lc_hub_close(hub, twin);
+    lc_hub_close(hub, twin, 0);
 
     say(hub, r, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"r1\"}", 0);
     expect(r, "error", "bad_message");
@@ -360,7 +291,7 @@ static void test_hub_token(void **state)
         say(hub, c, hellos[i], 0);
         expect(c, "error", "unauthorized");
         assert_true(lc_conn_closing(c));
-        lc_hub_close(hub, c);
+        lc_hub_close(hub, c, 0);
     }
     lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     say(hub, c, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"a\",\"token\":\"river-stone-3\"}",
@@ -424,6 +355,7 @@ static void test_hub_send_queue_full(void **state)
 {
     lc_hub *hub = hub_with(small_queues);
     lc_conn *r = robot(hub, "slow", 0);
+    say(hub, r, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", 0); /* no warning */
     /* receive flow: stop reading at half the queue (2 of 4), read again at a quarter */
     assert_true(lc_conn_reading(r));
     send_scan(hub, r, 1, 0.05, 0.05);
@@ -433,7 +365,7 @@ static void test_hub_send_queue_full(void **state)
     lc_conn_pop(r);
     assert_true(lc_conn_reading(r)); /* 1 left: a quarter of 4 */
     lc_conn_pop(r);
-    for (int k = 1; k <= 6; k++)
+    for (int k = 3; k <= 8; k++) /* seq and stamps go on: no warning */
         send_scan(hub, r, k, 0.05 * k, 0.05 * k);
     for (int k = 1; k <= 4; k++)
         expect(r, "setpoint", NULL);
@@ -545,6 +477,7 @@ static void test_hub_flood_and_hello_timeout(void **state)
     lc_hub *hub = hub_with(slow_rate);
     lc_conn *r = robot(hub, "flood", 0);
     send_scan(hub, r, 1, 0, 0);
+    expect(r, "warning", "no_route");
     expect(r, "setpoint", NULL);
     send_scan(hub, r, 2, 0.01, 0.01);
     expect(r, "error", "rate_limited");
@@ -571,6 +504,9 @@ static void test_hub_shutdown(void **state)
     lc_hub_shutdown(hub, 0.01);
     j = next(r);
     assert_string_equal(str(j, "type"), "setpoint");
+    assert_string_equal(str(j, "state"), "shutdown"); /* not idle, which means no route */
+    assert_string_equal(str(j, "limit"), "none");
+    assert_near(num(j, "valid_ms"), 100, 0); /* the first frame's 0.05 s, twice */
     assert_near(num(j, "seq"), 7, 0);
     assert_near(num(j, "vx"), 0, 0);
     assert_near(num(j, "vy"), 0, 0);
@@ -582,6 +518,101 @@ static void test_hub_shutdown(void **state)
     lc_hub_free(hub);
 }
 
+/* The next message is a warning of this code, naming what (seq < 0: none). */
+static void expect_warning(lc_conn *c, const char *code, const char *what, int seq)
+{
+    cJSON *j = next(c);
+    assert_non_null(j);
+    assert_string_equal(str(j, "type"), "warning");
+    assert_string_equal(str(j, "code"), code);
+    if (!strstr(str(j, "message"), what))
+        fail_msg("warning %s: \"%s\" does not say %s", code, str(j, "message"), what);
+    if (seq < 0)
+        assert_null(cJSON_GetObjectItemCaseSensitive(j, "seq"));
+    else
+        assert_near(num(j, "seq"), seq, 0);
+    cJSON_Delete(j);
+}
+
+/* A scan of this seq and stamp, naming a sensor and carrying an extra key
+ * when those are not NULL; received 10 ms after the one before (the hub's
+ * clock goes on whatever the stamps do). */
+static double warn_now; /* the hub's clock in test_hub_warnings */
+
+static void send_scan_with(lc_hub *hub, lc_conn *c, int seq, double stamp, const char *sensor,
+                           const char *extra)
+{
+    double now = warn_now += 0.01;
+    char text[640];
+    int n = snprintf(text, sizeof text, scan_fmt, seq, stamp);
+    if (sensor || extra)
+        snprintf(text + n - 1, sizeof text - (size_t)n + 1, ",\"%s\":\"%s\"}",
+                 sensor ? "sensor" : extra, sensor ? sensor : "x");
+    assert_int_equal(say(hub, c, text, now), 0);
+}
+
+/*
+ * Warnings a robot hears (PROTOCOL.md): each kind once per connection and
+ * not twice, unknown keys once per message type (the hello's after its
+ * welcome), each before the setpoint of the frame it is about, with that
+ * frame's seq; a new connection hears them again; a viewer hears none.
+ */
+static void test_hub_warnings(void **state)
+{
+    lc_hub *hub = hub_with(NULL);
+    lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
+    say(hub, c, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"w1\",\"tokn\":\"x\"}", 0);
+    expect(c, "welcome", NULL);
+    expect_warning(c, "unknown_key", "'hello.tokn'", -1);
+    expect_none(c);
+    for (int k = 0; k < 2; k++) /* a typo keeps the default radius: said once */
+        say(hub, c, "{\"type\":\"robot\",\"radus\":0.5,\"sensors\":[{\"name\":\"front\"}]}", 0);
+    expect_warning(c, "unknown_key", "'robot.radus'", -1);
+    expect_none(c);
+    send_scan_with(hub, c, 5, 1.0, NULL, NULL);
+    expect_warning(c, "no_route", "route", 5);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 6, 1.05, NULL, NULL);
+    expect(c, "setpoint", NULL);
+    expect_none(c);
+    say(hub, c, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", warn_now);
+    send_scan_with(hub, c, 4, 1.1, NULL, NULL);
+    expect_warning(c, "seq_backwards", "scan.seq: 4 is below the previous frame's 6", 4);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 7, 0.9, NULL, NULL);
+    expect_warning(c, "stamp_backwards", "scan.stamp: 0.90000000000000002 is before", 7);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 3, 0.5, NULL, NULL); /* both again: not said again */
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 8, 1.2, "front", NULL); /* a listed sensor */
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 9, 1.25, "cam", NULL);
+    expect_warning(c, "unlisted_sensor", "scan.sensor: 'cam'", 9);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 10, 1.3, "cam2", NULL);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 11, 1.35, NULL, "strength");
+    expect_warning(c, "unknown_key", "'scan.strength'", 11);
+    expect(c, "setpoint", NULL);
+    send_scan_with(hub, c, 12, 1.4, NULL, "strength");
+    expect(c, "setpoint", NULL);
+    expect_none(c);
+    /* equal stamps (two sensors at one instant) and equal seqs are no warning */
+    lc_conn *c2 = robot(hub, "w2", warn_now);
+    say(hub, c2, "{\"type\":\"route\",\"waypoints\":[[3,0]]}", warn_now);
+    for (int k = 0; k < 3; k++) {
+        send_scan_with(hub, c2, 1, 2.0, NULL, NULL);
+        expect(c2, "setpoint", NULL);
+    }
+    expect_none(c2);
+    /* a viewer's unknown key is logged, not sent */
+    lc_conn *v = lc_hub_open(hub, NULL, NULL, 0);
+    say(hub, v, "{\"type\":\"hello\",\"role\":\"viewer\",\"colour\":\"red\"}", 0);
+    expect(v, "welcome", NULL);
+    expect_none(v);
+    lc_hub_free(hub);
+}
+
 static void one_connection(lc_hub_config *hc) { hc->opts.max_connections = 1; }
 
 static void test_hub_max_connections(void **state)
@@ -590,7 +621,7 @@ static void test_hub_max_connections(void **state)
     lc_conn *c = lc_hub_open(hub, NULL, NULL, 0);
     assert_non_null(c);
     assert_null(lc_hub_open(hub, NULL, NULL, 0));
-    lc_hub_close(hub, c);
+    lc_hub_close(hub, c, 0);
     assert_non_null(lc_hub_open(hub, NULL, NULL, 0));
     lc_hub_free(hub);
 }
@@ -622,8 +653,8 @@ static void test_hub_admission(void **state)
     /* nothing a refused connection sends is read */
     assert_int_equal(say(hub, a3, "{\"type\":\"hello\",\"role\":\"robot\",\"robot\":\"x\"}", 0), 0);
     expect_none(a3);
-    lc_hub_close(hub, a3);
-    lc_hub_close(hub, a1);
+    lc_hub_close(hub, a3, 0);
+    lc_hub_close(hub, a1, 0);
     lc_conn *a4 = lc_hub_open(hub, NULL, &a, 0); /* a slot is free again */
     assert_false(lc_conn_closing(a4));
     lc_conn *p1 = lc_hub_open(hub, NULL, &page, 0), *p2 = lc_hub_open(hub, NULL, &listed, 0);
@@ -651,6 +682,7 @@ static void test_hub_recording_fails(void **state)
     lc_hub *hub = hub_with(record_to);
     lc_conn *r = robot(hub, "tape", 0);
     send_scan(hub, r, 1, 0.05, 0.05);
+    expect(r, "warning", "no_route");
     expect(r, "setpoint", NULL);
     cJSON *j = next(r);
     assert_string_equal(str(j, "type"), "error");
@@ -825,6 +857,7 @@ int main(void)
         cmocka_unit_test(test_hub_limits),
         cmocka_unit_test(test_hub_flood_and_hello_timeout),
         cmocka_unit_test(test_hub_shutdown),
+        cmocka_unit_test(test_hub_warnings),
         cmocka_unit_test(test_hub_max_connections),
         cmocka_unit_test(test_hub_admission),
         cmocka_unit_test(test_hub_recording_fails),

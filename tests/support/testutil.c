@@ -244,3 +244,19 @@ void lc_test_write_file(const char *path, const char *text, size_t n)
         fail_msg("%s: not written whole (%zu of %zu bytes taken, close %d)", path, put, n,
                  closed);
 }
+
+const char *lc_test_unquote(const char *s, char *out, size_t n)
+{
+    size_t len = strlen(s);
+    if (len >= n)
+        fail_msg("test text longer than %zu bytes", n);
+    for (size_t i = 0; i <= len; i++)
+        out[i] = s[i] == '\'' ? '"' : s[i];
+    return out;
+}
+
+bool lc_test_names_field(const char *msg, const char *field)
+{
+    size_t n = strlen(field);
+    return strncmp(msg, field, n) == 0 && msg[n] == ':';
+}

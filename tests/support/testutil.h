@@ -167,6 +167,14 @@ void lc_test_refused(const char *args, const char *want);
 char *lc_test_slurp_len(const char *path, size_t *len);
 char *lc_test_slurp(const char *path);
 
+/* s with ' turned into " (tables of JSON inputs stay readable written with
+ * '), in the caller's out[n]; fails the test when it does not fit. */
+const char *lc_test_unquote(const char *s, char *out, size_t n);
+
+/* True when msg is "field: ..." for exactly this field (a codec error or
+ * warning names its field first). */
+bool lc_test_names_field(const char *msg, const char *field);
+
 /* Writes the n bytes of text to path (created or truncated); fails the test
  * when the file cannot be opened or not all of it written. */
 void lc_test_write_file(const char *path, const char *text, size_t n);

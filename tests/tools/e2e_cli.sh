@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
 # e2e_cli.sh - the `lacuna` command as a user meets it: help, version, exit
-# codes (CONTRACT.md: 0 ok, 1 runtime failure, 2 bad usage or input with a
+# codes (docs/INTERFACES.md: 0 ok, 1 runtime failure, 2 bad usage or input with a
 # one-line reason naming the field), and `lacuna plan` on the shipped
 # example requests.
 set -u
@@ -71,16 +71,16 @@ bad() { # bad NAME JSON FIELD
     expect_in "bad-$1" "$tmp/err" "$3"
     [ "$(wc -l <"$tmp/err")" -eq 1 ] || { fail=$((fail + 1)); echo "FAIL bad-$1: reason not one line"; }
 }
-frame='"frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0.1, "range_min": 0.1, "range_max": 5, "ranges": [1, 2, null]}'
+frame='"frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "bearing_first": 0, "bearing_step": 0.1, "near": 0.1, "far": 5, "dist": [1, 2, null]}'
 bad truncated '{"goal": [1, 2], ' "bad_json\|JSON\|json"
 bad no-frame '{"goal": [1, 2]}' "frame"
 bad radius "{\"robot\": {\"radius\": -1}, \"goal\": [1, 2], $frame}" "radius"
 bad goal "{\"goal\": [1], $frame}" "goal"
-bad step '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0, "range_min": 0.1, "range_max": 5, "ranges": [1]}}' "angle_step"
-bad beam '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "angle_start": 0, "angle_step": 0.1, "range_min": 0.1, "range_max": 5, "ranges": [1, "x"]}}' "ranges\[1\]"
+bad step '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "bearing_first": 0, "bearing_step": 0, "near": 0.1, "far": 5, "dist": [1]}}' "bearing_step"
+bad beam '{"goal": [1, 2], "frame": {"type": "scan", "seq": 1, "stamp": 0, "pose": [0,0,0], "bearing_first": 0, "bearing_step": 0.1, "near": 0.1, "far": 5, "dist": [1, "x"]}}' "frame.dist\[1\]"
 bad dt "{\"goal\": [1, 2], \"dt\": -0.1, $frame}" "dt"
 
-# lacuna check: the stopping distances of REFERENCES.md (d = v t_r + v^2/(2a):
+# lacuna check: the stopping distances of docs/REFERENCES.md (d = v t_r + v^2/(2a):
 # 1.0 m/s, 0.1 s, 1.0 m/s^2 -> 0.60 m; 1.5 m/s, 0.2 s, 1.0 m/s^2 -> 1.425 m).
 check check-060 0 "$exe" check --v-max 1.0 --latency 0.1 --a-max 1.0
 expect_in check-060 "$tmp/out" "stopping distance  0.600 m"
@@ -104,7 +104,7 @@ check check-two-shapes 2 "$exe" check --radius 0.3 --footprint '[[1,0],[0,1],[-1
 check check-footprint-json 2 "$exe" check --footprint '[[1,0],'
 expect_in check-footprint-json "$tmp/err" "not JSON"
 
-# lacuna bench smoke test: the JSON shape of CONTRACT.md and that the solver
+# lacuna bench smoke test: the JSON shape of docs/INTERFACES.md and that the solver
 # comparison ran (never a timing assertion).
 check bench-quick 0 "$exe" bench --quick --json
 python3 - "$tmp/out" <<'PY' && pass=$((pass + 1)) || { fail=$((fail + 1)); echo "FAIL bench-quick: JSON shape"; }

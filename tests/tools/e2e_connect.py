@@ -69,7 +69,7 @@ SCENARIO = {
     "start": [0.0, 0.0, 0.0],
     "world": {"polygons": [box(-1.0, -1.4, 6.0, -1.2), box(-1.0, 1.2, 6.0, 1.4),
                            box(-1.2, -1.4, -1.0, 1.4), box(1.5, 0.6, 2.0, 1.2)]},
-    "sensor": {"beams": 181, "fov": 6.2, "range_min": 0.05, "range_max": 8.0, "rate": 20,
+    "sensor": {"beams": 181, "fov": 6.2, "near": 0.05, "far": 8.0, "rate": 20,
                "noise": 0.005, "mount": [0, 0, 0]},
     "expect": "done", "max_time": 30,
 }
@@ -187,7 +187,7 @@ def test_interrupt(tmp, scen):
 async def views(url, done, seconds):
     """Reads view messages as a viewer until done(view) holds or `seconds`
     pass; returns done's last value."""
-    async with websockets.connect(url, subprotocols=["lacuna.v1"], max_size=None) as ws:
+    async with websockets.connect(url, subprotocols=["lacuna.v2"], max_size=None) as ws:
         await ws.send(json.dumps({"type": "hello", "role": "viewer"}))
         end = time.monotonic() + seconds
         while time.monotonic() < end:

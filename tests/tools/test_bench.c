@@ -122,6 +122,23 @@ static void check_codec(const cJSON *c)
     assert_true(figure(c, "decode_mm_cjson_us") > 0);
 }
 
+/* The search section: every search timed found its way (the goals are
+ * drawn in remembered free space of one open hall), and the amortised
+ * share is the mean over the cadence. */
+static void check_search(const cJSON *c)
+{
+    assert_int_equal((int)figure(c, "searches"), 5);
+    assert_int_equal((int)figure(c, "no_path"), 0);
+    assert_true(figure(c, "window_m") == 20.0);
+    double median = figure(c, "median_us"), p99 = figure(c, "p99_us");
+    assert_true(median > 0 && p99 >= median);
+    assert_true(figure(c, "p99_unpreempted_us") > 0);
+    assert_true(figure(c, "expanded") >= 1);
+    double cadence = figure(c, "cadence_frames");
+    assert_true(cadence >= 10);
+    assert_true(fabs(figure(c, "amortised_us") - figure(c, "mean_us") / cadence) < 0.01);
+}
+
 static void test_quick_json(void **state)
 {
     static const char *const lines[] = {"bench --quick --json", "bench --quick",
@@ -141,6 +158,14 @@ static void test_quick_json(void **state)
         assert_true(cJSON_IsNull(item(j, "slope_obstacles")));
         check_ellipse(item(j, "ellipse"));
         check_codec(item(j, "codec"));
+        check_search(item(j, "search"));
+        for (int k = 0; k < 2; k++) {
+            const cJSON *c = cJSON_GetArrayItem(cases, k);
+            /* the robot stays put: a search each 100 frames, the first in
+             * the untimed warm-up */
+            assert_true(figure(c, "searches") <= 1);
+            assert_true(figure(c, "median_no_search_us") > 0);
+        }
         cJSON_Delete(j);
     }
 }
@@ -166,6 +191,13 @@ static void test_case_selection(void **state)
     assert_int_equal(cJSON_GetArraySize(item(j, "cases")), 0);
     assert_int_equal(cJSON_GetArraySize(item(j, "ellipse")), 0);
     check_codec(item(j, "codec"));
+    assert_null(cJSON_GetObjectItemCaseSensitive(j, "search"));
+    cJSON_Delete(j);
+
+    j = bench_json("bench --quick --json --case search");
+    assert_int_equal(cJSON_GetArraySize(item(j, "cases")), 0);
+    assert_null(cJSON_GetObjectItemCaseSensitive(j, "codec"));
+    check_search(item(j, "search"));
     cJSON_Delete(j);
 }
 

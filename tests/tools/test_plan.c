@@ -159,7 +159,7 @@ static void add_return(returns *rt, const lc_wire_plan_request *req, lc_vec2 p_s
     rt->w[rt->n++] = lc_pose_apply(req->frame.pose, p_robot);
 }
 
-/* Scans: finite ranges within [range_min, range_max] (the codec makes null
+/* Scans: finite distances within [near, far] (the codec makes null
  * and out-of-limit values NaN); points: finite, within the robot's height
  * band and its sensor's when the frame has heights. Self hits (inside the
  * footprint) out. */
@@ -487,8 +487,8 @@ static void expect_refused(const char *text, const char *field)
 
 #define SCAN_OBJECT \
     "{\"type\": \"scan\", \"seq\": 1, \"stamp\": 0, \"pose\": [0, 0, 0], " \
-    "\"angle_start\": 0, \"angle_step\": 0.1, \"range_min\": 0.1, \"range_max\": 5, " \
-    "\"ranges\": [1, 2, null]}"
+    "\"bearing_first\": 0, \"bearing_step\": 0.1, \"near\": 0.1, \"far\": 5, " \
+    "\"dist\": [1, 2, null]}"
 #define SCAN_FRAME "\"frame\": " SCAN_OBJECT
 
 static void test_bad_requests(void **state)
@@ -523,17 +523,17 @@ static void test_bad_requests(void **state)
         {"frame of no kind", "{\"goal\": [1, 2], \"frame\": {\"pose\": [0, 0, 0]}}", "frame.type"},
         {"frame a route", "{\"goal\": [1, 2], \"frame\": {\"type\": \"route\"}}", "frame.type"},
         {"no beams", "{\"goal\": [1, 2], \"frame\": {\"type\": \"scan\", \"seq\": 1, \"stamp\": 0, "
-         "\"pose\": [0, 0, 0], \"angle_start\": 0, \"angle_step\": 0.1, \"range_min\": 0.1, "
-         "\"range_max\": 5, \"ranges\": []}}", "frame.ranges"},
+         "\"pose\": [0, 0, 0], \"bearing_first\": 0, \"bearing_step\": 0.1, \"near\": 0.1, "
+         "\"far\": 5, \"dist\": []}}", "frame.dist"},
         {"a beam a string", "{\"goal\": [1, 2], \"frame\": {\"type\": \"scan\", \"seq\": 1, "
-         "\"stamp\": 0, \"pose\": [0, 0, 0], \"angle_start\": 0, \"angle_step\": 0.1, "
-         "\"range_min\": 0.1, \"range_max\": 5, \"ranges\": [1, \"x\"]}}", "frame.ranges[1]"},
-        {"angle_step zero", "{\"goal\": [1, 2], \"frame\": {\"type\": \"scan\", \"seq\": 1, "
-         "\"stamp\": 0, \"pose\": [0, 0, 0], \"angle_start\": 0, \"angle_step\": 0, "
-         "\"range_min\": 0.1, \"range_max\": 5, \"ranges\": [1]}}", "frame.angle_step"},
+         "\"stamp\": 0, \"pose\": [0, 0, 0], \"bearing_first\": 0, \"bearing_step\": 0.1, "
+         "\"near\": 0.1, \"far\": 5, \"dist\": [1, \"x\"]}}", "frame.dist[1]"},
+        {"bearing_step zero", "{\"goal\": [1, 2], \"frame\": {\"type\": \"scan\", \"seq\": 1, "
+         "\"stamp\": 0, \"pose\": [0, 0, 0], \"bearing_first\": 0, \"bearing_step\": 0, "
+         "\"near\": 0.1, \"far\": 5, \"dist\": [1]}}", "frame.bearing_step"},
         {"pose of two", "{\"goal\": [1, 2], \"frame\": {\"type\": \"scan\", \"seq\": 1, "
-         "\"stamp\": 0, \"pose\": [0, 0], \"angle_start\": 0, \"angle_step\": 0.1, "
-         "\"range_min\": 0.1, \"range_max\": 5, \"ranges\": [1]}}", "frame.pose"},
+         "\"stamp\": 0, \"pose\": [0, 0], \"bearing_first\": 0, \"bearing_step\": 0.1, "
+         "\"near\": 0.1, \"far\": 5, \"dist\": [1]}}", "frame.pose"},
         {"xy odd", "{\"goal\": [1, 2], \"frame\": {\"type\": \"points\", \"seq\": 1, \"stamp\": 0, "
          "\"pose\": [0, 0, 0], \"xy\": [1, 2, 3]}}", "frame.xy"},
         {"z short", "{\"goal\": [1, 2], \"frame\": {\"type\": \"points\", \"seq\": 1, \"stamp\": 0, "
@@ -542,9 +542,9 @@ static void test_bad_requests(void **state)
         {"frame and frames", "{\"goal\": [1, 2], \"frames\": [" SCAN_OBJECT "], " SCAN_FRAME "}",
          "frames: give frame or frames"},
         {"a bad beam in frames[1]", "{\"goal\": [1, 2], \"frames\": [" SCAN_OBJECT ", "
-         "{\"type\": \"scan\", \"seq\": 2, \"stamp\": 0, \"pose\": [0, 0, 0], \"angle_start\": 0, "
-         "\"angle_step\": 0.1, \"range_min\": 0.1, \"range_max\": 5, \"ranges\": [1, \"x\"]}]}",
-         "frames[1].ranges[1]"},
+         "{\"type\": \"scan\", \"seq\": 2, \"stamp\": 0, \"pose\": [0, 0, 0], \"bearing_first\": 0, "
+         "\"bearing_step\": 0.1, \"near\": 0.1, \"far\": 5, \"dist\": [1, \"x\"]}]}",
+         "frames[1].dist[1]"},
         {"a bad sensor name", "{\"goal\": [1, 2], \"frames\": [{\"type\": \"points\", \"seq\": 1, "
          "\"stamp\": 0, \"pose\": [0, 0, 0], \"sensor\": \"cam 2\", \"xy\": []}]}",
          "frames[0].sensor"},

@@ -241,7 +241,7 @@ static void test_bad_input(void **state)
     char text[512];
     snprintf(text, sizeof text,
              "%s{\"type\":\"setpoint\",\"seq\":1,\"stamp\":0,\"vx\":0,\"vy\":0,"
-             "\"state\":\"idle\",\"limit\":\"idle\",\"waypoint\":null}\n",
+             "\"state\":\"idle\",\"limit\":\"idle\",\"waypoint\":null,\"valid_ms\":100}\n",
              hdr);
     lc_test_write_file(lc_test_tmp("lone.jsonl"), text, strlen(text));
     snprintf(args, sizeof args, "replay '%s' --json", lc_test_tmp("lone.jsonl"));

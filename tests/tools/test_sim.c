@@ -70,7 +70,7 @@ static void test_every_shipped_scenario(void **state)
                       lc_test_num(j, "waypoints_reached"), lc_test_num(j, "collisions"),
                       lc_test_num(j, "min_clearance"), lc_test_num(j, "path_length"),
                       lc_test_num(j, "sim_time"));
-        /* CONTRACT.md: exit 0 only when the route was done without a
+        /* docs/INTERFACES.md: exit 0 only when the route was done without a
          * collision; "ok" says whether the header's expectation was met */
         int want = h.expect == LC_EXPECT_DONE ? 0 : 1;
         if (rc != want)
@@ -105,8 +105,8 @@ static void corridor_route(const char *path, const char *model, const char *star
              "\"route\":%s,\"start\":%s,"
              "\"world\":{\"polygons\":[[[-3,-1.7],[30,-1.7],[30,-1.5],[-3,-1.5]],"
              "[[-3,1.5],[30,1.5],[30,1.7],[-3,1.7]]]},"
-             "\"sensor\":{\"beams\":181,\"fov\":4.71238898038469,\"range_min\":0.05,"
-             "\"range_max\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},\"max_time\":60}\n",
+             "\"sensor\":{\"beams\":181,\"fov\":4.71238898038469,\"near\":0.05,"
+             "\"far\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},\"max_time\":60}\n",
              model, route, start);
     lc_test_write_file(path, text, strlen(text));
 }
@@ -239,8 +239,8 @@ static void footprint_scene(const char *path, const char *robot, const char *rou
              "\"world\":{\"polygons\":[[[-0.1,-0.1],[12.1,-0.1],[12.1,0],[-0.1,0]],"
              "[[-0.1,6],[12.1,6],[12.1,6.1],[-0.1,6.1]],[[-0.1,0],[0,0],[0,6],[-0.1,6]],"
              "[[12,0],[12.1,0],[12.1,6],[12,6]],%s]},"
-             "\"sensor\":{\"beams\":271,\"fov\":4.71238898038469,\"range_min\":0.05,"
-             "\"range_max\":10,\"rate\":20,\"noise\":0.01,\"mount\":[0.45,0,0]},"
+             "\"sensor\":{\"beams\":271,\"fov\":4.71238898038469,\"near\":0.05,"
+             "\"far\":10,\"rate\":20,\"noise\":0.01,\"mount\":[0.45,0,0]},"
              "\"max_time\":120}\n",
              robot, route, start, extra);
     lc_test_write_file(path, text, strlen(text));

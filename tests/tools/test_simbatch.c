@@ -38,8 +38,8 @@ static void world(const char *path, const char *family, const char *route, const
              "\"world\":{\"polygons\":[[[-0.2,-1.7],[6.2,-1.7],[6.2,-1.5],[-0.2,-1.5]],"
              "[[-0.2,1.5],[6.2,1.5],[6.2,1.7],[-0.2,1.7]],[[-0.2,-1.5],[0,-1.5],[0,1.5],"
              "[-0.2,1.5]],[[6,-1.5],[6.2,-1.5],[6.2,1.5],[6,1.5]]%s]},"
-             "\"sensor\":{\"beams\":91,\"fov\":4.71238898038469,\"range_min\":0.05,"
-             "\"range_max\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},"
+             "\"sensor\":{\"beams\":91,\"fov\":4.71238898038469,\"near\":0.05,"
+             "\"far\":8,\"rate\":20,\"noise\":0,\"mount\":[0,0,0]},"
              "\"expect\":\"%s\",\"max_time\":30,\"shortest_path\":3}\n",
              family, family, route, extra, expect);
     lc_test_write_file(path, text, strlen(text));

@@ -359,9 +359,9 @@ static int returns_near_wall(const char *out, const char *name, lc_pose mount, d
                         cJSON_GetArrayItem(p, 1)->valuedouble,
                         cJSON_GetArrayItem(p, 2)->valuedouble};
         lc_pose sensor = lc_pose_compose(pose, mount);
-        double a0 = lc_test_num(v[i], "angle_start"), da = lc_test_num(v[i], "angle_step");
+        double a0 = lc_test_num(v[i], "bearing_first"), da = lc_test_num(v[i], "bearing_step");
         int b = 0;
-        cJSON_ArrayForEach(r, cJSON_GetObjectItemCaseSensitive(v[i], "ranges")) {
+        cJSON_ArrayForEach(r, cJSON_GetObjectItemCaseSensitive(v[i], "dist")) {
             if (cJSON_IsNumber(r)) {
                 double a = a0 + da * b;
                 lc_vec2 w = lc_pose_apply(sensor, lc_v2(r->valuedouble * cos(a),

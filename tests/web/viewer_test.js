@@ -28,6 +28,15 @@
  *     the page reconnects by itself and draws new views.
  * 10. A server with a viewer token: the page asks for the token, does not
  *     knock again until it has one, connects with the one typed in.
+ * 11. Explanations (after 8): waypoints are numbered from 0 on the map and
+ *     in the panel, as on the wire (the views the page received); a
+ *     unicycle that starts facing a long wall, its waypoint behind it, is
+ *     said to turn on the spot to get round, then to go round
+ *     (the view's guide is a detour) while the guidance path and the
+ *     remembered cells are drawn in their colours; the accel limit says
+ *     whether it speeds up or slows down; a waypoint in a locked cage is
+ *     said to be unreachable (blocked, no_path); a robot whose link drops is
+ *     said to have lost it, its session kept.
  * Screenshots go to LACUNA_WEB_SHOTS for people to look at. No timing
  * assertions: every wait is "until this holds", with a generous timeout that
  * only turns a hang into a failure.
@@ -130,7 +139,8 @@ function stopServer(child, signal) {
 /* A patrolling robot: `lacuna sim SCENARIO --connect`, restarted whenever it
  * ends (it ends when its server goes away), until stopped. */
 function startPatrol(port, name, scenario) {
-  const args = ['sim', path.join(ROOT, 'scenarios', scenario), '--connect', `ws://127.0.0.1:${port}/`,
+  const file = path.isAbsolute(scenario) ? scenario : path.join(ROOT, 'scenarios', scenario);
+  const args = ['sim', file, '--connect', `ws://127.0.0.1:${port}/`,
                 '--name', name, '--laps', '0', '--json'];
   const state = { stopped: false, starts: 0, child: null };
   const run = () => {
@@ -183,7 +193,7 @@ async function canvasStats(page) {
     const d = g.getImageData(0, 0, c.width, c.height).data;
     const cs = getComputedStyle(document.documentElement);
     const names = ['paper', 'region', 'robot', 'robot-bad', 'route', 'ellipse', 'arrow', 'obstacle',
-                   'region-line', 'points-core'];
+                   'region-line', 'points-core', 'path', 'memory'];
     const want = {};
     for (const n of names) {
       const hex = cs.getPropertyValue('--map-' + n).trim();
@@ -268,11 +278,22 @@ function watchPage(page, origin, tag) {
     if (!u.startsWith(origin) && !u.startsWith('data:'))
       w.offOrigin.push(u);
   });
+  w.waypoints = {}; /* robot -> the last waypoint indices its views carried */
   page.on('websocket', (ws) => {
     w.sockets++;
     const mine = [];
     w.sent.push(mine);
     ws.on('framesent', (f) => mine.push(f.payload));
+    ws.on('framereceived', (f) => {
+      let m = null;
+      try { m = JSON.parse(String(f.payload)); } catch (e) { return; }
+      if (m && m.type === 'view' && typeof m.robot === 'string') {
+        const list = w.waypoints[m.robot] || (w.waypoints[m.robot] = []);
+        list.push(m.waypoint);
+        if (list.length > 60)
+          list.shift();
+      }
+    });
   });
   return w;
 }
@@ -293,6 +314,113 @@ function checkSentOnlyHello(w, tag) {
   check(bad.length === 0 && hellos >= 1,
         `${tag}: the page sent only hellos with role viewer (${hellos} connections)`,
         JSON.stringify(bad));
+}
+
+/* ------------------------------------------------------------- explanations */
+
+/* A scenario of the shipped office round's robot and scanner: it starts
+ * facing a long wall 0.8 m ahead, its one waypoint behind the wall. */
+function wallScenario(dir) {
+  const first = fs.readFileSync(path.join(ROOT, 'scenarios', 'office_round.jsonl'), 'utf8').split('\n')[0];
+  const h = JSON.parse(first);
+  const box = (x0, y0, x1, y1) => [[x0, y0], [x1, y0], [x1, y1], [x0, y1]];
+  h.description = 'Fenwick yard: a unicycle facing a long wall, its waypoint behind it';
+  h.start = [2.2, 0, 0];
+  h.route = { waypoints: [[7, 0]], loop: false, tolerance: 0.3 };
+  h.world = { polygons: [box(3, -3, 3.2, 3), box(-3, -6, 10, -5.8), box(-3, 5.8, 10, 6),
+                         box(-3, -6, -2.8, 6), box(10, -6, 10.2, 6)] };
+  h.max_time = 60;
+  const file = path.join(dir, 'wall.jsonl');
+  fs.writeFileSync(file, JSON.stringify(h) + '\n');
+  return file;
+}
+
+/* The panel's texts and the map's counts the checks read. */
+async function panelOf(page) {
+  return page.evaluate(() => {
+    const text = (id) => document.getElementById(id).textContent;
+    const map = document.getElementById('map').dataset;
+    return {
+      name: text('robot-name'), state: text('state'), code: text('state-code'),
+      words: text('state-words'), limit: text('limit-words'), setpoint: text('f-setpoint'),
+      rate: text('f-rate'), age: text('f-age'), plan: text('f-plan'),
+      waypoint: text('f-waypoint'), detail: text('f-waypoint-detail'), way: text('f-way'),
+      labels: map.labels, path: Number(map.path || 0), memory: Number(map.memory || 0),
+    };
+  });
+}
+
+async function pick(page, name) {
+  await waitFor(page, (n) => Array.from(document.getElementById('picker').options).some((o) => o.value === n),
+                name, 'the picker lists ' + name);
+  await page.selectOption('#picker', name);
+  await waitFor(page, (n) => document.getElementById('robot-name').textContent === n, name,
+                'the panel shows ' + name);
+}
+
+/* 11: what the panel says, and the way and the memory drawn. */
+async function explanations(page, w, port, dir) {
+  /* numbering: the office round has 8 waypoints, labelled 0 to 7; the panel
+   * shows the index the wire carries */
+  await pick(page, ROBOT_NAME);
+  await waitFor(page, () => /^\d+$/.test(document.getElementById('f-waypoint').textContent), null,
+                'the panel shows a waypoint index');
+  await drawnAgain(page, 1, 'the route drawn');
+  let p = await panelOf(page);
+  const sent = w.waypoints[ROBOT_NAME] || [];
+  check(p.labels === '0,1,2,3,4,5,6,7', 'the map numbers the waypoints from 0', p.labels);
+  check(sent.includes(Number(p.waypoint)) && /of 0\u20137/.test(p.detail),
+        'the panel numbers the current waypoint as the wire does', JSON.stringify([p.waypoint, p.detail, sent.slice(-5)]));
+  const named = /toward waypoint (\d+)/.exec(p.words);
+  check(!named || sent.includes(Number(named[1])), 'the words name a waypoint as the wire does', p.words);
+
+  /* turning on the spot, then going round the wall, the way drawn */
+  const wall = startPatrol(port, 'test-wall', wallScenario(dir));
+  await pick(page, 'test-wall');
+  await waitFor(page, () => document.getElementById('state').textContent === 'Turning on the spot' &&
+                /to get round: the way ahead is closed/.test(document.getElementById('state-words').textContent),
+                null, 'a unicycle turning where it stands to get round the wall is said to');
+  await drawnAgain(page, 1, 'the turning robot drawn');
+  await page.screenshot({ path: path.join(SHOTS, 'turning.png') });
+  p = await panelOf(page);
+  log('turning: ' + JSON.stringify(p));
+  check(!/^On its way/.test(p.state), 'not "On its way" while it turns where it stands', p.state);
+  await waitFor(page, () => document.getElementById('state').textContent === 'Going round' &&
+                /way ahead is closed/.test(document.getElementById('state-words').textContent), null,
+                'a detour of the guidance path is said in words');
+  await drawnAgain(page, 2, 'the detour drawn');
+  await page.screenshot({ path: path.join(SHOTS, 'detour.png') });
+  p = await panelOf(page);
+  const px = await canvasStats(page);
+  log('detour: ' + JSON.stringify(p) + ' path px ' + px.count.path + ', memory px ' + px.count.memory);
+  check(p.path >= 2 && px.count.path > 50, 'the guidance path is drawn in its colour',
+        JSON.stringify({ vertices: p.path, px: px.count.path }));
+  check(p.memory > 0 && px.count.memory > 20, 'the remembered cells are drawn in their colour',
+        JSON.stringify({ cells: p.memory, px: px.count.memory }));
+  check(/going round/.test(p.way) || /going round/.test(await page.textContent('#f-way-detail')),
+        'the way figure says it goes round', p.way);
+  await waitFor(page, () => document.getElementById('limit-code').textContent === 'accel' &&
+                /speeding up|slowing down|up or down/.test(document.getElementById('limit-words').textContent),
+                null, 'the accel limit says which way the speed changes');
+
+  /* the link drops: the session waits, and the panel says so */
+  wall.stop();
+  await waitFor(page, () => document.getElementById('state').textContent === 'Link lost' &&
+                /keeps its route/.test(document.getElementById('state-words').textContent), null,
+                'a dropped link is said, with the session kept');
+  await page.screenshot({ path: path.join(SHOTS, 'link-lost.png') });
+
+  /* a waypoint in a locked cage: unreachable */
+  const cage = startPatrol(port, 'test-cage', 'locked_cage.jsonl');
+  await pick(page, 'test-cage');
+  await waitFor(page, () => /unreachable/.test(document.getElementById('state').textContent) &&
+                /No way leads to waypoint 1/.test(document.getElementById('state-words').textContent), null,
+                'a waypoint the patrol found no way to is said to be unreachable');
+  await drawnAgain(page, 1, 'the blocked robot drawn');
+  await page.screenshot({ path: path.join(SHOTS, 'unreachable.png') });
+  log('unreachable: ' + JSON.stringify(await panelOf(page)));
+  cage.stop();
+  await pick(page, ROBOT_NAME);
 }
 
 /* ------------------------------------------------------------- main */
@@ -355,17 +483,7 @@ async function main() {
           JSON.stringify(a.count));
     check(b.changed > 0.002 * b.total, 'canvas changed between the two snapshots', b.changed);
 
-    const panel = await page.evaluate(() => ({
-      name: document.getElementById('robot-name').textContent,
-      state: document.getElementById('state').textContent,
-      code: document.getElementById('state-code').textContent,
-      words: document.getElementById('state-words').textContent,
-      limit: document.getElementById('limit-words').textContent,
-      setpoint: document.getElementById('f-setpoint').textContent,
-      rate: document.getElementById('f-rate').textContent,
-      age: document.getElementById('f-age').textContent,
-      plan: document.getElementById('f-plan').textContent,
-    }));
+    const panel = await panelOf(page);
     log('panel: ' + JSON.stringify(panel));
     check(panel.name === ROBOT_NAME, 'panel names the robot', panel.name);
     check(STATES.includes(panel.code) && panel.state.length > 0 && panel.words.length > 20,
@@ -478,6 +596,9 @@ async function main() {
     check(phonePicker.hidden && phonePicker.options === 1,
           'the phone, watching #robot=' + ROBOT_NAME + ', gets only that robot', JSON.stringify(phonePicker));
     second.stop();
+
+    /* ---- 11: explanations */
+    await explanations(page, w, port, profile);
 
     /* ---- 8b: the robot stops sending frames (its sim is paused): the
      * server's watchdog stops it, and the page says why */

@@ -1,0 +1,698 @@
+/*
+ * test_guide.c - guidance: the weighted A* search through the remembered
+ * space (guide.h), one search at a time; over time (cadence, steadiness,
+ * refusals): test_guide_steady.c.
+ *
+ * Memories are built the way a robot builds them: full-turn scans of a
+ * simulated site (src/testbed/world.h, no noise) through lc_ingest and
+ * lc_memory_update (tests/support/guide_scene.h). References, each named
+ * beside its checks:
+ * - open space: the straight segment, its length the Euclidean distance;
+ * - round a wall's end or a gap's edge: the shortest path for a point kept
+ *   R from a convex obstacle, two tangents and the arc between them (the
+ *   closed form of the shortest path round a disc; the obstacle grown by R
+ *   is a stadium whose end is that disc), within one search cell;
+ * - the weighted A* bound (Pohl 1970; for A* that does not reopen closed
+ *   cells, Likhachev, Gordon and Thrun 2003, ARA*): the cost found is at
+ *   most `greed` times the least, the least from a plain Dijkstra over the
+ *   same grid and the costs guide.h and docs/DESIGN.md state, each cell
+ *   classified by brute force over every remembered return
+ *   (scene_least_cost);
+ * - unknown space, a goal outside the window: closed forms of the costs
+ *   and the same Dijkstra;
+ * - lc_guide_ahead: hand computation on paths written here.
+ */
+#include "testutil.h"
+
+#include <math.h>
+#include <stddef.h>
+#include <string.h>
+
+#include "guide_scene.h"
+
+#define CLEAR SCENE_CLEAR
+
+/* The polyline's length, summed here. */
+static double polyline_length(const lc_guide_path *p)
+{
+    double l = 0;
+    for (int k = 0; k + 1 < p->n; k++)
+        l += lc_dist(p->v[k], p->v[k + 1]);
+    return l;
+}
+
+/*
+ * The shortest path from a to b for a point kept r from an obstacle whose
+ * grown shape bulges at the disc (c, r), going round the disc on the side
+ * of the unit direction `side` from c: the tangent from a, the arc, the
+ * tangent to b (closed form; a and b at least r from c).
+ */
+static double round_disc(lc_vec2 a, lc_vec2 b, lc_vec2 c, double r, lc_vec2 side)
+{
+    double da = lc_dist(a, c), db = lc_dist(b, c);
+    double aa = atan2(a.y - c.y, a.x - c.x), ab = atan2(b.y - c.y, b.x - c.x);
+    double as = atan2(side.y, side.x);
+    double ccw = fmod(ab - aa + 4 * LC_PI, 2 * LC_PI), s = fmod(as - aa + 4 * LC_PI, 2 * LC_PI);
+    double sweep = s < ccw ? ccw : 2 * LC_PI - ccw;
+    double arc = sweep - acos(r / da) - acos(r / db);
+    assert_true(arc > 0); /* else the straight line clears the disc */
+    return sqrt(da * da - r * r) + sqrt(db * db - r * r) + r * arc;
+}
+
+/* --------------------------------------------------------------- tests */
+
+#define BAD(f, v) {offsetof(lc_guide_config, f), v, #f}
+
+/* Defaults as docs/DESIGN.md ("Guidance") gives them; each bad field named. */
+static void test_config(void **state)
+{
+    (void)state;
+    lc_guide_config c;
+    lc_guide_config_default(&c);
+    assert_true(c.enabled);
+    assert_true(c.cell == 0.1 && c.every == 10 && c.travel == 0.5 && c.soft == 0.2);
+    assert_true(c.soft_cost == 2 && c.hysteresis == 0.15 && c.check_ahead == 3);
+    assert_true(c.unknown_cost == 2 && c.greed == 2 && c.stall == 4);
+    const char *field = "x";
+    assert_int_equal(lc_guide_config_check(&c, &field), 0);
+    assert_null(field);
+    assert_int_equal(lc_guide_config_check(&c, NULL), 0);
+    lc_memory_config mc;
+    scene_memory_config(&mc);
+    const struct {
+        size_t off;
+        double v;
+        const char *name;
+    } bad[] = {
+        BAD(cell, 0.0),          BAD(cell, 0.01),         BAD(cell, 2.0),
+        BAD(cell, NAN),          BAD(travel, -0.1),       BAD(travel, 1e3),
+        BAD(travel, NAN),        BAD(unknown_cost, 0.5),  BAD(unknown_cost, NAN),
+        BAD(unknown_cost, 1e3),  BAD(soft, -0.01),        BAD(soft, NAN),
+        BAD(soft, 6),            BAD(soft_cost, 0.99),    BAD(soft_cost, INFINITY),
+        BAD(hysteresis, -0.1),   BAD(hysteresis, 1.0),    BAD(hysteresis, NAN),
+        BAD(check_ahead, -1),    BAD(check_ahead, NAN),   BAD(stall, -1),
+        BAD(stall, 4000),        BAD(stall, NAN),         BAD(greed, 0.9),
+        BAD(greed, 11),          BAD(greed, NAN),
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        lc_guide_config b = c;
+        memcpy((char *)&b + bad[i].off, &bad[i].v, sizeof(double));
+        field = NULL;
+        assert_int_equal(lc_guide_config_check(&b, &field), -1);
+        assert_non_null(field);
+        assert_string_equal(field, bad[i].name);
+        assert_null(lc_guide_new(&b, &mc, NULL));
+    }
+    const int bad_every[] = {0, -3, 20000};
+    for (size_t i = 0; i < sizeof bad_every / sizeof bad_every[0]; i++) {
+        lc_guide_config b = c;
+        b.every = bad_every[i];
+        assert_int_equal(lc_guide_config_check(&b, &field), -1);
+        assert_string_equal(field, "every");
+    }
+    /* the bounds themselves are accepted */
+    lc_guide_config b = {.enabled = true, .cell = 0.02, .every = 1, .travel = 0,
+                         .unknown_cost = 1, .soft = 0, .soft_cost = 1, .hysteresis = 0,
+                         .check_ahead = 0, .stall = 0, .greed = 1};
+    assert_int_equal(lc_guide_config_check(&b, &field), 0);
+    /* a bad memory configuration, or a window of fewer than 4 search cells */
+    mc.cell = 0;
+    assert_null(lc_guide_new(&c, &mc, NULL));
+    scene_memory_config(&mc);
+    mc.size = 0.2; /* 4 memory cells: 2 search cells */
+    assert_null(lc_guide_new(&c, &mc, NULL));
+    assert_null(lc_guide_new(NULL, &mc, NULL));
+    lc_guide_free(NULL);
+}
+
+/* Open, known space: the path is the straight segment from the robot to
+ * the waypoint, its length the Euclidean distance (closed form), on random
+ * pairs (fixed seed). */
+static void test_open_straight(void **state)
+{
+    (void)state;
+    scene s;
+    scene_open(&s);
+    lc_rng rng;
+    lc_rng_seed(&rng, 41);
+    for (int t = 0; t < 40; t++) {
+        scene_guide(&s);
+        lc_vec2 robot = lc_v2(lc_rng_uniform(&rng, -7, 7), lc_rng_uniform(&rng, -7, 7));
+        lc_vec2 wp = lc_v2(lc_rng_uniform(&rng, -7, 7), lc_rng_uniform(&rng, -7, 7));
+        const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+        assert_int_equal(p->status, LC_GUIDE_PATH);
+        assert_true(s.info.searched && s.info.replaced);
+        assert_false(p->projected);
+        assert_int_equal(p->n, 2);
+        assert_true(scene_same(p->v[0], robot) && scene_same(p->v[1], wp));
+        assert_true(scene_same(p->goal, wp));
+        assert_near(p->length, lc_dist(robot, wp), 1e-9);
+        /* the search's cost: at least the length less the goal's reach (no
+         * step costs less than its length), at most the octile distance
+         * (at most 1.0824 the Euclidean) and a cell or so at the ends */
+        assert_true(p->cost >= lc_dist(robot, wp) - 0.2 - 1e-6);
+        assert_true(p->cost <= 1.0824 * lc_dist(robot, wp) + 0.3);
+    }
+    scene_free(&s);
+}
+
+/*
+ * Round the end of a wall: the path's length against the shortest path of a
+ * point kept R from the wall (tangent, arc of radius R about the wall's
+ * end, tangent: closed form), within one search cell. With soft 0 the
+ * line of sight keeps R; with the default soft margin it keeps R + soft / 2
+ * (guide.h), so the length lies between the closed forms for R and for
+ * R + soft, give or take a cell.
+ */
+static void test_round_wall_end(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    lc_vec2 end = lc_v2(2, 1), robot = lc_v2(0, 0), wp = lc_v2(4, 0);
+    scene_wall(&s.w, lc_v2(2, -3), end);
+    lc_vec2 from[] = {{0, 0}, {4, 0}, {2, 2.5}};
+    s.gc.soft = 0;
+    scene_ready(&s, from, 3);
+    const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    double exact = round_disc(robot, wp, end, CLEAR, lc_v2(0, 1));
+    assert_near(p->length, exact, s.gc.cell);
+    assert_near(p->length, polyline_length(p), 1e-9);
+    assert_true(scene_same(p->v[0], robot) && scene_same(p->v[p->n - 1], wp));
+    assert_true(scene_crossing_y(p, 2.0) > end.y); /* round the free end */
+    assert_true(scene_path_clearance(s.m, p) >= CLEAR - 0.5 * s.gc.cell);
+
+    lc_guide_config_default(&s.gc);
+    scene_guide(&s);
+    p = scene_update(&s, robot, wp, 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(p->length >= exact - s.gc.cell);
+    double wide = round_disc(robot, wp, end, CLEAR + s.gc.soft, lc_v2(0, 1));
+    assert_true(p->length <= wide + s.gc.cell);
+    assert_true(scene_path_clearance(s.m, p) >= CLEAR);
+    scene_free(&s);
+}
+
+/* Through the one gap of a wall across the window: round the gap's near
+ * edge (tangent, arc, tangent: closed form), within a search cell. */
+static void test_through_gap(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    lc_vec2 lo = lc_v2(2, 0.2), hi = lc_v2(2, 1.4); /* the gap: 1.2 m for 2 R = 0.7 m */
+    scene_wall(&s.w, lc_v2(2, -9), lo);
+    scene_wall(&s.w, hi, lc_v2(2, 9));
+    lc_vec2 from[] = {{0, 0}, {0, -3.5}, {0, 3.5}, {3.5, 0}, {3.5, -3.5}, {3.5, 3.5}};
+    s.gc.soft = 0;
+    scene_ready(&s, from, 6);
+    lc_vec2 robot = lc_v2(0, 0), wp = lc_v2(4, 0);
+    const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_near(p->length, round_disc(robot, wp, lo, CLEAR, lc_v2(0, 1)), s.gc.cell);
+    double y = scene_crossing_y(p, 2.0);
+    assert_true(y > lo.y && y < hi.y);
+    assert_true(scene_path_clearance(s.m, p) >= CLEAR - 0.5 * s.gc.cell);
+    scene_free(&s);
+}
+
+static void random_site(lc_world *w, lc_rng *rng)
+{
+    lc_world_init(w);
+    for (int k = 0; k < 30; k++) {
+        lc_vec2 c = lc_v2(lc_rng_uniform(rng, -7, 7), lc_rng_uniform(rng, -7, 7));
+        if (lc_len(c) < 1.0)
+            continue;
+        if (k % 3 == 0)
+            scene_wall(w, c, lc_add(c, lc_scale(lc_unit_angle(lc_rng_uniform(rng, 0, LC_PI)),
+                                                lc_rng_uniform(rng, 0.5, 3.0))));
+        else
+            scene_post(w, c, lc_rng_uniform(rng, 0.05, 0.4));
+    }
+}
+
+/* A place at least `room` from every surface, within half side h of the
+ * origin. */
+static lc_vec2 free_place(const lc_world *w, lc_rng *rng, double h, double room)
+{
+    for (;;) {
+        lc_vec2 p = lc_v2(lc_rng_uniform(rng, -h, h), lc_rng_uniform(rng, -h, h));
+        if (lc_world_distance(w, p) >= room && !lc_world_inside(w, p))
+            return p;
+    }
+}
+
+/*
+ * The searches of the weighted A* checks: on random sites (fixed seeds),
+ * robot and waypoint pairs, each searched by a fresh guide with each greed
+ * and by the Dijkstra oracle; check(least, greed, cost) for each pair with
+ * a path. Returns the number of pairs compared.
+ */
+static int each_search(void (*check)(double least, double greed, double cost))
+{
+    const double greeds[] = {1.0, 1.5, 2.0, 3.0};
+    lc_rng rng;
+    lc_rng_seed(&rng, 1970);
+    int compared = 0;
+    for (int site = 0; site < 6; site++) {
+        lc_world w;
+        random_site(&w, &rng);
+        lc_vec2 from[4] = {{0, 0}};
+        for (int k = 1; k < 4; k++)
+            from[k] = free_place(&w, &rng, 3.5, 0.5);
+        lc_memory *m = scene_memory_of(&w, from, 4);
+        for (int pair = 0; pair < 3; pair++) {
+            lc_vec2 robot = free_place(&w, &rng, 7, CLEAR + 0.1);
+            lc_vec2 wp = free_place(&w, &rng, 7, CLEAR + 0.1);
+            lc_guide_config gc;
+            lc_guide_config_default(&gc);
+            double least = scene_least_cost(m, &gc, CLEAR, robot, wp, 0.2);
+            for (size_t i = 0; i < sizeof greeds / sizeof greeds[0]; i++) {
+                gc.greed = greeds[i];
+                lc_guide *g = scene_new_guide(&gc, NULL);
+                lc_guide_info info;
+                const lc_guide_path *p = scene_step(g, m, robot, wp, 0.2, &info);
+                assert_int_equal(p->status, isfinite(least) ? LC_GUIDE_PATH : LC_GUIDE_NO_PATH);
+                if (isfinite(least)) {
+                    /* nothing beats the least: the oracle and the search
+                     * price the same grid */
+                    assert_true(p->cost >= least * (1 - 1e-5) - 1e-6);
+                    check(least, gc.greed, p->cost);
+                    compared++;
+                }
+                lc_guide_free(g);
+            }
+        }
+        lc_memory_free(m);
+        lc_world_free(&w);
+    }
+    return compared;
+}
+
+/* The goal is any cell within reach (0.2 m) of the waypoint, while the
+ * heuristic measures to the waypoint itself: it may overestimate the rest by
+ * up to the octile length of reach (at most 1.0824 reach: sqrt(4 - 2
+ * sqrt 2), the octile distance's largest ratio to the Euclidean, at 22.5
+ * degrees). The bound of
+ * weighted A* with that slack: cost <= greed (least + 1.0824 reach)
+ * (Pohl's argument, the heuristic's excess carried through). */
+static void check_bound_with_reach(double least, double greed, double cost)
+{
+    assert_true(cost <= greed * (least + 1.0824 * 0.2) * (1 + 1e-5) + 1e-6);
+}
+
+/*
+ * The weighted A* bound (Pohl 1970; Likhachev, Gordon and Thrun 2003 for a
+ * search that does not reopen closed cells): the search's cost lies
+ * between the least cost, from the plain Dijkstra over the same grid and
+ * costs (scene_least_cost), and `greed` times it, with the goal's reach as
+ * slack.
+ */
+static void test_weighted_bound(void **state)
+{
+    (void)state;
+    assert_true(each_search(check_bound_with_reach) >= 40);
+}
+
+static void check_bound_exact(double least, double greed, double cost)
+{
+    assert_true(cost <= greed * least * (1 + 1e-5) + 1e-6);
+    if (greed == 1.0)
+        assert_near(cost, least, 1e-5 * least + 1e-6);
+}
+
+/*
+ * guide.h: "a path found costs at most this [greed] times the least"; with
+ * greed 1, A* with an admissible heuristic finds the least (Hart, Nilsson
+ * and Raphael 1968).
+ *
+ * Found by this test and fixed: the heuristic was the octile distance to
+ * the waypoint while the search stops at any cell within reach of it, so
+ * with greed 1 the cost found exceeded the least by up to a cell (4.877
+ * against 4.836); guide.c now takes max(0, octile - 1.0824 reach).
+ */
+static void test_weighted_bound_exact(void **state)
+{
+    (void)state;
+    assert_true(each_search(check_bound_exact) >= 40);
+}
+
+/* A waypoint inside an obstacle (a pillar narrower than 2 R: the goal's
+ * own cells are closed) has no path, unless the tolerance reaches past the
+ * pillar's clearance. The path then ends at the waypoint (its goal), and
+ * comes nearer the pillar than the clearance less half a cell only within
+ * the tolerance (sampled every 2 cm, against the site's exact distance). */
+static void test_goal_in_obstacle(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    lc_vec2 c = lc_v2(3, 0.2);
+    lc_vec2 box[4] = {{2.8, 0}, {3.2, 0}, {3.2, 0.4}, {2.8, 0.4}};
+    assert_true(lc_world_add(&s.w, box, 4) >= 0);
+    lc_vec2 from[] = {{0, 0}, {3, 3}, {6, 0}, {3, -3}};
+    scene_ready(&s, from, 4);
+    const lc_guide_path *p = scene_update(&s, lc_v2(0, 0), c, 0.1);
+    assert_int_equal(p->status, LC_GUIDE_NO_PATH);
+    scene_guide(&s);
+    double tol = 0.2 + CLEAR + 0.15; /* from the middle past the pillar's clearance */
+    p = scene_update(&s, lc_v2(0, 0), c, tol);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(scene_same(p->v[p->n - 1], c) && scene_same(p->goal, c));
+    for (int k = 0; k + 1 < p->n; k++) {
+        int steps = (int)ceil(lc_dist(p->v[k], p->v[k + 1]) / 0.02);
+        for (int i = 0; i <= steps; i++) {
+            lc_vec2 q = lc_lerp(p->v[k], p->v[k + 1], (double)i / steps);
+            if (lc_dist(q, c) > tol)
+                assert_true(lc_world_distance(&s.w, q) >= CLEAR - 0.5 * s.gc.cell);
+        }
+    }
+    scene_free(&s);
+}
+
+/*
+ * A memory that knows the discs of radius 0.6 m about the robot at (-2.5, 0),
+ * the goal at (2.5, 0) and a band along y = yd joined to them; between
+ * x = -1.9 and 1.9 the straight line is unknown. With a guide of greed 1.
+ */
+static void detour_scene(scene *s, double yd)
+{
+    scene_init(s);
+    s->gc.greed = 1;
+    s->m = scene_new_memory();
+    s->g = scene_new_guide(&s->gc, NULL);
+    double stamp = 1;
+    const lc_vec2 corners[4] = {{-2.5, 0}, {-2.5, yd}, {2.5, yd}, {2.5, 0}};
+    for (int leg = 0; leg < 3; leg++) {
+        int steps = (int)ceil(lc_dist(corners[leg], corners[leg + 1]) / 0.2);
+        for (int k = 0; k <= steps; k++)
+            scene_see(s->m, &s->w, lc_lerp(corners[leg], corners[leg + 1], (double)k / steps),
+                      stamp++, 0.6);
+    }
+}
+
+/*
+ * Unknown space costs unknown_cost (2) times its length (guide.h). Any way
+ * along the straight line costs at least 1.2 + 2 x 3.8 = 8.8 (1.2 m known,
+ * 3.8 m unknown). With the band at yd = 1.6 (known for y in [1, 2.2]) the
+ * known way from the robot to the band's inner corner (-1.9, 1), along it
+ * and down is 2 x 1.17 + 3.8 = 6.1 long: the search takes it (its cost
+ * below 8.8). With yd = 3.5 any way through the band is at least 2 x 2.96
+ * + 3.8 = 9.7 long (up the known leg to the band's inner edge at y = 2.9
+ * and back down): the unknown straight line is taken. Greed 1 (plain A*) so
+ * that the rule alone decides; the cost is the Dijkstra oracle's least, up
+ * to the goal's reach (test_weighted_bound_exact).
+ */
+static void test_unknown_cost(void **state)
+{
+    (void)state;
+    lc_vec2 robot = lc_v2(-2.5, 0), wp = lc_v2(2.5, 0);
+    for (int c = 0; c < 2; c++) {
+        double yd = c == 0 ? 1.6 : 3.5;
+        scene s;
+        detour_scene(&s, yd);
+        assert_int_equal(lc_memory_state(s.m, lc_v2(0, 0)), LC_CELL_UNKNOWN);
+        assert_int_equal(lc_memory_state(s.m, lc_v2(0, yd)), LC_CELL_FREE);
+        const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+        assert_int_equal(p->status, LC_GUIDE_PATH);
+        if (c == 0) {
+            assert_true(p->cost < 6.1 * 1.0824 + 0.2); /* the band's way, octile */
+        } else {
+            assert_true(p->cost > 8.8 - 0.3 && p->cost < 9.7);
+            assert_int_equal(p->n, 2);
+            assert_near(p->length, 5.0, 1e-9);
+        }
+        double least = scene_least_cost(s.m, &s.gc, CLEAR, robot, wp, 0.2);
+        assert_true(p->cost >= least * (1 - 1e-5) && p->cost <= least + 1.0824 * 0.2 + 1e-5);
+        scene_free(&s);
+    }
+}
+
+/*
+ * The way the search paid to keep to known space stays in known space: the
+ * shortened path (guide.h: "shortened where the straight line is free")
+ * must not cut straight through the unknown strip the search went round.
+ *
+ * Found by this test and fixed: line_of_sight checked the obstacles and
+ * the refused spots only, so with the band at yd = 1.6 (the search's way
+ * costs 6.3 along it) the path given was the straight segment through 3.8 m
+ * of unknown space, the way whose cost is 8.8. A shortcut now crosses
+ * unknown cells only where the search's own cells did.
+ */
+static void test_shortcut_keeps_known(void **state)
+{
+    (void)state;
+    scene s;
+    detour_scene(&s, 1.6);
+    const lc_guide_path *p = scene_update(&s, lc_v2(-2.5, 0), lc_v2(2.5, 0), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    for (int k = 0; k + 1 < p->n; k++) /* every point known: sampled every 2 cm or less */
+        for (int i = 0; i <= 50; i++)
+            assert_int_not_equal(lc_memory_state(s.m, lc_lerp(p->v[k], p->v[k + 1], i / 50.0)),
+                                 LC_CELL_UNKNOWN);
+    scene_free(&s);
+}
+
+/* Is p inside the memory's window (its lattice square)? */
+static bool in_window(const lc_memory *m, lc_vec2 p)
+{
+    lc_memory_window w = lc_memory_get_window(m);
+    double x0 = (double)w.i0 * w.cell, y0 = (double)w.j0 * w.cell, s = w.n * w.cell;
+    return p.x >= x0 && p.x < x0 + s && p.y >= y0 && p.y < y0 + s;
+}
+
+/*
+ * A waypoint 30 m away, outside the window (docs/DESIGN.md: "a node of its
+ * own, reached from the border cells at the unknown cost of the straight
+ * line"): the path is `projected`, leads through the window round what
+ * blocks it, and its last stretch leaves the window for the waypoint,
+ * which ends it. A wall across the window's lower part leaves one way out,
+ * past its upper end. The cost against the Dijkstra oracle with the same
+ * outside node: the least with greed 1 (the octile heuristic stays
+ * admissible there: 1.0824 < unknown_cost), at most greed times it else.
+ */
+static void test_outside_window(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    scene_wall(&s.w, lc_v2(4, -9), lc_v2(4, 5));
+    lc_vec2 from[] = {{0, 0}, {0, 3.5}, {3.5, 3.5}};
+    s.gc.greed = 1;
+    scene_ready(&s, from, 3);
+    lc_vec2 wp = lc_v2(30, 0.5), robot = lc_v2(0, 0);
+    assert_false(in_window(s.m, wp));
+    for (int c = 0; c < 2; c++) {
+        const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+        assert_int_equal(p->status, LC_GUIDE_PATH);
+        assert_true(p->projected);
+        assert_true(scene_same(p->goal, wp) && scene_same(p->v[p->n - 1], wp));
+        for (int k = 0; k + 1 < p->n; k++) /* only the last stretch leaves */
+            assert_true(in_window(s.m, p->v[k]));
+        assert_true(scene_crossing_y(p, 4.0) > 5.0 + CLEAR - 0.5 * s.gc.cell); /* past the end */
+        assert_true(scene_path_clearance(s.m, p) >= CLEAR);
+        double least = scene_least_cost(s.m, &s.gc, CLEAR, robot, wp, 0.2);
+        assert_true(p->cost >= least * (1 - 1e-5));
+        assert_true(p->cost <= s.gc.greed * least * (1 + 1e-5));
+        if (c == 0)
+            assert_near(p->cost, least, 1e-5 * least);
+        lc_guide_config_default(&s.gc); /* then the default greed */
+        scene_guide(&s);
+    }
+    scene_free(&s);
+}
+
+/* ----------------------------------------------------------- degenerate */
+
+/* The corner (lower left) of the search cell holding p. */
+static lc_vec2 search_corner(const lc_memory *m, lc_vec2 p, double cell)
+{
+    lc_memory_window w = lc_memory_get_window(m);
+    double x0 = (double)w.i0 * w.cell, y0 = (double)w.j0 * w.cell;
+    return lc_v2(x0 + floor((p.x - x0) / cell) * cell, y0 + floor((p.y - y0) / cell) * cell);
+}
+
+/*
+ * Degenerate input: a robot outside the window has no path (the grid does
+ * not hold it), nor one at NaN; the waypoint at the robot gives a path of
+ * length 0; a tolerance of 0 with the waypoint at a cell's centre ends the
+ * path at the waypoint; after lc_guide_reset the next update searches;
+ * other non-finite input returns 0 and does not crash (what a NaN waypoint
+ * gives: test_nan_waypoint).
+ */
+static void test_degenerate(void **state)
+{
+    (void)state;
+    scene s;
+    scene_open(&s);
+    const lc_guide_path *p = scene_update(&s, lc_v2(20, 0), lc_v2(1, 1), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_NO_PATH);
+    assert_int_equal(p->n, 0);
+    assert_true(s.info.searched);
+
+    lc_guide_reset(s.g);
+    p = scene_update(&s, lc_v2(1, 2), lc_v2(1, 2), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(p->length == 0 && p->cost == 0);
+    for (int k = 0; k < p->n; k++)
+        assert_true(scene_same(p->v[k], lc_v2(1, 2)));
+
+    lc_vec2 centre = lc_add(search_corner(s.m, lc_v2(3.33, -1.21), s.gc.cell),
+                            lc_v2(0.5 * s.gc.cell, 0.5 * s.gc.cell));
+    p = scene_update(&s, lc_v2(0, 0), centre, 0.0);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(scene_same(p->v[p->n - 1], centre));
+    assert_near(p->length, lc_len(centre), 1e-9);
+
+    lc_guide_reset(s.g);
+    scene_update(&s, lc_v2(0, 0), centre, 0.0);
+    assert_true(s.info.searched);
+
+    scene_guide(&s);
+    p = scene_update(&s, lc_v2(NAN, 0), lc_v2(1, 1), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_NO_PATH);
+    const lc_guide_path *out = NULL;
+    assert_int_equal(lc_guide_update(s.g, s.m, lc_v2(0, 0), lc_v2(1, 1), CLEAR, NAN, &out, NULL),
+                     0);
+    assert_int_equal(lc_guide_update(s.g, s.m, lc_v2(0, 0), lc_v2(1, 1), NAN, 0.2, &out, NULL), 0);
+    assert_int_equal(lc_guide_update(s.g, s.m, lc_v2(0, 0), lc_v2(NAN, INFINITY), CLEAR, 0.2, &out,
+                                     NULL),
+                     0);
+    scene_free(&s);
+}
+
+/*
+ * A waypoint that is not finite has no path: LC_GUIDE_NO_PATH, no vertex,
+ * and the next finite waypoint is a new goal (searched at once).
+ *
+ * Found by this test and fixed: a NaN waypoint was taken for one outside
+ * the window and gave a path with a NaN vertex, and the NaN stayed the goal
+ * so that no later waypoint counted as new.
+ */
+static void test_nan_waypoint(void **state)
+{
+    (void)state;
+    scene s;
+    scene_open(&s);
+    const lc_guide_path *p = scene_update(&s, lc_v2(0, 0), lc_v2(NAN, 1), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_NO_PATH);
+    assert_int_equal(p->n, 0);
+    p = scene_update(&s, lc_v2(0, 0), lc_v2(3, 1), 0.2);
+    assert_true(s.info.searched);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(scene_same(p->v[p->n - 1], lc_v2(3, 1)));
+    scene_free(&s);
+}
+
+/*
+ * guide.h: "tolerance (m): the goal counts as reached within it". With
+ * tolerance 0 and the waypoint in open, known space at the corner of a
+ * search cell, there is a path.
+ *
+ * Found by this test and fixed: the goal was reached within max(tolerance,
+ * half a search cell), but a cell's corner lies half the diagonal (0.0707 m)
+ * from every centre: no path. The reach is now at least half a diagonal.
+ */
+static void test_tolerance_zero(void **state)
+{
+    (void)state;
+    scene s;
+    scene_open(&s);
+    lc_vec2 corner = search_corner(s.m, lc_v2(3.33, -1.21), s.gc.cell);
+    const lc_guide_path *p = scene_update(&s, lc_v2(0, 0), corner, 0.0);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(scene_same(p->v[p->n - 1], corner));
+    scene_free(&s);
+}
+
+/* ---------------------------------------------------------------- ahead */
+
+static lc_guide_path hand_path(const lc_vec2 *v, int n)
+{
+    lc_guide_path p;
+    memset(&p, 0, sizeof p);
+    p.status = LC_GUIDE_PATH;
+    for (int k = 0; k < n; k++)
+        p.v[k] = v[k];
+    p.n = n;
+    return p;
+}
+
+/*
+ * lc_guide_ahead on paths written here, against hand computation: the
+ * point nearest `from` on the path, `dist` further along it, and the rest
+ * from `from` (its distance to that point included).
+ */
+static void test_ahead(void **state)
+{
+    (void)state;
+    const lc_vec2 v[] = {{0, 0}, {4, 0}, {4, 3}};
+    lc_guide_path p = hand_path(v, 3);
+    double rest;
+    lc_vec2 q = lc_guide_ahead(&p, lc_v2(1, 0.5), 2, &rest);
+    assert_near(q.x, 3, 1e-12);
+    assert_near(q.y, 0, 1e-12);
+    assert_near(rest, 0.5 + 3 + 3, 1e-12);
+    q = lc_guide_ahead(&p, lc_v2(1, 0.5), 4, NULL); /* round the corner */
+    assert_near(q.x, 4, 1e-12);
+    assert_near(q.y, 1, 1e-12);
+    q = lc_guide_ahead(&p, lc_v2(1, 0.5), 100, &rest); /* past the end: the end */
+    assert_true(q.x == 4 && q.y == 3);
+    q = lc_guide_ahead(&p, lc_v2(-1, 0), 0.5, &rest); /* before the start */
+    assert_near(q.x, 0.5, 1e-12);
+    assert_near(rest, 1 + 7, 1e-12);
+    q = lc_guide_ahead(&p, lc_v2(5, 2), 0, &rest); /* beside the second segment */
+    assert_near(q.x, 4, 1e-12);
+    assert_near(q.y, 2, 1e-12);
+    assert_near(rest, 1 + 1, 1e-12);
+    /* from p.seg on: a robot past the corner is not put back on segment 0 */
+    p.seg = 1;
+    q = lc_guide_ahead(&p, lc_v2(3, 0.2), 1, &rest); /* nearest (4, 0.2) */
+    assert_near(q.x, 4, 1e-12);
+    assert_near(q.y, 1.2, 1e-12);
+    assert_near(rest, 1 + 2.8, 1e-12);
+
+    /* a first segment longer than 3 m: the robot's place is found past it */
+    const lc_vec2 l[] = {{0, 0}, {10, 0}, {10, 2}, {6, 2}};
+    p = hand_path(l, 4);
+    q = lc_guide_ahead(&p, lc_v2(10.2, 1), 0.5, &rest);
+    assert_near(q.x, 10, 1e-12);
+    assert_near(q.y, 1.5, 1e-12);
+    assert_near(rest, 0.2 + 1 + 4, 1e-12);
+    q = lc_guide_ahead(&p, lc_v2(9, 2.3), 0.5, &rest); /* beside the third */
+    assert_near(q.x, 8.5, 1e-12);
+    assert_near(q.y, 2, 1e-12);
+    assert_near(rest, 0.3 + 3, 1e-12);
+
+    /* a path of one vertex, and none */
+    p = hand_path(l, 1);
+    q = lc_guide_ahead(&p, lc_v2(3, 4), 2, &rest);
+    assert_true(q.x == 0 && q.y == 0);
+    assert_near(rest, 5, 1e-12);
+    p = hand_path(l, 0);
+    q = lc_guide_ahead(&p, lc_v2(3, 4), 2, &rest);
+    assert_true(q.x == 3 && q.y == 4);
+    assert_near(rest, 0, 1e-12);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_config),
+        cmocka_unit_test(test_open_straight),
+        cmocka_unit_test(test_round_wall_end),
+        cmocka_unit_test(test_through_gap),
+        cmocka_unit_test(test_weighted_bound),
+        cmocka_unit_test(test_weighted_bound_exact),
+        cmocka_unit_test(test_goal_in_obstacle),
+        cmocka_unit_test(test_unknown_cost),
+        cmocka_unit_test(test_shortcut_keeps_known),
+        cmocka_unit_test(test_outside_window),
+        cmocka_unit_test(test_degenerate),
+        cmocka_unit_test(test_nan_waypoint),
+        cmocka_unit_test(test_tolerance_zero),
+        cmocka_unit_test(test_ahead),
+    };
+    return LC_RUN_TESTS(tests, NULL, NULL);
+}
