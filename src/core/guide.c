@@ -12,6 +12,8 @@
  */
 #include "guide.h"
 
+#include "follow.h"
+
 #include <float.h>
 #include <stdint.h>
 #include <string.h>
@@ -655,64 +657,6 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
         p->length += lc_dist(p->v[k - 1], p->v[k]);
 }
 
-/* The rest of path p from `from`, near segment *seg (moved on to the
- * nearest segment among those ahead within reach): the point nearest and
- * its segment. */
-static lc_vec2 nearest_ahead(const lc_guide_path *p, lc_vec2 from, int *seg)
-{
-    if (p->n < 2) {
-        *seg = 0;
-        return p->n ? p->v[0] : from;
-    }
-    int best = *seg < p->n - 1 ? *seg : p->n - 2, first = best;
-    lc_vec2 bq = p->v[best];
-    /* the segment the robot was at and those that start within 3 m of
-     * its end (however long the segment itself is) */
-    double bd = INFINITY, walked = 0.0;
-    for (int k = first; k < p->n - 1 && walked < 3.0; k++) {
-        lc_vec2 q;
-        double d = lc_segment_distance(from, p->v[k], p->v[k + 1], &q);
-        if (d < bd - 1e-12) {
-            bd = d;
-            bq = q;
-            best = k;
-        }
-        if (k > first)
-            walked += lc_dist(p->v[k], p->v[k + 1]);
-    }
-    *seg = best;
-    return bq;
-}
-
-static double rest_from(const lc_guide_path *p, int seg, lc_vec2 q)
-{
-    double r = lc_dist(q, p->v[seg + 1 < p->n ? seg + 1 : seg]);
-    for (int k = seg + 1; k < p->n - 1; k++)
-        r += lc_dist(p->v[k], p->v[k + 1]);
-    return r;
-}
-
-lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double *rest)
-{
-    int seg = p->seg;
-    lc_vec2 q = nearest_ahead(p, from, &seg);
-    if (rest)
-        *rest = lc_dist(from, q) + (p->n >= 2 ? rest_from(p, seg, q) : 0.0);
-    if (p->n < 2)
-        return q;
-    double left = dist;
-    lc_vec2 at = q;
-    for (int k = seg; k < p->n - 1; k++) {
-        lc_vec2 next = p->v[k + 1];
-        double d = lc_dist(at, next);
-        if (d >= left)
-            return lc_add(at, lc_scale(lc_sub(next, at), d > 0 ? left / d : 0.0));
-        left -= d;
-        at = next;
-    }
-    return p->v[p->n - 1];
-}
-
 /* What the rest of path p costs now from `from`, sampled every search
  * cell. A closed sample costs as the search's dearest step would (a path
  * found closed ahead is replaced anyway, by blocked_ahead): the robot that
@@ -721,7 +665,7 @@ lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double
 static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_path *p,
                        lc_vec2 from, int seg)
 {
-    lc_vec2 q = nearest_ahead(p, from, &seg);
+    lc_vec2 q = lc_follow_nearest(p, from, &seg);
     double cost = 0.0, step = g->cfg.cell;
     lc_vec2 a = from;
     for (int k = seg; k <= p->n - 1; k++) {
@@ -750,7 +694,7 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
 {
     const lc_guide_path *p = &g->path;
     int seg = p->seg;
-    lc_vec2 q = nearest_ahead(p, from, &seg);
+    lc_vec2 q = lc_follow_nearest(p, from, &seg);
     double walked = 0.0, step = g->cfg.cell;
     lc_vec2 a = q;
     for (int k = seg + 1; k < p->n && walked < g->cfg.check_ahead; k++) {
@@ -802,7 +746,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
     bool due = since >= g->cfg.every && (lc_dist(robot, g->searched_at) >= g->cfg.travel ||
                                          since >= 10L * g->cfg.every || g->doubt);
     if (g->path.status == LC_GUIDE_PATH && !new_goal) {
-        nearest_ahead(&g->path, robot, &g->path.seg);
+        lc_follow_nearest(&g->path, robot, &g->path.seg);
         info->blocked_ahead = blocked_ahead(g, &c, robot);
     }
     bool doubting = g->doubt && since < g->cfg.every; /* waiting to search again */

@@ -150,12 +150,4 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
                     double clearance, double tolerance, const lc_guide_path **out,
                     lc_guide_info *info);
 
-/*
- * Along path p from the point nearest `from` (among the segments from
- * p->seg on): the point `dist` metres further (the end when the path is
- * shorter), and the length of the rest of the path from `from` (its
- * distance to that nearest point included).
- */
-lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double *rest);
-
 #endif

@@ -8,58 +8,17 @@
  * the qhull context; a result's pointers point into them and stay valid
  * until the next step or lc_session_free.
  */
-#include "session.h"
+#include "session_int.h"
 
 #include <stdlib.h>
 #include <string.h>
 
+#include "follow.h"
 #include "footprint.h"
 #include "grow.h"
 #include "hull.h"
 #include "recall.h"
 #include "steer.h"
-
-struct lc_session {
-    lc_alloc alloc;
-    lc_robot robot;
-    lc_plan_config cfg;
-    lc_route route;
-    lc_patrol patrol;
-    lc_setpoint last;
-    lc_clock clock;
-    lc_hull_ctx *hull;
-    lc_grow_rule grow_rule; /* cfg.grow_step's rotations, computed once */
-    lc_cloud cloud;
-    lc_segment_ws seg;
-    lc_memory *mem;           /* NULL: memory off */
-    lc_guide *guide;          /* NULL: guidance off */
-    lc_recall recall;
-    lc_segment_ws seg_recall;
-    lc_polyset frontier;      /* convex pieces of the frontier (not obstacles) */
-    lc_polyset obstacles, grown;
-    lc_vec2 *gather;
-    int cap_gather;
-    lc_vec2 *body;  /* a polygon footprint grown, turned and reflected (grow_obstacles) */
-    int cap_body;
-    lc_region region;
-    lc_region region_alt; /* a second region of the frame (plan_region's retry) */
-    lc_region_ws rws;
-    lc_steer_ws steer; /* the braking region the motion law sees */
-    /* the frame driver (lc_session_drive) */
-    lc_control control;
-    bool driven;     /* a frame has been driven: prev_stamp and last_reply hold */
-    double prev_stamp;
-    bool resting;    /* stopped outside a frame: the next one starts from rest */
-    lc_setpoint before; /* the velocity the last driven frame started from */
-    double before_dt;   /* and the period it was given */
-    bool easing;        /* the last frame eased out of the margin (lc_steer_ease_out) */
-    lc_reply last_reply;
-    /* guidance's stall watch: the best way still to go and since when */
-    bool stall_on;
-    int stall_wp;
-    double stall_best, stall_stamp;
-    const lc_guide_path *path_ref; /* the path of this frame (watch_stall) */
-};
 
 static const char *const stage_names[LC_STAGE_COUNT] = {
     "ingest", "memory", "guide", "segment", "hull", "grow", "region", "ellipse", "target",
@@ -204,128 +163,6 @@ void lc_session_set_goal(lc_session *s, lc_vec2 goal_world)
         lc_guide_reset(s->guide);
 }
 
-/* The hull of every piece of seg (over cloud) appended to out, each with
- * src = src0 + its piece index; 0 or -1. */
-static int hull_pieces(lc_session *s, const lc_cloud *cloud, const lc_segment_ws *seg,
-                       lc_polyset *out, int src0)
-{
-    for (int k = 0; k < seg->n_pieces; k++) {
-        int start = seg->piece_start[k], n = seg->piece_count[k];
-        if (LC_GROW(&s->alloc, s->gather, s->cap_gather, n) < 0 ||
-            lc_polyset_reserve(out, n) < 0)
-            return -1;
-        for (int i = 0; i < n; i++)
-            s->gather[i] = cloud->world[seg->order[start + i]];
-        int m = lc_hull_compute(s->hull, s->gather, n, out->v + out->nv);
-        if (m == -1)
-            return -1;
-        if (m <= 0)
-            continue; /* finite input by construction: no other failure is expected */
-        if (lc_polyset_commit(out, m, src0 + k) < 0)
-            return -1;
-    }
-    return 0;
-}
-
-/* Each polygon of set [from, set->np) grown by r, appended to s->grown
- * with src = src0 + its index in set (src0 < 0: src0 - index). */
-static int grow_set(lc_session *s, const lc_polyset *set, int from, double r, int src0)
-{
-    for (int j = from; j < set->np; j++) {
-        int n;
-        const lc_vec2 *v = lc_polyset_at(set, j, &n);
-        int cap = n + s->grow_rule.extra; /* lc_grow_max_vertices */
-        if (lc_polyset_reserve(&s->grown, cap) < 0)
-            return -1;
-        int m = lc_grow_polygon_rule(v, n, r, &s->grow_rule, s->grown.v + s->grown.nv, cap);
-        int src = src0 >= 0 ? src0 + j : src0 - j;
-        if (m > 0 && lc_polyset_commit(&s->grown, m, src) < 0)
-            return -1;
-    }
-    return 0;
-}
-
-/* Half a cell's diagonal: an unknown cell is a square, not its centre. */
-static double cell_reach(const lc_session *s)
-{
-    return s->mem ? 0.5 * sqrt(2.0) * s->cfg.memory.cell : 0.0;
-}
-
-/*
- * The polygon footprint grown by r (>= 0) into s->body, conservatively as
- * grow.h grows obstacles, then turned to yaw and reflected through the
- * centre: what an obstacle is summed with to be configuration space at
- * that heading. Its vertex count, or -1 when out of memory.
- */
-static int place_body(lc_session *s, double r, double yaw)
-{
-    const lc_robot *rb = &s->robot;
-    int cap = rb->n_footprint + s->grow_rule.extra; /* lc_grow_max_vertices */
-    if (LC_GROW(&s->alloc, s->body, s->cap_body, cap) < 0)
-        return -1;
-    int n = rb->n_footprint;
-    if (r > 0)
-        n = lc_grow_polygon_rule(rb->footprint, n, r, &s->grow_rule, s->body, cap);
-    else
-        memcpy(s->body, rb->footprint, sizeof *s->body * (size_t)n);
-    if (n < 0)
-        return -1; /* a valid footprint always grows */
-    lc_footprint_place(s->body, n, yaw, true, s->body);
-    return n;
-}
-
-/* Each polygon of set summed with the footprint grown by r at heading yaw
- * (lc_minkowski_sum), appended to s->grown as grow_set appends. A piece the
- * sum refuses (not visibly convex) is grown by the disc that holds the
- * footprint instead, which holds its sum too. */
-static int sum_set(lc_session *s, const lc_polyset *set, double r, double yaw, int src0)
-{
-    int nb = place_body(s, r, yaw);
-    if (nb < 0)
-        return -1;
-    for (int j = 0; j < set->np; j++) {
-        int n;
-        const lc_vec2 *v = lc_polyset_at(set, j, &n);
-        int cap = lc_minkowski_max_vertices(n, nb), disc = n + s->grow_rule.extra;
-        cap = cap > disc ? cap : disc;
-        if (lc_polyset_reserve(&s->grown, cap) < 0)
-            return -1;
-        lc_vec2 *out = s->grown.v + s->grown.nv;
-        int m = lc_minkowski_sum(v, n, s->body, nb, out, cap);
-        if (m < 0)
-            m = lc_grow_polygon_rule(v, n, s->robot.radius + r, &s->grow_rule, out, cap);
-        int src = src0 >= 0 ? src0 + j : src0 - j;
-        if (m > 0 && lc_polyset_commit(&s->grown, m, src) < 0)
-            return -1;
-    }
-    return 0;
-}
-
-/*
- * The obstacles, seen now or remembered (where their returns fell), grown
- * by radius + margin; the frontier of the unknown (not obstacles: their
- * src is -1 - index) by half a cell's diagonal more: an unknown cell is a
- * square, not its centre. A polygon footprint: configuration space at the
- * frame's heading, each piece summed with the reflected footprint grown by
- * the margin (and the half diagonal) instead.
- */
-static int grow_obstacles(lc_session *s, double yaw)
-{
-    lc_polyset_clear(&s->grown);
-    if (lc_robot_has_footprint(&s->robot)) {
-        double m = s->robot.margin;
-        if (sum_set(s, &s->obstacles, m, yaw, 0) < 0 ||
-            sum_set(s, &s->frontier, m + cell_reach(s), yaw, -1) < 0)
-            return -1;
-        return 0;
-    }
-    double r = lc_robot_clearance(&s->robot);
-    if (grow_set(s, &s->obstacles, 0, r, 0) < 0 ||
-        grow_set(s, &s->frontier, 0, r + cell_reach(s), -1) < 0)
-        return -1;
-    return 0;
-}
-
 /* The region's window: the sensor's range (capped), with memory no larger
  * than the box whose remembered obstacles are taken into account. */
 static double window_half_side(const lc_session *s, const lc_frame *f)
@@ -399,9 +236,9 @@ static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
                           .near = 1.05 * lc_robot_clearance(&s->robot) + 2.0 * cell};
     if (lc_recall_collect(&in, &s->recall) < 0 ||
         lc_segment(&s->recall.occupied, &s->cfg.segment, &s->seg_recall) < 0 ||
-        hull_pieces(s, &s->recall.occupied, &s->seg_recall, &s->obstacles, 0) < 0 ||
+        lc_session_hull_pieces(s, &s->recall.occupied, &s->seg_recall, &s->obstacles, 0) < 0 ||
         lc_segment(&s->recall.frontier, &s->cfg.segment, &s->seg_recall) < 0 ||
-        hull_pieces(s, &s->recall.frontier, &s->seg_recall, &s->frontier, 0) < 0)
+        lc_session_hull_pieces(s, &s->recall.frontier, &s->seg_recall, &s->frontier, 0) < 0)
         return -1;
     if (s->cfg.region.blind_line) {
         out->view_fov = s->recall.fov;
@@ -529,52 +366,6 @@ static int guide_frame(lc_session *s, lc_vec2 c, lc_vec2 wp, lc_vec2 *seek, lc_p
     return 0;
 }
 
-/* Where the segment from a (inside the region) along d leaves it, as a
- * share of d (1: it does not). */
-static double exit_share(const lc_region *r, lc_vec2 a, lc_vec2 d)
-{
-    double t = 1.0;
-    for (int i = 0; i < r->nh; i++) {
-        double ad = lc_dot(r->h[i].a, d);
-        if (ad > 1e-15)
-            t = lc_min(t, lc_max(0.0, (r->h[i].b - lc_dot(r->h[i].a, a)) / ad));
-    }
-    return t;
-}
-
-/* The length of path p from point a on segment k - 1 (a up to v[k]) on. */
-static double path_rest(const lc_guide_path *p, lc_vec2 a, int k)
-{
-    double r = k < p->n ? lc_dist(a, p->v[k]) : 0.0;
-    for (int i = k; i + 1 < p->n; i++)
-        r += lc_dist(p->v[i], p->v[i + 1]);
-    return r;
-}
-
-/*
- * The target on the path: the farthest point of it, from where the robot
- * is along it, that the region holds (the path's first exit from the
- * region; its end when it stays inside). The walk starts at the robot
- * centre (inside the region by construction) toward the end of the segment
- * the robot is at. *rest gets the path's length from the target on.
- */
-static lc_vec2 path_target(const lc_region *r, const lc_guide_path *p, lc_vec2 c, double *rest)
-{
-    lc_vec2 a = c;
-    for (int k = p->seg + 1; k < p->n; k++) {
-        lc_vec2 d = lc_sub(p->v[k], a);
-        double t = exit_share(r, a, d);
-        if (t < 1.0) {
-            lc_vec2 e = lc_add(a, lc_scale(d, t));
-            *rest = path_rest(p, e, k);
-            return e;
-        }
-        a = p->v[k];
-    }
-    *rest = 0.0;
-    return a;
-}
-
 /*
  * The region reaches toward a point along the path (the goal seed); where
  * the path turns through a narrow gap that seed can give a needle of a
@@ -592,7 +383,7 @@ static void retry_unseeded(lc_session *s, const lc_frame *f, lc_vec2 seek, lc_pa
     if (plan_region(s, f, true, seek, false, &s->region_alt, out) != LC_OK)
         return;
     double rest;
-    lc_vec2 target = path_target(&s->region_alt, out->path, c, &rest);
+    lc_vec2 target = lc_follow_target(&s->region_alt, out->path, c, &rest);
     if (!(rest < way->to_go_target - 1e-9))
         return;
     lc_region t = s->region;
@@ -602,30 +393,16 @@ static void retry_unseeded(lc_session *s, const lc_frame *f, lc_vec2 seek, lc_pa
     way->to_go_target = rest;
 }
 
-/*
- * A path may run along the very edge of the region (the search's cells
- * beside a grown obstacle, a cell's width off its true border), and the
- * walk then leaves the region at once. Then the target is the farthest of
- * the path's points up to LC_SESSION_HUG_AHEAD along it whose closest
- * point in the region is within LC_SESSION_HUG_SLACK of it: that closest
- * point, the path's line followed just inside the region.
- */
-#define LC_SESSION_HUG_AHEAD 2.0 /* m */
-#define LC_SESSION_HUG_SLACK 0.1 /* m, a search cell */
-#define LC_SESSION_HUG_SAMPLES 8
-
+/* A path along the very edge of the region: followed just inside it
+ * (follow.h). */
 static void hug_path(const lc_region *r, const lc_guide_path *p, lc_vec2 c, lc_patrol_way *way,
                      lc_plan_result *out)
 {
-    for (int k = LC_SESSION_HUG_SAMPLES; k >= 1; k--) {
-        double ahead = LC_SESSION_HUG_AHEAD * k / LC_SESSION_HUG_SAMPLES, rest;
-        lc_vec2 q = lc_guide_ahead(p, c, ahead, &rest);
-        lc_vec2 t = lc_region_project(r, q);
-        if (lc_dist(t, q) <= LC_SESSION_HUG_SLACK && lc_dist(t, c) > lc_dist(out->target, c)) {
-            out->target = t;
-            way->to_go_target = lc_max(0.0, rest - ahead);
-            return;
-        }
+    lc_vec2 t;
+    double rest;
+    if (lc_follow_hug(r, p, c, out->target, &t, &rest)) {
+        out->target = t;
+        way->to_go_target = rest;
     }
 }
 
@@ -762,14 +539,14 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     if (lc_segment(&s->cloud, &s->cfg.segment, &s->seg) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_SEGMENT, &t);
-    if (hull_pieces(s, &s->cloud, &s->seg, &s->obstacles, 0) < 0)
+    if (lc_session_hull_pieces(s, &s->cloud, &s->seg, &s->obstacles, 0) < 0)
         return -1;
     out->n_seen = s->obstacles.np;
     stamp_stage(s, out, LC_STAGE_HULL, &t);
     if (remember(s, frame, out) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_MEMORY, &t);
-    if (grow_obstacles(s, frame->pose.yaw) < 0)
+    if (lc_session_grow_obstacles(s, frame->pose.yaw) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_GROW, &t);
 
@@ -792,7 +569,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         out->target = has_wp ? lc_region_project(&s->region, wp) : c;
         out->has_target = has_wp;
         if (has_wp && way.guided) {
-            out->target = path_target(&s->region, out->path, c, &way.to_go_target);
+            out->target = lc_follow_target(&s->region, out->path, c, &way.to_go_target);
             if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)
                 retry_unseeded(s, frame, seek, &way, out);
             if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)

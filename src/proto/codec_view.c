@@ -20,6 +20,7 @@
 
 #include <math.h>
 
+#include "follow.h"
 #include "patrol.h"
 
 /* The kept points, flat [x0, y0, x1, y1, ...]. */

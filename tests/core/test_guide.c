@@ -28,6 +28,7 @@
 #include <stddef.h>
 #include <string.h>
 
+#include "follow.h"
 #include "guide_scene.h"
 
 #define CLEAR SCENE_CLEAR

@@ -14,6 +14,7 @@
 #include <math.h>
 #include <string.h>
 
+#include "follow.h"
 #include "guide_scene.h"
 
 #define CLEAR SCENE_CLEAR
