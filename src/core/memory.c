@@ -579,17 +579,25 @@ static void mark_returns(lc_memory *m, const lc_cloud *cloud)
 
 /* The robot's own disc (body NULL), or the convex polygon body[0..n) in
  * the disc (centre, radius) about it: free, seen now. */
+/* The lattice cells [ia, ib] x [ja, jb] of the disc's bounding box, cut to
+ * the window (a huge radius must not loop over cells the window does not
+ * hold). */
+static void disc_box(const lc_memory *m, lc_vec2 centre, double radius, long *ia, long *ib,
+                     long *ja, long *jb)
+{
+    double x0 = (double)m->i0 * m->c, y0 = (double)m->j0 * m->c, side = (double)m->n * m->c;
+    *ia = floor_div(lc_min(lc_max(centre.x - radius, x0), x0 + side), m->c);
+    *ib = floor_div(lc_min(lc_max(centre.x + radius, x0), x0 + side), m->c);
+    *ja = floor_div(lc_min(lc_max(centre.y - radius, y0), y0 + side), m->c);
+    *jb = floor_div(lc_min(lc_max(centre.y + radius, y0), y0 + side), m->c);
+}
+
 static void mark_body(lc_memory *m, lc_vec2 centre, double radius, const lc_vec2 *body, int n)
 {
     if (!(radius > 0))
         return;
-    /* Only the disc's part inside the window (a huge radius must not loop
-     * over cells the window does not hold). */
-    double x0 = (double)m->i0 * m->c, y0 = (double)m->j0 * m->c, side = (double)m->n * m->c;
-    long ia = floor_div(lc_min(lc_max(centre.x - radius, x0), x0 + side), m->c);
-    long ib = floor_div(lc_min(lc_max(centre.x + radius, x0), x0 + side), m->c);
-    long ja = floor_div(lc_min(lc_max(centre.y - radius, y0), y0 + side), m->c);
-    long jb = floor_div(lc_min(lc_max(centre.y + radius, y0), y0 + side), m->c);
+    long ia, ib, ja, jb;
+    disc_box(m, centre, radius, &ia, &ib, &ja, &jb);
     for (long j = ja; j <= jb; j++)
         for (long i = ia; i <= ib; i++) {
             if (!in_window(m, i, j))
@@ -618,6 +626,27 @@ void lc_memory_mark_body(lc_memory *m, const lc_vec2 *body, int n)
         mark_body(m, c, r, body, n);
 }
 
+void lc_memory_keep_near(lc_memory *m, lc_vec2 centre, double radius)
+{
+    if (!m->placed || m->now < 2 || !lc_vec2_finite(centre) || !(radius > 0) ||
+        !isfinite(radius))
+        return;
+    long ia, ib, ja, jb;
+    disc_box(m, centre, radius, &ia, &ib, &ja, &jb);
+    uint32_t renew = m->now - 1;
+    for (long j = ja; j <= jb; j++)
+        for (long i = ia; i <= ib; i++) {
+            if (!in_window(m, i, j))
+                continue;
+            size_t k = slot(m, i, j);
+            if (!m->ev[k] || m->seen[k] == 0 || m->seen[k] >= renew ||
+                m->now - m->seen[k] > m->hold_occ)
+                continue;
+            if (lc_dist(lc_memory_cell_centre(m, i, j), centre) <= radius)
+                m->seen[k] = renew;
+        }
+}
+
 /*
  * Occupied cells whose hold has run out lose their evidence, SWEEP_ROWS
  * stored rows an update (the whole window every n / SWEEP_ROWS updates),
@@ -632,8 +661,12 @@ static void sweep(lc_memory *m)
     for (int r = 0; r < SWEEP_ROWS; r++) {
         size_t row = (size_t)m->sweep_row * (size_t)m->n;
         for (int k = 0; k < m->n; k++)
-            if (m->ev[row + (size_t)k] && m->now - m->seen[row + (size_t)k] > m->hold_occ)
+            if (m->ev[row + (size_t)k] && m->now - m->seen[row + (size_t)k] > m->hold_occ) {
+                /* forgotten: unknown, not free (its free evidence is as
+                 * old as the return, and the return said occupied) */
                 m->ev[row + (size_t)k] = 0;
+                m->seen[row + (size_t)k] = 0;
+            }
         m->sweep_row = m->sweep_row + 1 == m->n ? 0 : m->sweep_row + 1;
     }
 }

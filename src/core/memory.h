@@ -105,6 +105,18 @@ int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
  */
 void lc_memory_mark_body(lc_memory *m, const lc_vec2 *body, int n);
 
+/*
+ * After lc_memory_update: the occupied cells whose centres lie within
+ * radius of centre are not forgotten while they stay that near (their age
+ * starts again from one tick before now; not "seen now", and a sensor
+ * that sees through them still clears them). For a robot whose body
+ * swings as it turns (a polygon footprint): what lies beside it out of
+ * every sensor's view stays an obstacle however long it stands there,
+ * rather than turning into unknown space its body's turn does not check.
+ * Remembering longer is the safe side. Cells outside the window are left.
+ */
+void lc_memory_keep_near(lc_memory *m, lc_vec2 centre, double radius);
+
 /* What the memory says of a cell. */
 typedef enum lc_cell_state {
     LC_CELL_UNKNOWN = 0, /* never seen, forgotten, or outside the window */

@@ -210,6 +210,11 @@ static lc_frame resolve_frame(const lc_session *s, const lc_frame *f, lc_ingest_
  * into s->frontier, the view widened where the memory knows the space near
  * the robot. Nothing without memory. 0 or -1 (out of memory).
  */
+/* m beyond a polygon robot's circumscribed radius and margin within which
+ * remembered obstacles are kept while it is near them (lc_memory_keep_near):
+ * a turn on the spot and a braking arc's swing stay within it. */
+#define LC_SESSION_KEEP_NEAR 0.3
+
 static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
 {
     frame_view(s, f, &out->view_fov, &out->view_mid);
@@ -223,6 +228,9 @@ static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
     if (poly) {
         lc_vec2 body[LC_FOOTPRINT_MAX];
         lc_memory_mark_body(s->mem, body, lc_robot_place_footprint(&s->robot, f->pose, body));
+        /* what it would turn into stays remembered while it is that near */
+        lc_memory_keep_near(s->mem, lc_v2(f->pose.x, f->pose.y),
+                            lc_robot_clearance(&s->robot) + LC_SESSION_KEEP_NEAR);
     }
     out->memory = s->mem;
     double cell = s->cfg.memory.cell;

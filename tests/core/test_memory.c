@@ -388,29 +388,43 @@ static void test_clearing(void **state)
     lc_cloud_free(&cloud);
 }
 
+/* A memory (12 m, occupied cells held 5 s, free ones hold_free s) that has
+ * seen a ring of radius 2.02 m round (0, 0) at t = 100 s. */
+static lc_memory *ringed(lc_memory_config *cfg, double hold_free, double *ranges,
+                         lc_cloud *cloud)
+{
+    lc_memory_config_default(cfg);
+    cfg->size = 12;
+    cfg->hold_occupied = 5;
+    cfg->hold_free = hold_free;
+    lc_memory *m = lc_memory_new(cfg, NULL);
+    assert_non_null(m);
+    lc_frame f = ring_scan(ranges, (lc_pose){0, 0, 0}, 100.0, 2.02);
+    ingest(&f, cloud, 0.3);
+    lc_memory_update(m, &f, cloud, 0.3);
+    return m;
+}
+
+/* A frame that looks only to the east, from (0, 3): a 10 degree scan with
+ * no returns (r[10]); the caller sets its stamp. */
+static lc_frame east_glance(double *r)
+{
+    for (int i = 0; i < 10; i++)
+        r[i] = NAN;
+    return (lc_frame){.kind = LC_FRAME_SCAN, .pose = {0, 3, 0}, .angle_start = -0.1,
+                      .angle_step = 0.02, .range_min = 0.05, .range_max = 1, .ranges = r,
+                      .n_ranges = 10};
+}
+
 /* Evidence nobody refreshes is forgotten after its hold time. */
 static void test_ageing(void **state)
 {
     (void)state;
     lc_memory_config cfg;
-    lc_memory_config_default(&cfg);
-    cfg.size = 12;
-    cfg.hold_occupied = 5;
-    cfg.hold_free = 3;
-    lc_memory *m = lc_memory_new(&cfg, NULL);
-    static double ranges[720];
-    lc_cloud cloud = {0};
-    lc_frame f = ring_scan(ranges, (lc_pose){0, 0, 0}, 100.0, 2.02);
-    ingest(&f, &cloud, 0.3);
-    lc_memory_update(m, &f, &cloud, 0.3);
-    /* later frames look only to the east, from elsewhere: a 10 degree scan */
-    static double r2[10];
-    for (int i = 0; i < 10; i++)
-        r2[i] = NAN;
-    lc_frame g = {.kind = LC_FRAME_SCAN, .pose = {0, 3, 0}, .angle_start = -0.1,
-                  .angle_step = 0.02, .range_min = 0.05, .range_max = 1, .ranges = r2,
-                  .n_ranges = 10};
-    lc_cloud none = {0};
+    static double ranges[720], r2[10];
+    lc_cloud cloud = {0}, none = {0};
+    lc_memory *m = ringed(&cfg, 3, ranges, &cloud);
+    lc_frame g = east_glance(r2);
     double t[] = {102.9, 103.001, 104.999, 105.0, 105.002};
     lc_cell_state fr[] = {LC_CELL_FREE, LC_CELL_UNKNOWN, LC_CELL_UNKNOWN, LC_CELL_UNKNOWN,
                           LC_CELL_UNKNOWN};
@@ -426,6 +440,57 @@ static void test_ageing(void **state)
     lc_memory_free(m);
     lc_cloud_free(&cloud);
     lc_cloud_free(&none);
+}
+
+/*
+ * lc_memory_keep_near: an occupied cell near a robot that stands out of
+ * every sensor's view of it is not forgotten while it stays near; a far
+ * one is (hold_occupied 5 s, as test_ageing); the kept cell is not "seen
+ * now", a sensor that sees through it still clears it, and a forgotten
+ * cell is not brought back.
+ */
+static void test_keep_near(void **state)
+{
+    (void)state;
+    lc_memory_config cfg;
+    static double ranges[720], r2[10];
+    lc_cloud cloud = {0}, none = {0};
+    lc_memory *m = ringed(&cfg, 90, ranges, &cloud);
+    lc_frame f, g = east_glance(r2);
+    lc_vec2 west = lc_v2(-2.02, 0.02), east = lc_v2(2.02, 0.02), robot = lc_v2(-1.5, 0);
+    long wi, wj;
+    lc_memory_cell_of(m, west, &wi, &wj);
+    for (int k = 1; k <= 40; k++) { /* 20 s, four times the hold */
+        g.stamp = 100.0 + 0.5 * k;
+        lc_memory_update(m, &g, &none, 0.0);
+        lc_memory_keep_near(m, robot, 0.8);
+        assert_int_equal(lc_memory_state(m, west), LC_CELL_OCCUPIED);
+        assert_false(lc_memory_touched_now(m, wi, wj));
+        assert_int_equal(lc_memory_state(m, east), k * 0.5 <= 5.0 ? LC_CELL_OCCUPIED
+                                                                  : LC_CELL_UNKNOWN);
+    }
+    /* seen through clear_frames times: free, keep or not */
+    for (int k = 1; k <= cfg.clear_frames; k++) {
+        f = ring_scan(ranges, (lc_pose){0, 0, 0}, 120.0 + 0.05 * k, 4.02);
+        ingest(&f, &cloud, 0.3);
+        lc_memory_update(m, &f, &cloud, 0.3);
+        lc_memory_keep_near(m, robot, 0.8);
+    }
+    assert_int_equal(lc_memory_state(m, west), LC_CELL_FREE);
+    /* the ring at 4.02 m: left alone for longer than the hold, it is
+     * forgotten, and a robot coming near later does not bring it back */
+    lc_vec2 far_west = lc_v2(-4.02, 0.02);
+    assert_int_equal(lc_memory_state(m, far_west), LC_CELL_OCCUPIED);
+    g.stamp = 126.0;
+    lc_memory_update(m, &g, &none, 0.0);
+    lc_memory_keep_near(m, lc_v2(-3.6, 0), 0.8);
+    assert_int_equal(lc_memory_state(m, far_west), LC_CELL_UNKNOWN);
+    /* degenerate input changes nothing */
+    lc_memory_keep_near(m, lc_v2(NAN, 0), 0.8);
+    lc_memory_keep_near(m, robot, -1.0);
+    lc_memory_keep_near(m, robot, INFINITY);
+    lc_memory_free(m);
+    lc_cloud_free(&cloud);
 }
 
 /* The window follows the robot: what stays in it is kept, what comes in
@@ -635,6 +700,7 @@ int main(void)
         cmocka_unit_test(test_beam_cells),
         cmocka_unit_test(test_clearing),
         cmocka_unit_test(test_ageing),
+        cmocka_unit_test(test_keep_near),
         cmocka_unit_test(test_window_follows),
         cmocka_unit_test(test_stamps),
         cmocka_unit_test(test_points),
