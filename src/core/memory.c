@@ -12,7 +12,7 @@
  * i mod n, so the window moves by clearing the rows and columns that come
  * in, never by copying.
  */
-#include "memory.h"
+#include "memory_int.h"
 
 #include <limits.h>
 #include <stdlib.h>
@@ -24,35 +24,8 @@
 #define PULL_BACK 1.5       /* cells a return's end is pulled back toward the sensor */
 #define BACK_TOLERANCE 1.0  /* s a stamp may go back (another sensor's older frame) */
 #define TICK_LIMIT 2000000000u /* ticks (ms, 23 days) before the memory starts over */
-#define POINT_BINS 360      /* bearing bins of a points frame's view */
 #define REANCHOR 64         /* beams between exact directions (scan_polygon) */
 
-struct lc_memory {
-    lc_alloc alloc;
-    lc_memory_config cfg;
-    int n;             /* cells along a side */
-    double c;          /* m, cell side */
-    double inv_c;      /* 1 / c */
-    long i0, j0;       /* window: lattice cells [i0, i0 + n) x [j0, j0 + n) */
-    bool placed;       /* the window has been placed (first update) */
-    uint32_t *seen;    /* n * n */
-    uint8_t *ev;       /* n * n */
-    uint16_t *at;      /* n * n: where in an occupied cell its last return fell, x in
-                          the low byte, y in the high one, in 256ths of the cell */
-    uint32_t now;      /* tick of the last update (0: none yet) */
-    double base;       /* stamp of tick 0 */
-    double last_stamp;
-    uint32_t hold_occ, hold_free; /* ticks */
-    int sweep_row;     /* the next stored row the ageing sweep visits */
-    long updates, clears;
-    /* scan-line scratch, grown to a high-water mark */
-    lc_vec2 *poly;
-    int cap_poly;
-    int *row_count; /* n + 1 */
-    double *xs;
-    int cap_xs;
-    double *bin_range; /* POINT_BINS */
-};
 
 void lc_memory_config_default(lc_memory_config *cfg)
 {
@@ -157,19 +130,6 @@ void lc_memory_clear(lc_memory *m)
 
 /* ------------------------------------------------------------ lattice */
 
-/* floor and ceil as integers without a call to the C library (its floor
- * is a call on the baseline x86-64 instruction set, and the fill and the
- * returns take thousands a frame); finite x of magnitude below 2^62. */
-static inline long lfloor(double x)
-{
-    long i = (long)x;
-    return i - (x < (double)i);
-}
-
-static inline long lceil(double x) { return -lfloor(-x); }
-
-static long floor_div(double x, double c) { return lfloor(x / c); }
-
 void lc_memory_cell_of(const lc_memory *m, lc_vec2 p, long *i, long *j)
 {
     *i = lfloor(p.x * m->inv_c);
@@ -181,36 +141,9 @@ lc_vec2 lc_memory_cell_centre(const lc_memory *m, long i, long j)
     return lc_v2(((double)i + 0.5) * m->c, ((double)j + 0.5) * m->c);
 }
 
-static int wrap(long k, int n)
-{
-    long r = k % n;
-    return (int)(r < 0 ? r + n : r);
-}
-
-static bool in_window(const lc_memory *m, long i, long j)
-{
-    return m->placed && i >= m->i0 && i < m->i0 + m->n && j >= m->j0 && j < m->j0 + m->n;
-}
-
-static size_t slot(const lc_memory *m, long i, long j)
-{
-    return (size_t)wrap(j, m->n) * (size_t)m->n + (size_t)wrap(i, m->n);
-}
-
 lc_memory_window lc_memory_get_window(const lc_memory *m)
 {
     return (lc_memory_window){m->i0, m->j0, m->n, m->c};
-}
-
-static lc_cell_state state_at(const lc_memory *m, size_t k)
-{
-    uint32_t s = m->seen[k];
-    if (s == 0 || m->now == 0)
-        return LC_CELL_UNKNOWN;
-    uint32_t age = m->now - s;
-    if (m->ev[k])
-        return age <= m->hold_occ ? LC_CELL_OCCUPIED : LC_CELL_UNKNOWN;
-    return age <= m->hold_free ? LC_CELL_FREE : LC_CELL_UNKNOWN;
 }
 
 lc_cell_state lc_memory_cell(const lc_memory *m, long i, long j)
@@ -554,13 +487,6 @@ static uint16_t fraction(double f)
     return (uint16_t)(q < 0 ? 0 : (q > 255 ? 255 : q));
 }
 
-/* Where occupied cell (i, j) (stored at k) had its last return. */
-static lc_vec2 return_at(const lc_memory *m, size_t k, long i, long j)
-{
-    double fx = ((m->at[k] & 0xff) + 0.5) / 256.0, fy = ((m->at[k] >> 8) + 0.5) / 256.0;
-    return lc_v2(((double)i + fx) * m->c, ((double)j + fy) * m->c);
-}
-
 static void mark_returns(lc_memory *m, const lc_cloud *cloud)
 {
     uint8_t full = (uint8_t)m->cfg.clear_frames;
@@ -693,144 +619,6 @@ int lc_memory_update(lc_memory *m, const lc_frame *f, const lc_cloud *cloud,
     mark_body(m, centre, body_radius, NULL, 0);
     sweep(m);
     m->updates++;
-    return 0;
-}
-
-/* ------------------------------------------------------- bulk queries */
-
-double lc_memory_march(const lc_memory *m, lc_vec2 from, lc_vec2 dir, double max, double body,
-                       lc_cell_state *state, lc_vec2 *cell)
-{
-    *state = LC_CELL_FREE;
-    if (!lc_vec2_finite(from) || !lc_vec2_finite(dir) || !(max >= 0))
-        return INFINITY;
-    if (!m->placed) { /* a memory that has taken no frame knows no cell */
-        *state = LC_CELL_UNKNOWN;
-        *cell = from;
-        return 0.0;
-    }
-    long i, j;
-    lc_memory_cell_of(m, from, &i, &j);
-    /* Amanatides and Woo: the ray's t at the next vertical and horizontal
-     * cell borders, and the t between borders; the stored row and column
-     * follow i and j without a division */
-    int si = dir.x > 0 ? 1 : -1, sj = dir.y > 0 ? 1 : -1;
-    double bx = (double)(si > 0 ? i + 1 : i) * m->c, by = (double)(sj > 0 ? j + 1 : j) * m->c;
-    double tx = dir.x != 0 ? (bx - from.x) / dir.x : INFINITY;
-    double ty = dir.y != 0 ? (by - from.y) / dir.y : INFINITY;
-    double dtx = dir.x != 0 ? m->c / fabs(dir.x) : INFINITY;
-    double dty = dir.y != 0 ? m->c / fabs(dir.y) : INFINITY;
-    int col = wrap(i, m->n), row = wrap(j, m->n);
-    double t = 0.0; /* where the ray entered cell (i, j) */
-    while (t <= max) {
-        if (t >= body) {
-            lc_cell_state st = in_window(m, i, j)
-                                   ? state_at(m, (size_t)row * (size_t)m->n + (size_t)col)
-                                   : LC_CELL_UNKNOWN;
-            if (st != LC_CELL_FREE) {
-                *state = st;
-                *cell = st == LC_CELL_OCCUPIED
-                            ? return_at(m, (size_t)row * (size_t)m->n + (size_t)col, i, j)
-                            : lc_memory_cell_centre(m, i, j);
-                return t;
-            }
-        }
-        if (tx < ty) {
-            t = tx;
-            tx += dtx;
-            i += si;
-            col += si;
-            col = col == m->n ? 0 : (col < 0 ? m->n - 1 : col);
-        } else {
-            t = ty;
-            ty += dty;
-            j += sj;
-            row += sj;
-            row = row == m->n ? 0 : (row < 0 ? m->n - 1 : row);
-        }
-    }
-    return INFINITY;
-}
-
-/* Least squared distance from p to an occupied cell centre of stored row
- * `row` (lattice row j), columns [a, b) (lattice column of a: ia). */
-static double row_nearest2(const lc_memory *m, size_t row, int a, int b, long ia, long j,
-                           lc_vec2 p, double best)
-{
-    const uint8_t *ev = m->ev + row;
-    for (int k = a; k < b; k++) {
-        if (k + 8 <= b) {
-            uint64_t w;
-            memcpy(&w, ev + k, sizeof w);
-            if (w == 0) {
-                k += 7;
-                continue;
-            }
-        }
-        if (ev[k]) {
-            lc_vec2 q = return_at(m, row + (size_t)k, ia + (k - a), j);
-            best = lc_min(best, lc_len2(lc_sub(q, p)));
-        }
-    }
-    return best;
-}
-
-double lc_memory_nearest(const lc_memory *m, lc_vec2 p, double radius)
-{
-    if (!m->placed || !lc_vec2_finite(p) || !(radius >= 0))
-        return INFINITY;
-    long ia = floor_div(p.x - radius, m->c), ib = floor_div(p.x + radius, m->c) + 1;
-    long ja = floor_div(p.y - radius, m->c), jb = floor_div(p.y + radius, m->c) + 1;
-    ia = ia > m->i0 ? ia : m->i0;
-    ja = ja > m->j0 ? ja : m->j0;
-    ib = ib < m->i0 + m->n ? ib : m->i0 + m->n;
-    jb = jb < m->j0 + m->n ? jb : m->j0 + m->n;
-    double best = radius * radius;
-    bool found = false;
-    for (long j = ja; j < jb; j++) {
-        size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
-        int ca = wrap(ia, m->n);
-        long len = ib - ia;
-        if (len <= 0)
-            break;
-        int end = ca + len <= m->n ? ca + (int)len : m->n;
-        double b = row_nearest2(m, row, ca, end, ia, j, p, best);
-        if (ca + len > m->n)
-            b = row_nearest2(m, row, 0, (int)(ca + len - m->n), ia + (m->n - ca), j, p, b);
-        found = found || b < best;
-        best = b;
-    }
-    return found ? sqrt(best) : INFINITY;
-}
-
-int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p), void *data)
-{
-    if (!m->placed)
-        return 0;
-    /* stored column k holds lattice column i0 + (k - s) mod n, s the
-     * stored column of i0: no division per cell */
-    int s = wrap(m->i0, m->n);
-    for (long j = m->j0; j < m->j0 + m->n; j++) {
-        size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
-        const uint8_t *ev = m->ev + row;
-        for (int k = 0; k < m->n; k++) {
-            if (k + 8 <= m->n && (k & 7) == 0) {
-                uint64_t w;
-                memcpy(&w, ev + k, sizeof w);
-                if (w == 0) {
-                    k += 7;
-                    continue;
-                }
-            }
-            if (!ev[k])
-                continue;
-            /* stored column k is lattice column i with i = k (mod n) in the window */
-            long i = m->i0 + (k >= s ? k - s : k - s + m->n);
-            int rc = fn(data, return_at(m, row + (size_t)k, i, j));
-            if (rc)
-                return rc;
-        }
-    }
     return 0;
 }
 
