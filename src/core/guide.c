@@ -84,7 +84,7 @@ void lc_guide_config_default(lc_guide_config *cfg)
                              .every = 10,
                              .travel = 0.5,
                              .unknown_cost = 2.0,
-                             .soft = 0.2,
+                             .soft = 0.6,
                              .soft_cost = 2.0,
                              .hysteresis = 0.15,
                              .check_ahead = 3.0,
@@ -290,17 +290,29 @@ static int bucket_obstacles(lc_guide *g, const lc_memory *m)
     return 0;
 }
 
-/* The distance from p to the nearest bucketed return within radius;
- * INFINITY when there is none. */
-static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at)
+/* The buckets [u0, u1] x [v0, v1] that hold the points within radius of p
+ * (cut to the grid). */
+static void bucket_box(const lc_guide *g, lc_vec2 p, double radius, int *u0, int *u1, int *v0,
+                       int *v1)
 {
     double cs = BUCKET * g->cfg.cell;
-    int u0 = (int)floor((p.x - radius - g->x0) / cs), u1 = (int)floor((p.x + radius - g->x0) / cs);
-    int v0 = (int)floor((p.y - radius - g->y0) / cs), v1 = (int)floor((p.y + radius - g->y0) / cs);
-    u0 = u0 < 0 ? 0 : u0;
-    v0 = v0 < 0 ? 0 : v0;
-    u1 = u1 >= g->bn ? g->bn - 1 : u1;
-    v1 = v1 >= g->bn ? g->bn - 1 : v1;
+    *u0 = (int)floor((p.x - radius - g->x0) / cs);
+    *u1 = (int)floor((p.x + radius - g->x0) / cs);
+    *v0 = (int)floor((p.y - radius - g->y0) / cs);
+    *v1 = (int)floor((p.y + radius - g->y0) / cs);
+    *u0 = *u0 < 0 ? 0 : *u0;
+    *v0 = *v0 < 0 ? 0 : *v0;
+    *u1 = *u1 >= g->bn ? g->bn - 1 : *u1;
+    *v1 = *v1 >= g->bn ? g->bn - 1 : *v1;
+}
+
+/* The distance from p to the nearest bucketed return within radius;
+ * INFINITY when there is none; with first, the distance to the first one
+ * found within radius instead. */
+static double bucket_scan(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at, bool first)
+{
+    int u0, u1, v0, v1;
+    bucket_box(g, p, radius, &u0, &u1, &v0, &v1);
     double best = radius * radius;
     bool found = false;
     for (int v = v0; v <= v1; v++) {
@@ -316,6 +328,8 @@ static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_
                     found = true;
                     if (at)
                         *at = g->pts[i];
+                    if (first)
+                        return sqrt(best);
                 }
             }
         }
@@ -323,9 +337,21 @@ static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_
     return found ? sqrt(best) : INFINITY;
 }
 
+static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at)
+{
+    return bucket_scan(g, p, radius, at, false);
+}
+
 static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
 {
-    return bucket_nearest_at(g, p, radius, NULL);
+    return bucket_scan(g, p, radius, NULL, false);
+}
+
+/* Some bucketed return lies nearer p than radius (the first found ends the
+ * scan). */
+static bool bucket_any_within(const lc_guide *g, lc_vec2 p, double radius)
+{
+    return isfinite(bucket_scan(g, p, radius, NULL, true));
 }
 
 typedef struct search_ctx {
@@ -357,11 +383,13 @@ static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
 {
     if (refused_at(g, c->start, c->escape, p))
         return CLS_CLOSED;
-    double d = bucket_nearest(g, p, c->R + g->cfg.soft);
-    int cls = d < closed_within(g, c)    ? CLS_CLOSED
-              : d < c->R + TIGHT         ? CLS_TIGHT
-              : d < c->R + g->cfg.soft   ? CLS_SOFT
-                                         : CLS_FREE;
+    /* the nearest return within the tight band, else whether any lies
+     * within the soft one (the wider query stops at its first) */
+    double d = bucket_nearest(g, p, c->R + TIGHT);
+    int cls = d < closed_within(g, c)                         ? CLS_CLOSED
+              : d < c->R + TIGHT                              ? CLS_TIGHT
+              : bucket_any_within(g, p, c->R + g->cfg.soft) ? CLS_SOFT
+                                                              : CLS_FREE;
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         cls |= CLS_UNKNOWN;
     return cls;
@@ -689,9 +717,15 @@ static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_pa
 }
 
 /* Is an obstacle within the clearance of the followed path's next
- * check_ahead metres? */
-static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
+ * check_ahead metres (AHEAD_CLOSED), or else does it cross a refused spot
+ * (AHEAD_REFUSED: the search let it through one, the refusals forgotten or
+ * the robot let out of its clearance; searched again at the periodic
+ * cadence, not every frame)? */
+enum { AHEAD_OPEN = 0, AHEAD_CLOSED, AHEAD_REFUSED };
+
+static int blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
 {
+    bool refused = false;
     const lc_guide_path *p = &g->path;
     int seg = p->seg;
     lc_vec2 q = lc_follow_nearest(p, from, &seg);
@@ -704,13 +738,16 @@ static bool blocked_ahead(const lc_guide *g, const search_ctx *c, lc_vec2 from)
         for (int i = 1; i <= m && walked < g->cfg.check_ahead; i++) {
             lc_vec2 s = lc_lerp(a, b, (double)i / m);
             walked += len / m;
-            if (lc_dist(s, c->start) > c->escape &&
-                (refused_at(g, c->start, c->escape, s) || lc_memory_nearest(c->m, s, c->R) < closed_within(g, c) - c->graze))
-                return true;
+            if (lc_dist(s, c->start) <= c->escape)
+                continue;
+            if (lc_memory_nearest(c->m, s, c->R) < closed_within(g, c) - c->graze)
+                return AHEAD_CLOSED;
+            if (refused_at(g, c->start, c->escape, s))
+                refused = true;
         }
         a = b;
     }
-    return false;
+    return refused ? AHEAD_REFUSED : AHEAD_OPEN;
 }
 
 static void place_grid(lc_guide *g, const lc_memory *m)
@@ -745,13 +782,16 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
     long since = g->frame - g->last_search;
     bool due = since >= g->cfg.every && (lc_dist(robot, g->searched_at) >= g->cfg.travel ||
                                          since >= 10L * g->cfg.every || g->doubt);
+    int ahead = AHEAD_OPEN;
     if (g->path.status == LC_GUIDE_PATH && !new_goal) {
         lc_follow_nearest(&g->path, robot, &g->path.seg);
-        info->blocked_ahead = blocked_ahead(g, &c, robot);
+        ahead = blocked_ahead(g, &c, robot);
+        info->blocked_ahead = ahead != AHEAD_OPEN;
     }
     bool doubting = g->doubt && since < g->cfg.every; /* waiting to search again */
     if (new_goal || due || g->search_now || g->path.status != LC_GUIDE_PATH ||
-        (info->blocked_ahead && !doubting)) {
+        (ahead == AHEAD_CLOSED && !doubting) ||
+        (ahead == AHEAD_REFUSED && since >= g->cfg.every)) {
         g->search_now = false;
         place_grid(g, m);
         if (bucket_obstacles(g, m) < 0)

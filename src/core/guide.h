@@ -73,7 +73,7 @@ typedef struct lc_guide_config {
     double travel;       /* m the robot moves between periodic searches (default 0.5);
                             a robot that stays put searches every 10 x `every` frames */
     double unknown_cost; /* cost factor through unknown space (default 2) */
-    double soft;         /* m beyond the clearance where steps cost more (default 0.2) */
+    double soft;         /* m beyond the clearance where steps cost more (default 0.6) */
     double soft_cost;    /* that factor (default 2) */
     double hysteresis;   /* share a new path must save to replace the old (default 0.15) */
     double check_ahead;  /* m of the path checked for new obstacles every frame (default 3) */

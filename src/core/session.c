@@ -503,8 +503,12 @@ static bool held_patrol(lc_session *s, const lc_frame *f, const lc_patrol_way *w
                         lc_vec2 *wp, lc_plan_result *out)
 {
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    /* a way round found meanwhile does not start the count over: held, the
+     * robot follows none */
+    lc_patrol_way held = *way;
+    held.new_way = false;
     lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->has_target ? out->target : c,
-                                       way, f->stamp, out->events, &out->n_events);
+                                       &held, f->stamp, out->events, &out->n_events);
     *has_wp = lc_patrol_waypoint(&s->patrol, &s->route, wp);
     if (st != LC_STATE_BLOCKED && st != LC_STATE_DONE)
         return false;

@@ -18,9 +18,10 @@
  * The run ends when the route is done (a looping route: once its last
  * waypoint has been reached, the "lap" event), when the robot has been `blocked`
  * (held: the world is static, it stays so) for BLOCKED_HOLD s without a
- * break (outcome "blocked"), or `too_close` for STUCK_HOLD s without a
- * break (outcome "stuck": easing out of the margin, a unicycle may first
- * turn round, and that takes a few seconds), or at the time limit (outcome "timeout"; --max-time,
+ * break (outcome "blocked"), or `too_close` for STUCK_HOLD s (and 1 s
+ * more than the route's blocked time) without a break (outcome "stuck":
+ * easing out of the margin, a unicycle may first turn round, and that
+ * takes a few seconds), or at the time limit (outcome "timeout"; --max-time,
  * else the header's max_time, else 600 s).
  * Success (exit 0) is the header's expectation met without a collision:
  * expect "done" wants the route finished, expect "blocked" wants the run to
@@ -415,6 +416,15 @@ static int route_finished(sim *sm, bool looping)
 
 /* One frame and the time until the next; 1 when the run ends, 0 to go on,
  * <0 on failure. */
+/* How long too_close may last before the run is stuck: STUCK_HOLD, and
+ * longer than the route's blocked time, which runs on while the robot is
+ * held (the patrol then blocks it: outcome "blocked"). */
+static double stuck_hold(const sim *sm)
+{
+    double bt = sm->h->route.blocked_time;
+    return bt > 0 && isfinite(bt) ? fmax(STUCK_HOLD, bt + 1.0) : STUCK_HOLD;
+}
+
 static int period_step(sim *sm, double *blocked_since)
 {
     double stamp, next;
@@ -452,7 +462,7 @@ static int period_step(sim *sm, double *blocked_since)
             sm->hold_blocked = false;
         }
         sm->hold_blocked = sm->hold_blocked || res.state == LC_STATE_BLOCKED;
-        if (stamp - *blocked_since >= (sm->hold_blocked ? BLOCKED_HOLD : STUCK_HOLD)) {
+        if (stamp - *blocked_since >= (sm->hold_blocked ? BLOCKED_HOLD : stuck_hold(sm))) {
             sm->m.end = sm->hold_blocked ? OUT_BLOCKED : OUT_STUCK;
             return 1;
         }

@@ -71,7 +71,7 @@ static void test_config(void **state)
     lc_guide_config c;
     lc_guide_config_default(&c);
     assert_true(c.enabled);
-    assert_true(c.cell == 0.1 && c.every == 10 && c.travel == 0.5 && c.soft == 0.2);
+    assert_true(c.cell == 0.1 && c.every == 10 && c.travel == 0.5 && c.soft == 0.6);
     assert_true(c.soft_cost == 2 && c.hysteresis == 0.15 && c.check_ahead == 3);
     assert_true(c.unknown_cost == 2 && c.greed == 2 && c.stall == 4);
     const char *field = "x";

@@ -170,6 +170,22 @@ static void test_quick_json(void **state)
     }
 }
 
+/*
+ * A robot that stands among 100 obstacles while guidance refuses spots
+ * round it (the bench's robot stays put): its path may cross a refused spot
+ * the search let it through, and that is searched again at the cadence
+ * (every 10 frames), not every frame (it was 244 searches in 400 frames).
+ * Search counts are deterministic, not timings.
+ */
+static void test_search_cadence_in_clutter(void **state)
+{
+    cJSON *j = bench_json("bench --case obstacles-100 --frames 400 --json");
+    const cJSON *c = cJSON_GetArrayItem(item(j, "cases"), 0);
+    assert_string_equal(text(c, "name"), "obstacles-100");
+    assert_true(figure(c, "searches") <= 400 / 10 + 2);
+    cJSON_Delete(j);
+}
+
 /* --case keeps one part: one case (no solver, no codec), the solver alone,
  * the codec alone. */
 static void test_case_selection(void **state)
@@ -233,6 +249,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_quick_json),
+        cmocka_unit_test(test_search_cadence_in_clutter),
         cmocka_unit_test(test_case_selection),
         cmocka_unit_test(test_bad_options),
     };
