@@ -10,7 +10,7 @@
  * window's border at the unknown-space cost of the straight line: the path
  * leaves the window where the rest of the way looks cheapest.
  */
-#include "guide.h"
+#include "guide_int.h"
 
 #include "follow.h"
 
@@ -31,11 +31,6 @@ enum { ST_OPEN = 1, ST_DONE = 2 };
 
 #define LOS_STEP 1.0 /* memory cells between line-of-sight samples */
 
-/* Search cells along a side of a bucket of remembered returns: a bucket of
- * 0.3 m holds the returns a nearest query around a cell looks at in a few
- * reads, and the bucket grid is rebuilt each search at a ninth of the
- * cost of one bucket per search cell (a quarter of a search, measured). */
-#define BUCKET 3
 
 /* A gap that leaves the robot's centre less than 2 TIGHT of room is one the
  * region can barely hold the robot in (a needle of a region, a crawl): its
@@ -44,38 +39,6 @@ enum { ST_OPEN = 1, ST_DONE = 2 };
 #define TIGHT 0.05     /* m */
 #define TIGHT_COST 8.0
 
-struct lc_guide {
-    lc_alloc alloc;
-    lc_guide_config cfg;
-    double mem_cell;
-    int n;             /* search cells along a side */
-    double x0, y0;     /* world corner of the grid of the current search */
-    float *g;          /* n * n + 1: the last one is the outside goal */
-    int *parent;
-    uint8_t *state, *cls;
-    int *heap, *pos;   /* indexed binary heap by f */
-    float *f;
-    int heap_n;
-    int *raw;          /* the search's path, cell by cell, goal first */
-    /* the remembered obstacles of the current search, bucketed by search
-     * cell: the returns of cell k are pts[start[k] .. start[k + 1]) */
-    int *start;        /* n * n + 1 */
-    uint8_t *occ;      /* n * n: cell k holds a return */
-    lc_vec2 *pts, *tmp;
-    int *tmp_cell;
-    int n_pts, cap_pts, cap_tmp, cap_tmp_cell;
-    int bn;            /* buckets along a side (BUCKET search cells each) */
-    lc_guide_path path, cand;
-    long frame, last_search, searches;
-    lc_vec2 searched_at; /* the robot at the last search */
-    bool has_goal;
-    lc_vec2 goal;
-    lc_vec2 refused[LC_GUIDE_REFUSED]; /* spots the robot could not get past */
-    double refused_r[LC_GUIDE_REFUSED];
-    int n_refused, next_refused;
-    bool search_now;
-    bool doubt;        /* the last search found no way where the path is */
-};
 
 void lc_guide_config_default(lc_guide_config *cfg)
 {
@@ -231,129 +194,6 @@ static int cell_of(const lc_guide *g, lc_vec2 p)
 
 /* ------------------------------------------------ obstacles of a search */
 
-typedef struct collect_ctx {
-    lc_guide *g;
-    int failed;
-} collect_ctx;
-
-static int bucket_of(const lc_guide *g, lc_vec2 p)
-{
-    double w = BUCKET * g->cfg.cell;
-    double u = floor((p.x - g->x0) / w), v = floor((p.y - g->y0) / w);
-    if (!(u >= 0 && u < g->bn && v >= 0 && v < g->bn))
-        return -1;
-    return (int)v * g->bn + (int)u;
-}
-
-static int collect_one(void *data, lc_vec2 p)
-{
-    collect_ctx *cc = data;
-    lc_guide *g = cc->g;
-    int k = bucket_of(g, p);
-    if (k < 0)
-        return 0;
-    if (LC_GROW(&g->alloc, g->tmp, g->cap_tmp, g->n_pts + 1) < 0 ||
-        LC_GROW(&g->alloc, g->tmp_cell, g->cap_tmp_cell, g->n_pts + 1) < 0) {
-        cc->failed = 1;
-        return 1;
-    }
-    g->tmp[g->n_pts] = p;
-    g->tmp_cell[g->n_pts++] = k;
-    return 0;
-}
-
-/*
- * The memory's occupied cells (their returns) bucketed by search cell, for
- * the nearest-obstacle queries of one search: built once, then each query
- * reads the few search cells around it. -1 when out of memory.
- */
-static int bucket_obstacles(lc_guide *g, const lc_memory *m)
-{
-    int total = g->bn * g->bn;
-    g->n_pts = 0;
-    collect_ctx cc = {g, 0};
-    lc_memory_each_occupied(m, collect_one, &cc);
-    if (cc.failed || LC_GROW(&g->alloc, g->pts, g->cap_pts, g->n_pts + 1) < 0)
-        return -1;
-    memset(g->start, 0, (size_t)(total + 1) * sizeof *g->start);
-    for (int i = 0; i < g->n_pts; i++)
-        g->start[g->tmp_cell[i] + 1]++;
-    for (int k = 0; k < total; k++) {
-        g->occ[k] = g->start[k + 1] > 0;
-        g->start[k + 1] += g->start[k];
-    }
-    for (int i = 0; i < g->n_pts; i++) /* start[k] runs to the end of bucket k */
-        g->pts[g->start[g->tmp_cell[i]]++] = g->tmp[i];
-    for (int k = total; k > 0; k--)
-        g->start[k] = g->start[k - 1];
-    g->start[0] = 0;
-    return 0;
-}
-
-/* The buckets [u0, u1] x [v0, v1] that hold the points within radius of p
- * (cut to the grid). */
-static void bucket_box(const lc_guide *g, lc_vec2 p, double radius, int *u0, int *u1, int *v0,
-                       int *v1)
-{
-    double cs = BUCKET * g->cfg.cell;
-    *u0 = (int)floor((p.x - radius - g->x0) / cs);
-    *u1 = (int)floor((p.x + radius - g->x0) / cs);
-    *v0 = (int)floor((p.y - radius - g->y0) / cs);
-    *v1 = (int)floor((p.y + radius - g->y0) / cs);
-    *u0 = *u0 < 0 ? 0 : *u0;
-    *v0 = *v0 < 0 ? 0 : *v0;
-    *u1 = *u1 >= g->bn ? g->bn - 1 : *u1;
-    *v1 = *v1 >= g->bn ? g->bn - 1 : *v1;
-}
-
-/* The distance from p to the nearest bucketed return within radius;
- * INFINITY when there is none; with first, the distance to the first one
- * found within radius instead. */
-static double bucket_scan(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at, bool first)
-{
-    int u0, u1, v0, v1;
-    bucket_box(g, p, radius, &u0, &u1, &v0, &v1);
-    double best = radius * radius;
-    bool found = false;
-    for (int v = v0; v <= v1; v++) {
-        const uint8_t *occ = g->occ + (size_t)v * (size_t)g->bn;
-        for (int u = u0; u <= u1; u++) {
-            if (!occ[u])
-                continue;
-            int k = v * g->bn + u;
-            for (int i = g->start[k]; i < g->start[k + 1]; i++) {
-                double d2 = lc_len2(lc_sub(g->pts[i], p));
-                if (d2 < best) {
-                    best = d2;
-                    found = true;
-                    if (at)
-                        *at = g->pts[i];
-                    if (first)
-                        return sqrt(best);
-                }
-            }
-        }
-    }
-    return found ? sqrt(best) : INFINITY;
-}
-
-static double bucket_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at)
-{
-    return bucket_scan(g, p, radius, at, false);
-}
-
-static double bucket_nearest(const lc_guide *g, lc_vec2 p, double radius)
-{
-    return bucket_scan(g, p, radius, NULL, false);
-}
-
-/* Some bucketed return lies nearer p than radius (the first found ends the
- * scan). */
-static bool bucket_any_within(const lc_guide *g, lc_vec2 p, double radius)
-{
-    return isfinite(bucket_scan(g, p, radius, NULL, true));
-}
-
 typedef struct search_ctx {
     const lc_memory *m;
     double R;        /* m, clearance */
@@ -385,10 +225,10 @@ static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
         return CLS_CLOSED;
     /* the nearest return within the tight band, else whether any lies
      * within the soft one (the wider query stops at its first) */
-    double d = bucket_nearest(g, p, c->R + TIGHT);
+    double d = lc_guide_nearest(g, p, c->R + TIGHT);
     int cls = d < closed_within(g, c)                         ? CLS_CLOSED
               : d < c->R + TIGHT                              ? CLS_TIGHT
-              : bucket_any_within(g, p, c->R + g->cfg.soft) ? CLS_SOFT
+              : lc_guide_any_within(g, p, c->R + g->cfg.soft) ? CLS_SOFT
                                                               : CLS_FREE;
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         cls |= CLS_UNKNOWN;
@@ -565,7 +405,7 @@ static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_
     int k = (int)ceil(len / step);
     for (int i = 1; i <= k; i++) {
         lc_vec2 p = lc_lerp(a, b, (double)i / k);
-        if ((refused_at(g, c->start, c->escape, p) || bucket_nearest(g, p, keep) < keep) &&
+        if ((refused_at(g, c->start, c->escape, p) || lc_guide_nearest(g, p, keep) < keep) &&
             lc_dist(p, c->start) > c->escape)
             return false;
     }
@@ -621,11 +461,11 @@ static lc_vec2 centre_point(const lc_guide *g, const search_ctx *c, lc_vec2 v)
 {
     double reach = c->R + g->cfg.soft;
     lc_vec2 q;
-    double d = bucket_nearest_at(g, v, reach, &q);
+    double d = lc_guide_nearest_at(g, v, reach, &q);
     for (int i = 0; i < CENTRE_STEPS && d < reach && d > 1e-9; i++) {
         lc_vec2 moved = lc_add(v, lc_scale(lc_sub(v, q), CENTRE_STEP / d));
         lc_vec2 q2;
-        double d2 = bucket_nearest_at(g, moved, reach, &q2);
+        double d2 = lc_guide_nearest_at(g, moved, reach, &q2);
         if (!(d2 > d))
             break;
         v = moved;
@@ -794,7 +634,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         (ahead == AHEAD_REFUSED && since >= g->cfg.every)) {
         g->search_now = false;
         place_grid(g, m);
-        if (bucket_obstacles(g, m) < 0)
+        if (lc_guide_bucket_obstacles(g, m) < 0)
             return -1;
         int expanded;
         /* at least half a cell's diagonal: every point has a cell centre
