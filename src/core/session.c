@@ -610,6 +610,10 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         int eased = rc == LC_REGION_TOO_CLOSE && out->has_target
                         ? lc_steer_ease_out(&in, &s->steer, &out->setpoint)
                         : 0;
+        if (eased > 0 && !s->easing)
+            /* its first frame is a step from rest, not from the last
+             * setpoint: the stop coming in is what bounds it */
+            out->setpoint.limit = LC_LIMIT_TOO_CLOSE;
         s->easing = eased > 0;
         if (eased < 0)
             return -1;
