@@ -388,11 +388,14 @@ int lc_motion_point(const lc_robot *robot, const lc_motion_params *params,
                 : point_fallback(robot, params, region, p, v0, v, step);
         limit = LC_LIMIT_BRAKING;
     }
-    /* Rounding only, now that v0 and v_des are within v_max. */
+    /* Rounding only, now that v0 and v_des are within v_max; a step that
+     * fell back on braking stays labelled so (it may be one that could not
+     * slow at all: a_max dt lost in rounding against the speed) */
     double speed = lc_len(v);
     if (speed > robot->v_max) {
         v = lc_scale(v, robot->v_max / speed);
-        limit = LC_LIMIT_TOP_SPEED;
+        if (limit != LC_LIMIT_BRAKING)
+            limit = LC_LIMIT_TOP_SPEED;
     }
     lc_vec2 v_robot = lc_rotate(v, -pose.yaw);
     out->vx = v_robot.x;
