@@ -25,6 +25,8 @@ enum {
     CLS_CLOSED = 3,
     CLS_TIGHT = 4, /* soft, and within TIGHT of the clearance */
     CLS_UNKNOWN = 0x10, /* or'ed: the memory does not know the cell */
+    CLS_BODY_UNKNOWN = 0x20, /* or'ed: the robot there would stand partly in unknown space */
+    CLS_BODY_DONE = 0x40,    /* or'ed: CLS_BODY_UNKNOWN is decided */
 };
 
 enum { ST_OPEN = 1, ST_DONE = 2 };
@@ -52,7 +54,8 @@ void lc_guide_config_default(lc_guide_config *cfg)
                              .hysteresis = 0.15,
                              .check_ahead = 3.0,
                              .stall = 4.0,
-                             .greed = 2.0};
+                             .greed = 2.0,
+                             .blind_cost = 25.0};
 }
 
 int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
@@ -78,6 +81,8 @@ int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
         bad = "stall";
     else if (!(cfg->greed >= 1 && cfg->greed <= 10))
         bad = "greed";
+    else if (!(cfg->blind_cost >= 1 && cfg->blind_cost <= 100))
+        bad = "blind_cost";
     if (field)
         *field = bad;
     return bad ? -1 : 0;
@@ -177,6 +182,51 @@ static bool refused_at(const lc_guide *g, lc_vec2 start, double escape, lc_vec2 
     return false;
 }
 
+/* ----------------------------------------------------------------- sight */
+
+/* The search's steps: 4 straight, then 4 diagonal. */
+static const int du[8] = {1, -1, 0, 0, 1, 1, -1, -1}, dv[8] = {0, 0, 1, -1, 1, -1, 1, -1};
+
+void lc_guide_set_sight(lc_guide *g, const lc_guide_sight *sight)
+{
+    g->sight.n = 0;
+    if (!sight)
+        return;
+    for (int i = 0; i < sight->n && i < LC_GUIDE_SIGHTS; i++) {
+        if (!(isfinite(sight->mid[i]) && sight->half[i] >= 0))
+            continue;
+        if (sight->half[i] >= LC_PI) { /* all round */
+            g->sight.n = 0;
+            return;
+        }
+        g->sight.mid[g->sight.n] = sight->mid[i];
+        g->sight.half[g->sight.n] = sight->half[i];
+        g->sight.n++;
+    }
+    if (g->sight.n == 0 && sight->n > 0) { /* nothing usable: looks nowhere */
+        g->sight.mid[0] = 0.0;
+        g->sight.half[0] = -1.0;
+        g->sight.n = 1;
+    }
+}
+
+/* Can the robot look along world direction dir? */
+static bool can_look(const lc_guide *g, double dir)
+{
+    if (g->sight.n == 0)
+        return true;
+    for (int i = 0; i < g->sight.n; i++)
+        if (fabs(lc_wrap_angle(dir - g->sight.mid[i])) <= g->sight.half[i])
+            return true;
+    return false;
+}
+
+/* Is the way from a to b one the robot cannot look along? */
+static bool blind_toward(const lc_guide *g, lc_vec2 a, lc_vec2 b)
+{
+    return g->sight.n > 0 && lc_dist(a, b) > 0 && !can_look(g, atan2(b.y - a.y, b.x - a.x));
+}
+
 /* ------------------------------------------------------------------ grid */
 
 static lc_vec2 centre_of(const lc_guide *g, int k)
@@ -202,6 +252,7 @@ typedef struct search_ctx {
     double graze;    /* m, how far into the clearance a path ahead may be found before
                         it counts as closed (half a memory cell: cells flicker at the
                         edge of the clearance as they are seen again) */
+    bool blind[8];   /* the search's step directions the robot cannot look along */
 } search_ctx;
 
 /*
@@ -233,6 +284,37 @@ static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         cls |= CLS_UNKNOWN;
     return cls;
+}
+
+/* Would the robot's disc about p (the clearance) reach into space the
+ * memory does not know? Its centre and eight points on its rim. */
+static bool body_unknown_at(const search_ctx *c, lc_vec2 p)
+{
+    static const double rim[8][2] = {{1, 0},     {0.7071, 0.7071},  {0, 1},  {-0.7071, 0.7071},
+                                     {-1, 0},    {-0.7071, -0.7071}, {0, -1}, {0.7071, -0.7071}};
+    if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
+        return true;
+    for (int i = 0; i < 8; i++)
+        if (lc_memory_state(c->m, lc_v2(p.x + c->R * rim[i][0], p.y + c->R * rim[i][1])) ==
+            LC_CELL_UNKNOWN)
+            return true;
+    return false;
+}
+
+static int cls_at(lc_guide *g, const search_ctx *c, int k);
+
+/* A step into cell k that the robot cannot look along (c->blind) goes
+ * where it cannot see when its body there reaches into unknown space. */
+static bool body_unknown(lc_guide *g, const search_ctx *c, int k)
+{
+    int cls = cls_at(g, c, k);
+    if (cls & CLS_UNKNOWN)
+        return true;
+    if (!(cls & CLS_BODY_DONE)) {
+        cls |= CLS_BODY_DONE | (body_unknown_at(c, centre_of(g, k)) ? CLS_BODY_UNKNOWN : 0);
+        g->cls[k] = (uint8_t)cls;
+    }
+    return cls & CLS_BODY_UNKNOWN;
 }
 
 static int cls_at(lc_guide *g, const search_ctx *c, int k)
@@ -358,7 +440,6 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
      * most sqrt(4 - 2 sqrt 2)) keeps the heuristic admissible. */
     double slack = inside ? sqrt(4.0 - 2.0 * sqrt(2.0)) * reach : 0.0;
     relax(g, s, -1, 0.0, w * fmax(0.0, octile(centre_of(g, s), goal) - slack));
-    static const int du[8] = {1, -1, 0, 0, 1, 1, -1, -1}, dv[8] = {0, 0, 1, -1, 1, -1, 1, -1};
     double step = g->cfg.cell;
     while (g->heap_n > 0) {
         int k = pop(g);
@@ -384,7 +465,10 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
             if (d < 4)
                 open[d] = true;
             double len = d < 4 ? step : step * sqrt(2.0);
-            relax(g, q, k, g->g[k] + len * factor(g, cls),
+            double f = factor(g, cls);
+            if (c->blind[d] && body_unknown(g, c, q))
+                f *= g->cfg.blind_cost;
+            relax(g, q, k, g->g[k] + len * f,
                   w * fmax(0.0, octile(centre_of(g, q), goal) - slack));
         }
     }
@@ -402,11 +486,16 @@ static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_
 {
     double len = lc_dist(a, b), step = LOS_STEP * g->mem_cell;
     double keep = c->R + 0.5 * g->cfg.soft;
+    /* along a way the robot cannot look, its body stays in known space */
+    bool blind = blind_toward(g, a, b);
+    known = known || blind;
     int k = (int)ceil(len / step);
     for (int i = 1; i <= k; i++) {
         lc_vec2 p = lc_lerp(a, b, (double)i / k);
         if ((refused_at(g, c->start, c->escape, p) || lc_guide_nearest(g, p, keep) < keep) &&
             lc_dist(p, c->start) > c->escape)
+            return false;
+        if (blind && body_unknown_at(c, p))
             return false;
     }
     if (known && len > 0) {
@@ -538,7 +627,7 @@ static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_pa
     lc_vec2 a = from;
     for (int k = seg; k <= p->n - 1; k++) {
         lc_vec2 b = k == seg ? q : p->v[k];
-        double len = lc_dist(a, b);
+        double len = lc_dist(a, b), blind = blind_toward(g, a, b) ? g->cfg.blind_cost : 1.0;
         int m = (int)ceil(len / step);
         for (int i = 1; i <= m; i++) {
             lc_vec2 s = lc_lerp(a, b, (double)i / m);
@@ -549,7 +638,8 @@ static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_pa
             int cls = classify_point(g, c, s);
             if ((cls & 0x0f) == CLS_CLOSED)
                 cls = (cls & CLS_UNKNOWN) | CLS_TIGHT;
-            cost += len / m * factor(g, cls);
+            bool unseen = blind > 1.0 && ((cls & CLS_UNKNOWN) || body_unknown_at(c, s));
+            cost += len / m * factor(g, cls) * (unseen ? blind : 1.0);
         }
         a = b;
     }
@@ -615,7 +705,9 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         g->doubt = false;
         return 0;
     }
-    search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell};
+    search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell, {false}};
+    for (int d = 0; d < 8; d++)
+        c.blind[d] = !can_look(g, atan2((double)dv[d], (double)du[d]));
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
     if (new_goal)
         g->n_refused = g->next_refused = 0;

@@ -81,6 +81,8 @@ typedef struct lc_guide_config {
                             refused and another way sought (default 4; 0: never) */
     double greed;        /* weight of the heuristic (weighted A*, Pohl 1970): a path
                             found costs at most this times the least (default 2) */
+    double blind_cost;   /* further factor through unknown space entered in a direction
+                            the robot cannot look (lc_guide_set_sight; default 25) */
 } lc_guide_config;
 
 void lc_guide_config_default(lc_guide_config *cfg);
@@ -129,6 +131,27 @@ void lc_guide_reset(lc_guide *g);
  */
 #define LC_GUIDE_REFUSED 16
 void lc_guide_refuse(lc_guide *g, lc_vec2 at, double radius);
+
+/*
+ * Where the robot can look, world frame: directions within half[i] of
+ * mid[i] for some i. A robot that turns to face its way (the unicycle)
+ * looks everywhere it goes; one that never turns (the point model, its
+ * sensors fixed on the body) sees unknown space only in its sensors' views,
+ * and unknown space it would enter in another direction is space it cannot
+ * see before it gets there: the region stops it at the edge of what it has
+ * seen. Such steps cost blind_cost times more, and a shortcut through
+ * unknown space in such a direction is not taken, so that the path comes at
+ * the unknown from a side the robot looks toward (a waypoint behind a robot
+ * that never turns is approached from where it comes into view). NULL or
+ * n == 0: everywhere (the default). Kept until set again.
+ */
+#define LC_GUIDE_SIGHTS 8
+typedef struct lc_guide_sight {
+    int n;
+    double mid[LC_GUIDE_SIGHTS], half[LC_GUIDE_SIGHTS]; /* rad */
+} lc_guide_sight;
+
+void lc_guide_set_sight(lc_guide *g, const lc_guide_sight *sight);
 
 /* What the last lc_guide_update did (for the bench and the viewer). */
 typedef struct lc_guide_info {

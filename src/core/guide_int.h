@@ -48,6 +48,7 @@ struct lc_guide {
     int n_refused, next_refused;
     bool search_now;
     bool doubt;        /* the last search found no way where the path is */
+    lc_guide_sight sight; /* where the robot can look (n == 0: everywhere) */
 };
 
 /* The memory's occupied cells (their returns) bucketed by search cell, for

@@ -128,7 +128,11 @@ void lc_session_free(lc_session *s)
     keep.realloc(keep.data, s, 0);
 }
 
-void lc_session_set_robot(lc_session *s, const lc_robot *robot) { s->robot = *robot; }
+void lc_session_set_robot(lc_session *s, const lc_robot *robot)
+{
+    s->robot = *robot;
+    memset(s->view_known, 0, sizeof s->view_known); /* its sensors may be others */
+}
 const lc_robot *lc_session_robot(const lc_session *s) { return &s->robot; }
 const lc_route *lc_session_route(const lc_session *s) { return &s->route; }
 const lc_plan_config *lc_session_config(const lc_session *s) { return &s->cfg; }
@@ -218,6 +222,11 @@ static lc_frame resolve_frame(const lc_session *s, const lc_frame *f, lc_ingest_
 static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
 {
     frame_view(s, f, &out->view_fov, &out->view_mid);
+    const lc_sensor_desc *sd = lc_robot_sensor(&s->robot, f);
+    int k = sd ? (int)(sd - s->robot.sensors) : 0;
+    s->view_known[k] = true;
+    s->view_fov[k] = out->view_fov;
+    s->view_rel[k] = lc_wrap_angle(out->view_mid - f->pose.yaw);
     lc_polyset_clear(&s->frontier);
     if (!s->mem)
         return 0;
@@ -349,17 +358,45 @@ static double guide_clearance(const lc_session *s)
 }
 
 /*
+ * Where the robot can look (lc_guide_set_sight): a unicycle turns to face
+ * its way, so everywhere; the point model never turns, so its sensors'
+ * views at the frame's heading, each narrowed by LC_SESSION_SIGHT_MARGIN:
+ * the robot's disc entering unknown space along a view's very edge has its
+ * side outside the view.
+ */
+#define LC_SESSION_SIGHT_MARGIN (LC_PI / 6)
+
+static void set_sight(lc_session *s, double yaw)
+{
+    lc_guide_sight sight = {0};
+    int described = s->robot.n_sensors > 1 ? s->robot.n_sensors : 1;
+    for (int k = 0; k < described && k < LC_SENSORS_MAX; k++)
+        if (!s->view_known[k]) /* a sensor not heard from yet may look anywhere */
+            described = 0;
+    for (int k = 0; k < described && s->robot.model == LC_MODEL_POINT; k++) {
+        double fov = s->view_fov[k];
+        sight.mid[sight.n] = lc_wrap_angle(yaw + s->view_rel[k]);
+        sight.half[sight.n] = fov >= 2.0 * LC_PI - 1e-9 ? LC_PI
+                                                         : fmax(0.0, 0.5 * fov - LC_SESSION_SIGHT_MARGIN);
+        sight.n++;
+    }
+    lc_guide_set_sight(s->guide, sight.n > 0 ? &sight : NULL);
+}
+
+/*
  * Guidance for this frame: the path to wp, and the point a goal_step
  * along it that the region reaches toward (*seek; wp without a path). Fills
  * out->path and what the patrol will be told of the way.
  */
-static int guide_frame(lc_session *s, lc_vec2 c, lc_vec2 wp, lc_vec2 *seek, lc_patrol_way *way,
-                       lc_plan_result *out)
+static int guide_frame(lc_session *s, lc_pose pose, lc_vec2 wp, lc_vec2 *seek,
+                       lc_patrol_way *way, lc_plan_result *out)
 {
+    lc_vec2 c = lc_v2(pose.x, pose.y);
     *seek = wp;
     memset(way, 0, sizeof *way);
     if (!s->guide)
         return 0;
+    set_sight(s, pose.yaw);
     const lc_guide_path *p;
     if (lc_guide_update(s->guide, s->mem, c, wp, guide_clearance(s), s->route.tolerance, &p,
                         &out->guide) < 0)
@@ -565,7 +602,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
     lc_vec2 c = lc_v2(frame->pose.x, frame->pose.y), wp = c, seek = c;
     bool has_wp = lc_patrol_waypoint(&s->patrol, &s->route, &wp);
     lc_patrol_way way = {0};
-    if (has_wp && guide_frame(s, c, wp, &seek, &way, out) < 0)
+    if (has_wp && guide_frame(s, frame->pose, wp, &seek, &way, out) < 0)
         return -1;
     stamp_stage(s, out, LC_STAGE_GUIDE, &t);
     out->stage_us[LC_STAGE_ELLIPSE] = 0.0;

@@ -54,6 +54,10 @@ struct lc_session {
     int stall_wp;
     double stall_best, stall_stamp;
     const lc_guide_path *path_ref; /* the path of this frame (watch_stall) */
+    /* each sensor's last view, robot frame: what a robot that never turns
+     * can look toward (guide_frame's sight) */
+    bool view_known[LC_SENSORS_MAX];
+    double view_fov[LC_SENSORS_MAX], view_rel[LC_SENSORS_MAX];
 };
 
 /* The hull of every piece of seg (over cloud) appended to out, each with

@@ -88,7 +88,8 @@ static void test_config(void **state)
         BAD(cell, 0.0),          BAD(cell, 0.01),         BAD(cell, 2.0),
         BAD(cell, NAN),          BAD(travel, -0.1),       BAD(travel, 1e3),
         BAD(travel, NAN),        BAD(unknown_cost, 0.5),  BAD(unknown_cost, NAN),
-        BAD(unknown_cost, 1e3),  BAD(soft, -0.01),        BAD(soft, NAN),
+        BAD(unknown_cost, 1e3),  BAD(blind_cost, 0.5),    BAD(blind_cost, NAN),
+        BAD(blind_cost, 1e3),  BAD(soft, -0.01),        BAD(soft, NAN),
         BAD(soft, 6),            BAD(soft_cost, 0.99),    BAD(soft_cost, INFINITY),
         BAD(hysteresis, -0.1),   BAD(hysteresis, 1.0),    BAD(hysteresis, NAN),
         BAD(check_ahead, -1),    BAD(check_ahead, NAN),   BAD(stall, -1),
@@ -114,7 +115,7 @@ static void test_config(void **state)
     /* the bounds themselves are accepted */
     lc_guide_config b = {.enabled = true, .cell = 0.02, .every = 1, .travel = 0,
                          .unknown_cost = 1, .soft = 0, .soft_cost = 1, .hysteresis = 0,
-                         .check_ahead = 0, .stall = 0, .greed = 1};
+                         .check_ahead = 0, .stall = 0, .greed = 1, .blind_cost = 1};
     assert_int_equal(lc_guide_config_check(&b, &field), 0);
     /* a bad memory configuration, or a window of fewer than 4 search cells */
     mc.cell = 0;
@@ -455,6 +456,45 @@ static void test_shortcut_keeps_known(void **state)
     scene_free(&s);
 }
 
+/*
+ * A robot that never turns (guide.h, lc_guide_set_sight): with the band at
+ * yd = 3.5 the straight line through 3.8 m of unknown space is the least
+ * way (test_unknown_cost), but a robot that looks only toward -x cannot see
+ * that space before it gets there: the steps into it cost blind_cost (25)
+ * times more, so the path keeps to the known band (up to y = 3.5 and back
+ * down, every point known). Looking toward +x, or everywhere again, the
+ * straight line is taken as before.
+ */
+static void test_sight(void **state)
+{
+    (void)state;
+    lc_vec2 robot = lc_v2(-2.5, 0), wp = lc_v2(2.5, 0);
+    for (int c = 0; c < 3; c++) {
+        scene s;
+        detour_scene(&s, 3.5);
+        lc_guide_sight back = {.n = 1, .mid = {LC_PI}, .half = {0.5 * LC_PI}};
+        lc_guide_sight ahead = {.n = 1, .mid = {0.0}, .half = {0.5 * LC_PI}};
+        lc_guide_set_sight(s.g, c == 0 ? &back : (c == 1 ? &ahead : NULL));
+        const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+        assert_int_equal(p->status, LC_GUIDE_PATH);
+        if (c == 0) {
+            double top = 0;
+            for (int k = 0; k < p->n; k++)
+                top = fmax(top, p->v[k].y);
+            assert_true(top > 2.5);
+            for (int k = 0; k + 1 < p->n; k++)
+                for (int i = 0; i <= 50; i++)
+                    assert_int_not_equal(
+                        lc_memory_state(s.m, lc_lerp(p->v[k], p->v[k + 1], i / 50.0)),
+                        LC_CELL_UNKNOWN);
+        } else {
+            assert_int_equal(p->n, 2);
+            assert_near(p->length, 5.0, 1e-9);
+        }
+        scene_free(&s);
+    }
+}
+
 /* Is p inside the memory's window (its lattice square)? */
 static bool in_window(const lc_memory *m, lc_vec2 p)
 {
@@ -689,6 +729,7 @@ int main(void)
         cmocka_unit_test(test_goal_in_obstacle),
         cmocka_unit_test(test_unknown_cost),
         cmocka_unit_test(test_shortcut_keeps_known),
+        cmocka_unit_test(test_sight),
         cmocka_unit_test(test_outside_window),
         cmocka_unit_test(test_degenerate),
         cmocka_unit_test(test_nan_waypoint),

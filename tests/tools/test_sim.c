@@ -278,7 +278,10 @@ static void test_footprint_doorway_and_corridor(void **state)
         j = sim_json("disc.jsonl", models[m], 1);
         assert_false(lc_test_flag(j, "done"));
         assert_string_equal(lc_test_str(j, "outcome"), "blocked");
-        assert_true(lc_test_num(j, "path_length") < 3.0); /* never reached the door */
+        /* never drove into the door; the point model, which never turns,
+         * first goes to look at the part of the room behind it that its
+         * scanner never saw (guide.h, lc_guide_set_sight): a few metres */
+        assert_true(lc_test_num(j, "path_length") < (m == 0 ? 8.0 : 3.0));
         cJSON_Delete(j);
     }
     const char *back = "{\"waypoints\":[[10.8,3],[2,3]],\"tolerance\":0.3}";
