@@ -290,8 +290,8 @@ static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
  * memory does not know? Its centre and eight points on its rim. */
 static bool body_unknown_at(const search_ctx *c, lc_vec2 p)
 {
-    static const double rim[8][2] = {{1, 0},     {0.7071, 0.7071},  {0, 1},  {-0.7071, 0.7071},
-                                     {-1, 0},    {-0.7071, -0.7071}, {0, -1}, {0.7071, -0.7071}};
+    static const double rim[8][2] = {{1, 0},  {M_SQRT1_2, M_SQRT1_2},   {0, 1},  {-M_SQRT1_2, M_SQRT1_2},
+                                     {-1, 0}, {-M_SQRT1_2, -M_SQRT1_2}, {0, -1}, {M_SQRT1_2, -M_SQRT1_2}};
     if (lc_memory_state(c->m, p) == LC_CELL_UNKNOWN)
         return true;
     for (int i = 0; i < 8; i++)
@@ -706,7 +706,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         return 0;
     }
     search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell, {false}};
-    for (int d = 0; d < 8; d++)
+    for (int d = 0; d < 8 && g->sight.n > 0; d++) /* everywhere: none blind */
         c.blind[d] = !can_look(g, atan2((double)dv[d], (double)du[d]));
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
     if (new_goal)

@@ -366,21 +366,32 @@ static double guide_clearance(const lc_session *s)
  */
 #define LC_SESSION_SIGHT_MARGIN (LC_PI / 6)
 
+/* Has every sensor the robot names (or its one unnamed sensor) sent a frame? */
+static bool all_sensors_heard(const lc_session *s, int count)
+{
+    for (int k = 0; k < count; k++)
+        if (!s->view_known[k])
+            return false;
+    return true;
+}
+
 static void set_sight(lc_session *s, double yaw)
 {
-    lc_guide_sight sight = {0};
-    int described = s->robot.n_sensors > 1 ? s->robot.n_sensors : 1;
-    for (int k = 0; k < described && k < LC_SENSORS_MAX; k++)
-        if (!s->view_known[k]) /* a sensor not heard from yet may look anywhere */
-            described = 0;
-    for (int k = 0; k < described && s->robot.model == LC_MODEL_POINT; k++) {
-        double fov = s->view_fov[k];
-        sight.mid[sight.n] = lc_wrap_angle(yaw + s->view_rel[k]);
-        sight.half[sight.n] = fov >= 2.0 * LC_PI - 1e-9 ? LC_PI
-                                                         : fmax(0.0, 0.5 * fov - LC_SESSION_SIGHT_MARGIN);
-        sight.n++;
+    int count = s->robot.n_sensors > 1 ? s->robot.n_sensors : 1;
+    count = count < LC_SENSORS_MAX ? count : LC_SENSORS_MAX;
+    /* a sensor not heard from yet may look anywhere */
+    if (s->robot.model != LC_MODEL_POINT || !all_sensors_heard(s, count)) {
+        lc_guide_set_sight(s->guide, NULL);
+        return;
     }
-    lc_guide_set_sight(s->guide, sight.n > 0 ? &sight : NULL);
+    lc_guide_sight sight = {.n = count};
+    for (int k = 0; k < count; k++) {
+        double fov = s->view_fov[k];
+        sight.mid[k] = lc_wrap_angle(yaw + s->view_rel[k]);
+        sight.half[k] = fov >= 2.0 * LC_PI - 1e-9 ? LC_PI
+                                                 : fmax(0.0, 0.5 * fov - LC_SESSION_SIGHT_MARGIN);
+    }
+    lc_guide_set_sight(s->guide, &sight);
 }
 
 /*
