@@ -212,19 +212,38 @@ static void clear_row(lc_memory *m, long j)
     memset(m->ev + k, 0, (size_t)m->n * sizeof *m->ev);
 }
 
-/* Where the window goes for a robot at centre: centred on it again once it
- * has gone a quarter side off. */
+/* The window's origin along one axis for a robot in cell r: moved no
+ * further than brings the robot back within slack of the centre, so that
+ * what lies behind a robot driving on stays in memory as long as the
+ * window can hold it (a route that doubles back drives through it again). */
+static long axis_origin(long o, long r, long half, long slack)
+{
+    long d = r - (o + half);
+    if (d > slack)
+        return r - half - slack;
+    if (d < -slack)
+        return r - half + slack;
+    return o;
+}
+
+/* Where the window goes for a robot at centre: first centred on it; once
+ * the robot is more than a quarter side off the centre along an axis,
+ * moved along it by as little as brings it back to a quarter side: a
+ * quarter side at least ahead of a robot driving on, three quarters
+ * behind it. */
 static void window_for(const lc_memory *m, lc_vec2 centre, long *ni, long *nj)
 {
     long ri, rj;
     lc_memory_cell_of(m, centre, &ri, &rj);
     long half = m->n / 2;
-    *ni = m->i0;
-    *nj = m->j0;
-    if (!m->placed || labs(ri - (m->i0 + half)) > m->n / 4 || labs(rj - (m->j0 + half)) > m->n / 4) {
+    if (!m->placed) {
         *ni = ri - half;
         *nj = rj - half;
+        return;
     }
+    long slack = m->n / 4;
+    *ni = axis_origin(m->i0, ri, half, slack);
+    *nj = axis_origin(m->j0, rj, half, slack);
 }
 
 /* Move the window to lattice origin (ni, nj), clearing what comes in. */

@@ -6,10 +6,13 @@
  * The window is a square of side about `size` metres, cells of `cell`
  * metres on a lattice anchored at the world origin (cell (i, j) covers
  * [i c, (i+1) c) x [j c, (j+1) c)), stored as a torus so that moving the
- * window copies nothing: when the robot is more than a quarter of the side
- * from the window's centre, the window is centred on it again and the cells
- * that come in are cleared. Its size is fixed at creation: no allocation
- * per frame.
+ * window copies nothing: centred on the robot at first, and when the robot
+ * is more than a quarter of the side from the window's centre along an
+ * axis, moved along it by as little as brings it back to a quarter side,
+ * the cells that come in cleared. A robot driving on keeps a quarter side
+ * ahead of it and three quarters behind (15 m of a 20 m window: a route
+ * that doubles back finds what it passed). Its size is fixed at creation:
+ * no allocation per frame.
  *
  * Evidence per cell, from each frame (docs/DESIGN.md, "Memory"):
  *   - free: the cell's centre lies inside the frame's view polygon, the

@@ -332,6 +332,8 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
                             .region = &s->region,
                             .grown = &s->grown,
                             .obstacles = &s->obstacles,
+                            .frontier = &s->frontier,
+                            .frontier_pad = s->mem ? 0.5 * sqrt(2.0) * s->cfg.memory.cell : 0.0,
                             .pose = f->pose,
                             .target = out->target,
                             .waypoint = out->waypoint,
@@ -339,10 +341,30 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
                             .dt = dt};
 }
 
+/*
+ * A polygon footprint that the motion law brakes to a stand while its
+ * target wants a turn in place may still turn where the turn clears every
+ * obstacle and the frontier by the margin (lc_steer_turn_in_place says
+ * why the workspace region can stop it there).
+ */
 static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
 {
     lc_steer_input in = steer_input(s, f, dt, out);
-    lc_steer_drive(&in, &s->steer, &out->setpoint);
+    if (lc_steer_drive(&in, &s->steer, &out->setpoint) < 0)
+        return;
+    lc_setpoint *sp = &out->setpoint;
+    if (s->robot.model != LC_MODEL_UNICYCLE || !lc_robot_has_footprint(&s->robot) ||
+        sp->limit != LC_LIMIT_BRAKING || sp->v != 0.0)
+        return;
+    lc_vec2 d = lc_sub(in.target, lc_v2(f->pose.x, f->pose.y));
+    double alpha = lc_wrap_angle(atan2(d.y, d.x) - f->pose.yaw);
+    if (!(lc_len(d) > 1e-6) || !(fabs(alpha) > s->cfg.motion.turn_in_place))
+        return;
+    lc_setpoint turn = *sp;
+    if (lc_steer_turn_in_place(&in, &s->steer, &turn) == 0 && turn.w != 0.0) {
+        turn.limit = LC_LIMIT_TURNING;
+        *sp = turn;
+    }
 }
 
 /* The clearance guidance keeps, from remembered cells' centres: the

@@ -56,34 +56,41 @@ static lc_vec2 toward(const lc_vec2 *v, int n, lc_vec2 c)
  * each obstacle within reach, the line separating it from the footprint,
  * pulled in to the margin from it, or to where the footprint is when it is
  * nearer (a turn may then come no nearer). An obstacle that overlaps the
- * footprint gets the footprint's own supporting line toward it. Into
- * ws->hw; the count, or -1 when out of memory.
+ * footprint gets the footprint's own supporting line toward it. The
+ * pieces of obs count pad larger. Appended to ws->hw after n lines; the
+ * count, or -1 when out of memory.
  */
-static int turn_lines(const lc_steer_input *in, lc_steer_ws *ws, const lc_vec2 *body, int nb)
+static int turn_lines_of(const lc_steer_input *in, lc_steer_ws *ws, const lc_vec2 *body, int nb,
+                         const lc_polyset *obs, double pad, int n)
 {
-    const lc_polyset *obs = in->obstacles;
     lc_vec2 c = lc_v2(in->pose.x, in->pose.y);
-    double m = in->robot->margin, reach = in->robot->radius + m;
+    double m = in->robot->margin, reach = in->robot->radius + m + pad;
     if (!obs || obs->np == 0)
-        return 0;
-    if (LC_GROW(ws->alloc, ws->hw, ws->cap_hw, obs->np) < 0)
+        return n;
+    if (LC_GROW(ws->alloc, ws->hw, ws->cap_hw, n + obs->np) < 0)
         return -1;
-    int n = 0;
     for (int j = 0; j < obs->np; j++) {
         int nv;
         const lc_vec2 *pv = lc_polyset_at(obs, j, &nv);
         if (box_distance(pv, nv, c) > reach)
             continue;
         lc_halfspace h;
-        double gap = lc_convex_separate(body, nb, pv, nv, &h);
+        double gap = lc_convex_separate(body, nb, pv, nv, &h) - pad;
         if (gap < 0) {
             lc_vec2 a = toward(pv, nv, c);
             h = (lc_halfspace){a, lc_footprint_support(body, nb, a)};
-            gap = 0.0;
+            ws->hw[n++] = h;
+            continue;
         }
-        ws->hw[n++] = (lc_halfspace){h.a, h.b - lc_min(m, gap)};
+        ws->hw[n++] = (lc_halfspace){h.a, h.b - pad - lc_min(m, gap)};
     }
     return n;
+}
+
+static int turn_lines(const lc_steer_input *in, lc_steer_ws *ws, const lc_vec2 *body, int nb)
+{
+    int n = turn_lines_of(in, ws, body, nb, in->obstacles, 0.0, 0);
+    return n < 0 ? -1 : turn_lines_of(in, ws, body, nb, in->frontier, in->frontier_pad, n);
 }
 
 /* The braked turn of w keeps the footprint within the turn lines. */

@@ -43,6 +43,10 @@ typedef struct lc_steer_input {
                                   and the margin), the frontier among them */
     const lc_polyset *obstacles; /* as seen and remembered, not grown (a footprint's
                                     turn in place is checked against them) */
+    const lc_polyset *frontier;  /* the frontier of unknown space, hulls of cell centres
+                                    (NULL: none), checked like obstacles, each piece
+                                    frontier_pad (m: half a cell's diagonal) larger */
+    double frontier_pad;
     lc_pose pose;              /* robot in the world */
     lc_vec2 target;            /* the waypoint or its closest point in the region */
     lc_vec2 waypoint;
@@ -95,12 +99,19 @@ int lc_steer_ease_out(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *ou
  * target, rate limited from last->w: writes out->w and leaves the rest of
  * *out. Turning in place moves no part of a disc footprint. A polygon
  * footprint turns only where its turn, braked as lc_motion_body_margin
- * takes it, comes no nearer to any obstacle (in->obstacles, within its
- * circumscribed radius and the margin) than the margin or, when nearer
- * already, than it is; else its w brakes toward 0. Nothing for the point
- * model, a target at the robot, or dt <= 0. Uses in->robot, params, pose,
- * target, last, dt, obstacles; -1 when out of memory (out->w untouched), 0
- * otherwise.
+ * takes it, comes no nearer to any obstacle (in->obstacles and the
+ * frontier, within its circumscribed radius and the margin) than the
+ * margin or, when nearer already, than it is; else its w brakes toward 0.
+ * Nothing for the point model, a target at the robot, or dt <= 0. Uses
+ * in->robot, params, pose, target, last, dt, obstacles, frontier; -1 when
+ * out of memory (out->w untouched), 0 otherwise.
+ *
+ * Also the turn of a polygon footprint that the workspace region stops
+ * (lc_steer_drive brakes it to a stand, limit braking, while the target
+ * wants a turn in place): that region is the free region for the centre at
+ * the present heading, whose lines moved out by the body hold little more
+ * than the body itself where the body stands across a narrow aisle, and a
+ * turn that clears every obstacle by the margin need not stay in it.
  */
 int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out);
 

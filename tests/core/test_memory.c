@@ -493,13 +493,15 @@ static void test_keep_near(void **state)
     lc_cloud_free(&cloud);
 }
 
-/* The window follows the robot: what stays in it is kept, what comes in
- * is unknown (no ghost of the cells that left the torus). */
+/* The window follows the robot (memory.h): centred on it first, then moved
+ * by as little as brings it back to a quarter side off the centre, so that
+ * up to three quarters of a side behind it is kept; what comes in is
+ * unknown (no ghost of the cells that left the torus). */
 static void test_window_follows(void **state)
 {
     (void)state;
     lc_memory_config cfg;
-    lc_memory *m = fresh(&cfg); /* 12 m, 240 cells */
+    lc_memory *m = fresh(&cfg); /* 12 m, 240 cells: a quarter side is 60 cells, 3 m */
     static double ranges[720];
     lc_cloud cloud = {0};
     lc_frame f = ring_scan(ranges, (lc_pose){0, 0, 0}, 1.0, 2.02);
@@ -517,19 +519,34 @@ static void test_window_follows(void **state)
     ingest(&g, &empty, 0);
     lc_memory_update(m, &g, &empty, 0);
     assert_int_equal(lc_memory_get_window(m).i0, -120);
-    /* 5 m east: recentred on cell 100 */
+    /* 5 m east (cell 100): moved 40 cells, the robot a quarter side off
+     * the centre again; the ring 2 m behind it is still there */
     g.pose.x = 5.0;
     g.stamp = 1.2;
     lc_memory_update(m, &g, &empty, 0);
     lc_memory_window w1 = lc_memory_get_window(m);
-    assert_int_equal(w1.i0, 100 - 120);
-    assert_int_equal(lc_memory_state(m, lc_v2(-2.02, 0.02)), LC_CELL_UNKNOWN); /* left behind */
-    assert_int_equal(lc_memory_state(m, lc_v2(2.02, 0.02)), LC_CELL_OCCUPIED); /* kept */
+    assert_int_equal(w1.i0, -80);
+    assert_int_equal(w1.j0, -120); /* no move along y */
+    assert_int_equal(lc_memory_state(m, lc_v2(-2.02, 0.02)), LC_CELL_OCCUPIED); /* behind: kept */
+    assert_int_equal(lc_memory_state(m, lc_v2(2.02, 0.02)), LC_CELL_OCCUPIED);
     assert_int_equal(lc_memory_state(m, lc_v2(1.0, 0.5)), LC_CELL_FREE);
     /* the cells that came in on the east hold nothing of the west ones
      * that shared their slots */
-    for (long i = w1.i0 + w1.n - 20; i < w1.i0 + w1.n; i++)
+    for (long i = w1.i0 + w1.n - 40; i < w1.i0 + w1.n; i++)
         for (long j = w1.j0; j < w1.j0 + w1.n; j++)
+            assert_int_equal(lc_memory_cell(m, i, j), LC_CELL_UNKNOWN);
+    /* 8.5 m east (cell 170): moved 70 cells more; the west of the ring
+     * has left the window, its east stays */
+    g.pose.x = 8.5;
+    g.stamp = 1.25;
+    lc_memory_update(m, &g, &empty, 0);
+    lc_memory_window w2 = lc_memory_get_window(m);
+    assert_int_equal(w2.i0, -10);
+    assert_int_equal(lc_memory_state(m, lc_v2(-2.02, 0.02)), LC_CELL_UNKNOWN); /* left behind */
+    assert_int_equal(lc_memory_state(m, lc_v2(2.02, 0.02)), LC_CELL_OCCUPIED);
+    assert_int_equal(lc_memory_state(m, lc_v2(1.0, 0.5)), LC_CELL_FREE);
+    for (long i = w2.i0 + w2.n - 70; i < w2.i0 + w2.n; i++)
+        for (long j = w2.j0; j < w2.j0 + w2.n; j++)
             assert_int_equal(lc_memory_cell(m, i, j), LC_CELL_UNKNOWN);
     /* far away: everything forgotten */
     g.pose.x = 500;

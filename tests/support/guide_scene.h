@@ -6,7 +6,8 @@
  * found. Only tests use it; every call asserts its own success.
  *
  * Memories here: cells of 0.05 m, a window of 16 m (moved once the robot
- * is 4 m off its centre), reach 20 m, nothing forgotten within 300 s.
+ * is 4 m off its centre, by as little as brings it back), reach 20 m,
+ * nothing forgotten within 300 s.
  */
 #ifndef LC_GUIDE_SCENE_H
 #define LC_GUIDE_SCENE_H
