@@ -333,6 +333,52 @@ static void test_body_turn_in_place(void **state)
     lc_polyset_free(&seen);
 }
 
+/*
+ * The frontier of unknown space counts as an obstacle for that turn, each
+ * piece frontier_pad larger (it stands for unknown cells, squares, by
+ * their centres: half a cell's diagonal). The post above given as a piece
+ * of frontier instead, nothing seen: the turn left stops short with the
+ * body the margin and the pad off the piece; with no frontier it turns on
+ * to its target.
+ */
+static void test_body_turn_frontier(void **state)
+{
+    (void)state;
+    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
+    lc_robot robot = body_robot(rect, 4);
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    const lc_vec2 post[4] = {{0.33, 0.47}, {0.37, 0.47}, {0.37, 0.51}, {0.33, 0.51}};
+    const double pad = 0.5 * sqrt(2.0) * 0.05;
+    lc_polyset none = {0}, unknown = {0};
+    assert_int_equal(lc_polyset_push(&unknown, post, 4, 0), 0);
+    lc_steer_ws ws = {0};
+    for (int with = 0; with < 2; with++) {
+        lc_pose pose = {0, 0, 0};
+        lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE);
+        double turned = 0;
+        for (int k = 0; k < 200; k++) {
+            lc_setpoint out = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
+            lc_steer_input in = {.robot = &robot, .params = &mp, .obstacles = &none,
+                                 .frontier = with ? &unknown : NULL, .frontier_pad = pad,
+                                 .pose = pose, .target = lc_v2(0, 1), .last = &last,
+                                 .dt = 0.05};
+            assert_int_equal(lc_steer_turn_in_place(&in, &ws, &out), 0);
+            pose.yaw += out.w * 0.05;
+            turned += out.w * 0.05;
+            last = out;
+            for (int i = 0; i < 4 && with; i++)
+                assert_true(body_gap(&robot, pose, post[i]) >= robot.margin + pad - 1e-9);
+        }
+        if (with)
+            assert_true(turned > 0.05 && turned < 0.6); /* stopped short */
+        else
+            assert_near(turned, 0.5 * LC_PI, 0.05); /* faced its target */
+    }
+    lc_steer_ws_free(&ws);
+    lc_polyset_free(&unknown);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -341,6 +387,7 @@ int main(void)
         cmocka_unit_test(test_no_memory),
         cmocka_unit_test(test_body_workspace_corner),
         cmocka_unit_test(test_body_turn_in_place),
+        cmocka_unit_test(test_body_turn_frontier),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
