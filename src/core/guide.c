@@ -125,10 +125,11 @@ lc_guide *lc_guide_new(const lc_guide_config *cfg, const lc_memory_config *mem_c
     g->raw = take(alloc, cells * sizeof *g->raw);
     g->bn = (n + BUCKET - 1) / BUCKET;
     size_t buckets = (size_t)g->bn * (size_t)g->bn;
-    g->start = take(alloc, (buckets + 1) * sizeof *g->start);
-    g->occ = take(alloc, buckets);
+    g->b_first = take(alloc, buckets * sizeof *g->b_first);
+    g->b_count = take(alloc, buckets * sizeof *g->b_count);
+    g->b_done = take(alloc, buckets);
     if (!g->g || !g->f || !g->parent || !g->state || !g->cls || !g->heap || !g->pos || !g->raw ||
-        !g->start || !g->occ) {
+        !g->b_first || !g->b_count || !g->b_done) {
         lc_guide_free(g);
         return NULL;
     }
@@ -141,12 +142,10 @@ void lc_guide_free(lc_guide *g)
         return;
     lc_alloc a = g->alloc;
     void *bufs[] = {g->g, g->f, g->parent, g->state, g->cls, g->heap, g->pos, g->raw,
-                    g->start, g->occ};
+                    g->b_first, g->b_count, g->b_done};
     for (size_t i = 0; i < sizeof bufs / sizeof bufs[0]; i++)
         a.realloc(a.data, bufs[i], 0);
     LC_RELEASE(&a, g->pts, g->cap_pts);
-    LC_RELEASE(&a, g->tmp, g->cap_tmp);
-    LC_RELEASE(&a, g->tmp_cell, g->cap_tmp_cell);
     a.realloc(a.data, g, 0);
 }
 
@@ -270,7 +269,7 @@ static double closed_within(const lc_guide *g, const search_ctx *c)
 }
 
 /* A point's class from the memory: closed, soft or free, and unknown. */
-static int classify_point(const lc_guide *g, const search_ctx *c, lc_vec2 p)
+static int classify_point(lc_guide *g, const search_ctx *c, lc_vec2 p)
 {
     if (refused_at(g, c->start, c->escape, p))
         return CLS_CLOSED;
@@ -481,7 +480,7 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
  * soft margin (samples every LOS_STEP memory cells)? A shortcut that grazes
  * an obstacle at the bare clearance would lead the robot along the edge of
  * its region, where the region's lines cut the path off at once. */
-static bool line_of_sight(const lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b,
+static bool line_of_sight(lc_guide *g, const search_ctx *c, lc_vec2 a, lc_vec2 b,
                           bool known)
 {
     double len = lc_dist(a, b), step = LOS_STEP * g->mem_cell;
@@ -546,7 +545,7 @@ static lc_vec2 way_point(const way_points *w, int k)
 #define CENTRE_STEP 0.01 /* m */
 #define CENTRE_STEPS 10
 
-static lc_vec2 centre_point(const lc_guide *g, const search_ctx *c, lc_vec2 v)
+static lc_vec2 centre_point(lc_guide *g, const search_ctx *c, lc_vec2 v)
 {
     double reach = c->R + g->cfg.soft;
     lc_vec2 q;
@@ -619,7 +618,7 @@ static void build_path(lc_guide *g, const search_ctx *c, int end, lc_vec2 goal, 
  * found closed ahead is replaced anyway, by blocked_ahead): the robot that
  * has come close to a corner its path rounds does not drop the path for
  * every cell its clearance now touches. */
-static double cost_now(const lc_guide *g, const search_ctx *c, const lc_guide_path *p,
+static double cost_now(lc_guide *g, const search_ctx *c, const lc_guide_path *p,
                        lc_vec2 from, int seg)
 {
     lc_vec2 q = lc_follow_nearest(p, from, &seg);
@@ -726,8 +725,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         (ahead == AHEAD_REFUSED && since >= g->cfg.every)) {
         g->search_now = false;
         place_grid(g, m);
-        if (lc_guide_bucket_obstacles(g, m) < 0)
-            return -1;
+        lc_guide_bucket_obstacles(g, m);
         int expanded;
         /* at least half a cell's diagonal: every point has a cell centre
          * that near */
@@ -752,6 +750,8 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             end = astar(g, &wide, waypoint, reach, &more);
             expanded += more;
         }
+        if (g->bucket_failed)
+            return -1; /* out of memory: obstacles were missed */
         info->searched = true;
         info->expanded = expanded;
         g->searches++;
@@ -781,6 +781,8 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
                              ? cost_now(g, &c, &g->path, robot, g->path.seg)
                              : INFINITY;
             double now = isfinite(old) ? cost_now(g, &c, &g->cand, robot, 0) : 0.0;
+            if (g->bucket_failed)
+                return -1;
             if (!(now >= old * (1.0 - g->cfg.hysteresis))) {
                 g->path = g->cand;
                 info->replaced = true;

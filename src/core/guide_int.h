@@ -13,8 +13,8 @@
 
 /* Search cells along a side of a bucket of remembered returns: a bucket of
  * 0.3 m holds the returns a nearest query around a cell looks at in a few
- * reads, and the bucket grid is rebuilt each search at a ninth of the
- * cost of one bucket per search cell (a quarter of a search, measured). */
+ * reads. Buckets are filled from the memory as the search's queries reach
+ * them (guide_buckets.c). */
 #define BUCKET 3
 
 struct lc_guide {
@@ -30,13 +30,15 @@ struct lc_guide {
     float *f;
     int heap_n;
     int *raw;          /* the search's path, cell by cell, goal first */
-    /* the remembered obstacles of the current search, bucketed by search
-     * cell: the returns of cell k are pts[start[k] .. start[k + 1]) */
-    int *start;        /* n * n + 1 */
-    uint8_t *occ;      /* n * n: cell k holds a return */
-    lc_vec2 *pts, *tmp;
-    int *tmp_cell;
-    int n_pts, cap_pts, cap_tmp, cap_tmp_cell;
+    /* the remembered returns of the current search, bucketed by BUCKET
+     * search cells a side: bucket k's are pts[b_first[k] .. + b_count[k])
+     * once b_done[k] (filled when a query first reaches it) */
+    const lc_memory *mem;
+    int *b_first, *b_count; /* bn * bn */
+    uint8_t *b_done;        /* bn * bn */
+    lc_vec2 *pts;
+    int n_pts, cap_pts;
+    bool bucket_failed;     /* out of memory filling a bucket: the search fails */
     int bn;            /* buckets along a side (BUCKET search cells each) */
     lc_guide_path path, cand;
     long frame, last_search, searches;
@@ -51,17 +53,16 @@ struct lc_guide {
     lc_guide_sight sight; /* where the robot can look (n == 0: everywhere) */
 };
 
-/* The memory's occupied cells (their returns) bucketed by search cell, for
- * the nearest-obstacle queries of one search; -1 when out of memory. */
-int lc_guide_bucket_obstacles(lc_guide *g, const lc_memory *m);
+/* A new search over memory m: every bucket to be filled again. */
+void lc_guide_bucket_obstacles(lc_guide *g, const lc_memory *m);
 
 /* The distance from p to the nearest bucketed return within radius
  * (INFINITY when there is none), and that return in *at when not NULL. */
-double lc_guide_nearest_at(const lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at);
-double lc_guide_nearest(const lc_guide *g, lc_vec2 p, double radius);
+double lc_guide_nearest_at(lc_guide *g, lc_vec2 p, double radius, lc_vec2 *at);
+double lc_guide_nearest(lc_guide *g, lc_vec2 p, double radius);
 
 /* Some bucketed return lies nearer p than radius (the first found ends the
  * scan). */
-bool lc_guide_any_within(const lc_guide *g, lc_vec2 p, double radius);
+bool lc_guide_any_within(lc_guide *g, lc_vec2 p, double radius);
 
 #endif

@@ -193,6 +193,14 @@ double lc_memory_nearest(const lc_memory *m, lc_vec2 p, double radius);
  */
 int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p), void *data);
 
+/*
+ * The same for the occupied cells of the window that meet the box [lo, hi]
+ * (a cell on its edge too: fn gets returns up to a cell outside the box,
+ * and picks those it wants), row by row.
+ */
+int lc_memory_each_occupied_in(const lc_memory *m, lc_vec2 lo, lc_vec2 hi,
+                               int (*fn)(void *data, lc_vec2 p), void *data);
+
 /* Counts for tests, the bench and the viewer. */
 typedef struct lc_memory_stats {
     long occupied, free, unknown; /* cells of the window in each state */

@@ -145,3 +145,34 @@ int lc_memory_each_occupied(const lc_memory *m, int (*fn)(void *data, lc_vec2 p)
     return 0;
 }
 
+int lc_memory_each_occupied_in(const lc_memory *m, lc_vec2 lo, lc_vec2 hi,
+                               int (*fn)(void *data, lc_vec2 p), void *data)
+{
+    if (!m->placed || !(lo.x <= hi.x && lo.y <= hi.y))
+        return 0;
+    /* the box's cells cut to the window (a box far off stays off it) */
+    double span = (double)m->n * m->c;
+    double x0 = (double)m->i0 * m->c, y0 = (double)m->j0 * m->c;
+    if (!(hi.x >= x0 && lo.x < x0 + span && hi.y >= y0 && lo.y < y0 + span))
+        return 0;
+    long ia = floor_div(fmax(lo.x, x0), m->c), ib = floor_div(fmin(hi.x, x0 + span), m->c);
+    long ja = floor_div(fmax(lo.y, y0), m->c), jb = floor_div(fmin(hi.y, y0 + span), m->c);
+    ia = ia < m->i0 ? m->i0 : ia;
+    ja = ja < m->j0 ? m->j0 : ja;
+    ib = ib >= m->i0 + m->n ? m->i0 + m->n - 1 : ib;
+    jb = jb >= m->j0 + m->n ? m->j0 + m->n - 1 : jb;
+    for (long j = ja; j <= jb; j++) {
+        size_t row = (size_t)wrap(j, m->n) * (size_t)m->n;
+        int col = wrap(ia, m->n);
+        for (long i = ia; i <= ib; i++, col = col + 1 == m->n ? 0 : col + 1) {
+            size_t k = row + (size_t)col;
+            if (!m->ev[k])
+                continue;
+            int rc = fn(data, return_at(m, k, i, j));
+            if (rc)
+                return rc;
+        }
+    }
+    return 0;
+}
+

@@ -25,6 +25,7 @@
 #include "testutil.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <stddef.h>
 #include <string.h>
 
@@ -216,6 +217,52 @@ static void test_through_gap(void **state)
     double y = scene_crossing_y(p, 2.0);
     assert_true(y > lo.y && y < hi.y);
     assert_true(scene_path_clearance(s.m, p) >= CLEAR - 0.5 * s.gc.cell);
+    scene_free(&s);
+}
+
+/* An allocator that refuses once told to (frees still work). */
+typedef struct refusing_alloc {
+    lc_alloc alloc;
+    bool refuse;
+} refusing_alloc;
+
+static void *refusing_realloc(void *data, void *p, size_t n)
+{
+    refusing_alloc *r = data;
+    if (n == 0) {
+        free(p);
+        return NULL;
+    }
+    return r->refuse ? NULL : realloc(p, n);
+}
+
+/* Out of memory while a search reads the remembered returns: the update
+ * says so (-1), and a guide that can allocate again finds the way the
+ * through-gap scene has. A search that went on without the returns it
+ * could not store would take the wall for open space. */
+static void test_out_of_memory(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    scene_wall(&s.w, lc_v2(2, -9), lc_v2(2, 0.2));
+    scene_wall(&s.w, lc_v2(2, 1.4), lc_v2(2, 9));
+    lc_vec2 from[] = {{0, 0}, {0, -3.5}, {0, 3.5}, {3.5, 0}, {3.5, -3.5}, {3.5, 3.5}};
+    scene_ready(&s, from, 6);
+    refusing_alloc ra = {{refusing_realloc, &ra}, false};
+    lc_guide *g = scene_new_guide(&s.gc, &ra.alloc);
+    ra.refuse = true;
+    const lc_guide_path *p;
+    assert_int_equal(lc_guide_update(g, s.m, lc_v2(0, 0), lc_v2(4, 0), SCENE_CLEAR, 0.2, &p, NULL),
+                     -1);
+    ra.refuse = false;
+    assert_int_equal(lc_guide_update(g, s.m, lc_v2(0, 0), lc_v2(4, 0), SCENE_CLEAR, 0.2, &p, NULL),
+                     0);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    double y = scene_crossing_y(p, 2.0);
+    assert_true(y > 0.2 && y < 1.4);
+    assert_true(scene_path_clearance(s.m, p) >= SCENE_CLEAR - 0.5 * s.gc.cell);
+    lc_guide_free(g);
     scene_free(&s);
 }
 
@@ -735,6 +782,7 @@ int main(void)
         cmocka_unit_test(test_nan_waypoint),
         cmocka_unit_test(test_tolerance_zero),
         cmocka_unit_test(test_ahead),
+        cmocka_unit_test(test_out_of_memory),
     };
     return LC_RUN_TESTS(tests, NULL, NULL);
 }

@@ -560,6 +560,87 @@ static void test_window_follows(void **state)
     lc_cloud_free(&empty);
 }
 
+/* The occupied cells met by a box, by the whole-window iterator and the
+ * box's own, on random scans from poses that move the window (so the
+ * stored rows wrap) and random boxes, some off the window: the box's
+ * iterator gives exactly the returns whose cell (by floor division) meets
+ * the box. */
+typedef struct box_ref {
+    lc_vec2 lo, hi, p[4096];
+    double c;
+    int n;
+} box_ref;
+
+static bool cell_meets(const box_ref *b, lc_vec2 p)
+{
+    double cx = floor(p.x / b->c) * b->c, cy = floor(p.y / b->c) * b->c;
+    return cx <= b->hi.x && cx + b->c >= b->lo.x && cy <= b->hi.y && cy + b->c >= b->lo.y;
+}
+
+static int ref_one(void *data, lc_vec2 p)
+{
+    box_ref *b = data;
+    if (cell_meets(b, p) && b->n < 4096)
+        b->p[b->n++] = p;
+    return 0;
+}
+
+static int got_one(void *data, lc_vec2 p)
+{
+    box_ref *b = data;
+    assert_true(b->n < 4096);
+    b->p[b->n++] = p;
+    return 0;
+}
+
+static int by_yx(const void *a, const void *b)
+{
+    const lc_vec2 *p = a, *q = b;
+    return p->y < q->y ? -1 : p->y > q->y ? 1 : p->x < q->x ? -1 : p->x > q->x ? 1 : 0;
+}
+
+static void test_occupied_in_box(void **state)
+{
+    (void)state;
+    lc_memory_config cfg;
+    lc_memory *m = fresh(&cfg);
+    static scan s;
+    static box_ref want, got;
+    lc_cloud cloud = {0};
+    lc_rng rng = {91};
+    lc_pose pose = {0, 0, 0};
+    for (int frame = 0; frame < 12; frame++) {
+        make_scan(&s, &rng, pose, 360, 2 * LC_PI, 5.0);
+        s.f.stamp = 10.0 + 0.1 * frame;
+        ingest(&s.f, &cloud, 0.3);
+        assert_int_equal(lc_memory_update(m, &s.f, &cloud, 0.3), 0);
+        for (int t = 0; t < 40; t++) {
+            lc_vec2 a = {pose.x + lc_rng_uniform(&rng, -9, 9), pose.y + lc_rng_uniform(&rng, -9, 9)};
+            lc_vec2 b = {a.x + lc_rng_uniform(&rng, 0, 3), a.y + lc_rng_uniform(&rng, 0, 3)};
+            want = (box_ref){.lo = a, .hi = b, .c = cfg.cell};
+            got = want;
+            lc_memory_each_occupied(m, ref_one, &want);
+            lc_memory_each_occupied_in(m, a, b, got_one, &got);
+            assert_int_equal(got.n, want.n);
+            qsort(want.p, (size_t)want.n, sizeof want.p[0], by_yx);
+            qsort(got.p, (size_t)got.n, sizeof got.p[0], by_yx);
+            for (int i = 0; i < got.n; i++) {
+                assert_true(got.p[i].x == want.p[i].x && got.p[i].y == want.p[i].y);
+                assert_true(cell_meets(&got, got.p[i]));
+            }
+        }
+        /* an empty box (hi below lo) and one far off meet nothing */
+        got = (box_ref){.c = cfg.cell};
+        lc_memory_each_occupied_in(m, lc_v2(1, 1), lc_v2(0, 0), got_one, &got);
+        lc_memory_each_occupied_in(m, lc_v2(500, 500), lc_v2(501, 501), got_one, &got);
+        assert_int_equal(got.n, 0);
+        pose.x += 1.7; /* past a quarter side in a few frames: the window moves */
+        pose.y -= 0.9;
+    }
+    lc_memory_free(m);
+    lc_cloud_free(&cloud);
+}
+
 /* A clock that goes back more than a second, or jumps ahead by more than
  * LC_MEMORY_JUMP, starts the memory over; another sensor's frame a little
  * older does not. */
@@ -719,6 +800,7 @@ int main(void)
         cmocka_unit_test(test_ageing),
         cmocka_unit_test(test_keep_near),
         cmocka_unit_test(test_window_follows),
+        cmocka_unit_test(test_occupied_in_box),
         cmocka_unit_test(test_stamps),
         cmocka_unit_test(test_points),
         cmocka_unit_test(test_determinism_and_allocation),
