@@ -64,6 +64,27 @@ lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double
     return p->v[p->n - 1];
 }
 
+bool lc_guide_bend_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double near,
+                         lc_vec2 *bend)
+{
+    if (p->n < 3)
+        return false;
+    int seg = p->seg;
+    lc_vec2 at = lc_follow_nearest(p, from, &seg);
+    double walked = 0.0;
+    for (int k = seg + 1; k < p->n - 1; k++) {
+        walked += lc_dist(at, p->v[k]);
+        if (!(walked <= dist))
+            return false;
+        if (lc_dist(from, p->v[k]) >= near) {
+            *bend = p->v[k];
+            return true;
+        }
+        at = p->v[k];
+    }
+    return false;
+}
+
 /* Where the segment from a (inside the region) along d leaves it, as a
  * share of d (1: it does not). */
 static double exit_share(const lc_region *r, lc_vec2 a, lc_vec2 d)

@@ -33,6 +33,15 @@ double lc_follow_rest(const lc_guide_path *p, int seg, lc_vec2 q);
 lc_vec2 lc_guide_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double *rest);
 
 /*
+ * The first vertex of path p after the point nearest `from` (as
+ * lc_guide_ahead finds it) at least `near` from `from`, when it lies
+ * within dist along the path and is not the path's end: where the way
+ * turns next. False when there is none.
+ */
+bool lc_guide_bend_ahead(const lc_guide_path *p, lc_vec2 from, double dist, double near,
+                         lc_vec2 *bend);
+
+/*
  * The target on the path: the farthest point of it, from where the robot
  * is along it (segment p->seg), that the region holds: the path's first
  * exit from the region, or its end when it stays inside. The walk starts

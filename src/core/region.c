@@ -360,7 +360,23 @@ static int mark_obstacles(const lc_region_input *in, lc_region_ws *ws, int nbase
     return held;
 }
 
-/* Goal seed: up to goal_step toward the waypoint, halved until the step is free. */
+/* The segment from the centre to g clear of every grown obstacle and
+ * inside the base lines. */
+static bool step_free(const lc_region_input *in, lc_region_ws *ws, int nbase, lc_vec2 g)
+{
+    bool free = inside_all(ws->hs, nbase, g, SEED_EPS);
+    for (int j = 0; free && j < in->grown->np; j++) {
+        int n;
+        const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
+        free = (ws->flags[j] & FLAG_SKIP) || box_gap(ws, j, in->centre, g) > 2e-6 ||
+               lc_segment_polygon_distance(in->centre, g, v, n) > 2e-6;
+    }
+    return free;
+}
+
+/* Goal seed: up to goal_step toward the waypoint; when that step is not
+ * free, the bend (the way turns there, short of the waypoint: the seed
+ * along the way's first leg), else the step halved until it is free. */
 static int goal_seed(const lc_region_input *in, const lc_region_config *cfg, lc_region_ws *ws,
                      int nbase, lc_vec2 *seed)
 {
@@ -373,15 +389,13 @@ static int goal_seed(const lc_region_input *in, const lc_region_config *cfg, lc_
     double step = lc_min(cfg->goal_step, len);
     for (int tries = 0; tries < 4; tries++, step *= 0.5) {
         lc_vec2 g = lc_add(in->centre, lc_scale(dir, step / len));
-        bool free = inside_all(ws->hs, nbase, g, SEED_EPS);
-        for (int j = 0; free && j < in->grown->np; j++) {
-            int n;
-            const lc_vec2 *v = lc_polyset_at(in->grown, j, &n);
-            free = (ws->flags[j] & FLAG_SKIP) || box_gap(ws, j, in->centre, g) > 2e-6 ||
-                   lc_segment_polygon_distance(in->centre, g, v, n) > 2e-6;
-        }
-        if (free) {
+        if (step_free(in, ws, nbase, g)) {
             *seed = g;
+            return 1;
+        }
+        if (tries == 0 && in->has_bend && lc_dist(in->bend, in->centre) > 1e-6 &&
+            step_free(in, ws, nbase, in->bend)) {
+            *seed = in->bend;
             return 1;
         }
     }

@@ -62,6 +62,8 @@ typedef struct lc_region_input {
     lc_vec2 centre;         /* robot centre, world frame */
     bool has_waypoint;
     lc_vec2 waypoint;       /* world frame */
+    bool has_bend;          /* a point where the way to the waypoint turns: the goal seed */
+    lc_vec2 bend;           /* when the step toward the waypoint is not free (world frame) */
     double window;          /* m, half side of the window box about the centre */
     int n_blind;            /* lines bounding the blind sector (0..2) */
     lc_halfspace blind[2];

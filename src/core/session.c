@@ -293,6 +293,8 @@ static int plan_region(lc_session *s, const lc_frame *f, bool has_wp, lc_vec2 wp
                           .centre = lc_v2(f->pose.x, f->pose.y),
                           .has_waypoint = has_wp && seeded,
                           .waypoint = wp,
+                          .has_bend = has_wp && seeded && s->has_bend,
+                          .bend = s->bend,
                           .window = window_half_side(s, f)};
     if (s->cfg.region.blind_line) {
         double fov = out->view_fov, view_mid = out->view_mid;
@@ -421,12 +423,15 @@ static void set_sight(lc_session *s, double yaw)
  * along it that the region reaches toward (*seek; wp without a path). Fills
  * out->path and what the patrol will be told of the way.
  */
+#define LC_SESSION_BEND_NEAR 0.1 /* m: a bend nearer the robot seeds nothing */
+
 static int guide_frame(lc_session *s, lc_pose pose, lc_vec2 wp, lc_vec2 *seek,
                        lc_patrol_way *way, lc_plan_result *out)
 {
     lc_vec2 c = lc_v2(pose.x, pose.y);
     *seek = wp;
     memset(way, 0, sizeof *way);
+    s->has_bend = false;
     if (!s->guide)
         return 0;
     set_sight(s, pose.yaw);
@@ -441,6 +446,7 @@ static int guide_frame(lc_session *s, lc_pose pose, lc_vec2 wp, lc_vec2 *seek,
         return 0;
     way->guided = true;
     *seek = lc_guide_ahead(p, c, s->cfg.region.goal_step, &way->to_go);
+    s->has_bend = lc_guide_bend_ahead(p, c, s->cfg.region.goal_step, LC_SESSION_BEND_NEAR, &s->bend);
     return 0;
 }
 

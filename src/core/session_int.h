@@ -38,6 +38,8 @@ struct lc_session {
     int cap_body;
     lc_region region;
     lc_region region_alt; /* a second region of the frame (plan_region's retry) */
+    bool has_bend;        /* this frame's first turn of the path within a goal step */
+    lc_vec2 bend;
     lc_region_ws rws;
     lc_steer_ws steer; /* the braking region the motion law sees */
     /* the frame driver (lc_session_drive) */

@@ -20,6 +20,7 @@ void lc_steer_ws_free(lc_steer_ws *ws)
 {
     LC_RELEASE(ws->alloc, ws->h, ws->cap_h);
     LC_RELEASE(ws->alloc, ws->hw, ws->cap_hw);
+    LC_RELEASE(ws->alloc, ws->near, ws->cap_near);
 }
 
 /*
@@ -149,6 +150,19 @@ int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoin
  * stop and start. NULL when out of memory.
  */
 #define PARK_REACH 1.0 /* m */
+/*
+ * Between two grown obstacles whose nearest points lie on opposite sides
+ * (their directions more than 120 degrees apart: a gap, a narrow aisle),
+ * the free width across is about the sum of the two distances, and a
+ * standoff of nearly half of it left the robot nowhere to go: at the mouth
+ * of a gap the two nearest points lie ahead to either side, and lines held
+ * at the robot shut every way forward (a gap 3 cm a side wider than the
+ * robot with its margin, its sides seen without noise, held a point robot
+ * at its mouth for good). There each keeps at most a quarter of that
+ * width: the middle half of the gap is the robot's.
+ */
+#define PASSAGE_COS -0.5   /* cos 120 degrees */
+#define PASSAGE_SHARE 0.25
 
 static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c,
                                       lc_vec2 aim, lc_region *out)
@@ -162,18 +176,29 @@ static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
         return NULL;
     int n = r->nh;
     if (robot->model == LC_MODEL_UNICYCLE) {
-        /* parking: the region's lines moved in, held at the robot */
+        /* parking: the region's lines moved in, held at the robot, a
+         * passage's by at most its share */
+        if (LC_GROW(ws->alloc, ws->near, ws->cap_near, n) < 0)
+            return NULL;
+        for (int i = 0; i < n; i++)
+            ws->near[i] = lc_max(r->h[i].b - lc_dot(r->h[i].a, c), 0.0);
         for (int i = 0; i < n; i++) {
-            double slack = r->h[i].b - lc_dot(r->h[i].a, c);
-            ws->h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - lc_min(standoff, lc_max(slack, 0.0))};
+            double keep = lc_min(standoff, ws->near[i]);
+            for (int k = 0; k < n; k++)
+                if (k != i && lc_dot(r->h[i].a, r->h[k].a) < PASSAGE_COS)
+                    keep = lc_min(keep, PASSAGE_SHARE * (ws->near[i] + ws->near[k]));
+            ws->h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - keep};
         }
         *out = *r;
         out->h = ws->h;
         return out;
     }
+    if (LC_GROW(ws->alloc, ws->near, ws->cap_near, in->grown->np) < 0)
+        return NULL;
     memcpy(ws->h, r->h, sizeof *r->h * (size_t)n);
     /* farther than the robot can go before it stops, no line can bind */
     double v = robot->v_max, reach = standoff + v * v / (2 * robot->a_max) + v;
+    int first = n;
     for (int j = 0; j < in->grown->np; j++) {
         int nv;
         const lc_vec2 *pv = lc_polyset_at(in->grown, j, &nv);
@@ -184,7 +209,15 @@ static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
         if (!(d > 1e-9) || d > reach)
             continue; /* inside: too_close, decided elsewhere */
         lc_vec2 a = lc_scale(lc_sub(q, c), 1.0 / d);
-        ws->h[n++] = (lc_halfspace){a, lc_dot(a, q) - lc_min(standoff, d)};
+        ws->near[n - first] = d;
+        ws->h[n++] = (lc_halfspace){a, lc_dot(a, q)}; /* at the obstacle, moved in below */
+    }
+    for (int i = first; i < n; i++) {
+        double d = ws->near[i - first], keep = lc_min(standoff, d);
+        for (int k = first; k < n; k++)
+            if (k != i && lc_dot(ws->h[i].a, ws->h[k].a) < PASSAGE_COS)
+                keep = lc_min(keep, PASSAGE_SHARE * (d + ws->near[k - first]));
+        ws->h[i].b -= keep;
     }
     *out = *r;
     out->h = ws->h;

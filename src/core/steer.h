@@ -28,6 +28,8 @@ typedef struct lc_steer_ws {
     int cap_h;
     lc_halfspace *hw; /* a footprint's workspace lines */
     int cap_hw;
+    double *near;     /* the point model's distance to each grown obstacle held off */
+    int cap_near;
 } lc_steer_ws;
 
 void lc_steer_ws_init(lc_steer_ws *ws, const lc_alloc *alloc);

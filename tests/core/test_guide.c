@@ -764,6 +764,31 @@ static void test_ahead(void **state)
     assert_near(rest, 0, 1e-12);
 }
 
+/* lc_guide_bend_ahead on paths written here: the first vertex after the
+ * robot's place at least `near` from it, within dist along the path, never
+ * the path's end. */
+static void test_bend_ahead(void **state)
+{
+    (void)state;
+    const lc_vec2 v[] = {{0, 0}, {1, 0}, {1.05, 0.5}, {3, 0.5}};
+    lc_guide_path p = hand_path(v, 4);
+    lc_vec2 b = {0, 0};
+    assert_true(lc_guide_bend_ahead(&p, lc_v2(0.2, 0.1), 1.0, 0.1, &b));
+    assert_true(b.x == 1 && b.y == 0);
+    /* the first bend too near the robot: the next one */
+    assert_true(lc_guide_bend_ahead(&p, lc_v2(0.95, 0), 1.0, 0.1, &b));
+    assert_true(b.x == 1.05 && b.y == 0.5);
+    /* beyond dist along the path: none */
+    assert_false(lc_guide_bend_ahead(&p, lc_v2(0.2, 0.1), 0.7, 0.1, &b));
+    /* past the last bend only the end is left: none */
+    p.seg = 2;
+    assert_false(lc_guide_bend_ahead(&p, lc_v2(2, 0.5), 5.0, 0.1, &b));
+    /* a straight path has none */
+    const lc_vec2 s2[] = {{0, 0}, {3, 0}};
+    p = hand_path(s2, 2);
+    assert_false(lc_guide_bend_ahead(&p, lc_v2(1, 0), 5.0, 0.1, &b));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -782,6 +807,7 @@ int main(void)
         cmocka_unit_test(test_nan_waypoint),
         cmocka_unit_test(test_tolerance_zero),
         cmocka_unit_test(test_ahead),
+        cmocka_unit_test(test_bend_ahead),
         cmocka_unit_test(test_out_of_memory),
     };
     return LC_RUN_TESTS(tests, NULL, NULL);

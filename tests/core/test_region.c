@@ -329,6 +329,47 @@ static void test_projection_and_determinism(void **state)
     LC_GEOS_CHECKED();
 }
 
+/*
+ * The goal seed takes the bend of the way when the step toward the
+ * waypoint is not free: a box ahead holds the step 1 m toward the
+ * waypoint; the way turns below it, at the bend, which the region then
+ * holds. A bend inside the box is no seed (the step is halved as before),
+ * and without a bend the seed is the halved step.
+ */
+static void test_bend_seed(void **state)
+{
+    (void)state;
+    lc_polyset grown = {0};
+    const lc_vec2 box[4] = {{0.5, -0.2}, {1.5, -0.2}, {1.5, 2}, {0.5, 2}};
+    assert_int_equal(lc_polyset_push(&grown, box, 4, 0), 0);
+    lc_region_config cfg;
+    lc_region_config_default(&cfg);
+    lc_ellipse_opts eo;
+    lc_ellipse_opts_default(&eo);
+    lc_region_ws ws = {0};
+    lc_region rg = {0};
+    lc_region_input in = {.grown = &grown, .centre = lc_v2(0, 0), .window = 7.0,
+                          .has_waypoint = true, .waypoint = lc_v2(2, 1)};
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
+    assert_true(rg.has_goal_seed);
+    lc_vec2 half = lc_scale(lc_v2(2, 1), 0.5 / sqrt(5.0)); /* 0.5 m toward it */
+    assert_near(rg.goal_seed.x, half.x, 1e-12);
+    assert_near(rg.goal_seed.y, half.y, 1e-12);
+    in.has_bend = true;
+    in.bend = lc_v2(1.0, -0.5);
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
+    assert_true(rg.has_goal_seed && rg.goal_seed.x == 1.0 && rg.goal_seed.y == -0.5);
+    assert_true(lc_region_margin(&rg, in.bend) >= -1e-9);
+    assert_true(lc_region_margin(&rg, in.centre) >= -1e-9);
+    in.bend = lc_v2(1.0, 0.5); /* in the box */
+    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
+    assert_near(rg.goal_seed.x, half.x, 1e-12);
+    assert_near(rg.goal_seed.y, half.y, 1e-12);
+    lc_region_free(&rg);
+    lc_region_ws_free(&ws);
+    lc_polyset_free(&grown);
+}
+
 static void test_bad_input(void **state)
 {
     lc_polyset none = {0};
@@ -358,6 +399,7 @@ int main(void)
         cmocka_unit_test(test_too_close),
         cmocka_unit_test(test_buffers_keep_their_allocator),
         cmocka_unit_test(test_projection_and_determinism),
+        cmocka_unit_test(test_bend_seed),
         cmocka_unit_test(test_bad_input),
     };
     return LC_RUN_TESTS(tests, lc_test_geos_setup, lc_test_geos_teardown);

@@ -36,6 +36,17 @@ static lc_region box_region(lc_vec2 c, double h)
     return r;
 }
 
+/* What lc_steer_drive is given in these tests: standoff 0.04 m, dt 0.05 s,
+ * the target also the waypoint. */
+static lc_steer_input drive_input(const lc_robot *robot, const lc_motion_params *mp,
+                                  const lc_region *r, const lc_polyset *grown, lc_pose pose,
+                                  lc_vec2 target, const lc_setpoint *last)
+{
+    return (lc_steer_input){.robot = robot, .params = mp, .standoff = 0.04, .region = r,
+                            .grown = grown, .pose = pose, .target = target,
+                            .waypoint = target, .last = last, .dt = 0.05};
+}
+
 /* lc_steer_turn_in_place as the session calls it, without obstacles. */
 static void turn(const lc_robot *robot, const lc_motion_params *mp, lc_pose pose, lc_vec2 target,
                  const lc_setpoint *last, double dt, lc_setpoint *out)
@@ -103,9 +114,8 @@ static void test_standoff_point(void **state)
     /* at rest (a robot already moving at it brakes as hard as it may:
      * motion.h's fallback) */
     lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
-    lc_steer_input in = {.robot = &robot, .params = &mp, .standoff = 0.04, .region = &r,
-                         .grown = &grown, .pose = {0, 0, 0}, .target = lc_v2(3, 2),
-                         .waypoint = lc_v2(3, 2), .last = &last, .dt = 0.05};
+    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(3, 2),
+                                    &last);
     lc_steer_ws ws = {0};
     assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
     assert_true(out.vx <= 1e-12); /* no nearer to the obstacle */
@@ -126,6 +136,84 @@ static void test_standoff_point(void **state)
     assert_true(a.vx == b.vx && a.vy == b.vy && a.limit == b.limit);
     lc_steer_ws_free(&ws);
     lc_polyset_free(&grown);
+}
+
+/* A disc of radius r about c as a 32-gon circumscribed about it (a grown
+ * corner). */
+static void push_disc(lc_polyset *ps, lc_vec2 c, double r)
+{
+    lc_vec2 v[32];
+    double R = r / cos(LC_PI / 32);
+    for (int i = 0; i < 32; i++)
+        v[i] = lc_add(c, lc_scale(lc_unit_angle(2 * LC_PI * (i + 0.5) / 32), R));
+    assert_int_equal(lc_polyset_push(ps, v, 32, 0), 0);
+}
+
+/*
+ * The mouth of a gap: two grown corners ahead to either side, 3.3 cm off
+ * the robot (a gap 3.3 cm a side wider than the robot with its margin),
+ * their nearest points 150 degrees apart. A standoff of 4 cm held at the
+ * robot from both left it no way forward; a passage's sides keep a quarter
+ * of the width across (1.65 cm) each, so it goes on. Off the middle, it
+ * still comes no nearer the side it is within that quarter of (one
+ * obstacle alone keeps the full standoff: test_standoff_point).
+ */
+static void test_standoff_passage(void **state)
+{
+    (void)state;
+    lc_robot robot;
+    lc_robot_default(&robot);
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    lc_polyset grown = {0};
+    lc_vec2 up = {0.1, 0.37}, down = {0.1, -0.37};
+    push_disc(&grown, up, 0.35);
+    push_disc(&grown, down, 0.35);
+    lc_region r = box_region(lc_v2(0, 0), 5);
+    lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
+    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(3, 0),
+                                    &last);
+    lc_steer_ws ws = {0};
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    assert_true(out.vx > 0.02); /* a_max dt = 0.025 from rest */
+    /* 2 cm up: 1.4 cm off the upper corner (the quarter is 1.65 cm), not
+     * nearer it */
+    in.pose.y = 0.02;
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    int nv;
+    const lc_vec2 *pv = lc_polyset_at(&grown, 0, &nv);
+    lc_vec2 q;
+    assert_near(lc_convex_distance(pv, nv, lc_v2(0, 0.02), &q), 0.014, 2e-3); /* circumscribed */
+    assert_true(lc_dot(lc_sub(q, lc_v2(0, 0.02)), lc_v2(out.vx, out.vy)) <= 1e-12);
+    lc_steer_ws_free(&ws);
+    lc_polyset_free(&grown);
+}
+
+/* A unicycle parking in a region 4 cm wide (a gap's), a little askew: the
+ * region's sides moved in by the standoff held at the robot left it a line
+ * it could not follow; a quarter of the width each leaves it room to go. */
+static void test_standoff_passage_unicycle(void **state)
+{
+    (void)state;
+    lc_robot robot;
+    lc_robot_default(&robot);
+    robot.model = LC_MODEL_UNICYCLE;
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    lc_polyset grown = {0};
+    lc_halfspace strip[4] = {{{1, 0}, 1}, {{-1, 0}, 1}, {{0, 1}, 0.02}, {{0, -1}, 0.02}};
+    lc_region r;
+    memset(&r, 0, sizeof r);
+    r.h = strip;
+    r.nh = 4;
+    r.ellipse = (lc_ellipse){1, 0, 0.02, lc_v2(0, 0)};
+    lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
+    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0.1},
+                                    lc_v2(0.6, 0), &last);
+    lc_steer_ws ws = {0};
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    assert_true(out.v > 0.02); /* a_max dt = 0.025 from rest; was 0 */
+    lc_steer_ws_free(&ws);
 }
 
 static void *refuse(void *data, void *p, size_t n)
@@ -149,9 +237,8 @@ static void test_no_memory(void **state)
     lc_polyset_push(&grown, sq, 4, 0);
     lc_region r = box_region(lc_v2(0, 0), 5);
     lc_setpoint last = {.vx = 0.3}, out;
-    lc_steer_input in = {.robot = &robot, .params = &mp, .standoff = 0.04, .region = &r,
-                         .grown = &grown, .pose = {0, 0, 0}, .target = lc_v2(0, 3),
-                         .waypoint = lc_v2(0, 3), .last = &last, .dt = 0.05};
+    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(0, 3),
+                                    &last);
     lc_alloc none = {refuse, NULL};
     lc_steer_ws ws;
     lc_steer_ws_init(&ws, &none);
@@ -384,6 +471,8 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_turn_in_place),
         cmocka_unit_test(test_standoff_point),
+        cmocka_unit_test(test_standoff_passage),
+        cmocka_unit_test(test_standoff_passage_unicycle),
         cmocka_unit_test(test_no_memory),
         cmocka_unit_test(test_body_workspace_corner),
         cmocka_unit_test(test_body_turn_in_place),

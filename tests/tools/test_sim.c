@@ -261,6 +261,41 @@ static cJSON *sim_json(const char *file, const char *model, int want_rc)
     return j;
 }
 
+/*
+ * A gap only 4 cm a side wider than the robot with its margin (disc of
+ * 0.3 m, margin 0.05 m: 0.78 m between the wall's ends, off the straight
+ * line), seen with 1 cm range noise: both models drive through it. The
+ * motion law kept 4 cm off every grown obstacle and could not enter it
+ * (steer.c, a passage's standoff); the body passes the gap's ends at no
+ * more than the gap's half width less its radius (closed form, 0.09 m).
+ */
+static void test_narrow_gap(void **state)
+{
+    (void)state;
+    double lo = 0.4 - 0.39, hi = 0.4 + 0.39;
+    char text[2048];
+    snprintf(text, sizeof text,
+             "{\"type\":\"scenario\",\"version\":1,\"description\":\"test gap\","
+             "\"robot\":{\"model\":\"point\",\"radius\":0.3,\"margin\":0.05,"
+             "\"v_max\":0.5,\"a_max\":0.5,\"w_max\":1,\"dw_max\":2},"
+             "\"route\":{\"waypoints\":[[6,0.4]],\"tolerance\":0.3},\"start\":[0,0,0],"
+             "\"world\":{\"polygons\":[[[3,%.17g],[3.3,%.17g],[3.3,%.17g],[3,%.17g]],"
+             "[[3,%.17g],[3.3,%.17g],[3.3,%.17g],[3,%.17g]],"
+             "[[-2,-4],[8,-4],[8,-3.8],[-2,-3.8]],[[-2,4.6],[8,4.6],[8,4.8],[-2,4.8]]]},"
+             "\"sensor\":{\"beams\":720,\"fov\":4.71238898038469,\"near\":0.05,"
+             "\"far\":10,\"rate\":20,\"noise\":0.01,\"mount\":[0,0,0]},"
+             "\"max_time\":60}\n",
+             lo - 4, lo - 4, lo, lo, hi, hi, hi + 4, hi + 4);
+    lc_test_write_file(lc_test_tmp("gap.jsonl"), text, strlen(text));
+    const char *models[2] = {"point", "unicycle"};
+    for (int m = 0; m < 2; m++) {
+        cJSON *j = sim_json("gap.jsonl", models[m], 0);
+        assert_true(lc_test_flag(j, "done"));
+        assert_true(lc_test_num(j, "min_clearance") <= 0.09 + 1e-3);
+        cJSON_Delete(j);
+    }
+}
+
 static void test_footprint_doorway_and_corridor(void **state)
 {
     const char *through = "{\"waypoints\":[[10,3]],\"tolerance\":0.3}";
@@ -377,6 +412,7 @@ int main(void)
         cmocka_unit_test(test_looping_route_ends_after_one_lap),
         cmocka_unit_test(test_start_in_contact_is_a_collision),
         cmocka_unit_test(test_footprint_doorway_and_corridor),
+        cmocka_unit_test(test_narrow_gap),
         cmocka_unit_test(test_footprint_start_in_contact),
         cmocka_unit_test(test_seed_repeats),
         cmocka_unit_test(test_usage_errors),
