@@ -418,10 +418,13 @@ static bool on_border(const lc_guide *g, int k)
 
 /*
  * A* from the robot's cell. The goal: a passable cell within `reach` of
- * the goal point when it lies in the grid, else the outside node (index
- * n * n) through the border. Returns the goal's index, or -1 (no path).
+ * the goal point when it lies in the grid (and not `via_edge`), else the
+ * outside node (index n * n) through the border, a step out costing
+ * unknown_cost times the straight way on to the goal point. Returns the
+ * goal's index, or -1 (no path).
  */
-static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, int *expanded)
+static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, bool via_edge,
+                 int *expanded)
 {
     int n = g->n, total = n * n, outside = total;
     size_t cells = (size_t)total + 1;
@@ -432,7 +435,7 @@ static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, i
     int s = cell_of(g, c->start);
     if (s < 0)
         return -1;
-    bool inside = cell_of(g, goal) >= 0;
+    bool inside = !via_edge && cell_of(g, goal) >= 0;
     double w = g->cfg.greed;
     /* The search ends anywhere within reach of the goal: the octile
      * distance less what it may overstate that by (octile / Euclidean is at
@@ -642,6 +645,10 @@ static double cost_now(lc_guide *g, const search_ctx *c, const lc_guide_path *p,
         }
         a = b;
     }
+    /* a way that ends short of its goal (round the window's edge): the
+     * rest is unknown */
+    if (p->n > 0)
+        cost += lc_dist(p->v[p->n - 1], p->goal) * g->cfg.unknown_cost;
     return cost;
 }
 
@@ -730,14 +737,14 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         /* at least half a cell's diagonal: every point has a cell centre
          * that near */
         double reach = fmax(tolerance, 0.5 * sqrt(2.0) * g->cfg.cell + 1e-9);
-        int end = astar(g, &c, waypoint, reach, &expanded);
+        int end = astar(g, &c, waypoint, reach, false, &expanded);
         if (end < 0 && g->n_refused > 0) {
             /* the refused spots closed every way: they were the only ones,
              * so forget them and take the way the robot could not follow
              * rather than give up on the waypoint */
             int more;
             g->n_refused = g->next_refused = 0;
-            end = astar(g, &c, waypoint, reach, &more);
+            end = astar(g, &c, waypoint, reach, false, &more);
             expanded += more;
         }
         if (end < 0) {
@@ -747,8 +754,26 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             int more;
             search_ctx wide = c;
             wide.escape = fmax(c.escape, c.R + g->cfg.cell);
-            end = astar(g, &wide, waypoint, reach, &more);
+            end = astar(g, &wide, waypoint, reach, false, &more);
             expanded += more;
+        }
+        bool round_edge = false;
+        if (end < 0 && cell_of(g, waypoint) >= 0) {
+            /* the waypoint in the window and no way to it within: the way
+             * may leave the window and come back (a corridor the window's
+             * edge cuts off). When the waypoint's side of what is known
+             * reaches the edge too (a search from it finds the border; a
+             * waypoint enclosed in the window does not), the robot heads
+             * out through its own side's edge toward it */
+            int more;
+            search_ctx back = {m, clearance, waypoint, 1.5 * g->cfg.cell, c.graze, {false}};
+            bool open = astar(g, &back, robot, 0.0, true, &more) >= 0;
+            expanded += more;
+            if (open) {
+                end = astar(g, &c, waypoint, reach, true, &more);
+                expanded += more;
+                round_edge = end >= 0;
+            }
         }
         if (g->bucket_failed)
             return -1; /* out of memory: obstacles were missed */
@@ -771,13 +796,26 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             g->path = g->cand;
         } else {
             g->doubt = false;
-            lc_vec2 goal_pt = end == g->n * g->n ? waypoint : centre_of(g, end);
+            /* round the edge: the way ends where it leaves the window
+             * (on to the waypoint is unknown, not a straight line) */
+            lc_vec2 goal_pt = round_edge ? centre_of(g, g->parent[end])
+                              : end == g->n * g->n ? waypoint
+                                                   : centre_of(g, end);
             if (lc_dist(goal_pt, waypoint) <= reach)
                 goal_pt = waypoint;
             build_path(g, &c, end, goal_pt, g->g[end]);
+            if (round_edge)
+                g->cand.goal = waypoint; /* beyond the way's end, unknown */
             /* both ways priced the same way, along their polylines as the
              * memory is now (the search's own cost counts grid steps) */
-            double old = !new_goal && g->path.status == LC_GUIDE_PATH && !info->blocked_ahead
+            /* a way round the window's edge toward a goal now inside it
+             * (the window moved on) ends where nothing is: the new
+             * search's way replaces it */
+            const lc_guide_path *was = &g->path;
+            bool stale = was->projected && was->n > 0 && cell_of(g, was->goal) >= 0 &&
+                         lc_dist(was->v[was->n - 1], was->goal) > 1e-9;
+            double old = !new_goal && g->path.status == LC_GUIDE_PATH && !info->blocked_ahead &&
+                                 !stale
                              ? cost_now(g, &c, &g->path, robot, g->path.seg)
                              : INFINITY;
             double now = isfinite(old) ? cost_now(g, &c, &g->cand, robot, 0) : 0.0;

@@ -104,9 +104,10 @@ typedef struct lc_guide_path {
     int n;
     double length;  /* m, along v */
     double cost;    /* the search's cost of it */
-    lc_vec2 goal;   /* the goal it leads to: the waypoint, or where the path leaves the
-                       window toward a waypoint outside it */
-    bool projected; /* the waypoint lies outside the window */
+    lc_vec2 goal;   /* the waypoint it leads to (a path that goes round the window's
+                       edge ends short of it, where it leaves the window) */
+    bool projected; /* the path leaves the window: the waypoint lies outside it, or
+                       no way to it lies within it (round the edge) */
     long found_at;  /* frame count of the search that found it */
     int seg;        /* the robot was last nearest segment [v[seg], v[seg + 1]] */
 } lc_guide_path;

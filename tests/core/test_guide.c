@@ -220,6 +220,59 @@ static void test_through_gap(void **state)
     scene_free(&s);
 }
 
+/*
+ * A waypoint in the window whose way leaves it and comes back: a corridor
+ * (y in [-1, 1]) runs from the robot past the window's edge (x = 8) to
+ * x = 12, where it turns and comes back above a dividing wall (y = 1.2)
+ * toward the waypoint (2, 4), which no scan from the corridor has seen.
+ * No way to it lies within the window; the waypoint's side of what is
+ * known reaches the window's edge (unknown space), so the way heads out
+ * through the corridor's end at the edge, and leads no nearer the
+ * waypoint than that (its rest is unknown). The same waypoint in a seen
+ * cage (closed all round within the window) has no way at all: blocked,
+ * not sent round the edge.
+ */
+static void test_round_the_edge(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    scene_wall(&s.w, lc_v2(-2, -1), lc_v2(12, -1));
+    scene_wall(&s.w, lc_v2(-2, 1), lc_v2(10, 1));
+    scene_wall(&s.w, lc_v2(-2, 1.2), lc_v2(10, 1.2)); /* the dividing wall's far side */
+    scene_wall(&s.w, lc_v2(10, 1), lc_v2(10, 1.2));
+    scene_wall(&s.w, lc_v2(-2, -1), lc_v2(-2, 1));
+    lc_vec2 from[] = {{0, 0}, {3, 0}};
+    scene_ready(&s, from, 2);
+    lc_vec2 robot = lc_v2(0, 0), wp = lc_v2(2, 4);
+    assert_int_equal(lc_memory_state(s.m, wp), LC_CELL_UNKNOWN);
+    const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(p->projected);
+    assert_true(scene_same(p->goal, wp));
+    lc_vec2 end = p->v[p->n - 1];
+    assert_true(end.x > 7.5 && fabs(end.y) < 1.0); /* the corridor's end at the edge */
+    for (int k = 0; k < p->n; k++)
+        assert_true(fabs(p->v[k].y) < 1.0); /* along the corridor */
+    assert_true(scene_path_clearance(s.m, p) >= CLEAR - 0.5 * s.gc.cell);
+    scene_free(&s);
+
+    /* the waypoint caged: seen walls all round it within the window, in a
+     * corridor 4 m wide that the robot could follow past it to the edge */
+    scene_init(&s);
+    scene_wall(&s.w, lc_v2(-2, -2), lc_v2(12, -2));
+    scene_wall(&s.w, lc_v2(-2, 2), lc_v2(12, 2));
+    scene_wall(&s.w, lc_v2(-2, -2), lc_v2(-2, 2));
+    lc_vec2 cage[5] = {{3.5, -0.5}, {4.5, -0.5}, {4.5, 0.5}, {3.5, 0.5}, {3.5, -0.5}};
+    for (int k = 0; k < 4; k++)
+        scene_wall(&s.w, cage[k], cage[k + 1]);
+    lc_vec2 around[] = {{0, 0}, {3, 1.2}, {6, 0}, {4, -1.2}, {4, 1.2}};
+    scene_ready(&s, around, 5);
+    p = scene_update(&s, robot, lc_v2(4, 0), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_NO_PATH);
+    scene_free(&s);
+}
+
 /* An allocator that refuses once told to (frees still work). */
 typedef struct refusing_alloc {
     lc_alloc alloc;
@@ -808,6 +861,7 @@ int main(void)
         cmocka_unit_test(test_tolerance_zero),
         cmocka_unit_test(test_ahead),
         cmocka_unit_test(test_bend_ahead),
+        cmocka_unit_test(test_round_the_edge),
         cmocka_unit_test(test_out_of_memory),
     };
     return LC_RUN_TESTS(tests, NULL, NULL);
