@@ -55,7 +55,8 @@ void lc_guide_config_default(lc_guide_config *cfg)
                              .check_ahead = 3.0,
                              .stall = 4.0,
                              .greed = 2.0,
-                             .blind_cost = 25.0};
+                             .blind_cost = 25.0,
+                             .slice = 0};
 }
 
 int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
@@ -83,6 +84,8 @@ int lc_guide_config_check(const lc_guide_config *cfg, const char **field)
         bad = "greed";
     else if (!(cfg->blind_cost >= 1 && cfg->blind_cost <= 100))
         bad = "blind_cost";
+    else if (!(cfg->slice >= 0 && cfg->slice <= 100000000))
+        bad = "slice";
     if (field)
         *field = bad;
     return bad ? -1 : 0;
@@ -151,6 +154,7 @@ void lc_guide_free(lc_guide *g)
 
 void lc_guide_reset(lc_guide *g)
 {
+    g->job = 0;
     g->path.status = LC_GUIDE_NONE;
     g->path.n = 0;
     g->has_goal = false;
@@ -420,30 +424,48 @@ static bool on_border(const lc_guide *g, int k)
  * A* from the robot's cell. The goal: a passable cell within `reach` of
  * the goal point when it lies in the grid (and not `via_edge`), else the
  * outside node (index n * n) through the border, a step out costing
- * unknown_cost times the straight way on to the goal point. Returns the
- * goal's index, or -1 (no path).
+ * unknown_cost times the straight way on to the goal point. astar_begin
+ * opens the start (-1 when it lies off the grid); astar_run expands at
+ * most `budget` cells (0: no limit) and returns the goal's index, -1 (no
+ * path) or ASTAR_PAUSED, to be run on with the same arguments.
  */
-static int astar(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, bool via_edge,
-                 int *expanded)
+#define ASTAR_PAUSED (-2)
+
+static double astar_slack(const lc_guide *g, lc_vec2 goal, double reach, bool via_edge)
 {
-    int n = g->n, total = n * n, outside = total;
-    size_t cells = (size_t)total + 1;
-    memset(g->state, 0, cells);
-    memset(g->cls, 0, cells);
-    g->heap_n = 0;
-    *expanded = 0;
-    int s = cell_of(g, c->start);
-    if (s < 0)
-        return -1;
-    bool inside = !via_edge && cell_of(g, goal) >= 0;
-    double w = g->cfg.greed;
     /* The search ends anywhere within reach of the goal: the octile
      * distance less what it may overstate that by (octile / Euclidean is at
      * most sqrt(4 - 2 sqrt 2)) keeps the heuristic admissible. */
-    double slack = inside ? sqrt(4.0 - 2.0 * sqrt(2.0)) * reach : 0.0;
-    relax(g, s, -1, 0.0, w * fmax(0.0, octile(centre_of(g, s), goal) - slack));
+    bool inside = !via_edge && cell_of(g, goal) >= 0;
+    return inside ? sqrt(4.0 - 2.0 * sqrt(2.0)) * reach : 0.0;
+}
+
+static int astar_begin(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach,
+                       bool via_edge)
+{
+    size_t cells = (size_t)g->n * (size_t)g->n + 1;
+    memset(g->state, 0, cells);
+    memset(g->cls, 0, cells);
+    g->heap_n = 0;
+    int s = cell_of(g, c->start);
+    if (s < 0)
+        return -1;
+    double slack = astar_slack(g, goal, reach, via_edge);
+    relax(g, s, -1, 0.0, g->cfg.greed * fmax(0.0, octile(centre_of(g, s), goal) - slack));
+    return 0;
+}
+
+static int astar_run(lc_guide *g, const search_ctx *c, lc_vec2 goal, double reach, bool via_edge,
+                     int budget, int *expanded)
+{
+    int n = g->n, total = n * n, outside = total;
+    *expanded = 0;
+    bool inside = !via_edge && cell_of(g, goal) >= 0;
+    double w = g->cfg.greed, slack = astar_slack(g, goal, reach, via_edge);
     double step = g->cfg.cell;
     while (g->heap_n > 0) {
+        if (budget > 0 && *expanded >= budget)
+            return ASTAR_PAUSED;
         int k = pop(g);
         if (k == outside)
             return k;
@@ -693,6 +715,121 @@ static void place_grid(lc_guide *g, const lc_memory *m)
     g->y0 = (double)w.j0 * w.cell;
 }
 
+/*
+ * A search is a chain of A* runs (each a JOB_ phase): the main one; with
+ * the refused spots forgotten when they closed every way; with the robot
+ * let out of its whole clearance; then, for a waypoint in the window, one
+ * from the waypoint to the window's edge and, when that finds it, the
+ * robot's to the edge (the way round it). With cfg.slice, the main run
+ * expands at most that many cells a frame and goes on from where it
+ * stopped on the frames after (counted in cells: replay stays exact; the
+ * cells classified meanwhile read the memory as it is then), for at most
+ * SLICES_MAX frames; the path is built on a frame of its own.
+ */
+enum { JOB_NONE = 0, JOB_MAIN, JOB_FORGET, JOB_WIDE, JOB_BACK, JOB_EDGE, JOB_FINISH };
+
+static search_ctx job_ctx(const lc_guide *g, const lc_memory *m)
+{
+    search_ctx c = {m, g->job_R, g->job_start, 1.5 * g->cfg.cell, 0.5 * g->mem_cell, {false}};
+    if (g->job == JOB_BACK) { /* from the waypoint, which needs no sight */
+        c.start = g->job_goal;
+        return c;
+    }
+    memcpy(c.blind, g->job_blind, sizeof c.blind);
+    if (g->job == JOB_WIDE) /* the robot may stand where its cells read
+                             * closed (a gap it is in, range noise on the
+                             * cells beside it) */
+        c.escape = fmax(c.escape, c.R + g->cfg.cell);
+    return c;
+}
+
+/* The next run after `job` ended with `end`; 0 when the search is over. */
+static int job_next(lc_guide *g, int end)
+{
+    switch (g->job) {
+    case JOB_MAIN:
+        if (end >= 0)
+            return 0;
+        if (g->n_refused > 0) {
+            /* the refused spots closed every way: they were the only
+             * ones, so forget them and take the way the robot could not
+             * follow rather than give up on the waypoint */
+            g->n_refused = g->next_refused = 0;
+            return JOB_FORGET;
+        }
+        return JOB_WIDE;
+    case JOB_FORGET:
+        return end >= 0 ? 0 : JOB_WIDE;
+    case JOB_WIDE:
+        /* the waypoint in the window and no way to it within: the way may
+         * leave the window and come back (a corridor the window's edge
+         * cuts off). When the waypoint's side of what is known reaches the
+         * edge too (a search from it finds the border; a waypoint enclosed
+         * in the window does not), the robot heads out through its own
+         * side's edge toward it */
+        return end < 0 && cell_of(g, g->job_goal) >= 0 ? JOB_BACK : 0;
+    case JOB_BACK:
+        return end >= 0 ? JOB_EDGE : 0;
+    default:
+        return 0;
+    }
+}
+
+/* Runs the search on, at most `budget` cells (0: no limit). true when it
+ * is over: *end the goal's index or -1, *round_edge whether the way goes
+ * round the window's edge. */
+#define SLICES_MAX 20 /* a main run still going after this many slices runs whole */
+
+static bool job_run(lc_guide *g, const lc_memory *m, int budget, int *end, bool *round_edge)
+{
+    int used = 0;
+    if (g->job == JOB_FINISH) {
+        *end = g->job_end;
+        *round_edge = g->job_round_edge;
+        g->job = JOB_NONE;
+        return true;
+    }
+    for (;;) {
+        search_ctx c = job_ctx(g, m);
+        bool back = g->job == JOB_BACK, edge = back || g->job == JOB_EDGE;
+        lc_vec2 goal = back ? g->job_start : g->job_goal;
+        double reach = back ? 0.0 : g->job_reach;
+        /* sliced: the main run, up to SLICES_MAX slices; the runs after
+         * it (no way found: rare, and the verdict should not wait) and a
+         * main run that long go whole */
+        bool sliced = budget > 0 && g->job == JOB_MAIN && g->job_expanded < SLICES_MAX * budget;
+        if (sliced && used >= budget)
+            return false;
+        int r = -1, more = 0;
+        if (!g->job_fresh || astar_begin(g, &c, goal, reach, edge) == 0) {
+            g->job_fresh = false;
+            r = astar_run(g, &c, goal, reach, edge, sliced ? budget - used : 0, &more);
+        }
+        g->job_fresh = false;
+        used += more;
+        g->job_expanded += more;
+        if (r == ASTAR_PAUSED)
+            return false;
+        int next = job_next(g, r);
+        if (next == 0) {
+            *end = r;
+            *round_edge = g->job == JOB_EDGE && r >= 0;
+            if (budget > 0 && used > 0) {
+                /* sliced: the path is built on the next frame, which
+                 * does that alone (it costs about as much as a slice) */
+                g->job = JOB_FINISH;
+                g->job_end = r;
+                g->job_round_edge = *round_edge;
+                return false;
+            }
+            g->job = JOB_NONE;
+            return true;
+        }
+        g->job = next;
+        g->job_fresh = true;
+    }
+}
+
 int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 waypoint,
                     double clearance, double tolerance, const lc_guide_path **out,
                     lc_guide_info *info)
@@ -709,14 +846,17 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
                                   .found_at = g->frame};
         g->has_goal = false;
         g->doubt = false;
+        g->job = JOB_NONE;
         return 0;
     }
     search_ctx c = {m, clearance, robot, 1.5 * g->cfg.cell, 0.5 * g->mem_cell, {false}};
     for (int d = 0; d < 8 && g->sight.n > 0; d++) /* everywhere: none blind */
         c.blind[d] = !can_look(g, atan2((double)dv[d], (double)du[d]));
     bool new_goal = !g->has_goal || lc_dist(waypoint, g->goal) > 1e-9;
-    if (new_goal)
+    if (new_goal) {
         g->n_refused = g->next_refused = 0;
+        g->job = JOB_NONE; /* a search for the old goal is dropped */
+    }
     long since = g->frame - g->last_search;
     bool due = since >= g->cfg.every && (lc_dist(robot, g->searched_at) >= g->cfg.travel ||
                                          since >= 10L * g->cfg.every || g->doubt);
@@ -727,61 +867,53 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         info->blocked_ahead = ahead != AHEAD_OPEN;
     }
     bool doubting = g->doubt && since < g->cfg.every; /* waiting to search again */
-    if (new_goal || due || g->search_now || g->path.status != LC_GUIDE_PATH ||
-        (ahead == AHEAD_CLOSED && !doubting) ||
-        (ahead == AHEAD_REFUSED && since >= g->cfg.every)) {
+    if (g->job == JOB_NONE &&
+        (new_goal || due || g->search_now || g->path.status != LC_GUIDE_PATH ||
+         (ahead == AHEAD_CLOSED && !doubting) ||
+         (ahead == AHEAD_REFUSED && since >= g->cfg.every))) {
+        /* only a periodic search along a path still open ahead is
+         * sliced: the first for a waypoint (till it ends the robot would
+         * head straight for it), one after a stall, for a path found
+         * closed ahead or with no path run whole */
+        g->job_sliced = !new_goal && !g->search_now && !g->doubt &&
+                        g->path.status == LC_GUIDE_PATH && ahead == AHEAD_OPEN;
         g->search_now = false;
         place_grid(g, m);
         lc_guide_bucket_obstacles(g, m);
-        int expanded;
+        g->job = JOB_MAIN;
+        g->job_fresh = true;
+        g->job_new_goal = new_goal;
+        g->job_start = robot;
+        g->job_goal = waypoint;
+        g->job_R = clearance;
         /* at least half a cell's diagonal: every point has a cell centre
          * that near */
-        double reach = fmax(tolerance, 0.5 * sqrt(2.0) * g->cfg.cell + 1e-9);
-        int end = astar(g, &c, waypoint, reach, false, &expanded);
-        if (end < 0 && g->n_refused > 0) {
-            /* the refused spots closed every way: they were the only ones,
-             * so forget them and take the way the robot could not follow
-             * rather than give up on the waypoint */
-            int more;
-            g->n_refused = g->next_refused = 0;
-            end = astar(g, &c, waypoint, reach, false, &more);
-            expanded += more;
-        }
-        if (end < 0) {
-            /* the robot may stand where its cells read closed (a gap it
-             * is in, range noise on the cells beside it): let it out of
-             * its whole clearance before saying there is no way */
-            int more;
-            search_ctx wide = c;
-            wide.escape = fmax(c.escape, c.R + g->cfg.cell);
-            end = astar(g, &wide, waypoint, reach, false, &more);
-            expanded += more;
-        }
-        bool round_edge = false;
-        if (end < 0 && cell_of(g, waypoint) >= 0) {
-            /* the waypoint in the window and no way to it within: the way
-             * may leave the window and come back (a corridor the window's
-             * edge cuts off). When the waypoint's side of what is known
-             * reaches the edge too (a search from it finds the border; a
-             * waypoint enclosed in the window does not), the robot heads
-             * out through its own side's edge toward it */
-            int more;
-            search_ctx back = {m, clearance, waypoint, 1.5 * g->cfg.cell, c.graze, {false}};
-            bool open = astar(g, &back, robot, 0.0, true, &more) >= 0;
-            expanded += more;
-            if (open) {
-                end = astar(g, &c, waypoint, reach, true, &more);
-                expanded += more;
-                round_edge = end >= 0;
-            }
-        }
-        if (g->bucket_failed)
+        g->job_reach = fmax(tolerance, 0.5 * sqrt(2.0) * g->cfg.cell + 1e-9);
+        memcpy(g->job_blind, c.blind, sizeof c.blind);
+        g->job_expanded = 0;
+        g->has_goal = true;
+        g->goal = waypoint;
+    }
+    if (g->job != JOB_NONE) {
+        int end = -1, before = g->job_expanded;
+        int budget = g->job_sliced ? g->cfg.slice : 0;
+        bool round_edge = false, over = job_run(g, m, budget, &end, &round_edge);
+        info->expanded = g->job_expanded - before;
+        if (g->bucket_failed) {
+            g->job = JOB_NONE;
             return -1; /* out of memory: obstacles were missed */
+        }
+        info->searching = !over;
+        if (!over) {
+            info->searches = g->searches;
+            return 0;
+        }
+        new_goal = g->job_new_goal;
+        c.start = g->job_start;
         info->searched = true;
-        info->expanded = expanded;
         g->searches++;
         g->last_search = g->frame;
-        g->searched_at = robot;
+        g->searched_at = g->job_start;
         if (end < 0 && !new_goal && g->path.status == LC_GUIDE_PATH && !g->doubt) {
             /* no way now, where there was one: said only when the next
              * search (`every` frames on) agrees; the old path meanwhile */
@@ -801,19 +933,19 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             lc_vec2 goal_pt = round_edge ? centre_of(g, g->parent[end])
                               : end == g->n * g->n ? waypoint
                                                    : centre_of(g, end);
-            if (lc_dist(goal_pt, waypoint) <= reach)
+            if (lc_dist(goal_pt, waypoint) <= g->job_reach)
                 goal_pt = waypoint;
             build_path(g, &c, end, goal_pt, g->g[end]);
             if (round_edge)
                 g->cand.goal = waypoint; /* beyond the way's end, unknown */
-            /* both ways priced the same way, along their polylines as the
-             * memory is now (the search's own cost counts grid steps) */
             /* a way round the window's edge toward a goal now inside it
              * (the window moved on) ends where nothing is: the new
              * search's way replaces it */
             const lc_guide_path *was = &g->path;
             bool stale = was->projected && was->n > 0 && cell_of(g, was->goal) >= 0 &&
                          lc_dist(was->v[was->n - 1], was->goal) > 1e-9;
+            /* both ways priced the same way, along their polylines as the
+             * memory is now (the search's own cost counts grid steps) */
             double old = !new_goal && g->path.status == LC_GUIDE_PATH && !info->blocked_ahead &&
                                  !stale
                              ? cost_now(g, &c, &g->path, robot, g->path.seg)
@@ -826,8 +958,6 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
                 info->replaced = true;
             }
         }
-        g->has_goal = true;
-        g->goal = waypoint;
     }
     info->searches = g->searches;
     *out = &g->path;

@@ -83,6 +83,10 @@ typedef struct lc_guide_config {
                             found costs at most this times the least (default 2) */
     double blind_cost;   /* further factor through unknown space entered in a direction
                             the robot cannot look (lc_guide_set_sight; default 25) */
+    int slice;           /* cells a search expands at most per frame, the rest on the
+                            frames after (its path then comes later; a new waypoint's
+                            first search runs whole); 0: every search whole in the frame
+                            that starts it (default 0; the session's 100) */
 } lc_guide_config;
 
 void lc_guide_config_default(lc_guide_config *cfg);
@@ -156,10 +160,11 @@ void lc_guide_set_sight(lc_guide *g, const lc_guide_sight *sight);
 
 /* What the last lc_guide_update did (for the bench and the viewer). */
 typedef struct lc_guide_info {
-    bool searched;      /* a search ran this frame */
+    bool searched;      /* a search ended this frame */
+    bool searching;     /* a search is under way (sliced: it goes on next frame) */
     bool replaced;      /* and its path replaced the one followed */
     bool blocked_ahead; /* the path ahead was found closed */
-    int expanded;       /* cells the search expanded */
+    int expanded;       /* cells the search expanded this frame */
     long searches;      /* searches so far */
 } lc_guide_info;
 

@@ -51,6 +51,17 @@ struct lc_guide {
     bool search_now;
     bool doubt;        /* the last search found no way where the path is */
     lc_guide_sight sight; /* where the robot can look (n == 0: everywhere) */
+    /* the search under way (guide.c, sliced over frames by cfg.slice) */
+    int job;              /* its run (JOB_MAIN ...), 0: none */
+    bool job_fresh;       /* that run's A* not begun yet */
+    bool job_new_goal;    /* started for a new goal */
+    bool job_sliced;      /* periodic, along a path open ahead: sliced */
+    lc_vec2 job_start, job_goal; /* the robot and the waypoint when it started */
+    double job_R, job_reach;
+    bool job_blind[8];
+    int job_expanded;
+    int job_end;          /* JOB_FINISH: the search's end, built on the next frame */
+    bool job_round_edge;
 };
 
 /* A new search over memory m: every bucket to be filled again. */

@@ -42,6 +42,10 @@ void lc_plan_config_default(lc_plan_config *cfg)
     lc_motion_params_default(&cfg->motion);
     lc_memory_config_default(&cfg->memory);
     lc_guide_config_default(&cfg->guide);
+    /* a search expands at most this many cells a frame (guide.h): about
+     * 70 us on the build machine, so that a frame that searches stays
+     * within the 250 us a 1 kHz loop's p99 allows */
+    cfg->guide.slice = 100;
     cfg->recall = 4.0;
     cfg->standoff = 0.04;
 }

@@ -164,6 +164,41 @@ int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoin
 #define PASSAGE_COS -0.5   /* cos 120 degrees */
 #define PASSAGE_SHARE 0.25
 
+/*
+ * Lines across the direction to each grown obstacle's nearest point within
+ * reach, appended to ws->h from index n: the standoff short of it, held at
+ * the robot when it is nearer, a passage's side keeping at most its share
+ * of the width; with `held_only` (a unicycle) only those already within
+ * the standoff, each held at the robot. Returns the new count.
+ */
+static int nearest_lines(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c, int n,
+                         double reach, bool held_only)
+{
+    double standoff = in->standoff;
+    int first = n;
+    for (int j = 0; j < in->grown->np; j++) {
+        int nv;
+        const lc_vec2 *pv = lc_polyset_at(in->grown, j, &nv);
+        if (box_distance(pv, nv, c) > reach)
+            continue; /* the exact distance is at least this */
+        lc_vec2 q;
+        double d = lc_convex_distance(pv, nv, c, &q);
+        if (!(d > 1e-9) || d > reach)
+            continue; /* inside: too_close, decided elsewhere */
+        lc_vec2 a = lc_scale(lc_sub(q, c), 1.0 / d);
+        ws->near[n - first] = d;
+        ws->h[n++] = (lc_halfspace){a, lc_dot(a, q)}; /* at the obstacle, moved in below */
+    }
+    for (int i = first; i < n; i++) {
+        double d = ws->near[i - first], keep = held_only ? d : lc_min(standoff, d);
+        for (int k = first; k < n; k++)
+            if (k != i && lc_dot(ws->h[i].a, ws->h[k].a) < PASSAGE_COS)
+                keep = lc_min(keep, PASSAGE_SHARE * (d + ws->near[k - first]));
+        ws->h[i].b -= keep;
+    }
+    return n;
+}
+
 static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c,
                                       lc_vec2 aim, lc_region *out)
 {
@@ -189,8 +224,16 @@ static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
                     keep = lc_min(keep, PASSAGE_SHARE * (ws->near[i] + ws->near[k]));
             ws->h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - keep};
         }
+        /* and no nearer an obstacle already within the standoff: the
+         * region's lines are tangent anywhere on it, and a unicycle
+         * rounding a wall's end came within 3 mm of its grown shape,
+         * where range noise made it too_close */
+        if (LC_GROW(ws->alloc, ws->near, ws->cap_near, in->grown->np) < 0)
+            return NULL;
+        n = nearest_lines(in, ws, c, n, standoff, true);
         *out = *r;
         out->h = ws->h;
+        out->nh = n;
         return out;
     }
     if (LC_GROW(ws->alloc, ws->near, ws->cap_near, in->grown->np) < 0)
@@ -198,27 +241,7 @@ static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
     memcpy(ws->h, r->h, sizeof *r->h * (size_t)n);
     /* farther than the robot can go before it stops, no line can bind */
     double v = robot->v_max, reach = standoff + v * v / (2 * robot->a_max) + v;
-    int first = n;
-    for (int j = 0; j < in->grown->np; j++) {
-        int nv;
-        const lc_vec2 *pv = lc_polyset_at(in->grown, j, &nv);
-        if (box_distance(pv, nv, c) > reach)
-            continue; /* the exact distance is at least this */
-        lc_vec2 q;
-        double d = lc_convex_distance(pv, nv, c, &q);
-        if (!(d > 1e-9) || d > reach)
-            continue; /* inside: too_close, decided elsewhere */
-        lc_vec2 a = lc_scale(lc_sub(q, c), 1.0 / d);
-        ws->near[n - first] = d;
-        ws->h[n++] = (lc_halfspace){a, lc_dot(a, q)}; /* at the obstacle, moved in below */
-    }
-    for (int i = first; i < n; i++) {
-        double d = ws->near[i - first], keep = lc_min(standoff, d);
-        for (int k = first; k < n; k++)
-            if (k != i && lc_dot(ws->h[i].a, ws->h[k].a) < PASSAGE_COS)
-                keep = lc_min(keep, PASSAGE_SHARE * (d + ws->near[k - first]));
-        ws->h[i].b -= keep;
-    }
+    n = nearest_lines(in, ws, c, n, reach, false);
     *out = *r;
     out->h = ws->h;
     out->nh = n;

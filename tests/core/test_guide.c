@@ -113,6 +113,13 @@ static void test_config(void **state)
         assert_int_equal(lc_guide_config_check(&b, &field), -1);
         assert_string_equal(field, "every");
     }
+    const int bad_slice[] = {-1, 200000000};
+    for (size_t i = 0; i < sizeof bad_slice / sizeof bad_slice[0]; i++) {
+        lc_guide_config b = c;
+        b.slice = bad_slice[i];
+        assert_int_equal(lc_guide_config_check(&b, &field), -1);
+        assert_string_equal(field, "slice");
+    }
     /* the bounds themselves are accepted */
     lc_guide_config b = {.enabled = true, .cell = 0.02, .every = 1, .travel = 0,
                          .unknown_cost = 1, .soft = 0, .soft_cost = 1, .hysteresis = 0,
@@ -273,6 +280,72 @@ static void test_round_the_edge(void **state)
     scene_free(&s);
 }
 
+/* A wall at x = 2 with a gap from y = 0.2 to 1.4, seen from six places
+ * either side of it. */
+static void gap_scene(scene *s)
+{
+    scene_init(s);
+    scene_wall(&s->w, lc_v2(2, -9), lc_v2(2, 0.2));
+    scene_wall(&s->w, lc_v2(2, 1.4), lc_v2(2, 9));
+    lc_vec2 from[] = {{0, 0}, {0, -3.5}, {0, 3.5}, {3.5, 0}, {3.5, -3.5}, {3.5, 3.5}};
+    scene_ready(s, from, 6);
+}
+
+/*
+ * A search sliced over frames (cfg.slice) ends with the path the whole
+ * search finds at once, bit for bit: two guides over the same memory, one
+ * whole, one at most 30 cells a frame. A new waypoint's first search runs
+ * whole in both; the periodic search after the robot has moved is spread
+ * over frames of at most 30 cells each, with the path built on a frame of
+ * its own, and the old path kept meanwhile.
+ */
+static void test_sliced(void **state)
+{
+    (void)state;
+    scene s;
+    gap_scene(&s);
+    lc_guide_config whole = s.gc, sliced = s.gc;
+    sliced.slice = 30;
+    lc_guide *a = scene_new_guide(&whole, NULL), *b = scene_new_guide(&sliced, NULL);
+    lc_vec2 wp = lc_v2(4, 0);
+    lc_guide_info ia, ib;
+    const lc_guide_path *pa = scene_step(a, s.m, lc_v2(0, 0), wp, 0.2, &ia);
+    const lc_guide_path *pb = scene_step(b, s.m, lc_v2(0, 0), wp, 0.2, &ib);
+    assert_true(ia.searched && ib.searched && !ib.searching);
+    assert_true(ib.expanded > 30 && ib.expanded == ia.expanded); /* the first runs whole */
+    assert_int_equal(pa->n, pb->n);
+    /* 0.6 m on: the next periodic search (every 10 frames, 0.5 m moved) */
+    lc_vec2 on = lc_v2(0.6, 0.1);
+    int frames = 0, total = 0;
+    bool finish_alone = false;
+    for (int f = 0; f < 10; f++)
+        pa = scene_step(a, s.m, on, wp, 0.2, &ia);
+    assert_true(ia.searched);
+    for (int f = 0; f < 200; f++) {
+        lc_vec2 keep = pb->v[pb->n - 1];
+        pb = scene_step(b, s.m, on, wp, 0.2, &ib);
+        if (ib.searching || ib.searched) {
+            frames++;
+            total += ib.expanded;
+            assert_true(ib.expanded <= 30);
+        }
+        if (ib.searching)
+            assert_true(scene_same(pb->v[pb->n - 1], keep)); /* the old path meanwhile */
+        if (ib.searched) {
+            finish_alone = ib.expanded == 0;
+            break;
+        }
+    }
+    assert_true(ib.searched && finish_alone);
+    assert_true(frames >= 3 && total == ia.expanded);
+    assert_int_equal(pa->n, pb->n);
+    for (int k = 0; k < pa->n; k++)
+        assert_true(scene_same(pa->v[k], pb->v[k]));
+    lc_guide_free(a);
+    lc_guide_free(b);
+    scene_free(&s);
+}
+
 /* An allocator that refuses once told to (frees still work). */
 typedef struct refusing_alloc {
     lc_alloc alloc;
@@ -297,11 +370,7 @@ static void test_out_of_memory(void **state)
 {
     (void)state;
     scene s;
-    scene_init(&s);
-    scene_wall(&s.w, lc_v2(2, -9), lc_v2(2, 0.2));
-    scene_wall(&s.w, lc_v2(2, 1.4), lc_v2(2, 9));
-    lc_vec2 from[] = {{0, 0}, {0, -3.5}, {0, 3.5}, {3.5, 0}, {3.5, -3.5}, {3.5, 3.5}};
-    scene_ready(&s, from, 6);
+    gap_scene(&s);
     refusing_alloc ra = {{refusing_realloc, &ra}, false};
     lc_guide *g = scene_new_guide(&s.gc, &ra.alloc);
     ra.refuse = true;
@@ -862,6 +931,7 @@ int main(void)
         cmocka_unit_test(test_ahead),
         cmocka_unit_test(test_bend_ahead),
         cmocka_unit_test(test_round_the_edge),
+        cmocka_unit_test(test_sliced),
         cmocka_unit_test(test_out_of_memory),
     };
     return LC_RUN_TESTS(tests, NULL, NULL);
