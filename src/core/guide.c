@@ -775,11 +775,11 @@ static int job_next(lc_guide *g, int end)
     }
 }
 
+#define SLICES_MAX 20 /* a main run still going after this many slices runs whole */
+
 /* Runs the search on, at most `budget` cells (0: no limit). true when it
  * is over: *end the goal's index or -1, *round_edge whether the way goes
  * round the window's edge. */
-#define SLICES_MAX 20 /* a main run still going after this many slices runs whole */
-
 static bool job_run(lc_guide *g, const lc_memory *m, int budget, int *end, bool *round_edge)
 {
     int used = 0;
