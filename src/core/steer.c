@@ -164,16 +164,30 @@ int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoin
 #define PASSAGE_COS -0.5   /* cos 120 degrees */
 #define PASSAGE_SHARE 0.25
 
+/* Line i of h[0..n) (its distance from the robot near[i]) keeps at most
+ * keep, and at most its share of a passage with a line on the opposite
+ * side. */
+static double passage_keep(const lc_halfspace *h, const double *near, int n, int i, double keep)
+{
+    for (int k = 0; k < n; k++)
+        if (k != i && lc_dot(h[i].a, h[k].a) < PASSAGE_COS)
+            keep = lc_min(keep, PASSAGE_SHARE * (near[i] + near[k]));
+    return keep;
+}
+
 /*
  * Lines across the direction to each grown obstacle's nearest point within
  * reach, appended to ws->h from index n: the standoff short of it, held at
  * the robot when it is nearer, a passage's side keeping at most its share
  * of the width; with `held_only` (a unicycle) only those already within
- * the standoff, each held at the robot. Returns the new count.
+ * the standoff, each held at the robot. Returns the new count, or -1 when
+ * out of memory.
  */
 static int nearest_lines(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c, int n,
                          double reach, bool held_only)
 {
+    if (LC_GROW(ws->alloc, ws->near, ws->cap_near, in->grown->np) < 0)
+        return -1;
     double standoff = in->standoff;
     int first = n;
     for (int j = 0; j < in->grown->np; j++) {
@@ -190,11 +204,9 @@ static int nearest_lines(const lc_steer_input *in, lc_steer_ws *ws, lc_vec2 c, i
         ws->h[n++] = (lc_halfspace){a, lc_dot(a, q)}; /* at the obstacle, moved in below */
     }
     for (int i = first; i < n; i++) {
-        double d = ws->near[i - first], keep = held_only ? d : lc_min(standoff, d);
-        for (int k = first; k < n; k++)
-            if (k != i && lc_dot(ws->h[i].a, ws->h[k].a) < PASSAGE_COS)
-                keep = lc_min(keep, PASSAGE_SHARE * (d + ws->near[k - first]));
-        ws->h[i].b -= keep;
+        double d = ws->near[i - first];
+        ws->h[i].b -= passage_keep(ws->h + first, ws->near, n - first, i - first,
+                                   held_only ? d : lc_min(standoff, d));
     }
     return n;
 }
@@ -218,30 +230,27 @@ static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
         for (int i = 0; i < n; i++)
             ws->near[i] = lc_max(r->h[i].b - lc_dot(r->h[i].a, c), 0.0);
         for (int i = 0; i < n; i++) {
-            double keep = lc_min(standoff, ws->near[i]);
-            for (int k = 0; k < n; k++)
-                if (k != i && lc_dot(r->h[i].a, r->h[k].a) < PASSAGE_COS)
-                    keep = lc_min(keep, PASSAGE_SHARE * (ws->near[i] + ws->near[k]));
+            double keep = passage_keep(r->h, ws->near, n, i, lc_min(standoff, ws->near[i]));
             ws->h[i] = (lc_halfspace){r->h[i].a, r->h[i].b - keep};
         }
         /* and no nearer an obstacle already within the standoff: the
          * region's lines are tangent anywhere on it, and a unicycle
          * rounding a wall's end came within 3 mm of its grown shape,
          * where range noise made it too_close */
-        if (LC_GROW(ws->alloc, ws->near, ws->cap_near, in->grown->np) < 0)
-            return NULL;
         n = nearest_lines(in, ws, c, n, standoff, true);
+        if (n < 0)
+            return NULL;
         *out = *r;
         out->h = ws->h;
         out->nh = n;
         return out;
     }
-    if (LC_GROW(ws->alloc, ws->near, ws->cap_near, in->grown->np) < 0)
-        return NULL;
     memcpy(ws->h, r->h, sizeof *r->h * (size_t)n);
     /* farther than the robot can go before it stops, no line can bind */
     double v = robot->v_max, reach = standoff + v * v / (2 * robot->a_max) + v;
     n = nearest_lines(in, ws, c, n, reach, false);
+    if (n < 0)
+        return NULL;
     *out = *r;
     out->h = ws->h;
     out->nh = n;

@@ -17,6 +17,28 @@
 #include "lc_config.h"
 #include "region.h"
 
+/* What lc_region_inflate is given in most tests: the default configuration
+ * and solver options, scratch and a region on the C library's allocator. */
+typedef struct rig {
+    lc_region_config cfg;
+    lc_ellipse_opts eo;
+    lc_region_ws ws;
+    lc_region rg;
+} rig;
+
+static void rig_init(rig *t)
+{
+    memset(t, 0, sizeof *t);
+    lc_region_config_default(&t->cfg);
+    lc_ellipse_opts_default(&t->eo);
+}
+
+static void rig_free(rig *t)
+{
+    lc_region_free(&t->rg);
+    lc_region_ws_free(&t->ws);
+}
+
 typedef struct scene {
     lc_polyset raw;   /* obstacles as seen (convex) */
     lc_polyset grown;
@@ -120,12 +142,8 @@ static void test_random_scenes(void **state)
     lc_rng rng;
     lc_rng_seed(&rng, 2026);
     lc_hull_ctx *hc = lc_hull_new(NULL);
-    lc_region_config cfg;
-    lc_region_config_default(&cfg);
-    lc_ellipse_opts eo;
-    lc_ellipse_opts_default(&eo);
-    lc_region_ws ws = {0};
-    lc_region rg = {0};
+    rig t;
+    rig_init(&t);
     int done = 0, fallback = 0, rounds = 0;
     for (int trial = 0; trial < 400; trial++) {
         scene s;
@@ -147,19 +165,18 @@ static void test_random_scenes(void **state)
                                                lc_rng_uniform(&rng, -3, 3), in.has_waypoint,
                                                in.waypoint, in.blind);
         lc_region_info info;
-        int st = lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL);
+        int st = lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, &info, NULL);
         assert_int_equal(st, LC_OK);
-        check_region(&s, &in, &rg, &info);
+        check_region(&s, &in, &t.rg, &info);
         done++;
         fallback += info.fallback_lines;
-        rounds += rg.rounds;
+        rounds += t.rg.rounds;
         scene_free(&s);
     }
     assert_true(done > 300);
     print_message("region: %d random scenes, %.2f rounds each, %d moved lines\n", done,
                   (double)rounds / done, fallback);
-    lc_region_free(&rg);
-    lc_region_ws_free(&ws);
+    rig_free(&t);
     lc_hull_free(hc);
     LC_GEOS_CHECKED();
 }
@@ -168,20 +185,15 @@ static void test_random_scenes(void **state)
 static void test_empty_frame_is_window(void **state)
 {
     lc_polyset none = {0};
-    lc_region_config cfg;
-    lc_region_config_default(&cfg);
-    lc_ellipse_opts eo;
-    lc_ellipse_opts_default(&eo);
-    lc_region_ws ws = {0};
-    lc_region rg = {0};
+    rig t;
+    rig_init(&t);
     lc_region_input in = {.grown = &none, .centre = {5, -2}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
-    assert_int_equal(rg.nv, 4);
-    assert_near(lc_polygon_area2(rg.v, rg.nv) / 2, 64.0, 1e-9);
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, NULL, NULL), LC_OK);
+    assert_int_equal(t.rg.nv, 4);
+    assert_near(lc_polygon_area2(t.rg.v, t.rg.nv) / 2, 64.0, 1e-9);
     /* The inscribed ellipse of a square is its incircle (docs/REFERENCES.md). */
-    assert_near(lc_ellipse_area(&rg.ellipse), LC_PI * 16.0, 1e-5);
-    lc_region_free(&rg);
-    lc_region_ws_free(&ws);
+    assert_near(lc_ellipse_area(&t.rg.ellipse), LC_PI * 16.0, 1e-5);
+    rig_free(&t);
 }
 
 /*
@@ -263,22 +275,17 @@ static void test_too_close(void **state)
     scene_add(&s, hc, wall, 2);
     lc_vec2 far[2] = {{-3, -2}, {-3, 2}};
     scene_add(&s, hc, far, 2);
-    lc_region_config cfg;
-    lc_region_config_default(&cfg);
-    lc_ellipse_opts eo;
-    lc_ellipse_opts_default(&eo);
-    lc_region_ws ws = {0};
-    lc_region rg = {0};
+    rig t;
+    rig_init(&t);
     lc_region_info info;
     lc_region_input in = {.grown = &s.grown, .centre = {0, 0}, .window = 5.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, &info, NULL),
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, &info, NULL),
                      LC_REGION_TOO_CLOSE);
     assert_int_equal(info.too_close, 1);
-    assert_true(lc_region_contains(&rg, in.centre, 1e-9));
+    assert_true(lc_region_contains(&t.rg, in.centre, 1e-9));
     /* the other wall is still kept out */
-    assert_true(lc_region_margin(&rg, lc_v2(-3 + 0.4, 0)) <= 1e-9);
-    lc_region_free(&rg);
-    lc_region_ws_free(&ws);
+    assert_true(lc_region_margin(&t.rg, lc_v2(-3 + 0.4, 0)) <= 1e-9);
+    rig_free(&t);
     scene_free(&s);
     lc_hull_free(hc);
 }
@@ -342,52 +349,42 @@ static void test_bend_seed(void **state)
     lc_polyset grown = {0};
     const lc_vec2 box[4] = {{0.5, -0.2}, {1.5, -0.2}, {1.5, 2}, {0.5, 2}};
     assert_int_equal(lc_polyset_push(&grown, box, 4, 0), 0);
-    lc_region_config cfg;
-    lc_region_config_default(&cfg);
-    lc_ellipse_opts eo;
-    lc_ellipse_opts_default(&eo);
-    lc_region_ws ws = {0};
-    lc_region rg = {0};
+    rig t;
+    rig_init(&t);
     lc_region_input in = {.grown = &grown, .centre = lc_v2(0, 0), .window = 7.0,
                           .has_waypoint = true, .waypoint = lc_v2(2, 1)};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
-    assert_true(rg.has_goal_seed);
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, NULL, NULL), LC_OK);
+    assert_true(t.rg.has_goal_seed);
     lc_vec2 half = lc_scale(lc_v2(2, 1), 0.5 / sqrt(5.0)); /* 0.5 m toward it */
-    assert_near(rg.goal_seed.x, half.x, 1e-12);
-    assert_near(rg.goal_seed.y, half.y, 1e-12);
+    assert_near(t.rg.goal_seed.x, half.x, 1e-12);
+    assert_near(t.rg.goal_seed.y, half.y, 1e-12);
     in.has_bend = true;
     in.bend = lc_v2(1.0, -0.5);
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
-    assert_true(rg.has_goal_seed && rg.goal_seed.x == 1.0 && rg.goal_seed.y == -0.5);
-    assert_true(lc_region_margin(&rg, in.bend) >= -1e-9);
-    assert_true(lc_region_margin(&rg, in.centre) >= -1e-9);
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, NULL, NULL), LC_OK);
+    assert_true(t.rg.has_goal_seed && t.rg.goal_seed.x == 1.0 && t.rg.goal_seed.y == -0.5);
+    assert_true(lc_region_margin(&t.rg, in.bend) >= -1e-9);
+    assert_true(lc_region_margin(&t.rg, in.centre) >= -1e-9);
     in.bend = lc_v2(1.0, 0.5); /* in the box */
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL), LC_OK);
-    assert_near(rg.goal_seed.x, half.x, 1e-12);
-    assert_near(rg.goal_seed.y, half.y, 1e-12);
-    lc_region_free(&rg);
-    lc_region_ws_free(&ws);
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, NULL, NULL), LC_OK);
+    assert_near(t.rg.goal_seed.x, half.x, 1e-12);
+    assert_near(t.rg.goal_seed.y, half.y, 1e-12);
+    rig_free(&t);
     lc_polyset_free(&grown);
 }
 
 static void test_bad_input(void **state)
 {
     lc_polyset none = {0};
-    lc_region_config cfg;
-    lc_region_config_default(&cfg);
-    lc_ellipse_opts eo;
-    lc_ellipse_opts_default(&eo);
-    lc_region_ws ws = {0};
-    lc_region rg = {0};
+    rig t;
+    rig_init(&t);
     lc_region_input in = {.grown = &none, .centre = {NAN, 0}, .window = 4.0};
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL),
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, NULL, NULL),
                      LC_ERR_BAD_INPUT);
     in.centre = lc_v2(0, 0);
     in.window = 0;
-    assert_int_equal(lc_region_inflate(&in, &cfg, &eo, &ws, &rg, NULL, NULL),
+    assert_int_equal(lc_region_inflate(&in, &t.cfg, &t.eo, &t.ws, &t.rg, NULL, NULL),
                      LC_ERR_BAD_INPUT);
-    lc_region_free(&rg);
-    lc_region_ws_free(&ws);
+    rig_free(&t);
 }
 
 int main(void)

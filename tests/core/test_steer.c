@@ -376,6 +376,41 @@ static void test_body_workspace_corner(void **state)
     lc_polyset_free(&seen);
 }
 
+/* The turn-in-place scenes: a 1.0 x 0.5 m body, and a post beyond its
+ * front left corner. */
+static const lc_vec2 turn_body[4] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
+static const lc_vec2 turn_post[4] = {{0.33, 0.47}, {0.37, 0.47}, {0.37, 0.51}, {0.33, 0.51}};
+
+/*
+ * 200 steps of 0.05 s of lc_steer_turn_in_place from rest at the origin,
+ * heading 0, the default motion parameters, toward target, each within the turn-rate limit; with post,
+ * the body keeps `keep` off its corners at every step. The angle turned.
+ */
+static double turn_steps(const lc_robot *robot, lc_steer_ws *ws, const lc_polyset *seen,
+                         const lc_polyset *frontier, double pad, lc_vec2 target,
+                         const lc_vec2 *post, double keep)
+{
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    lc_pose pose = {0, 0, 0};
+    lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE);
+    double turned = 0;
+    for (int k = 0; k < 200; k++) {
+        lc_setpoint out = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
+        lc_steer_input in = {.robot = robot, .params = &mp, .obstacles = seen,
+                             .frontier = frontier, .frontier_pad = pad, .pose = pose,
+                             .target = target, .last = &last, .dt = 0.05};
+        assert_int_equal(lc_steer_turn_in_place(&in, ws, &out), 0);
+        assert_true(fabs(out.w - last.w) <= robot->dw_max * 0.05 + 1e-12);
+        pose.yaw += out.w * 0.05;
+        turned += out.w * 0.05;
+        last = out;
+        for (int i = 0; i < 4 && post; i++)
+            assert_true(body_gap(robot, pose, post[i]) >= keep - 1e-9);
+    }
+    return turned;
+}
+
 /*
  * too_close, a polygon footprint: a 1.0 x 0.5 m body with a post beyond
  * its front left corner. Turning left toward a target there would sweep
@@ -386,31 +421,14 @@ static void test_body_workspace_corner(void **state)
 static void test_body_turn_in_place(void **state)
 {
     (void)state;
-    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
-    lc_robot robot = body_robot(rect, 4);
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    const lc_vec2 post[4] = {{0.33, 0.47}, {0.37, 0.47}, {0.37, 0.51}, {0.33, 0.51}};
+    lc_robot robot = body_robot(turn_body, 4);
+    const lc_vec2 *post = turn_post;
     lc_polyset seen = {0};
     assert_int_equal(lc_polyset_push(&seen, post, 4, 0), 0);
     lc_steer_ws ws = {0};
     for (int side = 0; side < 2; side++) {
-        lc_pose pose = {0, 0, 0};
-        lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE);
-        double turned = 0;
-        for (int k = 0; k < 200; k++) {
-            lc_setpoint out = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
-            lc_steer_input in = {.robot = &robot, .params = &mp, .obstacles = &seen,
-                                 .pose = pose, .target = lc_v2(0, side ? -1 : 1), .last = &last,
-                                 .dt = 0.05};
-            assert_int_equal(lc_steer_turn_in_place(&in, &ws, &out), 0);
-            assert_true(fabs(out.w - last.w) <= robot.dw_max * 0.05 + 1e-12);
-            pose.yaw += out.w * 0.05;
-            turned += out.w * 0.05;
-            last = out;
-            for (int i = 0; i < 4; i++)
-                assert_true(body_gap(&robot, pose, post[i]) >= robot.margin - 1e-9);
-        }
+        double turned = turn_steps(&robot, &ws, &seen, NULL, 0.0, lc_v2(0, side ? -1 : 1),
+                                   post, robot.margin);
         if (side == 0)
             assert_true(turned > 0.05 && turned < 0.6); /* stopped short of the post */
         else
@@ -431,32 +449,15 @@ static void test_body_turn_in_place(void **state)
 static void test_body_turn_frontier(void **state)
 {
     (void)state;
-    const lc_vec2 rect[] = {{0.5, -0.25}, {0.5, 0.25}, {-0.5, 0.25}, {-0.5, -0.25}};
-    lc_robot robot = body_robot(rect, 4);
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    const lc_vec2 post[4] = {{0.33, 0.47}, {0.37, 0.47}, {0.37, 0.51}, {0.33, 0.51}};
+    lc_robot robot = body_robot(turn_body, 4);
+    const lc_vec2 *post = turn_post;
     const double pad = 0.5 * sqrt(2.0) * 0.05;
     lc_polyset none = {0}, unknown = {0};
     assert_int_equal(lc_polyset_push(&unknown, post, 4, 0), 0);
     lc_steer_ws ws = {0};
     for (int with = 0; with < 2; with++) {
-        lc_pose pose = {0, 0, 0};
-        lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE);
-        double turned = 0;
-        for (int k = 0; k < 200; k++) {
-            lc_setpoint out = lc_setpoint_stop(LC_LIMIT_TOO_CLOSE);
-            lc_steer_input in = {.robot = &robot, .params = &mp, .obstacles = &none,
-                                 .frontier = with ? &unknown : NULL, .frontier_pad = pad,
-                                 .pose = pose, .target = lc_v2(0, 1), .last = &last,
-                                 .dt = 0.05};
-            assert_int_equal(lc_steer_turn_in_place(&in, &ws, &out), 0);
-            pose.yaw += out.w * 0.05;
-            turned += out.w * 0.05;
-            last = out;
-            for (int i = 0; i < 4 && with; i++)
-                assert_true(body_gap(&robot, pose, post[i]) >= robot.margin + pad - 1e-9);
-        }
+        double turned = turn_steps(&robot, &ws, &none, with ? &unknown : NULL, pad,
+                                   lc_v2(0, 1), with ? post : NULL, robot.margin + pad);
         if (with)
             assert_true(turned > 0.05 && turned < 0.6); /* stopped short */
         else
