@@ -174,6 +174,26 @@ void lc_guide_refuse(lc_guide *g, lc_vec2 at, double radius)
     g->search_now = true;
 }
 
+bool lc_guide_doubt_ahead(const lc_guide *g, const lc_memory *m, const lc_guide_path *p,
+                          lc_vec2 c, double from, double upto, double clearance, lc_vec2 *at)
+{
+    if (p->status != LC_GUIDE_PATH || p->n < 2 || !(upto >= from))
+        return false;
+    double step = g->mem_cell;
+    int k = (int)ceil((upto - from) / step);
+    for (int i = 0; i <= k; i++) {
+        lc_vec2 q = lc_guide_ahead(p, c, fmin(from + i * step, upto), NULL);
+        if (lc_memory_state(m, q) == LC_CELL_UNKNOWN ||
+            lc_memory_nearest(m, q, clearance + TIGHT) < clearance + TIGHT) {
+            *at = q;
+            return true;
+        }
+        if (lc_dist(q, p->v[p->n - 1]) < 1e-9)
+            break; /* the path's end */
+    }
+    return false;
+}
+
 /* p lies in a refused spot; a spot that (with the escape) holds the robot
  * no longer counts: the robot has got there after all. */
 static bool refused_at(const lc_guide *g, lc_vec2 start, double escape, lc_vec2 p)

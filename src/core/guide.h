@@ -138,6 +138,20 @@ void lc_guide_reset(lc_guide *g);
 void lc_guide_refuse(lc_guide *g, lc_vec2 at, double radius);
 
 /*
+ * Where a path the robot cannot follow is in doubt: along path p from the
+ * point `from` metres past the robot's nearest point (robot c) up to
+ * `upto` metres past it, the first point (in steps of a memory cell) that
+ * the memory does not know or that lies within the tight band of the
+ * clearance (clearance + 5 cm) of a remembered return: a shadow a wall
+ * was not seen in, a gap the cells make look wide enough. A stalled robot
+ * refuses that spot rather than the first one past its region, which may
+ * be a passage that is wide enough (the way the robot needs next). True
+ * with *at; false when the path is known and roomy that far.
+ */
+bool lc_guide_doubt_ahead(const lc_guide *g, const lc_memory *m, const lc_guide_path *p,
+                          lc_vec2 c, double from, double upto, double clearance, lc_vec2 *at);
+
+/*
  * Where the robot can look, world frame: directions within half[i] of
  * mid[i] for some i. A robot that turns to face its way (the unicycle)
  * looks everywhere it goes; one that never turns (the point model, its

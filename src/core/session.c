@@ -505,6 +505,7 @@ static void hug_path(const lc_region *r, const lc_guide_path *p, lc_vec2 c, lc_p
  * the watch over, as it does the patrol's.
  */
 #define LC_SESSION_STALL_PROGRESS 0.3 /* m along the path per stall time, at least */
+#define LC_SESSION_DOUBT_AHEAD 2.0    /* m past the region searched for a doubtful spot */
 
 static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, lc_vec2 c,
                         lc_vec2 target)
@@ -525,11 +526,16 @@ static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, l
          * it heads back along its path (motion.c): not a stall */
         s->stall_stamp = stamp;
     } else if (stamp - s->stall_stamp >= s->cfg.guide.stall) {
-        /* where the path leaves the region, but never so near that the
-         * refused disc would hold the robot itself */
+        /* where the path turns doubtful past the region (unknown space, a
+         * tight gap) within LC_SESSION_DOUBT_AHEAD, else where it leaves
+         * the region; never so near that the refused disc would hold the
+         * robot itself */
         double r = guide_clearance(s);
         double ahead = lc_max(lc_dist(c, target), r + 0.2);
-        lc_vec2 spot = lc_guide_ahead(s->path_ref, c, ahead, NULL);
+        lc_vec2 spot;
+        if (!lc_guide_doubt_ahead(s->guide, s->mem, s->path_ref, c, ahead,
+                                  ahead + LC_SESSION_DOUBT_AHEAD, r, &spot))
+            spot = lc_guide_ahead(s->path_ref, c, ahead, NULL);
         lc_guide_refuse(s->guide, spot, r);
         s->stall_best = way->to_go;
         s->stall_stamp = stamp;

@@ -886,6 +886,52 @@ static void test_ahead(void **state)
     assert_near(rest, 0, 1e-12);
 }
 
+/*
+ * lc_guide_doubt_ahead: where a path the robot cannot follow turns
+ * doubtful. A short wall from (2, 1) to (3, 1) above a path along the x
+ * axis that turns up at x = 4, seen from the origin only: its shadow
+ * meets x = 4 from y = 4/3 up (the ray through the wall's far end, a
+ * closed form), and that is the first doubtful point, within a memory cell
+ * or two (the cells the shadow's edge cuts). A post beside the path
+ * (0.3 m off it, a 16-gon of radius 0.02) makes the points within the
+ * clearance and 5 cm of it doubtful: from about x = 1 - sqrt(0.4^2 -
+ * 0.3^2) on, bounded by the same closed form for the post's nearest and
+ * farthest points and the walk's step.
+ */
+static void test_doubt_ahead(void **state)
+{
+    (void)state;
+    scene s;
+    scene_init(&s);
+    scene_wall(&s.w, lc_v2(2, 1), lc_v2(3, 1));
+    lc_vec2 from[] = {{0, 0}};
+    scene_ready(&s, from, 1);
+    const lc_vec2 v[] = {{0, 0}, {4, 0}, {4, 3}};
+    lc_guide_path p = hand_path(v, 3);
+    lc_vec2 at = {0, 0};
+    assert_true(lc_guide_doubt_ahead(s.g, s.m, &p, lc_v2(0, 0), 0.5, 8.0, CLEAR, &at));
+    assert_near(at.x, 4, 1e-9);
+    assert_near(at.y, 4.0 / 3.0, 0.1);
+    /* not that far along: nothing in doubt */
+    assert_false(lc_guide_doubt_ahead(s.g, s.m, &p, lc_v2(0, 0), 0.5, 5.0, CLEAR, &at));
+    /* no path: nothing */
+    lc_guide_path none = hand_path(v, 0);
+    assert_false(lc_guide_doubt_ahead(s.g, s.m, &none, lc_v2(0, 0), 0.5, 8.0, CLEAR, &at));
+    scene_free(&s);
+
+    scene_init(&s);
+    scene_post(&s.w, lc_v2(1, -0.3), 0.02);
+    scene_ready(&s, from, 1);
+    assert_true(lc_guide_doubt_ahead(s.g, s.m, &p, lc_v2(0, 0), 0.2, 8.0, CLEAR, &at));
+    /* every return lies on the post, 0.28 to 0.32 m off the path, x within
+     * 0.02 of 1; the walk steps a memory cell (0.05 m) */
+    double band = CLEAR + 0.05;
+    assert_true(at.x >= 1.0 - 0.02 - sqrt(band * band - 0.28 * 0.28) - 1e-9);
+    assert_true(at.x <= 1.0 + 0.02 - sqrt(band * band - 0.32 * 0.32) + 0.05 + 1e-9);
+    assert_near(at.y, 0, 1e-9);
+    scene_free(&s);
+}
+
 /* lc_guide_bend_ahead on paths written here: the first vertex after the
  * robot's place at least `near` from it, within dist along the path, never
  * the path's end. */
@@ -930,6 +976,7 @@ int main(void)
         cmocka_unit_test(test_tolerance_zero),
         cmocka_unit_test(test_ahead),
         cmocka_unit_test(test_bend_ahead),
+        cmocka_unit_test(test_doubt_ahead),
         cmocka_unit_test(test_round_the_edge),
         cmocka_unit_test(test_sliced),
         cmocka_unit_test(test_out_of_memory),
