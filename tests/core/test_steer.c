@@ -216,6 +216,45 @@ static void test_standoff_passage_unicycle(void **state)
     lc_steer_ws_free(&ws);
 }
 
+/*
+ * A point robot at full speed down an aisle between two crates whose
+ * grown corners lie 0.3 m ahead, 0.15 m to either side (0.335 m off,
+ * diagonally): the region is the strip between them, 5 m long. Lines at
+ * the standoff across the direction to each corner left 0.33 m of room
+ * ahead and braked it; the region's own lines moved in keep it at v_max,
+ * as braking within the strip allows (v dt + v^2 / 2 a_max = 0.68 m of
+ * the 4.96 m ahead: a closed form).
+ */
+static void test_aisle_speed(void **state)
+{
+    (void)state;
+    lc_robot robot;
+    lc_robot_default(&robot);
+    lc_motion_params mp;
+    lc_motion_params_default(&mp);
+    lc_polyset grown = {0};
+    const lc_vec2 up[4] = {{0.3, 0.15}, {1.3, 0.15}, {1.3, 1.15}, {0.3, 1.15}};
+    const lc_vec2 down[4] = {{0.3, -1.15}, {1.3, -1.15}, {1.3, -0.15}, {0.3, -0.15}};
+    assert_int_equal(lc_polyset_push(&grown, up, 4, 0), 0);
+    assert_int_equal(lc_polyset_push(&grown, down, 4, 0), 0);
+    lc_halfspace strip[4] = {{{1, 0}, 5}, {{-1, 0}, 1}, {{0, 1}, 0.15}, {{0, -1}, 0.15}};
+    lc_region r;
+    memset(&r, 0, sizeof r);
+    r.h = strip;
+    r.nh = 4;
+    r.ellipse = (lc_ellipse){3, 0, 0.15, lc_v2(2, 0)};
+    lc_setpoint last = {.vx = robot.v_max, .limit = LC_LIMIT_TOP_SPEED}, out;
+    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(4, 0),
+                                    &last);
+    lc_steer_ws ws = {0};
+    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    assert_near(out.vx, robot.v_max, 1e-9);
+    assert_near(out.vy, 0.0, 1e-9);
+    assert_int_not_equal(out.limit, LC_LIMIT_BRAKING);
+    lc_steer_ws_free(&ws);
+    lc_polyset_free(&grown);
+}
+
 static void *refuse(void *data, void *p, size_t n)
 {
     (void)data;
@@ -474,6 +513,7 @@ int main(void)
         cmocka_unit_test(test_standoff_point),
         cmocka_unit_test(test_standoff_passage),
         cmocka_unit_test(test_standoff_passage_unicycle),
+        cmocka_unit_test(test_aisle_speed),
         cmocka_unit_test(test_no_memory),
         cmocka_unit_test(test_body_workspace_corner),
         cmocka_unit_test(test_body_turn_in_place),
