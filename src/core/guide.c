@@ -41,6 +41,11 @@ enum { ST_OPEN = 1, ST_DONE = 2 };
 #define TIGHT 0.05     /* m */
 #define TIGHT_COST 8.0
 
+/* A path that passes nearer a remembered return than this share of the
+ * clearance goes through an obstacle, not past it: priced now (to weigh it
+ * against a new one), it has no cost at all. */
+#define THROUGH 0.5
+
 
 void lc_guide_config_default(lc_guide_config *cfg)
 {
@@ -680,8 +685,15 @@ static double cost_now(lc_guide *g, const search_ctx *c, const lc_guide_path *p,
                 continue;
             }
             int cls = classify_point(g, c, s);
-            if ((cls & 0x0f) == CLS_CLOSED)
+            if ((cls & 0x0f) == CLS_CLOSED) {
+                /* through an obstacle (a wall seen since across the way,
+                 * its far end a dead end): no way at all; else a graze
+                 * (cells flicker at the clearance's edge), priced tight */
+                if (lc_dist(s, c->start) > c->escape &&
+                    lc_guide_nearest(g, s, c->R) < THROUGH * c->R)
+                    return INFINITY;
                 cls = (cls & CLS_UNKNOWN) | CLS_TIGHT;
+            }
             bool unseen = blind > 1.0 && ((cls & CLS_UNKNOWN) || body_unknown_at(c, s));
             cost += len / m * factor(g, cls) * (unseen ? blind : 1.0);
         }

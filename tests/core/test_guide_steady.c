@@ -132,6 +132,52 @@ static void test_hysteresis(void **state)
     scene_free(&s);
 }
 
+/*
+ * A path through a wall seen since, beyond check_ahead (so not found
+ * closed ahead): the first search, knowing 2 m round the robot, goes
+ * straight to the waypoint 7 m off; then a wall across the way 4 m ahead
+ * (x = 4, |y| <= 6) is seen. The way round its end costs more than the
+ * old path's rest would with the wall priced as a graze (8 times its
+ * 0.7 m), which hysteresis kept, and the robot drove to the wall before
+ * it found out (a dead end's far wall). A path through an obstacle has no
+ * cost: the next search's way round replaces it. Closed form: the way
+ * round passes the wall's end at the clearance, |y| >= 6 + R less a
+ * search cell.
+ */
+static void test_through_wall(void **state)
+{
+    (void)state;
+    lc_world open, wall;
+    lc_world_init(&open);
+    lc_world_init(&wall);
+    scene_wall(&wall, lc_v2(4, -6), lc_v2(4, 6));
+    lc_vec2 robot = lc_v2(0, 0), wp = lc_v2(7, 0);
+    lc_memory *m = scene_new_memory();
+    scene_see(m, &open, robot, 1.0, 2.0);
+    lc_guide_config gc;
+    lc_guide_config_default(&gc);
+    gc.travel = 0;
+    lc_guide *g = scene_new_guide(&gc, NULL);
+    lc_guide_info info;
+    const lc_guide_path *p = scene_step(g, m, robot, wp, 0.2, &info);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_near(scene_crossing_y(p, 4.0), 0.0, 1e-6); /* straight through */
+    scene_see(m, &wall, robot, 2.0, 12.0);
+    int searched = 0;
+    for (int k = 0; k < 2 * gc.every; k++) {
+        p = scene_step(g, m, robot, wp, 0.2, &info);
+        assert_false(info.blocked_ahead); /* the wall lies beyond check_ahead */
+        searched += info.searched;
+    }
+    assert_true(searched >= 1);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(fabs(scene_crossing_y(p, 4.0)) >= 6 + CLEAR - gc.cell);
+    lc_guide_free(g);
+    lc_memory_free(m);
+    lc_world_free(&wall);
+    lc_world_free(&open);
+}
+
 /* ------------------------------------------------------------- cadence */
 
 /* A seeded run: the robot wanders (steps of 0 to 8 cm, sometimes none),
@@ -379,6 +425,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_no_path),
         cmocka_unit_test(test_hysteresis),
+        cmocka_unit_test(test_through_wall),
         cmocka_unit_test(test_cadence),
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_refusals),
