@@ -459,8 +459,14 @@ static int guide_frame(lc_session *s, lc_pose pose, lc_vec2 wp, lc_vec2 *seek,
  * the path turns through a narrow gap that seed can give a needle of a
  * region along the seed's line that the path leaves at once (a unicycle
  * in a doorway, off the path's line, was held there for good). When the
- * target is that near, the region is inflated again from the robot alone,
- * and kept when the path's target in it lies farther along the path.
+ * target is that near, the path is first followed just inside the
+ * region's edge (hug_path); if the target is still that near, the region
+ * is inflated again from the robot alone, and kept when the path's target
+ * in it (hugged too) lies farther along the path. In that order: at a
+ * gap's mouth the unseeded region is the room behind the robot, and taken
+ * for a target a hair farther along than the seeded region's unhugged one,
+ * it alternated with the gap from frame to frame and a unicycle turned
+ * back and forth there until blocked (tests/tools/regress/crate_gap).
  */
 #define LC_SESSION_SHORT_REACH 0.25 /* m */
 
@@ -470,8 +476,13 @@ static void retry_unseeded(lc_session *s, const lc_frame *f, lc_vec2 seek, lc_pa
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
     if (plan_region(s, f, true, seek, false, &s->region_alt, out) != LC_OK)
         return;
-    double rest;
-    lc_vec2 target = lc_follow_target(&s->region_alt, out->path, c, &rest);
+    double rest, hug_rest;
+    lc_vec2 target = lc_follow_target(&s->region_alt, out->path, c, &rest), hug;
+    if (lc_dist(target, c) < LC_SESSION_SHORT_REACH &&
+        lc_follow_hug(&s->region_alt, out->path, c, target, &hug, &hug_rest)) {
+        target = hug;
+        rest = hug_rest;
+    }
     if (!(rest < way->to_go_target - 1e-9))
         return;
     lc_region t = s->region;
@@ -669,9 +680,9 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         if (has_wp && way.guided) {
             out->target = lc_follow_target(&s->region, out->path, c, &way.to_go_target);
             if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)
-                retry_unseeded(s, frame, seek, &way, out);
-            if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)
                 hug_path(&s->region, out->path, c, &way, out);
+            if (rc == LC_OK && lc_dist(out->target, c) < LC_SESSION_SHORT_REACH)
+                retry_unseeded(s, frame, seek, &way, out);
             s->path_ref = out->path;
             watch_stall(s, frame->stamp, &way, c, out->target);
         }

@@ -155,6 +155,34 @@ static void test_untuned_scenes(void **state)
     assert_true(n >= 4);
 }
 
+/*
+ * Scenes that once failed (tests/tools/regress), each header naming what
+ * went wrong: both models end done, with no collision.
+ */
+static void test_regress_scenes(void **state)
+{
+    static char paths[64][LC_TEST_PATH_MAX];
+    int n = lc_test_jsonl_files("tests/tools/regress", paths, 64);
+    for (int f = 0; f < n; f++) {
+        const char *path = paths[f], *name = strrchr(path, '/') + 1;
+        for (int m = 0; m < 2; m++) {
+            const char *model = m ? "unicycle" : "point";
+            char args[1200];
+            snprintf(args, sizeof args, "sim '%.1023s' --json --model %s", path, model);
+            lc_test_lacuna(args);
+            cJSON *j = lc_test_result();
+            print_message("%-18s %-8s %s sim_time=%.2f min_clearance=%.3f\n", name, model,
+                          lc_test_str(j, "outcome"), lc_test_num(j, "sim_time"),
+                          lc_test_num(j, "min_clearance"));
+            assert_int_equal((int)lc_test_num(j, "collisions"), 0);
+            if (strcmp(lc_test_str(j, "outcome"), "done") != 0)
+                fail_msg("%s as %s: outcome %s", name, model, lc_test_str(j, "outcome"));
+            cJSON_Delete(j);
+        }
+    }
+    assert_true(n >= 1);
+}
+
 static void test_corridor_closed_form(void **state)
 {
     corridor(lc_test_tmp("corridor.jsonl"), "point", "[0,0,0]", 6);
@@ -407,6 +435,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_every_shipped_scenario),
         cmocka_unit_test(test_untuned_scenes),
+        cmocka_unit_test(test_regress_scenes),
         cmocka_unit_test(test_corridor_closed_form),
         cmocka_unit_test(test_unicycle_turns_and_arrives),
         cmocka_unit_test(test_looping_route_ends_after_one_lap),
