@@ -807,6 +807,42 @@ static int job_next(lc_guide *g, int end)
     }
 }
 
+/*
+ * A way found to a waypoint inside the window may cost more than a way
+ * round the window's edge would: a corridor the edge cuts off, the
+ * waypoint just inside the edge beyond it, while the way found within
+ * crosses unknown space the robot cannot look into. Worth the runs from
+ * the waypoint to the edge and the robot's to it (JOB_BACK, JOB_EDGE)
+ * when the way found costs more than the least any way round could: the
+ * straight line to a border cell and unknown_cost times the straight line
+ * on to the waypoint.
+ */
+static bool edge_may_pay(const lc_guide *g, double cost)
+{
+    if (cell_of(g, g->job_goal) < 0)
+        return false; /* outside the window: the edge is the way already */
+    double least = INFINITY;
+    for (int i = 0; i < g->n; i++)
+        for (int side = 0; side < 4; side++) {
+            int u = side < 2 ? i : (side == 2 ? 0 : g->n - 1);
+            int v = side < 2 ? (side == 0 ? 0 : g->n - 1) : i;
+            lc_vec2 b = centre_of(g, v * g->n + u);
+            least = fmin(least, lc_dist(g->job_start, b) +
+                                    g->cfg.unknown_cost * lc_dist(b, g->job_goal));
+        }
+    return cost > least;
+}
+
+/* The goal point of a way that ends at cell `end` (or the outside node):
+ * the waypoint when that is within reach. */
+static lc_vec2 way_goal(const lc_guide *g, int end, bool round_edge)
+{
+    lc_vec2 goal_pt = round_edge            ? centre_of(g, g->parent[end])
+                      : end == g->n * g->n ? g->job_goal
+                                           : centre_of(g, end);
+    return lc_dist(goal_pt, g->job_goal) <= g->job_reach ? g->job_goal : goal_pt;
+}
+
 #define SLICES_MAX 20 /* a main run still going after this many slices runs whole */
 
 /* Runs the search on, at most `budget` cells (0: no limit). true when it
@@ -843,9 +879,24 @@ static bool job_run(lc_guide *g, const lc_memory *m, int budget, int *end, bool 
         if (r == ASTAR_PAUSED)
             return false;
         int next = job_next(g, r);
+        if (next == 0 && r >= 0 && !edge && !g->job_has_alt && edge_may_pay(g, g->g[r])) {
+            /* keep this way (built now: the runs after it reuse the
+             * search's cells) and look round the edge */
+            build_path(g, &c, r, way_goal(g, r, false), g->g[r]);
+            g->alt = g->cand;
+            g->job_has_alt = true;
+            g->job_alt_end = r;
+            g->job_alt_cost = g->g[r];
+            next = JOB_BACK;
+        }
+        if (next == 0 && g->job_has_alt &&
+            !(g->job == JOB_EDGE && r >= 0 && g->g[r] < g->job_alt_cost)) {
+            g->job_use_alt = true; /* no way round, or none cheaper */
+            r = g->job_alt_end;
+        }
         if (next == 0) {
             *end = r;
-            *round_edge = g->job == JOB_EDGE && r >= 0;
+            *round_edge = g->job == JOB_EDGE && r >= 0 && !g->job_use_alt;
             if (budget > 0 && used > 0) {
                 /* sliced: the path is built on the next frame, which
                  * does that alone (it costs about as much as a slice) */
@@ -923,6 +974,7 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
         g->job_reach = fmax(tolerance, 0.5 * sqrt(2.0) * g->cfg.cell + 1e-9);
         memcpy(g->job_blind, c.blind, sizeof c.blind);
         g->job_expanded = 0;
+        g->job_has_alt = g->job_use_alt = false;
         g->has_goal = true;
         g->goal = waypoint;
     }
@@ -960,16 +1012,15 @@ int lc_guide_update(lc_guide *g, const lc_memory *m, lc_vec2 robot, lc_vec2 wayp
             g->path = g->cand;
         } else {
             g->doubt = false;
-            /* round the edge: the way ends where it leaves the window
-             * (on to the waypoint is unknown, not a straight line) */
-            lc_vec2 goal_pt = round_edge ? centre_of(g, g->parent[end])
-                              : end == g->n * g->n ? waypoint
-                                                   : centre_of(g, end);
-            if (lc_dist(goal_pt, waypoint) <= g->job_reach)
-                goal_pt = waypoint;
-            build_path(g, &c, end, goal_pt, g->g[end]);
-            if (round_edge)
-                g->cand.goal = waypoint; /* beyond the way's end, unknown */
+            if (g->job_use_alt) {
+                g->cand = g->alt; /* built when it was found */
+            } else {
+                /* round the edge: the way ends where it leaves the window
+                 * (on to the waypoint is unknown, not a straight line) */
+                build_path(g, &c, end, way_goal(g, end, round_edge), g->g[end]);
+                if (round_edge)
+                    g->cand.goal = waypoint; /* beyond the way's end, unknown */
+            }
             /* a way round the window's edge toward a goal now inside it
              * (the window moved on) ends where nothing is: the new
              * search's way replaces it */

@@ -62,6 +62,14 @@ struct lc_guide {
     int job_expanded;
     int job_end;          /* JOB_FINISH: the search's end, built on the next frame */
     bool job_round_edge;
+    /* a way found within the window that costs more than a way round its
+     * edge might (guide.c `edge_may_pay`): built at once, kept here while
+     * the way round is sought, and the search's answer unless that costs
+     * less */
+    bool job_has_alt, job_use_alt;
+    int job_alt_end;
+    double job_alt_cost;
+    lc_guide_path alt;
 };
 
 /* A new search over memory m: every bucket to be filled again. */

@@ -239,18 +239,26 @@ static void test_through_gap(void **state)
  * cage (closed all round within the window) has no way at all: blocked,
  * not sent round the edge.
  */
+/* The corridor of the two tests below, its near end (x = -2) closed or
+ * open, seen from (0, 0) and (3, 0). */
+static void edge_corridor(scene *s, bool closed)
+{
+    scene_init(s);
+    scene_wall(&s->w, lc_v2(-2, -1), lc_v2(12, -1));
+    scene_wall(&s->w, lc_v2(-2, 1), lc_v2(10, 1));
+    scene_wall(&s->w, lc_v2(-2, 1.2), lc_v2(10, 1.2)); /* the dividing wall's far side */
+    scene_wall(&s->w, lc_v2(10, 1), lc_v2(10, 1.2));
+    if (closed)
+        scene_wall(&s->w, lc_v2(-2, -1), lc_v2(-2, 1));
+    lc_vec2 from[] = {{0, 0}, {3, 0}};
+    scene_ready(s, from, 2);
+}
+
 static void test_round_the_edge(void **state)
 {
     (void)state;
     scene s;
-    scene_init(&s);
-    scene_wall(&s.w, lc_v2(-2, -1), lc_v2(12, -1));
-    scene_wall(&s.w, lc_v2(-2, 1), lc_v2(10, 1));
-    scene_wall(&s.w, lc_v2(-2, 1.2), lc_v2(10, 1.2)); /* the dividing wall's far side */
-    scene_wall(&s.w, lc_v2(10, 1), lc_v2(10, 1.2));
-    scene_wall(&s.w, lc_v2(-2, -1), lc_v2(-2, 1));
-    lc_vec2 from[] = {{0, 0}, {3, 0}};
-    scene_ready(&s, from, 2);
+    edge_corridor(&s, true);
     lc_vec2 robot = lc_v2(0, 0), wp = lc_v2(2, 4);
     assert_int_equal(lc_memory_state(s.m, wp), LC_CELL_UNKNOWN);
     const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
@@ -277,6 +285,40 @@ static void test_round_the_edge(void **state)
     scene_ready(&s, around, 5);
     p = scene_update(&s, robot, lc_v2(4, 0), 0.2);
     assert_int_equal(p->status, LC_GUIDE_NO_PATH);
+    scene_free(&s);
+}
+
+/*
+ * The way round the window's edge against a dearer way within it: the
+ * corridor of test_round_the_edge with its near end open, the waypoint
+ * (7.5, 3) just inside the window's edge (x = 8) above the dividing wall.
+ * Within the window a way goes out of the corridor's open end and back
+ * above the wall through unknown space, some 14 m at unknown_cost; round
+ * the edge it is 8 m of known corridor and 2.5 m of unknown beyond (the
+ * straight line from the border on, at unknown_cost). The search takes
+ * the way round the edge: along the corridor to its end at the edge.
+ */
+static void test_edge_cheaper(void **state)
+{
+    (void)state;
+    scene s;
+    edge_corridor(&s, false);
+    lc_vec2 robot = lc_v2(0, 0), wp = lc_v2(7.5, 3);
+    const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_true(p->projected);
+    assert_true(scene_same(p->goal, wp));
+    lc_vec2 end = p->v[p->n - 1];
+    assert_true(end.x > 7.5 && fabs(end.y) < 1.0);
+    for (int k = 0; k < p->n; k++)
+        assert_true(fabs(p->v[k].y) < 1.0);
+    /* the waypoint farther in (2, 3): the way out of the corridor's open
+     * end and back above the wall is the cheaper, and stays in the window */
+    scene_guide(&s);
+    p = scene_update(&s, robot, lc_v2(2, 3), 0.2);
+    assert_int_equal(p->status, LC_GUIDE_PATH);
+    assert_false(p->projected);
+    assert_true(p->v[p->n - 1].y > 1.2);
     scene_free(&s);
 }
 
@@ -978,6 +1020,7 @@ int main(void)
         cmocka_unit_test(test_bend_ahead),
         cmocka_unit_test(test_doubt_ahead),
         cmocka_unit_test(test_round_the_edge),
+        cmocka_unit_test(test_edge_cheaper),
         cmocka_unit_test(test_sliced),
         cmocka_unit_test(test_out_of_memory),
     };
