@@ -166,7 +166,12 @@ async def test_closed_loop_and_watchdog(srv):
     FIGURES["watchdog_period_ms"] = [round(p * 1e3, 1) for p in periods]
     if not SLOW:  # under valgrind the clock bands mean nothing; the stale stops must still come
         check(0.1 <= first <= 0.8, "first stale after %.0f ms (band 100-800)" % (first * 1e3))
-        check(all(0.1 <= p <= 0.6 for p in periods), "stale period %s (band 100-600 ms)" % periods)
+        # once per watchdog period: a late wake-up may be followed by the next
+        # stop on its own schedule (seen: 339 then 61 ms), so the band holds
+        # for the mean period, and no gap may exceed its top
+        mean = (times[-1] - times[0]) / len(periods)
+        check(0.1 <= mean <= 0.6 and max(periods) <= 0.6,
+              "stale period %s, mean %.3f (band 100-600 ms)" % (periods, mean))
     # frames resume: a normal setpoint again
     await ws.send(json.dumps(far_scan(last_seq + 1, (last_seq + 40) * 0.05)))
     m = await recv_type(ws, "setpoint")
