@@ -36,6 +36,46 @@ static lc_region box_region(lc_vec2 c, double h)
     return r;
 }
 
+/* The strip x0 <= x <= x1, |y| <= half as a region, its ellipse the one
+ * inscribed in it. */
+static lc_halfspace strip_h[4];
+static lc_region strip_region(double x0, double x1, double half)
+{
+    strip_h[0] = (lc_halfspace){{1, 0}, x1};
+    strip_h[1] = (lc_halfspace){{-1, 0}, -x0};
+    strip_h[2] = (lc_halfspace){{0, 1}, half};
+    strip_h[3] = (lc_halfspace){{0, -1}, half};
+    lc_region r;
+    memset(&r, 0, sizeof r);
+    r.h = strip_h;
+    r.nh = 4;
+    r.ellipse = (lc_ellipse){0.5 * (x1 - x0), 0, half, lc_v2(0.5 * (x0 + x1), 0)};
+    return r;
+}
+
+/* What most drive tests set up: a default robot of the given model, the
+ * default motion parameters, the grown obstacles and a workspace. */
+typedef struct rig {
+    lc_robot robot;
+    lc_motion_params mp;
+    lc_polyset grown;
+    lc_steer_ws ws;
+} rig;
+
+static void rig_init(rig *g, lc_model model)
+{
+    memset(g, 0, sizeof *g);
+    lc_robot_default(&g->robot);
+    g->robot.model = model;
+    lc_motion_params_default(&g->mp);
+}
+
+static void rig_free(rig *g)
+{
+    lc_steer_ws_free(&g->ws);
+    lc_polyset_free(&g->grown);
+}
+
 /* What lc_steer_drive is given in these tests: standoff 0.04 m, dt 0.05 s,
  * the target also the waypoint. */
 static lc_steer_input drive_input(const lc_robot *robot, const lc_motion_params *mp,
@@ -102,27 +142,24 @@ static void test_turn_in_place(void **state)
 static void test_standoff_point(void **state)
 {
     (void)state;
-    lc_robot robot;
-    lc_robot_default(&robot);
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    lc_polyset grown = {0};
+    rig g;
+    rig_init(&g, LC_MODEL_POINT);
     /* a square whose left edge is 0.02 m ahead of the robot */
     const lc_vec2 sq[4] = {{0.02, -1}, {1.02, -1}, {1.02, 1}, {0.02, 1}};
-    assert_int_equal(lc_polyset_push(&grown, sq, 4, 0), 0);
+    assert_int_equal(lc_polyset_push(&g.grown, sq, 4, 0), 0);
     lc_region r = box_region(lc_v2(0, 0), 5);
     /* at rest (a robot already moving at it brakes as hard as it may:
      * motion.h's fallback) */
     lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
-    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(3, 2),
-                                    &last);
-    lc_steer_ws ws = {0};
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                    lc_v2(3, 2), &last);
+    lc_steer_ws *ws = &g.ws;
+    assert_int_equal(lc_steer_drive(&in, ws, &out), 0);
     assert_true(out.vx <= 1e-12); /* no nearer to the obstacle */
     assert_true(out.vy > 0);      /* but along it, toward the target's side */
     /* standoff 0: only the region binds, and it lets the robot go on */
     in.standoff = 0;
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    assert_int_equal(lc_steer_drive(&in, ws, &out), 0);
     assert_true(out.vx > 0);
     /* far from everything the standoff changes nothing */
     in.standoff = 0.04;
@@ -130,12 +167,11 @@ static void test_standoff_point(void **state)
     in.target = in.waypoint = lc_v2(-3, 3);
     lc_setpoint a, b;
     last = lc_setpoint_stop(LC_LIMIT_NONE);
-    assert_int_equal(lc_steer_drive(&in, &ws, &a), 0);
+    assert_int_equal(lc_steer_drive(&in, ws, &a), 0);
     in.standoff = 0;
-    assert_int_equal(lc_steer_drive(&in, &ws, &b), 0);
+    assert_int_equal(lc_steer_drive(&in, ws, &b), 0);
     assert_true(a.vx == b.vx && a.vy == b.vy && a.limit == b.limit);
-    lc_steer_ws_free(&ws);
-    lc_polyset_free(&grown);
+    rig_free(&g);
 }
 
 /* A disc of radius r about c as a 32-gon circumscribed about it (a grown
@@ -161,32 +197,27 @@ static void push_disc(lc_polyset *ps, lc_vec2 c, double r)
 static void test_standoff_passage(void **state)
 {
     (void)state;
-    lc_robot robot;
-    lc_robot_default(&robot);
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    lc_polyset grown = {0};
+    rig g;
+    rig_init(&g, LC_MODEL_POINT);
     lc_vec2 up = {0.1, 0.37}, down = {0.1, -0.37};
-    push_disc(&grown, up, 0.35);
-    push_disc(&grown, down, 0.35);
+    push_disc(&g.grown, up, 0.35);
+    push_disc(&g.grown, down, 0.35);
     lc_region r = box_region(lc_v2(0, 0), 5);
     lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
-    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(3, 0),
-                                    &last);
-    lc_steer_ws ws = {0};
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                    lc_v2(3, 0), &last);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
     assert_true(out.vx > 0.02); /* a_max dt = 0.025 from rest */
     /* 2 cm up: 1.4 cm off the upper corner (the quarter is 1.65 cm), not
      * nearer it */
     in.pose.y = 0.02;
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
     int nv;
-    const lc_vec2 *pv = lc_polyset_at(&grown, 0, &nv);
+    const lc_vec2 *pv = lc_polyset_at(&g.grown, 0, &nv);
     lc_vec2 q;
     assert_near(lc_convex_distance(pv, nv, lc_v2(0, 0.02), &q), 0.014, 2e-3); /* circumscribed */
     assert_true(lc_dot(lc_sub(q, lc_v2(0, 0.02)), lc_v2(out.vx, out.vy)) <= 1e-12);
-    lc_steer_ws_free(&ws);
-    lc_polyset_free(&grown);
+    rig_free(&g);
 }
 
 /* A unicycle parking in a region 4 cm wide (a gap's), a little askew: the
@@ -195,25 +226,15 @@ static void test_standoff_passage(void **state)
 static void test_standoff_passage_unicycle(void **state)
 {
     (void)state;
-    lc_robot robot;
-    lc_robot_default(&robot);
-    robot.model = LC_MODEL_UNICYCLE;
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    lc_polyset grown = {0};
-    lc_halfspace strip[4] = {{{1, 0}, 1}, {{-1, 0}, 1}, {{0, 1}, 0.02}, {{0, -1}, 0.02}};
-    lc_region r;
-    memset(&r, 0, sizeof r);
-    r.h = strip;
-    r.nh = 4;
-    r.ellipse = (lc_ellipse){1, 0, 0.02, lc_v2(0, 0)};
+    rig g;
+    rig_init(&g, LC_MODEL_UNICYCLE);
+    lc_region r = strip_region(-1, 1, 0.02);
     lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
-    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0.1},
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0.1},
                                     lc_v2(0.6, 0), &last);
-    lc_steer_ws ws = {0};
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
     assert_true(out.v > 0.02); /* a_max dt = 0.025 from rest; was 0 */
-    lc_steer_ws_free(&ws);
+    rig_free(&g);
 }
 
 /*
@@ -228,31 +249,21 @@ static void test_standoff_passage_unicycle(void **state)
 static void test_aisle_speed(void **state)
 {
     (void)state;
-    lc_robot robot;
-    lc_robot_default(&robot);
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    lc_polyset grown = {0};
+    rig g;
+    rig_init(&g, LC_MODEL_POINT);
     const lc_vec2 up[4] = {{0.3, 0.15}, {1.3, 0.15}, {1.3, 1.15}, {0.3, 1.15}};
     const lc_vec2 down[4] = {{0.3, -1.15}, {1.3, -1.15}, {1.3, -0.15}, {0.3, -0.15}};
-    assert_int_equal(lc_polyset_push(&grown, up, 4, 0), 0);
-    assert_int_equal(lc_polyset_push(&grown, down, 4, 0), 0);
-    lc_halfspace strip[4] = {{{1, 0}, 5}, {{-1, 0}, 1}, {{0, 1}, 0.15}, {{0, -1}, 0.15}};
-    lc_region r;
-    memset(&r, 0, sizeof r);
-    r.h = strip;
-    r.nh = 4;
-    r.ellipse = (lc_ellipse){3, 0, 0.15, lc_v2(2, 0)};
-    lc_setpoint last = {.vx = robot.v_max, .limit = LC_LIMIT_TOP_SPEED}, out;
-    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(4, 0),
-                                    &last);
-    lc_steer_ws ws = {0};
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), 0);
-    assert_near(out.vx, robot.v_max, 1e-9);
+    assert_int_equal(lc_polyset_push(&g.grown, up, 4, 0), 0);
+    assert_int_equal(lc_polyset_push(&g.grown, down, 4, 0), 0);
+    lc_region r = strip_region(-1, 5, 0.15);
+    lc_setpoint last = {.vx = g.robot.v_max, .limit = LC_LIMIT_TOP_SPEED}, out;
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                    lc_v2(4, 0), &last);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
+    assert_near(out.vx, g.robot.v_max, 1e-9);
     assert_near(out.vy, 0.0, 1e-9);
     assert_int_not_equal(out.limit, LC_LIMIT_BRAKING);
-    lc_steer_ws_free(&ws);
-    lc_polyset_free(&grown);
+    rig_free(&g);
 }
 
 static void *refuse(void *data, void *p, size_t n)
@@ -267,23 +278,19 @@ static void *refuse(void *data, void *p, size_t n)
 static void test_no_memory(void **state)
 {
     (void)state;
-    lc_robot robot;
-    lc_robot_default(&robot);
-    lc_motion_params mp;
-    lc_motion_params_default(&mp);
-    lc_polyset grown = {0};
+    rig g;
+    rig_init(&g, LC_MODEL_POINT);
     const lc_vec2 sq[4] = {{1, -1}, {2, -1}, {2, 1}, {1, 1}};
-    lc_polyset_push(&grown, sq, 4, 0);
+    lc_polyset_push(&g.grown, sq, 4, 0);
     lc_region r = box_region(lc_v2(0, 0), 5);
     lc_setpoint last = {.vx = 0.3}, out;
-    lc_steer_input in = drive_input(&robot, &mp, &r, &grown, (lc_pose){0, 0, 0}, lc_v2(0, 3),
-                                    &last);
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                    lc_v2(0, 3), &last);
     lc_alloc none = {refuse, NULL};
-    lc_steer_ws ws;
-    lc_steer_ws_init(&ws, &none);
-    assert_int_equal(lc_steer_drive(&in, &ws, &out), -1);
+    lc_steer_ws_init(&g.ws, &none);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), -1);
     assert_true(out.vx == 0 && out.vy == 0 && out.limit == LC_LIMIT_NONE);
-    lc_polyset_free(&grown);
+    rig_free(&g);
 }
 
 /* ---- a polygon footprint --------------------------------------------- */
