@@ -36,6 +36,7 @@
 #include "replay.h"
 
 #define JOBS_MAX 256
+#define SEEDS_MAX 1000
 #define PATH_TEXT_MAX 4096
 
 typedef struct bworld {
@@ -49,6 +50,7 @@ typedef struct bworld {
 typedef struct brun {
     int world;
     lc_model model;
+    unsigned long long seed; /* of the range noise */
     char outcome[16]; /* sim's outcome, or "error" */
     bool ok;
     int collisions;
@@ -60,7 +62,9 @@ typedef struct bopts {
     long jobs;
     unsigned models; /* bit 1 << model for each model asked for; 0: the header's */
     bool json;
-    const char *svg_dir, *seed, *max_time;
+    unsigned long long seed; /* the first run's range noise seed */
+    long seeds;              /* runs per world and model, seeds seed, seed + 1, ... */
+    const char *svg_dir, *max_time;
 } bopts;
 
 typedef struct batch {
@@ -87,7 +91,7 @@ static const char *const single_only[] = {"--out",  "--svg",  "--connect", "--to
 static bool valued(const char *a)
 {
     static const char *const batch_valued[] = {"--jobs", "--svg-dir", "--model", "--seed",
-                                               "--max-time"};
+                                               "--seeds", "--max-time"};
     for (size_t k = 0; k < sizeof batch_valued / sizeof batch_valued[0]; k++)
         if (strcmp(a, batch_valued[k]) == 0)
             return true;
@@ -116,7 +120,7 @@ bool lc_sim_batch_wanted(int argc, char **argv)
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : "";
         if (strcmp(a, "--jobs") == 0 || strcmp(a, "--svg-dir") == 0 ||
-            (strcmp(a, "--model") == 0 && strcmp(v, "both") == 0))
+            strcmp(a, "--seeds") == 0 || (strcmp(a, "--model") == 0 && strcmp(v, "both") == 0))
             return true;
         if (valued(a))
             i++;
@@ -141,7 +145,8 @@ static int parse_model(const char *v, unsigned *models)
     return 0;
 }
 
-/* --jobs, --seed and --max-time checked here, so that no child fails on them. */
+/* --jobs, --seed, --seeds and --max-time checked here, so that no child
+ * fails on them. */
 static int parse_number(const char *opt, const char *v, bopts *o)
 {
     char *end;
@@ -152,10 +157,14 @@ static int parse_number(const char *opt, const char *v, bopts *o)
             return lc_cli_usage_error("sim", "--jobs: a whole number from 1 to %d, not %s",
                                       JOBS_MAX, v);
     } else if (strcmp(opt, "--seed") == 0) {
-        (void)strtoull(v, &end, 10);
+        o->seed = strtoull(v, &end, 10);
         if (*v == '\0' || *v == '-' || *end != '\0' || errno)
             return lc_cli_usage_error("sim", "--seed: not a whole number >= 0: %s", v);
-        o->seed = v;
+    } else if (strcmp(opt, "--seeds") == 0) {
+        o->seeds = strtol(v, &end, 10);
+        if (*v == '\0' || *end != '\0' || errno || o->seeds < 1 || o->seeds > SEEDS_MAX)
+            return lc_cli_usage_error("sim", "--seeds: a whole number from 1 to %d, not %s",
+                                      SEEDS_MAX, v);
     } else {
         double t = strtod(v, &end);
         if (*v == '\0' || *end != '\0' || !(t > 0) || isinf(t))
@@ -186,7 +195,7 @@ static int parse_option(const char *a, const char *v, bopts *o)
 static int parse_args(int argc, char **argv, batch *b, int *in, int *n_in)
 {
     long cpus = sysconf(_SC_NPROCESSORS_ONLN);
-    b->o = (bopts){.jobs = cpus < 1 ? 1 : cpus > JOBS_MAX ? JOBS_MAX : cpus};
+    b->o = (bopts){.jobs = cpus < 1 ? 1 : cpus > JOBS_MAX ? JOBS_MAX : cpus, .seed = 1, .seeds = 1};
     *n_in = 0;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i];
@@ -307,17 +316,18 @@ static int load_inputs(batch *b, char **argv, const int *in, int n_in)
     return 0;
 }
 
-/* One run per world and model, in file order. */
+/* One run per world, model and seed, in file order. */
 static int plan_runs(batch *b)
 {
     for (int i = 0; i < b->n_w; i++) {
         for (int m = 0; m < 2; m++) {
             bool want = b->o.models ? (b->o.models >> m) & 1u : (int)b->w[i].model == m;
-            if (!want)
-                continue;
-            if (LC_GROW(NULL, b->r, b->cap_r, b->n_r + 1) < 0)
-                return lc_cli_fail("sim", "out of memory");
-            b->r[b->n_r++] = (brun){.world = i, .model = (lc_model)m, .ratio = NAN};
+            for (long k = 0; want && k < b->o.seeds; k++) {
+                if (LC_GROW(NULL, b->r, b->cap_r, b->n_r + 1) < 0)
+                    return lc_cli_fail("sim", "out of memory");
+                b->r[b->n_r++] = (brun){.world = i, .model = (lc_model)m,
+                                        .seed = b->o.seed + (unsigned long long)k, .ratio = NAN};
+            }
         }
     }
     return 0;
@@ -330,14 +340,18 @@ static const char *model_name(lc_model m) { return m == LC_MODEL_UNICYCLE ? "uni
 static void svg_path(const batch *b, int run, char *out, size_t n)
 {
     const brun *r = &b->r[run];
-    snprintf(out, n, "%s/%s.%s.svg", b->o.svg_dir, b->w[r->world].name, model_name(r->model));
+    if (b->o.seeds > 1)
+        snprintf(out, n, "%s/%s.%s.seed%llu.svg", b->o.svg_dir, b->w[r->world].name,
+                 model_name(r->model), r->seed);
+    else
+        snprintf(out, n, "%s/%s.%s.svg", b->o.svg_dir, b->w[r->world].name, model_name(r->model));
 }
 
 /* In the child: the single-run path with its JSON on the pipe. */
 static _Noreturn void run_child(const batch *b, int run)
 {
     const brun *r = &b->r[run];
-    char svg[PATH_TEXT_MAX];
+    char svg[PATH_TEXT_MAX], seed[32];
     char *argv[16];
     int n = 0;
     argv[n++] = (char *)"sim";
@@ -345,10 +359,9 @@ static _Noreturn void run_child(const batch *b, int run)
     argv[n++] = (char *)"--json";
     argv[n++] = (char *)"--model";
     argv[n++] = (char *)model_name(r->model);
-    if (b->o.seed) {
-        argv[n++] = (char *)"--seed";
-        argv[n++] = (char *)b->o.seed;
-    }
+    snprintf(seed, sizeof seed, "%llu", r->seed);
+    argv[n++] = (char *)"--seed";
+    argv[n++] = seed;
     if (b->o.max_time) {
         argv[n++] = (char *)"--max-time";
         argv[n++] = (char *)b->o.max_time;
@@ -443,8 +456,8 @@ static void report_error(batch *b, const job *j, int status)
         size_t n = strcspn(j->text[1], "\n");
         snprintf(why, sizeof why, "%.*s", (int)(n < 200 ? n : 200), j->text[1]);
     }
-    fprintf(stderr, "%slacuna sim: %s as %s: %s\n", b->progress ? "\n" : "",
-            b->w[r->world].path, model_name(r->model), why);
+    fprintf(stderr, "%slacuna sim: %s as %s, seed %llu: %s\n", b->progress ? "\n" : "",
+            b->w[r->world].path, model_name(r->model), r->seed, why);
     b->progress = false;
 }
 
@@ -558,8 +571,30 @@ static int run_all(batch *b)
 
 typedef struct figures {
     int runs, done, collisions, blocked, other, ok;
+    double done_low, done_high;       /* 95 % interval of the share done */
     double median_time, median_ratio; /* over the runs done; NAN when none */
 } figures;
+
+/*
+ * The Wilson score interval of a share k / n at confidence z (1.96 for
+ * 95 %): E. B. Wilson, "Probable inference, the law of succession, and
+ * statistical inference", JASA 22 (1927) 209-212. Unlike p +- z sqrt(p (1 -
+ * p) / n) it stays within [0, 1] and is not empty at 0 or n runs done,
+ * which is where a suite of worlds mostly is (see simbatch.h).
+ */
+void lc_share_interval(int k, int n, double z, double *low, double *high)
+{
+    if (n <= 0 || k < 0 || k > n) {
+        *low = NAN;
+        *high = NAN;
+        return;
+    }
+    double p = (double)k / n, z2n = z * z / n;
+    double centre = (p + 0.5 * z2n) / (1.0 + z2n);
+    double half = z * sqrt(p * (1.0 - p) / n + 0.25 * z2n / n) / (1.0 + z2n);
+    *low = k == 0 ? 0.0 : lc_max(0.0, centre - half);
+    *high = k == n ? 1.0 : lc_min(1.0, centre + half);
+}
 
 static int cmp_double(const void *a, const void *b)
 {
@@ -601,6 +636,7 @@ static figures tally(const batch *b, const char *family, lc_model m, double *scr
     }
     f.median_time = median(t, nt);
     f.median_ratio = median(ratio, nr);
+    lc_share_interval(f.done, f.runs, LC_SHARE_Z95, &f.done_low, &f.done_high);
     return f;
 }
 
@@ -622,13 +658,16 @@ static const char **families(const batch *b, int *n)
 
 static void print_row(int width, const char *family, lc_model m, const figures *f)
 {
-    char t[32] = "-", r[32] = "-";
+    char t[32] = "-", r[32] = "-", share[32] = "-";
     if (!isnan(f->median_time))
         snprintf(t, sizeof t, "%.1f", f->median_time);
     if (!isnan(f->median_ratio))
         snprintf(r, sizeof r, "%.2f", f->median_ratio);
-    printf("%-*s %-8s %5d %5d %10d %7d %5d %8s %12s\n", width, family[0] ? family : "-",
-           model_name(m), f->runs, f->done, f->collisions, f->blocked, f->other, t, r);
+    if (!isnan(f->done_low)) /* whole percent, rounded outward */
+        snprintf(share, sizeof share, "%.0f-%.0f", floor(100.0 * f->done_low + 1e-9),
+                 ceil(100.0 * f->done_high - 1e-9));
+    printf("%-*s %-8s %5d %5d %10d %7d %5d %8s %12s %8s\n", width, family[0] ? family : "-",
+           model_name(m), f->runs, f->done, f->collisions, f->blocked, f->other, t, r, share);
 }
 
 static void print_table(const batch *b, const char **fam, int n_fam, double *scratch)
@@ -636,8 +675,8 @@ static void print_table(const batch *b, const char **fam, int n_fam, double *scr
     int width = 6, ok = 0;
     for (int i = 0; i < n_fam; i++)
         width = (int)strlen(fam[i]) > width ? (int)strlen(fam[i]) : width;
-    printf("%-*s %-8s %5s %5s %10s %7s %5s %8s %12s\n", width, "family", "model", "runs", "done",
-           "collisions", "blocked", "other", "median_s", "median_ratio");
+    printf("%-*s %-8s %5s %5s %10s %7s %5s %8s %12s %8s\n", width, "family", "model", "runs",
+           "done", "collisions", "blocked", "other", "median_s", "median_ratio", "done_95%");
     for (int i = 0; i <= n_fam; i++)
         for (int m = 0; m < 2; m++) {
             figures f = tally(b, i < n_fam ? fam[i] : NULL, (lc_model)m, scratch);
@@ -647,7 +686,8 @@ static void print_table(const batch *b, const char **fam, int n_fam, double *scr
     for (int i = 0; i < b->n_r; i++)
         ok += b->r[i].ok;
     printf("%d run%s: %d met their expectation without a collision, %d did not.\n"
-           "Medians over the runs done; ratio = time / (shortest_path / v_max).\n",
+           "Medians over the runs done; ratio = time / (shortest_path / v_max).\n"
+           "done_95%%: the share done, its 95 %% interval (Wilson score) in percent.\n",
            b->n_r, b->n_r == 1 ? "" : "s", ok, b->n_r - ok);
 }
 
@@ -681,6 +721,8 @@ static cJSON *figures_json(const char *family, lc_model m, const figures *f)
     static const char *const names[] = {"runs", "done", "collisions", "blocked", "other", "ok"};
     for (int i = 0; i < 6; i++)
         cJSON_AddNumberToObject(o, names[i], counts[i]);
+    add_num(o, "done_low", f->done_low);
+    add_num(o, "done_high", f->done_high);
     add_num(o, "median_time", f->median_time);
     add_num(o, "median_ratio", f->median_ratio);
     return o;
@@ -693,6 +735,7 @@ static cJSON *run_json(const batch *b, const brun *r)
     cJSON_AddStringToObject(o, "file", w->path);
     add_family(o, w->family);
     cJSON_AddStringToObject(o, "model", model_name(r->model));
+    cJSON_AddNumberToObject(o, "seed", (double)r->seed);
     cJSON_AddStringToObject(o, "outcome", r->outcome);
     cJSON_AddBoolToObject(o, "ok", r->ok);
     cJSON_AddNumberToObject(o, "collisions", r->collisions);

@@ -24,7 +24,7 @@ import sys
 import tempfile
 
 COLUMNS = ["family", "model", "runs", "done", "collisions", "blocked", "other", "median_s",
-           "median_ratio"]
+           "median_ratio", "done_95%"]
 
 
 def parse_table(text):
@@ -45,8 +45,10 @@ def parse_table(text):
         row = dict(zip(COLUMNS, cells))
         for k in COLUMNS[2:7]:
             row[k] = int(row[k])
-        for k in COLUMNS[7:]:
+        for k in COLUMNS[7:9]:
             row[k] = None if row[k] == "-" else float(row[k])
+        low, high = (int(x) for x in row["done_95%"].split("-"))
+        row["done_95%"] = (low, high)
         key = (row["family"], row["model"])
         if key in rows:
             raise ValueError("row %s twice" % (key,))
@@ -108,6 +110,10 @@ def main():
             failures.append("%s: done + blocked + other != runs" % (key,))
         if r["collisions"] != 0:
             failures.append("%s: %d collisions" % (key, r["collisions"]))
+        low, high = r["done_95%"]
+        if not 0 <= low <= 100 * r["done"] / r["runs"] <= high <= 100:
+            failures.append("%s: done_95%% %d-%d does not hold %d of %d" %
+                            (key, low, high, r["done"], r["runs"]))
         if (r["median_s"] is None) != (r["done"] == 0):
             failures.append("%s: a median time without a run done, or none with" % (key,))
     total = sum(r["runs"] for k, r in rows.items() if k[0] == "all")
