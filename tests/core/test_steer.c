@@ -238,6 +238,40 @@ static void test_standoff_passage_unicycle(void **state)
 }
 
 /*
+ * A target 3 cm ahead on the region's far side, the ellipse centre 1.8 m
+ * behind and to the left (a gap's mouth: the region a wedge whose apex
+ * holds the robot, its ellipse in the room behind), the waypoint farther
+ * on. Pulled the standoff (4 cm) toward the centre, the aim lay at 99
+ * degrees off the heading: the unicycle turned away from the gap, the
+ * point model backed off from it. A target this near is aimed at itself
+ * (here it is slid back onto the braking line the robot sits on, at the
+ * robot): neither moves away from it.
+ */
+static void test_near_target_aim(void **state)
+{
+    (void)state;
+    for (int m = 0; m < 2; m++) {
+        rig g;
+        rig_init(&g, m ? LC_MODEL_UNICYCLE : LC_MODEL_POINT);
+        lc_region r = strip_region(-3, 0.03, 1);
+        r.ellipse.d = lc_v2(-1.5, 1.0);
+        lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
+        lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                        lc_v2(0.03, 0), &last);
+        in.waypoint = lc_v2(5, 0);
+        assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
+        if (m) {
+            assert_true(fabs(out.w) < 1e-9); /* was 0.1 (dw_max dt), turning */
+            assert_int_not_equal(out.limit, LC_LIMIT_TURNING);
+        } else {
+            assert_true(out.vx > -1e-9);     /* was backing off */
+            assert_true(fabs(out.vy) < 1e-9);
+        }
+        rig_free(&g);
+    }
+}
+
+/*
  * A point robot at full speed down an aisle between two crates whose
  * grown corners lie 0.3 m ahead, 0.15 m to either side (0.335 m off,
  * diagonally): the region is the strip between them, 5 m long. Lines at
@@ -521,6 +555,7 @@ int main(void)
         cmocka_unit_test(test_standoff_passage),
         cmocka_unit_test(test_standoff_passage_unicycle),
         cmocka_unit_test(test_aisle_speed),
+        cmocka_unit_test(test_near_target_aim),
         cmocka_unit_test(test_no_memory),
         cmocka_unit_test(test_body_workspace_corner),
         cmocka_unit_test(test_body_turn_in_place),
