@@ -238,6 +238,42 @@ static void test_standoff_passage_unicycle(void **state)
 }
 
 /*
+ * A unicycle at 0.2 m/s creeping past a crate: the crate's grown side runs
+ * 3 cm to its left (inside the standoff), its heading 0.05 rad toward it,
+ * its target 0.8 m on. Held at the robot, the line across the crate left
+ * no room along the heading and braked it (v 0.175, a_max dt off); with
+ * the standoff's lines kept to within PARK_REACH (0.5 m) of the aim it
+ * brakes in the region, whose 3 cm hold the braking path (0.05 m at
+ * 0.2 m/s: v dt + v^2 / 2 a_max, a closed form; along it the heading
+ * closes 0.05 rad x 0.05 m, 2.5 mm of the 3 cm).
+ */
+static void test_creep_past_crate(void **state)
+{
+    (void)state;
+    rig g;
+    rig_init(&g, LC_MODEL_UNICYCLE);
+    const lc_vec2 crate[4] = {{-1, 0.03}, {2, 0.03}, {2, 1}, {-1, 1}};
+    assert_int_equal(lc_polyset_push(&g.grown, crate, 4, 0), 0);
+    static lc_halfspace h[4];
+    h[0] = (lc_halfspace){{1, 0}, 3};
+    h[1] = (lc_halfspace){{-1, 0}, 1};
+    h[2] = (lc_halfspace){{0, 1}, 0.03};
+    h[3] = (lc_halfspace){{0, -1}, 1};
+    lc_region r;
+    memset(&r, 0, sizeof r);
+    r.h = h;
+    r.nh = 4;
+    r.ellipse = (lc_ellipse){2, 0, 0.5, lc_v2(1, -0.485)};
+    lc_setpoint last = {.v = 0.2, .limit = LC_LIMIT_ACCEL}, out;
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0.05},
+                                    lc_v2(0.8, 0), &last);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
+    assert_true(out.v > 0.19);
+    assert_int_not_equal(out.limit, LC_LIMIT_BRAKING);
+    rig_free(&g);
+}
+
+/*
  * A target 3 cm ahead on the region's far side, the ellipse centre 1.8 m
  * behind and to the left (a gap's mouth: the region a wedge whose apex
  * holds the robot, its ellipse in the room behind), the waypoint farther
@@ -556,6 +592,7 @@ int main(void)
         cmocka_unit_test(test_standoff_passage_unicycle),
         cmocka_unit_test(test_aisle_speed),
         cmocka_unit_test(test_near_target_aim),
+        cmocka_unit_test(test_creep_past_crate),
         cmocka_unit_test(test_no_memory),
         cmocka_unit_test(test_body_workspace_corner),
         cmocka_unit_test(test_body_turn_in_place),
