@@ -35,8 +35,8 @@ V_MAX = 0.5    # m/s
 
 
 def scene(s, offset, thickness):
-    """(polygons, start pose, waypoint, gap edges) for slack s, offset and
-    wall thickness (m)."""
+    """(polygons, start pose, waypoint, shortest path) for slack s, offset
+    and wall thickness (m)."""
     r, m = worlds.ROBOT["radius"], worlds.ROBOT["margin"]
     w = 2.0 * (r + m + s)
     x0, x1 = WALL_X, WALL_X + thickness
@@ -44,7 +44,7 @@ def scene(s, offset, thickness):
     polys += [worlds.box(x0, -ROOM, x1, -w / 2.0), worlds.box(x0, w / 2.0, x1, ROOM)]
     start = (START_X, offset, 0.0)
     goal = (GOAL_X, -0.5 * offset)
-    return polys, start, goal, (-w / 2.0, w / 2.0)
+    return polys, start, goal, shortest_path(s, start, goal, thickness)
 
 
 def shortest_path(s, start, goal, thickness):
@@ -85,8 +85,7 @@ def side_scene(s, width, thickness):
 
 def header(s, offset, thickness, side_width=None):
     if side_width is None:
-        polys, start, goal, _ = scene(s, offset, thickness)
-        shortest = shortest_path(s, start, goal, thickness)
+        polys, start, goal, shortest = scene(s, offset, thickness)
         where = "the robot starts %.1f m off the gap's line" % offset
     else:
         polys, start, goal, shortest = side_scene(s, side_width, thickness)

@@ -20,6 +20,7 @@
 
 #include <dirent.h>
 #include <errno.h>
+#include <limits.h>
 #include <math.h>
 #include <poll.h>
 #include <signal.h>
@@ -214,6 +215,9 @@ static int parse_args(int argc, char **argv, batch *b, int *in, int *n_in)
     }
     if (*n_in == 0)
         return lc_cli_usage_error("sim", "no scenario FILE or DIR (see --help)");
+    if ((unsigned long long)(b->o.seeds - 1) > ULLONG_MAX - b->o.seed)
+        return lc_cli_usage_error("sim", "--seed %llu with --seeds %ld runs past the largest "
+                                         "seed, %llu", b->o.seed, b->o.seeds, ULLONG_MAX);
     return 0;
 }
 
@@ -340,11 +344,11 @@ static const char *model_name(lc_model m) { return m == LC_MODEL_UNICYCLE ? "uni
 static void svg_path(const batch *b, int run, char *out, size_t n)
 {
     const brun *r = &b->r[run];
+    char seed[40] = "";
     if (b->o.seeds > 1)
-        snprintf(out, n, "%s/%s.%s.seed%llu.svg", b->o.svg_dir, b->w[r->world].name,
-                 model_name(r->model), r->seed);
-    else
-        snprintf(out, n, "%s/%s.%s.svg", b->o.svg_dir, b->w[r->world].name, model_name(r->model));
+        snprintf(seed, sizeof seed, ".seed%llu", r->seed);
+    snprintf(out, n, "%s/%s.%s%s.svg", b->o.svg_dir, b->w[r->world].name, model_name(r->model),
+             seed);
 }
 
 /* In the child: the single-run path with its JSON on the pipe. */
@@ -735,7 +739,9 @@ static cJSON *run_json(const batch *b, const brun *r)
     cJSON_AddStringToObject(o, "file", w->path);
     add_family(o, w->family);
     cJSON_AddStringToObject(o, "model", model_name(r->model));
-    cJSON_AddNumberToObject(o, "seed", (double)r->seed);
+    char seed[32]; /* exact: a double holds whole numbers to 2^53 only */
+    snprintf(seed, sizeof seed, "%llu", r->seed);
+    cJSON_AddRawToObject(o, "seed", seed);
     cJSON_AddStringToObject(o, "outcome", r->outcome);
     cJSON_AddBoolToObject(o, "ok", r->ok);
     cJSON_AddNumberToObject(o, "collisions", r->collisions);

@@ -119,6 +119,7 @@ static void test_bad_usage(void **state)
         {"sim '%s/hall.jsonl' --seeds 1001", "--seeds"},
         {"sim '%s/hall.jsonl' --seeds two", "--seeds"},
         {"sim '%s/hall.jsonl' --seeds", "--seeds needs a value"},
+        {"sim '%s/hall.jsonl' --seed 18446744073709551615 --seeds 2", "past the largest seed"},
         {"sim '%s/hall.jsonl' --svg-dir '%s/hall.jsonl'", "--svg-dir"},
         /* a bad file among good ones: named with its line, before any run */
         {"sim '%s/hall.jsonl' '%s/bad.jsonl'", "bad.jsonl:1: bad_field: family"},
