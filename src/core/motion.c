@@ -16,7 +16,9 @@
  *             length, checked exactly per halfspace (lc_motion_arc_margin);
  *             otherwise v and w fall at their full rates, the curvature only
  *             grows, and the path stays in the disc of radius 1 / |k|
- *             tangent at the pose (Tait-Kneser), which is checked instead.
+ *             tangent at the pose (Tait-Kneser) and within its length of
+ *             the pose: each line is checked against the nearer of the
+ *             two discs instead.
  *   Both with LC_MOTION_EPS of rounding slack.
  * What the step guarantees:
  *   - every rate limit holds against `last` (|dv| <= a_max dt as a vector for
@@ -69,9 +71,10 @@
  * Then beta = 0 and w = k_alpha alpha; the reduced system (rho, alpha) is
  * locally exponentially stable for k_rho > 0 and k_alpha - k_rho > 0 (the
  * textbook conditions without the one on beta), and the robot arrives
- * heading straight at the target. When v_max or w_max saturates, the law's
- * curvature w / v is kept by lowering v, so the robot never circles a target
- * inside its turning circle.
+ * heading straight at the target. The law's w is held to the rate from
+ * which the turn can stop on the bearing (turn_stop). When v_max or w_max
+ * saturates, the law's curvature w / v is kept by lowering v, so the robot
+ * never circles a target inside its turning circle.
  */
 #include "motion.h"
 
@@ -470,9 +473,51 @@ static void body_turn_about(const uni_ctx *c, lc_vec2 q, double turn, body_turn 
     }
 }
 
-/* Least slack of the region's lines over the body turning about q (as set
- * up in bt), the pivot itself free to lie anywhere within `spread` of q. */
-static double turn_margin(const lc_region *r, lc_vec2 q, double spread, const body_turn *bt)
+/*
+ * Where the centre (or the pivot a body turns about) may be along a braking
+ * path: in each of n discs (centre q[i], radius r[i]), so that along a unit
+ * normal a it reaches no farther than the least of a . q[i] + r[i].
+ */
+typedef struct pivot_set {
+    lc_vec2 q[2];
+    double r[2];
+    int n;
+} pivot_set;
+
+static pivot_set pivot_at(lc_vec2 q)
+{
+    return (pivot_set){.q = {q}, .r = {0.0}, .n = 1};
+}
+
+static double pivot_reach(const pivot_set *ps, lc_vec2 a)
+{
+    double reach = INFINITY;
+    for (int i = 0; i < ps->n; i++)
+        reach = lc_min(reach, lc_dot(a, ps->q[i]) + ps->r[i]);
+    return reach;
+}
+
+/*
+ * Braking without holding the curvature (|w / v| a_max > dw_max): the
+ * centre stays in the disc of radius |v / w| tangent to the heading at the
+ * pose (Tait-Kneser, see uni_margin), and within the path's length,
+ * brake_length(|v|), of the pose. The second disc is the smaller one at low
+ * speed: a crawl with a tight turn goes a few millimetres, and the first
+ * alone would ask for a disc of 1 / |kappa| beside the robot to be free.
+ */
+static pivot_set braking_discs(const uni_ctx *c, double v, double w)
+{
+    double r = v / w; /* signed: centre to the left when positive */
+    lc_vec2 p = {c->pose.x, c->pose.y};
+    lc_vec2 centre = lc_add(p, lc_scale(lc_v2(-sin(c->pose.yaw), cos(c->pose.yaw)), r));
+    return (pivot_set){.q = {centre, p},
+                       .r = {fabs(r), brake_length(c->robot, c->params, fabs(v))},
+                       .n = 2};
+}
+
+/* Least slack of the region's lines over the body turning (as set up in
+ * bt) about a pivot that may lie anywhere in ps. */
+static double turn_margin(const lc_region *r, const pivot_set *ps, const body_turn *bt)
 {
     double m = INFINITY;
     for (int k = 0; k < r->nh; k++) {
@@ -480,7 +525,7 @@ static double turn_margin(const lc_region *r, lc_vec2 q, double spread, const bo
         double top = -INFINITY;
         for (int i = 0; i < bt->n; i++)
             top = lc_max(top, rot_reach(a, bt->e[i], bt->e_end[i], bt->turn));
-        m = lc_min(m, r->h[k].b - lc_dot(a, q) - spread - top);
+        m = lc_min(m, r->h[k].b - pivot_reach(ps, a) - top);
     }
     return m;
 }
@@ -509,25 +554,27 @@ static double braking_turn(const uni_ctx *c, double w)
  *     (kappa s^2 / 2 of the centre, |kappa s| body_r of the footprint);
  *   - not holding it, the centre stays in the disc of radius |v / w|
  *     (Tait-Kneser) while the heading turns monotonically by braking_turn:
- *     the body stays in that disc plus the footprint turned over that
- *     range (support functions add), which is checked.
+ *     (and within the path's length of the pose: braking_discs) while
+ *     the heading turns monotonically by braking_turn: the body stays in
+ *     those discs plus the footprint turned over that range (support
+ *     functions add), which is checked.
  */
 static double body_margin(const uni_ctx *c, double v, double w)
 {
     lc_vec2 p = {c->pose.x, c->pose.y};
     body_turn bt;
     if (fabs(v) <= LC_MOTION_TINY) {
+        pivot_set at = pivot_at(p);
         body_turn_about(c, p, braking_turn(c, w), &bt);
-        return turn_margin(c->region, p, 0.0, &bt);
+        return turn_margin(c->region, &at, &bt);
     }
     double kappa = w / v;
     lc_vec2 left = lc_v2(-sin(c->pose.yaw), cos(c->pose.yaw));
     if (fabs(kappa) * c->robot->a_max > c->robot->dw_max) {
-        double r = 1.0 / kappa;
-        lc_vec2 centre = lc_add(p, lc_scale(left, r));
-        /* offsets about p, which may be anywhere in the disc */
+        pivot_set discs = braking_discs(c, v, w);
+        /* offsets about p, which may be anywhere in the discs */
         body_turn_about(c, p, braking_turn(c, w), &bt);
-        return turn_margin(c->region, centre, fabs(r), &bt);
+        return turn_margin(c->region, &discs, &bt);
     }
     double len = brake_length(c->robot, c->params, fabs(v)), s = v > 0 ? len : -len;
     if (fabs(kappa) <= LC_MOTION_STRAIGHT) {
@@ -542,8 +589,9 @@ static double body_margin(const uni_ctx *c, double v, double w)
         return m;
     }
     lc_vec2 icr = lc_add(p, lc_scale(left, 1.0 / kappa));
+    pivot_set at = pivot_at(icr);
     body_turn_about(c, icr, kappa * s, &bt);
-    return turn_margin(c->region, icr, 0.0, &bt);
+    return turn_margin(c->region, &at, &bt);
 }
 
 /*
@@ -553,8 +601,10 @@ static double body_margin(const uni_ctx *c, double v, double w)
  * falling at their full rates; then the curvature only grows, and by the
  * Tait-Kneser theorem (osculating circles of a curve with monotone
  * curvature are nested) the path stays in the disc of radius |v / w|
- * tangent to the heading at the pose: that disc is checked. The latency
- * part runs on the same circle in both cases.
+ * tangent to the heading at the pose; it also stays within its own length
+ * of the pose. Each line is checked against the nearer of the two discs'
+ * reaches (braking_discs). The latency part runs on the same circle in
+ * both cases.
  */
 static double uni_margin(const uni_ctx *c, double v, double w)
 {
@@ -565,9 +615,11 @@ static double uni_margin(const uni_ctx *c, double v, double w)
         return lc_region_margin(c->region, p);
     double kappa = w / v;
     if (fabs(kappa) * c->robot->a_max > c->robot->dw_max) {
-        double r = 1.0 / kappa; /* signed: centre to the left when positive */
-        lc_vec2 centre = lc_add(p, lc_scale(lc_v2(-sin(c->pose.yaw), cos(c->pose.yaw)), r));
-        return lc_region_margin(c->region, centre) - fabs(r);
+        pivot_set discs = braking_discs(c, v, w);
+        double m = INFINITY;
+        for (int k = 0; k < c->region->nh; k++)
+            m = lc_min(m, c->region->h[k].b - pivot_reach(&discs, c->region->h[k].a));
+        return m;
     }
     double len = brake_length(c->robot, c->params, fabs(v));
     return lc_motion_arc_margin(c->region, c->pose, kappa, v > 0 ? len : -len);
@@ -584,6 +636,27 @@ double lc_motion_keep_turning(double alpha, double w0)
     if (fabs(alpha) > LC_PI - LC_MOTION_TURN_KEEP && fabs(w0) > 1e-3 && alpha * w0 < 0)
         return alpha < 0 ? alpha + 2.0 * LC_PI : alpha - 2.0 * LC_PI;
     return alpha;
+}
+
+/*
+ * The turn rate from which the heading comes to rest on the bearing,
+ * slowing at LC_MOTION_TURN_EASE dw_max: the polar law's w is held to it.
+ * The law alone (k_alpha alpha, up to w_max) turns at full rate until a
+ * few degrees short, and the turn then takes up to w_max^2 / (2 dw_max) of
+ * heading (0.25 rad at the defaults) to stop: it swings past the bearing
+ * and back. Where the region is a channel no wider than the robot with a
+ * few centimetres, the target a few centimetres ahead (whose bearing moves
+ * with the range noise), every swing meets the channel's sides and brakes
+ * the robot to a crawl. The fraction was measured on scripts/gaps.py's
+ * scenes and the cluttered corridors (docs/DESIGN.md, step 12): a quarter
+ * passed the most gaps; the corridors came out alike from a quarter to the
+ * whole rate.
+ */
+#define LC_MOTION_TURN_EASE 0.25
+
+static double turn_stop(const lc_robot *robot, double alpha)
+{
+    return sqrt(2.0 * LC_MOTION_TURN_EASE * robot->dw_max * fabs(alpha));
 }
 
 /* The polar law toward target with the limits on v and w; *alpha the
@@ -609,6 +682,7 @@ static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double w0, bool in
     double beta = 0.0; /* goal frame along the bearing: see the file comment */
     double v_law, w_law;
     lc_motion_polar(c->params, rho, alpha, beta, &v_law, &w_law);
+    w_law = clampd(w_law, -turn_stop(robot, alpha), turn_stop(robot, alpha));
     if (in_place && fabs(alpha) > c->params->turn_in_place) {
         *w_d = clampd(w_law, -robot->w_max, robot->w_max);
         return LC_LIMIT_TURNING;
@@ -701,8 +775,9 @@ static bool body_turn_free(const uni_ctx *c, double alpha)
 {
     lc_vec2 p = {c->pose.x, c->pose.y};
     body_turn bt;
+    pivot_set at = pivot_at(p);
     body_turn_about(c, p, alpha, &bt);
-    return turn_margin(c->region, p, 0.0, &bt) >= -LC_MOTION_EPS;
+    return turn_margin(c->region, &at, &bt) >= -LC_MOTION_EPS;
 }
 
 /*

@@ -837,12 +837,22 @@ static void test_unicycle_examples(void **state)
     uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.1, 0), 0.3, 0, 0.05, &out);
     assert_near(out.v, 0.3, 1e-12);
     assert_int_equal(out.limit, LC_LIMIT_GOAL);
-    /* heading error 0.5 far away: w = k_alpha alpha = 4 > w_max; curvature
-     * w / v = 4 / 0.8 kept, so v = w_max / 5 */
+    /* heading error 0.5 far away: w = k_alpha alpha = 4, held to the rate
+     * from which the turn stops on the bearing slowing at dw_max / 4:
+     * w^2 / (2 dw_max / 4) = alpha, w = sqrt(0.5) (uniform deceleration,
+     * closed form); v_max on the way */
     lc_vec2 tg = lc_v2(5 * cos(0.5), 5 * sin(0.5));
-    uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, tg, 0.2, 1.0, 0.05, &out);
-    assert_near(out.w, 1.0, 1e-12);
-    assert_near(out.v, 0.2, 1e-12);
+    uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, tg, 0.8, 0.7, 0.05, &out);
+    assert_near(out.w, sqrt(0.5), 1e-12);
+    assert_near(out.v, 0.8, 1e-12);
+    assert_int_equal(out.limit, LC_LIMIT_TOP_SPEED);
+    /* the same with w_max 0.5 below that: the curvature sqrt(0.5) / 0.8 is
+     * kept, so v = w_max 0.8 / sqrt(0.5) */
+    lc_robot slow_turn = r;
+    slow_turn.w_max = 0.5;
+    uni_step(&slow_turn, &p, &t, (lc_pose){0, 0, 0}, tg, 0.55, 0.5, 0.05, &out);
+    assert_near(out.w, 0.5, 1e-12);
+    assert_near(out.v, 0.5 * 0.8 / sqrt(0.5), 1e-12);
     assert_int_equal(out.limit, LC_LIMIT_TURN_RATE);
     /* target behind-left: turn in place, w rising at dw_max dt */
     tg = lc_v2(2 * cos(2.0), 2 * sin(2.0));
@@ -1017,26 +1027,64 @@ static void test_unicycle_brake_disc(void **state)
         assert_true(worst <= 1e-9 * fmax(1, r));
     }
 
+    /* A path of length s stays within s of where it starts (the triangle
+     * inequality), so the braking path is also in the disc of radius
+     * v^2 / (2 a) about the pose; motion.c checks each line against the
+     * nearer of the two discs. Checked here by RK4 on the same random
+     * cases: the path never leaves the smaller disc either. */
+    lc_rng_seed(&rng, 1912);
+    for (int c = 0; c < 300; c++) {
+        double a = lc_rng_uniform(&rng, 0.2, 2), dw = lc_rng_uniform(&rng, 0.2, 4);
+        double v = lc_rng_uniform(&rng, -1.5, 1.5), kmin = dw / a * 1.01;
+        double w = copysign(lc_rng_uniform(&rng, kmin, kmin * 20), lc_rng_uniform(&rng, -1, 1)) * v;
+        ustate s = {0, 0, 0};
+        const int n = 2000;
+        double tb = fabs(v) / a, worst = 0;
+        for (int k = 0; k < n; k++) {
+            double ta = tb * k / n, tc = tb * (k + 1) / n;
+            double wa = copysign(fmax(fabs(w) - dw * ta, 0), w);
+            double wb = copysign(fmax(fabs(w) - dw * tc, 0), w);
+            s = rk4(s, v * (1 - ta / tb), wa, v * (1 - tc / tb), wb, tb / n);
+            worst = fmax(worst, hypot(s.x, s.y));
+        }
+        assert_true(worst <= v * v / (2 * a) * (1 + 1e-9));
+    }
+
     /* In use: a tight left turn beside a wall on the left. The constant-
-     * curvature arc would stay clear; the disc (what the robot can do
-     * within dw_max) does not, so v is lowered until the disc fits. */
+     * curvature arc would stay clear; the curvature cannot be held (what
+     * the robot can do within dw_max), so the discs are checked. */
     lc_robot rb = robot_default_of(LC_MODEL_UNICYCLE);
     lc_motion_params p;
     lc_motion_params_default(&p);
     test_region t;
-    make_box(&t, -10, -10, 10, 0.36);
     lc_setpoint out;
-    /* target (0.6, 0.35): alpha = 0.528, the law's curvature 8 alpha / 0.8 =
-     * 5.28 > dw/a = 4, so v = w_max / 5.28 = 0.189 with w = 1; its disc
-     * (top at 2 v / w = 0.379) crosses the wall at 0.36, its arc (length
-     * v^2 / (2a) = 0.036 m) would not: v drops to 0.18 */
+    /* target (0.6, 0.35): alpha = 0.528, the law's w held to
+     * sqrt(dw_max alpha / 2) = 0.727, its curvature 0.727 / 0.8 = 0.908
+     * below dw/a = 4: from (0.19, 1.0) the step takes v = 0.215 (a_max dt
+     * more) and w = 0.9 (dw_max dt less), curvature 4.19 > 4. The wall at
+     * 0.36: the tangent disc (top at 2 v / w = 0.478) crosses it, the path's
+     * length v^2 / (2a) = 0.046 m does not: the setpoint stands. */
+    make_box(&t, -10, -10, 10, 0.36);
+    uni_step(&rb, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.6, 0.35), 0.19, 1.0, 0.05, &out);
+    assert_int_equal(out.limit, LC_LIMIT_ACCEL);
+    assert_near(out.v, 0.215, 1e-12);
+    assert_near(out.w, 0.9, 1e-12);
+    assert_true(fabs(out.w / out.v) * rb.a_max > rb.dw_max);
+    assert_true(2 * out.v / out.w > 0.36);
+    assert_true(uni_brake_margin(&t, (lc_pose){0, 0, 0}, out.v, out.w, &rb, 0) >= -PATH_TOL);
+    /* the wall at 0.02 m: neither disc fits at 0.215, and the rate
+     * window's slowest speed 0.165 goes 0.027 m; no w saves it: the step
+     * brakes at a_max */
+    make_box(&t, -10, -10, 10, 0.02);
     uni_step(&rb, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.6, 0.35), 0.19, 1.0, 0.05, &out);
     assert_int_equal(out.limit, LC_LIMIT_BRAKING);
-    assert_near(out.w, 1.0, 1e-12);
-    assert_near(out.v, 0.18, 1e-9);
-    assert_true(fabs(out.w / out.v) * rb.a_max > rb.dw_max);
-    assert_true(uni_brake_margin(&t, (lc_pose){0, 0, 0}, out.v, out.w, &rb, 0) >= -PATH_TOL);
-    assert_true(lc_motion_arc_margin(&t.r, (lc_pose){0, 0, 0}, 1.0 / 0.189, 0.036) > 0);
+    assert_near(out.v, 0.165, 1e-12);
+    /* the wall at 0.02 m, from (0.16, 1.0): the speed whose path length
+     * v^2 / (2a) is 0.02 m, sqrt(0.02) (closed form), with w held */
+    uni_step(&rb, &p, &t, (lc_pose){0, 0, 0}, lc_v2(0.6, 0.35), 0.16, 1.0, 0.05, &out);
+    assert_int_equal(out.limit, LC_LIMIT_BRAKING);
+    assert_near(out.v, sqrt(0.02), 1e-8); /* the checks' 1e-9 m of rounding slack */
+    assert_near(out.w, 0.9, 1e-12);
 }
 
 static void random_uni_robot(lc_rng *rng, lc_robot *r, lc_motion_params *p, double *dt)
