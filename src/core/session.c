@@ -348,14 +348,28 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
 }
 
 /*
+ * A target this near the robot's centre gives a unicycle no heading to
+ * take: the polar law asks for nothing (the path may leave the region at
+ * the robot, into space behind it the scanner never saw). It turns to face
+ * the way on instead, a goal step along the path (`seek`), as it does when
+ * held in the margin; what it then sees re-plans the way.
+ */
+#define LC_SESSION_AT_ROBOT 0.02 /* m */
+
+/*
  * A polygon footprint that the motion law brakes to a stand while its
  * target wants a turn in place may still turn where the turn clears every
  * obstacle and the frontier by the margin (lc_steer_turn_in_place says
  * why the workspace region can stop it there).
  */
-static void drive(lc_session *s, const lc_frame *f, double dt, lc_plan_result *out)
+static void drive(lc_session *s, const lc_frame *f, double dt, const lc_vec2 *seek,
+                  lc_plan_result *out)
 {
     lc_steer_input in = steer_input(s, f, dt, out);
+    lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
+    if (seek && s->robot.model == LC_MODEL_UNICYCLE && lc_dist(in.target, c) < LC_SESSION_AT_ROBOT &&
+        lc_dist(*seek, c) >= LC_SESSION_AT_ROBOT)
+        in.target = *seek;
     if (lc_steer_drive(&in, &s->steer, &out->setpoint) < 0)
         return;
     lc_setpoint *sp = &out->setpoint;
@@ -555,7 +569,7 @@ static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, l
 
 /* The route-level decision for this frame, and the target it implies. */
 static void decide(lc_session *s, const lc_frame *f, double dt, const lc_patrol_way *way,
-                   lc_plan_result *out)
+                   lc_vec2 seek, lc_plan_result *out)
 {
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
     int before = s->patrol.current;
@@ -583,7 +597,7 @@ static void decide(lc_session *s, const lc_frame *f, double dt, const lc_patrol_
         break;
     }
     if (out->has_target)
-        drive(s, f, dt, out);
+        drive(s, f, dt, way->guided && s->patrol.current == before ? &seek : NULL, out);
     else
         stop_with(out, st, LC_LIMIT_ARRIVED);
 }
@@ -724,7 +738,7 @@ int lc_session_step(lc_session *s, const lc_frame *frame, double dt, lc_plan_res
         }
     } else {
         s->easing = false;
-        decide(s, frame, dt, &way, out);
+        decide(s, frame, dt, &way, seek, out);
     }
     s->last = out->setpoint;
     stamp_stage(s, out, LC_STAGE_SETPOINT, &t);
