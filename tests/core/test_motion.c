@@ -1446,10 +1446,21 @@ static void test_body_turns_round_where_it_fits(void **state)
     lc_motion_params_default(&p);
     p.latency = 0.05;
     test_region wide, narrow;
+    lc_setpoint out;
+    /* far target 0.5 rad off the heading in open space: a body's w is the
+     * law's, k_alpha alpha = 4 up to w_max, not held to the turn that
+     * stops on the bearing (motion.c turn_stop); the curvature 4 / 0.8 is
+     * kept, so v = w_max / 5 */
+    test_region open;
+    make_box(&open, -20, -20, 20, 20);
+    lc_vec2 off = lc_v2(5 * cos(0.5), 5 * sin(0.5));
+    assert_int_equal(body_step(&r, &p, &open, (lc_pose){0, 0, 0}, off, 0.2, 1.0, 0.05, &out), 0);
+    assert_near(out.w, 1.0, 1e-12);
+    assert_near(out.v, 0.2, 1e-12);
+    assert_int_equal(out.limit, LC_LIMIT_TURN_RATE);
     make_box(&wide, -5, -0.6, 5, 0.6);    /* 1.3 m wide, walls less the margin */
     make_box(&narrow, -5, -0.5, 5, 0.5);  /* 1.1 m wide */
     lc_vec2 behind = lc_v2(-3, 0.01);
-    lc_setpoint out;
     assert_int_equal(body_step(&r, &p, &wide, (lc_pose){0, 0, 0}, behind, 0, 0, 0.05, &out), 0);
     assert_int_equal(out.limit, LC_LIMIT_TURNING);
     assert_true(out.v == 0 && out.w > 0);
