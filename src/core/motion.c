@@ -553,11 +553,10 @@ static double braking_turn(const uni_ctx *c, double w)
  *     line); nearly straight, the straight path plus a bound on the bend
  *     (kappa s^2 / 2 of the centre, |kappa s| body_r of the footprint);
  *   - not holding it, the centre stays in the disc of radius |v / w|
- *     (Tait-Kneser) while the heading turns monotonically by braking_turn:
- *     (and within the path's length of the pose: braking_discs) while
- *     the heading turns monotonically by braking_turn: the body stays in
- *     those discs plus the footprint turned over that range (support
- *     functions add), which is checked.
+ *     (Tait-Kneser) and within the path's length of the pose
+ *     (braking_discs) while the heading turns monotonically by
+ *     braking_turn: the body stays in those discs plus the footprint
+ *     turned over that range (support functions add), which is checked.
  */
 static double body_margin(const uni_ctx *c, double v, double w)
 {
