@@ -366,6 +366,8 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
 #define LC_SESSION_AT_ROBOT 0.02 /* m */
 
 /*
+ * The setpoint toward out->target, or toward *seek (the goal step along the
+ * path this frame follows; NULL: none) when the target is at the robot.
  * A polygon footprint that the motion law brakes to a stand while its
  * target wants a turn in place may still turn where the turn clears every
  * obstacle and the frontier by the margin (lc_steer_turn_in_place says
