@@ -686,8 +686,10 @@ static lc_limit uni_desired(const uni_ctx *c, lc_vec2 target, double w0, bool in
     double beta = 0.0; /* goal frame along the bearing: see the file comment */
     double v_law, w_law;
     lc_motion_polar(c->params, rho, alpha, beta, &v_law, &w_law);
-    if (c->n_body == 0)
-        w_law = clampd(w_law, -turn_stop(robot, alpha), turn_stop(robot, alpha));
+    if (c->n_body == 0) {
+        double w_stop = turn_stop(robot, alpha);
+        w_law = clampd(w_law, -w_stop, w_stop);
+    }
     if (in_place && fabs(alpha) > c->params->turn_in_place) {
         *w_d = clampd(w_law, -robot->w_max, robot->w_max);
         return LC_LIMIT_TURNING;

@@ -378,8 +378,8 @@ static void drive(lc_session *s, const lc_frame *f, double dt, const lc_vec2 *se
 {
     lc_steer_input in = steer_input(s, f, dt, out);
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
-    bool slides = s->robot.model == LC_MODEL_UNICYCLE || !lc_robot_has_footprint(&s->robot);
-    if (seek && slides && lc_dist(in.target, c) < LC_SESSION_AT_ROBOT &&
+    bool may_seek = s->robot.model == LC_MODEL_UNICYCLE || !lc_robot_has_footprint(&s->robot);
+    if (seek && may_seek && lc_dist(in.target, c) < LC_SESSION_AT_ROBOT &&
         lc_dist(*seek, c) >= LC_SESSION_AT_ROBOT)
         in.target = *seek;
     if (lc_steer_drive(&in, &s->steer, &out->setpoint) < 0)
