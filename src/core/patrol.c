@@ -15,7 +15,9 @@
  *     target is closer to the waypoint than the robot is by more than
  *     route->progress; else BLOCKED.
  *   - progress: the distance to the waypoint shrank by route->progress since
- *     the reference: a new reference (distance, stamp).
+ *     the reference: a new reference (distance, stamp). Guided, a way round
+ *     and the first LC_PATROL_TRIES ways given up restart the count
+ *     (patrol.h, lc_patrol_update_way).
  *   - no progress for route->blocked_time since the reference: "blocked"
  *     (once) and state BLOCKED; policy SKIP adds "waypoint_skipped" and moves
  *     on as after an arrival. blocked_time <= 0 (or not finite) disables it.
@@ -82,6 +84,7 @@ static void restart_progress(lc_patrol *patrol, const lc_route *route, lc_vec2 p
 {
     patrol->ref_dist = lc_dist(pos, route->waypoints[patrol->current]);
     patrol->ref_stamp = stamp;
+    patrol->tries = 0;
 }
 
 /* On to the next waypoint, wrapping (lap) or finishing (done) at the end. */
@@ -197,6 +200,10 @@ lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 
         }
     } else if (go <= patrol->ref_dist - route->progress) {
         patrol->ref_dist = go;
+        patrol->ref_stamp = stamp;
+    }
+    if (guided && way->gave_up && patrol->tries < LC_PATROL_TRIES) {
+        patrol->tries++; /* another way will be tried: a count of its own */
         patrol->ref_stamp = stamp;
     }
     if (blocked_check_enabled(route) && stamp - patrol->ref_stamp >= route->blocked_time)

@@ -67,6 +67,7 @@ typedef struct lc_patrol {
                          length may differ from the straight line) */
     double ref_dist;  /* distance to the waypoint at the last progress */
     double ref_stamp; /* stamp of the last progress */
+    int tries;        /* ways given up for this waypoint that counted as progress */
 } lc_patrol;
 
 void lc_patrol_reset(lc_patrol *patrol);
@@ -90,6 +91,7 @@ lc_state lc_patrol_update(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
  * while it gets nearer along the way), and a missing way blocks at once.
  */
 #define LC_PATROL_DETOUR 1.0 /* m */
+#define LC_PATROL_TRIES 4    /* ways given up per waypoint that count as progress */
 
 typedef struct lc_patrol_way {
     bool guided;         /* false: the straight line (as lc_patrol_update) */
@@ -97,6 +99,8 @@ typedef struct lc_patrol_way {
     double to_go_target; /* m, along the path from the planned target */
     bool new_way;        /* the path was replaced this frame */
     bool no_path;        /* there is no way to the waypoint within what is known */
+    bool gave_up;        /* the way followed was given up this frame (the session's
+                            stall watch refused where it led): another is sought */
 } lc_patrol_way;
 
 /*
@@ -110,6 +114,12 @@ typedef struct lc_patrol_way {
  * (policy WAIT) is "unblocked" only by a new way (new_way) whose target
  * lies nearer the waypoint, along it, than the robot ever got (by
  * route->progress): the way it got stuck on does not unblock it again.
+ * A way given up (gave_up) starts the count over, as a way round does, for
+ * the first LC_PATROL_TRIES of a waypoint: in a cluttered corridor the
+ * robot may try a few gaps, each given up after the stall watch's time,
+ * before one lets it through; trying them is not standing still. Then the
+ * count runs on, so a robot that can try no more is still blocked, at the
+ * latest blocked_time after its last counted try.
  */
 lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
                               lc_vec2 target, const lc_patrol_way *way, double stamp,

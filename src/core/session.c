@@ -544,7 +544,7 @@ static void hug_path(const lc_region *r, const lc_guide_path *p, lc_vec2 c, lc_p
 #define LC_SESSION_STALL_PROGRESS 0.3 /* m along the path per stall time, at least */
 #define LC_SESSION_DOUBT_AHEAD 2.0    /* m past the region searched for a doubtful spot */
 
-static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, lc_vec2 c,
+static void watch_stall(lc_session *s, double stamp, lc_patrol_way *way, lc_vec2 c,
                         lc_vec2 target)
 {
     if (!way->guided || !(s->cfg.guide.stall > 0)) {
@@ -574,6 +574,7 @@ static void watch_stall(lc_session *s, double stamp, const lc_patrol_way *way, l
                                   ahead + LC_SESSION_DOUBT_AHEAD, r, &spot))
             spot = lc_guide_ahead(s->path_ref, c, ahead, NULL);
         lc_guide_refuse(s->guide, spot, r);
+        way->gave_up = true;
         s->stall_best = way->to_go;
         s->stall_stamp = stamp;
     }
@@ -626,10 +627,11 @@ static bool held_patrol(lc_session *s, const lc_frame *f, const lc_patrol_way *w
                         lc_vec2 *wp, lc_plan_result *out)
 {
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
-    /* a way round found meanwhile does not start the count over: held, the
-     * robot follows none */
+    /* a way round found, or a way given up, meanwhile does not start the
+     * count over: held, the robot follows none and tries none */
     lc_patrol_way held = *way;
     held.new_way = false;
+    held.gave_up = false;
     lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->has_target ? out->target : c,
                                        &held, f->stamp, out->events, &out->n_events);
     *has_wp = lc_patrol_waypoint(&s->patrol, &s->route, wp);

@@ -5,7 +5,8 @@
  * The reference is the behaviour docs/INTERFACES.md fixes (states, the blocked rule
  * "the distance to the current waypoint has not shrunk by the progress
  * threshold over the blocked time, by frame stamps", hold or skip) and its
- * defaults; scripted runs with hand-computed event sequences.
+ * defaults; scripted runs with hand-computed event sequences, guided
+ * progress along a path included.
  */
 #include "testutil.h"
 
@@ -333,6 +334,90 @@ static void test_blocked_skip(void **state)
     assert_int_equal(r.patrol.laps, 1);
 }
 
+/* One guided frame: the way along the path is to_go long from pos. */
+static lc_state frame_way(run *r, lc_vec2 pos, double stamp, double to_go, bool new_way,
+                          bool gave_up)
+{
+    lc_patrol_way way = {.guided = true,
+                         .to_go = to_go,
+                         .to_go_target = to_go,
+                         .new_way = new_way,
+                         .gave_up = gave_up};
+    r->n = 0;
+    return lc_patrol_update_way(&r->patrol, &r->route, pos, pos, &way, stamp, r->events, &r->n);
+}
+
+/*
+ * Guided progress (docs/INTERFACES.md, blocked reasons): measured along the
+ * path; a new way of about the same length is no progress, a way round
+ * longer by more than LC_PATROL_DETOUR starts the count over; a way given up
+ * starts it over for the first LC_PATROL_TRIES of a waypoint, then the
+ * count runs on. Hand-computed stamps, default blocked_time 10 s.
+ */
+static void test_guided_progress(void **state)
+{
+    (void)state;
+    const lc_vec2 wps[] = {{20, 0}, {20, 10}};
+    const lc_vec2 at = {0, 0};
+    run r;
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    /* along the path: 12 m to go though the waypoint is 20 m off, and 0.11 m
+     * along it every 9 s is progress */
+    for (int k = 0; k <= 5; k++)
+        assert_int_equal(frame_way(&r, at, 9.0 * k, 12.0 - 0.11 * k, false, false),
+                         LC_STATE_TRACKING);
+    /* a new way 0.9 m longer is no progress: blocked 10 s after the last */
+    assert_int_equal(frame_way(&r, at, 50.0, 12.35, true, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 54.9, 12.35, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 55.0, 12.35, false, false), LC_STATE_BLOCKED);
+    assert_int_equal(r.events[0].reason, LC_BLOCK_NO_PROGRESS);
+
+    /* a way round longer by more than the detour starts the count over */
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 8.0, 12.0 + LC_PATROL_DETOUR + 0.01, true, false),
+                     LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 17.9, 13.01, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 18.0, 13.01, false, false), LC_STATE_BLOCKED);
+
+    /* ways given up every 8 s: the first LC_PATROL_TRIES (4) start the
+     * count over, so the robot is blocked 10 s after the 4th (at 32 s), at
+     * 42 s; the 5th (at 40 s) changes nothing */
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    assert_int_equal(LC_PATROL_TRIES, 4);
+    assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, false), LC_STATE_TRACKING);
+    for (int k = 1; k <= 5; k++) {
+        assert_int_equal(frame_way(&r, at, 8.0 * k - 0.1, 12.0, false, false),
+                         LC_STATE_TRACKING);
+        assert_int_equal(frame_way(&r, at, 8.0 * k, 12.0, false, true), LC_STATE_TRACKING);
+    }
+    assert_int_equal(frame_way(&r, at, 41.9, 12.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 42.0, 12.0, false, false), LC_STATE_BLOCKED);
+    /* held blocked (wait), a way given up unblocks nothing */
+    assert_int_equal(frame_way(&r, at, 43.0, 12.0, false, true), LC_STATE_BLOCKED);
+
+    /* the next waypoint has tries of its own */
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, false), LC_STATE_TRACKING);
+    for (int k = 1; k <= 4; k++)
+        assert_int_equal(frame_way(&r, at, 8.0 * k, 12.0, false, true), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, wps[0], 33.0, 0.0, false, false), LC_STATE_ARRIVED);
+    assert_int_equal(r.patrol.current, 1);
+    assert_int_equal(frame_way(&r, wps[0], 34.0, 10.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, wps[0], 42.0, 10.0, false, true), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, wps[0], 51.9, 10.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, wps[0], 52.0, 10.0, false, false), LC_STATE_BLOCKED);
+
+    /* no path blocks at once, whatever was tried */
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, true), LC_STATE_TRACKING);
+    r.n = 0;
+    lc_patrol_way none = {.no_path = true};
+    assert_int_equal(lc_patrol_update_way(&r.patrol, &r.route, at, at, &none, 0.05, r.events, &r.n),
+                     LC_STATE_BLOCKED);
+    assert_int_equal(r.events[0].reason, LC_BLOCK_NO_PATH);
+}
+
 static void test_degenerate(void **state)
 {
     (void)state;
@@ -381,6 +466,7 @@ int main(void)
         cmocka_unit_test(test_blocked_wait),
         cmocka_unit_test(test_progress_timer),
         cmocka_unit_test(test_blocked_skip),
+        cmocka_unit_test(test_guided_progress),
         cmocka_unit_test(test_degenerate),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
