@@ -145,6 +145,7 @@ void lc_session_set_route(lc_session *s, const lc_route *route)
 {
     s->route = *route;
     lc_patrol_reset(&s->patrol);
+    s->held_new_way = s->held_gave_up = false; /* nothing pending for a new route */
     if (s->guide)
         lc_guide_reset(s->guide);
 }
@@ -167,6 +168,7 @@ void lc_session_set_goal(lc_session *s, lc_vec2 goal_world)
     s->route.waypoints[0] = goal_world;
     s->route.count = 1;
     lc_patrol_reset(&s->patrol);
+    s->held_new_way = s->held_gave_up = false;
     if (s->guide)
         lc_guide_reset(s->guide);
 }
