@@ -92,6 +92,7 @@ static void advance(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
                     const event_sink *sink)
 {
     patrol->blocked = false;
+    patrol->held_new_way = patrol->held_gave_up = false; /* they were for this waypoint */
     if (patrol->current + 1 < route->count) {
         patrol->current++;
     } else if (route->loop) {
@@ -147,6 +148,21 @@ lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 
         return LC_STATE_IDLE;
     if (patrol->current < 0 || patrol->current >= route->count)
         lc_patrol_reset(patrol);
+    lc_patrol_way told;
+    if (way) {
+        /* held: kept for later; free: what was kept is told now */
+        told = *way;
+        if (told.held) {
+            patrol->held_new_way |= told.new_way;
+            patrol->held_gave_up |= told.gave_up;
+            told.new_way = told.gave_up = false;
+        } else {
+            told.new_way |= patrol->held_new_way;
+            told.gave_up |= patrol->held_gave_up;
+            patrol->held_new_way = patrol->held_gave_up = false;
+        }
+        way = &told;
+    }
     if (patrol->done)
         return LC_STATE_DONE;
     if (!lc_vec2_finite(pos) || !isfinite(stamp))

@@ -68,6 +68,8 @@ typedef struct lc_patrol {
     double ref_dist;  /* distance to the waypoint at the last progress */
     double ref_stamp; /* stamp of the last progress */
     int tries;        /* ways given up for this waypoint that counted as progress */
+    bool held_new_way, held_gave_up; /* told while held (lc_patrol_way.held): counted
+                                        on the first frame not held, same waypoint */
 } lc_patrol;
 
 void lc_patrol_reset(lc_patrol *patrol);
@@ -101,6 +103,8 @@ typedef struct lc_patrol_way {
     bool no_path;        /* there is no way to the waypoint within what is known */
     bool gave_up;        /* the way followed was given up this frame (the session's
                             stall watch refused where it led): another is sought */
+    bool held;           /* the robot is held in the margin this frame: it follows
+                            and tries no way, so new_way and gave_up wait */
 } lc_patrol_way;
 
 /*
@@ -119,7 +123,11 @@ typedef struct lc_patrol_way {
  * robot may try a few gaps, each given up after the stall watch's time,
  * before one lets it through; trying them is not standing still. Then the
  * count runs on, so a robot that can try no more is still blocked, at the
- * latest blocked_time after its last counted try.
+ * latest blocked_time after its last counted try. While the robot is held
+ * in the margin (held), neither starts the count over; both are kept and
+ * counted on the first frame it is free again, for the same waypoint: a
+ * robot held while it gave a gap up, then driving the long way round found
+ * meanwhile, was blocked 6 s into it, its count running from before the gap.
  */
 lc_state lc_patrol_update_way(lc_patrol *patrol, const lc_route *route, lc_vec2 pos,
                               lc_vec2 target, const lc_patrol_way *way, double stamp,

@@ -145,7 +145,6 @@ void lc_session_set_route(lc_session *s, const lc_route *route)
 {
     s->route = *route;
     lc_patrol_reset(&s->patrol);
-    s->held_new_way = s->held_gave_up = false; /* nothing pending for a new route */
     if (s->guide)
         lc_guide_reset(s->guide);
 }
@@ -168,7 +167,6 @@ void lc_session_set_goal(lc_session *s, lc_vec2 goal_world)
     s->route.waypoints[0] = goal_world;
     s->route.count = 1;
     lc_patrol_reset(&s->patrol);
-    s->held_new_way = s->held_gave_up = false;
     if (s->guide)
         lc_guide_reset(s->guide);
 }
@@ -588,14 +586,7 @@ static void decide(lc_session *s, const lc_frame *f, double dt, const lc_patrol_
 {
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
     int before = s->patrol.current;
-    /* free again: what was found or given up while held is told now */
-    lc_patrol_way told = *way;
-    if (s->held_wp == before) {
-        told.new_way |= s->held_new_way;
-        told.gave_up |= s->held_gave_up;
-    }
-    s->held_new_way = s->held_gave_up = false;
-    lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->target, &told, f->stamp,
+    lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->target, way, f->stamp,
                                        out->events, &out->n_events);
     out->has_waypoint = lc_patrol_waypoint(&s->patrol, &s->route, &out->waypoint);
     out->waypoint_index = s->patrol.current;
@@ -637,18 +628,9 @@ static bool held_patrol(lc_session *s, const lc_frame *f, const lc_patrol_way *w
 {
     lc_vec2 c = lc_v2(f->pose.x, f->pose.y);
     /* a way round found, or a way given up, meanwhile does not start the
-     * count over: held, the robot follows none and tries none. Both are
-     * kept for the frame it is free again (decide): a robot held while it
-     * gave a gap up, then driving the long way round found meanwhile, was
-     * blocked 6 s into it, its count running from before the gap */
+     * count over until the robot is free again (patrol.h) */
     lc_patrol_way held = *way;
-    if (s->held_wp != s->patrol.current)
-        s->held_new_way = s->held_gave_up = false;
-    s->held_wp = s->patrol.current;
-    s->held_new_way |= way->new_way;
-    s->held_gave_up |= way->gave_up;
-    held.new_way = false;
-    held.gave_up = false;
+    held.held = true;
     lc_state st = lc_patrol_update_way(&s->patrol, &s->route, c, out->has_target ? out->target : c,
                                        &held, f->stamp, out->events, &out->n_events);
     *has_wp = lc_patrol_waypoint(&s->patrol, &s->route, wp);

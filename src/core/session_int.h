@@ -56,11 +56,6 @@ struct lc_session {
     int stall_wp;
     double stall_best, stall_stamp;
     const lc_guide_path *path_ref; /* the path of this frame (watch_stall) */
-    /* what the patrol was not told while the robot was held in the margin
-     * (a way found, a way given up), for the waypoint held_wp: told on the
-     * first frame the robot is free again */
-    bool held_new_way, held_gave_up;
-    int held_wp;
     /* each sensor's last view, robot frame: what a robot that never turns
      * can look toward (guide_frame's sight) */
     bool view_known[LC_SENSORS_MAX];

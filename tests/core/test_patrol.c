@@ -408,6 +408,30 @@ static void test_guided_progress(void **state)
     assert_int_equal(frame_way(&r, wps[0], 51.9, 10.0, false, false), LC_STATE_TRACKING);
     assert_int_equal(frame_way(&r, wps[0], 52.0, 10.0, false, false), LC_STATE_BLOCKED);
 
+    /* held in the margin: a way given up counts from the first frame the
+     * robot is free again, not while held, and not for another waypoint */
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, false), LC_STATE_TRACKING);
+    r.n = 0;
+    lc_patrol_way held = {.guided = true, .to_go = 12.0, .to_go_target = 12.0, .gave_up = true,
+                          .held = true};
+    assert_int_equal(lc_patrol_update_way(&r.patrol, &r.route, at, at, &held, 8.0, r.events, &r.n),
+                     LC_STATE_TRACKING);
+    assert_int_equal(r.patrol.tries, 0);
+    assert_int_equal(frame_way(&r, at, 9.0, 12.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(r.patrol.tries, 1); /* counted at 9 s: blocked at 19 s */
+    assert_int_equal(frame_way(&r, at, 18.9, 12.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(frame_way(&r, at, 19.0, 12.0, false, false), LC_STATE_BLOCKED);
+    run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
+    assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, false), LC_STATE_TRACKING);
+    r.n = 0;
+    assert_int_equal(lc_patrol_update_way(&r.patrol, &r.route, wps[0], wps[0], &held, 8.0, r.events,
+                                          &r.n),
+                     LC_STATE_ARRIVED); /* held at the waypoint: on to the next */
+    assert_int_equal(frame_way(&r, wps[0], 9.0, 10.0, false, false), LC_STATE_TRACKING);
+    assert_int_equal(r.patrol.tries, 0);
+    assert_int_equal(frame_way(&r, wps[0], 19.0, 10.0, false, false), LC_STATE_BLOCKED);
+
     /* no path blocks at once, whatever was tried */
     run_init(&r, wps, 2, false, LC_BLOCKED_WAIT);
     assert_int_equal(frame_way(&r, at, 0.0, 12.0, false, true), LC_STATE_TRACKING);
