@@ -58,6 +58,18 @@ typedef struct lc_recall {
 /* An empty recall whose buffers grow through alloc (NULL: the default). */
 void lc_recall_init(lc_recall *r, const lc_alloc *alloc);
 
+/*
+ * The `near` of a robot whose clearance (radius + margin) is clearance, on
+ * memory cells of side cell: 1.05 clearance plus two cells, so that the
+ * frontier cells past it, grown by the clearance and half a cell's
+ * diagonal, leave the robot centre out. Guidance (guide.c) reads the
+ * robot's surroundings out to the same horizon.
+ */
+static inline double lc_recall_near(double clearance, double cell)
+{
+    return 1.05 * clearance + 2.0 * cell;
+}
+
 /* Fills out; 0, or -1 when out of memory. */
 int lc_recall_collect(const lc_recall_input *in, lc_recall *out);
 

@@ -253,8 +253,7 @@ static int remember(lc_session *s, const lc_frame *f, lc_plan_result *out)
                           .fov = out->view_fov,
                           .view_mid = out->view_mid,
                           .reach = s->cfg.recall,
-                          /* unknown cells farther than this, grown, leave the centre out */
-                          .near = 1.05 * lc_robot_clearance(&s->robot) + 2.0 * cell};
+                          .near = lc_recall_near(lc_robot_clearance(&s->robot), cell)};
     if (lc_recall_collect(&in, &s->recall) < 0 ||
         lc_segment(&s->recall.occupied, &s->cfg.segment, &s->seg_recall) < 0 ||
         lc_session_hull_pieces(s, &s->recall.occupied, &s->seg_recall, &s->obstacles, 0) < 0 ||

@@ -31,6 +31,7 @@
 
 #include "follow.h"
 #include "guide_scene.h"
+#include "recall.h"
 
 #define CLEAR SCENE_CLEAR
 
@@ -706,6 +707,51 @@ static void test_sight(void **state)
     }
 }
 
+/*
+ * How far round the robot a blind step must find known space: out to the
+ * region's horizon (recall.h, lc_recall_near: 1.05 x 0.35 + 2 x 0.05 =
+ * 0.4675 m), not only the rim of its disc. The robot at (-2.5, 0) goes to
+ * (2.5, 0) along a band seen from y = 0 (full turns every 0.2 m):
+ *   - seen out to 0.44 m, the rim of every disc along the middle is known
+ *     but its horizon is not: looking back (toward -x), every step along
+ *     the band is blind and costs blind_cost (25) times more, so the band
+ *     costs 25 x 4.8 and the way found costs more than 3 x 4.8 (it is in
+ *     fact a way round the window's edge, guide.h); by the rim alone, as
+ *     before, it cost 4.8 (the 5 m less the goal's reach of 0.2 m);
+ *   - seen out to 0.6 m, or looking ahead (+x), it costs 4.8 straight on.
+ */
+static void test_sight_horizon(void **state)
+{
+    (void)state;
+    lc_vec2 robot = lc_v2(-2.5, 0), wp = lc_v2(2.5, 0);
+    double horizon = lc_recall_near(CLEAR, 0.05);
+    for (int c = 0; c < 4; c++) {
+        bool back = c % 2 == 0;
+        double half = c < 2 ? 0.44 : 0.6;
+        scene s;
+        scene_init(&s);
+        s.gc.greed = 1;
+        s.m = scene_new_memory();
+        s.g = scene_new_guide(&s.gc, NULL);
+        for (int k = 0; k <= 25; k++)
+            scene_see(s.m, &s.w, lc_v2(-2.5 + 0.2 * k, 0), 1.0 + k, half);
+        assert_int_equal(lc_memory_state(s.m, lc_v2(0, CLEAR + 0.05)), LC_CELL_FREE);
+        assert_int_equal(lc_memory_state(s.m, lc_v2(0, horizon)),
+                         half < horizon ? LC_CELL_UNKNOWN : LC_CELL_FREE);
+        lc_guide_sight sight = {.n = 1, .mid = {back ? LC_PI : 0.0}, .half = {0.5 * LC_PI}};
+        lc_guide_set_sight(s.g, &sight);
+        const lc_guide_path *p = scene_update(&s, robot, wp, 0.2);
+        assert_int_equal(p->status, LC_GUIDE_PATH);
+        if (back && half < horizon) {
+            assert_true(p->cost > 3 * 4.8);
+        } else {
+            assert_int_equal(p->n, 2);
+            assert_near(p->cost, 4.8, 1e-5); /* costs are kept in single precision */
+        }
+        scene_free(&s);
+    }
+}
+
 /* Is p inside the memory's window (its lattice square)? */
 static bool in_window(const lc_memory *m, lc_vec2 p)
 {
@@ -1012,6 +1058,7 @@ int main(void)
         cmocka_unit_test(test_unknown_cost),
         cmocka_unit_test(test_shortcut_keeps_known),
         cmocka_unit_test(test_sight),
+        cmocka_unit_test(test_sight_horizon),
         cmocka_unit_test(test_outside_window),
         cmocka_unit_test(test_degenerate),
         cmocka_unit_test(test_nan_waypoint),
