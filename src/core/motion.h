@@ -47,6 +47,9 @@ typedef struct lc_motion_params {
                              the braking distance as in lc_stopping_distance
                              (default 0; dt makes the promise hold for a robot
                              that holds each setpoint for a whole period) */
+    bool has_heading;     /* unicycle: a heading wanted at the target (default false:
+                             the heading there is free) */
+    double heading;       /* rad, world frame, that heading */
 } lc_motion_params;
 
 void lc_motion_params_default(lc_motion_params *params);

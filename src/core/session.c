@@ -372,6 +372,28 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
  * obstacle and the frontier by the margin (lc_steer_turn_in_place says
  * why the workspace region can stop it there).
  */
+/*
+ * A unicycle's target on the way on (the path goes on past it, not the
+ * waypoint) asks for the heading of the path LC_SESSION_HEADING_AHEAD past
+ * it (when the path goes on that far: LC_SESSION_HEADING_MIN at least), so
+ * that the robot comes to a corner or a gap's mouth already turning onto
+ * the way it leaves along (motion.c, LC_MOTION_BETA_MAX, says how much).
+ */
+#define LC_SESSION_HEADING_AHEAD 0.3 /* m */
+#define LC_SESSION_HEADING_MIN 0.1   /* m */
+
+static void way_on(const lc_plan_result *out, lc_steer_input *in)
+{
+    if (!out->path || out->path->status != LC_GUIDE_PATH ||
+        lc_dist(in->target, out->waypoint) <= 1e-9)
+        return;
+    lc_vec2 on = lc_guide_ahead(out->path, in->target, LC_SESSION_HEADING_AHEAD, NULL);
+    if (!(lc_dist(on, in->target) > LC_SESSION_HEADING_MIN))
+        return;
+    in->has_heading = true;
+    in->heading = atan2(on.y - in->target.y, on.x - in->target.x);
+}
+
 static void drive(lc_session *s, const lc_frame *f, double dt, const lc_vec2 *seek,
                   lc_plan_result *out)
 {
@@ -381,6 +403,8 @@ static void drive(lc_session *s, const lc_frame *f, double dt, const lc_vec2 *se
     if (seek && may_seek && lc_dist(in.target, c) < LC_SESSION_AT_ROBOT &&
         lc_dist(*seek, c) >= LC_SESSION_AT_ROBOT)
         in.target = *seek;
+    else if (seek && s->robot.model == LC_MODEL_UNICYCLE)
+        way_on(out, &in);
     if (lc_steer_drive(&in, &s->steer, &out->setpoint) < 0)
         return;
     lc_setpoint *sp = &out->setpoint;

@@ -383,6 +383,8 @@ int lc_steer_drive(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoint *out)
 {
     lc_motion_params mp = *in->params;
     mp.latency = fmax(mp.latency, in->dt);
+    mp.has_heading = in->has_heading;
+    mp.heading = in->heading;
     lc_vec2 aim = aim_point(in);
     lc_region shrunk;
     lc_vec2 c = lc_v2(in->pose.x, in->pose.y);

@@ -54,6 +54,9 @@ typedef struct lc_steer_input {
     lc_vec2 waypoint;
     const lc_setpoint *last;   /* the previous setpoint (rate limits start there) */
     double dt;                 /* s, the control period */
+    bool has_heading;          /* unicycle: the heading wanted at the target (the way
+                                  on past it; lc_motion_params.heading) */
+    double heading;            /* rad, world frame */
 } lc_steer_input;
 
 /*

@@ -818,6 +818,62 @@ static int uni_step(const lc_robot *r, const lc_motion_params *p, const test_reg
     return step_from(false, r, p, t, pose, target, v0, w0, dt, out);
 }
 
+/*
+ * A heading wanted at the target (params->has_heading): the polar law's
+ * goal frame turned to it, beta = heading - bearing held within 0.5 rad
+ * (motion.c LC_MOTION_BETA_MAX), w = k_alpha alpha + k_beta beta (Siegwart
+ * et al. 3.6, the gains from memory), held to the rate from which the turn
+ * stops on w / k_alpha, slowing at dw_max / 4 (closed form as in
+ * test_unicycle_examples). The robot at the origin faces a far target
+ * straight ahead (alpha = 0), at v_max, its last w already the answer (the
+ * rate limit does not bind). A way on to the right (heading -0.3) swings
+ * it left first (k_beta < 0: the approach comes onto the line the way
+ * leaves along, from its far side); -1.2 and -pi/2 are held to 0.5 alike;
+ * no heading, or one along the bearing, leaves w = 0.
+ */
+static void test_unicycle_heading(void **state)
+{
+    (void)state;
+    lc_robot r = robot_default_of(LC_MODEL_UNICYCLE);
+    lc_motion_params p;
+    lc_motion_params_default(&p);
+    test_region t;
+    lc_setpoint out;
+    make_box(&t, -10, -10, 10, 10);
+    const double heading[] = {-0.3, 0.3, -1.2, -LC_PI / 2, 0.0};
+    for (int k = 0; k < 5; k++) {
+        p.has_heading = true;
+        p.heading = heading[k];
+        double beta = fmax(-0.5, fmin(0.5, heading[k]));
+        double w_law = p.k_beta * beta;
+        double w_stop = sqrt(2.0 * 0.25 * r.dw_max * fabs(w_law / p.k_alpha));
+        double w = w_law > 0 ? fmin(w_law, w_stop) : fmax(w_law, -w_stop);
+        uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), 0.8, w, 0.05, &out);
+        assert_near(out.w, w, 1e-12);
+        assert_near(out.v, 0.8, 1e-12);
+        if (heading[k] < 0)
+            assert_true(out.w > 0.0);
+        else if (heading[k] > 0)
+            assert_true(out.w < 0.0);
+        else
+            assert_near(out.w, 0.0, 0);
+    }
+    lc_setpoint held;
+    p.heading = -1.2;
+    uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), 0.8, out.w, 0.05, &held);
+    p.heading = -LC_PI / 2;
+    uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), 0.8, out.w, 0.05, &out);
+    assert_near(out.w, held.w, 0);
+    p.has_heading = false;
+    uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), 0.8, 0.0, 0.05, &out);
+    assert_near(out.w, 0.0, 0);
+    /* a heading that is not a number is refused */
+    p.has_heading = true;
+    p.heading = NAN;
+    assert_int_equal(uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), 0.8, 0.0, 0.05, &out),
+                     LC_ERR_BAD_INPUT);
+}
+
 static void test_unicycle_examples(void **state)
 {
     (void)state;
@@ -1475,6 +1531,7 @@ int main(void)
         cmocka_unit_test(test_point_properties),
         cmocka_unit_test(test_point_closed_loop),
         cmocka_unit_test(test_unicycle_examples),
+        cmocka_unit_test(test_unicycle_heading),
         cmocka_unit_test(test_last_beyond_limits),
         cmocka_unit_test(test_last_beyond_limits_brakes),
         cmocka_unit_test(test_unicycle_brake_disc),
