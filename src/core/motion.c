@@ -672,9 +672,8 @@ double lc_motion_keep_turning(double alpha, double w0)
  * time over the shortest 1.16 -> 1.09 on cluttered_corridor, 1.31 -> 1.23
  * on dead_end, 1.18 -> 1.10 on l_corridor; seeds 4-5 279 of 280 both,
  * dead_end 1.55 -> 1.47 on seed 4; 240 cluttered runs 232 both (1.17 ->
- * 1.11). Unheld, dead_end went to 1.61 (the robot swung wide at every
- * corner, and 2 of 40 runs ran out of time); held within 0.25 rad it
- * gained half as much.
+ * 1.11). Unheld, dead_end went to 1.61, 58 of 60 done (2 ran out of
+ * time); held within 0.25 rad it gained about half as much.
  */
 #define LC_MOTION_BETA_MAX 0.5 /* rad */
 
