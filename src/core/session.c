@@ -347,32 +347,6 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
 }
 
 /*
- * A target this near the robot's centre gives the motion law nothing to do:
- * the path leaves the region at the robot. The robot heads for the way on
- * instead, a goal step along the path (`seek`), still braking in the
- * region. A unicycle turns to face it, as it does when held in the margin,
- * and what it then sees re-plans the way (the path may leave into space
- * behind it that its scanner never saw). The point model slides along the
- * region's lines it sits on (steer.c slide_aim) toward the way on: at a
- * gap's mouth, where the region is a wedge with the robot at its apex, that
- * takes it to the gap's middle line, from where the region reaches in.
- * Not a point model with a polygon footprint: among gaps its body does not
- * fit through it kept on trying, and `blocked` became wandering
- * (tests/tools/untuned/footprint_crates ran to its 200 s limit, where it
- * had ended blocked at 146 s; over the 140 family worlds with a 1.0 x 0.5 m
- * footprint, 97 arrived and 17 ran out of time, against 93 and 9).
- */
-#define LC_SESSION_AT_ROBOT 0.02 /* m */
-
-/*
- * The setpoint toward out->target, or toward *seek (the goal step along the
- * path this frame follows; NULL: none) when the target is at the robot.
- * A polygon footprint that the motion law brakes to a stand while its
- * target wants a turn in place may still turn where the turn clears every
- * obstacle and the frontier by the margin (lc_steer_turn_in_place says
- * why the workspace region can stop it there).
- */
-/*
  * A unicycle's target on the way on (the path goes on past it, not the
  * waypoint) asks for the heading of the path LC_SESSION_HEADING_AHEAD past
  * it (when the path goes on that far: LC_SESSION_HEADING_MIN at least), so
@@ -394,6 +368,33 @@ static void way_on(const lc_plan_result *out, lc_steer_input *in)
     in->heading = atan2(on.y - in->target.y, on.x - in->target.x);
 }
 
+/*
+ * A target this near the robot's centre gives the motion law nothing to do:
+ * the path leaves the region at the robot. The robot heads for the way on
+ * instead, a goal step along the path (`seek`), still braking in the
+ * region. A unicycle turns to face it, as it does when held in the margin,
+ * and what it then sees re-plans the way (the path may leave into space
+ * behind it that its scanner never saw). The point model slides along the
+ * region's lines it sits on (steer.c slide_aim) toward the way on: at a
+ * gap's mouth, where the region is a wedge with the robot at its apex, that
+ * takes it to the gap's middle line, from where the region reaches in.
+ * Not a point model with a polygon footprint: among gaps its body does not
+ * fit through it kept on trying, and `blocked` became wandering
+ * (tests/tools/untuned/footprint_crates ran to its 200 s limit, where it
+ * had ended blocked at 146 s; over the 140 family worlds with a 1.0 x 0.5 m
+ * footprint, 97 arrived and 17 ran out of time, against 93 and 9).
+ */
+#define LC_SESSION_AT_ROBOT 0.02 /* m */
+
+/*
+ * The setpoint toward out->target, or toward *seek (the goal step along the
+ * path this frame follows; NULL: none) when the target is at the robot; a
+ * unicycle's with the heading of the way on past the target (way_on).
+ * A polygon footprint that the motion law brakes to a stand while its
+ * target wants a turn in place may still turn where the turn clears every
+ * obstacle and the frontier by the margin (lc_steer_turn_in_place says
+ * why the workspace region can stop it there).
+ */
 static void drive(lc_session *s, const lc_frame *f, double dt, const lc_vec2 *seek,
                   lc_plan_result *out)
 {
