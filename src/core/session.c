@@ -347,11 +347,12 @@ static lc_steer_input steer_input(const lc_session *s, const lc_frame *f, double
 }
 
 /*
- * A unicycle's target on the way on (the path goes on past it, not the
- * waypoint) asks for the heading of the path LC_SESSION_HEADING_AHEAD past
- * it (when the path goes on that far: LC_SESSION_HEADING_MIN at least), so
- * that the robot comes to a corner or a gap's mouth already turning onto
- * the way it leaves along (motion.c, LC_MOTION_BETA_MAX, says how much).
+ * A target on the way on (the path goes on past it, not the waypoint), when
+ * the path goes on at least LC_SESSION_HEADING_MIN: the point model heads
+ * for it without slowing for it (steer.c LC_STEER_WAY_GAIN); a unicycle
+ * asks for the heading of the path LC_SESSION_HEADING_AHEAD past it, so
+ * that it comes to a corner or a gap's mouth already turning onto the way
+ * it leaves along (motion.c, LC_MOTION_BETA_MAX, says how much).
  */
 #define LC_SESSION_HEADING_AHEAD 0.3 /* m */
 #define LC_SESSION_HEADING_MIN 0.1   /* m */
@@ -364,7 +365,7 @@ static void way_on(const lc_plan_result *out, lc_steer_input *in)
     lc_vec2 on = lc_guide_ahead(out->path, in->target, LC_SESSION_HEADING_AHEAD, NULL);
     if (!(lc_dist(on, in->target) > LC_SESSION_HEADING_MIN))
         return;
-    in->has_heading = true;
+    in->on_way = true;
     in->heading = atan2(on.y - in->target.y, on.x - in->target.x);
 }
 
@@ -388,8 +389,8 @@ static void way_on(const lc_plan_result *out, lc_steer_input *in)
 
 /*
  * The setpoint toward out->target, or toward *seek (the goal step along the
- * path this frame follows; NULL: none) when the target is at the robot; a
- * unicycle's with the heading of the way on past the target (way_on).
+ * path this frame follows; NULL: none) when the target is at the robot;
+ * toward a target on the way on as way_on says.
  * A polygon footprint that the motion law brakes to a stand while its
  * target wants a turn in place may still turn where the turn clears every
  * obstacle and the frontier by the margin (lc_steer_turn_in_place says
@@ -404,7 +405,7 @@ static void drive(lc_session *s, const lc_frame *f, double dt, const lc_vec2 *se
     if (seek && may_seek && lc_dist(in.target, c) < LC_SESSION_AT_ROBOT &&
         lc_dist(*seek, c) >= LC_SESSION_AT_ROBOT)
         in.target = *seek;
-    else if (seek && s->robot.model == LC_MODEL_UNICYCLE)
+    else if (seek)
         way_on(out, &in);
     if (lc_steer_drive(&in, &s->steer, &out->setpoint) < 0)
         return;

@@ -54,9 +54,11 @@ typedef struct lc_steer_input {
     lc_vec2 waypoint;
     const lc_setpoint *last;   /* the previous setpoint (rate limits start there) */
     double dt;                 /* s, the control period */
-    bool has_heading;          /* unicycle: the heading wanted at the target (the way
-                                  on past it; lc_motion_params.heading) */
-    double heading;            /* rad, world frame */
+    bool on_way;               /* the target lies on the way on (the path goes on past
+                                  it): the point model heads for it at LC_STEER_WAY_GAIN,
+                                  a unicycle asks for `heading` there
+                                  (lc_motion_params.heading) */
+    double heading;            /* rad, world frame: the path's direction past the target */
 } lc_steer_input;
 
 /*

@@ -283,6 +283,44 @@ static void test_creep_past_crate(void **state)
  * (here it is slid back onto the braking line the robot sits on, at the
  * robot): neither moves away from it.
  */
+/*
+ * A target on the way on (in.on_way, the path goes on past it): the point
+ * model heads for it at the goal gain LC_STEER_WAY_GAIN (3 /s), not k_p (1
+ * /s), which is there to stop it at the waypoint. In a 20 m box (braking
+ * does not bind), no standoff, the target 0.2 m ahead, the last velocity
+ * already the answer (the acceleration limit does not bind): vx = 1 x 0.2
+ * toward the waypoint itself, 3 x 0.2 toward a target on the way on (the
+ * point law's closed form, motion.c point_desired); 1.5 m ahead, v_max
+ * either way.
+ */
+static void test_way_gain(void **state)
+{
+    (void)state;
+    const double dist[] = {0.2, 0.2, 1.5, 1.5};
+    for (int k = 0; k < 4; k++) {
+        bool on_way = k % 2 == 1;
+        rig g;
+        rig_init(&g, LC_MODEL_POINT);
+        lc_region r = box_region(lc_v2(0, 0), 10);
+        double want = fmin(g.robot.v_max, (on_way ? 3.0 : g.mp.k_p) * dist[k]);
+        lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
+        last.vx = want;
+        lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                        lc_v2(dist[k], 0), &last);
+        in.standoff = 0;
+        if (on_way) {
+            in.waypoint = lc_v2(8, 0);
+            in.on_way = true;
+            in.heading = 0;
+        }
+        assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
+        assert_near(out.vx, want, 1e-9);
+        assert_near(out.vy, 0.0, 1e-12);
+        assert_int_equal(out.limit, want < g.robot.v_max ? LC_LIMIT_GOAL : LC_LIMIT_TOP_SPEED);
+        rig_free(&g);
+    }
+}
+
 static void test_near_target_aim(void **state)
 {
     (void)state;
@@ -587,6 +625,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_turn_in_place),
+        cmocka_unit_test(test_way_gain),
         cmocka_unit_test(test_standoff_point),
         cmocka_unit_test(test_standoff_passage),
         cmocka_unit_test(test_standoff_passage_unicycle),
