@@ -159,11 +159,12 @@ bool lc_guide_doubt_ahead(const lc_guide *g, const lc_memory *m, const lc_guide_
  * and unknown space it would come near in another direction (within the
  * region's horizon of where it would stand, recall.h lc_recall_near) is
  * space it cannot see before it gets there: the region stops it short of
- * what it has not seen. Such steps cost blind_cost times more, and a shortcut through
- * unknown space in such a direction is not taken, so that the path comes at
- * the unknown from a side the robot looks toward (a waypoint behind a robot
- * that never turns is approached from where it comes into view). NULL or
- * n == 0: everywhere (the default). Kept until set again.
+ * what it has not seen. Such steps cost blind_cost times more, and a
+ * shortcut through unknown space in such a direction is not taken, so that
+ * the path comes at the unknown from a side the robot looks toward (a
+ * waypoint behind a robot that never turns is approached from where it
+ * comes into view). NULL or n == 0: everywhere (the default). Kept until
+ * set again.
  */
 #define LC_GUIDE_SIGHTS 8
 typedef struct lc_guide_sight {
