@@ -164,8 +164,19 @@ int lc_steer_turn_in_place(const lc_steer_input *in, lc_steer_ws *ws, lc_setpoin
  * at 3 cm a side (33, 33, 37, 32): over the three, 356, 363, 367, 367
  * of 400, and 0.5 m keeps the lines over more of the last stretch to a
  * goal than 0.3 does. The world families' seeds 1-3 gave 409 of 420 at
- * 0.5 against 410 at 1 m. Only the motion sees this region:
- * the region reported is the full one. NULL when out of memory.
+ * 0.5 against 410 at 1 m.
+ *
+ * A unicycle at a gap's mouth (in->at_mouth: its region's target at its
+ * centre, it heads for a step along the path beyond) keeps the lines
+ * whatever its aim: without them it crept on to the region's edge where
+ * the gap narrowed to the robot's width with its margin, sat on the grown
+ * obstacles, went too_close with range noise and, when its stall watch
+ * gave the gap up, could not leave (traced in cluttered_corridor seed 3,
+ * world 18: 70 s turning back and forth in a region 3 cm wide). The
+ * passage's share below still lets it through a gap it fits. Disc
+ * unicycles, seeds 1-7 (980 runs) and 120 cluttered worlds x 2 noise
+ * seeds: measured in docs/DESIGN.md, step 12. Only the motion sees this
+ * region: the region reported is the full one. NULL when out of memory.
  */
 #define PARK_REACH 0.5 /* m */
 /*
@@ -230,7 +241,8 @@ static const lc_region *motion_region(const lc_steer_input *in, lc_steer_ws *ws,
     const lc_region *r = in->region;
     const lc_robot *robot = in->robot;
     double standoff = in->standoff;
-    if (!(standoff > 0) || (robot->model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH))
+    if (!(standoff > 0) ||
+        (robot->model == LC_MODEL_UNICYCLE && lc_dist(c, aim) > PARK_REACH && !in->at_mouth))
         return r;
     int n = r->nh;
     if (LC_GROW(ws->alloc, ws->h, ws->cap_h, n + in->grown->np) < 0 ||

@@ -59,6 +59,10 @@ typedef struct lc_steer_input {
                                   a unicycle asks for `heading` there
                                   (lc_motion_params.heading) */
     double heading;            /* rad, world frame: the path's direction past the target */
+    bool at_mouth;             /* the region's target was at the robot and `target` is a
+                                  step along the path instead (a gap's mouth, or in the
+                                  gap): a unicycle keeps the standoff as it does near its
+                                  aim (steer.c motion_region) */
 } lc_steer_input;
 
 /*

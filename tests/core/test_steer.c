@@ -274,6 +274,35 @@ static void test_creep_past_crate(void **state)
 }
 
 /*
+ * A unicycle at a gap's mouth (in.at_mouth: the region's target was at the
+ * robot, it heads for a step along the path 1 m on): the region ends 3 cm
+ * ahead at a grown obstacle, the robot at rest facing it. Braking in the
+ * region alone lets it start at a_max dt = 0.025 m/s (its braking path
+ * 0.025 dt + 0.025^2 / 2 a_max, under 2 mm of the 3 cm: a closed form);
+ * with the standoff (4 cm) the edge is held at the robot and it stays.
+ * Without the flag the aim 1 m on is beyond PARK_REACH, as before.
+ */
+static void test_mouth_standoff(void **state)
+{
+    (void)state;
+    rig g;
+    rig_init(&g, LC_MODEL_UNICYCLE);
+    const lc_vec2 block[4] = {{0.03, -1}, {1, -1}, {1, 1}, {0.03, 1}};
+    assert_int_equal(lc_polyset_push(&g.grown, block, 4, 0), 0);
+    lc_region r = strip_region(-1.97, 0.03, 1);
+    lc_setpoint last = lc_setpoint_stop(LC_LIMIT_NONE), out;
+    lc_steer_input in = drive_input(&g.robot, &g.mp, &r, &g.grown, (lc_pose){0, 0, 0},
+                                    lc_v2(1, 0), &last);
+    in.waypoint = lc_v2(3, 0);
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
+    assert_near(out.v, 0.025, 1e-9);
+    in.at_mouth = true;
+    assert_int_equal(lc_steer_drive(&in, &g.ws, &out), 0);
+    assert_true(fabs(out.v) <= 1e-12);
+    rig_free(&g);
+}
+
+/*
  * A target 3 cm ahead on the region's far side, the ellipse centre 1.8 m
  * behind and to the left (a gap's mouth: the region a wedge whose apex
  * holds the robot, its ellipse in the room behind), the waypoint farther
@@ -632,6 +661,7 @@ int main(void)
         cmocka_unit_test(test_aisle_speed),
         cmocka_unit_test(test_near_target_aim),
         cmocka_unit_test(test_creep_past_crate),
+        cmocka_unit_test(test_mouth_standoff),
         cmocka_unit_test(test_no_memory),
         cmocka_unit_test(test_body_workspace_corner),
         cmocka_unit_test(test_body_turn_in_place),
