@@ -218,6 +218,16 @@ static lc_robot robot_default_of(lc_model model)
     return r;
 }
 
+/* What the example tests drive in: a default robot of the model, the
+ * default parameters and a 20 m box about the origin (braking binds only
+ * near its walls). */
+static void example_setup(lc_model model, lc_robot *r, lc_motion_params *p, test_region *t)
+{
+    *r = robot_default_of(model);
+    lc_motion_params_default(p);
+    make_box(t, -10, -10, 10, 10);
+}
+
 /* ---- names, defaults ------------------------------------------------- */
 
 static void test_limit_names(void **state)
@@ -478,12 +488,11 @@ static int point_step(const lc_robot *r, const lc_motion_params *p, const test_r
 static void test_point_examples(void **state)
 {
     (void)state;
-    lc_robot r = robot_default_of(LC_MODEL_POINT);
+    lc_robot r;
     lc_motion_params p;
-    lc_motion_params_default(&p);
     test_region t;
     lc_setpoint out;
-    make_box(&t, -10, -10, 10, 10);
+    example_setup(LC_MODEL_POINT, &r, &p, &t);
 
     /* far target at steady top speed */
     assert_int_equal(point_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), lc_v2(0.8, 0),
@@ -834,12 +843,11 @@ static int uni_step(const lc_robot *r, const lc_motion_params *p, const test_reg
 static void test_unicycle_heading(void **state)
 {
     (void)state;
-    lc_robot r = robot_default_of(LC_MODEL_UNICYCLE);
+    lc_robot r;
     lc_motion_params p;
-    lc_motion_params_default(&p);
     test_region t;
     lc_setpoint out;
-    make_box(&t, -10, -10, 10, 10);
+    example_setup(LC_MODEL_UNICYCLE, &r, &p, &t);
     const double heading[] = {-0.3, 0.3, -1.2, -LC_PI / 2, 0.0};
     for (int k = 0; k < 5; k++) {
         p.has_heading = true;
@@ -877,12 +885,11 @@ static void test_unicycle_heading(void **state)
 static void test_unicycle_examples(void **state)
 {
     (void)state;
-    lc_robot r = robot_default_of(LC_MODEL_UNICYCLE);
+    lc_robot r;
     lc_motion_params p;
-    lc_motion_params_default(&p);
     test_region t;
     lc_setpoint out;
-    make_box(&t, -10, -10, 10, 10);
+    example_setup(LC_MODEL_UNICYCLE, &r, &p, &t);
 
     /* straight ahead, far, at speed: v_max, w = 0 */
     uni_step(&r, &p, &t, (lc_pose){0, 0, 0}, lc_v2(5, 0), 0.8, 0, 0.05, &out);
